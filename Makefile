@@ -1,0 +1,31 @@
+# The two set-up commands of the README. Each works on a fresh machine with
+# only Python 3.11+ and pip: it builds .venv, installs, then does its job.
+PYTHON ?= python3
+VENV := .venv
+BIN := $(VENV)/bin
+STAMP := $(VENV)/.installed
+
+.PHONY: demo test lint bench clean
+
+$(STAMP): pyproject.toml
+	$(PYTHON) -m venv $(VENV)
+	$(BIN)/pip install --quiet --upgrade pip
+	$(BIN)/pip install --quiet -e '.[test,reference]'
+	touch $(STAMP)
+
+demo: $(STAMP)
+	$(BIN)/workpack check plants/demo-vessel.yaml
+	$(BIN)/workpack isolate plants/demo-vessel.yaml FP-1
+
+lint: $(STAMP)
+	$(BIN)/ruff check workpack tests bench
+	$(BIN)/mypy
+
+test: lint
+	$(BIN)/pytest
+
+bench: $(STAMP)
+	$(BIN)/python bench/run.py
+
+clean:
+	rm -rf $(VENV) out

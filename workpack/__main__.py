@@ -1,0 +1,3 @@
+from workpack.cli import main
+
+raise SystemExit(main())

@@ -1,0 +1,1 @@
+"""Presentation: terminal text now, PDF later. Formats what the core computed."""

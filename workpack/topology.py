@@ -1,0 +1,338 @@
+"""The plant as a graph: galvanic islands, supply paths, who watches what.
+
+Nodes are element ids; a transformer is two nodes, ``T:primary`` and
+``T:secondary``, joined by a *magnetic* edge, because it passes energy but
+not a ground fault. Edges:
+
+- ``wiring``: an element and what it names in ``from`` (``supply`` attribute
+  names the supply-side node);
+- ``changeover``: a transfer switch and its alternate supply (normally open);
+- ``magnetic``: the two sides of a transformer;
+- ``auxiliary``: an item and the device feeding its heater or control power.
+
+The graph is built in sorted order, so nothing depends on hash seeds. Pure:
+no file access.
+"""
+
+from __future__ import annotations
+
+from collections import deque
+from collections.abc import Callable, Iterable, Iterator
+from dataclasses import dataclass
+from functools import cached_property
+from itertools import islice
+
+import networkx as nx
+
+from workpack.model.plant import (
+    Bus,
+    Detector,
+    Device,
+    DeviceKind,
+    Earthing,
+    Element,
+    FedElement,
+    Load,
+    Plant,
+    SecondaryNeutral,
+    Source,
+    Transformer,
+)
+
+WIRING, CHANGEOVER, MAGNETIC, AUXILIARY = "wiring", "changeover", "magnetic", "auxiliary"
+GALVANIC = frozenset({WIRING, CHANGEOVER})
+POWER = frozenset({WIRING, CHANGEOVER, MAGNETIC})
+EVERY = frozenset({WIRING, CHANGEOVER, MAGNETIC, AUXILIARY})
+PATH_LIMIT = 64  # enough to show a person; beyond that the plant is a mesh
+
+
+def primary(transformer_id: str) -> str:
+    return f"{transformer_id}:primary"
+
+
+def secondary(transformer_id: str) -> str:
+    return f"{transformer_id}:secondary"
+
+
+def element_of(node: str) -> str:
+    """The element id behind a graph node."""
+    return node.split(":", 1)[0]
+
+
+@dataclass(frozen=True)
+class Island:
+    """A galvanically connected group of elements in one switching state."""
+
+    id: str  # named after its first bus (or node) in sorted order
+    nodes: tuple[str, ...]
+    voltage: float | None  # V line-to-line, from its buses or sources
+    earthing: Earthing | None
+    detectors: tuple[Detector, ...]
+    buses: tuple[str, ...]
+    sources: tuple[str, ...]
+
+    @property
+    def elements(self) -> tuple[str, ...]:
+        return tuple(sorted({element_of(n) for n in self.nodes}))
+
+
+class Topology:
+    """Graph queries over one plant. Build once, ask many times."""
+
+    def __init__(self, plant: Plant):
+        self.plant = plant
+        self.elements: dict[str, Element] = plant.index()
+        self.graph = nx.Graph()
+        self._build()
+
+    # --- construction ---------------------------------------------------------------------
+
+    def node_in(self, element_id: str) -> str:
+        """The node where an element receives supply (a transformer's primary)."""
+        element = self.elements[element_id]
+        return primary(element_id) if isinstance(element, Transformer) else element_id
+
+    def node_out(self, element_id: str) -> str:
+        """The node an element feeds onward from (a transformer's secondary)."""
+        element = self.elements[element_id]
+        return secondary(element_id) if isinstance(element, Transformer) else element_id
+
+    def _build(self) -> None:
+        graph = self.graph
+        for element_id in sorted(self.elements):
+            element = self.elements[element_id]
+            if isinstance(element, Transformer):
+                graph.add_node(primary(element_id), element=element_id, side="primary")
+                graph.add_node(secondary(element_id), element=element_id, side="secondary")
+                graph.add_edge(primary(element_id), secondary(element_id), kind=MAGNETIC)
+            else:
+                graph.add_node(element_id, element=element_id, side="")
+        for element_id in sorted(self.elements):
+            element = self.elements[element_id]
+            if isinstance(element, FedElement):
+                for position, supply_id in enumerate(element.from_):
+                    if supply_id not in self.elements:
+                        continue  # reported by the checks; the graph stays usable
+                    kind = WIRING
+                    if (isinstance(element, Device) and element.kind is DeviceKind.transfer_switch
+                            and position > 0):
+                        kind = CHANGEOVER
+                    graph.add_edge(self.node_out(supply_id), self.node_in(element_id),
+                                   kind=kind, supply=self.node_out(supply_id))
+            if isinstance(element, Load):
+                for auxiliary in element.auxiliaries:
+                    if auxiliary.from_ in self.elements:
+                        graph.add_edge(self.node_out(auxiliary.from_), element_id,
+                                       kind=AUXILIARY, supply=self.node_out(auxiliary.from_),
+                                       auxiliary=auxiliary.kind.value)
+
+    # --- switching state ------------------------------------------------------------------
+
+    @cached_property
+    def normally_open(self) -> frozenset[str]:
+        return frozenset(d.id for d in self.plant.devices if d.normally == "open")
+
+    def view(self, kinds: frozenset[str], open_devices: Iterable[str] = (),
+             changeovers_closed: bool = False) -> nx.Graph:
+        """The graph as it conducts with ``open_devices`` open.
+
+        An open device stays attached to its supply side and is cut from its
+        load side, so it belongs to the island it is fed from.
+        """
+        opened = set(open_devices)
+
+        def keep(u: str, v: str) -> bool:
+            data = self.graph.edges[u, v]
+            if data["kind"] not in kinds:
+                return False
+            if data["kind"] == CHANGEOVER and not changeovers_closed:
+                return False
+            return data.get("supply") not in opened
+
+        return nx.subgraph_view(self.graph, filter_edge=keep)
+
+    def normal_view(self, kinds: frozenset[str] = GALVANIC) -> nx.Graph:
+        return self.view(kinds, self.normally_open)
+
+    def closable_view(self, kinds: frozenset[str] = EVERY) -> nx.Graph:
+        """Every path someone could close: ties, changeovers, back-feeds, auxiliaries."""
+        return self.view(kinds, (), changeovers_closed=True)
+
+    # --- islands --------------------------------------------------------------------------
+
+    def islands(self, open_devices: Iterable[str] | None = None) -> list[Island]:
+        """Galvanic islands in a switching state (the normal one by default)."""
+        opened = self.normally_open if open_devices is None else frozenset(open_devices)
+        view = self.view(GALVANIC, opened)
+        found = [self._island(sorted(component)) for component in nx.connected_components(view)]
+        return sorted(found, key=lambda island: island.id)
+
+    @cached_property
+    def normal_islands(self) -> list[Island]:
+        return self.islands()
+
+    @cached_property
+    def _island_by_node(self) -> dict[str, Island]:
+        return {node: island for island in self.normal_islands for node in island.nodes}
+
+    def island_of(self, node: str) -> Island:
+        """The normal-state island a node belongs to."""
+        return self._island_by_node[node]
+
+    def _island(self, nodes: list[str]) -> Island:
+        buses = [self.elements[n] for n in nodes if isinstance(self.elements.get(n), Bus)]
+        sources = [self.elements[n] for n in nodes if isinstance(self.elements.get(n), Source)]
+        voltage: float | None = None
+        earthing: Earthing | None = None
+        if buses:
+            first = buses[0]
+            assert isinstance(first, Bus)
+            voltage, earthing = first.voltage, first.earthing
+        elif sources:
+            first_source = sources[0]
+            assert isinstance(first_source, Source)
+            voltage = first_source.voltage
+        else:
+            voltage = self._transformer_side_voltage(nodes)
+        for node in nodes:
+            if node.endswith(":secondary"):
+                transformer = self.elements[element_of(node)]
+                assert isinstance(transformer, Transformer)
+                if transformer.secondary_neutral is SecondaryNeutral.grounded:
+                    earthing = Earthing.solid
+        detectors = tuple(b.detector for b in buses if isinstance(b, Bus) and b.detector)
+        watched = [b.id for b in buses if isinstance(b, Bus) and b.detector]
+        name = (watched or [b.id for b in buses] or nodes)[0]
+        return Island(id=name, nodes=tuple(nodes), voltage=voltage, earthing=earthing,
+                      detectors=detectors, buses=tuple(b.id for b in buses),
+                      sources=tuple(s.id for s in sources))
+
+    def _transformer_side_voltage(self, nodes: list[str]) -> float | None:
+        for node in nodes:
+            side = self.graph.nodes[node]["side"]
+            if side:
+                transformer = self.elements[element_of(node)]
+                assert isinstance(transformer, Transformer)
+                return (transformer.primary_voltage if side == "primary"
+                        else transformer.secondary_voltage)
+        return None
+
+    def voltage_at(self, node: str) -> float | None:
+        """Nominal line-to-line voltage of the normal-state island holding ``node``, V."""
+        return self.island_of(node).voltage
+
+    def watched_by(self, detector_id: str) -> Island | None:
+        for island in self.normal_islands:
+            if any(d.id == detector_id for d in island.detectors):
+                return island
+        return None
+
+    # --- sources and paths ----------------------------------------------------------------
+
+    @cached_property
+    def source_nodes(self) -> frozenset[str]:
+        return frozenset(s.id for s in self.plant.sources)
+
+    def normal_supply_paths(self, element_id: str) -> list[tuple[str, ...]]:
+        """Paths that feed the element in the normal state, source first.
+
+        Follows ``from`` upward through normally closed devices and the normal
+        side of transfer switches, through transformers to their primary.
+        """
+        start = self.node_in(element_id)
+        paths: list[tuple[str, ...]] = []
+        stack: list[tuple[str, tuple[str, ...]]] = [(start, (start,))]
+        while stack and len(paths) < PATH_LIMIT:
+            node, path = stack.pop()
+            element = self.elements[element_of(node)]
+            if isinstance(element, Source):
+                paths.append(tuple(reversed(path)))
+                continue
+            if node.endswith(":secondary"):
+                upward = [primary(element.id)]
+            elif isinstance(element, FedElement):
+                supplies = element.from_[:1] if (
+                    isinstance(element, Device) and element.kind is DeviceKind.transfer_switch
+                ) else element.from_
+                upward = [self.node_out(s) for s in supplies if s in self.elements]
+            else:
+                upward = []
+            for up in sorted(upward, reverse=True):
+                if up in path or element_of(up) in self.normally_open:
+                    continue
+                stack.append((up, (*path, up)))
+        return sorted(paths)
+
+    def possible_supply_paths(self, element_id: str,
+                              limit: int = PATH_LIMIT) -> list[tuple[str, ...]]:
+        """Every way a source could reach the element if anything closable were closed.
+
+        Includes normally open ties, changeovers, back-feed through transformers
+        and auxiliary supplies. Source first. At most ``limit`` paths.
+        """
+        view = self.closable_view(POWER)
+        targets = set(self.source_nodes)
+        found: list[tuple[str, ...]] = []
+        for start in self.work_nodes(element_id):
+            walker: Iterator[list[str]] = nx.all_simple_paths(view, start, targets)
+            found.extend(tuple(reversed(p)) for p in islice(walker, limit))
+        for feed in self.auxiliary_feeds(element_id):
+            walker = nx.all_simple_paths(view, feed, targets)
+            found.extend((*reversed(p), element_id) for p in islice(walker, limit))
+        return sorted(set(found))[:limit]
+
+    def work_nodes(self, element_id: str) -> list[str]:
+        """The nodes a person works on for this element (both sides of a transformer)."""
+        element = self.elements[element_id]
+        if isinstance(element, Transformer):
+            return [primary(element_id), secondary(element_id)]
+        return [element_id]
+
+    def auxiliary_feeds(self, element_id: str) -> list[str]:
+        """Devices feeding the element's heater or control power from elsewhere."""
+        return sorted(
+            neighbour for neighbour in self.graph.neighbors(element_id)
+            if self.graph.edges[element_id, neighbour]["kind"] == AUXILIARY
+        ) if element_id in self.graph else []
+
+    def energy_neighbours(self, item_id: str) -> Callable[[str], list[str]]:
+        """Neighbours over which energy could reach ``item_id``, all closable closed.
+
+        An auxiliary supply enters only the item that owns it: the heater of a
+        motor does not connect the motor's winding to the heater's panel.
+        """
+        view = self.closable_view(POWER)
+        starts = set(self.work_nodes(item_id))
+        feeds = self.auxiliary_feeds(item_id)
+
+        def neighbours(node: str) -> list[str]:
+            found = sorted(view.neighbors(node))
+            if node in starts:
+                found = sorted(set(found) | set(feeds))
+            return found
+
+        return neighbours
+
+    def reachable_sources(self, element_id: str, open_devices: Iterable[str] = ()) -> set[str]:
+        """Sources that could reach the element with ``open_devices`` locked open.
+
+        Every other device is taken as closable. An opened device conducts on
+        neither side, which is what locking it open means.
+        """
+        opened = set(open_devices)
+        neighbours = self.energy_neighbours(element_id)
+        starts = self.work_nodes(element_id)
+        seen: set[str] = set(starts)
+        queue = deque(starts)
+        reached: set[str] = set()
+        while queue:
+            node = queue.popleft()
+            if node in self.source_nodes and node not in starts:
+                reached.add(node)
+                continue
+            for neighbour in neighbours(node):
+                if neighbour in seen or element_of(neighbour) in opened:
+                    continue
+                seen.add(neighbour)
+                queue.append(neighbour)
+        return reached
