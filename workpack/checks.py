@@ -53,7 +53,7 @@ def check_unique_ids(plant: Plant) -> Iterator[Finding]:
     seen: dict[str, Path] = {}
     for section in SECTIONS:
         for index, element in enumerate(getattr(plant, section)):
-            ids = [(element.id, (section, index, "id"))]
+            ids: list[tuple[str, Path]] = [(element.id, (section, index, "id"))]
             if isinstance(element, Bus) and element.detector:
                 ids.append((element.detector.id, (section, index, "detector", "id")))
             for element_id, path in ids:

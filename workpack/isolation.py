@@ -15,7 +15,10 @@ from __future__ import annotations
 from collections import deque
 from dataclasses import dataclass
 
+import networkx as nx
+
 from workpack.model.plant import (
+    Bus,
     Cable,
     Device,
     Load,
@@ -25,8 +28,7 @@ from workpack.model.plant import (
     Transformer,
 )
 from workpack.topology import (
-    AUXILIARY,
-    MAGNETIC,
+    GALVANIC,
     POWER,
     Topology,
     element_of,
@@ -131,14 +133,28 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
     def distance(node: str) -> int:
         return len(path_to(node))
 
+    normal_path = {element_of(node) for path in topology.normal_supply_paths(item_id)
+                   for node in path}
+
+    def application_order(device_id: str) -> tuple[int, int, str]:
+        # Interrupt the load first (closed devices on the normal supply), then
+        # other closed devices, then lock the normally open ones where they are.
+        if device_id in topology.normally_open:
+            group = 2
+        else:
+            group = 0 if device_id in normal_path else 1
+        return (group, distance(device_id), device_id)
+
+    blocked = region | set(chosen)
     points: list[IsolationPoint] = []
-    for order, device_id in enumerate(sorted(chosen, key=lambda d: (distance(d), d)), start=1):
+    for order, device_id in enumerate(sorted(chosen, key=application_order), start=1):
         device = topology.elements[device_id]
         assert isinstance(device, Device)
         via = path_to(device_id)
         points.append(IsolationPoint(
             order=order, device=device_id, device_kind=device.kind.value,
-            location=device.location, reason=_reason(topology, item_id, device_id, parent),
+            location=device.location,
+            reason=_reason(topology, item_id, device_id, blocked, normal_path),
             voltage=topology.voltage_at(device_id),
             already_open=device_id in topology.normally_open, via=via,
         ))
@@ -196,27 +212,52 @@ def _far_side_reaches_source(topology: Topology, device: str, region: set[str],
     return False
 
 
-def _reason(topology: Topology, item_id: str, device_id: str,
-            parent: dict[str, str | None]) -> str:
+def _far_side_path(topology: Topology, device: str,
+                   blocked: set[str]) -> tuple[str, ...] | None:
+    """Shortest path from ``device`` to a source that avoids ``blocked``; device first."""
+    view = topology.closable_view(POWER)
+    parent: dict[str, str | None] = {device: None}
+    queue = deque([device])
+    while queue:
+        node = queue.popleft()
+        if node in topology.source_nodes:
+            chain: list[str] = []
+            step: str | None = node
+            while step is not None:
+                chain.append(step)
+                step = parent[step]
+            return tuple(reversed(chain))
+        for neighbour in sorted(view.neighbors(node)):
+            if neighbour not in parent and (neighbour not in blocked or neighbour == device):
+                parent[neighbour] = node
+                queue.append(neighbour)
+    return None
+
+
+def _reason(topology: Topology, item_id: str, device_id: str, blocked: set[str],
+            normal_path: set[str]) -> str:
     """Say in words which supply this device cuts."""
-    device = topology.elements[device_id]
-    assert isinstance(device, Device)
-    kinds: set[str] = set()
-    step: str | None = device_id
-    previous = None
-    while step is not None:
-        if previous is not None:
-            kinds.add(topology.graph.edges[previous, step]["kind"])
-        previous, step = step, parent[step]
-    sources = sorted(topology.reachable_sources(device_id) - {item_id})
-    feeds = ", ".join(sources) if sources else "no source"
-    if AUXILIARY in kinds:
-        return f"auxiliary supply into {item_id} (reachable from {feeds})"
-    if MAGNETIC in kinds:
-        return f"back-feed through a transformer (reachable from {feeds})"
-    if device_id in topology.normally_open:
-        return f"normally open tie or alternate feed (reachable from {feeds})"
-    return f"supply from {feeds}"
+    if device_id in topology.auxiliary_feeds(item_id):
+        item = topology.elements[item_id]
+        kinds = [a.kind.value.replace("_", " ") for a in item.auxiliaries  # type: ignore[attr-defined]
+                 if a.from_ == device_id]
+        return f"{', '.join(kinds)} supply into {item_id}"
+    path = _far_side_path(topology, device_id, blocked - {device_id})
+    if device_id in normal_path:
+        sources = sorted({element_of(p[0]) for p in topology.normal_supply_paths(item_id)
+                          if device_id in {element_of(n) for n in p}})
+        return "normal supply from " + ", ".join(sources)
+    if path is None:
+        return "possible supply"
+    transformers = sorted({element_of(n) for n in path if n.endswith(":secondary")})
+    ties = [element_of(n) for n in path if element_of(n) in topology.normally_open]
+    parts = []
+    if ties:
+        parts.append("via normally open " + ", ".join(dict.fromkeys(ties)))
+    if transformers:
+        parts.append("back-feed through transformer " + ", ".join(transformers))
+    parts.append(f"from {element_of(path[-1])}")
+    return "possible supply " + " ".join(parts)
 
 
 def _verify_points(topology: Topology, item_id: str, chosen: list[str],
@@ -225,9 +266,18 @@ def _verify_points(topology: Topology, item_id: str, chosen: list[str],
     points: list[VerifyPoint] = []
     item = topology.elements[item_id]
     for node in topology.work_nodes(item_id):
+        if ":" in node:
+            where = f"{node.split(':')[1]} terminals of {item_id}"
+        elif isinstance(item, Bus):
+            where = f"busbars of {item_id}"
+        elif isinstance(item, Cable):
+            where = f"both ends of cable {item_id}"
+        elif isinstance(item, Device):
+            where = f"line and load terminals of {item_id}"
+        else:
+            where = f"supply terminals of {item_id}"
         points.append(VerifyPoint(
-            where=f"{item_id} {node.split(':')[1]} terminals" if ":" in node
-            else f"{item_id} supply terminals",
+            where=where,
             conductors="each phase-to-phase and each phase-to-earth",
             voltage=topology.voltage_at(node),
         ))
@@ -235,7 +285,7 @@ def _verify_points(topology: Topology, item_id: str, chosen: list[str],
         for auxiliary in item.auxiliaries:
             if auxiliary.from_ in topology.elements:
                 points.append(VerifyPoint(
-                    where=f"{item_id} {auxiliary.kind.value.replace('_', ' ')} terminals",
+                    where=f"{auxiliary.kind.value.replace('_', ' ')} terminals of {item_id}",
                     conductors="between the supply conductors and each to earth",
                     voltage=auxiliary.voltage or topology.voltage_at(auxiliary.from_),
                 ))
@@ -273,8 +323,13 @@ def _no_lock_hazard(topology: Topology, item_id: str, source: str,
 
 
 def _item_hazards(topology: Topology, item_id: str) -> list[Hazard]:
+    """Sources that could appear on the item's own system if ties were closed."""
     hazards: list[Hazard] = []
-    for source in sorted(topology.reachable_sources(item_id)):
+    galvanic = topology.closable_view(GALVANIC)
+    reach: set[str] = set()
+    for node in topology.work_nodes(item_id):
+        reach |= nx.node_connected_component(galvanic, node)
+    for source in sorted(reach & topology.source_nodes - {item_id}):
         element = topology.elements[source]
         assert isinstance(element, Source)
         if element.starts_automatically:

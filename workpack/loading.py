@@ -60,7 +60,10 @@ def _message(detail: Any) -> str:
     kind = detail["type"]
     message = str(detail["msg"])
     if kind == "extra_forbidden":
-        return "unknown field (check its spelling; see `workpack schema plant`)"
+        if detail["input"] is None and " " in str(detail["loc"][-1]):
+            return ("unknown field: looks like the rest of a text cut at a comma inside "
+                    "{ }; put that text in quotes")
+        return "unknown field (check its spelling; `workpack schema plant` lists the fields)"
     if kind == "missing":
         return "required field is missing"
     if kind in ("enum", "literal_error"):

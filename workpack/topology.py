@@ -179,9 +179,16 @@ class Topology:
         """The normal-state island a node belongs to."""
         return self._island_by_node[node]
 
+    @cached_property
+    def _file_order(self) -> dict[str, int]:
+        return {element_id: index for index, element_id in enumerate(self.elements)}
+
     def _island(self, nodes: list[str]) -> Island:
-        buses = [self.elements[n] for n in nodes if isinstance(self.elements.get(n), Bus)]
-        sources = [self.elements[n] for n in nodes if isinstance(self.elements.get(n), Source)]
+        # Buses and sources in file order: the island takes the name of the
+        # board the supervisor put first, not the alphabetically first.
+        in_order = sorted({element_of(n) for n in nodes}, key=self._file_order.__getitem__)
+        buses = [self.elements[n] for n in in_order if isinstance(self.elements[n], Bus)]
+        sources = [self.elements[n] for n in in_order if isinstance(self.elements[n], Source)]
         voltage: float | None = None
         earthing: Earthing | None = None
         if buses:
@@ -202,7 +209,7 @@ class Topology:
                     earthing = Earthing.solid
         detectors = tuple(b.detector for b in buses if isinstance(b, Bus) and b.detector)
         watched = [b.id for b in buses if isinstance(b, Bus) and b.detector]
-        name = (watched or [b.id for b in buses] or nodes)[0]
+        name = (watched or [b.id for b in buses] or [s.id for s in sources] or nodes)[0]
         return Island(id=name, nodes=tuple(nodes), voltage=voltage, earthing=earthing,
                       detectors=detectors, buses=tuple(b.id for b in buses),
                       sources=tuple(s.id for s in sources))

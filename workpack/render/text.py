@@ -33,9 +33,9 @@ def isolation_plan(plan: IsolationPlan, item_label: str) -> str:
     lines.append("")
     lines.append("Prove absence of voltage (tester proven on a known live source before "
                  "and after):")
-    for point in plan.verify:
-        lines.append(f"  - {point.where}: {point.conductors} "
-                     f"(system voltage {volts(point.voltage)}); expect 0 V")
+    for check in plan.verify:
+        lines.append(f"  - {check.where}: {check.conductors} "
+                     f"(system voltage {volts(check.voltage)}); expect 0 V")
     lines.append("")
     lines.append("Local codes, the employer's safety rules and licensed practice prevail "
                  "over this plan.")
