@@ -16,7 +16,14 @@ import re
 from enum import StrEnum
 from typing import Annotated, Any, Literal
 
-from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
+from pydantic import (
+    BaseModel,
+    ConfigDict,
+    Field,
+    WithJsonSchema,
+    field_validator,
+    model_validator,
+)
 
 from workpack.model.quantities import (
     Amperes,
@@ -160,9 +167,16 @@ class Element(Strict):
         return f"{self.id} ({self.name})" if self.name else self.id
 
 
+_ID_SCHEMA = {"type": "string", "pattern": r"^[A-Za-z0-9][A-Za-z0-9_.\-/]*$"}
+_ONE_OR_MANY_IDS = WithJsonSchema({
+    "anyOf": [_ID_SCHEMA, {"type": "array", "items": _ID_SCHEMA, "minItems": 1}],
+    "description": "supply-side connection: one element id, or a list of them",
+})
+
+
 class FedElement(Element):
-    from_: tuple[Id, ...] = Field(alias="from", min_length=1,
-                                  description="supply-side connection(s): element ids")
+    from_: Annotated[tuple[Id, ...], _ONE_OR_MANY_IDS] = Field(
+        alias="from", min_length=1, description="supply-side connection(s): element ids")
 
     @field_validator("from_", mode="before")
     @classmethod

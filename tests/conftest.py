@@ -1,0 +1,15 @@
+import sys
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(Path(__file__).resolve().parent))  # plantgen for tests and bench
+
+import pytest  # noqa: E402
+
+from workpack.loading import load_plant  # noqa: E402
+from workpack.topology import Topology  # noqa: E402
+
+
+@pytest.fixture(scope="session")
+def demo_vessel() -> Topology:
+    return load_plant(ROOT / "plants" / "demo-vessel.yaml")[1]

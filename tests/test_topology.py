@@ -1,0 +1,45 @@
+"""Galvanic islands, detectors and supply paths of the demo vessel."""
+
+from workpack.topology import Topology
+
+
+def test_transformers_separate_galvanic_systems(demo_vessel: Topology) -> None:
+    main = demo_vessel.island_of("MSB")
+    lighting = demo_vessel.island_of("LP-MAIN")
+    assert main is not lighting
+    assert "T1:primary" in main.nodes and "T1:secondary" in lighting.nodes
+    assert main.voltage == 440 and lighting.voltage == 115
+
+
+def test_emergency_board_fed_from_main_is_one_system_watched_by_both_detectors(
+    demo_vessel: Topology,
+) -> None:
+    island = demo_vessel.island_of("ESB")
+    assert island.id == "MSB"
+    assert {d.id for d in island.detectors} == {"GD-MSB", "GD-ESB"}
+    assert demo_vessel.watched_by("GD-LP") is demo_vessel.island_of("LP-MAIN")
+
+
+def test_grounded_wye_neutral_makes_its_system_solidly_grounded(demo_vessel: Topology) -> None:
+    assert demo_vessel.island_of("DP-LDY").earthing.value == "solid"
+
+
+def test_normally_open_devices_split_islands_until_closed(demo_vessel: Topology) -> None:
+    assert demo_vessel.island_of("EDG") is not demo_vessel.island_of("ESB")
+    closed = demo_vessel.islands(open_devices=())
+    merged = next(i for i in closed if "ESB" in i.nodes)
+    assert {"EDG", "SHORE", "SSG-1"} <= set(merged.nodes)
+
+
+def test_normal_supply_path_follows_from_links(demo_vessel: Topology) -> None:
+    paths = demo_vessel.normal_supply_paths("EL-1")
+    assert ("SSG-1", "CB-SSG1", "MSB", "CB-ESB", "C-ESB", "ESB", "CB-E-T3", "T3:primary",
+            "T3:secondary", "CB-T3S", "ELP", "CB-EL1", "EL-1") in paths
+    # Normally open back-feed and emergency generator paths are not the normal supply.
+    assert all("EDG" not in p and "CB-BACKFEED" not in p for p in paths)
+    assert {p[0] for p in paths} == {"SSG-1", "SSG-2", "SSG-3"}
+
+
+def test_possible_supply_paths_include_ties_and_changeovers(demo_vessel: Topology) -> None:
+    starts = {p[0] for p in demo_vessel.possible_supply_paths("NAV-L")}
+    assert {"UPS-NAV", "EDG", "SHORE"} <= starts
