@@ -17,6 +17,7 @@ def test_marks_point_at_each_value() -> None:
     assert data == {"a": [{"x": 1, "y": [2, 3]}]}
     assert marks.locate(("a", 0, "y", 1)) == (3, 12)
     assert marks.locate(("a", 0, "missing")) == (2, 5)  # falls back to the parent
+    assert marks.locate(("a", 0, "y"), at_key=True) == (3, 5)
 
 
 def test_duplicate_keys_are_an_error() -> None:

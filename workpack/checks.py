@@ -175,11 +175,9 @@ def check_fed(plant: Plant, topology: Topology) -> Iterator[Finding]:
 def check_loops(plant: Plant, topology: Topology) -> Iterator[Finding]:
     """A closed loop must pass through a normally open device (radial operation)."""
     places = locations(plant)
-    view = nx.Graph(topology.view(POWER, ()))
-    view.remove_nodes_from(sorted(topology.normally_open))
-    for u, v, data in list(view.edges(data=True)):
-        if data["kind"] == "changeover":
-            view.remove_edge(u, v)
+    # In the normal state an open device hangs on its supply side only, and a
+    # transfer switch on its normal side: neither can close a loop.
+    view = topology.normal_view(POWER)
     for cycle in sorted(sorted(c) for c in nx.cycle_basis(view)):
         members = sorted({element_of(n) for n in cycle}, key=lambda e: places[e])
         yield Finding((*places[members[-1]], "from"),

@@ -177,39 +177,29 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
 
 
 def _necessary(topology: Topology, region: set[str], frontier: list[str]) -> list[str]:
-    """Drop frontier devices whose far side reaches no source until each one left is needed.
+    """Frontier devices with a source beyond them; each one left is needed.
 
-    A device is needed when a source reaches it without crossing the item's
-    side (``region``) or another device still in the plan: then closing it
-    alone would put that source onto the item.
+    One walk from every source that crosses neither the item's side
+    (``region``) nor a frontier device marks what sources reach. A device is
+    needed when a source reaches its far side: closing it alone would put that
+    source onto the item. Dropping a device whose far side is dead never makes
+    another device's far side live (it only joins dead parts together), so one
+    pass gives the same answer as dropping them one at a time.
     """
-    chosen = sorted(frontier)
-    changed = True
-    while changed:
-        changed = False
-        for device in chosen:
-            if not _far_side_reaches_source(topology, device, region, chosen):
-                chosen = [d for d in chosen if d != device]
-                changed = True
-                break
-    return chosen
-
-
-def _far_side_reaches_source(topology: Topology, device: str, region: set[str],
-                             chosen: list[str]) -> bool:
-    blocked = region | (set(chosen) - {device})
     view = topology.closable_view(POWER)
-    seen = {device}
-    queue = deque([device])
+    blocked = region | set(frontier)
+    live = set(topology.source_nodes - blocked)
+    queue = deque(sorted(live))
     while queue:
         node = queue.popleft()
-        if node in topology.source_nodes:
-            return True
         for neighbour in view.neighbors(node):
-            if neighbour not in seen and neighbour not in blocked:
-                seen.add(neighbour)
+            if neighbour not in live and neighbour not in blocked:
+                live.add(neighbour)
                 queue.append(neighbour)
-    return False
+    return sorted(
+        device for device in frontier
+        if any(n in live for n in view.neighbors(device) if n not in region)
+    )
 
 
 def _far_side_path(topology: Topology, device: str,

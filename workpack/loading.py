@@ -52,7 +52,8 @@ def _problems(error: ValidationError, marks: Marks) -> list[Problem]:
     for detail in error.errors(include_url=False):
         path = tuple(p for p in detail["loc"] if isinstance(p, str | int))
         path = tuple("from" if p == "from_" else p for p in path)
-        problems.append(marks.problem(path, _message(detail)))
+        problems.append(marks.problem(path, _message(detail),
+                                      at_key=detail["type"] == "extra_forbidden"))
     return problems
 
 

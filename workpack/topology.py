@@ -83,6 +83,8 @@ class Topology:
         self.plant = plant
         self.elements: dict[str, Element] = plant.index()
         self.graph = nx.Graph()
+        self._closable: dict[frozenset[str], nx.Graph] = {}
+        self._normal: dict[frozenset[str], nx.Graph] = {}
         self._build()
 
     # --- construction ---------------------------------------------------------------------
@@ -134,36 +136,48 @@ class Topology:
 
     def view(self, kinds: frozenset[str], open_devices: Iterable[str] = (),
              changeovers_closed: bool = False) -> nx.Graph:
-        """The graph as it conducts with ``open_devices`` open.
+        """The graph as it conducts with ``open_devices`` open (a new, frozen graph).
 
         An open device stays attached to its supply side and is cut from its
         load side, so it belongs to the island it is fed from.
         """
-        opened = set(open_devices)
+        opened = frozenset(open_devices)
+        if not opened and changeovers_closed:
+            return self.closable_view(kinds)
+        return self._conducting(kinds, opened, changeovers_closed)
 
-        def keep(u: str, v: str) -> bool:
-            data = self.graph.edges[u, v]
-            if data["kind"] not in kinds:
-                return False
-            if data["kind"] == CHANGEOVER and not changeovers_closed:
-                return False
-            return data.get("supply") not in opened
-
-        return nx.subgraph_view(self.graph, filter_edge=keep)
+    def _conducting(self, kinds: frozenset[str], opened: frozenset[str],
+                    changeovers_closed: bool) -> nx.Graph:
+        # A materialized graph: filtered views call back into Python per edge,
+        # and the planner walks these graphs many times.
+        graph = nx.Graph()
+        graph.add_nodes_from(self.graph)
+        graph.add_edges_from(
+            (u, v) for u, v, data in self.graph.edges(data=True)
+            if data["kind"] in kinds
+            and (changeovers_closed or data["kind"] != CHANGEOVER)
+            and data.get("supply") not in opened
+        )
+        return nx.freeze(graph)
 
     def normal_view(self, kinds: frozenset[str] = GALVANIC) -> nx.Graph:
-        return self.view(kinds, self.normally_open)
+        """The graph as it conducts in the normal switching state."""
+        if kinds not in self._normal:
+            self._normal[kinds] = self._conducting(kinds, self.normally_open, False)
+        return self._normal[kinds]
 
     def closable_view(self, kinds: frozenset[str] = EVERY) -> nx.Graph:
         """Every path someone could close: ties, changeovers, back-feeds, auxiliaries."""
-        return self.view(kinds, (), changeovers_closed=True)
+        if kinds not in self._closable:
+            self._closable[kinds] = self._conducting(kinds, frozenset(), True)
+        return self._closable[kinds]
 
     # --- islands --------------------------------------------------------------------------
 
     def islands(self, open_devices: Iterable[str] | None = None) -> list[Island]:
         """Galvanic islands in a switching state (the normal one by default)."""
-        opened = self.normally_open if open_devices is None else frozenset(open_devices)
-        view = self.view(GALVANIC, opened)
+        view = (self.normal_view(GALVANIC) if open_devices is None
+                else self.view(GALVANIC, open_devices))
         found = [self._island(sorted(component)) for component in nx.connected_components(view)]
         return sorted(found, key=lambda island: island.id)
 

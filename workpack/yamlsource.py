@@ -13,7 +13,7 @@ bomb is refused instead of eating the machine.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any
 
 import yaml
@@ -29,23 +29,47 @@ Path = tuple[str | int, ...]
 
 @dataclass
 class Marks:
-    """Where each value of a loaded document stands in its file."""
+    """Where each value of a loaded document stands in its file.
+
+    Keeps the composed YAML tree and walks it only when a place is asked
+    for: errors are rare, and marking every value up front costs as much as
+    parsing.
+    """
 
     file: str
-    places: dict[Path, tuple[int, int]] = field(default_factory=dict)
+    root: yaml.Node | None = None
 
-    def locate(self, path: Path) -> tuple[int, int]:
-        """Line and column (1-based) of the value at ``path``, or of its nearest parent."""
-        while True:
-            if path in self.places:
-                return self.places[path]
-            if not path:
-                return (0, 0)
-            path = path[:-1]
+    def locate(self, path: Path, at_key: bool = False) -> tuple[int, int]:
+        """Line and column (1-based) of the value at ``path``, or of its nearest parent.
 
-    def problem(self, path: Path, message: str) -> Problem:
-        line, column = self.locate(path)
+        With ``at_key``, the place of the last key itself (for an unknown field).
+        """
+        node = self.root
+        if node is None:
+            return (0, 0)
+        for position, part in enumerate(path):
+            found = _child(node, part)
+            if found is None:
+                break
+            key_node, node = found
+            if at_key and position == len(path) - 1 and key_node is not None:
+                node = key_node
+        return (node.start_mark.line + 1, node.start_mark.column + 1)
+
+    def problem(self, path: Path, message: str, at_key: bool = False) -> Problem:
+        line, column = self.locate(path, at_key)
         return Problem(self.file, line, column, format_path(path), message)
+
+
+def _child(node: yaml.Node, part: str | int) -> tuple[yaml.Node | None, yaml.Node] | None:
+    """(key node, value node) of ``part`` inside ``node``, or None."""
+    if isinstance(node, yaml.SequenceNode) and isinstance(part, int):
+        return (None, node.value[part]) if 0 <= part < len(node.value) else None
+    if isinstance(node, yaml.MappingNode):
+        for key_node, value_node in node.value:
+            if isinstance(key_node, yaml.ScalarNode) and key_node.value == str(part):
+                return key_node, value_node
+    return None
 
 
 def format_path(path: Path) -> str:
@@ -58,8 +82,12 @@ def format_path(path: Path) -> str:
     return text
 
 
-class _StrictLoader(yaml.SafeLoader):
-    """SafeLoader that refuses duplicate keys."""
+# libyaml's parser where installed (about ten times faster); same safe constructor.
+_SafeBase: type = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+
+
+class _StrictLoader(_SafeBase):  # type: ignore[misc, valid-type]
+    """Safe loader that refuses duplicate keys."""
 
 
 def _construct_mapping(loader: _StrictLoader, node: yaml.MappingNode, deep: bool = False) -> Any:
@@ -116,26 +144,6 @@ def _expanded_size(root: yaml.Node) -> int:
     return size(root)
 
 
-def _collect_marks(node: yaml.Node, path: Path, places: dict[Path, tuple[int, int]]) -> None:
-    # Iterative: deep documents must not hit the recursion limit.
-    stack: list[tuple[yaml.Node, Path]] = [(node, path)]
-    visited: set[int] = set()
-    while stack:
-        current, where = stack.pop()
-        places[where] = (current.start_mark.line + 1, current.start_mark.column + 1)
-        if id(current) in visited:  # an alias: its insides were marked where first given
-            continue
-        visited.add(id(current))
-        places[where] = (current.start_mark.line + 1, current.start_mark.column + 1)
-        if isinstance(current, yaml.SequenceNode):
-            for index, child in enumerate(current.value):
-                stack.append((child, (*where, index)))
-        elif isinstance(current, yaml.MappingNode):
-            for key_node, value_node in current.value:
-                if isinstance(key_node, yaml.ScalarNode):
-                    stack.append((value_node, (*where, key_node.value)))
-
-
 def parse_yaml(text: str, file: str) -> tuple[Any, Marks]:
     """Parse YAML text into plain data and the marks of every value.
 
@@ -150,7 +158,8 @@ def parse_yaml(text: str, file: str) -> tuple[Any, Marks]:
             root = loader.get_single_node()
             if root is None:
                 return None, marks
-            if _expanded_size(root) > MAX_EXPANDED_NODES:
+            # Aliases need anchors: skip the size walk for the common anchor-free file.
+            if "&" in text and _expanded_size(root) > MAX_EXPANDED_NODES:
                 raise InputError([Problem(
                     file, root.start_mark.line + 1, root.start_mark.column + 1, "",
                     "aliases expand to more than "
@@ -159,7 +168,7 @@ def parse_yaml(text: str, file: str) -> tuple[Any, Marks]:
             # Marks keep the merged (<<) keys too: flatten before collecting.
             data = loader.construct_document(root)
         finally:
-            loader.dispose()  # type: ignore[no-untyped-call]
+            loader.dispose()
     except yaml.MarkedYAMLError as error:
         mark = error.problem_mark or error.context_mark
         line, column = (mark.line + 1, mark.column + 1) if mark else (0, 0)
@@ -169,5 +178,5 @@ def parse_yaml(text: str, file: str) -> tuple[Any, Marks]:
         raise InputError([Problem(file, 0, 0, "", f"YAML: {error}")]) from None
     except RecursionError:
         raise InputError([Problem(file, 0, 0, "", "YAML nests too deeply")]) from None
-    _collect_marks(root, (), marks.places)
+    marks.root = root
     return data, marks
