@@ -15,7 +15,7 @@ $(STAMP): pyproject.toml
 
 demo: $(STAMP)
 	$(BIN)/workpack check plants/demo-vessel.yaml
-	$(BIN)/workpack isolate plants/demo-vessel.yaml FP-1
+	$(BIN)/workpack isolate plants/demo-vessel.yaml WL-1
 
 lint: $(STAMP)
 	$(BIN)/ruff check workpack tests bench
@@ -25,7 +25,7 @@ test: lint
 	$(BIN)/pytest
 
 bench: $(STAMP)
-	$(BIN)/python bench/run.py
+	for script in bench/bench_*.py; do echo "== $$script"; $(BIN)/python $$script || exit 1; done
 
 clean:
 	rm -rf $(VENV) out
