@@ -1,6 +1,6 @@
 """Named consistency checks of a validated plant: what the schema alone cannot see.
 
-Each check returns ``Finding``s: a field path (section, index, field) and a
+Each check returns ``Mismatch``s: a field path (section, index, field) and a
 message. The loader turns the paths into file:line:col. Pure: no file access.
 """
 
@@ -12,6 +12,7 @@ from dataclasses import dataclass
 import networkx as nx
 
 from workpack.errors import did_you_mean
+from workpack.model.findings import BreakerTripped, Findings, LampsSeen, Megger, TransformerUnit
 from workpack.model.plant import (
     SECTIONS,
     Bus,
@@ -35,7 +36,7 @@ Path = tuple[str | int, ...]
 
 
 @dataclass(frozen=True)
-class Finding:
+class Mismatch:
     path: Path
     message: str
 
@@ -49,7 +50,7 @@ def locations(plant: Plant) -> dict[str, Path]:
     return places
 
 
-def check_unique_ids(plant: Plant) -> Iterator[Finding]:
+def check_unique_ids(plant: Plant) -> Iterator[Mismatch]:
     seen: dict[str, Path] = {}
     for section in SECTIONS:
         for index, element in enumerate(getattr(plant, section)):
@@ -59,13 +60,13 @@ def check_unique_ids(plant: Plant) -> Iterator[Finding]:
             for element_id, path in ids:
                 if element_id in seen:
                     first = seen[element_id]
-                    yield Finding(path, f"id {element_id!r} is already used by "
+                    yield Mismatch(path, f"id {element_id!r} is already used by "
                                         f"{first[0]}[{first[1]}]; ids must be unique")
                 else:
                     seen[element_id] = path
 
 
-def check_references(plant: Plant) -> Iterator[Finding]:
+def check_references(plant: Plant) -> Iterator[Mismatch]:
     known = plant.index()
     cable_types = {t.id for t in plant.cable_types}
     for section in SECTIONS:
@@ -75,35 +76,35 @@ def check_references(plant: Plant) -> Iterator[Finding]:
                     path: Path = (section, index, "from") if len(element.from_) == 1 else (
                         section, index, "from", position)
                     if supply not in known:
-                        yield Finding(path, f"unknown element {supply!r}"
+                        yield Mismatch(path, f"unknown element {supply!r}"
                                             f"{did_you_mean(supply, known)}")
                     elif isinstance(known[supply], Load):
-                        yield Finding(path, f"{supply!r} is a load and feeds nothing; "
+                        yield Mismatch(path, f"{supply!r} is a load and feeds nothing; "
                                             "name the device or bus that supplies "
                                             f"{element.id}")
                     elif supply == element.id:
-                        yield Finding(path, f"{element.id} cannot feed itself")
+                        yield Mismatch(path, f"{element.id} cannot feed itself")
             if isinstance(element, Load):
                 for position, auxiliary in enumerate(element.auxiliaries):
                     path = (section, index, "auxiliaries", position, "from")
                     if auxiliary.from_ not in known:
-                        yield Finding(path, f"unknown element {auxiliary.from_!r}"
+                        yield Mismatch(path, f"unknown element {auxiliary.from_!r}"
                                             f"{did_you_mean(auxiliary.from_, known)}")
                     elif not isinstance(known[auxiliary.from_], Device):
-                        yield Finding(path, f"{auxiliary.from_!r} is a "
+                        yield Mismatch(path, f"{auxiliary.from_!r} is a "
                                             f"{type(known[auxiliary.from_]).__name__.lower()}; "
                                             "an auxiliary supply is fed from a device "
                                             "(its breaker or fuse)")
             if isinstance(element, Cable) and element.cable_type is not None and (
                 element.cable_type not in cable_types
             ):
-                yield Finding((section, index, "cable_type"),
+                yield Mismatch((section, index, "cable_type"),
                               f"unknown cable type {element.cable_type!r}"
                               f"{did_you_mean(element.cable_type, cable_types)}; "
                               "define it under cable_types")
 
 
-def check_voltages(plant: Plant, topology: Topology) -> Iterator[Finding]:
+def check_voltages(plant: Plant, topology: Topology) -> Iterator[Mismatch]:
     """Every element of an island agrees with the island's voltage; transformers match."""
     places = locations(plant)
     for island in topology.normal_islands:
@@ -117,7 +118,7 @@ def check_voltages(plant: Plant, topology: Topology) -> Iterator[Finding]:
                 continue
             if not _close(rated, island.voltage):
                 field = "rated_voltage" if isinstance(element, Load) else "voltage"
-                yield Finding((*places[element_id], field),
+                yield Mismatch((*places[element_id], field),
                               f"{_volts(rated)} does not match the {_volts(island.voltage)} "
                               f"system it is connected to (island of {reference or island.id})")
     for index, transformer in enumerate(plant.transformers):
@@ -129,12 +130,12 @@ def check_voltages(plant: Plant, topology: Topology) -> Iterator[Finding]:
                 continue
             island = topology.island_of(node)
             if island.buses and island.voltage is not None and not _close(rated, island.voltage):
-                yield Finding(("transformers", index, side),
+                yield Mismatch(("transformers", index, side),
                               f"{_volts(rated)} does not match bus {island.buses[0]} "
                               f"({_volts(island.voltage)}) on its {side.split('_')[0]} side")
 
 
-def check_earthing(plant: Plant, topology: Topology) -> Iterator[Finding]:
+def check_earthing(plant: Plant, topology: Topology) -> Iterator[Mismatch]:
     places = locations(plant)
     for island in topology.normal_islands:
         buses = [topology.elements[b] for b in island.buses]
@@ -147,16 +148,16 @@ def check_earthing(plant: Plant, topology: Topology) -> Iterator[Finding]:
         for bus in buses:
             assert isinstance(bus, Bus)
             if bus.earthing is not first.earthing:
-                yield Finding((*places[bus.id], "earthing"),
+                yield Mismatch((*places[bus.id], "earthing"),
                               f"{bus.earthing} but {first.id}, on the same galvanic system, is "
                               f"{first.earthing}")
             elif grounded and bus.earthing is Earthing.insulated:
-                yield Finding((*places[bus.id], "earthing"),
+                yield Mismatch((*places[bus.id], "earthing"),
                               f"insulated, but it is fed from {grounded[0]} whose secondary "
                               "neutral is grounded: that makes the system solidly grounded")
 
 
-def check_fed(plant: Plant, topology: Topology) -> Iterator[Finding]:
+def check_fed(plant: Plant, topology: Topology) -> Iterator[Mismatch]:
     """Every element can be reached from some source (with everything closable closed)."""
     places = locations(plant)
     view = topology.closable_view(POWER)
@@ -167,12 +168,12 @@ def check_fed(plant: Plant, topology: Topology) -> Iterator[Finding]:
         first = members[0]
         others = len(members) - 1
         tail = f" (nor do the {others} elements connected to it)" if others else ""
-        yield Finding((*places[first], "from") if not isinstance(
+        yield Mismatch((*places[first], "from") if not isinstance(
             topology.elements[first], Source) else places[first],
             f"{first} is fed from nowhere: no source reaches it{tail}")
 
 
-def check_loops(plant: Plant, topology: Topology) -> Iterator[Finding]:
+def check_loops(plant: Plant, topology: Topology) -> Iterator[Mismatch]:
     """A closed loop must pass through a normally open device (radial operation)."""
     places = locations(plant)
     # In the normal state an open device hangs on its supply side only, and a
@@ -180,13 +181,13 @@ def check_loops(plant: Plant, topology: Topology) -> Iterator[Finding]:
     view = topology.normal_view(POWER)
     for cycle in sorted(sorted(c) for c in nx.cycle_basis(view)):
         members = sorted({element_of(n) for n in cycle}, key=lambda e: places[e])
-        yield Finding((*places[members[-1]], "from"),
+        yield Mismatch((*places[members[-1]], "from"),
                       "closed loop through " + ", ".join(members) +
                       " with no normally open device: mark one of its devices "
                       "'normally: open'")
 
 
-def run_checks(plant: Plant) -> tuple[list[Finding], Topology | None]:
+def run_checks(plant: Plant) -> tuple[list[Mismatch], Topology | None]:
     """All checks; the topology is returned when the references allow building it."""
     found = list(check_unique_ids(plant)) + list(check_references(plant))
     if found:
@@ -222,3 +223,35 @@ def _close(a: float, b: float) -> bool:
 def _volts(value: float) -> str:
     return f"{value:g} V"
 
+
+
+def check_findings(findings: Findings, topology: Topology) -> Iterator[Mismatch]:
+    """Every finding names a known place, the plant's phase labels, and fits its kind."""
+    detectors = {d.id: island for island in topology.normal_islands for d in island.detectors}
+    known = set(topology.elements) | set(detectors)
+    labels = set(topology.plant.plant.phase_labels)
+    for index, finding in enumerate(findings.findings):
+        base: Path = ("findings", index)
+        if finding.where not in known:
+            yield Mismatch((*base, "where"), f"unknown element or detector {finding.where!r}"
+                                              f"{did_you_mean(finding.where, known)}")
+            continue
+        per_phase = getattr(finding, "lamps", None) or getattr(finding, "volts", None)
+        if per_phase is not None:
+            field = "lamps" if isinstance(finding, LampsSeen) else "volts"
+            if set(per_phase) != labels:
+                yield Mismatch((*base, field),
+                               f"phases {sorted(per_phase)} do not match the plant's phase "
+                               f"labels {sorted(labels)}; give one value for each")
+        element = topology.elements.get(finding.where)
+        if isinstance(finding, TransformerUnit) and not (
+            isinstance(element, Transformer) and element.construction.value ==
+            "bank_of_single_phase"
+        ):
+            yield Mismatch((*base, "where"), f"{finding.where!r} is not a bank of single-phase "
+                                              "transformers")
+        if isinstance(finding, BreakerTripped) and not isinstance(element, Device):
+            yield Mismatch((*base, "where"), f"{finding.where!r} is not a switching device")
+        if isinstance(finding, Megger) and element is None:
+            yield Mismatch((*base, "where"), "an insulation test is made on an element, "
+                                              f"not on detector {finding.where!r}")

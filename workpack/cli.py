@@ -62,10 +62,12 @@ def _cmd_isolate(args: argparse.Namespace) -> int:
 
 
 def _cmd_schema(args: argparse.Namespace) -> int:
+    from workpack.model.findings import Findings
     from workpack.model.plant import Plant
 
-    schema = Plant.model_json_schema(by_alias=True)
-    schema["title"] = "workpack plant inventory"
+    model = {"plant": Plant, "findings": Findings}[args.what]
+    schema = model.model_json_schema(by_alias=True)
+    schema["title"] = f"workpack {args.what} file"
     sys.stdout.write(json.dumps(schema, indent=2, sort_keys=True, ensure_ascii=False) + "\n")
     return 0
 
@@ -91,7 +93,7 @@ def build_parser() -> argparse.ArgumentParser:
     isolate.set_defaults(run=_cmd_isolate)
 
     schema = commands.add_parser("schema", help="print the JSON Schema of an input file")
-    schema.add_argument("what", choices=["plant"], help="which file")
+    schema.add_argument("what", choices=["plant", "findings"], help="which file")
     schema.set_defaults(run=_cmd_schema)
     return parser
 

@@ -12,11 +12,12 @@ from typing import Any, TypeVar
 
 from pydantic import BaseModel, ValidationError
 
-from workpack.checks import run_checks
+from workpack.checks import check_findings, run_checks
 from workpack.errors import InputError, Problem
+from workpack.model.findings import Findings
 from workpack.model.plant import Plant
 from workpack.topology import Topology
-from workpack.yamlsource import Marks, parse_yaml
+from workpack.yamlsource import Marks, TableMarks, parse_yaml
 
 Model = TypeVar("Model", bound=BaseModel)
 
@@ -44,17 +45,38 @@ def validate(model: type[Model], data: Any, marks: Marks, what: str) -> Model:
     try:
         return model.model_validate(data)
     except ValidationError as error:
-        raise InputError(_problems(error, marks)) from None
+        raise InputError(_problems(error, marks, data)) from None
 
 
-def _problems(error: ValidationError, marks: Marks) -> list[Problem]:
+def _problems(error: ValidationError, marks: Marks, data: Any) -> list[Problem]:
     problems = []
     for detail in error.errors(include_url=False):
-        path = tuple(p for p in detail["loc"] if isinstance(p, str | int))
-        path = tuple("from" if p == "from_" else p for p in path)
+        path = _data_path(detail["loc"], data)
         problems.append(marks.problem(path, _message(detail),
                                       at_key=detail["type"] == "extra_forbidden"))
     return problems
+
+
+def _data_path(loc: tuple[Any, ...], data: Any) -> tuple[str | int, ...]:
+    """The error's place in the file's own terms.
+
+    pydantic puts the tag of a tagged union (a finding's ``kind``) and the
+    names of validators into its paths; they are not keys of the file, so
+    they are dropped by following the data.
+    """
+    path: list[str | int] = []
+    node = data
+    for position, part in enumerate(loc):
+        part = "from" if part == "from_" else part
+        last = position == len(loc) - 1
+        if isinstance(node, dict) and part in node:
+            node = node[part]
+        elif isinstance(node, list) and isinstance(part, int) and 0 <= part < len(node):
+            node = node[part]
+        elif not last or not isinstance(part, str | int):
+            continue
+        path.append(part)
+    return tuple(path)
 
 
 def _message(detail: Any) -> str:
@@ -64,7 +86,7 @@ def _message(detail: Any) -> str:
         if detail["input"] is None and " " in str(detail["loc"][-1]):
             return ("unknown field: looks like the rest of a text cut at a comma inside "
                     "{ }; put that text in quotes")
-        return "unknown field (check its spelling; `workpack schema plant` lists the fields)"
+        return "unknown field (check its spelling; `workpack schema` lists the fields)"
     if kind == "missing":
         return "required field is missing"
     if kind in ("enum", "literal_error"):
@@ -92,6 +114,74 @@ def load_plant_text(text: str, file: str) -> tuple[Plant, Topology]:
 
 def load_plant(path: Path) -> tuple[Plant, Topology]:
     return load_plant_text(read_text(path), str(path))
+
+
+def load_findings_text(text: str, file: str, topology: Topology) -> Findings:
+    """Parse findings (YAML, or CSV when ``file`` ends in .csv) and check them against a plant."""
+    if file.lower().endswith(".csv"):
+        data, marks = findings_from_csv(text, file, topology.plant.plant.phase_labels)
+    else:
+        data, marks = parse_yaml(text, file)
+    findings = validate(Findings, data, marks, "findings file")
+    mismatches = list(check_findings(findings, topology))
+    if mismatches:
+        raise InputError(marks.problem(m.path, m.message) for m in mismatches)
+    return findings
+
+
+def load_findings(path: Path, topology: Topology) -> Findings:
+    return load_findings_text(read_text(path), str(path), topology)
+
+
+# Columns of a rounds-log CSV besides the three phase columns (named by the plant's
+# phase labels). Empty cells are left out.
+CSV_COLUMNS = ("id", "at", "by", "where", "kind", "reading", "test_voltage", "temperature",
+               "duration", "note")
+
+
+def findings_from_csv(text: str, file: str,
+                      phase_labels: tuple[str, str, str]) -> tuple[dict[str, Any], Marks]:
+    """Rows of a rounds log to findings data, keeping each cell's line and column."""
+    import csv
+
+    rows = list(csv.reader(text.splitlines()))
+    if not rows:
+        raise InputError([Problem(file, 0, 0, "", "empty CSV file; expected a header row")])
+    header = [cell.strip() for cell in rows[0]]
+    allowed = set(CSV_COLUMNS) | set(phase_labels)
+    unknown = [name for name in header if name not in allowed]
+    if unknown:
+        column = header.index(unknown[0]) + 1
+        raise InputError([Problem(file, 1, column, "", f"unknown column {unknown[0]!r}; "
+                                  f"expected some of {', '.join(sorted(allowed))}")])
+    places: dict[tuple[str | int, ...], tuple[int, int]] = {}
+    findings: list[dict[str, Any]] = []
+    for line, row in enumerate(rows[1:], start=2):
+        if not any(cell.strip() for cell in row):
+            continue
+        index = len(findings)
+        entry: dict[str, Any] = {}
+        places[("findings", index)] = (line, 1)
+        phases: dict[str, str] = {}
+        for column, (name, cell) in enumerate(zip(header, row, strict=False), start=1):
+            cell = cell.strip()
+            if not cell:
+                continue
+            if name in phase_labels:
+                phases[name] = cell
+                places[("findings", index, "phases", name)] = (line, column)
+            else:
+                entry[name] = cell
+                places[("findings", index, name)] = (line, column)
+        if phases:
+            field = "lamps" if entry.get("kind") == "lamps" else "volts"
+            entry[field] = phases
+            for name in phases:
+                places[("findings", index, field, name)] = places.pop(
+                    ("findings", index, "phases", name))
+            places[("findings", index, field)] = (line, 1)
+        findings.append(entry)
+    return {"findings": findings}, TableMarks(file, places=places)
 
 
 def load_model(path: Path, model: type[Model], what: str,

@@ -61,6 +61,19 @@ class Marks:
         return Problem(self.file, line, column, format_path(path), message)
 
 
+@dataclass
+class TableMarks(Marks):
+    """Places of values read from a table (CSV): known up front, one per cell."""
+
+    places: dict[Path, tuple[int, int]] | None = None
+
+    def locate(self, path: Path, at_key: bool = False) -> tuple[int, int]:
+        places = self.places or {}
+        while path not in places and path:
+            path = path[:-1]
+        return places.get(path, (0, 0))
+
+
 def _child(node: yaml.Node, part: str | int) -> tuple[yaml.Node | None, yaml.Node] | None:
     """(key node, value node) of ``part`` inside ``node``, or None."""
     if isinstance(node, yaml.SequenceNode) and isinstance(part, int):
