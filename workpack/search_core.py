@@ -9,7 +9,9 @@ the expected cost, and the ratio table behind the order.
 The model, stated once:
 
 * Detection is perfect: opening a set clears the indication exactly when the ground lies
-  downstream of one of its members.
+  downstream of one of its members. (A vital load transferred to an alternate supply on
+  the same insulated system takes a ground in the load itself along with it; where that
+  matters the caller shapes the tree or the priors accordingly.)
 * A board's *remainder* (its prior minus its children's priors) is the chance that the
   ground is on the board's own bus or incoming cable, or that the indication is false.
   Then nothing clears and the level ends "not found at this level". With no remainder
@@ -61,13 +63,14 @@ from typing import Literal, TypeAlias
 from workpack.errors import WorkpackError, did_you_mean
 
 __all__ = [
+    "Branch",
+    "Candidate",
     "EXACT_HARD_LIMIT",
     "EXACT_LIMIT",
     "EXACT_WORK_LIMIT",
-    "PRIOR_TOLERANCE",
-    "Branch",
-    "Candidate",
     "LevelPlan",
+    "PRIOR_TOLERANCE",
+    "Preparation",
     "RatioRow",
     "SearchInputError",
     "SearchPlan",
@@ -589,7 +592,8 @@ def _solve_ordered(lv: _Level, order: list[int], max_group: int) -> _Ordered:
 
     The "does not clear" chain tests runs from the front; a run that clears is split in
     two (the prefix or the suffix is opened, whichever is cheaper) until one candidate
-    is left. Runs are at most ``span`` long so that the work stays near _HEURISTIC_WORK.
+    is left. Runs are at most ``longest`` long so that the work stays near
+    _HEURISTIC_WORK split evaluations; within those limits the result is optimal.
     """
     n = len(order)
     q = [lv.q[i] for i in order]
@@ -884,9 +888,10 @@ def plan_search(
     check_tree(root)
 
     levels = [_make_level(node, root.prior) for node in _walk(root) if node.children]
+    singles = max_group_size == 1
     cap = max_group_size or max((lv.n for lv in levels), default=1)
     exact: set[int] = set()
-    if cap > 1:
+    if not singles:
         budget = exact_work_limit
         by_reach = sorted(range(len(levels)), key=lambda j: (-levels[j].reach, levels[j].board.id))
         for j in by_reach:
@@ -899,7 +904,7 @@ def plan_search(
 
     plans = []
     for j, lv in enumerate(levels):
-        if cap <= 1:
+        if singles:
             plans.append(_level_plan(lv, _solve_singles(lv), "blackwell", 0.0))
         elif j in exact:
             _, tree = _solve_exact(lv, range(lv.n), lv.closed, cap)
