@@ -39,6 +39,7 @@ Path = tuple[str | int, ...]
 class Mismatch:
     path: Path
     message: str
+    related: Path | None = None  # another place the message refers to ("first given at")
 
 
 def locations(plant: Plant) -> dict[str, Path]:
@@ -59,9 +60,8 @@ def check_unique_ids(plant: Plant) -> Iterator[Mismatch]:
                 ids.append((element.detector.id, (section, index, "detector", "id")))
             for element_id, path in ids:
                 if element_id in seen:
-                    first = seen[element_id]
-                    yield Mismatch(path, f"id {element_id!r} is already used by "
-                                        f"{first[0]}[{first[1]}]; ids must be unique")
+                    yield Mismatch(path, f"id {element_id!r} is already used; ids must be "
+                                         "unique", related=seen[element_id])
                 else:
                     seen[element_id] = path
 

@@ -14,6 +14,8 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
+from pydantic import BaseModel
+
 from workpack.errors import UsageError, WorkpackError, did_you_mean
 
 
@@ -65,7 +67,8 @@ def _cmd_schema(args: argparse.Namespace) -> int:
     from workpack.model.findings import Findings
     from workpack.model.plant import Plant
 
-    model = {"plant": Plant, "findings": Findings}[args.what]
+    models: dict[str, type[BaseModel]] = {"plant": Plant, "findings": Findings}
+    model = models[args.what]
     schema = model.model_json_schema(by_alias=True)
     schema["title"] = f"workpack {args.what} file"
     sys.stdout.write(json.dumps(schema, indent=2, sort_keys=True, ensure_ascii=False) + "\n")

@@ -12,8 +12,8 @@ from typing import Any, TypeVar
 
 from pydantic import BaseModel, ValidationError
 
-from workpack.checks import check_findings, run_checks
-from workpack.errors import InputError, Problem
+from workpack.checks import Mismatch, check_findings, run_checks
+from workpack.errors import InputError, Problem, did_you_mean
 from workpack.model.findings import Findings
 from workpack.model.plant import Plant
 from workpack.topology import Topology
@@ -45,13 +45,24 @@ def validate(model: type[Model], data: Any, marks: Marks, what: str) -> Model:
     try:
         return model.model_validate(data)
     except ValidationError as error:
-        raise InputError(_problems(error, marks, data)) from None
+        raise InputError(_problems(error, marks, data, model)) from None
 
 
-def _problems(error: ValidationError, marks: Marks, data: Any) -> list[Problem]:
+def _problems(error: ValidationError, marks: Marks, data: Any,
+              model: type[BaseModel]) -> list[Problem]:
     problems = []
-    for detail in error.errors(include_url=False):
-        path = _data_path(detail["loc"], data)
+    details = error.errors(include_url=False)
+    paths = [_data_path(detail["loc"], data) for detail in details]
+    for detail, path in zip(details, paths, strict=True):
+        if detail["type"] == "too_short" and any(
+            other[: len(path)] == path and other != path for other in paths
+        ):
+            continue  # an item inside was refused; saying the list is short only misleads
+        if len(path) == 1 and detail["type"] == "extra_forbidden":
+            names = [f.alias or name for name, f in model.model_fields.items()]
+            problems.append(marks.problem(path, "unknown section" + did_you_mean(
+                str(path[0]), names), at_key=True))
+            continue
         problems.append(marks.problem(path, _message(detail),
                                       at_key=detail["type"] == "extra_forbidden"))
     return problems
@@ -89,6 +100,12 @@ def _message(detail: Any) -> str:
         return "unknown field (check its spelling; `workpack schema` lists the fields)"
     if kind == "missing":
         return "required field is missing"
+    if detail.get("input", "") is None and kind not in ("none_required",):
+        return "no value given (nothing after the colon)"
+    if kind in ("string_type",) and isinstance(detail.get("input"), int | float):
+        return f"expected text (got the number {detail['input']}); put it in quotes"
+    if "Keys should be strings" in message:
+        return "a field name must be text (a number stands where a name should)"
     if kind in ("enum", "literal_error"):
         expected = detail.get("ctx", {}).get("expected", "")
         return f"{detail['input']!r} is not allowed; expected {expected}"
@@ -97,8 +114,21 @@ def _message(detail: Any) -> str:
     if kind == "string_pattern_mismatch":
         return (f"{detail['input']!r} is not a valid id (letters, digits and _ . - /, "
                 "starting with a letter or digit)")
-    return f"{message} (got {detail['input']!r})" if "input" in detail and not isinstance(
-        detail["input"], dict | list) else message
+    if "input" in detail and not isinstance(detail["input"], dict | list):
+        shown = detail["input"]
+        return f"{message} (got {shown!r})" if isinstance(shown, str) else (
+            f"{message} (got {shown})")
+    return message
+
+
+def _located(marks: Marks, mismatches: list[Mismatch]) -> list[Problem]:
+    problems = []
+    for mismatch in mismatches:
+        message = mismatch.message
+        if mismatch.related is not None:
+            message += f" (first given on line {marks.locate(mismatch.related)[0]})"
+        problems.append(marks.problem(mismatch.path, message))
+    return problems
 
 
 def load_plant_text(text: str, file: str) -> tuple[Plant, Topology]:
@@ -107,7 +137,7 @@ def load_plant_text(text: str, file: str) -> tuple[Plant, Topology]:
     plant = validate(Plant, data, marks, "plant inventory")
     findings, topology = run_checks(plant)
     if findings:
-        raise InputError(marks.problem(f.path, f.message) for f in findings)
+        raise InputError(_located(marks, findings))
     assert topology is not None
     return plant, topology
 
@@ -125,7 +155,7 @@ def load_findings_text(text: str, file: str, topology: Topology) -> Findings:
     findings = validate(Findings, data, marks, "findings file")
     mismatches = list(check_findings(findings, topology))
     if mismatches:
-        raise InputError(marks.problem(m.path, m.message) for m in mismatches)
+        raise InputError(_located(marks, mismatches))
     return findings
 
 

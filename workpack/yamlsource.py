@@ -54,6 +54,8 @@ class Marks:
             key_node, node = found
             if at_key and position == len(path) - 1 and key_node is not None:
                 node = key_node
+            if getattr(node, "is_alias", False):
+                break  # what lies inside was written at the anchor, not here
         return (node.start_mark.line + 1, node.start_mark.column + 1)
 
     def problem(self, path: Path, message: str, at_key: bool = False) -> Problem:
@@ -130,6 +132,50 @@ _StrictLoader.add_constructor(
 )
 
 
+def _construct_timestamp(loader: Any, node: yaml.ScalarNode) -> Any:
+    try:
+        return yaml.constructor.SafeConstructor.construct_yaml_timestamp(loader, node)
+    except ValueError as error:  # 2026-02-30: the date library's words, with a place
+        raise yaml.constructor.ConstructorError(
+            None, None, f"{node.value!r} is not a real date or time ({error})",
+            node.start_mark) from None
+
+
+def _refuse_tag(loader: Any, suffix: str, node: yaml.Node) -> Any:
+    raise yaml.constructor.ConstructorError(
+        None, None, f"tag {node.tag!r} is not allowed: write plain values only",
+        node.start_mark)
+
+
+class _AliasPlacingLoader(_StrictLoader if _SafeBase is yaml.SafeLoader  # type: ignore[misc]
+                          else yaml.SafeLoader):
+    """Pure-Python loader that gives each alias use its own place.
+
+    libyaml hands back the anchored node itself for ``*alias``, so an error
+    in a value reached through an alias would point at the anchor. Files with
+    anchors are rare and small; they take this slower path.
+    """
+
+    def compose_node(self, parent: Any, index: Any) -> Any:
+        if self.check_event(yaml.events.AliasEvent):
+            event = self.peek_event()
+            node = super().compose_node(parent, index)
+            placed = type(node)(node.tag, node.value, event.start_mark, event.end_mark)
+            placed.is_alias = True  # type: ignore[attr-defined]
+            return placed
+        return super().compose_node(parent, index)
+
+
+for _loader in (_StrictLoader, _AliasPlacingLoader):
+    _loader.add_constructor("tag:yaml.org,2002:timestamp", _construct_timestamp)
+    _loader.add_multi_constructor("!", _refuse_tag)
+    _loader.add_multi_constructor("tag:", _refuse_tag)
+_AliasPlacingLoader.add_constructor(
+    yaml.resolver.BaseResolver.DEFAULT_MAPPING_TAG,
+    _construct_mapping,  # type: ignore[arg-type]
+)
+
+
 def _expanded_size(root: yaml.Node) -> int:
     """Number of nodes after every alias is expanded, computed without expanding."""
     sizes: dict[int, int] = {}
@@ -157,6 +203,22 @@ def _expanded_size(root: yaml.Node) -> int:
     return size(root)
 
 
+def _yaml_problem(error: yaml.MarkedYAMLError, file: str) -> Problem:
+    """One line for a YAML error, at the place a person should look."""
+    mark = error.problem_mark or error.context_mark
+    what = error.problem or error.context or "malformed YAML"
+    context = error.context or ""
+    if "flow" in context and error.context_mark is not None:
+        # An unclosed [ or {: the parser notices lines later; show where it opened.
+        mark = error.context_mark
+        bracket = "{" if context.endswith("mapping") else "["
+        what += f" (a '{bracket}' opened here is not closed)"
+    elif "expected" in what and "block" in context:
+        what += " (check the indentation of this line against the lines above)"
+    line, column = (mark.line + 1, mark.column + 1) if mark else (0, 0)
+    return Problem(file, line, column, "", f"YAML: {what}")
+
+
 def parse_yaml(text: str, file: str) -> tuple[Any, Marks]:
     """Parse YAML text into plain data and the marks of every value.
 
@@ -166,7 +228,7 @@ def parse_yaml(text: str, file: str) -> tuple[Any, Marks]:
     if len(text.encode("utf-8", "surrogatepass")) > MAX_FILE_BYTES:
         raise InputError([Problem(file, 0, 0, "", f"file is larger than {MAX_FILE_BYTES} bytes")])
     try:
-        loader = _StrictLoader(text)
+        loader = (_AliasPlacingLoader if "*" in text and "&" in text else _StrictLoader)(text)
         try:
             root = loader.get_single_node()
             if root is None:
@@ -183,10 +245,7 @@ def parse_yaml(text: str, file: str) -> tuple[Any, Marks]:
         finally:
             loader.dispose()
     except yaml.MarkedYAMLError as error:
-        mark = error.problem_mark or error.context_mark
-        line, column = (mark.line + 1, mark.column + 1) if mark else (0, 0)
-        what = error.problem or error.context or "malformed YAML"
-        raise InputError([Problem(file, line, column, "", f"YAML: {what}")]) from None
+        raise InputError([_yaml_problem(error, file)]) from None
     except yaml.YAMLError as error:
         raise InputError([Problem(file, 0, 0, "", f"YAML: {error}")]) from None
     except RecursionError:

@@ -20,6 +20,7 @@ from pydantic import (
     BaseModel,
     ConfigDict,
     Field,
+    ValidationInfo,
     WithJsonSchema,
     field_validator,
     model_validator,
@@ -143,9 +144,13 @@ class Routine(Strict):
     @field_validator("every")
     @classmethod
     def _interval(cls, value: str) -> str:
-        if not _INTERVAL.match(value):
+        match = _INTERVAL.match(value)
+        if not match:
             raise ValueError(f"expected an interval such as '6 months' or '30 days' "
                              f"(got {value!r})")
+        if int(match.group(1)) == 0:
+            raise ValueError(f"an interval of {value!r} would make the test due for ever; "
+                             "give at least 1 day")
         return value
 
     @property
@@ -232,9 +237,21 @@ class Detector(Strict):
     def _monitor_has_alarm(self) -> Detector:
         if self.kind is DetectorKind.insulation_monitor and self.alarm is None:
             raise ValueError("an insulation_monitor needs its alarm setting (e.g. alarm: 22 kΩ)")
-        if self.kind is not DetectorKind.insulation_monitor and self.alarm is not None:
-            raise ValueError(f"alarm is a setting of an insulation_monitor, not of {self.kind}")
+        if self.kind is not DetectorKind.insulation_monitor and (
+            self.alarm is not None or self.prewarning is not None
+        ):
+            raise ValueError(f"alarm and prewarning are settings of an insulation_monitor, "
+                             f"not of {self.kind}")
         return self
+
+    @field_validator("prewarning")
+    @classmethod
+    def _prewarning_above_alarm(cls, value: float | None, info: ValidationInfo) -> float | None:
+        alarm = info.data.get("alarm")
+        if value is not None and alarm is not None and value <= alarm:
+            raise ValueError(f"prewarning ({value:g} Ω) must be above the alarm ({alarm:g} Ω): "
+                             "resistance falls past the prewarning first")
+        return value
 
 
 class BusKind(StrEnum):

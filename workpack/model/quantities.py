@@ -39,37 +39,39 @@ def _not_negative(value: float) -> float:
     return value
 
 
-def _within(low: float, high: float, what: str) -> AfterValidator:
+def _within(low: float, high: float, what: str, kind: str, example: str) -> AfterValidator:
+    unit = DIMENSIONS[kind][0]
+
     def check(value: float) -> float:
         if not low <= value <= high:
-            raise ValueError(f"{value:g} is not a plausible {what} "
-                             f"(expected {low:g} to {high:g} in SI units)")
+            raise ValueError(f"{value:g} {unit} is not a plausible {what} (expected {low:g} "
+                             f"to {high:g} {unit}); a bare number is read in {unit}: write "
+                             f"the unit, e.g. '{value:g} {example.split()[-1]}'")
         return value
 
     return AfterValidator(check)
 
 
+def _bounded(kind: str, low: float, high: float, what: str, example: str) -> Any:
+    """A float field of ``kind`` that must lie in [low, high] (SI)."""
+    return Annotated[float, _reader(kind), _within(low, high, what, kind, example),
+                     _schema(kind, example)]
+
+
+def _unbounded(kind: str, check: Any, example: str) -> Any:
+    return Annotated[float, _reader(kind), AfterValidator(check), _schema(kind, example)]
+
+
 # Bounds reject impossible values and slipped units (2.2 for 2.2 µF), not rare ones.
-Volts = Annotated[float, _reader("voltage"), _within(1.0, 1.0e6, "voltage"),
-                  _schema("voltage", "440 V")]
-Amperes = Annotated[float, _reader("current"), AfterValidator(_positive),
-                    _schema("current", "63 A")]
-Ohms = Annotated[float, _reader("resistance"), AfterValidator(_not_negative),
-                 _schema("resistance", "22 kΩ")]
-Farads = Annotated[float, _reader("capacitance"), _within(0.0, 1.0e-2, "capacitance"),
-                   _schema("capacitance", "47 nF")]
-FaradsPerMetre = Annotated[float, _reader("capacitance_per_length"),
-                           _within(0.0, 1.0e-8, "capacitance per metre"),
-                           _schema("capacitance_per_length", "150 pF/m")]
-Metres = Annotated[float, _reader("length"), _within(0.0, 1.0e6, "length"),
-                   _schema("length", "150 m")]
-SquareMetres = Annotated[float, _reader("area"), _within(1.0e-8, 1.0e-2, "conductor area"),
-                         _schema("area", "2.5 mm2")]
-Hertz = Annotated[float, _reader("frequency"), _within(1.0, 1000.0, "frequency"),
-                  _schema("frequency", "60 Hz")]
-Watts = Annotated[float, _reader("power"), AfterValidator(_positive),
-                  _schema("power", "25 kVA")]
-Seconds = Annotated[float, _reader("time"), AfterValidator(_positive),
-                    _schema("time", "10 min")]
-Celsius = Annotated[float, _reader("temperature"), _within(-60.0, 250.0, "temperature"),
-                    _schema("temperature", "20 °C")]
+Volts = _bounded("voltage", 1.0, 1.0e6, "voltage", "440 V")
+Farads = _bounded("capacitance", 0.0, 1.0e-2, "capacitance", "2.2 uF")
+FaradsPerMetre = _bounded("capacitance_per_length", 0.0, 1.0e-8, "capacitance per metre",
+                          "150 pF/m")
+Metres = _bounded("length", 0.0, 1.0e6, "length", "150 m")
+SquareMetres = _bounded("area", 1.0e-8, 1.0e-2, "conductor area", "2.5 mm2")
+Hertz = _bounded("frequency", 1.0, 1000.0, "frequency", "60 Hz")
+Celsius = _bounded("temperature", -60.0, 250.0, "temperature", "20 °C")
+Amperes = _unbounded("current", _positive, "63 A")
+Ohms = _unbounded("resistance", _not_negative, "22 kΩ")
+Watts = _unbounded("power", _positive, "25 kVA")
+Seconds = _unbounded("time", _positive, "10 min")
