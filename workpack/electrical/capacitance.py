@@ -19,6 +19,7 @@ class CableRun:
     name: str = ""
 
     def __post_init__(self) -> None:
+        """Refuse negative lengths and capacitances."""
         if not math.isfinite(self.length_m) or self.length_m < 0:
             raise ValueError(
                 f"cable {self.name or '(unnamed)'}: length must be zero or positive metres "

@@ -24,6 +24,8 @@ from dataclasses import dataclass
 
 from workpack.electrical.threephase import PhaseSequence, source_phasors
 
+_BOLTED_BELOW_OHM = 1e-100
+
 
 @dataclass(frozen=True)
 class Fault:
@@ -33,6 +35,7 @@ class Fault:
     resistance_ohm: float
 
     def __post_init__(self) -> None:
+        """Refuse negative or non-finite resistance."""
         if not math.isfinite(self.resistance_ohm) or self.resistance_ohm < 0:
             raise ValueError(
                 f"fault resistance on {self.phase} must be 0 (bolted) or a positive "
@@ -70,12 +73,16 @@ def _per_phase(
     value: Mapping[str, float] | float | None,
     seq: PhaseSequence,
     what: str,
+    partial: bool = False,
 ) -> dict[str, float | None]:
+    """One value per phase label from a number, a mapping or None (none)."""
     if value is None:
         return dict.fromkeys(seq.labels)
     if isinstance(value, Mapping):
-        seq.check_labels(list(value), what)
-        return {k: float(value[k]) for k in seq.labels}
+        unknown = sorted(set(value) - set(seq.labels))
+        if unknown or (not partial and len(value) != 3):
+            seq.check_labels(list(value), what)
+        return {k: None if value.get(k) is None else float(value[k]) for k in seq.labels}
     return dict.fromkeys(seq.labels, float(value))
 
 
@@ -90,14 +97,15 @@ def solve_ground(
     """Solve the earth node of an insulated system (V, A) for any capacitances and faults.
 
     ``capacitance_f`` is each phase's capacitance to earth (F; one number for all three or a
-    mapping by label); ``leakage_ohm`` each phase's insulation resistance to earth (Ω; None
-    for none); ``faults`` any number of faults on any phases, 0 Ω allowed. Two bolted faults
-    on different phases short the source through earth: the current is then set by
-    impedances this model does not hold, so that case is refused.
+    mapping by label); ``leakage_ohm`` each phase's insulation resistance to earth (Ω; None,
+    or a phase left out of the mapping, for none); ``faults`` any number of faults on any
+    phases, 0 Ω allowed. Two bolted faults on different phases short the source through
+    earth: the current is then set by impedances this model does not hold, so that case is
+    refused.
     """
     seq = PhaseSequence.parse(sequence)
     if not math.isfinite(line_voltage_v) or line_voltage_v <= 0:
-        raise ValueError(f"line voltage must be a positive number of volts (got {line_voltage_v!r})")
+        raise ValueError(f"line voltage must be positive volts (got {line_voltage_v!r})")
     if not math.isfinite(frequency_hz) or frequency_hz <= 0:
         raise ValueError(f"frequency must be a positive number of hertz (got {frequency_hz!r})")
     caps = _per_phase(capacitance_f, seq, "capacitance")
@@ -107,7 +115,7 @@ def solve_ground(
                 f"capacitance to earth of phase {label} must be zero or a positive number "
                 f"of farads (got {c!r})"
             )
-    leaks = _per_phase(leakage_ohm, seq, "leakage resistance")
+    leaks = _per_phase(leakage_ohm, seq, "leakage resistance", partial=True)
     for label, r in leaks.items():
         if r is not None and (math.isnan(r) or r <= 0):
             raise ValueError(
@@ -135,7 +143,8 @@ def solve_ground(
             branches.append((label, complex(1.0 / r)))
     fault_admittance: list[complex | None] = []
     for fault in faults:
-        if fault.resistance_ohm == 0:
+        # Below 1e-100 Ω a fault is bolted to double precision (and 1/R·E would overflow).
+        if fault.resistance_ohm < _BOLTED_BELOW_OHM:
             fault_admittance.append(None)
         else:
             fault_admittance.append(complex(1.0 / fault.resistance_ohm))
@@ -168,7 +177,15 @@ def solve_ground(
             )
         earth = sum((y * sources[p] for p, y in all_branches), 0j) / total
 
-    to_earth = {label: sources[label] - earth for label in seq.labels}
+    if bolted:
+        to_earth = {label: sources[label] - earth for label in seq.labels}
+    else:
+        # E_k - V_g written as Σ Y_b·(E_k - E_b)/Σ Y_b: differences of source phasors, so a
+        # near-bolted fault's small voltage keeps its precision (no cancellation).
+        to_earth = {
+            label: sum((y * (sources[label] - sources[p]) for p, y in all_branches), 0j) / total
+            for label in seq.labels
+        }
     currents: list[complex] = []
     for fault, y in zip(faults, fault_admittance, strict=True):
         if y is not None:

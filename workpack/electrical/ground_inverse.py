@@ -44,16 +44,19 @@ from workpack.electrical.threephase import PhaseSequence, line_to_neutral
 
 FloatArray = npt.NDArray[np.float64]
 IntArray = npt.NDArray[np.int64]
-BoolArray = npt.NDArray[np.bool_]
 
 _HALF_PI = math.pi / 2.0
 _SQRT3 = math.sqrt(3.0)
+# Highest voltage to earth a single ground can cause, per unit of V_LN: (1+√7)/2 ≈ 1.823,
+# on the leading healthy phase at 3ωC0·Rf ≈ 0.373 (derived from the locus).
+_LEADING_MAX = (1.0 + math.sqrt(7.0)) / 2.0
 _SLACK = 1e-9  # numerical allowance on "within tolerance"
-_GRID_COARSE = 65
-_GRID_FINE = 33
-_REFINEMENTS = 3
-_BISECTIONS = 32
-_WINDOW_TOLERANCES = 16.0  # search window half-width, in tolerances of arc length
+_GRID_WINDOW = 49  # points in the window around the trilaterated start
+_GRID_SWEEP = 49  # points sweeping the whole locus
+_GOLDEN_STEPS = 32  # shrinks the bracket by 0.618^32 ≈ 2e-7
+_INV_PHI = (math.sqrt(5.0) - 1.0) / 2.0
+_BISECTIONS = 26
+_WINDOW_TOLERANCES = 10.0  # search window half-width, in tolerances of arc length
 _CHUNK = 8192  # reading sets per block, to bound memory
 
 STATUS_NO_GROUND = 0
@@ -92,6 +95,7 @@ class MeterTolerance:
     absolute_v: float = 1.0
 
     def __post_init__(self) -> None:
+        """Refuse negative parts and a zero absolute part."""
         if not math.isfinite(self.relative) or self.relative < 0:
             raise ValueError(f"relative tolerance must be zero or positive (got {self.relative!r})")
         if not math.isfinite(self.absolute_v) or self.absolute_v <= 0:
@@ -121,8 +125,11 @@ class BatchDiagnosis:
     best: IntArray  # (N,) phase with the smallest misfit
 
 
-def _normalised_readings(theta: FloatArray) -> tuple[FloatArray, FloatArray, FloatArray]:
-    """Readings / V_LN of the (faulted, lagging, leading) phases at locus angle θ."""
+def locus_readings(theta: FloatArray) -> tuple[FloatArray, FloatArray, FloatArray]:
+    """Readings / V_LN of the (faulted, lagging, leading) phases at locus angle θ (rad).
+
+    θ = arctan(3ωC0·Rf): 0 for a bolted fault, π/2 for no fault.
+    """
     c = np.cos(theta)
     s = np.sin(theta)
     # 1 + cos²θ - 2 cosθ cos(120° ∓ θ), with cos(120° ∓ θ) = -cosθ/2 ± (√3/2) sinθ
@@ -138,11 +145,21 @@ def _minimax(theta: FloatArray, rho: FloatArray, inv_tau: FloatArray) -> FloatAr
 
     theta (n, 3, g); rho, inv_tau (n, 3, 3) = (row, hypothesis, role). Returns (n, 3, g).
     """
-    faulted, lag, lead = _normalised_readings(theta)
+    return _worst(*locus_readings(theta), rho, inv_tau)
+
+
+def _worst(
+    faulted: FloatArray, lag: FloatArray, lead: FloatArray, rho: FloatArray, inv_tau: FloatArray
+) -> FloatArray:
+    """``_minimax`` from readings already computed (broadcastable to (n, 3, g))."""
     worst = np.abs(faulted - rho[:, :, 0:1]) * inv_tau[:, :, 0:1]
     np.maximum(worst, np.abs(lag - rho[:, :, 1:2]) * inv_tau[:, :, 1:2], out=worst)
     np.maximum(worst, np.abs(lead - rho[:, :, 2:3]) * inv_tau[:, :, 2:3], out=worst)
     return worst
+
+
+_SWEEP = np.linspace(0.0, _HALF_PI, _GRID_SWEEP)
+_SWEEP_FAULTED, _SWEEP_LAG, _SWEEP_LEAD = (r[None, None, :] for r in locus_readings(_SWEEP))
 
 
 def _trilaterate(rho: FloatArray, tau: FloatArray, units: npt.NDArray[np.complex128]) -> tuple[
@@ -174,6 +191,47 @@ def _trilaterate(rho: FloatArray, tau: FloatArray, units: npt.NDArray[np.complex
     return g, misfit
 
 
+def _start(
+    grid: FloatArray, f_grid: FloatArray, window_step: FloatArray
+) -> tuple[FloatArray, FloatArray, FloatArray]:
+    """Best grid point, its value and a refinement step from its neighbours' spacing."""
+    idx = f_grid.argmin(axis=-1)
+    theta = np.take_along_axis(grid, idx[:, :, None], axis=-1)[:, :, 0]
+    value = np.take_along_axis(f_grid, idx[:, :, None], axis=-1)[:, :, 0]
+    last = grid.shape[-1] - 1
+    left = np.take_along_axis(grid, np.maximum(idx - 1, 0)[:, :, None], axis=-1)[:, :, 0]
+    right = np.take_along_axis(grid, np.minimum(idx + 1, last)[:, :, None], axis=-1)[:, :, 0]
+    # Duplicate points (θ = 0 in both window and sweep) must not shrink the step to 0.
+    return theta, value, np.maximum((right - left) / 2.0, window_step)
+
+
+def _refine(
+    theta: FloatArray, value: FloatArray, step: FloatArray, rho_h: FloatArray, inv_tau_h: FloatArray
+) -> tuple[FloatArray, FloatArray]:
+    """Golden-section search for the minimum within ±step of θ (any shape (n, k)).
+
+    Never returns worse than the starting point (the bracket need not be unimodal).
+    """
+    a = np.clip(theta - step, 0.0, _HALF_PI)
+    b = np.clip(theta + step, 0.0, _HALF_PI)
+    c = b - _INV_PHI * (b - a)
+    d = a + _INV_PHI * (b - a)
+    fc = _minimax(c[:, :, None], rho_h, inv_tau_h)[:, :, 0]
+    fd = _minimax(d[:, :, None], rho_h, inv_tau_h)[:, :, 0]
+    for _ in range(_GOLDEN_STEPS):
+        left = fc < fd  # the minimum lies in [a, d]
+        b = np.where(left, d, b)
+        a = np.where(left, a, c)
+        x = np.where(left, b - _INV_PHI * (b - a), a + _INV_PHI * (b - a))
+        fx = _minimax(x[:, :, None], rho_h, inv_tau_h)[:, :, 0]
+        c, d = np.where(left, x, d), np.where(left, c, x)
+        fc, fd = np.where(left, fx, fd), np.where(left, fc, fx)
+    cand = np.where(fc < fd, c, d)
+    cand_f = np.minimum(fc, fd)
+    better = cand_f < value
+    return np.where(better, cand, theta), np.where(better, cand_f, value)
+
+
 def _fit_block(
     rho: FloatArray, tau: FloatArray, units: npt.NDArray[np.complex128], perm: IntArray
 ) -> dict[str, npt.NDArray[np.generic]]:
@@ -183,7 +241,7 @@ def _fit_block(
 
     # Readings rearranged per hypothesis as (faulted, lagging, leading): (n, 3, 3).
     rho_h = rho[:, perm]
-    tau_h = 1.0 / tau[:, perm]  # inverse tolerances: multiply, not divide
+    inv_tau_h = 1.0 / tau[:, perm]  # multiply, not divide, in the hot loops
     tau_max = tau.max(axis=1)  # (n,)
 
     # Start each phase's search at the locus point nearest the trilaterated earth point.
@@ -197,26 +255,38 @@ def _fit_block(
     lo = np.maximum(theta0 - half, 0.0)
     hi = np.minimum(theta0 + half, _HALF_PI)
 
-    steps = np.linspace(0.0, 1.0, _GRID_COARSE)
-    grid = lo[:, :, None] + (hi - lo)[:, :, None] * steps  # (n, 3, G)
-    f_grid = _minimax(grid, rho_h, tau_h)
-    idx = f_grid.argmin(axis=-1)
-    best_theta = np.take_along_axis(grid, idx[:, :, None], axis=-1)[:, :, 0]
-    best_f = np.take_along_axis(f_grid, idx[:, :, None], axis=-1)[:, :, 0]
-    spacing = (hi - lo) / (_GRID_COARSE - 1)
-
-    fine_steps = np.linspace(-2.0, 2.0, _GRID_FINE)
-    step = spacing
-    for _ in range(_REFINEMENTS):
-        fine = np.clip(best_theta[:, :, None] + step[:, :, None] * fine_steps, 0.0, _HALF_PI)
-        f_fine = _minimax(fine, rho_h, tau_h)
-        j = f_fine.argmin(axis=-1)
-        cand_theta = np.take_along_axis(fine, j[:, :, None], axis=-1)[:, :, 0]
-        cand_f = np.take_along_axis(f_fine, j[:, :, None], axis=-1)[:, :, 0]
-        better = cand_f < best_f
-        best_theta = np.where(better, cand_theta, best_theta)
-        best_f = np.where(better, cand_f, best_f)
-        step = step * 4.0 / (_GRID_FINE - 1)
+    # A fine window around that start, plus a sparse sweep of the whole locus so that the
+    # best fit of readings far from any locus is not missed. Sorted, so that neighbours on
+    # the grid are neighbours on the locus.
+    steps = np.linspace(0.0, 1.0, _GRID_WINDOW)
+    window = lo[:, :, None] + (hi - lo)[:, :, None] * steps
+    # The sweep is the same for every row: its readings are computed once.
+    f_sweep = _worst(_SWEEP_FAULTED, _SWEEP_LAG, _SWEEP_LEAD, rho_h, inv_tau_h)
+    f_window = _minimax(window, rho_h, inv_tau_h)
+    unsorted = np.concatenate([window, np.broadcast_to(_SWEEP, (n, 3, _GRID_SWEEP))], axis=-1)
+    order = np.argsort(unsorted, axis=-1)
+    grid = np.take_along_axis(unsorted, order, axis=-1)  # (n, 3, G)
+    f_grid = np.take_along_axis(np.concatenate([f_window, f_sweep], axis=-1), order, axis=-1)
+    # Refine the best grid point, and the best one outside its neighbourhood (a second
+    # basin: the minimax of readings far from any locus can have two close minima).
+    window_step = (hi - lo) / (_GRID_WINDOW - 1)
+    best_theta, best_f, spacing = _start(grid, f_grid, window_step)
+    elsewhere = np.abs(grid - best_theta[:, :, None]) <= 1.5 * spacing[:, :, None]
+    other_theta, other_f, other_spacing = _start(
+        grid, np.where(elsewhere, np.inf, f_grid), window_step
+    )
+    both_theta, both_f = _refine(
+        np.concatenate([best_theta, other_theta], axis=1),
+        np.concatenate([best_f, other_f], axis=1),
+        np.concatenate([spacing, other_spacing], axis=1),
+        np.concatenate([rho_h, rho_h], axis=1),
+        np.concatenate([inv_tau_h, inv_tau_h], axis=1),
+    )
+    best_theta, other_theta = both_theta[:, :3], both_theta[:, 3:]
+    best_f, other_f = both_f[:, :3], both_f[:, 3:]
+    better = other_f < best_f
+    best_theta = np.where(better, other_theta, best_theta)
+    best_f = np.where(better, other_f, best_f)
 
     # Feasible interval: hull of the feasible coarse points and the best point, each end
     # refined by bisection against its infeasible neighbour on the coarse grid.
@@ -233,14 +303,14 @@ def _fit_block(
     # Infeasible neighbours: nearest coarse point strictly outside the seed.
     below = np.where(grid < seed_lo[:, :, None] - 1e-15, grid, -big).max(axis=-1)
     above = np.where(grid > seed_hi[:, :, None] + 1e-15, grid, big).min(axis=-1)
-    low_end = np.where(np.isfinite(below), below, lo)
-    high_end = np.where(np.isfinite(above), above, hi)
-    # If the seed already sits on the locus end (θ = 0 or π/2) the bound is that end.
+    # The sweep holds both locus ends, so "nothing outside" means the seed is an end.
+    low_end = np.where(np.isfinite(below), below, seed_lo)
+    high_end = np.where(np.isfinite(above), above, seed_hi)
     both = _bisect(
         np.concatenate([low_end, high_end], axis=1),
         np.concatenate([seed_lo, seed_hi], axis=1),
         np.concatenate([rho_h, rho_h], axis=1),
-        np.concatenate([tau_h, tau_h], axis=1),
+        np.concatenate([inv_tau_h, inv_tau_h], axis=1),
     )
     theta_lo, theta_hi = both[:, :3], both[:, 3:]
     theta_lo = np.where(any_ok, theta_lo, np.nan)
@@ -255,30 +325,30 @@ def _fit_block(
         "theta_lo": theta_lo,
         "theta_hi": theta_hi,
         "zero": zero,
-        "n": np.asarray(n),
     }
 
 
-def _bisect(outside: FloatArray, inside: FloatArray, rho_h: FloatArray, tau_h: FloatArray) -> (
+def _bisect(outside: FloatArray, inside: FloatArray, rho_h: FloatArray, inv_tau_h: FloatArray) -> (
     FloatArray
 ):
     """Boundary of the feasible set between an infeasible and a feasible θ, shape (n, k).
 
-    Where ``outside`` is itself feasible (the window or locus end), that end is returned.
+    Where ``outside`` is itself feasible (a locus end), that end is returned.
     """
-    f_out = _minimax(outside[:, :, None], rho_h, tau_h)[:, :, 0]
+    f_out = _minimax(outside[:, :, None], rho_h, inv_tau_h)[:, :, 0]
     end_feasible = f_out <= 1.0 + _SLACK
     a = outside.copy()
     b = inside.copy()
     for _ in range(_BISECTIONS):
         mid = 0.5 * (a + b)
-        ok = _minimax(mid[:, :, None], rho_h, tau_h)[:, :, 0] <= 1.0 + _SLACK
+        ok = _minimax(mid[:, :, None], rho_h, inv_tau_h)[:, :, 0] <= 1.0 + _SLACK
         b = np.where(ok, mid, b)
         a = np.where(ok, a, mid)
     return np.where(end_feasible, outside, b)
 
 
 def _theta_to_ratio(theta: FloatArray) -> FloatArray:
+    """x = tan θ (dimensionless), inf at θ = π/2 (no fault)."""
     with np.errstate(over="ignore", invalid="ignore"):
         ratio = np.tan(theta)
     return np.where(theta >= _HALF_PI - 1e-12, np.inf, ratio)
@@ -326,6 +396,7 @@ def diagnose_ground_batch(
     ]
 
     def cat(key: str) -> npt.NDArray[np.generic]:
+        """Join one result field across blocks."""
         if not parts:
             return np.zeros((0, 3)) if key.startswith(("misfit", "theta")) else np.zeros(0)
         return np.concatenate([p[key] for p in parts], axis=0)
@@ -369,6 +440,9 @@ class GroundDiagnosis:
 
     ``misfit`` is the consistency measure: the worst reading residual, in units of its meter
     tolerance, of the best single-fault explanation (≤ 1: explained within tolerance).
+    ``fault_ratio``, ``fault_resistance_ohm`` and ``fitted_readings_v`` describe that best
+    fit on ``best_fit_phase``; when ``consistent`` is False they are shown for the record
+    and must not be acted on (``grounded_phase`` is then None).
     """
 
     status: GroundStatus
@@ -399,8 +473,9 @@ class GroundDiagnosis:
 def _predicted(
     seq: PhaseSequence, v_ln: float, phase: str, ratio: float
 ) -> dict[str, float]:
+    """Readings (V) a single ground of ratio x on ``phase`` gives, by label."""
     theta = math.atan(ratio) if math.isfinite(ratio) else _HALF_PI
-    faulted, lag, lead = _normalised_readings(np.array(theta))
+    faulted, lag, lead = locus_readings(np.array(theta))
     return {
         phase: float(faulted) * v_ln,
         seq.lagging(phase): float(lag) * v_ln,
@@ -409,6 +484,7 @@ def _predicted(
 
 
 def _fmt_ohm(value: float) -> str:
+    """Ohms for a person: Ω, kΩ or MΩ to three figures."""
     if not math.isfinite(value):
         return "∞"
     if value >= 1e6:
@@ -465,6 +541,7 @@ def diagnose_ground(
     steps: list[str] = []
 
     def to_ohm(ratio: float) -> float | None:
+        """3ωC0·Rf to ohms, or None without capacitance."""
         return None if omega_c is None else ratio / omega_c
 
     grounded: str | None = None
@@ -529,9 +606,19 @@ def diagnose_ground(
                 "to earth, two grounds, a wrong phase sequence, a faulty meter, or a line "
                 "voltage other than the value given."
             )
+            ceiling = _LEADING_MAX * v_ln
+            over = [lbl for lbl in labels if readings[lbl] - tolerance_v[lbl] > ceiling]
+            if over:
+                notes.append(
+                    f"{', '.join(over)} reads above {ceiling:.0f} V, the most any single "
+                    f"ground can put on a phase ((1+√7)/2 × V_LN, derived): check the line "
+                    "voltage given and the meter."
+                )
             other = diagnose_ground_batch([values], line_voltage_v, seq.reversed(), tolerance)
+            alt = "-".join(seq.reversed().order)
+            other_best = int(other.best[0])
+            other_misfit = float(other.misfit[0, other_best])
             if int(other.status[0]) in (STATUS_SINGLE, STATUS_NO_GROUND):
-                alt = "".join(seq.reversed().order)
                 notes.append(
                     f"The readings do fit sequence {alt}"
                     + (
@@ -540,6 +627,12 @@ def diagnose_ground(
                         else ""
                     )
                     + ": check the declared phase sequence with a rotation meter."
+                )
+            elif other_misfit < 0.5 * misfit:
+                notes.append(
+                    f"The readings come closer to sequence {alt} with a ground on "
+                    f"{other.labels[other_best]} (worst residual {other_misfit:.2g} × "
+                    "tolerance): check the declared phase sequence with a rotation meter."
                 )
             steps.extend(
                 (

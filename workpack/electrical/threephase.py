@@ -18,11 +18,13 @@ _LABEL_TOKEN = re.compile(r"L\d|[A-Za-z]|\d")
 
 
 def _check_positive(name: str, value: float) -> None:
+    """ValueError unless ``value`` is positive and finite."""
     if not math.isfinite(value) or value <= 0:
         raise ValueError(f"{name} must be a positive finite number (got {value!r})")
 
 
 def _check_non_negative(name: str, value: float) -> None:
+    """ValueError unless ``value`` is zero or positive and finite."""
     if not math.isfinite(value) or value < 0:
         raise ValueError(f"{name} must be zero or a positive finite number (got {value!r})")
 
@@ -39,6 +41,7 @@ class PhaseSequence:
     order: tuple[str, str, str]
 
     def __post_init__(self) -> None:
+        """Refuse anything but three different labels."""
         if len(self.order) != 3 or len(set(self.order)) != 3:
             raise ValueError(
                 f"a phase sequence names three different phases (got {self.order!r})"

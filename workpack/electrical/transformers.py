@@ -18,6 +18,7 @@ _GROUP = re.compile(r"^(?P<hv>[DYZ])(?P<hvn>N?)(?P<lv>[dyz])(?P<lvn>n?)(?P<clock
 
 
 def _check_positive(name: str, value: float) -> None:
+    """ValueError unless ``value`` is positive and finite."""
     if not math.isfinite(value) or value <= 0:
         raise ValueError(f"{name} must be a positive finite number (got {value!r})")
 
@@ -64,6 +65,7 @@ class VectorGroup:
         return cls(hv, bool(match["hvn"]), lv, bool(match["lvn"]), clock)
 
     def __str__(self) -> str:
+        """The group as IEC 60076-1 writes it, e.g. 'Dyn11'."""
         return (
             f"{self.hv}{'N' if self.hv_neutral else ''}"
             f"{self.lv}{'n' if self.lv_neutral else ''}{self.clock}"
@@ -95,14 +97,17 @@ class VectorGroup:
 
 
 def _winding_voltage(line_voltage_v: float, connection: str) -> float:
+    """Voltage (V) across one winding for a line voltage (V) and connection."""
     return line_voltage_v if connection in ("D", "d") else line_voltage_v / SQRT3
 
 
 def _line_from_winding(winding_voltage_v: float, connection: str) -> float:
+    """Line voltage (V) from one winding's voltage (V) and connection."""
     return winding_voltage_v if connection in ("D", "d") else winding_voltage_v * SQRT3
 
 
 def _winding_current(line_current_a: float, connection: str) -> float:
+    """Current (A) in one winding for a line current (A) and connection."""
     return line_current_a / SQRT3 if connection in ("D", "d") else line_current_a
 
 
