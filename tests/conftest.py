@@ -13,3 +13,15 @@ from workpack.topology import Topology  # noqa: E402
 @pytest.fixture(scope="session")
 def demo_vessel() -> Topology:
     return load_plant(ROOT / "plants" / "demo-vessel.yaml")[1]
+
+
+@pytest.fixture(scope="session")
+def demo_site() -> Topology:
+    return load_plant(ROOT / "plants" / "demo-site.yaml")[1]
+
+
+@pytest.fixture(scope="session")
+def standards() -> dict:
+    from workpack.electrical import available_code_sets, load_code_set
+
+    return {name: load_code_set(name) for name in available_code_sets()}

@@ -9,6 +9,7 @@ from __future__ import annotations
 import argparse
 import dataclasses
 import json
+import math
 import sys
 from collections.abc import Sequence
 from pathlib import Path
@@ -30,6 +31,12 @@ def _to_json(value: Any) -> str:
             return sorted(items) if isinstance(obj, set | frozenset) else items
         if hasattr(obj, "value") and hasattr(obj, "name"):  # enums
             return obj.value
+        if isinstance(obj, complex):
+            return {"real": obj.real, "imag": obj.imag}
+        if isinstance(obj, float) and not math.isfinite(obj):
+            return None
+        if hasattr(obj, "isoformat"):
+            return obj.isoformat()
         return obj
 
     return json.dumps(plain(value), indent=2, sort_keys=True, ensure_ascii=False) + "\n"
@@ -60,6 +67,90 @@ def _cmd_isolate(args: argparse.Namespace) -> int:
         sys.stdout.write(_to_json(plan))
     else:
         sys.stdout.write(isolation_plan(plan, topology.elements[args.item].label))
+    return 0
+
+
+def _standards() -> dict[str, Any]:
+    from workpack.electrical import available_code_sets, load_code_set
+
+    return {name: load_code_set(name) for name in available_code_sets()}
+
+
+def _cmd_diagnose(args: argparse.Namespace) -> int:
+    quick = [args.volts, args.hertz, args.capacitance_per_phase, args.reading, args.sequence]
+    if args.volts is not None or args.reading:
+        if args.plant or args.findings:
+            raise UsageError("diagnose: give either PLANT FINDINGS or the quick options "
+                             "(--volts, --reading …), not both")
+        return _quick_diagnose(args)
+    if any(option is not None for option in quick):
+        raise UsageError("diagnose: quick mode needs --volts and three --reading options")
+    if not (args.plant and args.findings):
+        raise UsageError("diagnose: give PLANT FINDINGS, or quick mode: --volts 440 "
+                         "--hertz 60 --reading A=400 --reading B=60 --reading C=470")
+    from workpack.diagnose import diagnose_day
+    from workpack.loading import load_findings, load_plant
+    from workpack.render.text import day_diagnosis
+
+    plant, topology = load_plant(Path(args.plant))
+    findings = load_findings(Path(args.findings), topology)
+    result = diagnose_day(plant, topology, findings, _standards())
+    sys.stdout.write(_to_json(result) if args.json else day_diagnosis(result))
+    return 0
+
+
+def _quick_value(option: str, text: str, kind: str) -> float:
+    from workpack.units import UnitProblem, to_si
+
+    try:
+        number: Any = float(text)
+    except ValueError:
+        number = text
+    try:
+        return to_si(number, kind)
+    except UnitProblem as problem:
+        separator = "" if option.endswith("=") else " "
+        raise UsageError(f"{option}{separator}{text}: {problem}") from None
+
+
+def _quick_diagnose(args: argparse.Namespace) -> int:
+    from workpack.diagnose import summarize_readings
+    from workpack.electrical import MeterTolerance, diagnose_ground
+    from workpack.render.text import quick_diagnosis
+
+    volts = _quick_value("--volts", args.volts, "voltage")
+    if volts <= 0:
+        raise UsageError(f"--volts {args.volts}: must be above zero")
+    hertz = _quick_value("--hertz", args.hertz, "frequency") if args.hertz else None
+    capacitance = (_quick_value("--capacitance-per-phase", args.capacitance_per_phase,
+                                "capacitance") if args.capacitance_per_phase else None)
+    if capacitance is not None and hertz is None:
+        raise UsageError("--capacitance-per-phase needs --hertz to give a fault resistance")
+    if capacitance is not None and capacitance <= 0:
+        raise UsageError(f"--capacitance-per-phase {args.capacitance_per_phase}: must be "
+                         "above zero")
+    readings: dict[str, float] = {}
+    for reading in args.reading or []:
+        label, sep, value = reading.partition("=")
+        if not sep or not label.strip():
+            raise UsageError(f"--reading {reading}: expected PHASE=VOLTS, e.g. A=400")
+        if label.strip() in readings:
+            raise UsageError(f"--reading {reading}: phase {label.strip()} given twice")
+        readings[label.strip()] = _quick_value(f"--reading {label.strip()}=", value, "voltage")
+        if readings[label.strip()] < 0:
+            raise UsageError(f"--reading {reading}: a voltmeter reads no negative volts")
+    if len(readings) != 3:
+        raise UsageError(f"--reading: give one reading for each of three phases "
+                         f"(got {len(readings)})")
+    sequence = args.sequence or "-".join(sorted(readings))
+    try:
+        result = diagnose_ground(readings, volts, sequence, frequency_hz=hertz,
+                                 capacitance_f=capacitance,
+                                 tolerance=MeterTolerance(relative=args.tolerance / 100))
+    except ValueError as error:
+        raise UsageError(f"diagnose: {error}") from None
+    summary = summarize_readings(result)
+    sys.stdout.write(_to_json(summary) if args.json else quick_diagnosis(summary))
     return 0
 
 
@@ -94,6 +185,28 @@ def build_parser() -> argparse.ArgumentParser:
     isolate.add_argument("item", metavar="ITEM", help="element id")
     isolate.add_argument("--json", action="store_true", help="print JSON")
     isolate.set_defaults(run=_cmd_isolate)
+
+    diagnose = commands.add_parser(
+        "diagnose", help="diagnose a day's findings, or three readings at a switchboard")
+    diagnose.add_argument("plant", metavar="PLANT", nargs="?", help="plant inventory (YAML)")
+    diagnose.add_argument("findings", metavar="FINDINGS", nargs="?",
+                          help="findings (YAML, or CSV from a rounds log)")
+    diagnose.add_argument("--json", action="store_true", help="print JSON")
+    quick = diagnose.add_argument_group(
+        "quick mode", "three phase-to-earth readings, no plant file; units may be written "
+                      "with the number (2.2uF)")
+    quick.add_argument("--volts", help="line-to-line voltage of the system, e.g. 440")
+    quick.add_argument("--hertz", help="frequency, e.g. 60")
+    quick.add_argument("--capacitance-per-phase",
+                       help="each phase's capacitance to earth, e.g. 2.2e-6 or 2.2uF; "
+                            "without it only the displacement is found")
+    quick.add_argument("--reading", action="append", metavar="PHASE=VOLTS",
+                       help="one phase-to-earth reading, e.g. A=400 (give three)")
+    quick.add_argument("--sequence", help="phase sequence, e.g. ABC or ACB "
+                                          "(default: the order of the readings)")
+    quick.add_argument("--tolerance", type=float, default=1.0, metavar="PERCENT",
+                       help="meter accuracy, percent of reading, plus 1 V (default 1)")
+    diagnose.set_defaults(run=_cmd_diagnose)
 
     schema = commands.add_parser("schema", help="print the JSON Schema of an input file")
     schema.add_argument("what", choices=["plant", "findings"], help="which file")

@@ -174,7 +174,11 @@ def findings_from_csv(text: str, file: str,
     """Rows of a rounds log to findings data, keeping each cell's line and column."""
     import csv
 
-    rows = list(csv.reader(text.splitlines()))
+    lines = text.splitlines()
+    rows = list(csv.reader(lines))
+    if len(rows) != len(lines):
+        raise InputError([Problem(file, 0, 0, "", "a cell spans lines; keep each finding "
+                                                  "on one line of the CSV")])
     if not rows:
         raise InputError([Problem(file, 0, 0, "", "empty CSV file; expected a header row")])
     header = [cell.strip() for cell in rows[0]]
@@ -193,7 +197,9 @@ def findings_from_csv(text: str, file: str,
         entry: dict[str, Any] = {}
         places[("findings", index)] = (line, 1)
         phases: dict[str, str] = {}
-        for column, (name, cell) in enumerate(zip(header, row, strict=False), start=1):
+        starts = _cell_starts(lines[line - 1])
+        for position, (name, cell) in enumerate(zip(header, row, strict=False)):
+            column = starts[position] if position < len(starts) else 1
             cell = cell.strip()
             if not cell:
                 continue
@@ -212,6 +218,18 @@ def findings_from_csv(text: str, file: str,
             places[("findings", index, field)] = (line, 1)
         findings.append(entry)
     return {"findings": findings}, TableMarks(file, places=places)
+
+
+def _cell_starts(raw: str) -> list[int]:
+    """1-based character column where each cell of a CSV line begins."""
+    starts = [1]
+    quoted = False
+    for offset, char in enumerate(raw):
+        if char == '"':
+            quoted = not quoted
+        elif char == "," and not quoted:
+            starts.append(offset + 2)
+    return starts
 
 
 def load_model(path: Path, model: type[Model], what: str,

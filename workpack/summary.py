@@ -5,10 +5,10 @@ Pure: takes a validated plant and its topology, returns plain data.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 from workpack.checks import unwatched_islands
+from workpack.electrical import charging_current
 from workpack.model.plant import Cable, Load, Plant
 from workpack.topology import Island, Topology, element_of
 
@@ -74,14 +74,12 @@ def island_capacitance(plant: Plant, topology: Topology,
 
 
 def summarize(plant: Plant, topology: Topology) -> PlantSummary:
-    omega = 2 * math.pi * plant.plant.frequency
     islands = []
     for island in topology.normal_islands:
         capacitance, basis = island_capacitance(plant, topology, island)
         current = None
         if capacitance is not None and island.voltage is not None:
-            # Bolted ground on an insulated system: 3·ω·C0·V_LN (SOURCES.md, Mitolo ch. 9).
-            current = 3 * omega * capacitance * island.voltage / math.sqrt(3)
+            current = charging_current(island.voltage, plant.plant.frequency, capacitance)
         joiners = sorted(
             device for device in topology.normally_open
             if any(topology.island_of(n).id != island.id

@@ -172,6 +172,22 @@ class Topology:
             self._closable[kinds] = self._conducting(kinds, frozenset(), True)
         return self._closable[kinds]
 
+    @cached_property
+    def normal_children(self) -> dict[str, list[str]]:
+        """Element id → the elements it feeds in the normal state (across banks too)."""
+        children: dict[str, list[str]] = {}
+        for element_id in sorted(self.elements):
+            element = self.elements[element_id]
+            if not isinstance(element, FedElement):
+                continue
+            supplies = element.from_[:1] if (
+                isinstance(element, Device) and element.kind is DeviceKind.transfer_switch
+            ) else element.from_
+            for supply in supplies:
+                if supply in self.elements and supply not in self.normally_open:
+                    children.setdefault(supply, []).append(element_id)
+        return children
+
     # --- islands --------------------------------------------------------------------------
 
     def islands(self, open_devices: Iterable[str] | None = None) -> list[Island]:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from workpack.diagnose import DayDiagnosis, ReadingSummary
 from workpack.isolation import IsolationPlan
 from workpack.summary import PlantSummary
 
@@ -48,7 +49,9 @@ def plant_summary(summary: PlantSummary) -> str:
              f"{summary.element_count} elements; {len(summary.islands)} galvanic systems "
              "in the normal switching state", ""]
     for island in summary.islands:
-        detectors = ", ".join(island.detectors) or "NONE"
+        detectors = ", ".join(island.detectors) or (
+            "none needed (solidly grounded: a ground trips)" if island.earthing == "solid"
+            else "NONE")
         lines.append(f"{island.id}: {volts(island.voltage)} {island.earthing or 'unknown earthing'}"
                      f", {island.item_count} items, detector: {detectors}")
         if island.capacitance_per_phase is not None:
@@ -59,4 +62,60 @@ def plant_summary(summary: PlantSummary) -> str:
             lines.append(f"    joined to others when closed: {', '.join(island.joinable_by)}")
     for warning in summary.warnings:
         lines.append(f"WARNING: {warning}")
+    return "\n".join(lines) + "\n"
+
+
+def _ohms(value: float) -> str:
+    for scale, unit in ((1e9, "GΩ"), (1e6, "MΩ"), (1e3, "kΩ")):
+        if abs(value) >= scale:
+            return f"{value / scale:.3g} {unit}"
+    return f"{value:.3g} Ω"
+
+
+def quick_diagnosis(summary: ReadingSummary) -> str:
+    result = summary.best_fit
+    readings = ", ".join(f"{phase} {value:g} V" for phase, value in result.readings_v.items())
+    lines = [f"Readings: {readings} on a {result.line_voltage_v:g} V system "
+             f"(sequence {''.join(result.sequence.order)})",
+             f"Result: {result.status.value}",
+             f"Grounded phase: {result.grounded_phase or 'none identified'}"]
+    if result.candidate_phases and not result.grounded_phase:
+        lines.append("Phases that fit: " + ", ".join(result.candidate_phases))
+    if summary.fault_resistance_ohm is not None:
+        interval = summary.fault_resistance_interval_ohm
+        span = f" ({_ohms(interval[0])} to {_ohms(interval[1])})" if interval else ""
+        lines.append(f"Fault resistance: {_ohms(summary.fault_resistance_ohm)}{span}")
+    lines.append(f"Neutral shift: {summary.neutral_shift_v:.0f} V")
+    if summary.fault_current_a is not None:
+        lines.append(f"Ground current: {summary.fault_current_a:.3g} A")
+    lines.append(f"Consistent with a single ground: {'yes' if result.consistent else 'NO'}")
+    lines.extend(f"  - {note}" for note in result.notes)
+    if result.next_steps:
+        lines.append("Next:")
+        lines.extend(f"  - {step}" for step in result.next_steps)
+    return "\n".join(lines) + "\n"
+
+
+def day_diagnosis(day: DayDiagnosis) -> str:
+    lines = [f"{day.plant}: findings of {day.date or 'the day'}", ""]
+    if day.conclusions:
+        lines.append("Taken together:")
+        for conclusion in day.conclusions:
+            lines.append(f"  [{conclusion.severity.value.upper()}] {conclusion.text} "
+                         f"(findings {', '.join(conclusion.findings)})")
+        lines.append("")
+    for diagnosis in day.diagnoses:
+        lines.append(f"{diagnosis.finding} {diagnosis.at:%Y-%m-%d %H:%M} {diagnosis.where} "
+                     f"({diagnosis.kind.replace('_', ' ')}, by {diagnosis.by}) "
+                     f"[{diagnosis.severity.value.upper()}]")
+        lines.append(f"    {diagnosis.summary}")
+        if diagnosis.capacitance_per_phase_f is not None:
+            lines.append(f"    capacitance to earth used: "
+                         f"{diagnosis.capacitance_per_phase_f * 1e6:.3g} µF per phase "
+                         f"({diagnosis.capacitance_basis})")
+        lines.extend(f"    - {note}" for note in diagnosis.notes)
+        lines.extend(f"    {word}: {text}" for word, text in diagnosis.cautions)
+        lines.extend(f"    next: {step}" for step in diagnosis.next_steps)
+    lines.append("")
+    lines.append("Local codes, the employer's safety rules and licensed practice prevail.")
     return "\n".join(lines) + "\n"

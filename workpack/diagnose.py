@@ -1,0 +1,543 @@
+"""A day's findings to diagnoses a supervisor can act on, and what they say together.
+
+Each finding is placed in its galvanic system (the island of the element or
+detector it names) and passed to the electrical calculations with the plant's
+own data: the system's line voltage and frequency, its phase sequence, the
+capacitance to earth estimated from its cables and equipment, the detector's
+meter accuracy, the code set the plant follows. Then the findings are read
+together: two grounds on different phases of one system, a ground on a
+transformer-fed system that the primary system's detector cannot see, a bank
+in open delta carrying more than it can. Pure: standards tables arrive loaded.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass, field
+from typing import Any
+
+from workpack.electrical import (
+    GroundDiagnosis,
+    GroundHazards,
+    LampDiagnosis,
+    MeterTolerance,
+    assess_insulation_monitor,
+    diagnose_ground,
+    diagnose_lamps,
+    ground_hazards,
+    judge_insulation,
+    judge_polarization_index,
+    line_to_neutral,
+    open_delta,
+)
+from workpack.electrical.standards import CodeSet
+from workpack.model.findings import (
+    BreakerTripped,
+    Defect,
+    Finding,
+    Findings,
+    LampsSeen,
+    Megger,
+    MonitorReading,
+    PhaseVoltages,
+    Severity,
+    TransformerUnit,
+)
+from workpack.model.plant import (
+    Bus,
+    Detector,
+    Device,
+    Element,
+    Load,
+    LoadKind,
+    Plant,
+    Transformer,
+    Vitality,
+)
+from workpack.summary import island_capacitance
+from workpack.topology import Island, Topology, element_of
+
+Standards = Mapping[str, CodeSet]
+
+# Findings are ranked by these; a second ground on another phase is the worst.
+SEVERITY_ORDER = {Severity.urgent: 0, Severity.high: 1, Severity.routine: 2, Severity.low: 3}
+
+# Voltmeters read ±(accuracy × reading + 1 V): the volt is the resolution of a
+# switchboard meter read by eye (common practice).
+METER_RESOLUTION_V = 1.0
+
+
+@dataclass(frozen=True)
+class Ground:
+    """A ground the findings point at: which system, which phase, how sure."""
+
+    island: str
+    phase: str | None  # None: a ground is present but its phase is not known
+    certain: bool  # False for a dim lamp or an ambiguous fit
+    finding: str
+    resistance_ohm: float | None = None
+
+
+@dataclass(frozen=True)
+class Diagnosis:
+    finding: str
+    kind: str
+    at: dt.datetime
+    by: str
+    where: str
+    island: str | None
+    system_voltage_v: float | None
+    severity: Severity
+    summary: str
+    notes: tuple[str, ...] = ()
+    next_steps: tuple[str, ...] = ()
+    cautions: tuple[tuple[str, str], ...] = ()  # (signal word, text)
+    ground: Ground | None = None
+    capacitance_per_phase_f: float | None = None
+    capacitance_basis: str = ""
+    # The calculation's own result, for reports and JSON (plain dataclasses).
+    detail: object | None = None
+    hazards: GroundHazards | None = None
+
+
+@dataclass(frozen=True)
+class Conclusion:
+    """What several findings say together."""
+
+    severity: Severity
+    island: str | None
+    text: str
+    findings: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class DayDiagnosis:
+    plant: str
+    date: dt.date | None
+    diagnoses: tuple[Diagnosis, ...]
+    conclusions: tuple[Conclusion, ...] = field(default=())
+
+    @property
+    def grounds(self) -> tuple[Ground, ...]:
+        return tuple(d.ground for d in self.diagnoses if d.ground is not None)
+
+
+# --- one finding ---------------------------------------------------------------------------
+
+
+def _island_of_place(topology: Topology, where: str) -> Island:
+    for island in topology.normal_islands:
+        if any(d.id == where for d in island.detectors):
+            return island
+    return topology.island_of(topology.node_in(where))
+
+
+def _detector(island: Island, where: str) -> Detector | None:
+    named = [d for d in island.detectors if d.id == where]
+    return named[0] if named else (island.detectors[0] if island.detectors else None)
+
+
+def diagnose_finding(plant: Plant, topology: Topology, finding: Finding,
+                     standards: Standards) -> Diagnosis:
+    """One finding in its system, through the calculation its kind calls for."""
+    island = _island_of_place(topology, finding.where)
+    base: dict[str, Any] = {
+        "finding": str(finding.id), "kind": finding.kind, "at": finding.at, "by": finding.by,
+        "where": finding.where, "island": island.id, "system_voltage_v": island.voltage,
+    }
+    if isinstance(finding, PhaseVoltages):
+        return _phase_voltages(plant, topology, island, finding, standards, base)
+    if isinstance(finding, LampsSeen):
+        return _lamps(plant, island, finding, base)
+    if isinstance(finding, MonitorReading):
+        return _monitor(island, finding, standards, base)
+    if isinstance(finding, Megger):
+        return _megger(plant, topology, finding, standards, base)
+    if isinstance(finding, TransformerUnit):
+        return _transformer_unit(topology, finding, base)
+    if isinstance(finding, BreakerTripped):
+        return _tripped(topology, finding, base)
+    assert isinstance(finding, Defect)
+    return Diagnosis(**base, severity=finding.severity, summary=finding.text)
+
+
+def _phase_voltages(plant: Plant, topology: Topology, island: Island, finding: PhaseVoltages,
+                    standards: Standards, base: dict[str, Any]) -> Diagnosis:
+    voltage = _system_voltage(island)
+    capacitance, basis = island_capacitance(plant, topology, island)
+    detector = _detector(island, finding.where)
+    percent = finding.meter_tolerance_percent or (
+        detector.meter_tolerance_percent if detector else 2.5)
+    result = diagnose_ground(
+        finding.volts, voltage, "-".join(plant.plant.sequence), frequency_hz=plant.plant.frequency,
+        capacitance_f=capacitance,
+        tolerance=MeterTolerance(relative=percent / 100, absolute_v=METER_RESOLUTION_V),
+    )
+    hazards = ground_hazards(voltage, finding.volts, result.fault_current_a,
+                             intermittent=finding.intermittent,
+                             guides=standards.get("it-system-guides"))
+    ground = None
+    severity = Severity.low
+    if result.grounded_phase is not None or result.candidate_phases:
+        phase = result.grounded_phase
+        ground = Ground(island.id, phase, certain=phase is not None, finding=str(finding.id),
+                        resistance_ohm=result.fault_resistance_ohm)
+        severity = Severity.urgent if finding.intermittent else Severity.high
+    elif not result.consistent:
+        severity = Severity.high
+        ground = Ground(island.id, None, certain=False, finding=str(finding.id))
+    summary = _ground_summary(result, island)
+    return Diagnosis(
+        **base, severity=severity, summary=summary, notes=result.notes,
+        next_steps=result.next_steps,
+        cautions=tuple((n.signal_word, n.text) for n in hazards.notes), ground=ground,
+        capacitance_per_phase_f=capacitance, capacitance_basis=basis, detail=result,
+        hazards=hazards,
+    )
+
+
+def _ground_summary(result: GroundDiagnosis, island: Island) -> str:
+    where = f"{island.id} system ({_volts(island.voltage)})"
+    if result.status.value == "no ground detected":
+        return f"no ground detected on the {where}"
+    if result.grounded_phase is not None:
+        text = f"phase {result.grounded_phase} grounded on the {where}"
+        if result.fault_resistance_ohm is not None and result.fault_resistance_interval_ohm:
+            low, high = result.fault_resistance_interval_ohm
+            text += (f", fault resistance about {_ohms(result.fault_resistance_ohm)} "
+                     f"({_ohms(low)} to {_ohms(high)})")
+        if result.fault_current_a is not None:
+            text += f", ground current about {result.fault_current_a:.2g} A"
+        if result.lowest_reading_phase != result.grounded_phase:
+            text += (f"; note: the lowest reading is on phase {result.lowest_reading_phase}, "
+                     "a healthy phase (high-resistance ground)")
+        return text
+    if result.consistent:
+        return (f"ground on the {where}, phase not certain: "
+                + " or ".join(result.candidate_phases))
+    return (f"readings on the {where} fit no single ground "
+            f"(best fit: phase {result.best_fit_phase}); check meter, line voltage and "
+            "phase sequence, or suspect two grounds")
+
+
+def _lamps(plant: Plant, island: Island, finding: LampsSeen,
+           base: dict[str, Any]) -> Diagnosis:
+    states = {phase: state.value for phase, state in finding.lamps.items()}
+    result: LampDiagnosis = diagnose_lamps(states, "-".join(plant.plant.sequence))
+    grounded = bool(result.suspected_phases)
+    ground = None
+    if grounded:
+        certain = len(result.suspected_phases) == 1 and result.confidence.value == "high"
+        ground = Ground(island.id, result.suspected_phases[0] if certain else None,
+                        certain=certain, finding=str(finding.id))
+    severity = (Severity.urgent if grounded and finding.intermittent
+                else Severity.high if grounded else Severity.low)
+    notes = [f"confidence: {result.confidence.value}"]
+    if not finding.test_button_pressed:
+        notes.append("lamps were read without the test button pressed")
+    return Diagnosis(**base, severity=severity, summary=result.finding, notes=tuple(notes),
+                     next_steps=(result.next_step,), ground=ground, detail=result)
+
+
+def _monitor(island: Island, finding: MonitorReading, standards: Standards,
+             base: dict[str, Any]) -> Diagnosis:
+    detector = _detector(island, finding.where)
+    if detector is None or detector.alarm is None:
+        return Diagnosis(**base, severity=Severity.high,
+                         summary=f"insulation monitor reading {_ohms(finding.reading)}, but "
+                                 "the plant lists no monitor with an alarm setting here",
+                         next_steps=("add the monitor and its setting to the plant file",))
+    guides = standards["it-system-guides"]
+    factor = (detector.prewarning / detector.alarm) if detector.prewarning else 2.0
+    result = assess_insulation_monitor(
+        finding.reading, detector.alarm, _system_voltage(island),
+        guides.guide("insulation_monitor_response_per_volt").value, prewarning_factor=factor)
+    severity = {"alarm": Severity.high, "prewarning": Severity.routine}.get(
+        result.severity.value, Severity.low)
+    ground = (Ground(island.id, None, certain=False, finding=str(finding.id),
+                     resistance_ohm=finding.reading)
+              if result.severity.value == "alarm" else None)
+    return Diagnosis(
+        **base, severity=severity,
+        summary=(f"insulation monitor {detector.id}: {_ohms(finding.reading)} "
+                 f"({result.severity.value}; alarm at {_ohms(detector.alarm)})"),
+        notes=(result.note,),
+        next_steps=(("find the circuit: the monitor shows the whole system's insulation, not "
+                     "the phase or the feeder",) if ground else ()),
+        ground=ground, detail=result)
+
+
+def equipment_family(element: Element) -> str:
+    """Which table judges an insulation test of this element (see the plant's code set)."""
+    if isinstance(element, Load) and (element.kind in (LoadKind.motor, LoadKind.deck_machinery)
+                                      or element.winding is not None):
+        return "rotating_machines"
+    if isinstance(element, Transformer | Bus | Device):
+        return "apparatus"
+    return "installations"
+
+
+def insulation_code_set(plant: Plant, element: Element, standards: Standards) -> CodeSet:
+    family = equipment_family(element)
+    return standards[getattr(plant.plant.code_set, family)]
+
+
+def rated_voltage(topology: Topology, element: Element) -> float:
+    """Rated line-to-line voltage of an element, V: its own, else its system's."""
+    if isinstance(element, Load) and element.rated_voltage:
+        return element.rated_voltage
+    if isinstance(element, Transformer):
+        return max(element.primary_voltage, element.secondary_voltage)
+    return _system_voltage(topology.island_of(topology.node_in(element.id)))
+
+
+def _megger(plant: Plant, topology: Topology, finding: Megger, standards: Standards,
+            base: dict[str, Any]) -> Diagnosis:
+    element = topology.elements[finding.where]
+    code_set = insulation_code_set(plant, element, standards)
+    voltage = rated_voltage(topology, element)
+    winding = element.winding.value if isinstance(element, Load) and element.winding else None
+    judgement = judge_insulation(code_set, finding.reading, finding.temperature, voltage,
+                                 winding=winding)
+    notes = []
+    compared = _ohms(judgement.value_ohm)
+    if judgement.corrected is not None:
+        compared += f" at {judgement.corrected.reference_c:g} °C"
+        notes.append(f"{_ohms(finding.reading)} at {finding.temperature:g} °C corrected by "
+                     f"×{judgement.corrected.factor:.3g} ({judgement.corrected.citation})")
+    pi_fails = False
+    if finding.reading_10min is not None and isinstance(element, Load) and (
+        element.insulation_class
+    ):
+        pi = judge_polarization_index(code_set, finding.reading, finding.reading_10min,
+                                      element.insulation_class)
+        notes.append(f"polarization index {pi.index:.2f} (minimum {pi.minimum:g}): {pi.note}")
+        pi_fails = pi.passes is False
+    passes = judgement.passes and not pi_fails
+    verdict = "passes" if passes else "BELOW the minimum"
+    summary = (f"{element.label}: insulation {compared} {verdict} "
+               f"{_ohms(judgement.minimum.minimum_ohm)} ({judgement.minimum.citation})")
+    return Diagnosis(
+        **base, severity=Severity.low if passes else Severity.high, summary=summary,
+        notes=tuple(notes),
+        next_steps=() if passes else (
+            f"isolate {element.id}, test its sections separately, dry out or repair",),
+        detail=judgement)
+
+
+def _transformer_unit(topology: Topology, finding: TransformerUnit,
+                      base: dict[str, Any]) -> Diagnosis:
+    bank = topology.elements[finding.where]
+    assert isinstance(bank, Transformer) and bank.unit_kva is not None
+    loads = downstream_loads(topology, bank.id)
+    vital = [load.id for load in loads if load.vitality is Vitality.vital]
+    if finding.state.value != "failed":
+        return Diagnosis(**base, severity=Severity.high,
+                         summary=f"{bank.label}: unit {finding.unit} {finding.state.value}",
+                         next_steps=("measure the unit's load and temperature; plan its "
+                                     "replacement before it fails",))
+    if not bank.vector_group.startswith("D") or bank.vector_group[1] != "d":
+        return Diagnosis(
+            **base, severity=Severity.urgent,
+            summary=(f"{bank.label} ({bank.vector_group}) lost unit {finding.unit}: it has no "
+                     "open-delta fall-back; its secondary systems are lost until replaced"),
+            notes=(f"vital loads affected: {', '.join(vital)}" if vital else "no vital loads",),
+            next_steps=("transfer vital loads to their alternate supply; replace the unit",))
+    load_va, basis = (finding.load, "measured") if finding.load else (
+        connected_load_va(loads), "connected load (rated kVA or kW as kVA, no diversity)")
+    check = open_delta([bank.unit_kva] * 3, failed_unit=0, load_va=load_va,
+                       vector_group=bank.vector_group)
+    fits = check.load_fits
+    summary = (f"{bank.label} in open delta: capacity {check.open_delta_capacity_va / 1e3:.1f} "
+               f"kVA ({check.fraction_of_closed_bank:.1%} of {check.closed_bank_va / 1e3:g} kVA)"
+               f"; load {load_va / 1e3:.1f} kVA ({basis}) "
+               + ("fits" if fits else f"exceeds it: shed {check.load_to_shed_va / 1e3:.1f} kVA"))
+    return Diagnosis(
+        **base, severity=Severity.high if fits else Severity.urgent, summary=summary,
+        notes=(f"each remaining unit carries {check.unit_load_va[0] / 1e3:.1f} kVA "
+               f"({check.unit_loading_fraction[0]:.0%} of its rating)",),
+        next_steps=(("keep the load within the open-delta capacity; replace the unit",)
+                    if fits else (f"shed {check.load_to_shed_va / 1e3:.1f} kVA now "
+                                  "(non-essential loads first); replace the unit",)),
+        detail=check)
+
+
+def _tripped(topology: Topology, finding: BreakerTripped, base: dict[str, Any]) -> Diagnosis:
+    loads = downstream_loads(topology, finding.where)
+    vital = [load.id for load in loads if load.vitality is Vitality.vital]
+    what = f"{finding.where} found tripped"
+    what += f" ({finding.indication})" if finding.indication else " with no indication"
+    return Diagnosis(
+        **base, severity=Severity.high if vital else Severity.routine,
+        summary=what + (f"; vital loads without supply: {', '.join(vital)}" if vital else ""),
+        next_steps=("do not reset again before the circuit is tested: isolate, insulation-test "
+                    "and inspect the downstream circuit",) if finding.reset_attempted else (
+            "isolate and insulation-test the downstream circuit before resetting",))
+
+
+# --- plant facts used above -------------------------------------------------------------------
+
+
+def downstream_loads(topology: Topology, element_id: str) -> list[Load]:
+    """Loads that lose supply when ``element_id`` is opened (normal state, through banks)."""
+    children: dict[str, list[str]] = topology.normal_children
+    seen = {element_id}
+    stack = [element_id]
+    loads: list[Load] = []
+    while stack:
+        node = stack.pop()
+        for child in children.get(node, ()):
+            if child not in seen:
+                seen.add(child)
+                stack.append(child)
+                element = topology.elements[child]
+                if isinstance(element, Load):
+                    loads.append(element)
+    return sorted(loads, key=lambda load: load.id)
+
+
+def connected_load_va(loads: Iterable[Load]) -> float:
+    """Sum of rated kVA (or kW taken as kVA), VA: an upper estimate with no diversity."""
+    return sum(load.rated_kva or load.rated_kw or 0.0 for load in loads)
+
+
+def _system_voltage(island: Island) -> float:
+    if island.voltage is None:
+        raise ValueError(f"system {island.id} has no known voltage")
+    return island.voltage
+
+
+def _ohms(value: float) -> str:
+    for scale, unit in ((1e9, "GΩ"), (1e6, "MΩ"), (1e3, "kΩ")):
+        if abs(value) >= scale:
+            return f"{value / scale:.3g} {unit}"
+    return f"{value:.3g} Ω"
+
+
+def _volts(value: float | None) -> str:
+    return "unknown voltage" if value is None else f"{value:g} V"
+
+
+# --- the day ------------------------------------------------------------------------------------
+
+
+def diagnose_day(plant: Plant, topology: Topology, findings: Findings,
+                 standards: Standards) -> DayDiagnosis:
+    """Every finding diagnosed, then the conclusions they support together."""
+    diagnoses = tuple(diagnose_finding(plant, topology, f, standards)
+                      for f in findings.findings)
+    return DayDiagnosis(plant=plant.plant.name, date=findings.date, diagnoses=diagnoses,
+                        conclusions=tuple(conclude(topology, diagnoses)))
+
+
+def conclude(topology: Topology, diagnoses: Iterable[Diagnosis]) -> list[Conclusion]:
+    diagnoses = list(diagnoses)
+    conclusions: list[Conclusion] = []
+    grounds: dict[str, list[Ground]] = {}
+    for diagnosis in diagnoses:
+        if diagnosis.ground is not None:
+            grounds.setdefault(diagnosis.ground.island, []).append(diagnosis.ground)
+    for island_id, found in sorted(grounds.items()):
+        phases = sorted({g.phase for g in found if g.phase is not None and g.certain})
+        ids = tuple(g.finding for g in found)
+        island = _island_by_id(topology, island_id)
+        if len(phases) >= 2:
+            conclusions.append(Conclusion(
+                Severity.urgent, island_id,
+                f"grounds on phases {' and '.join(phases)} of the {island_id} system "
+                f"({_volts(island.voltage)}): a phase-to-phase fault through earth is waiting "
+                "to happen; find and clear one before anything else",
+                ids))
+        feeding = _feeding_transformers(topology, island)
+        if feeding:
+            primaries = sorted({topology.island_of(f"{t}:primary").id for t in feeding})
+            conclusions.append(Conclusion(
+                Severity.high, island_id,
+                f"the ground on the {island_id} system is behind transformer "
+                f"{', '.join(feeding)}: the detector of the {', '.join(primaries)} system "
+                "cannot see it; only this system's own detector shows it", ids))
+        if not island.detectors:
+            conclusions.append(Conclusion(
+                Severity.high, island_id,
+                f"no ground detector watches the {island_id} system: the ground was found "
+                "another way and its return will not be seen", ids))
+        conclusions.extend(_joining_ties(topology, island_id, grounds))
+    for diagnosis in diagnoses:
+        if diagnosis.kind == "transformer_unit" and diagnosis.severity is Severity.urgent:
+            conclusions.append(Conclusion(Severity.urgent, diagnosis.island, diagnosis.summary,
+                                          (diagnosis.finding,)))
+    return sorted(conclusions, key=lambda c: (SEVERITY_ORDER[c.severity], c.island or "",
+                                              c.text))
+
+
+def _joining_ties(topology: Topology, island_id: str,
+                  grounds: dict[str, list[Ground]]) -> list[Conclusion]:
+    """Normally open devices that would join this grounded system to another grounded one."""
+    found: list[Conclusion] = []
+    island = _island_by_id(topology, island_id)
+    for device in sorted(topology.normally_open):
+        sides = {topology.island_of(n).id for n in topology.graph.neighbors(device)
+                 if topology.graph.edges[device, n]["kind"] == "wiring"}
+        sides.add(topology.island_of(device).id)
+        if island_id in sides:
+            others = sorted(sides - {island_id})
+            for other in others:
+                if other in grounds and other > island_id:
+                    found.append(Conclusion(
+                        Severity.urgent, island_id,
+                        f"do not close {device}: it would join the grounded {island_id} and "
+                        f"{other} systems ({_volts(island.voltage)})",
+                        tuple(g.finding for g in grounds[island_id] + grounds[other])))
+    return found
+
+
+def _feeding_transformers(topology: Topology, island: Island) -> list[str]:
+    return sorted(element_of(n) for n in island.nodes if n.endswith(":secondary"))
+
+
+def _island_by_id(topology: Topology, island_id: str) -> Island:
+    return next(i for i in topology.normal_islands if i.id == island_id)
+
+
+@dataclass(frozen=True)
+class ReadingSummary:
+    """The answer to three readings at a switchboard, stated only as far as it is known.
+
+    Phase, resistance and current are given only when one single ground explains the
+    readings; otherwise they are null and ``best_fit`` says what came closest.
+    """
+
+    status: str
+    consistent: bool
+    grounded_phase: str | None
+    fault_resistance_ohm: float | None
+    fault_resistance_interval_ohm: tuple[float, float] | None
+    fault_current_a: float | None
+    neutral_shift_v: float
+    candidate_phases: tuple[str, ...]
+    lowest_reading_phase: str
+    best_fit: GroundDiagnosis
+
+
+def summarize_readings(result: GroundDiagnosis) -> ReadingSummary:
+    known = result.grounded_phase is not None
+    return ReadingSummary(
+        status=result.status.value, consistent=result.consistent,
+        grounded_phase=result.grounded_phase,
+        fault_resistance_ohm=result.fault_resistance_ohm if known else None,
+        fault_resistance_interval_ohm=result.fault_resistance_interval_ohm if known else None,
+        fault_current_a=result.fault_current_a if known else None,
+        neutral_shift_v=result.neutral_shift_v, candidate_phases=result.candidate_phases,
+        lowest_reading_phase=result.lowest_reading_phase, best_fit=result)
+
+
+def healthy_phase_to_earth(line_voltage_v: float) -> float:
+    """Each phase to earth on a healthy, balanced insulated system: V_LL/√3, V."""
+    return line_to_neutral(line_voltage_v)
+
+
+__all__ = ["Conclusion", "DayDiagnosis", "Diagnosis", "Ground", "ReadingSummary", "conclude",
+           "connected_load_va", "diagnose_day", "diagnose_finding", "downstream_loads",
+           "equipment_family", "healthy_phase_to_earth", "insulation_code_set", "rated_voltage",
+           "summarize_readings"]
