@@ -1,0 +1,154 @@
+"""A work package: everything a technician carries for one job, as plain data.
+
+The planner fills it; the PDF renderer and the JSON twin only lay it out; the
+results of the job are later judged against its own acceptance criteria, so
+every number a technician is asked to compare with is here, computed, with
+the source it came from. Quantities are SI (volts, ohms, amperes, metres,
+°C); ``unit`` says how to show them.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from enum import StrEnum
+from typing import Literal
+
+from pydantic import BaseModel, ConfigDict, Field
+
+
+class Plain(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+
+class SignalWord(StrEnum):
+    """Signal words as the open safety-sign standards use them."""
+
+    danger = "DANGER"
+    warning = "WARNING"
+    caution = "CAUTION"
+    notice = "NOTICE"
+
+
+class Caution(Plain):
+    signal_word: SignalWord
+    text: str
+    id: str | None = None  # the caution library entry it came from, if any
+
+
+class Limit(Plain):
+    """What a reading must be. Bounds in SI units; either may be open."""
+
+    low: float | None = None
+    high: float | None = None
+    basis: str  # where the numbers come from: "computed: 440 V / √3", "IEEE Std 43-2013 12.3"
+    temperature_corrected_to_c: float | None = None  # compare after correcting to this
+
+
+class Reading(Plain):
+    """One value the technician measures and writes down."""
+
+    id: str  # unique in the package, e.g. "S3.R1"
+    what: str  # "phase A to earth at MSB"
+    unit: Literal["V", "A", "Ω", "kΩ", "MΩ", "°C", "Hz", "kVA", "", "s"]
+    expected: float | None = None  # SI; None when only a limit applies
+    tolerance: float | None = None  # ± around expected, SI
+    limit: Limit | None = None
+    basis: str = ""  # source of ``expected``
+    needs_temperature: bool = False  # the record must also give the temperature
+
+
+class Step(Plain):
+    number: int
+    text: str
+    readings: tuple[Reading, ...] = ()
+    cautions: tuple[Caution, ...] = ()
+    check_only: bool = False  # a box to tick, no value to write
+
+
+class IsolationPoint(Plain):
+    order: int
+    device: str
+    device_kind: str
+    location: str | None
+    cuts: str  # which supply it cuts
+    voltage_v: float | None
+    already_open: bool
+
+
+class ProvingDead(Plain):
+    where: str
+    voltage_v: float | None
+    pairs: tuple[str, ...]  # "A-B", "A-E", …; each expected 0 V
+
+
+class ApproachBoundaries(Plain):
+    entered_at_v: float  # the voltage the table was entered with
+    limited_movable: str
+    limited_fixed: str
+    restricted: str
+    source: str
+
+
+class SketchNode(Plain):
+    id: str
+    label: str
+    kind: str  # source, bus, device, transformer, cable, load, item
+    isolate: bool = False  # an isolation point of this package
+
+
+class Sketch(Plain):
+    """One-line sketch: the item, its supply paths, the isolation points."""
+
+    nodes: tuple[SketchNode, ...]
+    edges: tuple[tuple[str, str], ...]  # (supply side, load side)
+
+
+class Phasor(Plain):
+    """Measured phase-to-earth voltages and the earth point, for a ground finding."""
+
+    line_voltage_v: float
+    sequence: tuple[str, str, str]
+    readings_v: dict[str, float]
+    earth_point_v: tuple[float, float] | None  # real, imag relative to the source neutral
+    grounded_phase: str | None
+
+
+class Origin(Plain):
+    rule: str
+    findings: tuple[str, ...] = ()
+    routine: str | None = None  # routine test that fell due, if any
+
+
+class WorkPackage(Plain):
+    id: str
+    plant: str
+    date: dt.date
+    title: str
+    job_kind: str
+    priority: int = Field(ge=1, le=5, description="1 = most urgent")
+    priority_reason: str
+    duration_h: float = Field(gt=0)
+    crew: int = Field(ge=1)
+    permits: tuple[str, ...] = ()
+    item: str
+    item_label: str
+    system: str | None = None
+    origin: Origin
+    hazard_facts: tuple[str, ...] = ()
+    cautions: tuple[Caution, ...] = ()
+    approach: ApproachBoundaries | None = None
+    ppe: tuple[str, ...] = ()
+    isolation: tuple[IsolationPoint, ...] = ()
+    isolation_gaps: tuple[str, ...] = ()  # paths no lock can cut: DANGER, shown as such
+    stored_energy: tuple[str, ...] = ()
+    proving_dead: tuple[ProvingDead, ...] = ()
+    steps: tuple[Step, ...] = ()
+    acceptance: tuple[str, ...] = ()
+    restoration: tuple[Step, ...] = ()
+    phasor: Phasor | None = None
+    sketch: Sketch | None = None
+    notice: str = ("Local codes, the employer's safety rules and licensed practice prevail "
+                   "over this package.")
+
+    def readings(self) -> tuple[Reading, ...]:
+        return tuple(r for step in (*self.steps, *self.restoration) for r in step.readings)
