@@ -19,6 +19,9 @@ from pydantic import BaseModel
 
 from workpack.errors import UsageError, WorkpackError, did_you_mean
 
+# The shipped rules and weights, beside the package in a checkout.
+RULES = Path(__file__).resolve().parent.parent / "rules"
+
 
 def _to_json(value: Any) -> str:
     def plain(obj: Any) -> Any:
@@ -154,6 +157,44 @@ def _quick_diagnose(args: argparse.Namespace) -> int:
     return 0
 
 
+def _cmd_locate(args: argparse.Namespace) -> int:
+    import datetime as dt
+
+    from workpack.loading import load_findings, load_plant, load_weights
+    from workpack.render.text import fault_search
+    from workpack.search import plan_fault_search, search_place
+
+    plant, topology = load_plant(Path(args.plant))
+    place = search_place(topology, args.place)
+    if place is None:
+        known = set(topology.elements) | {d.id for i in topology.normal_islands
+                                          for d in i.detectors}
+        raise UsageError(f"ISLAND_OR_DETECTOR: no system, bus or detector {args.place!r} in "
+                         f"{args.plant}{did_you_mean(args.place, known)}")
+    as_found = None
+    day = dt.date.fromisoformat(args.date) if args.date else None
+    if args.findings:
+        findings = load_findings(Path(args.findings), topology)
+        day = day or findings.date
+        as_found = _latest_readings(topology, findings, place)
+    weights = load_weights(Path(args.weights))
+    search = plan_fault_search(topology, place, weights, _standards(), day or dt.date.today(),
+                               as_found_v=as_found, one_at_a_time=args.one_at_a_time)
+    sys.stdout.write(_to_json(search) if args.json else fault_search(search))
+    return 0
+
+
+def _latest_readings(topology: Any, findings: Any, place: str) -> dict[str, float] | None:
+    from workpack.search import system_of
+
+    island = system_of(topology, place)
+    latest = None
+    for finding in findings.findings:
+        if finding.kind == "phase_voltages" and system_of(topology, finding.where) == island:
+            latest = dict(finding.volts)
+    return latest
+
+
 def _cmd_schema(args: argparse.Namespace) -> int:
     from workpack.model.findings import Findings
     from workpack.model.plant import Plant
@@ -207,6 +248,23 @@ def build_parser() -> argparse.ArgumentParser:
     quick.add_argument("--tolerance", type=float, default=1.0, metavar="PERCENT",
                        help="meter accuracy, percent of reading, plus 1 V (default 1)")
     diagnose.set_defaults(run=_cmd_diagnose)
+
+    locate = commands.add_parser(
+        "locate", help="plan the search for a ground: which feeder to open first, and why")
+    locate.add_argument("plant", metavar="PLANT", help="plant inventory (YAML)")
+    locate.add_argument("place", metavar="ISLAND_OR_DETECTOR",
+                        help="the detector showing the ground, or a bus of that system")
+    locate.add_argument("--findings", metavar="FILE",
+                        help="the day's findings: the latest phase-to-earth readings on that "
+                             "system are shown as what an uncleared indication looks like")
+    locate.add_argument("--weights", default=str(RULES / "search-weights.yaml"),
+                        help="likelihood and cost weights (default: rules/search-weights.yaml)")
+    locate.add_argument("--date", help="the day of the search (YYYY-MM-DD), for recent work; "
+                                       "default: the findings' date, else today")
+    locate.add_argument("--one-at-a-time", action="store_true",
+                        help="never open feeders in groups")
+    locate.add_argument("--json", action="store_true", help="print JSON")
+    locate.set_defaults(run=_cmd_locate)
 
     schema = commands.add_parser("schema", help="print the JSON Schema of an input file")
     schema.add_argument("what", choices=["plant", "findings"], help="which file")

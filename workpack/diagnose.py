@@ -278,6 +278,21 @@ def equipment_family(element: Element) -> str:
     return "installations"
 
 
+def winding_of(element: Element, voltage_v: float) -> tuple[str | None, str]:
+    """The winding kind that picks the IEEE 43 minimum, and a note when it was assumed.
+
+    Low-voltage motors are nearly all random-wound and machines above 1 kV form-wound
+    (common practice): when the plant file does not say, that is assumed, and said.
+    """
+    if not isinstance(element, Load) or equipment_family(element) != "rotating_machines":
+        return None, ""
+    if element.winding is not None:
+        return element.winding.value, ""
+    assumed = "random_wound" if voltage_v < 1000 else "form_wound"
+    return assumed, (f"{element.id}: winding kind not in the plant file; {assumed} assumed "
+                     f"for a {voltage_v:g} V machine (common practice)")
+
+
 def insulation_code_set(plant: Plant, element: Element, standards: Standards) -> CodeSet:
     family = equipment_family(element)
     return standards[getattr(plant.plant.code_set, family)]
@@ -297,10 +312,10 @@ def _megger(plant: Plant, topology: Topology, finding: Megger, standards: Standa
     element = topology.elements[finding.where]
     code_set = insulation_code_set(plant, element, standards)
     voltage = rated_voltage(topology, element)
-    winding = element.winding.value if isinstance(element, Load) and element.winding else None
+    winding, assumption = winding_of(element, voltage)
     judgement = judge_insulation(code_set, finding.reading, finding.temperature, voltage,
                                  winding=winding)
-    notes = []
+    notes = [assumption] if assumption else []
     compared = _ohms(judgement.value_ohm)
     if judgement.corrected is not None:
         compared += f" at {judgement.corrected.reference_c:g} °C"
@@ -540,4 +555,4 @@ def healthy_phase_to_earth(line_voltage_v: float) -> float:
 __all__ = ["Conclusion", "DayDiagnosis", "Diagnosis", "Ground", "ReadingSummary", "conclude",
            "connected_load_va", "diagnose_day", "diagnose_finding", "downstream_loads",
            "equipment_family", "healthy_phase_to_earth", "insulation_code_set", "rated_voltage",
-           "summarize_readings"]
+           "summarize_readings", "winding_of"]

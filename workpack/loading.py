@@ -16,6 +16,7 @@ from workpack.checks import Mismatch, check_findings, run_checks
 from workpack.errors import InputError, Problem, did_you_mean
 from workpack.model.findings import Findings
 from workpack.model.plant import Plant
+from workpack.model.weights import SearchWeights
 from workpack.topology import Topology
 from workpack.yamlsource import Marks, TableMarks, parse_yaml
 
@@ -240,3 +241,7 @@ def load_model(path: Path, model: type[Model], what: str,
     if after is not None:
         after(loaded, marks)
     return loaded
+
+
+def load_weights(path: Path) -> SearchWeights:
+    return load_model(path, SearchWeights, "search weights file")

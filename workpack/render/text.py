@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from workpack.diagnose import DayDiagnosis, ReadingSummary
 from workpack.isolation import IsolationPlan
+from workpack.search import FaultSearch
 from workpack.summary import PlantSummary
 
 
@@ -118,4 +119,52 @@ def day_diagnosis(day: DayDiagnosis) -> str:
         lines.extend(f"    next: {step}" for step in diagnosis.next_steps)
     lines.append("")
     lines.append("Local codes, the employer's safety rules and licensed practice prevail.")
+    return "\n".join(lines) + "\n"
+
+
+def fault_search(search: FaultSearch) -> str:
+    lines = [f"Finding the ground on the {search.island} system "
+             f"({search.system_voltage_v:g} V), starting at {search.board}",
+             f"Watch: {', '.join(search.detectors) or 'the phase-to-earth voltmeters'}. "
+             f"Healthy: each phase about {search.healthy_phase_to_earth_v:.0f} V to earth.",
+             f"Expected disruption: {search.expected_minutes:.0f} min "
+             f"(no plan can expect less than {search.lower_bound_minutes:.0f} min"
+             + (f"; gap {search.gap:.0%})" if search.gap else "; this plan is optimal)"), ""]
+    for note in search.notes:
+        lines.append(f"NOTE: {note}")
+    level = None
+    for step in search.steps:
+        if step.level != level:
+            level = step.level
+            lines.append(f"\n== Level {level} ==")
+        opened = ", ".join(f"{d} ({w})" if w else d
+                           for d, w in zip(step.open_devices, step.where, strict=True))
+        lines.append(f"{step.number}. Open {opened}  [{step.minutes:.0f} min]")
+        if step.transfer_first:
+            lines.append(f"   First transfer to the alternate supply: "
+                         f"{', '.join(step.transfer_first)}")
+        if step.permission_for:
+            lines.append(f"   PERMISSION needed: {', '.join(step.permission_for)} is vital "
+                         "and has no alternate supply")
+        if step.dead_loads:
+            shown = ", ".join(step.dead_loads[:8])
+            more = f" and {len(step.dead_loads) - 8} more" if len(step.dead_loads) > 8 else ""
+            lines.append(f"   Goes dead for about a minute: {shown}{more}")
+        lines.append(f"   {step.if_clears}")
+        lines.append(f"   {step.if_not_clear}")
+    lines.append("\nWhy this order (chance the ground is downstream, cost to open it):")
+    for facts in sorted(search.candidates, key=lambda c: (-c.prior, c.id)):
+        reasons = "; ".join(facts.reasons[:4]) or "no raised factor"
+        lines.append(f"  {facts.id}: {facts.prior:.1%}, {facts.cost_minutes:g} min — {reasons}")
+    lines.append("\nFinal tests when a circuit is found (isolate it first):")
+    for final in search.final_tests:
+        for section in final.sections:
+            low, high = section.test_voltage_v
+            volts = f"{low:g} V" if low == high else f"{low:g}–{high:g} V"
+            at = f" at {section.reference_c:g} °C" if section.reference_c is not None else ""
+            lines.append(f"  {final.feeder} → {section.element}: {volts} DC, minimum "
+                         f"{_ohms(section.minimum_ohm)}{at} ({section.basis})")
+    lines.append("\nWeights (rules/search-weights.yaml):")
+    lines.extend(f"  {line}" for line in search.weights_used)
+    lines.append("\nLocal codes, the employer's safety rules and licensed practice prevail.")
     return "\n".join(lines) + "\n"

@@ -1,0 +1,71 @@
+"""Benchmark: plan the ground search on one system with 500 feeders (issue 4: under 1 s).
+
+Run: .venv/bin/python bench/bench_locate.py
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import random
+import sys
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+
+from workpack.electrical import available_code_sets, load_code_set  # noqa: E402
+from workpack.loading import load_weights  # noqa: E402
+from workpack.model.plant import Plant  # noqa: E402
+from workpack.search import plan_fault_search  # noqa: E402
+from workpack.topology import Topology  # noqa: E402
+
+
+def plant_with_feeders(feeders: int, seed: int = 500) -> Plant:
+    """One 440 V board, ``feeders`` breakers, some feeding sub-panels (invented data)."""
+    rng = random.Random(seed)
+    devices = [{"id": "CB-G1", "kind": "circuit_breaker", "from": "G1"}]
+    buses = [{"id": "MSB", "kind": "switchboard", "voltage": 440, "earthing": "insulated",
+              "from": "CB-G1", "detector": {"id": "GD", "kind": "lamps"}}]
+    cables, loads = [], []
+    environments = ["wet", "weather_exposed", "hot", "galley"]
+    for n in range(feeders):
+        breaker = f"CB{n}"
+        devices.append({"id": breaker, "kind": "circuit_breaker", "from": "MSB"})
+        cables.append({"id": f"C{n}", "from": breaker, "length": rng.randint(5, 250)})
+        if n % 25 == 0:  # a sub-panel with a few circuits of its own
+            buses.append({"id": f"P{n}", "kind": "distribution_panel", "voltage": 440,
+                          "earthing": "insulated", "from": f"C{n}"})
+            for k in range(6):
+                devices.append({"id": f"CB{n}-{k}", "kind": "circuit_breaker",
+                                "from": f"P{n}"})
+                loads.append({"id": f"M{n}-{k}", "kind": "motor", "from": f"CB{n}-{k}",
+                              "rated_voltage": 440})
+        else:
+            loads.append({
+                "id": f"M{n}", "kind": rng.choice(["motor", "heater", "lighting"]),
+                "from": f"C{n}", "rated_voltage": 440,
+                "vitality": "vital" if n % 50 == 7 else rng.choice(
+                    ["important", "non_essential"]),
+                "environment": rng.sample(environments, rng.randint(0, 2))})
+    return Plant.model_validate({
+        "plant": {"name": "500 feeders", "kind": "other", "frequency": 60},
+        "sources": [{"id": "G1", "kind": "generator", "voltage": 440}],
+        "buses": buses, "devices": devices, "cables": cables, "loads": loads})
+
+
+def main(feeders: int = 500) -> None:
+    topology = Topology(plant_with_feeders(feeders))
+    weights = load_weights(ROOT / "rules" / "search-weights.yaml")
+    standards = {name: load_code_set(name) for name in available_code_sets()}
+    for mode in ("groups", "one at a time"):
+        started = time.perf_counter()
+        result = plan_fault_search(topology, "GD", weights, standards, dt.date(2026, 12, 1),
+                                   one_at_a_time=mode == "one at a time")
+        elapsed = time.perf_counter() - started
+        print(f"{feeders} feeders, {mode}: {elapsed:.2f} s (target < 1 s); "
+              f"{len(result.steps)} steps, expected {result.expected_minutes:.0f} min, "
+              f"bound {result.lower_bound_minutes:.0f} min, gap {result.gap:.1%}")
+
+
+if __name__ == "__main__":
+    main(int(sys.argv[1]) if len(sys.argv) > 1 else 500)

@@ -1,0 +1,137 @@
+"""The fault search on real plant data: priors, costs, vital-load rules, words and tests."""
+
+from __future__ import annotations
+
+import datetime as dt
+import json
+
+import pytest
+from conftest import ROOT
+
+from workpack.cli import main
+from workpack.loading import load_weights
+from workpack.model.plant import Vitality
+from workpack.search import FaultSearch, plan_fault_search
+from workpack.topology import Topology
+
+WEIGHTS = ROOT / "rules" / "search-weights.yaml"
+DAY = dt.date(2026, 12, 1)
+
+
+@pytest.fixture(scope="module")
+def weights():
+    return load_weights(WEIGHTS)
+
+
+def search(topology: Topology, place: str, weights, standards, **options) -> FaultSearch:
+    return plan_fault_search(topology, place, weights, standards, DAY, **options)
+
+
+def vital(topology: Topology, load_id: str) -> bool:
+    return topology.elements[load_id].vitality is Vitality.vital
+
+
+@pytest.mark.parametrize(("plant", "place"), [("vessel", "GD-MSB"), ("vessel", "GD-LP"),
+                                                ("site", "IMD-MSB"), ("site", "IMD-ICP")])
+def test_no_step_drops_two_vital_loads_or_one_without_its_preparation(
+    plant, place, demo_vessel, demo_site, weights, standards,
+) -> None:
+    topology = demo_vessel if plant == "vessel" else demo_site
+    result = search(topology, place, weights, standards)
+    assert result.steps
+    for step in result.steps:
+        dropped = [load for load in step.dead_loads if vital(topology, load)]
+        assert len(dropped) <= 1, (step.level, step.number, dropped)
+        for load in dropped:  # interrupted, not transferred: only with permission
+            assert load in step.permission_for
+        for load in step.transfer_first:
+            assert vital(topology, load) and load not in step.dead_loads
+
+
+def test_priors_of_each_level_never_exceed_their_board(demo_vessel, weights, standards) -> None:
+    result = search(demo_vessel, "GD-MSB", weights, standards)
+    facts = {c.id: c for c in result.candidates}
+    for level in result.levels:
+        board_prior = facts[level.board_id].prior if level.board_id in facts else 1.0
+        children = sum(row.prior * board_prior for row in level.table)
+        assert children <= board_prior + 1e-9
+        assert level.remainder >= -1e-9
+
+
+def test_one_at_a_time_follows_blackwells_rule(demo_vessel, weights, standards) -> None:
+    """Decreasing prior / cost is optimal for single inspections (Blackwell's rule;
+    M. C. Chew Jr., Ann. Math. Statist. 38(2), 1967; L. D. Stone, Theory of Optimal
+    Search, 1975, §4.3): the steps of the top level come in that order."""
+    result = search(demo_vessel, "GD-MSB", weights, standards, one_at_a_time=True)
+    top = result.levels[0]
+    assert top.method == "blackwell"
+    ratios = {row.candidate_id: row.ratio for row in top.table}
+    opened = [step.open_devices[0] for step in result.steps if step.level == top.board_id]
+    assert all(len(step.open_devices) == 1 for step in result.steps)
+    assert [ratios[d] for d in opened] == sorted((ratios[d] for d in opened), reverse=True)
+
+
+def test_demo_vessel_starts_on_deck_machinery_and_says_why(demo_vessel, weights,
+                                                          standards) -> None:
+    result = search(demo_vessel, "GD-MSB", weights, standards,
+                    as_found_v={"A": 348, "B": 236, "C": 209})
+    first = result.steps[0]
+    assert first.open_devices == ("CB-MCC2",)
+    facts = next(c for c in result.candidates if c.id == "CB-MCC2")
+    assert any("weather_exposed" in reason for reason in facts.reasons)
+    assert "GD-MSB lamps equal" in first.if_clears
+    assert "as found: A 348 V, B 236 V, C 209 V" in first.if_not_clear
+    assert result.healthy_phase_to_earth_v == pytest.approx(254.03, abs=0.01)  # 440/√3
+
+
+def test_final_tests_use_the_published_tables(demo_vessel, weights, standards) -> None:
+    """Motor: 500 V DC below 1 kV and 5 MΩ at 40 °C for a random-wound stator (IEEE Std 43
+    (2013), test-voltage table and 12.3). Cable circuit at 440 V: 500 V DC, 1.0 MΩ
+    (IEC 60364-6 style table for 50-500 V circuits, SOURCES.md)."""
+    result = search(demo_vessel, "GD-MSB", weights, standards)
+    windlass = next(f for f in result.final_tests if f.feeder == "CB-WL1")
+    sections = {s.element: s for s in windlass.sections}
+    assert sections["WL-1"].test_voltage_v == (500.0, 500.0)
+    assert sections["WL-1"].minimum_ohm == pytest.approx(5e6)
+    assert sections["WL-1"].reference_c == pytest.approx(40.0)
+    assert sections["C-WL1"].test_voltage_v == (500.0, 500.0)
+    assert sections["C-WL1"].minimum_ohm == pytest.approx(1e6)
+
+
+def test_vital_loads_behind_a_changeover_are_transferred_first(demo_site, weights,
+                                                              standards) -> None:
+    result = search(demo_site, "IMD-MSB", weights, standards)
+    with_transfer = [s for s in result.steps if s.transfer_first]
+    assert with_transfer
+    assert all("transfer" not in s.if_clears or "moves with" in s.if_clears
+               for s in with_transfer)
+
+
+def test_past_grounds_raise_a_circuit_in_the_order(demo_vessel, weights, standards) -> None:
+    plain = search(demo_vessel, "GD-MSB", weights, standards)
+    remembered = search(demo_vessel, "GD-MSB", weights, standards,
+                        past_grounds={"SWP-1": 3})
+    before = next(c for c in plain.candidates if c.id == "CB-SWP1").prior
+    after = next(c for c in remembered.candidates if c.id == "CB-SWP1").prior
+    assert after > before
+
+    def position(result: FaultSearch) -> int:
+        return next(i for i, s in enumerate(result.steps) if "CB-SWP1" in s.open_devices)
+
+    assert position(remembered) < position(plain)
+
+
+def test_locate_command_json_lists_steps_costs_and_reasons(capsys) -> None:
+    assert main(["locate", str(ROOT / "plants" / "demo-vessel.yaml"), "GD-MSB",
+                 "--findings", str(ROOT / "plants" / "demo-vessel-findings.yaml"),
+                 "--json"]) == 0
+    plan = json.loads(capsys.readouterr().out)
+    assert plan["steps"][0]["open_devices"] == ["CB-MCC2"]
+    assert plan["expected_minutes"] >= plan["lower_bound_minutes"] > 0
+    assert {"prior", "cost_minutes", "reasons"} <= set(plan["candidates"][0])
+    assert plan["as_found_v"] == {"A": 348.0, "B": 236.0, "C": 209.0}
+
+
+def test_locate_unknown_place_is_one_line(capsys) -> None:
+    assert main(["locate", str(ROOT / "plants" / "demo-vessel.yaml"), "GD-MBS"]) == 2
+    assert "did you mean 'GD-MSB'" in capsys.readouterr().err

@@ -1,0 +1,467 @@
+"""Where to look for a ground: the plant turned into a search, and the search into steps.
+
+The galvanic system whose detector shows the ground is read as a tree of
+feeders that can be opened (breakers and switches, in the normal state), each
+with the chance that the ground lies downstream of it and the cost of opening
+it for a minute. The chance comes from what the feeder supplies (wet spaces,
+deck machinery, heaters, long or old cables, recent work, past grounds:
+factors from rules/search-weights.yaml, each with its basis); the cost from
+what goes dead (by vitality), the transfer of a vital load to its alternate
+supply first, or the permission a vital load without one needs. The order
+comes from ``search_core``; this module only builds its input and words its
+output. A feeder that would drop two vital loads with no alternate at once is
+never opened whole: its own circuits are tried instead. Pure: no file access.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from collections.abc import Mapping
+from dataclasses import dataclass
+
+from workpack.diagnose import (
+    downstream_loads,
+    insulation_code_set,
+    rated_voltage,
+    winding_of,
+)
+from workpack.electrical import dc_test_voltage, line_to_neutral, minimum_insulation_resistance
+from workpack.electrical.standards import CodeSet
+from workpack.model.plant import (
+    Bus,
+    Cable,
+    Device,
+    DeviceKind,
+    Element,
+    Load,
+    Plant,
+    Transformer,
+    Vitality,
+)
+from workpack.model.weights import SearchWeights
+from workpack.search_core import Branch, Candidate, LevelPlan, SearchPlan, plan_search
+from workpack.topology import Island, Topology
+
+OPENABLE = frozenset({DeviceKind.circuit_breaker, DeviceKind.switch, DeviceKind.disconnector})
+
+
+@dataclass(frozen=True)
+class CandidateFacts:
+    """Why a feeder is where it is in the order."""
+
+    id: str
+    label: str
+    location: str | None
+    weight: float  # sum of its elements' likelihood weights
+    prior: float  # chance the ground is downstream of it, given a ground on the system
+    reasons: tuple[str, ...]  # factors that raised its weight, with their basis
+    cost_minutes: float  # opening it alone, without the observation
+    dead_loads: tuple[str, ...]
+    transfer_loads: tuple[str, ...]  # vital loads moved to their alternate supply first
+    permission_loads: tuple[str, ...]  # vital loads with no alternate: permission needed
+    moves_ground_with_it: tuple[str, ...]  # transferred loads whose alternate is this system
+
+
+@dataclass(frozen=True)
+class SearchStep:
+    level: str
+    number: int
+    open_devices: tuple[str, ...]
+    where: tuple[str, ...]  # location of each opened device
+    transfer_first: tuple[str, ...]
+    permission_for: tuple[str, ...]
+    dead_loads: tuple[str, ...]
+    minutes: float
+    probability: float  # of reaching this step, given its level is searched
+    if_clears: str
+    if_not_clear: str
+
+
+@dataclass(frozen=True)
+class SectionTest:
+    """Insulation test of one section of the circuit where the ground was narrowed to."""
+
+    element: str
+    label: str
+    family: str  # rotating_machines, apparatus, installations
+    test_voltage_v: tuple[float, float]  # DC, a range where the table gives one
+    minimum_ohm: float
+    reference_c: float | None
+    basis: str
+
+
+@dataclass(frozen=True)
+class FinalTests:
+    """Where a search ends: isolate the circuit, then test its sections."""
+
+    feeder: str
+    sections: tuple[SectionTest, ...]
+
+
+@dataclass(frozen=True)
+class FaultSearch:
+    island: str
+    board: str
+    detectors: tuple[str, ...]
+    system_voltage_v: float
+    healthy_phase_to_earth_v: float  # V_LL/√3: what a cleared indication reads
+    as_found_v: Mapping[str, float] | None
+    steps: tuple[SearchStep, ...]
+    candidates: tuple[CandidateFacts, ...]
+    levels: tuple[LevelPlan, ...]
+    expected_minutes: float
+    lower_bound_minutes: float
+    gap: float
+    final_tests: tuple[FinalTests, ...]
+    notes: tuple[str, ...]
+    weights_used: tuple[str, ...]  # every factor and cost with its basis, for the plan
+
+
+def plan_fault_search(
+    topology: Topology,
+    place: str,
+    weights: SearchWeights,
+    standards: Mapping[str, CodeSet],
+    today: dt.date,
+    past_grounds: Mapping[str, int] | None = None,
+    as_found_v: Mapping[str, float] | None = None,
+    one_at_a_time: bool = False,
+) -> FaultSearch:
+    """The search for a ground shown by the detector (or on the system) named ``place``."""
+    island, board = _board(topology, place)
+    builder = _TreeBuilder(topology, island, weights, today, past_grounds or {})
+    root = builder.root(board)
+    plan: SearchPlan = plan_search(root, max_group_size=1 if one_at_a_time else None)
+    voltage = island.voltage or 0.0
+    healthy = line_to_neutral(voltage)
+    facts = tuple(builder.facts[c] for c in sorted(builder.facts))
+    steps = tuple(step for level in plan.levels
+                  for step in _word_steps(level, builder, healthy, as_found_v))
+    final = tuple(_final_tests(topology, builder, leaf, standards)
+                  for leaf in sorted(builder.leaves))
+    return FaultSearch(
+        island=island.id, board=board, detectors=tuple(d.id for d in island.detectors),
+        system_voltage_v=voltage, healthy_phase_to_earth_v=healthy, as_found_v=as_found_v,
+        steps=steps, candidates=facts, levels=plan.levels,
+        expected_minutes=plan.expected_cost, lower_bound_minutes=plan.lower_bound,
+        gap=plan.gap, final_tests=final, notes=tuple(builder.notes),
+        weights_used=_weights_used(weights),
+    )
+
+
+def search_place(topology: Topology, place: str) -> str | None:
+    """``place`` if it names a detector, a bus or a system of the plant, else None."""
+    try:
+        _board(topology, place)
+    except KeyError:
+        return None
+    return place
+
+
+def system_of(topology: Topology, place: str) -> str:
+    """Id of the normal-state system holding a detector, bus or element."""
+    return _board(topology, place)[0].id
+
+
+def _board(topology: Topology, place: str) -> tuple[Island, str]:
+    """The system and the board where the search starts, from a detector, bus or item."""
+    for island in topology.normal_islands:
+        for bus_id in island.buses:
+            bus = topology.elements[bus_id]
+            if isinstance(bus, Bus) and bus.detector and bus.detector.id == place:
+                return island, bus_id
+    if place in topology.elements:
+        island = topology.island_of(topology.node_in(place))
+        element = topology.elements[place]
+        return island, place if isinstance(element, Bus) else (island.buses or (place,))[0]
+    for island in topology.normal_islands:
+        if island.id == place:
+            return island, island.buses[0]
+    raise KeyError(place)
+
+
+class _TreeBuilder:
+    """Builds the candidate tree of one system, remembering why each number is what it is."""
+
+    def __init__(self, topology: Topology, island: Island, weights: SearchWeights,
+                 today: dt.date, past_grounds: Mapping[str, int]):
+        self.topology = topology
+        self.island = island
+        self.members = {n.split(":")[0] for n in island.nodes}
+        self.weights = weights
+        self.today = today
+        self.past_grounds = past_grounds
+        self.facts: dict[str, CandidateFacts] = {}
+        self.leaves: set[str] = set()
+        self.notes: list[str] = []
+        self.children_of: dict[str, list[str]] = {}
+        self._weight_cache: dict[str, tuple[float, tuple[str, ...]]] = {}
+        self.total = sum(self.weight(e)[0] for e in self.members)
+
+    # --- likelihood ---------------------------------------------------------------------
+
+    def weight(self, element_id: str) -> tuple[float, tuple[str, ...]]:
+        """Likelihood weight of one element and the factors that shaped it."""
+        if element_id in self._weight_cache:
+            return self._weight_cache[element_id]
+        element = self.topology.elements[element_id]
+        result: tuple[float, tuple[str, ...]] = (0.0, ())
+        if isinstance(element, Load | Cable | Bus | Transformer):
+            result = self._element_weight(element)
+        self._weight_cache[element_id] = result
+        return result
+
+    def _element_weight(self, element: Element) -> tuple[float, tuple[str, ...]]:
+        likelihood = self.weights.likelihood
+        value = 1.0
+        reasons: list[str] = []
+        for environment in element.environment:
+            factor = likelihood.environment.get(environment)
+            if factor and factor.factor != 1.0:
+                value *= factor.factor
+                reasons.append(f"{element.id} {environment.value} ×{factor.factor:g}")
+        if isinstance(element, Load):
+            kind_factor = likelihood.load_kind.get(element.kind)
+            if kind_factor and kind_factor.factor != 1.0:
+                value *= kind_factor.factor
+                reasons.append(f"{element.id} {element.kind.value} ×{kind_factor.factor:g}")
+            if element.recent_work and (
+                self.today - element.recent_work
+            ).days <= likelihood.recent_work.within_days.days:
+                value *= likelihood.recent_work.within_days.factor
+                reasons.append(f"{element.id} worked on {element.recent_work} "
+                               f"×{likelihood.recent_work.within_days.factor:g}")
+        if isinstance(element, Cable):
+            extra = likelihood.cable.per_100_m.factor * element.length / 100.0
+            value *= 1.0 + extra
+            if element.length >= 100:
+                reasons.append(f"{element.id} {element.length:.0f} m ×{1 + extra:.2g}")
+            old = likelihood.cable.older_than_years
+            if element.installed and self.today.year - element.installed > old.years:
+                value *= old.factor
+                reasons.append(f"{element.id} installed {element.installed} ×{old.factor:g}")
+        grounds = self.past_grounds.get(element.id, 0)
+        if grounds:
+            history = likelihood.history.per_past_ground.factor ** grounds
+            value *= history
+            reasons.append(f"{element.id} grounded {grounds}× before ×{history:g}")
+        return value, tuple(reasons)
+
+    # --- tree -------------------------------------------------------------------------------
+
+    def downstream(self, element_id: str) -> list[str]:
+        """Elements of this system below ``element_id`` in the normal state."""
+        found: list[str] = []
+        stack = [element_id]
+        seen = {element_id}
+        while stack:
+            node = stack.pop()
+            for child in self.topology.normal_children.get(node, ()):
+                if child in self.members and child not in seen:
+                    seen.add(child)
+                    found.append(child)
+                    stack.append(child)
+        return found
+
+    def first_feeders(self, element_id: str) -> list[str]:
+        """The nearest openable devices below ``element_id`` (one level of the search)."""
+        result: list[str] = []
+        for child in sorted(self.topology.normal_children.get(element_id, ())):
+            if child not in self.members:
+                continue
+            element = self.topology.elements[child]
+            if isinstance(element, Device) and element.kind in OPENABLE:
+                if self._would_drop_two_vital(child):
+                    self.notes.append(
+                        f"{child} is not opened whole: it would drop two or more vital loads "
+                        "that have no alternate supply; its own circuits are tried instead")
+                    result.extend(self.first_feeders(child))
+                else:
+                    result.append(child)
+            else:
+                result.extend(self.first_feeders(child))
+        return result
+
+    def _would_drop_two_vital(self, device_id: str) -> bool:
+        _, _, without = self._vital_split(device_id)
+        return len(without) >= 2
+
+    def _vital_split(self, device_id: str) -> tuple[list[Load], list[Load], list[Load]]:
+        """Dead loads, vital ones with an alternate, vital ones without."""
+        dead = downstream_loads(self.topology, device_id)
+        below = set(self._all_below(device_id))
+        with_alternate, without = [], []
+        for load in dead:
+            if load.vitality is not Vitality.vital:
+                continue
+            if self._alternate_outside(load, below):
+                with_alternate.append(load)
+            else:
+                without.append(load)
+        return dead, with_alternate, without
+
+    def _all_below(self, element_id: str) -> list[str]:
+        found, stack, seen = [], [element_id], {element_id}
+        while stack:
+            node = stack.pop()
+            for child in self.topology.normal_children.get(node, ()):
+                if child not in seen:
+                    seen.add(child)
+                    found.append(child)
+                    stack.append(child)
+        return found
+
+    def _alternate_outside(self, load: Load, below: set[str]) -> str | None:
+        """A transfer switch feeding ``load`` whose alternate is not under the opened device."""
+        for path in self.topology.normal_supply_paths(load.id):
+            for node in path:
+                element = self.topology.elements.get(node)
+                if isinstance(element, Device) and element.kind is DeviceKind.transfer_switch \
+                        and node in below:
+                    if any(alt not in below for alt in element.from_[1:]):
+                        return node
+        return None
+
+    def candidate(self, device_id: str) -> Candidate:
+        cost = self.weights.cost
+        dead, with_alternate, without = self._vital_split(device_id)
+        interrupt = sum(getattr(cost.interrupt, load.vitality.value).minutes
+                        for load in dead if load not in with_alternate)
+        below = self.downstream(device_id)
+        weight = self.weight(device_id)[0] + sum(self.weight(e)[0] for e in below)
+        reasons = tuple(r for e in [device_id, *below] for r in self.weight(e)[1])
+        children = self.first_feeders(device_id)
+        self.children_of[device_id] = children
+        if not children:
+            self.leaves.add(device_id)
+        moves = tuple(load.id for load in with_alternate if self._alternate_in_system(load))
+        device = self.topology.elements[device_id]
+        self.facts[device_id] = CandidateFacts(
+            id=device_id, label=device.label, location=device.location, weight=weight,
+            prior=weight / self.total if self.total else 0.0, reasons=reasons,
+            cost_minutes=interrupt + (cost.transfer.minutes * len(with_alternate)
+                                      if with_alternate and not without else 0.0)
+            + (cost.permission.minutes if without else 0.0),
+            dead_loads=tuple(load.id for load in dead),
+            transfer_loads=tuple(load.id for load in with_alternate),
+            permission_loads=tuple(load.id for load in without), moves_ground_with_it=moves)
+        vital = bool(with_alternate or without)
+        return Candidate(
+            id=device_id, prior=weight / self.total if self.total else 0.0,
+            interrupt_cost=interrupt, vital=vital, has_alternate=vital and not without,
+            transfer_cost=cost.transfer.minutes * len(with_alternate),
+            permission_cost=cost.permission.minutes, observe_cost=cost.observe.minutes,
+            children=tuple(self.candidate(child) for child in children))
+
+    def _alternate_in_system(self, load: Load) -> bool:
+        for path in self.topology.normal_supply_paths(load.id):
+            for node in path:
+                element = self.topology.elements.get(node)
+                if isinstance(element, Device) and element.kind is DeviceKind.transfer_switch:
+                    return any(alt in self.members for alt in element.from_[1:])
+        return False
+
+    def root(self, board: str) -> Candidate:
+        children = self.first_feeders(board)
+        self.children_of[board] = children
+        return Candidate(id=board, prior=1.0, observe_cost=self.weights.cost.observe.minutes,
+                         children=tuple(self.candidate(child) for child in children))
+
+
+def cleared_indication(island: Island, healthy_v: float) -> str:
+    """What the system's own detectors show once the ground is no longer connected."""
+    shows = []
+    for detector in island.detectors:
+        if detector.kind.value == "lamps":
+            shows.append(f"{detector.id} lamps equal")
+        elif detector.kind.value == "voltmeters":
+            shows.append(f"{detector.id} each phase about {healthy_v:.0f} V to earth "
+                         "(V_LL/√3)")
+        elif detector.alarm is not None:
+            shows.append(f"{detector.id} reading back above its alarm setting "
+                         f"({detector.alarm / 1e3:g} kΩ; allow the monitor its response time)")
+    if not shows:
+        shows.append(f"each phase about {healthy_v:.0f} V to earth (V_LL/√3)")
+    return "the indication clears: " + "; ".join(shows)
+
+
+def _word_steps(level: LevelPlan, builder: _TreeBuilder, healthy_v: float,
+                as_found: Mapping[str, float] | None) -> list[SearchStep]:
+    cleared = cleared_indication(builder.island, healthy_v)
+    if as_found:
+        unchanged = "the indication stays (as found: " + ", ".join(
+            f"{phase} {value:.0f} V" for phase, value in sorted(as_found.items())) + ")"
+    else:
+        unchanged = "the indication stays as found"
+    steps = []
+    for step in level.steps:
+        facts = [builder.facts[d] for d in step.open_ids]
+        steps.append(SearchStep(
+            level=level.board_id, number=step.number, open_devices=step.open_ids,
+            where=tuple(f.location or "" for f in facts),
+            transfer_first=tuple(load for f in facts for load in f.transfer_loads)
+            if step.transfer_id else (),
+            permission_for=tuple(load for f in facts for load in f.permission_loads)
+            if step.permission_id else (),
+            dead_loads=tuple(sorted({load for f in facts for load in f.dead_loads}
+                                    - {load for f in facts for load in f.transfer_loads})),
+            minutes=step.cost, probability=step.probability,
+            if_clears=f"If {cleared}: {_branch_text(step.if_clears, builder)}"
+            + "".join(f" (if the ground is in {load} itself it moves with the transfer, "
+                      "since its alternate supply is on this system: the indication will not "
+                      "clear)" for f in facts for load in f.moves_ground_with_it),
+            if_not_clear=f"If {unchanged}: {_branch_text(step.if_not_clear, builder)}",
+        ))
+    return steps
+
+
+def _branch_text(branch: Branch, builder: _TreeBuilder) -> str:
+    if branch.kind == "step":
+        return f"close what was opened and go on with step {branch.step} of this board"
+    if branch.kind == "found":
+        target = branch.candidate_id
+        if builder.children_of.get(target):
+            return (f"the ground is downstream of {target}; close it and search its own "
+                    f"circuits (the {target} level)")
+        return (f"the ground is downstream of {target}; isolate that circuit and test its "
+                "sections for insulation resistance (final tests)")
+    return ("not found at this level: the ground is on this board's own busbars or incoming "
+            "cables, or the indication is false: prove the detector, then test the board "
+            "isolated")
+
+
+def _final_tests(topology: Topology, builder: _TreeBuilder, leaf: str,
+                 standards: Mapping[str, CodeSet]) -> FinalTests:
+    plant: Plant = topology.plant
+    sections = []
+    for element_id in sorted(builder.downstream(leaf)):
+        element = topology.elements[element_id]
+        if not isinstance(element, Cable | Load | Bus | Transformer):
+            continue
+        code_set = insulation_code_set(plant, element, standards)
+        voltage = rated_voltage(topology, element)
+        winding, assumption = winding_of(element, voltage)
+        test = dc_test_voltage(code_set, voltage)
+        minimum = minimum_insulation_resistance(code_set, voltage, winding=winding)
+        sections.append(SectionTest(
+            element=element_id, label=element.label,
+            family=code_set.name, test_voltage_v=(test.min_v, test.max_v),
+            minimum_ohm=minimum.minimum_ohm, reference_c=minimum.reference_c,
+            basis=f"{test.citation}; {minimum.citation}" + (
+                f"; {assumption}" if assumption else "")))
+    return FinalTests(feeder=leaf, sections=tuple(sections))
+
+
+def _weights_used(weights: SearchWeights) -> tuple[str, ...]:
+    likelihood, cost = weights.likelihood, weights.cost
+    lines = [f"{name.value}: ×{f.factor:g} ({f.basis})"
+             for name, f in sorted(likelihood.environment.items())]
+    lines += [f"{name.value} loads: ×{f.factor:g} ({f.basis})"
+              for name, f in sorted(likelihood.load_kind.items())]
+    lines.append(f"cable: +{likelihood.cable.per_100_m.factor:g} per 100 m "
+                 f"({likelihood.cable.per_100_m.basis})")
+    lines.append(f"observe: {cost.observe.minutes:g} min ({cost.observe.basis})")
+    lines.append(f"transfer a vital load: {cost.transfer.minutes:g} min "
+                 f"({cost.transfer.basis})")
+    lines.append(f"permission: {cost.permission.minutes:g} min ({cost.permission.basis})")
+    return tuple(lines)
