@@ -195,6 +195,65 @@ def _latest_readings(topology: Any, findings: Any, place: str) -> dict[str, floa
     return latest
 
 
+def _cmd_plan(args: argparse.Namespace) -> int:
+    import datetime as dt
+
+    from workpack.loading import load_findings, load_plant, load_ruleset, load_weights
+    from workpack.output import write_all
+    from workpack.plan import plan_day
+    from workpack.render.daysheet import render_day_sheet
+    from workpack.render.pdf import render_package
+
+    if args.crew_hours <= 0:
+        raise UsageError(f"--crew-hours {args.crew_hours:g}: must be above zero")
+    try:
+        day = dt.date.fromisoformat(args.date) if args.date else None
+    except ValueError:
+        raise UsageError(f"--date {args.date}: expected YYYY-MM-DD") from None
+    plant, topology = load_plant(Path(args.plant))
+    findings = load_findings(Path(args.findings), topology)
+    day = day or (findings.date + dt.timedelta(days=1) if findings.date else None)
+    if day is None:
+        raise UsageError("--date: the findings file has no date; give the day to plan for")
+    rules = Path(args.rules)
+    ruleset = load_ruleset(rules)
+    weights = load_weights(rules / "search-weights.yaml")
+    progress = _Progress("planning") if sys.stderr.isatty() else None
+    result = plan_day(plant, topology, findings, day, ruleset, _standards(), weights,
+                      args.crew_hours, progress=progress)
+    files: dict[str, bytes] = {}
+    rendering = _Progress("rendering") if sys.stderr.isatty() else None
+    for done, package in enumerate(result.packages, start=1):
+        files[f"{package.id}.pdf"] = render_package(package, args.page_size)
+        files[f"{package.id}.json"] = (package.model_dump_json(indent=2) + "\n").encode()
+        if rendering:
+            rendering(done, len(result.packages))
+    files[f"day-{day.isoformat()}.pdf"] = render_day_sheet(
+        result.plant, day, result.packages, result.scheduled, result.deferred,
+        [c.text for c in result.conflicts], result.crew_hours, args.page_size)
+    written = write_all(Path(args.out), files)
+    sys.stdout.write(day_plan_summary(result, written))
+    return 0
+
+
+def day_plan_summary(result: Any, written: list[Path]) -> str:
+    from workpack.render.text import day_plan
+
+    return day_plan(result) + f"\n{len(written)} files written to {written[0].parent}\n"
+
+
+class _Progress:
+    """A one-line progress count on the terminal (stderr), nothing when piped."""
+
+    def __init__(self, what: str):
+        self.what = what
+
+    def __call__(self, done: int, total: int) -> None:
+        end = "\n" if done == total else ""
+        sys.stderr.write(f"\r{self.what} {done}/{total}{end}")
+        sys.stderr.flush()
+
+
 def _cmd_schema(args: argparse.Namespace) -> int:
     from workpack.model.findings import Findings
     from workpack.model.plant import Plant
@@ -265,6 +324,21 @@ def build_parser() -> argparse.ArgumentParser:
                         help="never open feeders in groups")
     locate.add_argument("--json", action="store_true", help="print JSON")
     locate.set_defaults(run=_cmd_locate)
+
+    plan = commands.add_parser(
+        "plan", help="tomorrow's work packages (PDF and JSON) and the day sheet")
+    plan.add_argument("plant", metavar="PLANT", help="plant inventory (YAML)")
+    plan.add_argument("findings", metavar="FINDINGS",
+                      help="the day's findings (YAML, or CSV from a rounds log)")
+    plan.add_argument("--out", required=True, metavar="DIR", help="folder for the packages")
+    plan.add_argument("--date", help="the day planned for (YYYY-MM-DD); default: the day "
+                                     "after the findings' date")
+    plan.add_argument("--crew-hours", type=float, default=16.0, metavar="H",
+                      help="person-hours available (default 16: two people, a day)")
+    plan.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
+    plan.add_argument("--rules", default=str(RULES), metavar="DIR",
+                      help="rules folder (default: the shipped rules/)")
+    plan.set_defaults(run=_cmd_plan)
 
     schema = commands.add_parser("schema", help="print the JSON Schema of an input file")
     schema.add_argument("what", choices=["plant", "findings"], help="which file")

@@ -16,7 +16,9 @@ from workpack.checks import Mismatch, check_findings, run_checks
 from workpack.errors import InputError, Problem, did_you_mean
 from workpack.model.findings import Findings
 from workpack.model.plant import Plant
+from workpack.model.rules import CautionLibrary, RuleFile
 from workpack.model.weights import SearchWeights
+from workpack.rules import RuleSet, build_ruleset
 from workpack.topology import Topology
 from workpack.yamlsource import Marks, TableMarks, parse_yaml
 
@@ -103,6 +105,8 @@ def _message(detail: Any) -> str:
         return "required field is missing"
     if detail.get("input", "") is None and kind not in ("none_required",):
         return "no value given (nothing after the colon)"
+    if kind in ("string_type",) and isinstance(detail.get("input"), bool):
+        return f"expected text (got {detail['input']}); put it in quotes"
     if kind in ("string_type",) and isinstance(detail.get("input"), int | float):
         return f"expected text (got the number {detail['input']}); put it in quotes"
     if "Keys should be strings" in message:
@@ -245,3 +249,36 @@ def load_model(path: Path, model: type[Model], what: str,
 
 def load_weights(path: Path) -> SearchWeights:
     return load_model(path, SearchWeights, "search weights file")
+
+
+# Files in a rules folder that are not rule files.
+CAUTIONS_FILE = "cautions.yaml"
+NOT_RULES = {CAUTIONS_FILE, "search-weights.yaml"}
+
+
+def load_ruleset(folder: Path) -> RuleSet:
+    """Every rules/*.yaml (but the caution library and weights), linted and compiled."""
+    from workpack.calculations import CALCULATIONS, parameters
+    from workpack.plan import context_schema
+
+    if not folder.is_dir():
+        raise InputError([Problem(str(folder), 0, 0, "", "no such rules folder")])
+    library_path = folder / CAUTIONS_FILE
+    library_data, library_marks = parse_yaml(read_text(library_path), str(library_path))
+    library = validate(CautionLibrary, library_data, library_marks, "caution library")
+    files = []
+    problems: list[Problem] = []
+    for path in sorted(folder.glob("*.yaml")):
+        if path.name in NOT_RULES:
+            continue
+        data, marks = parse_yaml(read_text(path), str(path))
+        try:
+            files.append((validate(RuleFile, data, marks, "rule file"), marks.problem))
+        except InputError as error:
+            problems.extend(error.problems)
+    if problems:
+        raise InputError(problems)
+    if not files:
+        raise InputError([Problem(str(folder), 0, 0, "", "no rule files (*.yaml) here")])
+    return build_ruleset(files, (library, library_marks.problem), context_schema,
+                         {name: parameters(name) for name in CALCULATIONS})

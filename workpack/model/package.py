@@ -125,6 +125,7 @@ class WorkPackage(Plain):
     date: dt.date
     title: str
     job_kind: str
+    clears_ground: bool = False
     priority: int = Field(ge=1, le=5, description="1 = most urgent")
     priority_reason: str
     duration_h: float = Field(gt=0)
@@ -147,6 +148,7 @@ class WorkPackage(Plain):
     restoration: tuple[Step, ...] = ()
     phasor: Phasor | None = None
     sketch: Sketch | None = None
+    instrument_supply: str | None = None  # element whose supply a test instrument needs
     notice: str = ("Local codes, the employer's safety rules and licensed practice prevail "
                    "over this package.")
 

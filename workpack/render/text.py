@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from workpack.diagnose import DayDiagnosis, ReadingSummary
 from workpack.isolation import IsolationPlan
+from workpack.plan import DayPlan
 from workpack.search import FaultSearch
 from workpack.summary import PlantSummary
 
@@ -167,4 +168,23 @@ def fault_search(search: FaultSearch) -> str:
     lines.append("\nWeights (rules/search-weights.yaml):")
     lines.extend(f"  {line}" for line in search.weights_used)
     lines.append("\nLocal codes, the employer's safety rules and licensed practice prevail.")
+    return "\n".join(lines) + "\n"
+
+
+def day_plan(plan: DayPlan) -> str:
+    lines = [f"{plan.plant}: work packages for {plan.date.isoformat()} "
+             f"({plan.crew_hours:g} person-hours)", ""]
+    used = 0.0
+    for package in plan.packages:
+        need = package.duration_h * package.crew
+        state = "scheduled" if package.id in plan.scheduled else "deferred"
+        if state == "scheduled":
+            used += need
+        lines.append(f"  {package.id}  P{package.priority}  {state:9}  "
+                     f"{package.duration_h:g} h × {package.crew}  {package.title}")
+    lines.append(f"\n{len(plan.scheduled)} scheduled ({used:g} person-hours), "
+                 f"{len(plan.deferred)} deferred")
+    for conflict in plan.conflicts:
+        lines.append(f"CONFLICT: {conflict.text}")
+    lines.append("Local codes, the employer's safety rules and licensed practice prevail.")
     return "\n".join(lines) + "\n"

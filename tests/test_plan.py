@@ -1,0 +1,147 @@
+"""Tomorrow's packages from the demo day: the right jobs, computed numbers, safe ranking."""
+
+from __future__ import annotations
+
+import datetime as dt
+import math
+
+import pytest
+from conftest import ROOT
+
+from workpack.loading import load_findings, load_findings_text, load_ruleset, load_weights
+from workpack.model.package import SignalWord, WorkPackage
+from workpack.plan import DayPlan, plan_day
+from workpack.topology import Topology
+
+DAY = dt.date(2026, 12, 2)
+
+
+@pytest.fixture(scope="module")
+def ruleset():
+    return load_ruleset(ROOT / "rules")
+
+
+@pytest.fixture(scope="module")
+def weights():
+    return load_weights(ROOT / "rules" / "search-weights.yaml")
+
+
+def day_plan(topology: Topology, findings, ruleset, standards, weights,
+             crew_hours: float = 200.0) -> DayPlan:
+    return plan_day(topology.plant, topology, findings, DAY, ruleset, standards, weights,
+                    crew_hours)
+
+
+@pytest.fixture(scope="module")
+def demo(demo_vessel, ruleset, standards, weights) -> DayPlan:
+    findings = load_findings(ROOT / "plants" / "demo-vessel-findings.yaml", demo_vessel)
+    return day_plan(demo_vessel, findings, ruleset, standards, weights)
+
+
+def package(plan: DayPlan, rule: str, item: str | None = None) -> WorkPackage:
+    return next(p for p in plan.packages
+                if p.origin.rule == rule and (item is None or p.item == item))
+
+
+def test_demo_day_gives_the_jobs_a_supervisor_expects(demo: DayPlan) -> None:
+    rules = {(p.origin.rule, p.item) for p in demo.packages}
+    assert {("failed-unit-open-delta", "T1"), ("locate-ground", "MSB"),
+            ("ground-behind-transformer", "LP-MAIN"), ("low-insulation", "WL-1"),
+            ("tripped-breaker", "CR-1"), ("water-ingress-defect", "DK-SO"),
+            ("detector-test", "MSB")} <= rules
+    # Two findings on the MSB system (lamps and voltmeters) make one search, not two.
+    assert sum(1 for p in demo.packages if p.origin.rule == "locate-ground") == 1
+    assert package(demo, "locate-ground").origin.findings == ("F1", "F2")
+
+
+def test_every_package_on_a_grounded_insulated_system_carries_the_second_ground_caution(
+    demo: DayPlan,
+) -> None:
+    grounded = {"MSB", "LP-MAIN"}
+    for work in demo.packages:
+        if work.system in grounded:
+            assert any(c.signal_word is SignalWord.danger and c.id == "second-ground"
+                       for c in work.cautions), work.id
+
+
+def test_open_delta_limit_is_the_computed_capacity(demo: DayPlan) -> None:
+    """Three 25 kVA units: √3 × 25 kVA = 43.3 kVA = 57.7 % of 75 kVA (SOURCES.md)."""
+    bank = package(demo, "failed-unit-open-delta")
+    reading = bank.steps[0].readings[0]
+    assert reading.limit.high == pytest.approx(math.sqrt(3) * 25e3)
+    assert "43.3 kVA" in reading.limit.basis
+
+
+def test_replaced_unit_ratio_and_secondary_voltage_come_from_the_nameplates(demo) -> None:
+    """Dd0, 440/115 V: winding ratio 3.826; secondary 115 V line to line."""
+    bank = package(demo, "failed-unit-open-delta")
+    ratios = [r for s in bank.steps for r in s.readings if "turns ratio" in r.what]
+    assert len(ratios) == 3 and ratios[0].expected == pytest.approx(440 / 115)
+    secondary = [r for s in bank.restoration for r in s.readings if "secondary" in r.what]
+    assert secondary[0].expected == pytest.approx(115.0)
+
+
+def test_windlass_test_voltage_and_minimum_come_from_ieee_43(demo: DayPlan) -> None:
+    """Below 1 kV: 500 V DC; random-wound stator minimum 5 MΩ at 40 °C (IEEE Std 43 (2013),
+    test-voltage table and 12.3)."""
+    windlass = package(demo, "low-insulation", "WL-1")
+    reading = windlass.steps[1].readings[0]
+    assert "500 V DC" in reading.what
+    assert reading.limit.low == pytest.approx(5e6)
+    assert reading.limit.temperature_corrected_to_c == pytest.approx(40.0)
+    assert [p.device for p in windlass.isolation] == ["CB-WL1", "CB-DK-H-WL1"]
+
+
+def test_restoration_expects_the_computed_healthy_phase_to_earth(demo: DayPlan) -> None:
+    """440 V insulated system, healthy: 440/√3 = 254 V each phase to earth."""
+    search = package(demo, "locate-ground")
+    readings = search.restoration[0].readings
+    assert [r.expected for r in readings] == pytest.approx([440 / math.sqrt(3)] * 3)
+    assert "254" in readings[0].basis
+
+
+def test_hazard_fact_states_the_voltage_of_the_healthy_phases(demo: DayPlan) -> None:
+    windlass = package(demo, "low-insulation", "WL-1")
+    assert windlass.hazard_facts[0].startswith(
+        "Phase B of the 440 V MSB system is grounded: phases A and C stand at up to 348 V")
+
+
+def test_jobs_that_clear_a_ground_come_first_within_their_priority(demo: DayPlan) -> None:
+    ranked = [(p.priority, not p.clears_ground) for p in demo.packages]
+    assert ranked == sorted(ranked)
+    assert [p.id for p in demo.packages] == sorted(p.id for p in demo.packages)
+
+
+def test_crew_hours_are_never_overbooked(demo_vessel, ruleset, standards, weights) -> None:
+    findings = load_findings(ROOT / "plants" / "demo-vessel-findings.yaml", demo_vessel)
+    plan = day_plan(demo_vessel, findings, ruleset, standards, weights, crew_hours=16)
+    booked = sum(p.duration_h * p.crew for p in plan.packages if p.id in plan.scheduled)
+    assert 0 < booked <= 16
+    assert plan.deferred and set(plan.scheduled).isdisjoint(plan.deferred)
+
+
+def test_two_jobs_on_one_breaker_and_two_vital_loads_are_conflicts(
+    demo_vessel, ruleset, standards, weights,
+) -> None:
+    findings = load_findings_text("""
+date: 2026-12-01
+findings:
+  - {kind: insulation_resistance, at: 2026-12-01T09:00, by: x, where: WL-1,
+     test_voltage: 500 V, reading: 1 MΩ, temperature: 20 °C}
+  - {kind: breaker_tripped, at: 2026-12-01T09:30, by: x, where: CB-WL1}
+  - {kind: insulation_resistance, at: 2026-12-01T10:00, by: x, where: SG-2,
+     test_voltage: 500 V, reading: 1 MΩ, temperature: 20 °C}
+""", "f.yaml", demo_vessel)
+    plan = day_plan(demo_vessel, findings, ruleset, standards, weights)
+    texts = [c.text for c in plan.conflicts]
+    assert any("both isolate CB-WL1" in t for t in texts)
+    # SG-2 (vital, from this day's finding) and FP-1/SG-1 (vital, routine tests due).
+    assert any("two vital loads" in t and "SG-2" in t for t in texts)
+
+
+def test_same_inputs_give_the_same_packages(demo_vessel, ruleset, standards, weights) -> None:
+    findings = load_findings(ROOT / "plants" / "demo-vessel-findings.yaml", demo_vessel)
+    first = day_plan(demo_vessel, findings, ruleset, standards, weights)
+    second = day_plan(demo_vessel, findings, ruleset, standards, weights)
+    assert [p.model_dump_json() for p in first.packages] == [
+        p.model_dump_json() for p in second.packages]

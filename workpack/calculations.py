@@ -1,0 +1,245 @@
+"""Named calculations that rules call for: each gives readings with expected values and limits.
+
+A rule asks for ``calc: insulation_resistance`` with ``params: {element: ...}``;
+the function here computes, from plant data and the standards tables, what
+the technician should read and what is acceptable, and says where each number
+comes from. Nothing else in a package may carry a number a person compares
+with. Pure: plant, topology and tables arrive as arguments.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass
+from typing import Any
+
+from workpack.diagnose import (
+    connected_load_va,
+    downstream_loads,
+    insulation_code_set,
+    rated_voltage,
+    winding_of,
+)
+from workpack.electrical import (
+    dc_test_voltage,
+    line_to_neutral,
+    minimum_insulation_resistance,
+    open_delta,
+    transformer_bank,
+)
+from workpack.electrical.standards import CodeSet
+from workpack.model.package import Limit, Reading
+from workpack.model.plant import Bus, Load, Transformer
+from workpack.topology import Topology
+
+# Common practice, not a published limit: on a healthy balanced system each
+# reading within 10 % of its computed value; outside it, look for the cause.
+BALANCE_BAND = 0.10
+# Turns-ratio acceptance: within 0.5 % of the calculated ratio (ANSI/NETA MTS,
+# transformer section; from memory, not confirmed against the text).
+RATIO_BAND = 0.005
+
+
+@dataclass(frozen=True)
+class CalcContext:
+    topology: Topology
+    standards: Mapping[str, CodeSet]
+    prefix: str  # reading ids: "<prefix>.R<n>"
+
+
+class CalcError(ValueError):
+    """A calculation cannot be made for the element a rule named."""
+
+
+def _element(ctx: CalcContext, element_id: str) -> Any:
+    if element_id not in ctx.topology.elements:
+        raise CalcError(f"no element {element_id!r} in the plant")
+    return ctx.topology.elements[element_id]
+
+
+def _system_voltage(ctx: CalcContext, element_id: str) -> float:
+    _element(ctx, element_id)
+    island = ctx.topology.island_of(ctx.topology.node_out(element_id))
+    if island.voltage is None:
+        raise CalcError(f"the system of {element_id} has no known voltage")
+    return island.voltage
+
+
+def _labels(ctx: CalcContext) -> tuple[str, str, str]:
+    return ctx.topology.plant.plant.sequence
+
+
+def _band(value: float, basis: str) -> Limit:
+    return Limit(low=value * (1 - BALANCE_BAND), high=value * (1 + BALANCE_BAND),
+                 basis=f"{basis}; ±{BALANCE_BAND:.0%} band: common practice")
+
+
+def healthy_phase_to_earth(ctx: CalcContext, at: str) -> tuple[Reading, ...]:
+    """Each phase to earth on a healthy insulated system: V_LL/√3 (SOURCES.md), V."""
+    voltage = _system_voltage(ctx, at)
+    expected = line_to_neutral(voltage)
+    basis = f"computed: {voltage:g} V / √3 = {expected:.0f} V"
+    return tuple(
+        Reading(id=f"{ctx.prefix}.R{n}", what=f"phase {phase} to earth at {at}", unit="V",
+                expected=expected, tolerance=BALANCE_BAND * expected,
+                limit=_band(expected, basis), basis=basis)
+        for n, phase in enumerate(_labels(ctx), start=1))
+
+
+def record_phase_to_earth(ctx: CalcContext, at: str) -> tuple[Reading, ...]:
+    """Each phase to earth as found: recorded, not judged (the search compares with it)."""
+    _system_voltage(ctx, at)
+    return tuple(
+        Reading(id=f"{ctx.prefix}.R{n}", what=f"phase {phase} to earth at {at}, as found",
+                unit="V", basis="record as found")
+        for n, phase in enumerate(_labels(ctx), start=1))
+
+
+def line_voltages(ctx: CalcContext, at: str) -> tuple[Reading, ...]:
+    """Line-to-line voltages at a bus: the system's nominal voltage, V."""
+    voltage = _system_voltage(ctx, at)
+    a, b, c = _labels(ctx)
+    basis = f"nominal voltage of the system at {at} (plant file)"
+    return tuple(
+        Reading(id=f"{ctx.prefix}.R{n}", what=f"{x}-{y} at {at}", unit="V", expected=voltage,
+                tolerance=BALANCE_BAND * voltage, limit=_band(voltage, basis), basis=basis)
+        for n, (x, y) in enumerate(((a, b), (b, c), (c, a)), start=1))
+
+
+def insulation_resistance(ctx: CalcContext, element: str) -> tuple[Reading, ...]:
+    """Each phase to earth of an element: test voltage and minimum from its code set."""
+    target = _element(ctx, element)
+    code_set = insulation_code_set(ctx.topology.plant, target, ctx.standards)
+    voltage = rated_voltage(ctx.topology, target)
+    winding, assumption = winding_of(target, voltage)
+    test = dc_test_voltage(code_set, voltage)
+    minimum = minimum_insulation_resistance(code_set, voltage, winding=winding)
+    dc = f"{test.min_v:g} V" if test.min_v == test.max_v else f"{test.min_v:g}–{test.max_v:g} V"
+    basis = f"{minimum.citation}" + (f"; {assumption}" if assumption else "")
+    unit = "MΩ" if minimum.minimum_ohm >= 1e6 else "kΩ"
+    return tuple(
+        Reading(id=f"{ctx.prefix}.R{n}",
+                what=f"{element} phase {phase} to earth, {dc} DC for 1 min ({test.citation})",
+                unit=unit,
+                limit=Limit(low=minimum.minimum_ohm, basis=basis,
+                            temperature_corrected_to_c=minimum.reference_c),
+                needs_temperature=minimum.reference_c is not None)
+        for n, phase in enumerate(_labels(ctx), start=1))
+
+
+def polarization_index(ctx: CalcContext, element: str) -> tuple[Reading, ...]:
+    """10-min / 1-min ratio of a winding against its thermal class minimum (IEEE 43)."""
+    target = _element(ctx, element)
+    if not isinstance(target, Load) or not target.insulation_class:
+        raise CalcError(f"{element} has no insulation_class in the plant file: the "
+                        "polarization index minimum depends on it")
+    code_set = insulation_code_set(ctx.topology.plant, target, ctx.standards)
+    rule = code_set.polarization_index
+    if rule is None:
+        raise CalcError(f"code set {code_set.name} has no polarization index table")
+    minimum = rule.minimum_by_class[target.insulation_class]
+    return (Reading(id=f"{ctx.prefix}.R1", what=f"{element} polarization index (10 min / 1 min)",
+                    unit="", limit=Limit(low=minimum, basis=str(rule.citation))),)
+
+
+def bank_of(ctx: CalcContext, element_id: str) -> Transformer:
+    target = _element(ctx, element_id)
+    if not isinstance(target, Transformer):
+        raise CalcError(f"{element_id} is not a transformer")
+    return target
+
+
+def winding_ratio(bank: Transformer) -> float:
+    """HV winding voltage / LV winding voltage of one phase, from the line voltages."""
+    hv = bank.primary_voltage if bank.vector_group[0] == "D" else (
+        bank.primary_voltage / math.sqrt(3))
+    lv_letter = bank.vector_group.lstrip("DYNZ")[0]
+    lv = bank.secondary_voltage if lv_letter == "d" else bank.secondary_voltage / math.sqrt(3)
+    return hv / lv
+
+
+def bank_secondary_voltages(ctx: CalcContext, bank: str) -> tuple[Reading, ...]:
+    """Secondary line voltages of a bank from its primary voltage and turns ratio, V."""
+    transformer = bank_of(ctx, bank)
+    ratings = transformer_bank(transformer.primary_voltage, winding_ratio(transformer),
+                               transformer.vector_group, sequence="-".join(_labels(ctx)))
+    a, b, c = _labels(ctx)
+    basis = (f"computed: {transformer.primary_voltage:g} V primary, winding ratio "
+             f"{winding_ratio(transformer):.4g}, {transformer.vector_group}")
+    expected = ratings.secondary_line_v
+    return tuple(
+        Reading(id=f"{ctx.prefix}.R{n}", what=f"secondary {x}-{y} of {bank}", unit="V",
+                expected=expected, tolerance=BALANCE_BAND * expected,
+                limit=_band(expected, basis), basis=basis)
+        for n, (x, y) in enumerate(((a, b), (b, c), (c, a)), start=1))
+
+
+def turns_ratio(ctx: CalcContext, bank: str) -> tuple[Reading, ...]:
+    """Turns ratio of each unit of a bank, from the nameplate voltages."""
+    transformer = bank_of(ctx, bank)
+    ratio = winding_ratio(transformer)
+    basis = ("±0.5 % of the calculated ratio: ANSI/NETA MTS transformer turns-ratio "
+             "acceptance (from memory)")
+    a, b, c = _labels(ctx)
+    return tuple(
+        Reading(id=f"{ctx.prefix}.R{n}", what=f"turns ratio of the {x}{y} unit of {bank}",
+                unit="", expected=ratio, tolerance=RATIO_BAND * ratio,
+                limit=Limit(low=ratio * (1 - RATIO_BAND), high=ratio * (1 + RATIO_BAND),
+                            basis=basis),
+                basis=f"computed: winding voltages {transformer.primary_voltage:g} V / "
+                      f"{transformer.secondary_voltage:g} V, {transformer.vector_group}")
+        for n, (x, y) in enumerate(((a, b), (b, c), (c, a)), start=1))
+
+
+def open_delta_load(ctx: CalcContext, bank: str) -> tuple[Reading, ...]:
+    """The load a bank carries in open delta against √3 × one unit's rating, kVA."""
+    transformer = bank_of(ctx, bank)
+    if transformer.unit_kva is None:
+        raise CalcError(f"{bank} is not a bank of single-phase units")
+    loads = downstream_loads(ctx.topology, bank)
+    check = open_delta([transformer.unit_kva] * 3, failed_unit=0,
+                       load_va=connected_load_va(loads), vector_group=transformer.vector_group)
+    return (Reading(
+        id=f"{ctx.prefix}.R1", what=f"total load on {bank} in open delta", unit="kVA",
+        limit=Limit(high=check.open_delta_capacity_va,
+                    basis=f"computed: √3 × {transformer.unit_kva / 1e3:g} kVA = "
+                          f"{check.open_delta_capacity_va / 1e3:.1f} kVA (1/√3 = 57.7 % of "
+                          "the closed bank)")),)
+
+
+def monitor_above_alarm(ctx: CalcContext, at: str) -> tuple[Reading, ...]:
+    """An insulation monitor's reading once the system is healthy: above its settings, Ω."""
+    target = _element(ctx, at)
+    island = ctx.topology.island_of(ctx.topology.node_out(at))
+    monitors = [d for d in island.detectors if d.alarm is not None]
+    if isinstance(target, Bus) and target.detector and target.detector.alarm is not None:
+        monitors = [target.detector]
+    if not monitors:
+        raise CalcError(f"no insulation monitor watches the system of {at}")
+    monitor = monitors[0]
+    threshold = monitor.prewarning or monitor.alarm
+    assert threshold is not None
+    return (Reading(id=f"{ctx.prefix}.R1", what=f"insulation monitor {monitor.id} reading",
+                    unit="kΩ", limit=Limit(low=threshold,
+                                           basis=f"{monitor.id} setting in the plant file")),)
+
+
+CALCULATIONS: dict[str, Callable[..., tuple[Reading, ...]]] = {
+    "healthy_phase_to_earth": healthy_phase_to_earth,
+    "line_voltages": line_voltages,
+    "record_phase_to_earth": record_phase_to_earth,
+    "insulation_resistance": insulation_resistance,
+    "polarization_index": polarization_index,
+    "bank_secondary_voltages": bank_secondary_voltages,
+    "turns_ratio": turns_ratio,
+    "open_delta_load": open_delta_load,
+    "monitor_above_alarm": monitor_above_alarm,
+}
+
+
+def parameters(name: str) -> tuple[str, ...]:
+    """Parameter names a calculation takes (after its context)."""
+    import inspect
+
+    return tuple(list(inspect.signature(CALCULATIONS[name]).parameters)[1:])

@@ -1,0 +1,726 @@
+"""Tomorrow's jobs: diagnoses and due routine tests, through the rules, into work packages.
+
+1. Each diagnosis, and each routine test that falls due on the plan date, is
+   offered to the rules that apply to its kind; a rule whose condition holds
+   gives a job on an item. Jobs of one rule on the same item (or system, as
+   the rule says) are one package.
+2. Each package is filled from the plant and the calculations: isolation plan
+   and proving dead, steps with computed readings and limits, cautions (named
+   by the rule, automatic ones from the library, the isolation's hazards, the
+   ground's hazards), approach boundaries, the phasor diagram of a ground
+   finding and a one-line sketch.
+3. The day: packages ranked (second-ground risk first), fitted into the crew
+   hours, conflicts named.
+
+Pure: rules, tables and weights arrive loaded; nothing here reads or writes.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from collections.abc import Callable, Iterable, Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+from workpack.calculations import CALCULATIONS, CalcContext, CalcError
+from workpack.diagnose import DayDiagnosis, Diagnosis, diagnose_day, downstream_loads
+from workpack.electrical import approach_boundary, line_to_neutral
+from workpack.electrical.standards import CodeSet
+from workpack.isolation import IsolationPlan, plan_isolation
+from workpack.model.findings import Findings, Severity
+from workpack.model.package import (
+    ApproachBoundaries,
+    Caution,
+    IsolationPoint,
+    Limit,
+    Origin,
+    Phasor,
+    ProvingDead,
+    Reading,
+    SignalWord,
+    Sketch,
+    SketchNode,
+    Step,
+    WorkPackage,
+)
+from workpack.model.plant import (
+    Bus,
+    Cable,
+    Device,
+    Element,
+    Load,
+    Plant,
+    Routine,
+    Source,
+    Transformer,
+    Vitality,
+)
+from workpack.model.weights import SearchWeights
+from workpack.rules import Compiled, CompiledRule, CompiledStep, RuleError, RuleSet
+from workpack.search import plan_fault_search
+from workpack.topology import Topology, element_of
+
+# --- the context rules see -------------------------------------------------------------------
+
+ELEMENT_KINDS: dict[type[Element], str] = {
+    Source: "source", Bus: "bus", Device: "device", Transformer: "transformer",
+    Cable: "cable", Load: "load",
+}
+_ITEM_FIELDS = sorted({name for model in ELEMENT_KINDS for name in model.model_fields}
+                      | {"element", "label", "from", "feeds", "loads_below"} - {"from_"})
+
+
+def item_context(topology: Topology, element: Element) -> dict[str, Any]:
+    """The item as rules see it: every element field (None where it has none), what it
+    feeds directly and the loads below it in the normal state."""
+    data: dict[str, Any] = dict.fromkeys(_ITEM_FIELDS)
+    dumped = element.model_dump(mode="json", by_alias=True)
+    data.update(dumped)
+    data["element"] = ELEMENT_KINDS[type(element)]
+    data["label"] = element.label
+    data["feeds"] = list(topology.normal_children.get(element.id, ()))
+    data["loads_below"] = [load.id for load in downstream_loads(topology, element.id)]
+    return data
+
+
+def _finding_fields() -> list[str]:
+    from typing import get_args
+
+    from workpack.model.findings import Finding
+
+    union = get_args(get_args(Finding)[0])
+    return sorted({name for model in union for name in model.model_fields})
+
+
+SYSTEM_FIELDS = ("id", "voltage", "earthing", "insulated", "detectors", "monitor", "board",
+                 "grounded", "ground_phases", "second_ground", "highest_phase_to_earth_v",
+                 "transformer_fed")
+DIAGNOSIS_FIELDS = ("severity", "summary", "ground_present", "grounded_phase", "certain",
+                    "fault_resistance_ohm", "notes", "next_steps")
+ROUTINE_FIELDS = ("test", "every", "last_done", "due_on", "days_overdue")
+
+
+def context_schema(finding: bool, routine: bool) -> dict[str, Any]:
+    """What a rule's expressions may name, for the lint."""
+    schema: dict[str, Any] = {
+        "plant": dict.fromkeys(("name", "kind", "frequency")),
+        "item": dict.fromkeys(_ITEM_FIELDS),
+        "system": dict.fromkeys(SYSTEM_FIELDS),
+        "true": None, "false": None, "none": None,
+        "True": None, "False": None, "None": None,
+    }
+    if finding:
+        schema["finding"] = dict.fromkeys([*_finding_fields(), "kind"])
+        schema["diagnosis"] = dict.fromkeys(DIAGNOSIS_FIELDS)
+    if routine:
+        schema["routine"] = dict.fromkeys(ROUTINE_FIELDS)
+    return schema
+
+
+@dataclass(frozen=True)
+class SystemState:
+    """What the day's diagnoses say about one galvanic system."""
+
+    ground_phases: tuple[str, ...] = ()
+    grounded: bool = False
+    highest_phase_to_earth_v: float | None = None
+    cautions: tuple[tuple[str, str], ...] = ()
+    phasor: Phasor | None = None
+    findings: tuple[str, ...] = ()
+
+
+def system_states(topology: Topology, day: DayDiagnosis) -> dict[str, SystemState]:
+    states: dict[str, SystemState] = {}
+    for diagnosis in day.diagnoses:
+        if diagnosis.ground is None or diagnosis.island is None:
+            continue
+        state = states.get(diagnosis.island, SystemState())
+        phases = set(state.ground_phases)
+        if diagnosis.ground.phase and diagnosis.ground.certain:
+            phases.add(diagnosis.ground.phase)
+        highest = state.highest_phase_to_earth_v
+        if diagnosis.hazards is not None:
+            highest = max(highest or 0.0, diagnosis.hazards.highest_phase_to_earth_v)
+        phasor = state.phasor or _phasor(topology, diagnosis)
+        states[diagnosis.island] = SystemState(
+            ground_phases=tuple(sorted(phases)), grounded=True,
+            highest_phase_to_earth_v=highest,
+            cautions=tuple(dict.fromkeys((*state.cautions, *diagnosis.cautions))),
+            phasor=phasor, findings=(*state.findings, diagnosis.finding))
+    return states
+
+
+def _phasor(topology: Topology, diagnosis: Diagnosis) -> Phasor | None:
+    detail = diagnosis.detail
+    readings = getattr(detail, "readings_v", None)
+    if not readings or diagnosis.system_voltage_v is None:
+        return None
+    point = getattr(detail, "earth_point_v", None)
+    return Phasor(line_voltage_v=diagnosis.system_voltage_v,
+                  sequence=topology.plant.plant.sequence, readings_v=dict(readings),
+                  earth_point_v=(point.real, point.imag) if point is not None else None,
+                  grounded_phase=diagnosis.ground.phase if diagnosis.ground else None)
+
+
+def system_context(topology: Topology, element_id: str,
+                   states: Mapping[str, SystemState]) -> dict[str, Any]:
+    island = topology.island_of(topology.node_out(element_id))
+    state = states.get(island.id, SystemState())
+    monitors = [d.id for d in island.detectors if d.alarm is not None]
+    voltage = island.voltage
+    return {
+        "id": island.id,
+        "voltage": int(voltage) if voltage is not None and voltage.is_integer() else voltage,
+        "earthing": island.earthing.value if island.earthing else None,
+        "insulated": island.earthing is not None and island.earthing.value == "insulated",
+        "detectors": [d.id for d in island.detectors], "monitor": monitors[0] if monitors
+        else None, "board": (island.buses or (island.id,))[0], "grounded": state.grounded,
+        "ground_phases": list(state.ground_phases),
+        "second_ground": len(state.ground_phases) >= 2,
+        "highest_phase_to_earth_v": state.highest_phase_to_earth_v,
+        "transformer_fed": any(n.endswith(":secondary") for n in island.nodes),
+    }
+
+
+def diagnosis_context(diagnosis: Diagnosis) -> dict[str, Any]:
+    ground = diagnosis.ground
+    return {
+        "severity": diagnosis.severity.value, "summary": diagnosis.summary,
+        "ground_present": ground is not None,
+        "grounded_phase": ground.phase if ground else None,
+        "certain": bool(ground and ground.certain),
+        "fault_resistance_ohm": ground.resistance_ohm if ground else None,
+        "notes": list(diagnosis.notes), "next_steps": list(diagnosis.next_steps),
+    }
+
+
+def finding_context(findings: Findings, finding_id: str) -> dict[str, Any]:
+    finding = next(f for f in findings.findings if f.id == finding_id)
+    data: dict[str, Any] = dict.fromkeys(_finding_fields())
+    data.update(finding.model_dump(mode="json"))
+    return data
+
+
+# --- the day ------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class Conflict:
+    packages: tuple[str, ...]
+    text: str
+
+
+@dataclass(frozen=True)
+class DayPlan:
+    plant: str
+    date: dt.date
+    crew_hours: float
+    packages: tuple[WorkPackage, ...]  # ranked
+    scheduled: tuple[str, ...]
+    deferred: tuple[str, ...]
+    conflicts: tuple[Conflict, ...]
+    diagnosis: DayDiagnosis
+
+
+@dataclass(frozen=True)
+class _Job:
+    rule: CompiledRule
+    item: str
+    key: str
+    context: dict[str, Any]
+    findings: tuple[str, ...] = ()
+    routine: str | None = None
+    diagnoses: tuple[Diagnosis, ...] = field(default=())
+
+
+def due_routines(plant: Plant, day: dt.date) -> list[tuple[Element, Routine, dt.date]]:
+    """Routine tests whose interval has run out by ``day`` (or that were never done)."""
+    due = []
+    for element in plant.elements():
+        for routine in element.routine:
+            due_on = (routine.last_done + dt.timedelta(days=routine.interval_days)
+                      if routine.last_done else day)
+            if due_on <= day:
+                due.append((element, routine, due_on))
+    return due
+
+
+def plan_day(plant: Plant, topology: Topology, findings: Findings, day: dt.date,
+             ruleset: RuleSet, standards: Mapping[str, CodeSet], weights: SearchWeights,
+             crew_hours: float, past_grounds: Mapping[str, int] | None = None,
+             progress: Callable[[int, int], None] | None = None) -> DayPlan:
+    """Every package for ``day``, ranked and fitted into ``crew_hours`` (person-hours)."""
+    diagnosis = diagnose_day(plant, topology, findings, standards)
+    states = system_states(topology, diagnosis)
+    jobs = _match(plant, topology, findings, diagnosis, states, day, ruleset)
+    builder = _PackageBuilder(plant, topology, ruleset, standards, weights, day, states,
+                              past_grounds or {}, diagnosis)
+    drafts = []
+    for done, job in enumerate(jobs, start=1):
+        drafts.append(builder.build(job))
+        if progress:
+            progress(done, len(jobs))
+    ranked = sorted(drafts, key=_rank)
+    packages = tuple(p.model_copy(update={"id": f"WP-{day:%Y%m%d}-{n:02d}"})
+                     for n, p in enumerate(ranked, start=1))
+    scheduled, deferred, used = [], [], 0.0
+    for package in packages:
+        need = package.duration_h * package.crew
+        if used + need <= crew_hours + 1e-9:
+            scheduled.append(package.id)
+            used += need
+        else:
+            deferred.append(package.id)
+    chosen = [p for p in packages if p.id in scheduled]
+    return DayPlan(plant=plant.plant.name, date=day, crew_hours=crew_hours, packages=packages,
+                   scheduled=tuple(scheduled), deferred=tuple(deferred),
+                   conflicts=tuple(find_conflicts(topology, chosen)),
+                   diagnosis=diagnosis)
+
+
+def _rank(package: WorkPackage) -> tuple[Any, ...]:
+    """Priority; then jobs that remove a ground (the second-ground risk); findings before
+    routine; shorter first; then by item and rule, so the order never depends on input order."""
+    return (package.priority, not package.clears_ground, package.origin.routine is not None,
+            package.duration_h, package.item, package.origin.rule)
+
+
+def _match(plant: Plant, topology: Topology, findings: Findings, diagnosis: DayDiagnosis,
+           states: Mapping[str, SystemState], day: dt.date, ruleset: RuleSet) -> list[_Job]:
+    merged: dict[tuple[str, str], _Job] = {}
+    base = {"plant": {"name": plant.plant.name, "kind": plant.plant.kind.value,
+                      "frequency": plant.plant.frequency}}
+    offers: list[tuple[dict[str, Any], str, tuple[str, ...], str | None,
+                       tuple[Diagnosis, ...]]] = []
+    for found in diagnosis.diagnoses:
+        where = found.where
+        element_id = where if where in topology.elements else _detector_bus(topology, where)
+        context = {**base, "finding": finding_context(findings, found.finding),
+                   "diagnosis": diagnosis_context(found),
+                   "item": item_context(topology, topology.elements[element_id]),
+                   "system": system_context(topology, element_id, states)}
+        offers.append((context, found.kind, (found.finding,), None, (found,)))
+    for element, routine, due_on in due_routines(plant, day):
+        context = {**base, "routine": {
+            "test": routine.test.value, "every": routine.every,
+            "last_done": routine.last_done.isoformat() if routine.last_done else None,
+            "due_on": due_on.isoformat(), "days_overdue": (day - due_on).days},
+            "item": item_context(topology, element),
+            "system": system_context(topology, element.id, states)}
+        offers.append((context, f"routine:{routine.test.value}", (), routine.test.value, ()))
+    for context, kind, finding_ids, routine_test, diagnoses in offers:
+        for rule in ruleset.rules:
+            wanted = (routine_test in rule.routine) if routine_test else (kind in rule.findings)
+            if not wanted or (rule.items and context["item"]["element"] not in rule.items):
+                continue
+            if not _evaluate(rule, rule.when, context):
+                continue
+            item = str(_evaluate(rule, rule.item, context)).strip()
+            if item not in topology.elements:
+                raise RuleError(f"{rule.place}: rule {rule.id}: item {item!r} is not an "
+                                "element of the plant")
+            context = {**context, "item": item_context(topology, topology.elements[item]),
+                       "system": system_context(topology, item, states)}
+            key = {"item": item, "system": context["system"]["id"],
+                   "finding": ",".join(finding_ids) or item}[rule.one_per]
+            existing = merged.get((rule.id, key))
+            if existing is None:
+                merged[(rule.id, key)] = _Job(rule, item, key, context, finding_ids,
+                                              routine_test, diagnoses)
+            else:
+                merged[(rule.id, key)] = _Job(
+                    rule, existing.item, key, existing.context,
+                    existing.findings + finding_ids, existing.routine or routine_test,
+                    existing.diagnoses + diagnoses)
+    return [merged[k] for k in sorted(merged)]
+
+
+def _detector_bus(topology: Topology, detector_id: str) -> str:
+    for element in topology.plant.buses:
+        if element.detector and element.detector.id == detector_id:
+            return element.id
+    raise KeyError(detector_id)
+
+
+def _evaluate(rule: CompiledRule, compiled: Compiled, context: Mapping[str, Any]) -> Any:
+    try:
+        return compiled(context)
+    except RuleError as error:
+        raise RuleError(f"{rule.place}: rule {rule.id}: {error}") from None
+
+
+class _PackageBuilder:
+    def __init__(self, plant: Plant, topology: Topology, ruleset: RuleSet,
+                 standards: Mapping[str, CodeSet], weights: SearchWeights, day: dt.date,
+                 states: Mapping[str, SystemState], past_grounds: Mapping[str, int],
+                 diagnosis: DayDiagnosis):
+        self.plant = plant
+        self.topology = topology
+        self.ruleset = ruleset
+        self.standards = standards
+        self.weights = weights
+        self.day = day
+        self.states = states
+        self.past_grounds = past_grounds
+        self.diagnosis = diagnosis
+
+    def build(self, job: _Job) -> WorkPackage:
+        rule, context = job.rule, job.context
+        item = self.topology.elements[job.item]
+        system = context["system"]
+        priority = int(_evaluate(rule, rule.priority, context))
+        if system["second_ground"]:
+            priority = 1
+        isolation = plan_isolation(self.topology, job.item) if rule.isolate else None
+        steps = self._steps(rule, rule.steps, context, "S")
+        if rule.search_plan:
+            steps = self._with_search(steps, job)
+        restoration = self._steps(rule, rule.restoration, context, "X")
+        cautions = self._cautions(rule, context, isolation, steps + restoration)
+        title = str(_evaluate(rule, rule.title, context)).strip()
+        package_id = f"{rule.id}:{job.key}"
+        supply = (str(_evaluate(rule, rule.instrument_supply, context)).strip()
+                  if rule.instrument_supply is not None else None)
+        state = self.states.get(system["id"], SystemState())
+        others = [system_context(self.topology, node, self.states)
+                  for node in self._touching(job.item) if node != system["id"]]
+        hazard_facts = self._hazard_facts(system, state) + tuple(
+            fact for other in others
+            for fact in self._hazard_facts(other, self.states.get(other["id"], SystemState())))
+        for other in others:
+            cautions = _merge_cautions(cautions, self._cautions(
+                rule, {**context, "system": other}, None, ()))
+        highest = max((s.highest_phase_to_earth_v or 0.0 for s in
+                       [state, *(self.states.get(o["id"], SystemState()) for o in others)]),
+                      default=0.0)
+        return WorkPackage(
+            id=package_id, plant=self.plant.plant.name, date=self.day, title=title,
+            job_kind=rule.job_kind, clears_ground=rule.clears_ground,
+            priority=max(1, min(5, priority)),
+            priority_reason=self._priority_reason(job, system),
+            duration_h=rule.hours, crew=rule.crew, permits=rule.permits, item=job.item,
+            item_label=item.label, system=system["id"],
+            origin=Origin(rule=rule.id, findings=job.findings, routine=job.routine),
+            hazard_facts=hazard_facts,
+            cautions=cautions, approach=self._approach(job.item, highest or None),
+            ppe=self._ppe(system), isolation=_isolation_points(isolation),
+            isolation_gaps=tuple(h.text for h in isolation.hazards if h.severity == "DANGER"
+                                 and h.text.startswith("no lockable")) if isolation else (),
+            stored_energy=isolation.stored_energy if isolation else (),
+            proving_dead=_proving_dead(self.plant, isolation),
+            steps=steps, acceptance=self._acceptance(rule, context, steps, restoration),
+            restoration=restoration,
+            phasor=state.phasor if job.findings and state.grounded else None,
+            sketch=_sketch(self.topology, job.item, isolation),
+            instrument_supply=supply or None,
+        )
+
+    def _priority_reason(self, job: _Job, system: Mapping[str, Any]) -> str:
+        if system["second_ground"]:
+            return (f"grounds on phases {' and '.join(system['ground_phases'])} of the "
+                    f"{system['id']} system: second-ground risk")
+        if job.diagnoses:
+            worst = min(job.diagnoses, key=lambda d: _SEVERITY[d.severity])
+            return f"{worst.severity.value}: {worst.summary}"
+        if job.routine:
+            return f"routine {job.routine.replace('_', ' ')} due"
+        return "rule"
+
+    def _steps(self, rule: CompiledRule, steps: Sequence[CompiledStep],
+               context: Mapping[str, Any], prefix: str) -> tuple[Step, ...]:
+        built: list[Step] = []
+        for step in steps:
+            if step.when is not None and not _evaluate(rule, step.when, context):
+                continue
+            number = len(built) + 1
+            readings: list[Reading] = []
+            for calc, params in step.readings:
+                values = {name: str(_evaluate(rule, source, context)).strip()
+                          for name, source in params.items()}
+                calc_context = CalcContext(self.topology, self.standards,
+                                           f"{prefix}{number}.{len(readings) + 1}")
+                try:
+                    readings.extend(CALCULATIONS[calc](calc_context, **values))
+                except CalcError as error:
+                    raise RuleError(f"{rule.place}: rule {rule.id}: {calc}: {error}") from None
+            cautions = tuple(self._caution(rule, c, context) for c in step.cautions)
+            built.append(Step(number=number, text=str(_evaluate(rule, step.text, context)),
+                              readings=_renumber(readings), cautions=cautions,
+                              check_only=step.check_only and not readings))
+        return tuple(built)
+
+    def _with_search(self, steps: tuple[Step, ...], job: _Job) -> tuple[Step, ...]:
+        state = self.states.get(job.context["system"]["id"], SystemState())
+        as_found = state.phasor.readings_v if state.phasor else None
+        search = plan_fault_search(self.topology, job.item, self.weights, self.standards,
+                                   self.day, past_grounds=self.past_grounds,
+                                   as_found_v=as_found)
+        added = list(steps)
+        for step in search.steps:
+            opened = ", ".join(f"{d} ({w})" if w else d
+                               for d, w in zip(step.open_devices, step.where, strict=True))
+            text = f"Search {step.level}, step {step.number}: "
+            if step.transfer_first:
+                text += f"transfer {', '.join(step.transfer_first)} to the alternate supply; "
+            if step.permission_for:
+                text += f"get permission ({', '.join(step.permission_for)} is vital, no " \
+                        "alternate); "
+            text += f"open {opened}; watch the detector. {step.if_clears} {step.if_not_clear}"
+            added.append(Step(number=len(added) + 1, text=text, check_only=True))
+        for final in search.final_tests:
+            for section in final.sections:
+                low, high = section.test_voltage_v
+                dc = f"{low:g} V" if low == high else f"{low:g}–{high:g} V"
+                reading = Reading(
+                    id=f"S{len(added) + 1}.R1",
+                    what=f"{section.element} to earth at {dc} DC, if the search ends at "
+                         f"{final.feeder}", unit="MΩ" if section.minimum_ohm >= 1e6 else "kΩ",
+                    limit=Limit(low=section.minimum_ohm, basis=section.basis,
+                                temperature_corrected_to_c=section.reference_c),
+                    needs_temperature=section.reference_c is not None)
+                added.append(Step(number=len(added) + 1,
+                                  text=f"Final test {final.feeder} → {section.label}: isolate "
+                                       "the circuit, then test this section.",
+                                  readings=(reading,)))
+        return tuple(added)
+
+    def _caution(self, rule: CompiledRule, caution_id: str,
+                 context: Mapping[str, Any]) -> Caution:
+        entry = self.ruleset.cautions[caution_id]
+        return Caution(signal_word=entry.signal_word,
+                       text=str(_evaluate(rule, entry.text, context)).strip(), id=entry.id)
+
+    def _cautions(self, rule: CompiledRule, context: Mapping[str, Any],
+                  isolation: IsolationPlan | None,
+                  steps: Iterable[Step]) -> tuple[Caution, ...]:
+        found: list[Caution] = [self._caution(rule, c, context) for c in rule.cautions]
+        for entry in self.ruleset.cautions.values():
+            if entry.automatic and _evaluate(rule, entry.when, context):
+                found.append(self._caution(rule, entry.id, context))
+        state = self.states.get(context["system"]["id"], SystemState())
+        for word, text in state.cautions:
+            if "second ground" not in text.lower():  # the library's caution says it for all
+                found.append(Caution(signal_word=SignalWord(word), text=text))
+        if isolation is not None:
+            for hazard in isolation.hazards:
+                found.append(Caution(signal_word=SignalWord(hazard.severity), text=hazard.text))
+        for step in steps:
+            found.extend(step.cautions)
+        return _merge_cautions((), found)
+
+    def _hazard_facts(self, system: Mapping[str, Any], state: SystemState) -> tuple[str, ...]:
+        facts: list[str] = []
+        voltage = system["voltage"]
+        if state.ground_phases and voltage:
+            healthy = [p for p in self.plant.plant.sequence if p not in state.ground_phases]
+            highest = state.highest_phase_to_earth_v or voltage
+            facts.append(
+                f"Phase {' and '.join(state.ground_phases)} of the {voltage:g} V "
+                f"{system['id']} system {'is' if len(state.ground_phases) == 1 else 'are'} "
+                f"grounded: phase{'s' if len(healthy) > 1 else ''} {' and '.join(healthy)} "
+                f"stand{'' if len(healthy) > 1 else 's'} at up to {highest:.0f} V to earth "
+                f"(normally {line_to_neutral(voltage):.0f} V).")
+        elif state.grounded and voltage:
+            facts.append(f"A ground is indicated on the {voltage:g} V {system['id']} system, "
+                         f"phase not certain: treat every conductor as up to "
+                         f"{max(state.highest_phase_to_earth_v or 0.0, voltage):.0f} V to "
+                         "earth.")
+        if system["second_ground"]:
+            facts.append("Grounds on two phases of one system: a phase-to-phase fault through "
+                         "earth is waiting to happen.")
+        return tuple(facts)
+
+    def _touching(self, item_id: str) -> list[str]:
+        """Ids of the systems the item's own conductors belong to (both sides of a bank)."""
+        nodes = self.topology.work_nodes(item_id)
+        return sorted({self.topology.island_of(n).id for n in nodes})
+
+    def _approach(self, item_id: str, highest_v: float | None) -> ApproachBoundaries | None:
+        code_set = self.standards[self.plant.plant.code_set.approach_boundaries]
+        voltages = [self.topology.voltage_at(n) for n in self.topology.work_nodes(item_id)]
+        voltage = max((v for v in voltages if v), default=None)
+        if voltage is None:
+            return None
+        boundary = approach_boundary(code_set, voltage, highest_v)
+        if boundary is None:
+            return None
+        entered = max(voltage, highest_v or 0.0)
+        return ApproachBoundaries(
+            entered_at_v=entered, limited_movable=boundary.limited_movable_text,
+            limited_fixed=boundary.limited_fixed_text, restricted=boundary.restricted_text,
+            source=str(boundary.citation))
+
+    def _ppe(self, system: Mapping[str, Any]) -> tuple[str, ...]:
+        voltage = system["voltage"] or 0.0
+        return (
+            f"rubber insulating gloves with leather protectors, of a class rated for at least "
+            f"{voltage:g} V AC (ASTM D120 classes: 00 to 500 V, 0 to 1 kV; from memory)",
+            "safety glasses or face shield; arc-rated clothing as the employer's arc-flash "
+            "assessment requires (not computed here)",
+            "voltage tester rated for the system, with its own proving unit",
+            "padlocks and tags, one lock per person",
+        )
+
+    def _acceptance(self, rule: CompiledRule, context: Mapping[str, Any],
+                    steps: Sequence[Step], restoration: Sequence[Step]) -> tuple[str, ...]:
+        lines = [str(_evaluate(rule, text, context)).strip() for text in rule.acceptance]
+        for step in (*steps, *restoration):
+            for reading in step.readings:
+                if reading.limit is not None:
+                    lines.append(f"{reading.id} {reading.what}: {_limit_text(reading)}")
+        return tuple(lines)
+
+
+_WORD_ORDER = {SignalWord.danger: 0, SignalWord.warning: 1, SignalWord.caution: 2,
+               SignalWord.notice: 3}
+
+
+def _merge_cautions(first: Iterable[Caution], more: Iterable[Caution]) -> tuple[Caution, ...]:
+    """One of each text, the gravest first (stable within a signal word)."""
+    unique: dict[str, Caution] = {}
+    for caution in (*first, *more):
+        unique.setdefault(caution.text, caution)
+    return tuple(sorted(unique.values(), key=lambda c: _WORD_ORDER[c.signal_word]))
+
+
+_SEVERITY = {Severity.urgent: 0, Severity.high: 1, Severity.routine: 2, Severity.low: 3}
+
+
+def _renumber(readings: list[Reading]) -> tuple[Reading, ...]:
+    """Reading ids S<step>.R<n>, in the order they appear."""
+    out = []
+    for n, reading in enumerate(readings, start=1):
+        step = reading.id.split(".")[0]
+        out.append(reading.model_copy(update={"id": f"{step}.R{n}"}))
+    return tuple(out)
+
+
+def _scaled(value: float, unit: str) -> str:
+    scale = {"kΩ": 1e3, "MΩ": 1e6, "kVA": 1e3}.get(unit, 1.0)
+    return f"{value / scale:.3g} {unit}".strip()
+
+
+def _limit_text(reading: Reading) -> str:
+    assert reading.limit is not None
+    limit = reading.limit
+    parts = []
+    if limit.low is not None and limit.high is not None:
+        parts.append(f"between {_scaled(limit.low, reading.unit)} and "
+                     f"{_scaled(limit.high, reading.unit)}")
+    elif limit.low is not None:
+        parts.append(f"at least {_scaled(limit.low, reading.unit)}")
+    elif limit.high is not None:
+        parts.append(f"at most {_scaled(limit.high, reading.unit)}")
+    if limit.temperature_corrected_to_c is not None:
+        parts.append(f"after correction to {limit.temperature_corrected_to_c:g} °C")
+    return " ".join(parts) + f" ({limit.basis})"
+
+
+def _isolation_points(plan: IsolationPlan | None) -> tuple[IsolationPoint, ...]:
+    if plan is None:
+        return ()
+    return tuple(IsolationPoint(order=p.order, device=p.device, device_kind=p.device_kind,
+                                location=p.location, cuts=p.reason, voltage_v=p.voltage,
+                                already_open=p.already_open) for p in plan.points)
+
+
+def _proving_dead(plant: Plant, plan: IsolationPlan | None) -> tuple[ProvingDead, ...]:
+    if plan is None:
+        return ()
+    a, b, c = plant.plant.sequence
+    three = (f"{a}-{b}", f"{b}-{c}", f"{c}-{a}", f"{a}-E", f"{b}-E", f"{c}-E")
+    two = ("1-2", "1-E", "2-E")
+    return tuple(ProvingDead(where=v.where, voltage_v=v.voltage,
+                             pairs=two if "heater" in v.where or "control" in v.where else three)
+                 for v in plan.verify)
+
+
+def _sketch(topology: Topology, item_id: str, plan: IsolationPlan | None) -> Sketch | None:
+    """Item, its normal supply, and every isolation point with the path to it."""
+    nodes: dict[str, SketchNode] = {}
+    edges: list[tuple[str, str]] = []
+    locked = set(plan.devices) if plan else set()
+
+    def add(element_id: str) -> None:
+        if element_id in nodes:
+            return
+        element = topology.elements[element_id]
+        kind = "item" if element_id == item_id else ELEMENT_KINDS[type(element)]
+        label = element_id
+        if isinstance(element, Bus):
+            label = f"{element_id} {element.voltage:g} V"
+        nodes[element_id] = SketchNode(id=element_id, label=label, kind=kind,
+                                       isolate=element_id in locked)
+
+    def chain(path: Sequence[str]) -> None:
+        kept = [p for p in dict.fromkeys(element_of(n) for n in path)
+                if p == item_id or p in locked
+                or isinstance(topology.elements[p], Source | Bus | Transformer)]
+        for element_id in kept:
+            add(element_id)
+        for upstream, downstream in zip(kept, kept[1:], strict=False):
+            if (upstream, downstream) not in edges and upstream != downstream:
+                edges.append((upstream, downstream))
+
+    for path in topology.normal_supply_paths(item_id)[:2]:
+        chain(path)
+    if plan is not None:
+        for point in plan.points:
+            upstream = topology.normal_supply_paths(point.device)[:1]
+            chain([*(upstream[0] if upstream else (point.device,)),
+                   *reversed(point.via)])
+    add(item_id)
+    if len(nodes) < 2:
+        return None
+    return Sketch(nodes=tuple(nodes.values()), edges=tuple(edges))
+
+
+def find_conflicts(topology: Topology, packages: Sequence[WorkPackage]) -> list[Conflict]:
+    """Clashes between the day's scheduled packages."""
+    conflicts: list[Conflict] = []
+    by_device: dict[str, list[str]] = {}
+    dead: dict[str, set[str]] = {}
+    for package in packages:
+        for point in package.isolation:
+            by_device.setdefault(point.device, []).append(package.id)
+        dead[package.id] = {load.id for point in package.isolation
+                            for load in downstream_loads(topology, point.device)}
+        dead[package.id] |= {package.item}
+    for device, ids in sorted(by_device.items()):
+        if len(ids) > 1:
+            conflicts.append(Conflict(tuple(ids), f"{' and '.join(ids)} both isolate {device}: "
+                                                  "each applies its own lock; neither "
+                                                  "restores it while the other is open"))
+    vital = {load.id for load in topology.plant.loads if load.vitality is Vitality.vital}
+    for n, first in enumerate(packages):
+        for second in packages[n + 1:]:
+            both = sorted(dead[first.id] & vital), sorted(dead[second.id] & vital)
+            if both[0] and both[1] and set(both[0]) != set(both[1]):
+                conflicts.append(Conflict(
+                    (first.id, second.id),
+                    f"{first.id} takes out {', '.join(both[0])} and {second.id} takes out "
+                    f"{', '.join(both[1])}: two vital loads; never at the same time"))
+    for user in packages:
+        if user.instrument_supply is None:
+            continue
+        for other in packages:
+            below = {e.id for point in other.isolation
+                     for e in _elements_below(topology, point.device)}
+            if other.id != user.id and user.instrument_supply in below:
+                conflicts.append(Conflict(
+                    (user.id, other.id),
+                    f"{other.id} isolates the supply of {user.instrument_supply}, which "
+                    f"{user.id} needs for its test instrument: do them at different times"))
+    return conflicts
+
+
+def _elements_below(topology: Topology, element_id: str) -> list[Element]:
+    found, stack, seen = [], [element_id], {element_id}
+    while stack:
+        node = stack.pop()
+        for child in topology.normal_children.get(node, ()):
+            if child not in seen:
+                seen.add(child)
+                found.append(topology.elements[child])
+                stack.append(child)
+    return found

@@ -1,0 +1,392 @@
+"""Rule expressions and templates: compiled in a sandbox, checked before they ever run.
+
+Rule files are written by people and may be edited on board, so they are data,
+never code: Jinja2's ``ImmutableSandboxedEnvironment`` with ``StrictUndefined``,
+no loader (so ``include``, ``import`` and ``extends`` have nothing to read), no
+globals, an allow-list of filters and tests, and no function calls at all.
+Beyond what the sandbox refuses at run time, ``lint_source`` refuses at load
+time: private attributes (``__class__``), calls, file-reading tags, unknown
+names and unknown attributes, each with the nearest known name. Pure.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Iterator, Mapping, Sequence
+from dataclasses import dataclass
+from typing import Any, Literal
+
+from jinja2 import StrictUndefined, TemplateSyntaxError, nodes
+from jinja2.exceptions import SecurityError, UndefinedError
+from jinja2.sandbox import ImmutableSandboxedEnvironment
+
+from workpack.errors import InputError, Problem, WorkpackError, did_you_mean
+from workpack.model.package import SignalWord
+from workpack.model.rules import CautionLibrary, Rule, RuleFile, StepRule
+
+ALLOWED_FILTERS = ("abs", "default", "first", "float", "format", "int", "join", "last",
+                   "length", "list", "lower", "max", "min", "replace", "round", "sort",
+                   "title", "upper")
+ALLOWED_TESTS = ("defined", "divisibleby", "eq", "even", "ge", "gt", "in", "le", "lt", "ne",
+                 "none", "number", "odd", "string", "undefined")
+REFUSED_NODES: dict[type[nodes.Node], str] = {
+    nodes.Include: "'include' reads files: not allowed in a rule",
+    nodes.Import: "'import' reads files: not allowed in a rule",
+    nodes.FromImport: "'import' reads files: not allowed in a rule",
+    nodes.Extends: "'extends' reads files: not allowed in a rule",
+    nodes.Macro: "macros are not allowed in a rule",
+    nodes.CallBlock: "call blocks are not allowed in a rule",
+    nodes.Call: "function and method calls are not allowed in a rule",
+}
+
+Schema = Mapping[str, Any]  # name → nested schema, or None for a plain value
+
+
+class RuleError(WorkpackError):
+    """A rule failed while being applied (a value it needs is missing)."""
+
+
+def _environment() -> ImmutableSandboxedEnvironment:
+    environment = ImmutableSandboxedEnvironment(undefined=StrictUndefined, autoescape=False,
+                                                keep_trailing_newline=False)
+    environment.globals.clear()
+    environment.filters = {name: environment.filters[name] for name in ALLOWED_FILTERS}
+    environment.tests = {name: environment.tests[name] for name in ALLOWED_TESTS}
+    return environment
+
+
+ENVIRONMENT = _environment()
+
+
+@dataclass(frozen=True)
+class Compiled:
+    """A checked expression or template, ready to evaluate."""
+
+    source: str
+    mode: Literal["expression", "template"]
+    _run: Any
+
+    def __call__(self, context: Mapping[str, Any]) -> Any:
+        try:
+            if self.mode == "expression":
+                return self._run(**context)
+            return self._run.render(**context)
+        except (UndefinedError, SecurityError, TypeError, ValueError, ZeroDivisionError) as e:
+            raise RuleError(f"{self.source!r}: {e}") from None
+
+
+def lint_source(source: str, mode: Literal["expression", "template"],
+                schema: Schema) -> list[str]:
+    """Everything wrong with a rule text, one message each; empty when it may run."""
+    try:
+        tree = ENVIRONMENT.parse(_as_template(source, mode))
+    except TemplateSyntaxError as error:
+        return [f"syntax: {error.message}"]
+    problems: list[str] = []
+    for node in tree.find_all(nodes.Node):
+        for refused, why in REFUSED_NODES.items():
+            if isinstance(node, refused):
+                problems.append(why)
+        if isinstance(node, nodes.Getattr) and node.attr.startswith("_"):
+            problems.append(f"attribute {node.attr!r} is private: not allowed in a rule")
+        if isinstance(node, nodes.Getitem) and isinstance(node.arg, nodes.Const) and (
+            isinstance(node.arg.value, str) and node.arg.value.startswith("_")
+        ):
+            problems.append(f"key {node.arg.value!r} is private: not allowed in a rule")
+        if isinstance(node, nodes.Filter) and node.name not in ALLOWED_FILTERS:
+            problems.append(f"filter {node.name!r} is not allowed"
+                            f"{did_you_mean(node.name, ALLOWED_FILTERS)}")
+        if isinstance(node, nodes.Test) and node.name not in ALLOWED_TESTS:
+            problems.append(f"test {node.name!r} is not allowed"
+                            f"{did_you_mean(node.name, ALLOWED_TESTS)}")
+    problems.extend(_unknown_names(tree, schema))
+    return sorted(set(problems), key=problems.index)
+
+
+def _as_template(source: str, mode: str) -> str:
+    return "{{ (" + source + ") }}" if mode == "expression" else source
+
+
+def _unknown_names(tree: nodes.Template, schema: Schema) -> Iterator[str]:
+    local = {n.name for n in tree.find_all(nodes.Name) if n.ctx in ("store", "param")}
+    for node in tree.find_all((nodes.Getattr, nodes.Name)):
+        path = _attribute_path(node)
+        if path is None or path[0] in local:
+            continue
+        if isinstance(node, nodes.Name) and node.ctx != "load":
+            continue
+        yield from _check_path(path, schema)
+
+
+def _attribute_path(node: nodes.Node) -> list[str] | None:
+    """['item', 'rated_voltage'] for ``item.rated_voltage``; None for anything else."""
+    parts: list[str] = []
+    while isinstance(node, nodes.Getattr):
+        parts.append(node.attr)
+        node = node.node
+    if isinstance(node, nodes.Name):
+        return [node.name, *reversed(parts)]
+    return None
+
+
+def _check_path(path: list[str], schema: Schema) -> Iterator[str]:
+    level: Any = schema
+    for depth, part in enumerate(path):
+        if level is None:
+            return  # a plain value: what lies below is its own business (and calls are off)
+        if part not in level:
+            what = "name" if depth == 0 else "attribute"
+            hint = did_you_mean(part, level) or (
+                f" (known in {'.'.join(path[:depth]) or 'the context'}: "
+                f"{', '.join(sorted(level))})")
+            yield f"unknown {what} {'.'.join(path[: depth + 1])!r}{hint}"
+            return
+        level = level[part]
+
+
+def compile_source(source: str, mode: Literal["expression", "template"]) -> Compiled:
+    """Compile a text that ``lint_source`` passed."""
+    run: Any
+    if mode == "expression":
+        run = ENVIRONMENT.compile_expression(source, undefined_to_none=False)
+    else:
+        run = ENVIRONMENT.from_string(source)
+    return Compiled(source, mode, run)
+
+
+# --- rule files, checked and compiled -------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class CompiledStep:
+    text: Compiled
+    when: Compiled | None
+    readings: tuple[tuple[str, dict[str, Compiled]], ...]
+    cautions: tuple[str, ...]
+    check_only: bool
+
+
+@dataclass(frozen=True)
+class CompiledRule:
+    id: str
+    place: str  # "rules/ground.yaml:12", for errors while applying
+    findings: tuple[str, ...]
+    routine: tuple[str, ...]
+    items: tuple[str, ...]
+    one_per: str
+    when: Compiled
+    title: Compiled
+    item: Compiled
+    priority: Compiled
+    job_kind: str
+    clears_ground: bool
+    crew: int
+    hours: float
+    permits: tuple[str, ...]
+    isolate: bool
+    search_plan: bool
+    cautions: tuple[str, ...]
+    steps: tuple[CompiledStep, ...]
+    acceptance: tuple[Compiled, ...]
+    restoration: tuple[CompiledStep, ...]
+    instrument_supply: Compiled | None
+
+
+@dataclass(frozen=True)
+class CompiledCaution:
+    id: str
+    signal_word: SignalWord
+    text: Compiled
+    when: Compiled
+    automatic: bool
+
+
+@dataclass(frozen=True)
+class RuleSet:
+    rules: tuple[CompiledRule, ...]
+    cautions: Mapping[str, CompiledCaution]
+
+
+
+Place = Callable[[tuple[str | int, ...], str], Problem]
+
+
+def build_ruleset(
+    rule_files: Sequence[tuple[RuleFile, Place]],
+    library: tuple[CautionLibrary, Place],
+    schema_for: Callable[[bool, bool], Schema],
+    calculations: Mapping[str, tuple[str, ...]],
+) -> RuleSet:
+    """Lint every rule and caution, then compile them; all problems at once, located.
+
+    ``rule_files`` holds each file's rules and a function that places a field path in
+    that file; ``schema_for(finding, routine)`` says what the
+    expressions may name; ``calculations`` maps calculation names to their parameters.
+    """
+    problems: list[Problem] = []
+    caution_models, caution_place = library
+    caution_ids = [c.id for c in caution_models.cautions]
+    cautions: dict[str, CompiledCaution] = {}
+    for index, entry in enumerate(caution_models.cautions):
+        base = ("cautions", index)
+        if entry.id in cautions:
+            problems.append(caution_place((*base, "id"), f"caution {entry.id!r} is defined "
+                                                          "twice"))
+        # Cautions may be used by any rule: they may name only what every context has.
+        common = schema_for(False, False)
+        for field_name, mode in (("text", "template"), ("when", "expression")):
+            for message in lint_source(getattr(entry, field_name), mode, common):  # type: ignore[arg-type]
+                problems.append(caution_place((*base, field_name),
+                                              f"caution {entry.id}: {message}"))
+        cautions[entry.id] = CompiledCaution(
+            id=entry.id, signal_word=entry.signal_word,
+            text=_safe_compile(entry.text, "template"),
+            when=_safe_compile(entry.when, "expression"), automatic=entry.automatic)
+    rules: list[CompiledRule] = []
+    seen: dict[str, str] = {}
+    for rule_file, place in rule_files:
+        for index, rule in enumerate(rule_file.rules):
+            base = ("rules", index)
+            where = place(base, "").format().split(": ")[0].rstrip(":")
+            schema = schema_for(bool(rule.applies_to.findings), bool(rule.applies_to.routine))
+            found = _lint_rule(rule, schema, caution_ids, calculations)
+            if rule.id in seen:
+                found.append((("id",), f"rule id {rule.id!r} is already used at "
+                                        f"{seen[rule.id]}"))
+            seen.setdefault(rule.id, where)
+            problems.extend(place((*base, *path), f"rule {rule.id}: {message}")
+                            for path, message in found)
+            if not found:
+                rules.append(_compile_rule(rule, where))
+    if problems:
+        raise InputError(problems)
+    return RuleSet(rules=tuple(rules), cautions=cautions)
+
+
+def _safe_compile(source: str, mode: Literal["expression", "template"]) -> Compiled:
+    try:
+        return compile_source(source, mode)
+    except TemplateSyntaxError:
+        return compile_source("false" if mode == "expression" else "", mode)  # linted
+
+
+# Finding kinds that only make sense on one kind of item.
+_FINDING_ITEMS = {"transformer_unit": {"transformer"}, "breaker_tripped": {"device"},
+                  "lamps": {"bus"}, "phase_voltages": {"bus"}, "insulation_monitor": {"bus"}}
+
+
+def _lint_rule(rule: Rule, schema: Schema, caution_ids: Sequence[str],
+               calculations: Mapping[str, tuple[str, ...]],
+               ) -> list[tuple[tuple[str | int, ...], str]]:
+    found: list[tuple[tuple[str | int, ...], str]] = []
+
+    def lint(path: tuple[str | int, ...], source: str,
+             mode: Literal["expression", "template"]) -> None:
+        for message in lint_source(source, mode, schema):
+            found.append((path, message))
+
+    if not rule.applies_to.findings and not rule.applies_to.routine:
+        found.append((("applies_to",), "unreachable: it applies to no finding kind and no "
+                                       "routine test"))
+    if rule.applies_to.items:
+        for kind in rule.applies_to.findings:
+            possible = _FINDING_ITEMS.get(kind)
+            if possible is not None and not possible & set(rule.applies_to.items):
+                found.append((("applies_to", "items"),
+                              f"unreachable: a {kind} finding is on a "
+                              f"{'/'.join(sorted(possible))}, never on "
+                              f"{'/'.join(rule.applies_to.items)}"))
+    lint(("when",), rule.when, "expression")
+    if _constant_false(rule.when):
+        found.append((("when",), "unreachable: its condition is always false"))
+    lint(("title",), rule.title, "template")
+    lint(("item",), item_template(rule), "template")
+    lint(("job", "priority"), rule.job.priority, "expression")
+    if rule.instrument_supply:
+        lint(("instrument_supply",), rule.instrument_supply, "template")
+    for position, text in enumerate(rule.acceptance):
+        lint(("acceptance", position), text, "template")
+    for position, caution in enumerate(rule.cautions):
+        if caution not in caution_ids:
+            found.append((("cautions", position), f"unknown caution {caution!r}"
+                                                  f"{did_you_mean(caution, caution_ids)}"))
+    for section in ("steps", "restoration"):
+        for number, step in enumerate(getattr(rule, section)):
+            base: tuple[str | int, ...] = (section, number)
+            lint((*base, "text"), step.text, "template")
+            if step.when:
+                lint((*base, "when"), step.when, "expression")
+            for position, caution in enumerate(step.cautions):
+                if caution not in caution_ids:
+                    found.append(((*base, "cautions", position),
+                                  f"unknown caution {caution!r}"
+                                  f"{did_you_mean(caution, caution_ids)}"))
+            for position, reading in enumerate(step.readings):
+                path = (*base, "readings", position)
+                if reading.calc not in calculations:
+                    found.append(((*path, "calc"), f"unknown calculation {reading.calc!r}"
+                                                   f"{did_you_mean(reading.calc, calculations)}"))
+                    continue
+                wanted = calculations[reading.calc]
+                for name, source in reading.params.items():
+                    if name not in wanted:
+                        found.append(((*path, "params", name),
+                                      f"{reading.calc} takes no parameter {name!r}"
+                                      f"{did_you_mean(name, wanted)}; it takes "
+                                      f"{', '.join(wanted)}"))
+                    else:
+                        lint((*path, "params", name), source, "template")
+                for name in wanted:
+                    if name not in reading.params:
+                        found.append(((*path, "params"),
+                                      f"{reading.calc} needs parameter {name!r}"))
+    return found
+
+
+def _constant_false(source: str) -> bool:
+    try:
+        expression = ENVIRONMENT.parse("{{ (" + source + ") }}")
+    except TemplateSyntaxError:
+        return False
+    output = expression.body[0]
+    if not isinstance(output, nodes.Output) or len(output.nodes) != 1:
+        return False
+    node = output.nodes[0]
+    try:
+        return isinstance(node, nodes.Expr) and node.as_const() in (False, 0, None, "")
+    except nodes.Impossible:
+        return False
+
+
+def item_template(rule: Rule) -> str:
+    """The rule's item, or by default the finding's place or the routine test's element."""
+    if rule.item is not None:
+        return rule.item
+    return "{{ finding.where }}" if rule.applies_to.findings else "{{ item.id }}"
+
+
+def _compile_step(step: StepRule) -> CompiledStep:
+    return CompiledStep(
+        text=compile_source(step.text, "template"),
+        when=compile_source(step.when, "expression") if step.when else None,
+        readings=tuple((reading.calc, {name: compile_source(source, "template")
+                                       for name, source in reading.params.items()})
+                       for reading in step.readings),
+        cautions=step.cautions, check_only=step.check_only)
+
+
+def _compile_rule(rule: Rule, place: str) -> CompiledRule:
+    return CompiledRule(
+        id=rule.id, place=place, findings=rule.applies_to.findings,
+        routine=tuple(r.value for r in rule.applies_to.routine), items=rule.applies_to.items,
+        one_per=rule.one_per, when=compile_source(rule.when, "expression"),
+        title=compile_source(rule.title, "template"),
+        item=compile_source(item_template(rule), "template"),
+        priority=compile_source(rule.job.priority, "expression"), job_kind=rule.job.kind,
+        clears_ground=rule.job.clears_ground,
+        crew=rule.job.crew, hours=rule.job.hours, permits=rule.job.permits,
+        isolate=rule.isolate, search_plan=rule.search_plan, cautions=rule.cautions,
+        steps=tuple(_compile_step(s) for s in rule.steps),
+        acceptance=tuple(compile_source(text, "template") for text in rule.acceptance),
+        restoration=tuple(_compile_step(s) for s in rule.restoration),
+        instrument_supply=(compile_source(rule.instrument_supply, "template")
+                           if rule.instrument_supply else None))
