@@ -94,7 +94,8 @@ def sample_package(number: int = 1, steps: int = 6) -> WorkPackage:
                               for i, p in enumerate("ABC", start=1))),),
         phasor=Phasor(line_voltage_v=440.0, sequence=("A", "B", "C"),
                       readings_v={"A": 348.0, "B": 236.0, "C": 209.0},
-                      earth_point_v=(-40.0, -85.0), grounded_phase="B"),
+                      # From diagnose_ground of these readings (5.6 kΩ on B, 0.393 µF).
+                      earth_point_v=(-93.7, 13.7), grounded_phase="B"),
         sketch=Sketch(
             nodes=(SketchNode(id="SSG-1", label="SSG-1", kind="source"),
                    SketchNode(id="MSB", label="MSB 440 V", kind="bus"),
