@@ -1,0 +1,223 @@
+"""The records store as an interface: the record, the protocol, the errors, the checks.
+
+Everything a backend shares and nothing it does differently: a backend only keeps rows,
+serializes writers and reads rows back; hashing and verification live in ``_chain``.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import json
+from collections.abc import Iterator, Mapping
+from dataclasses import dataclass
+from types import TracebackType
+from typing import Any, Protocol, Self, runtime_checkable
+
+from workpack.errors import WorkpackError
+from workpack.store._chain import (
+    ChainHead,
+    NotStorableError,
+    StoredRow,
+    Verification,
+    canonical_json,
+    format_timestamp,
+    is_sha256_hex,
+    parse_timestamp,
+)
+
+# --- errors ----------------------------------------------------------------------------
+
+
+class StoreError(WorkpackError):
+    """The records store cannot do what was asked; the message names the store."""
+
+
+class NotAStoreError(StoreError):
+    """The file (or database) is not a workpack records store, or not one this reads."""
+
+
+class StoreURLError(StoreError):
+    """The store's location names a kind of store this workpack cannot open."""
+
+
+class RecordRefusedError(StoreError):
+    """A new record was refused before anything was written (bad reference or value)."""
+
+
+class NoSuchRecordError(StoreError):
+    """A record asked for by number is not in the store."""
+
+
+# --- the record ------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class Record:
+    """One stored record, as the audit reads it. ``recorded_at`` is aware, in UTC."""
+
+    sequence: int
+    package_id: str
+    package_sha256: str
+    results_json: str  # canonical JSON, exactly as hashed
+    results_sha256: str
+    recorded_by: str
+    recorded_at: dt.datetime
+    supersedes: int | None
+    verdict: str
+    chain_sha256: str
+
+    @property
+    def results(self) -> dict[str, Any]:
+        """The results parsed back: equal to the mapping given to ``append``."""
+        parsed: dict[str, Any] = json.loads(self.results_json)
+        return parsed
+
+    @classmethod
+    def from_row(cls, row: StoredRow, location: str) -> Record:
+        """The record of a stored row; StoreError if the row cannot be read back."""
+        try:
+            when = parse_timestamp(row.recorded_at)
+            json.loads(row.results_json)
+        except (TypeError, ValueError):
+            raise StoreError(f"{location}: record {row.sequence} is damaged and cannot be "
+                             "read back; run verify to find the first damaged record"
+                             ) from None
+        return cls(row.sequence, row.package_id, row.package_sha256, row.results_json,
+                   row.results_sha256, row.recorded_by, when, row.supersedes, row.verdict,
+                   row.chain_sha256)
+
+
+# --- the interface ---------------------------------------------------------------------
+
+
+@runtime_checkable
+class RecordStore(Protocol):
+    """Append-only, hash-chained storage of completed results.
+
+    There is no update and no delete: a correction is a new record whose ``supersedes``
+    names the record it corrects. Pass a store to whatever needs one (records, audit);
+    tests pass a temporary SQLite file, and a PostgreSQL store will fit the same slot.
+    """
+
+    @property
+    def location(self) -> str:
+        """The path or URL the store was opened with (passwords left out)."""
+        ...
+
+    def append(self, *, package_id: str, package_sha256: str, results: Mapping[str, Any],
+               recorded_by: str, recorded_at: dt.datetime, verdict: str,
+               supersedes: int | None = None) -> Record:
+        """Store one record in one transaction and return it, numbered and chained.
+
+        ``recorded_at`` is the caller's timestamp (aware); the store never reads the clock.
+        RecordRefusedError if ``supersedes`` names no record, a record of another package
+        or one already superseded, or if the results are not JSON that can round-trip.
+        """
+        ...
+
+    def get(self, sequence: int) -> Record:
+        """The record numbered ``sequence``; NoSuchRecordError if there is none."""
+        ...
+
+    def records(self, *, package_id: str | None = None, since: dt.datetime | None = None,
+                until: dt.datetime | None = None) -> Iterator[Record]:
+        """Records in sequence order; ``since`` <= recorded_at < ``until`` when given."""
+        ...
+
+    def latest(self, package_id: str) -> Record | None:
+        """The newest record of the package that no later record supersedes."""
+        ...
+
+    def latest_per_package(self) -> dict[str, Record]:
+        """``latest`` for every package in the store, keyed by package id in sorted order."""
+        ...
+
+    def head(self) -> ChainHead | None:
+        """The last record's number and chain hash (an anchor to write down); None if empty."""
+        ...
+
+    def verify(self, *, anchor: ChainHead | None = None) -> Verification:
+        """Recompute the whole chain; the first altered, removed or reordered record."""
+        ...
+
+    def close(self) -> None: ...
+
+    def __enter__(self) -> Self: ...
+
+    def __exit__(self, exc_type: type[BaseException] | None, exc: BaseException | None,
+                 tb: TracebackType | None) -> None: ...
+
+
+# --- checks every backend makes --------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class NewRecord:
+    """The caller's fields, checked and encoded, ready to be numbered and chained."""
+
+    package_id: str
+    package_sha256: str
+    results_json: str
+    recorded_by: str
+    recorded_at: str
+    supersedes: int | None
+    verdict: str
+
+
+def prepare(location: str, *, package_id: str, package_sha256: str,
+            results: Mapping[str, Any], recorded_by: str, recorded_at: dt.datetime,
+            verdict: str, supersedes: int | None) -> NewRecord:
+    """Check and encode a new record's fields before any transaction starts.
+
+    RecordRefusedError for what a person's results file can get wrong (empty names,
+    numbers JSON cannot hold); TypeError or ValueError for a caller's programming error
+    (a package hash that is not a SHA-256, a naive timestamp).
+    """
+    for name, value in (("package_id", package_id), ("recorded_by", recorded_by),
+                        ("verdict", verdict)):
+        if not isinstance(value, str):
+            raise TypeError(f"{name} must be text (got {type(value).__name__})")
+        if not value.strip():
+            raise RecordRefusedError(f"{location}: {name} is empty; a record must say "
+                                     f"its {name.replace('_', ' ')}")
+    if not is_sha256_hex(package_sha256):
+        raise ValueError(f"package_sha256 must be 64 lowercase hex digits "
+                         f"(got {package_sha256!r}); use package_sha256(package)")
+    if supersedes is not None and (type(supersedes) is not int or supersedes < 1):
+        raise RecordRefusedError(f"{location}: supersedes must be a record number of 1 or "
+                                 f"more (got {supersedes!r})")
+    if not isinstance(results, Mapping):
+        raise RecordRefusedError(f"{location}: results must be a mapping of names to values "
+                                 f"(got {type(results).__name__})")
+    try:
+        results_json = canonical_json(results, what="results")
+    except NotStorableError as exc:
+        raise RecordRefusedError(f"{location}: record for {package_id}: {exc}") from None
+    return NewRecord(package_id, package_sha256, results_json, recorded_by,
+                     format_timestamp(recorded_at), supersedes, verdict)
+
+
+def check_supersedes(location: str, new: NewRecord, target: StoredRow | None,
+                     superseded_by: int | None, last: int) -> None:
+    """RecordRefusedError unless ``new.supersedes`` may be corrected by ``new``.
+
+    ``target`` is the row it names (None if absent), ``superseded_by`` the last record of
+    the corrections already made to it (None if none), ``last`` the last sequence number.
+    Called inside the append transaction, so no other writer can change the answer
+    meanwhile.
+    """
+    n = new.supersedes
+    if n is None:
+        return
+    if target is None:
+        held = f"the store holds records 1 to {last}" if last else "the store is empty"
+        raise RecordRefusedError(f"{location}: supersedes {n}: there is no record {n} "
+                                 f"({held})")
+    if target.package_id != new.package_id:
+        raise RecordRefusedError(f"{location}: supersedes {n}: record {n} answers package "
+                                 f"{target.package_id!r}, not {new.package_id!r}; a correction "
+                                 "must answer the same package")
+    if superseded_by is not None:
+        raise RecordRefusedError(f"{location}: supersedes {n}: record {n} is already "
+                                 f"superseded (its latest correction is record "
+                                 f"{superseded_by}); supersede {superseded_by} instead")

@@ -1,0 +1,383 @@
+"""The SQLite records store: one file, WAL journal, writers serialized by BEGIN IMMEDIATE.
+
+Durability: WAL with ``synchronous=FULL``, so a record whose ``append`` returned survives
+a killed process and a power cut; a write cut short leaves the file as it was before it
+(SQLite's atomic commit). Concurrent writers (processes or connections) queue on the
+write lock for up to ``busy_timeout_s``; the last chain hash is read inside the write
+transaction, so two writers can never chain from the same record.
+
+Append-only twice over: the class offers no update or delete, and triggers in the file
+refuse UPDATE and DELETE and any INSERT that is not the next record of the chain. The
+triggers stop mistakes, not an attacker with the file (who can drop them); ``verify``
+is what catches an attacker, and it reports missing or changed triggers too.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import datetime as dt
+import os
+import sqlite3
+from collections.abc import Iterator, Mapping
+from pathlib import Path
+from types import TracebackType
+from typing import Any, Self
+
+from workpack.store._base import (
+    NoSuchRecordError,
+    NotAStoreError,
+    Record,
+    StoreError,
+    check_supersedes,
+    prepare,
+)
+from workpack.store._chain import (
+    GENESIS,
+    ChainHead,
+    StoredRow,
+    Verification,
+    format_timestamp,
+    next_row,
+    verify_rows,
+)
+
+APPLICATION_ID = 0x77706B72  # "wpkr" in the SQLite header: marks a workpack records store
+SCHEMA_VERSION = 1  # PRAGMA user_version
+_BATCH = 500  # rows per read while iterating
+
+_COLUMNS = ("sequence, package_id, package_sha256, results_json, results_sha256, recorded_by, "
+            "recorded_at, supersedes, verdict, prev_sha256, chain_sha256")
+
+_TABLE = """CREATE TABLE records (
+    sequence        INTEGER PRIMARY KEY AUTOINCREMENT CHECK (sequence >= 1),
+    package_id      TEXT NOT NULL,
+    package_sha256  TEXT NOT NULL CHECK (length(package_sha256) = 64),
+    results_json    TEXT NOT NULL,
+    results_sha256  TEXT NOT NULL CHECK (length(results_sha256) = 64),
+    recorded_by     TEXT NOT NULL,
+    recorded_at     TEXT NOT NULL,
+    supersedes      INTEGER REFERENCES records (sequence)
+                    CHECK (supersedes IS NULL OR supersedes < sequence),
+    verdict         TEXT NOT NULL,
+    prev_sha256     TEXT NOT NULL CHECK (length(prev_sha256) = 64),
+    chain_sha256    TEXT NOT NULL CHECK (length(chain_sha256) = 64)
+) STRICT"""
+
+_INDEXES = (
+    "CREATE INDEX records_by_package ON records (package_id, sequence)",
+    "CREATE INDEX records_by_time ON records (recorded_at)",
+    # One correction per record: corrections form a line, never a fork.
+    "CREATE UNIQUE INDEX records_by_supersedes ON records (supersedes) "
+    "WHERE supersedes IS NOT NULL",
+)
+
+# The exact text is compared on verify: a trigger of the same name that does nothing
+# is as good as none.
+_GUARDS = {
+    "records_no_update": (
+        "CREATE TRIGGER records_no_update BEFORE UPDATE ON records BEGIN "
+        "SELECT RAISE(ABORT, 'workpack records are append-only: UPDATE refused'); END"),
+    "records_no_delete": (
+        "CREATE TRIGGER records_no_delete BEFORE DELETE ON records BEGIN "
+        "SELECT RAISE(ABORT, 'workpack records are append-only: DELETE refused'); END"),
+    "records_append_in_order": (
+        "CREATE TRIGGER records_append_in_order BEFORE INSERT ON records WHEN "
+        "NEW.sequence IS NOT (SELECT coalesce(max(sequence), 0) + 1 FROM records) OR "
+        "NEW.prev_sha256 IS NOT coalesce((SELECT chain_sha256 FROM records "
+        f"ORDER BY sequence DESC LIMIT 1), '{GENESIS}') BEGIN "
+        "SELECT RAISE(ABORT, 'workpack records: only the next record of the chain may be "
+        "inserted'); END"),
+}
+
+
+class SQLiteStore:
+    """A records store in one SQLite file (see the module docstring for the guarantees).
+
+    ``create=False`` refuses a path where no store exists yet, so an audit of a mistyped
+    path fails instead of verifying a new empty store.
+    """
+
+    def __init__(self, path: str | os.PathLike[str], *, create: bool = True,
+                 busy_timeout_s: float = 30.0):
+        self._path = Path(path)
+        self._location = str(path)
+        self._busy_timeout_s = busy_timeout_s
+        if self._path.is_dir():
+            raise NotAStoreError(f"{self._location}: is a folder, not a records store file")
+        if not self._path.exists():
+            if not create:
+                raise StoreError(f"{self._location}: no records store here (no such file)")
+            if not self._path.parent.is_dir():
+                raise StoreError(f"{self._location}: cannot create the store: the folder "
+                                 f"{self._path.parent} does not exist")
+        mode = "rwc" if create else "rw"
+        uri = f"{self._path.absolute().as_uri()}?mode={mode}"
+        try:
+            self._conn = sqlite3.connect(uri, uri=True, timeout=busy_timeout_s,
+                                         isolation_level=None)
+        except sqlite3.Error as exc:
+            raise self._error(exc, "opening") from None
+        try:
+            with self._translate("opening"):
+                self._open()
+        except BaseException:
+            self._conn.close()
+            raise
+
+    # --- opening -----------------------------------------------------------------------
+
+    def _open(self) -> None:
+        c = self._conn
+        app_id, tables = self._identity()
+        if app_id != APPLICATION_ID:
+            self._refuse_unless_empty(app_id, tables)
+            self._create_schema()
+        version = c.execute("PRAGMA user_version").fetchone()[0]
+        if version > SCHEMA_VERSION:
+            raise NotAStoreError(f"{self._location}: written by a newer workpack (store schema "
+                                 f"{version}; this one reads schema {SCHEMA_VERSION}); "
+                                 "upgrade workpack")
+        if version < 1:
+            raise NotAStoreError(f"{self._location}: marked as a records store but holds no "
+                                 "schema version; the file was changed outside workpack")
+        c.execute("PRAGMA journal_mode = WAL")  # kept by the file; a no-op once set
+        c.execute("PRAGMA synchronous = FULL")
+        c.execute("PRAGMA foreign_keys = ON")
+
+    def _identity(self) -> tuple[int, list[str]]:
+        """The file's application id and table names, read in one snapshot.
+
+        One read transaction, so a store another process creates meanwhile is seen
+        either not at all or whole, never as tables without the id.
+        """
+        c = self._conn
+        begun = not c.in_transaction
+        if begun:
+            c.execute("BEGIN")
+        try:
+            app_id = c.execute("PRAGMA application_id").fetchone()[0]
+            tables = [r[0] for r in c.execute(
+                "SELECT name FROM sqlite_master WHERE type = 'table' ORDER BY name")]
+        finally:
+            if begun:
+                self._rollback()
+        return app_id, tables
+
+    def _refuse_unless_empty(self, app_id: int, tables: list[str]) -> None:
+        if app_id != 0 or tables:
+            kind = f"application id {app_id:#010x}" if app_id else "tables " + ", ".join(tables)
+            raise NotAStoreError(f"{self._location}: not a workpack records store (an SQLite "
+                                 f"database with {kind}); give the path of a records store "
+                                 "or of a new file")
+
+    def _create_schema(self) -> None:
+        c = self._conn
+        c.execute("BEGIN IMMEDIATE")
+        try:
+            # Another process may have created the store while this one waited for the lock.
+            app_id, tables = self._identity()
+            if app_id != APPLICATION_ID:
+                self._refuse_unless_empty(app_id, tables)
+                c.execute(_TABLE)
+                for statement in (*_INDEXES, *_GUARDS.values()):
+                    c.execute(statement)
+                c.execute(f"PRAGMA application_id = {APPLICATION_ID}")
+                c.execute(f"PRAGMA user_version = {SCHEMA_VERSION}")
+            c.execute("COMMIT")
+        except BaseException:
+            self._rollback()
+            raise
+
+    # --- errors ------------------------------------------------------------------------
+
+    def _error(self, exc: sqlite3.Error, doing: str) -> StoreError:
+        loc, msg = self._location, str(exc)
+        if "file is not a database" in msg:
+            return NotAStoreError(f"{loc}: not a workpack records store (not an SQLite "
+                                  "database); give the path of a records store")
+        if "malformed" in msg:
+            return StoreError(f"{loc}: the store file is damaged (SQLite: {msg}); restore it "
+                              "from a copy")
+        if "locked" in msg or "busy" in msg:
+            return StoreError(f"{loc}: the store stayed locked by another program for "
+                              f"{self._busy_timeout_s:g} s while {doing}; try again")
+        if "readonly" in msg:
+            return StoreError(f"{loc}: the store cannot be written here (SQLite: {msg})")
+        if "unable to open" in msg:
+            return StoreError(f"{loc}: cannot open the store file (SQLite: {msg}); check "
+                              "that it exists and is readable")
+        if "no such" in msg:
+            return StoreError(f"{loc}: the store's tables were changed outside workpack "
+                              f"(SQLite: {msg})")
+        return StoreError(f"{loc}: SQLite error while {doing}: {msg}")
+
+    @contextlib.contextmanager
+    def _translate(self, doing: str) -> Iterator[None]:
+        """Database errors a person can cause become a StoreError naming the file.
+
+        IntegrityError is left alone: the checks before each write should make it
+        impossible, so seeing one is a bug.
+        """
+        try:
+            yield
+        except sqlite3.IntegrityError:
+            raise
+        except sqlite3.DatabaseError as exc:
+            raise self._error(exc, doing) from None
+
+    def _rollback(self) -> None:
+        if self._conn.in_transaction:
+            with contextlib.suppress(sqlite3.Error):
+                self._conn.execute("ROLLBACK")
+
+    # --- writing -----------------------------------------------------------------------
+
+    @property
+    def location(self) -> str:
+        return self._location
+
+    def append(self, *, package_id: str, package_sha256: str, results: Mapping[str, Any],
+               recorded_by: str, recorded_at: dt.datetime, verdict: str,
+               supersedes: int | None = None) -> Record:
+        new = prepare(self._location, package_id=package_id, package_sha256=package_sha256,
+                      results=results, recorded_by=recorded_by, recorded_at=recorded_at,
+                      verdict=verdict, supersedes=supersedes)
+        c = self._conn
+        with self._translate("appending a record"):
+            c.execute("BEGIN IMMEDIATE")
+            try:
+                last = c.execute(f"SELECT {_COLUMNS} FROM records "
+                                 "ORDER BY sequence DESC LIMIT 1").fetchone()
+                prev = StoredRow(*last) if last is not None else None
+                if new.supersedes is not None:
+                    check_supersedes(self._location, new, self._row(new.supersedes),
+                                     self._last_correction(new.supersedes),
+                                     prev.sequence if prev is not None else 0)
+                row = next_row(prev, package_id=new.package_id,
+                               package_sha256=new.package_sha256,
+                               results_json=new.results_json, recorded_by=new.recorded_by,
+                               recorded_at=new.recorded_at, supersedes=new.supersedes,
+                               verdict=new.verdict)
+                c.execute(f"INSERT INTO records ({_COLUMNS}) VALUES "
+                          "(?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)", row.as_tuple())
+                c.execute("COMMIT")
+            except BaseException:
+                self._rollback()
+                raise
+        return Record.from_row(row, self._location)
+
+    def _row(self, sequence: int) -> StoredRow | None:
+        found = self._conn.execute(f"SELECT {_COLUMNS} FROM records WHERE sequence = ?",
+                                   (sequence,)).fetchone()
+        return StoredRow(*found) if found is not None else None
+
+    def _last_correction(self, sequence: int) -> int | None:
+        """The end of the line of corrections to ``sequence``; None if it has none."""
+        end = None
+        while True:
+            found = self._conn.execute("SELECT sequence FROM records WHERE supersedes = ?",
+                                       (sequence,)).fetchone()
+            if found is None:
+                return end
+            end = sequence = found[0]
+
+    # --- reading -----------------------------------------------------------------------
+
+    def get(self, sequence: int) -> Record:
+        with self._translate("reading"):
+            row = self._row(sequence)
+            if row is None:
+                last = self._conn.execute("SELECT max(sequence) FROM records").fetchone()[0]
+                held = f"the store holds records 1 to {last}" if last else "the store is empty"
+                raise NoSuchRecordError(f"{self._location}: there is no record {sequence} "
+                                        f"({held})")
+        return Record.from_row(row, self._location)
+
+    def records(self, *, package_id: str | None = None, since: dt.datetime | None = None,
+                until: dt.datetime | None = None) -> Iterator[Record]:
+        # Read in short batches keyed on the sequence number, so no read stays open
+        # between the caller's steps and appends may interleave with the iteration.
+        where, params = ["sequence > ?"], []
+        if package_id is not None:
+            where.append("package_id = ?")
+            params.append(package_id)
+        if since is not None:
+            where.append("recorded_at >= ?")
+            params.append(format_timestamp(since))
+        if until is not None:
+            where.append("recorded_at < ?")
+            params.append(format_timestamp(until))
+        query = (f"SELECT {_COLUMNS} FROM records WHERE {' AND '.join(where)} "
+                 f"ORDER BY sequence LIMIT {_BATCH}")
+        after = 0
+        while True:
+            with self._translate("reading"):
+                batch = self._conn.execute(query, (after, *params)).fetchall()
+            for found in batch:
+                yield Record.from_row(StoredRow(*found), self._location)
+            if len(batch) < _BATCH:
+                return
+            after = batch[-1][0]
+
+    def latest(self, package_id: str) -> Record | None:
+        with self._translate("reading"):
+            found = self._conn.execute(
+                f"SELECT {_COLUMNS} FROM records AS r WHERE package_id = ? AND NOT EXISTS "
+                "(SELECT 1 FROM records AS c WHERE c.supersedes = r.sequence) "
+                "ORDER BY sequence DESC LIMIT 1", (package_id,)).fetchone()
+        return Record.from_row(StoredRow(*found), self._location) if found else None
+
+    def latest_per_package(self) -> dict[str, Record]:
+        with self._translate("reading"):
+            rows = self._conn.execute(
+                f"SELECT {_COLUMNS} FROM (SELECT *, row_number() OVER "
+                "(PARTITION BY package_id ORDER BY sequence DESC) AS newest FROM records AS r "
+                "WHERE NOT EXISTS (SELECT 1 FROM records AS c WHERE c.supersedes = r.sequence)) "
+                "WHERE newest = 1 ORDER BY package_id").fetchall()
+        return {found[1]: Record.from_row(StoredRow(*found), self._location) for found in rows}
+
+    def head(self) -> ChainHead | None:
+        with self._translate("reading"):
+            found = self._conn.execute("SELECT sequence, chain_sha256 FROM records "
+                                       "ORDER BY sequence DESC LIMIT 1").fetchone()
+        return ChainHead(*found) if found is not None else None
+
+    # --- verifying ---------------------------------------------------------------------
+
+    def _stored_rows(self) -> Iterator[StoredRow]:
+        cursor = self._conn.execute(f"SELECT {_COLUMNS} FROM records ORDER BY sequence")
+        while batch := cursor.fetchmany(_BATCH):
+            yield from (StoredRow(*found) for found in batch)
+
+    def verify(self, *, anchor: ChainHead | None = None) -> Verification:
+        c = self._conn
+        with self._translate("verifying"):
+            c.execute("BEGIN")  # one read snapshot: appends by others do not show half-way
+            try:
+                triggers = dict(c.execute("SELECT name, sql FROM sqlite_master "
+                                          "WHERE type = 'trigger'").fetchall())
+                guards_intact = all(triggers.get(name) == sql for name, sql in _GUARDS.items())
+                found = c.execute("SELECT seq FROM sqlite_sequence "
+                                  "WHERE name = 'records'").fetchone()
+                high_water = found[0] if found is not None and type(found[0]) is int else None
+                result = verify_rows(self._location, self._stored_rows(), self._stored_rows,
+                                     high_water=high_water, anchor=anchor,
+                                     guards_intact=guards_intact)
+            finally:
+                self._rollback()
+        return result
+
+    # --- lifetime ----------------------------------------------------------------------
+
+    def close(self) -> None:
+        self._conn.close()
+
+    def __enter__(self) -> Self:
+        return self
+
+    def __exit__(self, exc_type: type[BaseException] | None, exc: BaseException | None,
+                 tb: TracebackType | None) -> None:
+        self.close()
+
+    def __repr__(self) -> str:
+        return f"SQLiteStore({self._location!r})"
