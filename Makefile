@@ -15,7 +15,9 @@ $(STAMP): pyproject.toml
 
 demo: $(STAMP)
 	$(BIN)/workpack check plants/demo-vessel.yaml
-	$(BIN)/workpack isolate plants/demo-vessel.yaml WL-1
+	$(BIN)/workpack diagnose plants/demo-vessel.yaml plants/demo-vessel-findings.yaml
+	$(BIN)/workpack plan plants/demo-vessel.yaml plants/demo-vessel-findings.yaml \
+		--crew-hours 40 --out out/demo-vessel
 
 lint: $(STAMP)
 	$(BIN)/ruff check workpack tests bench

@@ -403,7 +403,8 @@ class _PackageBuilder:
             origin=Origin(rule=rule.id, findings=job.findings, routine=job.routine),
             hazard_facts=hazard_facts,
             cautions=cautions, approach=self._approach(job.item, highest or None),
-            ppe=self._ppe(system), isolation=_isolation_points(isolation),
+            ppe=self._ppe(max((s["voltage"] or 0.0 for s in [system, *others]), default=0.0)),
+            isolation=_isolation_points(isolation),
             isolation_gaps=tuple(h.text for h in isolation.hazards if h.severity == "DANGER"
                                  and h.text.startswith("no lockable")) if isolation else (),
             stored_energy=isolation.stored_energy if isolation else (),
@@ -545,13 +546,17 @@ class _PackageBuilder:
         if boundary is None:
             return None
         entered = max(voltage, highest_v or 0.0)
+        def shown(metres: float | None, text: str) -> str:
+            return text if metres is None else f"{metres:.1f} m ({text})"
+
         return ApproachBoundaries(
-            entered_at_v=entered, limited_movable=boundary.limited_movable_text,
-            limited_fixed=boundary.limited_fixed_text, restricted=boundary.restricted_text,
+            entered_at_v=entered,
+            limited_movable=shown(boundary.limited_movable_m, boundary.limited_movable_text),
+            limited_fixed=shown(boundary.limited_fixed_m, boundary.limited_fixed_text),
+            restricted=shown(boundary.restricted_m, boundary.restricted_text),
             source=str(boundary.citation))
 
-    def _ppe(self, system: Mapping[str, Any]) -> tuple[str, ...]:
-        voltage = system["voltage"] or 0.0
+    def _ppe(self, voltage: float) -> tuple[str, ...]:
         return (
             f"rubber insulating gloves with leather protectors, of a class rated for at least "
             f"{voltage:g} V AC (ASTM D120 classes: 00 to 500 V, 0 to 1 kV; from memory)",

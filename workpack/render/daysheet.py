@@ -82,7 +82,7 @@ class DaySheetPdf(PdfDocument):
         for rank, p in enumerate(packages, start=1):
             crew_h = p.duration_h * p.crew
             total += crew_h
-            texts.append([str(rank), str(p.priority), p.id, p.title, p.item_label,
+            texts.append([str(rank), str(p.priority), p.id, p.title, p.item,
                           hours(p.duration_h), str(p.crew), hours(crew_h)]
                          + ([hours(total)] if running else []))
         bold_columns = {0, 1, 2, 8}

@@ -1,0 +1,118 @@
+"""The main job end to end: `workpack plan` on the demo vessel, read back from the PDFs."""
+
+from __future__ import annotations
+
+import json
+import math
+import shutil
+from pathlib import Path
+
+import pytest
+from conftest import ROOT
+from pypdf import PdfReader
+
+from workpack.cli import main
+
+VESSEL = str(ROOT / "plants" / "demo-vessel.yaml")
+FINDINGS = str(ROOT / "plants" / "demo-vessel-findings.yaml")
+
+
+def run_plan(out: Path, *extra: str) -> int:
+    return main(["plan", VESSEL, FINDINGS, "--out", str(out), "--crew-hours", "40", *extra])
+
+
+@pytest.fixture(scope="module")
+def output(tmp_path_factory) -> Path:
+    out = tmp_path_factory.mktemp("plan") / "out"
+    assert run_plan(out) == 0
+    return out
+
+
+def text_of(pdf: Path) -> str:
+    return "\n".join(page.extract_text() for page in PdfReader(pdf).pages)
+
+
+def package_by_rule(output: Path, rule: str) -> tuple[dict, str]:
+    for twin in sorted(output.glob("WP-*.json")):
+        data = json.loads(twin.read_text(encoding="utf-8"))
+        if data["origin"]["rule"] == rule:
+            return data, text_of(twin.with_suffix(".pdf"))
+    raise AssertionError(rule)
+
+
+def test_one_pdf_and_one_json_per_package_and_a_day_sheet(output: Path) -> None:
+    pdfs = sorted(p.stem for p in output.glob("WP-*.pdf"))
+    twins = sorted(p.stem for p in output.glob("WP-*.json"))
+    assert pdfs == twins and len(pdfs) >= 8
+    assert (output / "day-2026-12-02.pdf").exists()
+    assert not list(output.glob(".workpack-*"))  # no staging left behind
+
+
+def test_healthy_phase_to_earth_of_the_440_v_system_is_printed(output: Path) -> None:
+    """440 V / √3 = 254 V (SOURCES.md: V_LN = V_LL/√3)."""
+    _, text = package_by_rule(output, "locate-ground")
+    assert f"{440 / math.sqrt(3):.0f} V" in text  # "254 V"
+    assert "computed: 440 V / √3 = 254 V" in text
+
+
+def test_open_delta_limit_of_the_demo_bank_is_printed_in_kva(output: Path) -> None:
+    """Three 25 kVA units: √3 × 25 = 43.3 kVA in open delta (SOURCES.md, 57.7 %)."""
+    _, text = package_by_rule(output, "failed-unit-open-delta")
+    assert "43.3 kVA" in text
+
+
+def test_windlass_test_voltage_and_minimum_are_printed(output: Path) -> None:
+    """IEEE Std 43 (2013): 500 V DC below 1 kV; 5 MΩ minimum at 40 °C (12.3)."""
+    _, text = package_by_rule(output, "low-insulation")
+    assert "500 V DC" in text and "5 MΩ" in text and "40 °C" in text
+
+
+def test_grounded_insulated_systems_carry_the_second_ground_caution_on_paper(
+    output: Path,
+) -> None:
+    for twin in sorted(output.glob("WP-*.json")):
+        data = json.loads(twin.read_text(encoding="utf-8"))
+        if data["system"] in ("MSB", "LP-MAIN"):
+            text = " ".join(text_of(twin.with_suffix(".pdf")).split())
+            assert "A second ground on another phase of this system" in text, twin.name
+            assert "DANGER" in text
+
+
+def test_every_page_names_the_package_and_defers_to_local_codes(output: Path) -> None:
+    for pdf in sorted(output.glob("WP-*.pdf")):
+        pages = PdfReader(pdf).pages
+        for number, page in enumerate(pages, start=1):
+            text = page.extract_text()
+            assert pdf.stem in text and f"Page {number} of {len(pages)}" in text
+        assert "licensed practice prevail" in text_of(pdf)
+
+
+def test_two_runs_give_byte_identical_files(output: Path, tmp_path: Path) -> None:
+    again = tmp_path / "again"
+    assert run_plan(again) == 0
+    names = sorted(p.name for p in output.iterdir())
+    assert names == sorted(p.name for p in again.iterdir())
+    for name in names:
+        assert (output / name).read_bytes() == (again / name).read_bytes(), name
+
+
+def test_a_broken_rule_writes_nothing(tmp_path: Path, capsys) -> None:
+    rules = tmp_path / "rules"
+    shutil.copytree(ROOT / "rules", rules)
+    ground = rules / "ground.yaml"
+    ground.write_text(ground.read_text(encoding="utf-8").replace(
+        "diagnosis.ground_present and system.insulated and not",
+        "diagnosis.ground_presnt and system.insulated and not", 1), encoding="utf-8")
+    out = tmp_path / "out"
+    assert run_plan(out, "--rules", str(rules)) == 2
+    err = capsys.readouterr().err
+    assert "ground.yaml:" in err and "did you mean 'ground_present'" in err
+    assert "Traceback" not in err
+    assert not out.exists()
+
+
+def test_letter_paper_on_request(tmp_path: Path) -> None:
+    out = tmp_path / "letter"
+    assert run_plan(out, "--page-size", "Letter") == 0
+    page = PdfReader(next(out.glob("WP-*.pdf"))).pages[0]
+    assert (round(float(page.mediabox.width)), round(float(page.mediabox.height))) == (612, 792)
