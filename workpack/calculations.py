@@ -123,8 +123,11 @@ def insulation_resistance(ctx: CalcContext, element: str) -> tuple[Reading, ...]
                 what=f"{element} phase {phase} to earth, {dc} DC for 1 min ({test.citation})",
                 unit=unit,
                 limit=Limit(low=minimum.minimum_ohm, basis=basis,
-                            temperature_corrected_to_c=minimum.reference_c),
-                needs_temperature=minimum.reference_c is not None)
+                            temperature_corrected_to_c=minimum.reference_c,
+                            code_set=code_set.name if minimum.reference_c is not None
+                            else None),
+                needs_temperature=minimum.reference_c is not None, element=element,
+                test_voltage_v=test.max_v)
         for n, phase in enumerate(_labels(ctx), start=1))
 
 

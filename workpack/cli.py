@@ -254,11 +254,86 @@ class _Progress:
         sys.stderr.flush()
 
 
+def _cmd_results_template(args: argparse.Namespace) -> int:
+    from workpack.forms import results_template
+    from workpack.loading import load_package
+    from workpack.output import write_all
+
+    package, digest = load_package(Path(args.package))
+    text = results_template(package, digest)
+    if args.out:
+        out = Path(args.out)
+        write_all(out.parent, {out.name: text.encode()})
+        sys.stdout.write(f"results sheet written to {out}\n")
+    else:
+        sys.stdout.write(text)
+    return 0
+
+
+def _default_db(args: argparse.Namespace) -> Path:
+    if args.db:
+        return Path(args.db)
+    if getattr(args, "plant", None):
+        plant = Path(args.plant)
+        return plant.with_name(plant.stem + ".records.sqlite")
+    raise UsageError("--db: name the records store (or --plant, to use the one beside it)")
+
+
+def _cmd_record(args: argparse.Namespace) -> int:
+    import datetime as dt
+
+    from workpack.evaluate import evaluate, record_payload
+    from workpack.loading import load_package, load_results
+    from workpack.output import write_all
+    from workpack.render.text import evaluation_text
+    from workpack.store import open_store
+
+    package, digest = load_package(Path(args.package))
+    results = load_results(Path(args.results), package, digest)
+    evaluation = evaluate(package, results, _standards())
+    try:
+        at = dt.datetime.fromisoformat(args.at) if args.at else dt.datetime.now(dt.UTC)
+    except ValueError:
+        raise UsageError(f"--at {args.at}: expected a date and time such as "
+                         "2026-12-02T16:30+00:00") from None
+    if at.tzinfo is None:
+        at = at.replace(tzinfo=dt.UTC)
+    recorded_by = args.by or results.completed_by or "unknown"
+    with open_store(_default_db(args)) as store:
+        record = store.append(package_id=package.id, package_sha256=digest,
+                              results=record_payload(results, evaluation),
+                              recorded_by=recorded_by, recorded_at=at,
+                              verdict=evaluation.verdict, supersedes=args.supersedes)
+    sys.stdout.write(evaluation_text(evaluation)
+                     + f"recorded as record {record.sequence} in {_default_db(args)}\n")
+    if args.followups and evaluation.followups:
+        import yaml
+
+        text = yaml.safe_dump({"date": package.date.isoformat(),
+                               "findings": list(evaluation.followups)},
+                              sort_keys=False, allow_unicode=True)
+        out = Path(args.followups)
+        write_all(out.parent, {out.name: text.encode()})
+        sys.stdout.write(f"{len(evaluation.followups)} follow-up finding(s) written to {out}\n")
+    return 0
+
+
+def _cmd_verify(args: argparse.Namespace) -> int:
+    from workpack.store import open_store
+
+    with open_store(_default_db(args), create=False) as store:
+        result = store.verify()
+    sys.stdout.write(result.message + "\n")
+    return 0 if result.ok else 1
+
+
 def _cmd_schema(args: argparse.Namespace) -> int:
     from workpack.model.findings import Findings
     from workpack.model.plant import Plant
+    from workpack.model.results import Results
 
-    models: dict[str, type[BaseModel]] = {"plant": Plant, "findings": Findings}
+    models: dict[str, type[BaseModel]] = {"plant": Plant, "findings": Findings,
+                                          "results": Results}
     model = models[args.what]
     schema = model.model_json_schema(by_alias=True)
     schema["title"] = f"workpack {args.what} file"
@@ -340,8 +415,34 @@ def build_parser() -> argparse.ArgumentParser:
                       help="rules folder (default: the shipped rules/)")
     plan.set_defaults(run=_cmd_plan)
 
+    template = commands.add_parser(
+        "results-template", help="a YAML results sheet for one package, to fill in")
+    template.add_argument("package", metavar="PACKAGE_JSON", help="the package's JSON twin")
+    template.add_argument("--out", metavar="FILE", help="write it here (default: print)")
+    template.set_defaults(run=_cmd_results_template)
+
+    record = commands.add_parser(
+        "record", help="judge a completed package and add it to the records store")
+    record.add_argument("package", metavar="PACKAGE_JSON", help="the package's JSON twin")
+    record.add_argument("results", metavar="RESULTS",
+                        help="the filled results sheet (YAML) or the filled package PDF")
+    record.add_argument("--db", help="records store (SQLite file)")
+    record.add_argument("--plant", help="plant file: the store beside it is used")
+    record.add_argument("--by", help="who records it (default: the technician)")
+    record.add_argument("--at", help="when (ISO date and time; default: now)")
+    record.add_argument("--supersedes", type=int, metavar="N",
+                        help="this corrects record N (records are never changed)")
+    record.add_argument("--followups", metavar="FILE",
+                        help="write follow-up findings (e.g. insulation below minimum) here")
+    record.set_defaults(run=_cmd_record)
+
+    verify = commands.add_parser("verify", help="check the records store's hash chain")
+    verify.add_argument("--db", help="records store (SQLite file)")
+    verify.add_argument("--plant", help="plant file: the store beside it is used")
+    verify.set_defaults(run=_cmd_verify)
+
     schema = commands.add_parser("schema", help="print the JSON Schema of an input file")
-    schema.add_argument("what", choices=["plant", "findings"], help="which file")
+    schema.add_argument("what", choices=["plant", "findings", "results"], help="which file")
     schema.set_defaults(run=_cmd_schema)
     return parser
 

@@ -15,7 +15,9 @@ from pydantic import BaseModel, ValidationError
 from workpack.checks import Mismatch, check_findings, run_checks
 from workpack.errors import InputError, Problem, did_you_mean
 from workpack.model.findings import Findings
+from workpack.model.package import WorkPackage
 from workpack.model.plant import Plant
+from workpack.model.results import Results
 from workpack.model.rules import CautionLibrary, RuleFile
 from workpack.model.weights import SearchWeights
 from workpack.rules import RuleSet, build_ruleset
@@ -282,3 +284,62 @@ def load_ruleset(folder: Path) -> RuleSet:
         raise InputError([Problem(str(folder), 0, 0, "", "no rule files (*.yaml) here")])
     return build_ruleset(files, (library, library_marks.problem), context_schema,
                          {name: parameters(name) for name in CALCULATIONS})
+
+
+def load_package(path: Path) -> tuple[WorkPackage, str]:
+    """A package's JSON twin, validated, and the hash its records will carry."""
+    import json
+
+    from workpack.store import package_sha256
+
+    text = read_text(path)
+    try:
+        data = json.loads(text)
+    except json.JSONDecodeError as error:
+        raise InputError([Problem(str(path), error.lineno, error.colno, "",
+                                  f"not a package JSON file: {error.msg}")]) from None
+    try:
+        package = WorkPackage.model_validate(data)
+    except ValidationError as error:
+        first = error.errors(include_url=False)[0]
+        where = ".".join(str(p) for p in first["loc"])
+        raise InputError([Problem(str(path), 0, 0, where,
+                                  f"not a workpack package: {first['msg']}")]) from None
+    return package, package_sha256(data)
+
+
+def load_results(path: Path, package: WorkPackage, package_hash: str) -> Results:
+    """Results from a filled YAML sheet or a filled package PDF, checked against the package."""
+    from workpack.evaluate import check_results
+
+    if path.suffix.lower() == ".pdf":
+        data, marks = _results_from_pdf(path, package)
+    else:
+        data, marks = parse_yaml(read_text(path), str(path))
+    results = validate(Results, data, marks, "results file")
+    mismatches = [Mismatch(where, message)
+                  for where, message in check_results(package, results, package_hash)]
+    if mismatches:
+        raise InputError(_located(marks, mismatches))
+    return results
+
+
+def _results_from_pdf(path: Path, package: WorkPackage) -> tuple[dict[str, Any], Marks]:
+    from pypdf import PdfReader
+    from pypdf.errors import PdfReadError
+
+    from workpack.forms import results_from_fields
+    from workpack.render.pdf import split_field_name
+
+    try:
+        fields = PdfReader(path).get_fields() or {}
+    except (PdfReadError, OSError, ValueError) as error:
+        raise InputError([Problem(str(path), 0, 0, "", f"cannot read the PDF: {error}")]) \
+            from None
+    if not fields:
+        raise InputError([Problem(str(path), 0, 0, "", "this PDF has no form fields: is it a "
+                                                      "workpack package?")])
+    values = {name: field.get("/V") for name, field in fields.items()}
+    data = results_from_fields(package, {k: (str(v) if v is not None else None)
+                                         for k, v in values.items()}, split_field_name)
+    return data, TableMarks(str(path), places={})

@@ -435,13 +435,14 @@ class _PackageBuilder:
                 continue
             number = len(built) + 1
             readings: list[Reading] = []
-            for calc, params in step.readings:
+            for calc, params, judge in step.readings:
                 values = {name: str(_evaluate(rule, source, context)).strip()
                           for name, source in params.items()}
                 calc_context = CalcContext(self.topology, self.standards,
                                            f"{prefix}{number}.{len(readings) + 1}")
                 try:
-                    readings.extend(CALCULATIONS[calc](calc_context, **values))
+                    readings.extend(r if judge else r.model_copy(update={"acceptance": False})
+                                    for r in CALCULATIONS[calc](calc_context, **values))
                 except CalcError as error:
                     raise RuleError(f"{rule.place}: rule {rule.id}: {calc}: {error}") from None
             cautions = tuple(self._caution(rule, c, context) for c in step.cautions)
@@ -477,8 +478,11 @@ class _PackageBuilder:
                     what=f"{section.element} to earth at {dc} DC, if the search ends at "
                          f"{final.feeder}", unit="MΩ" if section.minimum_ohm >= 1e6 else "kΩ",
                     limit=Limit(low=section.minimum_ohm, basis=section.basis,
-                                temperature_corrected_to_c=section.reference_c),
-                    needs_temperature=section.reference_c is not None)
+                                temperature_corrected_to_c=section.reference_c,
+                                code_set=section.code_set if section.reference_c is not None
+                                else None),
+                    needs_temperature=section.reference_c is not None,
+                    element=section.element, test_voltage_v=section.test_voltage_v[1])
                 added.append(Step(number=len(added) + 1,
                                   text=f"Final test {final.feeder} → {section.label}: isolate "
                                        "the circuit, then test this section.",
@@ -571,7 +575,7 @@ class _PackageBuilder:
         lines = [str(_evaluate(rule, text, context)).strip() for text in rule.acceptance]
         for step in (*steps, *restoration):
             for reading in step.readings:
-                if reading.limit is not None:
+                if reading.limit is not None and reading.acceptance:
                     lines.append(f"{reading.id} {reading.what}: {_limit_text(reading)}")
         return tuple(lines)
 

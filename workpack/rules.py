@@ -160,7 +160,7 @@ def compile_source(source: str, mode: Literal["expression", "template"]) -> Comp
 class CompiledStep:
     text: Compiled
     when: Compiled | None
-    readings: tuple[tuple[str, dict[str, Compiled]], ...]
+    readings: tuple[tuple[str, dict[str, Compiled], bool], ...]  # calc, params, judge
     cautions: tuple[str, ...]
     check_only: bool
 
@@ -369,7 +369,8 @@ def _compile_step(step: StepRule) -> CompiledStep:
         text=compile_source(step.text, "template"),
         when=compile_source(step.when, "expression") if step.when else None,
         readings=tuple((reading.calc, {name: compile_source(source, "template")
-                                       for name, source in reading.params.items()})
+                                       for name, source in reading.params.items()},
+                        reading.judge)
                        for reading in step.readings),
         cautions=step.cautions, check_only=step.check_only)
 

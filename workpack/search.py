@@ -83,7 +83,7 @@ class SectionTest:
 
     element: str
     label: str
-    family: str  # rotating_machines, apparatus, installations
+    code_set: str  # the tables that set its test voltage and minimum
     test_voltage_v: tuple[float, float]  # DC, a range where the table gives one
     minimum_ohm: float
     reference_c: float | None
@@ -445,7 +445,7 @@ def _final_tests(topology: Topology, builder: _TreeBuilder, leaf: str,
         minimum = minimum_insulation_resistance(code_set, voltage, winding=winding)
         sections.append(SectionTest(
             element=element_id, label=element.label,
-            family=code_set.name, test_voltage_v=(test.min_v, test.max_v),
+            code_set=code_set.name, test_voltage_v=(test.min_v, test.max_v),
             minimum_ohm=minimum.minimum_ohm, reference_c=minimum.reference_c,
             basis=f"{test.citation}; {minimum.citation}" + (
                 f"; {assumption}" if assumption else "")))

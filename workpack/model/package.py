@@ -42,6 +42,7 @@ class Limit(Plain):
     high: float | None = None
     basis: str  # where the numbers come from: "computed: 440 V / √3", "IEEE Std 43-2013 12.3"
     temperature_corrected_to_c: float | None = None  # compare after correcting to this
+    code_set: str | None = None  # the tables whose temperature correction applies
 
 
 class Reading(Plain):
@@ -55,6 +56,10 @@ class Reading(Plain):
     limit: Limit | None = None
     basis: str = ""  # source of ``expected``
     needs_temperature: bool = False  # the record must also give the temperature
+    element: str | None = None  # the element measured, where the reading is of one element
+    acceptance: bool = True  # False: recorded against its limit, but not what the job is
+    # judged by (e.g. a reading before a repair)
+    test_voltage_v: float | None = None  # DC test voltage of an insulation reading
 
 
 class Step(Plain):

@@ -47,6 +47,9 @@ class CalcRef(Strict):
     calc: str = Field(min_length=1)
     params: dict[str, str] = Field(default_factory=dict,
                                    description="parameter name → expression")
+    judge: bool = Field(default=True, description="false: the readings are recorded against "
+                                                  "their limits but do not decide the job "
+                                                  "(e.g. before a repair)")
 
 
 def _yes_no_as_text(value: Any) -> Any:

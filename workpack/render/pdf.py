@@ -854,6 +854,8 @@ class PackagePdf(PdfDocument):
                         "temperature corrected to "
                         f"{format_quantity(r.limit.temperature_corrected_to_c, '°C')}", cell))
                 limit.append(Paragraph(words(r.limit.basis), small))
+                if not r.acceptance:
+                    limit.append(Paragraph("<b>As found: recorded, not judged.</b>", cell))
             else:
                 limit.append(Paragraph("—", cell))
             temperature: Flowable | str = ""

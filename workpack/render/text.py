@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from workpack.diagnose import DayDiagnosis, ReadingSummary
+from workpack.evaluate import Evaluation
 from workpack.isolation import IsolationPlan
 from workpack.plan import DayPlan
 from workpack.search import FaultSearch
@@ -187,4 +188,24 @@ def day_plan(plan: DayPlan) -> str:
     for conflict in plan.conflicts:
         lines.append(f"CONFLICT: {conflict.text}")
     lines.append("Local codes, the employer's safety rules and licensed practice prevail.")
+    return "\n".join(lines) + "\n"
+
+
+def evaluation_text(evaluation: Evaluation) -> str:
+    lines = [f"{evaluation.package_id} ({evaluation.item}): {evaluation.verdict.upper()}"]
+    for reading in evaluation.readings:
+        if reading.measured_si is None:
+            shown = "not recorded"
+        else:
+            scale = {"kΩ": 1e3, "MΩ": 1e6, "kVA": 1e3}.get(reading.unit, 1.0)
+            shown = f"{reading.measured_si / scale:.3g} {reading.unit}".strip()
+        mark = {"pass": "ok  ", "fail": "FAIL", "not recorded": "--  ",
+                "recorded": "rec "}[reading.outcome]
+        if not reading.judged:
+            mark = "low " if reading.outcome == "fail" else "rec "
+        lines.append(f"  {mark} {reading.id} {reading.what}: {shown}"
+                     + (f" — {reading.note}" if reading.note else ""))
+    for deviation in evaluation.deviations:
+        if deviation.kind != "reading":
+            lines.append(f"  {'FAIL' if deviation.fails else 'open'} {deviation.text}")
     return "\n".join(lines) + "\n"

@@ -1,0 +1,185 @@
+"""Completed packages: results in (YAML sheet or filled PDF), judged, stored, verified."""
+
+from __future__ import annotations
+
+import json
+import re
+from pathlib import Path
+
+import pytest
+from conftest import ROOT
+from pypdf import PdfReader, PdfWriter
+
+from workpack.cli import main
+from workpack.render.pdf import field_name
+from workpack.store import open_store
+
+VESSEL = str(ROOT / "plants" / "demo-vessel.yaml")
+FINDINGS = str(ROOT / "plants" / "demo-vessel-findings.yaml")
+AT = "2026-12-02T16:00+00:00"
+
+
+@pytest.fixture(scope="module")
+def packages(tmp_path_factory) -> Path:
+    out = tmp_path_factory.mktemp("issued")
+    assert main(["plan", VESSEL, FINDINGS, "--out", str(out), "--crew-hours", "40"]) == 0
+    return out
+
+
+def windlass(packages: Path) -> Path:
+    for twin in sorted(packages.glob("WP-*.json")):
+        if json.loads(twin.read_text(encoding="utf-8"))["origin"]["rule"] == "low-insulation":
+            return twin
+    raise AssertionError("no windlass package")
+
+
+def filled_sheet(package: Path, tmp_path: Path, *, dry_out_mohm: str = "40 MΩ",
+                 removed: bool = True) -> Path:
+    sheet = tmp_path / "results.yaml"
+    assert main(["results-template", str(package), "--out", str(sheet)]) == 0
+    text = sheet.read_text(encoding="utf-8")
+    text = text.replace("completed_by:            # technician", "completed_by: S. Quayle")
+    text = text.replace("supervisor:\n", "supervisor: R. Tamsin\n")
+    text = text.replace("completed_on:            # YYYY-MM-DD", "completed_on: 2026-12-02")
+    text = text.replace("tester_proven_before: false", "tester_proven_before: true")
+    text = text.replace("tester_proven_after: false", "tester_proven_after: true")
+    for field, value in (("lock", "L-07"), ("tag", "T-07"), ("applied_by", "S. Quayle")):
+        text = re.sub(rf"    {field}:\n", f"    {field}: {value}\n", text)
+    if removed:
+        text = re.sub(r"    removed_by:\n", "    removed_by: S. Quayle\n", text)
+    text = re.sub(r'(    "[A-C12]-[A-CE12]":)\n', r"\1 0\n", text)
+    text = text.replace("{done: false}", "{done: true}")
+    text = re.sub(r"(  S2\.R\d:.*\n)    value:\n    temperature:.*\n",
+                  r"\1    value: 1.1\n    temperature: 25\n", text)
+    text = re.sub(r"(  S5\.R\d:.*\n)    value:\n    temperature:.*\n",
+                  rf"\1    value: {dry_out_mohm}\n    temperature: 30 °C\n", text)
+    text = re.sub(r"(  S3\.R1:.*\n)    value:\n", r"\1    value: 2.4\n", text)
+    text = re.sub(r"(  X1\.R\d:.*\n)    value:\n", r"\1    value: 253\n", text)
+    sheet.write_text(text, encoding="utf-8")
+    return sheet
+
+
+def test_yaml_round_trip_records_a_passed_job(packages, tmp_path, capsys) -> None:
+    package = windlass(packages)
+    db = tmp_path / "records.sqlite"
+    assert main(["record", str(package), str(filled_sheet(package, tmp_path)),
+                 "--db", str(db), "--at", AT]) == 0
+    out = capsys.readouterr().out
+    assert "PASSED" in out and "recorded as record 1" in out
+    with open_store(db, create=False) as store:
+        record = store.get(1)
+        assert record.verdict == "passed"
+        readings = {r["id"]: r for r in record.results["evaluation"]["readings"]}
+        # IEEE 43 halving rule: 40 MΩ at 30 °C is 20 MΩ at 40 °C.
+        assert readings["S5.R1"]["compared_si"] == pytest.approx(20e6)
+        assert record.results["results"]["readings"]["S5.R1"]["value"] == "40 MΩ"
+    assert main(["verify", "--db", str(db)]) == 0
+
+
+def test_failing_reading_names_its_limit_and_becomes_tomorrows_finding(
+    packages, tmp_path, capsys,
+) -> None:
+    package = windlass(packages)
+    followups = tmp_path / "tomorrow.yaml"
+    assert main(["record", str(package),
+                 str(filled_sheet(package, tmp_path, dry_out_mohm="6 MΩ")),
+                 "--db", str(tmp_path / "r.sqlite"), "--at", AT,
+                 "--followups", str(followups)]) == 0
+    out = capsys.readouterr().out
+    # 6 MΩ at 30 °C → 3 MΩ at 40 °C, below the 5 MΩ of IEEE Std 43 (2013) 12.3.
+    assert "FAILED" in out and "below the minimum 5 MΩ (IEEE Std 43 (2013), 12.3)" in out
+    text = followups.read_text(encoding="utf-8")
+    assert "where: WL-1" in text and "kind: insulation_resistance" in text
+
+
+def test_a_lock_applied_and_never_removed_fails_the_job(packages, tmp_path, capsys) -> None:
+    package = windlass(packages)
+    assert main(["record", str(package), str(filled_sheet(package, tmp_path, removed=False)),
+                 "--db", str(tmp_path / "r.sqlite"), "--at", AT]) == 0
+    out = capsys.readouterr().out
+    assert "FAILED" in out
+    assert "CB-WL1: lock L-07 applied by S. Quayle was never recorded as removed" in out
+
+
+def test_filled_pdf_gives_the_same_record_as_the_yaml_sheet(packages, tmp_path) -> None:
+    package = windlass(packages)
+    data = json.loads(package.read_text(encoding="utf-8"))
+    sheet = filled_sheet(package, tmp_path)
+    yaml_db, pdf_db = tmp_path / "yaml.sqlite", tmp_path / "pdf.sqlite"
+    assert main(["record", str(package), str(sheet), "--db", str(yaml_db), "--at", AT]) == 0
+
+    values: dict[str, str] = {field_name("sign", "technician"): "S. Quayle",
+                              field_name("sign", "supervisor"): "R. Tamsin",
+                              field_name("sign", "date"): "2026-12-02"}
+    for point in data["isolation"]:
+        device = point["device"]
+        values |= {field_name("lock", device, "number"): "L-07",
+                   field_name("tag", device, "number"): "T-07",
+                   field_name("lock", device, "applied_by"): "S. Quayle",
+                   field_name("lock", device, "removed_by"): "S. Quayle"}
+    for index, point in enumerate(data["proving_dead"], start=1):
+        values |= {field_name("dead", index, pair): "0" for pair in point["pairs"]}
+    for step in data["steps"]:
+        for reading in step["readings"]:
+            if reading["id"].startswith("S2."):
+                values |= {field_name("reading", reading["id"]): "1.1",
+                           field_name("temperature", reading["id"]): "25"}
+            elif reading["id"].startswith("S5."):
+                values |= {field_name("reading", reading["id"]): "40 MΩ",
+                           field_name("temperature", reading["id"]): "30 °C"}
+            elif reading["id"] == "S3.R1":
+                values[field_name("reading", "S3.R1")] = "2.4"
+    for reading in data["restoration"][0]["readings"]:
+        values[field_name("reading", reading["id"])] = "253"
+    writer = PdfWriter(clone_from=PdfReader(package.with_suffix(".pdf")))
+    for page in writer.pages:
+        writer.update_page_form_field_values(page, values, auto_regenerate=False)
+    for name in [n for n in PdfReader(package.with_suffix(".pdf")).get_fields()
+                 if n.startswith(("step:", "restore:", "tester:"))]:
+        for page in writer.pages:
+            writer.update_page_form_field_values(page, {name: "/Yes"}, auto_regenerate=False)
+    filled = tmp_path / "filled.pdf"
+    with open(filled, "wb") as handle:
+        writer.write(handle)
+    assert main(["record", str(package), str(filled), "--db", str(pdf_db), "--at", AT]) == 0
+    with open_store(yaml_db, create=False) as a, open_store(pdf_db, create=False) as b:
+        from_yaml, from_pdf = a.get(1).results["evaluation"], b.get(1).results["evaluation"]
+    assert from_pdf["verdict"] == from_yaml["verdict"] == "passed"
+    assert from_pdf["readings"] == from_yaml["readings"]
+
+
+@pytest.mark.parametrize(("change", "expected"), [
+    (("package: WP-", "package: XX-"), r":5:10: package: these results answer 'XX-"),
+    (("    value: 253\n", "    value: 253 kΩ\n"),
+     r"readings\.X1\.R1\.value: 'kΩ' is not a unit of voltage"),
+    (("S5.R1:", "S5.R9:"), r"readings\.S5\.R9: no reading 'S5\.R9' in WP-\d+-\d+ \(did you mean"),
+    (("completed_on: 2026-12-02", "completed_on: 2026-13-02"),
+     r":9:15: YAML: '2026-13-02' is not a real date"),
+    (("  CB-WL1:", "  CB-WL9:"), r"isolation\.CB-WL9: 'CB-WL9' is not an isolation point"),
+])
+def test_bad_results_are_one_located_line_and_store_nothing(
+    packages, tmp_path, capsys, change, expected,
+) -> None:
+    package = windlass(packages)
+    sheet = filled_sheet(package, tmp_path)
+    sheet.write_text(sheet.read_text(encoding="utf-8").replace(*change, 1), encoding="utf-8")
+    db = tmp_path / "r.sqlite"
+    assert main(["record", str(package), str(sheet), "--db", str(db), "--at", AT]) == 2
+    err = capsys.readouterr().err
+    assert re.search(expected, err), err
+    assert err.startswith(str(sheet) + ":") and "Traceback" not in err
+    assert not db.exists()  # nothing stored, not even an empty store
+
+
+def test_a_correction_supersedes_and_never_changes_the_first_record(packages, tmp_path) -> None:
+    package = windlass(packages)
+    db = tmp_path / "r.sqlite"
+    assert main(["record", str(package), str(filled_sheet(package, tmp_path, removed=False)),
+                 "--db", str(db), "--at", AT]) == 0
+    assert main(["record", str(package), str(filled_sheet(package, tmp_path)), "--db", str(db),
+                 "--at", "2026-12-02T17:00+00:00", "--supersedes", "1"]) == 0
+    with open_store(db, create=False) as store:
+        assert store.get(1).verdict == "failed"
+        latest = store.latest(json.loads(package.read_text(encoding="utf-8"))["id"])
+        assert latest is not None and latest.sequence == 2 and latest.supersedes == 1
+        assert store.verify().ok
