@@ -218,9 +218,10 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     rules = Path(args.rules)
     ruleset = load_ruleset(rules)
     weights = load_weights(rules / "search-weights.yaml")
+    history = _history(args, plant)
     progress = _Progress("planning") if sys.stderr.isatty() else None
     result = plan_day(plant, topology, findings, day, ruleset, _standards(), weights,
-                      args.crew_hours, progress=progress)
+                      args.crew_hours, history=history, progress=progress)
     files: dict[str, bytes] = {}
     rendering = _Progress("rendering") if sys.stderr.isatty() else None
     for done, package in enumerate(result.packages, start=1):
@@ -234,6 +235,22 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     written = write_all(Path(args.out), files)
     sys.stdout.write(day_plan_summary(result, written))
     return 0
+
+
+def _history(args: argparse.Namespace, plant: Any) -> Any:
+    """What the records store says, if there is one (``--db``, or beside the plant)."""
+    from workpack.history import History, history_from_records
+    from workpack.store import open_store
+
+    db = Path(args.db) if args.db else Path(args.plant).with_name(
+        Path(args.plant).stem + ".records.sqlite")
+    if not db.exists():
+        if args.db:
+            raise UsageError(f"--db {args.db}: no such records store")
+        return History()
+    with open_store(db, create=False) as store:
+        return history_from_records(store.records(),
+                                    plant.plant.code_set.rotating_machines)
 
 
 def day_plan_summary(result: Any, written: list[Path]) -> str:
@@ -413,6 +430,8 @@ def build_parser() -> argparse.ArgumentParser:
     plan.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
     plan.add_argument("--rules", default=str(RULES), metavar="DIR",
                       help="rules folder (default: the shipped rules/)")
+    plan.add_argument("--db", help="records store whose history informs the plan (default: "
+                                   "PLANT.records.sqlite beside the plant, if it exists)")
     plan.set_defaults(run=_cmd_plan)
 
     template = commands.add_parser(

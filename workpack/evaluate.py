@@ -51,6 +51,7 @@ class ReadingVerdict:
     note: str = ""
     element: str | None = None  # the element measured (insulation readings)
     judged: bool = True  # False: recorded against its limit but not deciding the verdict
+    code_set: str | None = None  # the tables that corrected it for temperature
 
 
 @dataclass(frozen=True)
@@ -237,7 +238,8 @@ def _judge(reading: Reading, results: Results,
     base: dict[str, Any] = {
         "id": reading.id, "what": reading.what, "unit": reading.unit, "low": low, "high": high,
         "basis": limit.basis if limit else reading.basis, "corrected_to_c": corrected_to,
-        "element": reading.element, "judged": reading.acceptance}
+        "element": reading.element, "judged": reading.acceptance,
+        "code_set": limit.code_set if limit else None}
     if measured is None or measured.value is None:
         return ReadingVerdict(**base, measured_si=None, temperature_c=None, compared_si=None,
                               outcome="not recorded")

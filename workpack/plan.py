@@ -24,8 +24,9 @@ from typing import Any
 
 from workpack.calculations import CALCULATIONS, CalcContext, CalcError
 from workpack.diagnose import DayDiagnosis, Diagnosis, diagnose_day, downstream_loads
-from workpack.electrical import approach_boundary, line_to_neutral
+from workpack.electrical import TrendStatus, approach_boundary, line_to_neutral
 from workpack.electrical.standards import CodeSet
+from workpack.history import History
 from workpack.isolation import IsolationPlan, plan_isolation
 from workpack.model.findings import Findings, Severity
 from workpack.model.package import (
@@ -51,6 +52,7 @@ from workpack.model.plant import (
     Load,
     Plant,
     Routine,
+    RoutineTest,
     Source,
     Transformer,
     Vitality,
@@ -233,13 +235,27 @@ class _Job:
     diagnoses: tuple[Diagnosis, ...] = field(default=())
 
 
-def due_routines(plant: Plant, day: dt.date) -> list[tuple[Element, Routine, dt.date]]:
-    """Routine tests whose interval has run out by ``day`` (or that were never done)."""
+# Trend verdicts that bring an insulation test forward (see electrical.insulation_trend).
+EARLY_TREND = (TrendStatus.FALLING, TrendStatus.REACHES_MINIMUM_SOON,
+               TrendStatus.BELOW_MINIMUM)
+
+
+def due_routines(plant: Plant, day: dt.date, history: History | None = None,
+                 standards: Mapping[str, CodeSet] | None = None,
+                 ) -> list[tuple[Element, Routine, dt.date]]:
+    """Routine tests whose interval has run out by ``day`` (or that were never done), and
+    insulation tests brought forward because the item's recorded trend falls fast."""
     due = []
     for element in plant.elements():
         for routine in element.routine:
             due_on = (routine.last_done + dt.timedelta(days=routine.interval_days)
                       if routine.last_done else day)
+            if due_on > day and routine.test is RoutineTest.insulation_resistance and (
+                history is not None and standards is not None
+            ):
+                trend = history.trend(element.id, standards)
+                if trend is not None and trend.status in EARLY_TREND:
+                    due_on = day
             if due_on <= day:
                 due.append((element, routine, due_on))
     return due
@@ -247,14 +263,19 @@ def due_routines(plant: Plant, day: dt.date) -> list[tuple[Element, Routine, dt.
 
 def plan_day(plant: Plant, topology: Topology, findings: Findings, day: dt.date,
              ruleset: RuleSet, standards: Mapping[str, CodeSet], weights: SearchWeights,
-             crew_hours: float, past_grounds: Mapping[str, int] | None = None,
+             crew_hours: float, history: History | None = None,
              progress: Callable[[int, int], None] | None = None) -> DayPlan:
-    """Every package for ``day``, ranked and fitted into ``crew_hours`` (person-hours)."""
+    """Every package for ``day``, ranked and fitted into ``crew_hours`` (person-hours).
+
+    ``history`` (from the records) raises the likelihood of circuits that grounded before
+    and brings forward insulation tests of items whose readings fall fast."""
+    history = history or History()
     diagnosis = diagnose_day(plant, topology, findings, standards)
     states = system_states(topology, diagnosis)
-    jobs = _match(plant, topology, findings, diagnosis, states, day, ruleset)
+    due = due_routines(plant, day, history, standards)
+    jobs = _match(plant, topology, findings, diagnosis, states, day, ruleset, due)
     builder = _PackageBuilder(plant, topology, ruleset, standards, weights, day, states,
-                              past_grounds or {}, diagnosis)
+                              history.past_grounds, diagnosis)
     drafts = []
     for done, job in enumerate(jobs, start=1):
         drafts.append(builder.build(job))
@@ -286,7 +307,8 @@ def _rank(package: WorkPackage) -> tuple[Any, ...]:
 
 
 def _match(plant: Plant, topology: Topology, findings: Findings, diagnosis: DayDiagnosis,
-           states: Mapping[str, SystemState], day: dt.date, ruleset: RuleSet) -> list[_Job]:
+           states: Mapping[str, SystemState], day: dt.date, ruleset: RuleSet,
+           due: Sequence[tuple[Element, Routine, dt.date]]) -> list[_Job]:
     merged: dict[tuple[str, str], _Job] = {}
     base = {"plant": {"name": plant.plant.name, "kind": plant.plant.kind.value,
                       "frequency": plant.plant.frequency}}
@@ -300,7 +322,7 @@ def _match(plant: Plant, topology: Topology, findings: Findings, diagnosis: DayD
                    "item": item_context(topology, topology.elements[element_id]),
                    "system": system_context(topology, element_id, states)}
         offers.append((context, found.kind, (found.finding,), None, (found,)))
-    for element, routine, due_on in due_routines(plant, day):
+    for element, routine, due_on in due:
         context = {**base, "routine": {
             "test": routine.test.value, "every": routine.every,
             "last_done": routine.last_done.isoformat() if routine.last_done else None,

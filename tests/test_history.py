@@ -1,0 +1,95 @@
+"""The records feed the next plan: grounds found raise a circuit in the search, a fast
+falling insulation trend brings the routine test forward."""
+
+from __future__ import annotations
+
+import datetime as dt
+
+from conftest import ROOT
+
+from workpack.history import history_from_records
+from workpack.loading import load_findings, load_ruleset, load_weights
+from workpack.plan import due_routines, plan_day
+from workpack.store import open_store
+
+DAY = dt.date(2026, 12, 2)
+HASH = "0" * 64
+
+
+def ir_payload(element: str, ohms: float, day: str, *, found: str | None = None) -> dict:
+    reading = {"id": "S1.R1", "what": f"{element} phase A to earth", "unit": "MΩ",
+               "measured_si": ohms, "temperature_c": 40.0, "compared_si": ohms,
+               "corrected_to_c": 40.0, "low": 5e6, "high": None, "basis": "IEEE Std 43",
+               "outcome": "pass", "note": "", "element": element, "judged": True,
+               "code_set": "ieee43-2013"}
+    return {"results": {"completed_on": day, "ground_found_at": found},
+            "evaluation": {"readings": [reading]}}
+
+
+def store_with(tmp_path, payloads: list[tuple[str, dict, int | None]]):
+    store = open_store(tmp_path / "r.sqlite")
+    for n, (package, payload, supersedes) in enumerate(payloads, start=1):
+        store.append(package_id=package, package_sha256=HASH, results=payload,
+                     recorded_by="x", recorded_at=dt.datetime(2026, 1, n, tzinfo=dt.UTC),
+                     verdict="passed", supersedes=supersedes)
+    return store
+
+
+def test_grounds_found_are_counted_once_per_effective_record(tmp_path) -> None:
+    store = store_with(tmp_path, [
+        ("WP-1", ir_payload("SWP-1", 9e6, "2026-01-01", found="SWP-1"), None),
+        ("WP-2", ir_payload("SWP-1", 9e6, "2026-02-01", found="BP-1"), None),
+        ("WP-2", ir_payload("SWP-1", 9e6, "2026-02-01", found="SWP-1"), 2),  # correction
+    ])
+    history = history_from_records(store.records(), "ieee43-2013")
+    assert history.past_grounds == {"SWP-1": 2}
+
+
+def test_falling_insulation_brings_the_routine_test_forward(demo_vessel, standards,
+                                                           tmp_path) -> None:
+    """SG-2's six-monthly test was done on 2026-09-02: not due on 2026-12-02 by its
+    interval. Readings halving every few weeks (trend thresholds: common practice) make
+    it due now."""
+    plant = demo_vessel.plant
+    assert not [r for e, r, _ in due_routines(plant, DAY) if e.id == "SG-2"]
+    store = store_with(tmp_path, [
+        (f"WP-{n}", ir_payload("SG-2", ohms, day), None)
+        for n, (ohms, day) in enumerate([(400e6, "2026-09-02"), (150e6, "2026-10-15"),
+                                         (40e6, "2026-11-20")], start=1)])
+    history = history_from_records(store.records(), "ieee43-2013")
+    trend = history.trend("SG-2", standards)
+    assert trend is not None and trend.status.value in ("falling",
+                                                        "projected to reach the minimum")
+    due = [e.id for e, r, _ in due_routines(plant, DAY, history, standards)]
+    assert "SG-2" in due
+
+
+def test_past_grounds_move_a_circuit_up_the_search_in_the_package(
+    demo_vessel, standards, tmp_path,
+) -> None:
+    findings = load_findings(ROOT / "plants" / "demo-vessel-findings.yaml", demo_vessel)
+    ruleset = load_ruleset(ROOT / "rules")
+    weights = load_weights(ROOT / "rules" / "search-weights.yaml")
+
+    def first_search_step(history) -> str:
+        plan = plan_day(demo_vessel.plant, demo_vessel, findings, DAY, ruleset, standards,
+                        weights, 100.0, history=history)
+        search = next(p for p in plan.packages if p.origin.rule == "locate-ground")
+        return next(s.text for s in search.steps if s.text.startswith("Search MSB, step 1"))
+
+    store = store_with(tmp_path, [(f"WP-{n}", ir_payload("X", 9e6, "2026-01-01",
+                                                         found="BP-1"), None)
+                                  for n in range(1, 7)])
+    before = first_search_step(None)
+    after = first_search_step(history_from_records(store.records(), "ieee43-2013"))
+    assert "open CB-MCC2" in before
+    assert "open CB-BP1" in after
+
+
+def test_plan_with_a_named_store_that_does_not_exist_is_an_error(tmp_path, capsys) -> None:
+    from workpack.cli import main
+
+    assert main(["plan", str(ROOT / "plants" / "demo-vessel.yaml"),
+                 str(ROOT / "plants" / "demo-vessel-findings.yaml"), "--out",
+                 str(tmp_path / "out"), "--db", str(tmp_path / "none.sqlite")]) == 2
+    assert "no such records store" in capsys.readouterr().err
