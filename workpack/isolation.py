@@ -15,8 +15,6 @@ from __future__ import annotations
 from collections import deque
 from dataclasses import dataclass
 
-import networkx as nx
-
 from workpack.model.plant import (
     Bus,
     Cable,
@@ -28,7 +26,6 @@ from workpack.model.plant import (
     Transformer,
 )
 from workpack.topology import (
-    GALVANIC,
     POWER,
     Topology,
     element_of,
@@ -177,29 +174,17 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
 
 
 def _necessary(topology: Topology, region: set[str], frontier: list[str]) -> list[str]:
-    """Frontier devices with a source beyond them; each one left is needed.
+    """Frontier devices with a source beyond them; each one kept is needed.
 
-    One walk from every source that crosses neither the item's side
-    (``region``) nor a frontier device marks what sources reach. A device is
-    needed when a source reaches its far side: closing it alone would put that
-    source onto the item. Dropping a device whose far side is dead never makes
-    another device's far side live (it only joins dead parts together), so one
-    pass gives the same answer as dropping them one at a time.
+    A device is needed when a source reaches its far side without crossing the
+    item's side (``region``) or another frontier device: closing it alone would
+    put that source onto the item. Dropping a device whose far side is dead
+    never makes another device's far side live (it only joins dead parts
+    together), so checking each against the whole frontier gives the same
+    answer as dropping them one at a time.
     """
-    view = topology.closable_view(POWER)
     blocked = region | set(frontier)
-    live = set(topology.source_nodes - blocked)
-    queue = deque(sorted(live))
-    while queue:
-        node = queue.popleft()
-        for neighbour in view.neighbors(node):
-            if neighbour not in live and neighbour not in blocked:
-                live.add(neighbour)
-                queue.append(neighbour)
-    return sorted(
-        device for device in frontier
-        if any(n in live for n in view.neighbors(device) if n not in region)
-    )
+    return sorted(d for d in frontier if _far_side_path(topology, d, blocked) is not None)
 
 
 def _far_side_path(topology: Topology, device: str,
@@ -217,7 +202,7 @@ def _far_side_path(topology: Topology, device: str,
                 chain.append(step)
                 step = parent[step]
             return tuple(reversed(chain))
-        for neighbour in sorted(view.neighbors(node)):
+        for neighbour in view.neighbors(node):
             if neighbour not in parent and (neighbour not in blocked or neighbour == device):
                 parent[neighbour] = node
                 queue.append(neighbour)
@@ -315,11 +300,10 @@ def _no_lock_hazard(topology: Topology, item_id: str, source: str,
 def _item_hazards(topology: Topology, item_id: str) -> list[Hazard]:
     """Sources that could appear on the item's own system if ties were closed."""
     hazards: list[Hazard] = []
-    galvanic = topology.closable_view(GALVANIC)
     reach: set[str] = set()
     for node in topology.work_nodes(item_id):
-        reach |= nx.node_connected_component(galvanic, node)
-    for source in sorted(reach & topology.source_nodes - {item_id}):
+        reach |= topology.sources_joined_with_ties_closed(node)
+    for source in sorted(reach - {item_id}):
         element = topology.elements[source]
         assert isinstance(element, Source)
         if element.starts_automatically:

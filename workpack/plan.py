@@ -180,7 +180,7 @@ def system_context(topology: Topology, element_id: str,
         "ground_phases": list(state.ground_phases),
         "second_ground": len(state.ground_phases) >= 2,
         "highest_phase_to_earth_v": state.highest_phase_to_earth_v,
-        "transformer_fed": any(n.endswith(":secondary") for n in island.nodes),
+        "transformer_fed": island.transformer_fed,
     }
 
 

@@ -70,6 +70,7 @@ class Island:
     detectors: tuple[Detector, ...]
     buses: tuple[str, ...]
     sources: tuple[str, ...]
+    transformer_fed: bool = False  # holds a transformer secondary
 
     @property
     def elements(self) -> tuple[str, ...]:
@@ -173,6 +174,19 @@ class Topology:
         return self._closable[kinds]
 
     @cached_property
+    def _closable_galvanic_sources(self) -> dict[str, frozenset[str]]:
+        """Node → the sources galvanically joined to it when every tie is closed."""
+        joined: dict[str, frozenset[str]] = {}
+        for component in nx.connected_components(self.closable_view(GALVANIC)):
+            sources = frozenset(component) & self.source_nodes
+            for node in component:
+                joined[node] = sources
+        return joined
+
+    def sources_joined_with_ties_closed(self, node: str) -> frozenset[str]:
+        return self._closable_galvanic_sources[node]
+
+    @cached_property
     def normal_children(self) -> dict[str, list[str]]:
         """Element id → the elements it feeds in the normal state (across banks too)."""
         children: dict[str, list[str]] = {}
@@ -242,7 +256,8 @@ class Topology:
         name = (watched or [b.id for b in buses] or [s.id for s in sources] or nodes)[0]
         return Island(id=name, nodes=tuple(nodes), voltage=voltage, earthing=earthing,
                       detectors=detectors, buses=tuple(b.id for b in buses),
-                      sources=tuple(s.id for s in sources))
+                      sources=tuple(s.id for s in sources),
+                      transformer_fed=any(n.endswith(":secondary") for n in nodes))
 
     def _transformer_side_voltage(self, nodes: list[str]) -> float | None:
         for node in nodes:
@@ -343,9 +358,11 @@ class Topology:
         feeds = self.auxiliary_feeds(item_id)
 
         def neighbours(node: str) -> list[str]:
-            found = sorted(view.neighbors(node))
+            # Adjacency keeps the sorted order the graph was built in: deterministic
+            # without sorting on every step of a walk.
+            found = list(view.neighbors(node))
             if node in starts:
-                found = sorted(set(found) | set(feeds))
+                found += [f for f in feeds if f not in found]
             return found
 
         return neighbours
