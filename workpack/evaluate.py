@@ -18,7 +18,7 @@ from typing import Any, Literal
 from workpack.electrical import correct_to_reference
 from workpack.electrical.standards import CodeSet
 from workpack.errors import did_you_mean
-from workpack.model.package import Reading, WorkPackage
+from workpack.model.package import UNIT_SCALE, Reading, WorkPackage, in_unit
 from workpack.model.results import Results
 from workpack.units import UnitProblem, to_si
 
@@ -29,7 +29,6 @@ DEAD_BELOW_V = 1.0
 UNIT_KIND = {"V": "voltage", "A": "current", "Ω": "resistance", "kΩ": "resistance",
              "MΩ": "resistance", "kVA": "power", "Hz": "frequency", "s": "time",
              "°C": "temperature"}
-UNIT_SCALE = {"kΩ": 1e3, "MΩ": 1e6, "kVA": 1e3}
 
 Verdict = Literal["passed", "failed", "incomplete"]
 Path = tuple[str | int, ...]
@@ -255,17 +254,17 @@ def _judge(reading: Reading, results: Results,
                                   note="temperature not recorded: cannot correct")
         corrected = correct_to_reference(standards[limit.code_set], value, temperature)
         compared = corrected.corrected_ohm
-        note = (f"{_shown(value, reading.unit)} at {temperature:g} °C is "
-                f"{_shown(compared, reading.unit)} at {corrected.reference_c:g} °C "
+        note = (f"{in_unit(value, reading.unit)} at {temperature:g} °C is "
+                f"{in_unit(compared, reading.unit)} at {corrected.reference_c:g} °C "
                 f"({corrected.citation})")
     if limit is None:
         return ReadingVerdict(**base, measured_si=value, temperature_c=temperature,
                               compared_si=compared, outcome="recorded", note=note)
     broken = []
     if low is not None and compared < low:
-        broken.append(f"below the minimum {_shown(low, reading.unit)}")
+        broken.append(f"below the minimum {in_unit(low, reading.unit)}")
     if high is not None and compared > high:
-        broken.append(f"above the maximum {_shown(high, reading.unit)}")
+        broken.append(f"above the maximum {in_unit(high, reading.unit)}")
     if broken:
         note = (note + "; " if note else "") + " and ".join(broken) + f" ({limit.basis})"
     return ReadingVerdict(**base, measured_si=value, temperature_c=temperature,
@@ -302,8 +301,6 @@ def _followups(package: WorkPackage, results: Results,
     return found
 
 
-def _shown(value: float, unit: str) -> str:
-    return f"{value / UNIT_SCALE.get(unit, 1.0):.3g} {unit}".strip()
 
 
 def record_payload(results: Results, evaluation: Evaluation) -> dict[str, Any]:

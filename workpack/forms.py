@@ -13,36 +13,21 @@ import json
 from collections.abc import Mapping
 from typing import Any
 
-from workpack.model.package import Reading, WorkPackage
-
-UNIT_SCALE = {"kΩ": 1e3, "MΩ": 1e6, "kVA": 1e3}
+from workpack.model.package import Reading, WorkPackage, in_unit
 
 
 def _quoted(text: str) -> str:
     return json.dumps(text, ensure_ascii=False)
 
 
-def _shown(value: float, unit: str) -> str:
-    return f"{value / UNIT_SCALE.get(unit, 1.0):.3g} {unit}".strip()
-
-
 def _expectation(reading: Reading) -> str:
     parts = []
     if reading.expected is not None:
-        parts.append(f"expect {_shown(reading.expected, reading.unit)}")
+        parts.append(f"expect {in_unit(reading.expected, reading.unit)}")
         if reading.tolerance:
-            parts[-1] += f" ± {_shown(reading.tolerance, reading.unit)}"
-    limit = reading.limit
-    if limit is not None:
-        if limit.low is not None and limit.high is not None:
-            parts.append(f"between {_shown(limit.low, reading.unit)} and "
-                         f"{_shown(limit.high, reading.unit)}")
-        elif limit.low is not None:
-            parts.append(f"at least {_shown(limit.low, reading.unit)}")
-        elif limit.high is not None:
-            parts.append(f"at most {_shown(limit.high, reading.unit)}")
-        if limit.temperature_corrected_to_c is not None:
-            parts.append(f"after correction to {limit.temperature_corrected_to_c:g} °C")
+            parts[-1] += f" ± {in_unit(reading.tolerance, reading.unit)}"
+    if reading.limit is not None:
+        parts.append(reading.limit.describe(reading.unit))
     return "; ".join(parts) or "record as found"
 
 

@@ -626,25 +626,9 @@ def _renumber(readings: list[Reading]) -> tuple[Reading, ...]:
     return tuple(out)
 
 
-def _scaled(value: float, unit: str) -> str:
-    scale = {"kΩ": 1e3, "MΩ": 1e6, "kVA": 1e3}.get(unit, 1.0)
-    return f"{value / scale:.3g} {unit}".strip()
-
-
 def _limit_text(reading: Reading) -> str:
     assert reading.limit is not None
-    limit = reading.limit
-    parts = []
-    if limit.low is not None and limit.high is not None:
-        parts.append(f"between {_scaled(limit.low, reading.unit)} and "
-                     f"{_scaled(limit.high, reading.unit)}")
-    elif limit.low is not None:
-        parts.append(f"at least {_scaled(limit.low, reading.unit)}")
-    elif limit.high is not None:
-        parts.append(f"at most {_scaled(limit.high, reading.unit)}")
-    if limit.temperature_corrected_to_c is not None:
-        parts.append(f"after correction to {limit.temperature_corrected_to_c:g} °C")
-    return " ".join(parts) + f" ({limit.basis})"
+    return f"{reading.limit.describe(reading.unit)} ({reading.limit.basis})"
 
 
 def _isolation_points(plan: IsolationPlan | None) -> tuple[IsolationPoint, ...]:

@@ -35,6 +35,15 @@ class Caution(Plain):
     id: str | None = None  # the caution library entry it came from, if any
 
 
+# Units a reading is shown in, and their size in SI.
+UNIT_SCALE = {"kΩ": 1e3, "MΩ": 1e6, "kVA": 1e3}
+
+
+def in_unit(value_si: float, unit: str) -> str:
+    """An SI value in the unit a reading is shown in, three significant figures."""
+    return f"{value_si / UNIT_SCALE.get(unit, 1.0):.3g} {unit}".strip()
+
+
 class Limit(Plain):
     """What a reading must be. Bounds in SI units; either may be open."""
 
@@ -43,6 +52,20 @@ class Limit(Plain):
     basis: str  # where the numbers come from: "computed: 440 V / √3", "IEEE Std 43-2013 12.3"
     temperature_corrected_to_c: float | None = None  # compare after correcting to this
     code_set: str | None = None  # the tables whose temperature correction applies
+
+    def describe(self, unit: str) -> str:
+        """'at least 5 MΩ after correction to 40 °C', in the reading's unit."""
+        if self.low is not None and self.high is not None:
+            text = f"between {in_unit(self.low, unit)} and {in_unit(self.high, unit)}"
+        elif self.low is not None:
+            text = f"at least {in_unit(self.low, unit)}"
+        elif self.high is not None:
+            text = f"at most {in_unit(self.high, unit)}"
+        else:
+            text = "any value"
+        if self.temperature_corrected_to_c is not None:
+            text += f" after correction to {self.temperature_corrected_to_c:g} °C"
+        return text
 
 
 class Reading(Plain):

@@ -5,6 +5,7 @@ from __future__ import annotations
 from workpack.diagnose import DayDiagnosis, ReadingSummary
 from workpack.evaluate import Evaluation
 from workpack.isolation import IsolationPlan
+from workpack.model.package import in_unit
 from workpack.plan import DayPlan
 from workpack.search import FaultSearch
 from workpack.summary import PlantSummary
@@ -194,11 +195,8 @@ def day_plan(plan: DayPlan) -> str:
 def evaluation_text(evaluation: Evaluation) -> str:
     lines = [f"{evaluation.package_id} ({evaluation.item}): {evaluation.verdict.upper()}"]
     for reading in evaluation.readings:
-        if reading.measured_si is None:
-            shown = "not recorded"
-        else:
-            scale = {"kΩ": 1e3, "MΩ": 1e6, "kVA": 1e3}.get(reading.unit, 1.0)
-            shown = f"{reading.measured_si / scale:.3g} {reading.unit}".strip()
+        shown = ("not recorded" if reading.measured_si is None
+                 else in_unit(reading.measured_si, reading.unit))
         mark = {"pass": "ok  ", "fail": "FAIL", "not recorded": "--  ",
                 "recorded": "rec "}[reading.outcome]
         if not reading.judged:
