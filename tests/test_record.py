@@ -183,3 +183,44 @@ def test_a_correction_supersedes_and_never_changes_the_first_record(packages, tm
         latest = store.latest(json.loads(package.read_text(encoding="utf-8"))["id"])
         assert latest is not None and latest.sequence == 2 and latest.supersedes == 1
         assert store.verify().ok
+
+
+def test_audit_and_closeout_commands_show_what_was_entered(packages, tmp_path, capsys) -> None:
+    package = windlass(packages)
+    db = tmp_path / "records.sqlite"
+    assert main(["record", str(package), str(filled_sheet(package, tmp_path, dry_out_mohm="6")),
+                 "--db", str(db), "--at", AT]) == 0
+    out = tmp_path / "audit"
+    assert main(["audit", "--db", str(db), "--packages", str(packages), "--as-of",
+                 "2026-12-03", "--out", str(out)]) == 0
+    html = (out / "audit.html").read_text(encoding="utf-8")
+    package_id = json.loads(package.read_text(encoding="utf-8"))["id"]
+    assert package_id in html and "FAIL" in html
+    # 6 MΩ at 30 °C → 3 MΩ at 40 °C, below 5 MΩ (IEEE Std 43 (2013) halving rule, 12.3).
+    assert "below the minimum 5 MΩ" in html
+    closeout = tmp_path / "closeout.pdf"
+    assert main(["closeout", str(package), "--db", str(db), "--out", str(closeout)]) == 0
+    text = "\n".join(page.extract_text() for page in PdfReader(closeout).pages)
+    assert "FAILED" in text and "S. Quayle" in text
+    capsys.readouterr()
+
+
+def test_verify_names_a_tampered_record(packages, tmp_path, capsys) -> None:
+    import sqlite3
+
+    package = windlass(packages)
+    db = tmp_path / "records.sqlite"
+    for n in range(3):
+        assert main(["record", str(package), str(filled_sheet(package, tmp_path)), "--db",
+                     str(db), "--at", f"2026-12-02T1{n}:00+00:00"]) == 0
+    connection = sqlite3.connect(db)
+    triggers = [name for (name,) in connection.execute(
+        "SELECT name FROM sqlite_master WHERE type = 'trigger'")]
+    for name in triggers:
+        connection.execute(f'DROP TRIGGER "{name}"')
+    connection.execute("UPDATE records SET recorded_by = 'someone else' WHERE sequence = 2")
+    connection.commit()
+    connection.close()
+    capsys.readouterr()
+    assert main(["verify", "--db", str(db)]) == 1
+    assert "record 2" in capsys.readouterr().out

@@ -344,6 +344,84 @@ def _cmd_verify(args: argparse.Namespace) -> int:
     return 0 if result.ok else 1
 
 
+def _read_packages(folders: Sequence[str]) -> dict[str, Any]:
+    from workpack.loading import load_package
+
+    packages: dict[str, Any] = {}
+    for folder in folders:
+        path = Path(folder)
+        if not path.is_dir():
+            raise UsageError(f"--packages {folder}: no such folder")
+        for twin in sorted(path.glob("*.json")):
+            package, _ = load_package(twin)
+            packages[package.id] = package
+    return packages
+
+
+def _date_option(option: str, text: str | None) -> Any:
+    import datetime as dt
+
+    if text is None:
+        return None
+    try:
+        return dt.date.fromisoformat(text)
+    except ValueError:
+        raise UsageError(f"{option} {text}: expected YYYY-MM-DD") from None
+
+
+def _cmd_audit(args: argparse.Namespace) -> int:
+    import datetime as dt
+
+    from workpack.audit import build_audit
+    from workpack.output import write_all
+    from workpack.render.audit_html import render_audit_html
+    from workpack.render.audit_pdf import render_audit_pdf
+    from workpack.store import open_store
+
+    since, until = _date_option("--from", args.since), _date_option("--to", args.until)
+    as_of = _date_option("--as-of", args.as_of) or until or dt.date.today()
+    packages = _read_packages(args.packages)
+    with open_store(_default_db(args), create=False) as store:
+        records = list(store.records())
+        verification = store.verify()
+    report = build_audit(records, packages, verification, since=since, until=until,
+                         plant=args.plant_name, as_of=as_of, standards=_standards(),
+                         default_code_set=args.code_set)
+    written = write_all(Path(args.out), {
+        "audit.html": render_audit_html(report).encode(),
+        "audit.pdf": render_audit_pdf(report, args.page_size)})
+    sys.stdout.write(f"{verification.message}\naudit written: "
+                     + ", ".join(str(p) for p in written) + "\n")
+    return 0 if verification.ok else 1
+
+
+def _cmd_closeout(args: argparse.Namespace) -> int:
+    from workpack.audit import evaluation_from_payload
+    from workpack.loading import load_package
+    from workpack.output import write_all
+    from workpack.render.closeout import render_closeout
+    from workpack.store import open_store
+
+    package, digest = load_package(Path(args.package))
+    with open_store(_default_db(args), create=False) as store:
+        record = store.get(args.record) if args.record else store.latest(package.id)
+    if record is None:
+        raise UsageError(f"no record of {package.id} in {_default_db(args)}")
+    if record.package_id != package.id:
+        raise UsageError(f"--record {args.record}: answers {record.package_id}, "
+                         f"not {package.id}")
+    if record.package_sha256 != digest:
+        raise UsageError(f"{args.package}: this package differs from the one record "
+                         f"{record.sequence} answers (hash); use the package as issued")
+    pdf = render_closeout(package, evaluation_from_payload(record.results), record,
+                          page_size=args.page_size)
+    out = Path(args.out)
+    write_all(out.parent, {out.name: pdf})
+    sys.stdout.write(f"record {record.sequence} of {package.id} ({record.verdict}) "
+                     f"written to {out}\n")
+    return 0
+
+
 def _cmd_schema(args: argparse.Namespace) -> int:
     from workpack.model.findings import Findings
     from workpack.model.plant import Plant
@@ -459,6 +537,36 @@ def build_parser() -> argparse.ArgumentParser:
     verify.add_argument("--db", help="records store (SQLite file)")
     verify.add_argument("--plant", help="plant file: the store beside it is used")
     verify.set_defaults(run=_cmd_verify)
+
+    audit = commands.add_parser(
+        "audit", help="audit report (HTML and PDF) of the packages issued and their records")
+    audit.add_argument("--db", help="records store (SQLite file)")
+    audit.add_argument("--plant", help="plant file: the store beside it is used")
+    audit.add_argument("--packages", action="append", required=True, metavar="DIR",
+                       help="folder of issued packages (their JSON twins); repeat as needed")
+    audit.add_argument("--from", dest="since", metavar="YYYY-MM-DD",
+                       help="first package date included")
+    audit.add_argument("--to", dest="until", metavar="YYYY-MM-DD",
+                       help="packages dated before this day")
+    audit.add_argument("--plant-name", help="only packages of this plant")
+    audit.add_argument("--as-of", metavar="YYYY-MM-DD",
+                       help="the day open packages become overdue (default: --to, else today)")
+    audit.add_argument("--code-set", default="ieee43-2013",
+                       help="tables for insulation trends whose readings name none")
+    audit.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
+    audit.add_argument("--out", required=True, metavar="DIR", help="folder for the report")
+    audit.set_defaults(run=_cmd_audit)
+
+    closeout = commands.add_parser(
+        "closeout", help="the closed-out record of one package as PDF: values, marks, who")
+    closeout.add_argument("package", metavar="PACKAGE_JSON", help="the package as issued")
+    closeout.add_argument("--db", help="records store (SQLite file)")
+    closeout.add_argument("--plant", help="plant file: the store beside it is used")
+    closeout.add_argument("--record", type=int, metavar="N",
+                          help="record number (default: the package's latest)")
+    closeout.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
+    closeout.add_argument("--out", required=True, metavar="FILE", help="PDF to write")
+    closeout.set_defaults(run=_cmd_closeout)
 
     schema = commands.add_parser("schema", help="print the JSON Schema of an input file")
     schema.add_argument("what", choices=["plant", "findings", "results"], help="which file")

@@ -267,6 +267,12 @@ def _judge(reading: Reading, results: Results,
         broken.append(f"above the maximum {in_unit(high, reading.unit)}")
     if broken:
         note = (note + "; " if note else "") + " and ".join(broken) + f" ({limit.basis})"
+    if not reading.acceptance:
+        # Recorded against its limit for the record and the trend; the job is judged by
+        # the readings after the work.
+        return ReadingVerdict(**base, measured_si=value, temperature_c=temperature,
+                              compared_si=compared, outcome="recorded",
+                              note="as found, not judged" + (f": {note}" if note else ""))
     return ReadingVerdict(**base, measured_si=value, temperature_c=temperature,
                           compared_si=compared, outcome="fail" if broken else "pass", note=note)
 

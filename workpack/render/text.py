@@ -199,8 +199,6 @@ def evaluation_text(evaluation: Evaluation) -> str:
                  else in_unit(reading.measured_si, reading.unit))
         mark = {"pass": "ok  ", "fail": "FAIL", "not recorded": "--  ",
                 "recorded": "rec "}[reading.outcome]
-        if not reading.judged:
-            mark = "low " if reading.outcome == "fail" else "rec "
         lines.append(f"  {mark} {reading.id} {reading.what}: {shown}"
                      + (f" — {reading.note}" if reading.note else ""))
     for deviation in evaluation.deviations:

@@ -1,0 +1,431 @@
+"""The closed-out record: ``render_closeout(package, evaluation, record) -> bytes`` (PDF).
+
+The package as it was issued, laid out by ``PackagePdf`` itself, with every blank
+filled in from the results: each form field of the package (see ``render.pdf`` for the
+naming scheme) is swapped for what was written in it, so the closed-out record and the
+issued package can never disagree about layout or content. On top: the verdict in a
+framed box, the record's facts and the deviations. Each reading carries its outcome as a
+shape and a word (✓ in a circle PASS, ✗ in a square FAIL, a bar NOT RECORDED), its
+corrected value where the limit asked for one, and the evaluation's note under its table.
+
+No form fields are left: this is a record, not a form. Deterministic bytes; no text under
+``MIN_TEXT_PT``.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from collections.abc import Sequence
+from typing import Any, ClassVar
+
+from reportlab.lib import colors
+from reportlab.lib.units import mm
+from reportlab.pdfbase.pdfmetrics import stringWidth
+from reportlab.pdfgen.canvas import Canvas
+from reportlab.platypus import (
+    BaseDocTemplate,
+    Flowable,
+    KeepTogether,
+    Paragraph,
+    Spacer,
+    Table,
+    TableStyle,
+)
+
+from workpack.audit import OUTCOME_WORDS, entered_text, is_bare_number, results_from_payload
+from workpack.evaluate import Evaluation, ReadingVerdict
+from workpack.model.package import WorkPackage
+from workpack.model.results import Results
+from workpack.render.pdf import (
+    FONT,
+    FONT_BOLD,
+    CheckBox,
+    FieldBox,
+    PackagePdf,
+    PageSize,
+    format_quantity,
+    split_field_name,
+    words,
+)
+from workpack.store import Record, package_sha256
+
+__all__ = ["CloseoutPdf", "Mark", "render_closeout", "utc_text"]
+
+VERDICT_WORDS = {"passed": "PASSED", "failed": "FAILED", "incomplete": "INCOMPLETE"}
+# The shape each outcome, verdict and status is drawn with; the word always goes beside it.
+SHAPES = {"pass": "tick", "fail": "cross", "not recorded": "bar", "recorded": "dot",
+          "passed": "tick", "failed": "cross", "incomplete": "bar",
+          "completed": "tick", "open": "ring", "overdue": "alert"}
+
+
+def utc_text(when: dt.datetime) -> str:
+    """A stored timestamp for a reader: "2026-12-02 16:00 UTC"."""
+    return f"{when.astimezone(dt.UTC):%Y-%m-%d %H:%M} UTC"
+
+
+class Mark(Flowable):
+    """A shape and a word side by side: the outcome never rests on colour.
+
+    Shapes: tick (✓ in a circle), cross (✗ in a heavy square), bar (—), dot, ring (empty
+    circle), alert (! in a triangle). Points.
+    """
+
+    def __init__(self, shape: str, word: str, size_pt: float = 10.0) -> None:
+        super().__init__()
+        self.shape = shape
+        self.word = word
+        self.size_pt = size_pt
+        self.icon = size_pt * 1.25
+        self.gap = size_pt * 0.45
+        self.width = self.icon + self.gap + stringWidth(word, FONT_BOLD, size_pt)
+        self.height = self.icon
+
+    def wrap(self, availWidth: float, availHeight: float) -> tuple[float, float]:
+        return self.width, self.height
+
+    def draw(self) -> None:
+        canv, s = self.canv, self.icon
+        c = s / 2
+        canv.saveState()
+        canv.setStrokeColor(colors.black)
+        canv.setFillColor(colors.black)
+        canv.setLineWidth(1.1)
+        canv.setLineCap(1)
+        if self.shape == "tick":
+            canv.circle(c, c, c - 0.6, stroke=1, fill=0)
+            path = canv.beginPath()
+            path.moveTo(s * 0.27, s * 0.52)
+            path.lineTo(s * 0.44, s * 0.32)
+            path.lineTo(s * 0.74, s * 0.72)
+            canv.setLineWidth(1.5)
+            canv.drawPath(path, stroke=1, fill=0)
+        elif self.shape == "cross":
+            canv.setLineWidth(1.8)
+            canv.rect(0.9, 0.9, s - 1.8, s - 1.8, stroke=1, fill=0)
+            canv.setLineWidth(1.5)
+            canv.line(s * 0.28, s * 0.28, s * 0.72, s * 0.72)
+            canv.line(s * 0.28, s * 0.72, s * 0.72, s * 0.28)
+        elif self.shape == "bar":
+            canv.setLineWidth(1.8)
+            canv.line(s * 0.15, c, s * 0.85, c)
+        elif self.shape == "dot":
+            canv.circle(c, c, s * 0.2, stroke=0, fill=1)
+        elif self.shape == "ring":
+            canv.circle(c, c, c - 0.6, stroke=1, fill=0)
+        elif self.shape == "alert":
+            path = canv.beginPath()
+            path.moveTo(0.6, 0.8)
+            path.lineTo(s - 0.6, 0.8)
+            path.lineTo(c, s - 0.4)
+            path.close()
+            canv.drawPath(path, stroke=1, fill=0)
+            canv.setFont(FONT_BOLD, self.size_pt * 0.9)
+            canv.drawCentredString(c, s * 0.16, "!")
+        canv.setFont(FONT_BOLD, self.size_pt)
+        canv.drawString(self.icon + self.gap, (s - self.size_pt * 0.72) / 2, self.word)
+        canv.restoreState()
+
+
+class FilledBox(Flowable):
+    """A blank of the package as written in: the same box, the entry inside it. Grows
+    downwards when the entry needs more lines than the box has. Points."""
+
+    def __init__(self, paragraph: Paragraph, suffix: str, height: float,
+                 width: float | None, top: bool = False) -> None:
+        super().__init__()
+        self.paragraph = paragraph
+        self.top = top  # text from the top (several lines) rather than centred
+        self.suffix = suffix
+        self.box_height = height
+        self.fixed_width = width
+        self.pad = 1.5 * mm
+        self.width = width or 0.0
+        self.height = height
+
+    def _box_width(self) -> float:
+        suffix_w = stringWidth(self.suffix, FONT, 10) + 1.5 * mm if self.suffix else 0.0
+        return max(self.width - suffix_w, 8 * mm)
+
+    def wrap(self, availWidth: float, availHeight: float) -> tuple[float, float]:
+        self.width = self.fixed_width if self.fixed_width is not None else availWidth
+        _, text_h = self.paragraph.wrap(self._box_width() - 2 * self.pad, availHeight)
+        self.height = max(self.box_height, text_h + 2 * self.pad)
+        return self.width, self.height
+
+    def draw(self) -> None:
+        canv = self.canv
+        box_w = self._box_width()
+        canv.saveState()
+        canv.setStrokeColor(colors.black)
+        canv.setLineWidth(0.9)
+        canv.rect(0, 0, box_w, self.height, stroke=1, fill=0)
+        canv.restoreState()
+        _, text_h = self.paragraph.wrap(box_w - 2 * self.pad, self.height)
+        centring = 0.0 if self.top else max(0.0, (self.box_height - 2 * self.pad - text_h) / 2)
+        self.paragraph.drawOn(canv, self.pad, self.height - self.pad - text_h - centring)
+        if self.suffix:  # after the entry, so text extraction reads "253 V"
+            canv.saveState()
+            canv.setFillColor(colors.black)
+            canv.setFont(FONT, 10)
+            canv.drawString(box_w + 1.5 * mm, self.height - self.box_height + 2.5 * mm,
+                            self.suffix)
+            canv.restoreState()
+
+
+class TickedBox(Flowable):
+    """A tick box of the package as filled in: ticked (✓) or left empty. Points."""
+
+    def __init__(self, ticked: bool, size: float) -> None:
+        super().__init__()
+        self.ticked = ticked
+        self.width = self.height = self.size = size
+
+    def wrap(self, availWidth: float, availHeight: float) -> tuple[float, float]:
+        return self.size, self.size
+
+    def draw(self) -> None:
+        canv, s = self.canv, self.size
+        canv.saveState()
+        canv.setStrokeColor(colors.black)
+        canv.setLineWidth(1.4)
+        canv.rect(0, 0, s, s, stroke=1, fill=0)
+        if self.ticked:
+            canv.setLineWidth(2.0)
+            canv.setLineCap(1)
+            path = canv.beginPath()
+            path.moveTo(s * 0.2, s * 0.52)
+            path.lineTo(s * 0.42, s * 0.26)
+            path.lineTo(s * 0.82, s * 0.8)
+            canv.drawPath(path, stroke=1, fill=0)
+        canv.restoreState()
+
+
+class CloseoutPdf(PackagePdf):
+    """The closed-out record of one package: its story with the blanks filled in."""
+
+    footer_mm: ClassVar[float] = 20.0  # one more footer line: the record and its hash
+
+    def __init__(self, package: WorkPackage, evaluation: Evaluation, record: Record | None,
+                 results: Results | None = None, page_size: PageSize = "A4") -> None:
+        super().__init__(package, page_size)
+        if evaluation.package_id != package.id:
+            raise ValueError(f"the evaluation is of {evaluation.package_id!r}, not of the "
+                             f"package given ({package.id!r})")
+        if record is not None and record.package_id != package.id:
+            raise ValueError(f"record {record.sequence} answers {record.package_id!r}, not "
+                             f"the package given ({package.id!r})")
+        if results is None and record is not None:
+            results = results_from_payload(record.results)
+        self.evaluation = evaluation
+        self.record = record
+        self.results = results
+        self.verdicts = {v.id: v for v in evaluation.readings}
+        self.limits = {r.id: r.limit for r in package.readings()}
+        self.document_title = f"Close-out: {package.title}"
+        self.created = (record.recorded_at.astimezone(dt.UTC).date() if record is not None
+                        else results.completed_on if results is not None
+                        and results.completed_on is not None else package.date)
+        self._notes: list[ReadingVerdict] = []
+
+    def header_right(self) -> str:
+        return f"{self.package.plant} · {self.package.date.isoformat()} · CLOSE-OUT RECORD"
+
+    def record_line(self) -> str:
+        r = self.record
+        if r is None:
+            return "Not yet in a records store: no record number, no chain hash."
+        return (f"Record {r.sequence} · recorded by {r.recorded_by} at "
+                f"{utc_text(r.recorded_at)} · chain {r.chain_sha256[:16]}")
+
+    def draw_footer(self, canv: Canvas, doc: BaseDocTemplate) -> None:
+        super().draw_footer(canv, doc)
+        top = self.margin_mm * mm + self.footer_mm * mm - 4 * mm
+        canv.saveState()
+        canv.setFillColor(colors.black)
+        canv.setFont(FONT, self.small_pt)
+        canv.drawString(self.margin_mm * mm, top - 14.5 * mm, self.record_line())
+        canv.restoreState()
+
+    # -- the top of the record
+    def verdict_box(self) -> Table:
+        e = self.evaluation
+        tally = {outcome: sum(1 for v in e.readings if v.outcome == outcome)
+                 for outcome in OUTCOME_WORDS}
+        counted = ", ".join(f"{n} {OUTCOME_WORDS[o]}" for o, n in tally.items() if n)
+        failing = sum(1 for d in e.deviations if d.fails)
+        lines = [f"Readings: {counted or 'none in this package'}.",
+                 f"Deviations: {len(e.deviations)}"
+                 + (f", {failing} of them failing the job." if failing else ".")]
+        if e.locks_not_removed:
+            lines.append("Locks never recorded as removed: " + ", ".join(e.locks_not_removed))
+        signed = (f"Technician: {e.completed_by or 'not signed'}. "
+                  f"Supervisor: {e.supervisor or 'not signed'}.")
+        body = [Mark(SHAPES[e.verdict], f"VERDICT: {VERDICT_WORDS.get(e.verdict, e.verdict)}",
+                     16.0), Spacer(1, 2 * mm),
+                *[Paragraph(words(text), self.style["body"]) for text in (*lines, signed)]]
+        table = Table([[body]], colWidths=[self.width])
+        table.setStyle(TableStyle([
+            ("BOX", (0, 0), (-1, -1), 3.0, colors.black),
+            ("TOPPADDING", (0, 0), (-1, -1), 3 * mm),
+            ("BOTTOMPADDING", (0, 0), (-1, -1), 3 * mm),
+            ("LEFTPADDING", (0, 0), (-1, -1), 3.5 * mm),
+        ]))
+        return table
+
+    def record_block(self) -> list[Flowable]:
+        cell, label = self.style["cell"], self.style["cell_bold"]
+        r = self.record
+        if r is None:
+            return [Paragraph("Not yet in a records store: this close-out has no record "
+                              "number and no chain hash.", self.style["bold"])]
+        issued = package_sha256(self.package)
+        matches = ("the package shown (its SHA-256 matches)" if issued == r.package_sha256
+                   else "ANOTHER VERSION of this package: the hashes differ")
+        rows = [("Record", f"{r.sequence}" + (f", correcting record {r.supersedes}"
+                                              if r.supersedes is not None else "")),
+                ("Recorded by", r.recorded_by), ("Recorded at", utc_text(r.recorded_at)),
+                ("Chain hash", r.chain_sha256), ("Answers", matches)]
+        table = Table([[Paragraph(words(k), label), Paragraph(words(v), cell)] for k, v in rows],
+                      colWidths=self.cols(34, 148))
+        table.setStyle(TableStyle([("GRID", (0, 0), (-1, -1), 0.7, colors.black),
+                                   ("VALIGN", (0, 0), (-1, -1), "TOP")]))
+        return [table]
+
+    def deviations_block(self) -> list[Flowable]:
+        out: list[Flowable] = [self.section("Deviations")]
+        if not self.evaluation.deviations:
+            return [*out, Paragraph("None: every reading, step, lock and signature is as the "
+                                    "package asks.", self.style["body"])]
+        rows = [[Mark("cross" if d.fails else "bar", "FAILS" if d.fails else "INCOMPLETE"),
+                 Paragraph(words(d.text), self.style["cell"])]
+                for d in self.evaluation.deviations]
+        table = Table(rows, colWidths=self.cols(36, 146), repeatRows=0)
+        table.setStyle(TableStyle([("GRID", (0, 0), (-1, -1), 0.7, colors.black),
+                                   ("VALIGN", (0, 0), (-1, -1), "MIDDLE")]))
+        return [*out, table]
+
+    def story(self) -> list[Flowable]:
+        title, *package_story = super().story()
+        head: list[Flowable] = [
+            Paragraph(words(f"Close-out record: {self.package.title}"), self.style["title"]),
+            self.verdict_box(), Spacer(1, 3 * mm), *self.record_block(),
+            *self.deviations_block(), self.section("The package as filled in")]
+        return [*head, *self._filled_list(package_story)]
+
+    # -- filling the package's blanks
+    def _filled_list(self, flowables: Sequence[Any]) -> list[Any]:
+        out: list[Any] = []
+        for item in flowables:
+            self._notes = []
+            out.append(self._filled(item))
+            notes = [v for v in self._notes if v.note]
+            if notes:
+                out += [Paragraph(f"<b>{words(v.id)}</b>: {words(v.note)}",
+                                  self.style["small"]) for v in notes]
+                out.append(Spacer(1, 1.5 * mm))
+        return out
+
+    def _filled(self, item: Any) -> Any:
+        # reportlab keeps a table's cells in ``_cellvalues`` and a KeepTogether's flowables
+        # in ``_content`` and has no public setter; both are filled in place before layout.
+        if isinstance(item, FieldBox):
+            return self._entry(item)
+        if isinstance(item, CheckBox):
+            return TickedBox(self._ticked(split_field_name(item.name)), item.size)
+        if isinstance(item, list | tuple):
+            return [self._filled(x) for x in item]
+        if isinstance(item, Table):
+            item._cellvalues = [[self._filled(cell) for cell in row]
+                                for row in item._cellvalues]
+        elif isinstance(item, KeepTogether):
+            notes = self._notes
+            item._content = self._filled_list(item._content)
+            self._notes = notes
+        return item
+
+    def _ticked(self, parts: tuple[str, ...]) -> bool:
+        r = self.results
+        if r is None:
+            return False
+        if parts[0] == "tester":
+            return r.tester_proven_before if parts[1] == "before" else r.tester_proven_after
+        done = r.steps if parts[0] == "step" else r.restoration
+        step = done.get(int(parts[1]))
+        return bool(step and step.done)
+
+    def _entry(self, box: FieldBox) -> Any:
+        parts = split_field_name(box.name)
+        if parts[0] == "reading":
+            return self._reading_cell(box, self.verdicts.get(parts[1]))
+        text, strong = self._written(parts)
+        return self._filled_box(box, text, strong=strong)
+
+    def _filled_box(self, box: FieldBox, text: str | None, strong: bool = False,
+                    suffix: str | None = None) -> FilledBox:
+        shown = "—" if text is None or not text.strip() else text
+        suffix = box.suffix if suffix is None else suffix
+        if text is None or not is_bare_number(shown):
+            suffix = ""  # "12 MΩ" carries its unit; a blank needs none
+        markup = f"<b>{words(shown)}</b>" if strong else words(shown)
+        return FilledBox(Paragraph(markup, self.style["cell"]), suffix, box.box_height,
+                         box.fixed_width, top=box.multiline)
+
+    def _written(self, parts: tuple[str, ...]) -> tuple[str | None, bool]:
+        """What was written in the blank named by ``parts``; and whether to stress it."""
+        r, e = self.results, self.evaluation
+        kind = parts[0]
+        if kind == "sign":
+            if parts[1] == "technician":
+                return (r.completed_by if r else e.completed_by), False
+            if parts[1] == "supervisor":
+                return (r.supervisor if r else e.supervisor), False
+            on = r.completed_on if r else None
+            return (on.isoformat() if on else None), False
+        if r is None:
+            return None, False
+        if kind == "remarks":
+            return r.remarks, False
+        if kind == "temperature":
+            measured = r.readings.get(parts[1])
+            return entered_text(measured.temperature if measured else None), False
+        if kind == "dead":
+            return entered_text(r.proving_dead.get(int(parts[1]), {}).get(parts[2])), False
+        if kind in ("lock", "tag"):
+            lock = r.isolation.get(parts[1])
+            if parts[2] == "number":
+                return (lock.lock if kind == "lock" else lock.tag) if lock else None, False
+            if parts[2] == "removed_by" and parts[1] in e.locks_not_removed:
+                return "NOT REMOVED", True
+            return (getattr(lock, parts[2]) if lock else None), False
+        return None, False
+
+    def _reading_cell(self, box: FieldBox, verdict: ReadingVerdict | None) -> list[Flowable]:
+        if verdict is None:
+            return [self._filled_box(box, None)]
+        self._notes.append(verdict)
+        measured = self.results.readings.get(verdict.id) if self.results else None
+        if measured is not None:
+            text = entered_text(measured.value)
+        elif verdict.measured_si is not None:  # no results given: the evaluation's value
+            text = format_quantity(verdict.measured_si, verdict.unit)
+        else:
+            text = None
+        cell: list[Flowable] = [self._filled_box(box, text), Spacer(1, 1.2 * mm),
+                                Mark(SHAPES[verdict.outcome], OUTCOME_WORDS[verdict.outcome])]
+        limit = self.limits.get(verdict.id)
+        if (verdict.compared_si is not None and verdict.corrected_to_c is not None
+                and limit is not None and limit.code_set):  # corrected: see evaluate._judge
+            cell.append(Paragraph(
+                f"corrected {words(format_quantity(verdict.compared_si, verdict.unit))} at "
+                f"{words(format_quantity(verdict.corrected_to_c, '°C'))}", self.style["small"]))
+        return cell
+
+
+def render_closeout(package: WorkPackage, evaluation: Evaluation, record: Record | None,
+                    *, results: Results | None = None, page_size: PageSize = "A4") -> bytes:
+    """The closed-out record of ``package`` as a PDF.
+
+    ``results`` are taken from the record's payload when a record is given; pass them
+    here before a job is recorded (the footer then says it has no record yet).
+    """
+    return CloseoutPdf(package, evaluation, record, results, page_size).render()
