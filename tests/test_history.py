@@ -75,15 +75,15 @@ def test_past_grounds_move_a_circuit_up_the_search_in_the_package(
         plan = plan_day(demo_vessel.plant, demo_vessel, findings, DAY, ruleset, standards,
                         weights, 100.0, history=history)
         search = next(p for p in plan.packages if p.origin.rule == "locate-ground")
-        return next(s.text for s in search.steps if s.text.startswith("Search MSB, step 1"))
+        return next(s.text for s in search.steps if s.text.startswith("Search on MSB"))
 
     store = store_with(tmp_path, [(f"WP-{n}", ir_payload("X", 9e6, "2026-01-01",
                                                          found="BP-1"), None)
                                   for n in range(1, 7)])
     before = first_search_step(None)
     after = first_search_step(history_from_records(store.records(), "ieee43-2013"))
-    assert "open CB-MCC2" in before
-    assert "open CB-BP1" in after
+    assert "Open CB-MCC2" in before
+    assert "Open CB-BP1" in after
 
 
 def test_plan_with_a_named_store_that_does_not_exist_is_an_error(tmp_path, capsys) -> None:

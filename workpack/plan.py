@@ -59,7 +59,8 @@ from workpack.model.plant import (
 )
 from workpack.model.weights import SearchWeights
 from workpack.rules import Compiled, CompiledRule, CompiledStep, RuleError, RuleSet
-from workpack.search import plan_fault_search
+from workpack.search import NOT_FOUND, plan_fault_search
+from workpack.search_core import Branch
 from workpack.topology import Topology, element_of
 
 # --- the context rules see -------------------------------------------------------------------
@@ -474,23 +475,53 @@ class _PackageBuilder:
         return tuple(built)
 
     def _with_search(self, steps: tuple[Step, ...], job: _Job) -> tuple[Step, ...]:
+        """The fault search as numbered package steps, then the final section tests."""
         state = self.states.get(job.context["system"]["id"], SystemState())
         as_found = state.phasor.readings_v if state.phasor else None
         search = plan_fault_search(self.topology, job.item, self.weights, self.standards,
                                    self.day, past_grounds=self.past_grounds,
                                    as_found_v=as_found)
+        first = len(steps) + 1
+        number = {(s.level, s.number): first + n for n, s in enumerate(search.steps)}
+        level_start: dict[str, int] = {}
+        for (level, _), package_number in sorted(number.items(), key=lambda kv: kv[1]):
+            level_start.setdefault(level, package_number)
+        final_start: dict[str, int] = {}
+        next_number = first + len(search.steps)
+        for final in search.final_tests:
+            final_start[final.feeder] = next_number
+            next_number += len(final.sections)
+        levels = [s.level for s in search.steps]
+
+        def branch(level: str, target: Branch) -> str:
+            if target.kind == "step":
+                return f"close what was opened; go to step {number[(level, target.step)]}"
+            if target.kind == "found" and target.candidate_id in level_start:
+                return (f"the ground is below {target.candidate_id}: close it; search its own "
+                        f"circuits from step {level_start[target.candidate_id]}")
+            if target.kind == "found":
+                tests = final_start.get(target.candidate_id)
+                where = f" (steps from {tests})" if tests else ""
+                return (f"the ground is below {target.candidate_id}: close it, isolate that "
+                        f"circuit and test its sections{where}")
+            return NOT_FOUND
+
         added = list(steps)
         for step in search.steps:
             opened = ", ".join(f"{d} ({w})" if w else d
                                for d, w in zip(step.open_devices, step.where, strict=True))
-            text = f"Search {step.level}, step {step.number}: "
+            lines = [f"Search on {step.level} ({levels.count(step.level)} steps on this "
+                     "board):"]
             if step.transfer_first:
-                text += f"transfer {', '.join(step.transfer_first)} to the alternate supply; "
+                lines.append(f"First transfer {', '.join(step.transfer_first)} to the "
+                             "alternate supply.")
             if step.permission_for:
-                text += f"get permission ({', '.join(step.permission_for)} is vital, no " \
-                        "alternate); "
-            text += f"open {opened}; watch the detector. {step.if_clears} {step.if_not_clear}"
-            added.append(Step(number=len(added) + 1, text=text, check_only=True))
+                lines.append(f"Get permission first: {', '.join(step.permission_for)} is "
+                             "vital and has no alternate supply.")
+            lines.append(f"Open {opened}; watch the detector for about a minute.")
+            lines.append(f"If it clears ({step.cleared}): {branch(step.level, step.on_clear)}.")
+            lines.append(f"If it stays {step.unchanged}: {branch(step.level, step.on_stay)}.")
+            added.append(Step(number=len(added) + 1, text="\n".join(lines), check_only=True))
         for final in search.final_tests:
             for section in final.sections:
                 low, high = section.test_voltage_v
@@ -506,8 +537,8 @@ class _PackageBuilder:
                     needs_temperature=section.reference_c is not None,
                     element=section.element, test_voltage_v=section.test_voltage_v[1])
                 added.append(Step(number=len(added) + 1,
-                                  text=f"Final test {final.feeder} → {section.label}: isolate "
-                                       "the circuit, then test this section.",
+                                  text=f"Final test below {final.feeder} — {section.label}: "
+                                       "with the circuit isolated, test this section.",
                                   readings=(reading,)))
         return tuple(added)
 

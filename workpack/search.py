@@ -73,8 +73,12 @@ class SearchStep:
     dead_loads: tuple[str, ...]
     minutes: float
     probability: float  # of reaching this step, given its level is searched
-    if_clears: str
+    if_clears: str  # worded with this search's own step numbers
     if_not_clear: str
+    cleared: str  # what the detector shows when the ground is no longer connected
+    unchanged: str  # and when it still is
+    on_clear: Branch  # where each outcome leads, for those who number steps their own way
+    on_stay: Branch
 
 
 @dataclass(frozen=True)
@@ -392,7 +396,7 @@ def _word_steps(level: LevelPlan, builder: _TreeBuilder, healthy_v: float,
         unchanged = "the indication stays (as found: " + ", ".join(
             f"{phase} {value:.0f} V" for phase, value in sorted(as_found.items())) + ")"
     else:
-        unchanged = "the indication stays as found"
+        unchanged = "the indication stays (as found)"
     steps = []
     for step in level.steps:
         facts = [builder.facts[d] for d in step.open_ids]
@@ -411,8 +415,16 @@ def _word_steps(level: LevelPlan, builder: _TreeBuilder, healthy_v: float,
                       "since its alternate supply is on this system: the indication will not "
                       "clear)" for f in facts for load in f.moves_ground_with_it),
             if_not_clear=f"If {unchanged}: {_branch_text(step.if_not_clear, builder)}",
+            cleared=cleared.removeprefix("the indication clears: "),
+            unchanged=unchanged.removeprefix("the indication stays "),
+            on_clear=step.if_clears, on_stay=step.if_not_clear,
         ))
     return steps
+
+
+NOT_FOUND = ("not found at this level: the ground is on this board's own busbars or "
+             "incoming cables, or the indication is false: prove the detector, then test the "
+             "board isolated")
 
 
 def _branch_text(branch: Branch, builder: _TreeBuilder) -> str:
@@ -425,9 +437,7 @@ def _branch_text(branch: Branch, builder: _TreeBuilder) -> str:
                     f"circuits (the {target} level)")
         return (f"the ground is downstream of {target}; isolate that circuit and test its "
                 "sections for insulation resistance (final tests)")
-    return ("not found at this level: the ground is on this board's own busbars or incoming "
-            "cables, or the indication is false: prove the detector, then test the board "
-            "isolated")
+    return NOT_FOUND
 
 
 def _final_tests(topology: Topology, builder: _TreeBuilder, leaf: str,

@@ -203,8 +203,8 @@ def expected_text(reading: Reading) -> str:
 
 
 def words(text: str) -> str:
-    """Package text made safe for reportlab's paragraph markup."""
-    return escape(text)
+    """Package text made safe for reportlab's paragraph markup; line breaks kept."""
+    return escape(text).replace("\n", "<br/>")
 
 
 # --- canvas and flowables for fields ----------------------------------------------------
