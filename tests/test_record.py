@@ -156,6 +156,7 @@ def test_filled_pdf_gives_the_same_record_as_the_yaml_sheet(packages, tmp_path) 
     (("completed_on: 2026-12-02", "completed_on: 2026-13-02"),
      r":9:15: YAML: '2026-13-02' is not a real date"),
     (("  CB-WL1:", "  CB-WL9:"), r"isolation\.CB-WL9: 'CB-WL9' is not an isolation point"),
+    (("package: WP-", "# package: WP-"), r": package: required field is missing"),
 ])
 def test_bad_results_are_one_located_line_and_store_nothing(
     packages, tmp_path, capsys, change, expected,

@@ -436,6 +436,12 @@ def _cmd_schema(args: argparse.Namespace) -> int:
     return 0
 
 
+def _store_options(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("--db", help="records store (SQLite file)")
+    parser.add_argument("--plant", help="plant file: the store beside it "
+                                        "(PLANT.records.sqlite) is used")
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="workpack",
@@ -523,8 +529,7 @@ def build_parser() -> argparse.ArgumentParser:
     record.add_argument("package", metavar="PACKAGE_JSON", help="the package's JSON twin")
     record.add_argument("results", metavar="RESULTS",
                         help="the filled results sheet (YAML) or the filled package PDF")
-    record.add_argument("--db", help="records store (SQLite file)")
-    record.add_argument("--plant", help="plant file: the store beside it is used")
+    _store_options(record)
     record.add_argument("--by", help="who records it (default: the technician)")
     record.add_argument("--at", help="when (ISO date and time; default: now)")
     record.add_argument("--supersedes", type=int, metavar="N",
@@ -534,14 +539,12 @@ def build_parser() -> argparse.ArgumentParser:
     record.set_defaults(run=_cmd_record)
 
     verify = commands.add_parser("verify", help="check the records store's hash chain")
-    verify.add_argument("--db", help="records store (SQLite file)")
-    verify.add_argument("--plant", help="plant file: the store beside it is used")
+    _store_options(verify)
     verify.set_defaults(run=_cmd_verify)
 
     audit = commands.add_parser(
         "audit", help="audit report (HTML and PDF) of the packages issued and their records")
-    audit.add_argument("--db", help="records store (SQLite file)")
-    audit.add_argument("--plant", help="plant file: the store beside it is used")
+    _store_options(audit)
     audit.add_argument("--packages", action="append", required=True, metavar="DIR",
                        help="folder of issued packages (their JSON twins); repeat as needed")
     audit.add_argument("--from", dest="since", metavar="YYYY-MM-DD",
@@ -560,8 +563,7 @@ def build_parser() -> argparse.ArgumentParser:
     closeout = commands.add_parser(
         "closeout", help="the closed-out record of one package as PDF: values, marks, who")
     closeout.add_argument("package", metavar="PACKAGE_JSON", help="the package as issued")
-    closeout.add_argument("--db", help="records store (SQLite file)")
-    closeout.add_argument("--plant", help="plant file: the store beside it is used")
+    _store_options(closeout)
     closeout.add_argument("--record", type=int, metavar="N",
                           help="record number (default: the package's latest)")
     closeout.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
