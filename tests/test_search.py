@@ -103,8 +103,11 @@ def test_vital_loads_behind_a_changeover_are_transferred_first(demo_site, weight
     result = search(demo_site, "IMD-MSB", weights, standards)
     with_transfer = [s for s in result.steps if s.transfer_first]
     assert with_transfer
-    assert all("transfer" not in s.if_clears or "moves with" in s.if_clears
-               for s in with_transfer)
+    for step in with_transfer:
+        # Transferred loads keep their supply: they are not among those that go dead.
+        assert not set(step.transfer_first) & set(step.dead_loads)
+        assert all(demo_site.elements[load].vitality.value == "vital"
+                   for load in step.transfer_first)
 
 
 def test_past_grounds_raise_a_circuit_in_the_order(demo_vessel, weights, standards) -> None:

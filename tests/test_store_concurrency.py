@@ -160,7 +160,8 @@ def test_a_writer_killed_mid_burst_loses_no_acknowledged_record(tmp_path: Path) 
             assert result.ok, result.message
             stored = {r.sequence: r for r in store.records()}
         assert set(all_acknowledged) <= set(stored)
-        assert len(stored) < len(all_acknowledged) + 3  # at most the one unprinted commit
+        # Each of the three kills may leave one commit it never printed.
+        assert len(stored) <= len(all_acknowledged) + 3
         for sequence in acknowledged:
             assert stored[sequence].recorded_by == "writer burst"
 

@@ -170,7 +170,8 @@ def _phase_voltages(plant: Plant, topology: Topology, island: Island, finding: P
     percent = finding.meter_tolerance_percent or (
         detector.meter_tolerance_percent if detector else 2.5)
     result = diagnose_ground(
-        finding.volts, voltage, "-".join(plant.plant.sequence), frequency_hz=plant.plant.frequency,
+        finding.volts, voltage, "-".join(plant.plant.sequence),
+        frequency_hz=plant.plant.frequency if capacitance is not None else None,
         capacitance_f=capacitance,
         tolerance=MeterTolerance(relative=percent / 100, absolute_v=METER_RESOLUTION_V),
     )
@@ -313,8 +314,14 @@ def _megger(plant: Plant, topology: Topology, finding: Megger, standards: Standa
     code_set = insulation_code_set(plant, element, standards)
     voltage = rated_voltage(topology, element)
     winding, assumption = winding_of(element, voltage)
-    judgement = judge_insulation(code_set, finding.reading, finding.temperature, voltage,
-                                 winding=winding)
+    try:
+        judgement = judge_insulation(code_set, finding.reading, finding.temperature, voltage,
+                                     winding=winding)
+    except ValueError as error:  # e.g. a temperature outside the correction table
+        return Diagnosis(**base, severity=Severity.high,
+                         summary=f"{element.label}: {_ohms(finding.reading)} at "
+                                 f"{finding.temperature:g} °C cannot be judged: {error}",
+                         next_steps=("repeat the test nearer the reference temperature",))
     notes = [assumption] if assumption else []
     compared = _ohms(judgement.value_ohm)
     if judgement.corrected is not None:

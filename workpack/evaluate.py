@@ -252,7 +252,12 @@ def _judge(reading: Reading, results: Results,
             return ReadingVerdict(**base, measured_si=value, temperature_c=None,
                                   compared_si=None, outcome="not recorded",
                                   note="temperature not recorded: cannot correct")
-        corrected = correct_to_reference(standards[limit.code_set], value, temperature)
+        try:
+            corrected = correct_to_reference(standards[limit.code_set], value, temperature)
+        except ValueError as error:  # a temperature outside the correction table
+            return ReadingVerdict(**base, measured_si=value, temperature_c=temperature,
+                                  compared_si=None, outcome="not recorded",
+                                  note=f"cannot be corrected: {error}")
         compared = corrected.corrected_ohm
         note = (f"{in_unit(value, reading.unit)} at {temperature:g} °C is "
                 f"{in_unit(compared, reading.unit)} at {corrected.reference_c:g} °C "

@@ -160,8 +160,13 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
                for source in sorted(unprotected)]
     hazards.extend(_item_hazards(topology, item_id))
     if isinstance(item, Source):
-        hazards.append(Hazard("DANGER", f"{item_id} is itself a source: block its start "
-                                        "and lock it out at its own controls as well"))
+        if item.kind in (SourceKind.shore_connection, SourceKind.utility):
+            hazards.append(Hazard("DANGER", f"{item_id} is itself a source fed from outside: "
+                                            "have it isolated and locked at its far end (ashore "
+                                            "or by the utility) before work"))
+        else:
+            hazards.append(Hazard("DANGER", f"{item_id} is itself a source: block its start "
+                                            "and lock it out at its own controls as well"))
     dead = region - {n for n in region if isinstance(topology.elements[element_of(n)], Source)}
     return IsolationPlan(
         item=item_id,

@@ -23,7 +23,7 @@ from typing import Annotated, Literal
 from pydantic import Field, model_validator
 
 from workpack.model.plant import Id, Strict
-from workpack.model.quantities import Celsius, Ohms, Seconds, Volts, Watts
+from workpack.model.quantities import Celsius, MeasuredVolts, Ohms, Seconds, Volts, Watts
 
 
 class LampState(StrEnum):
@@ -59,7 +59,7 @@ class LampsSeen(Observation):
 
 class PhaseVoltages(Observation):
     kind: Literal["phase_voltages"]
-    volts: dict[str, Volts] = Field(description="phase-to-earth per phase label")
+    volts: dict[str, MeasuredVolts] = Field(description="phase-to-earth per phase label")
     meter_tolerance_percent: float | None = Field(
         default=None, gt=0, le=20, description="defaults to the detector's stated accuracy")
 

@@ -284,12 +284,12 @@ class DeviceKind(StrEnum):
 
 # A fuse can be drawn and tagged but not locked unless its carrier says so; a
 # contactor is control, not isolation; few transfer switches lock in a centre-off
-# position, so their supply breakers are locked instead. Others lock unless the
-# plant says not.
+# position, so their supply breakers are locked instead; a shore connection box is
+# made safe by isolating ashore. Others lock unless the plant says not.
 _LOCKABLE_BY_DEFAULT = {
     DeviceKind.circuit_breaker: True, DeviceKind.switch: True, DeviceKind.disconnector: True,
     DeviceKind.fuse: False, DeviceKind.contactor: False, DeviceKind.transfer_switch: False,
-    DeviceKind.connection_box: True,
+    DeviceKind.connection_box: False,
 }
 
 

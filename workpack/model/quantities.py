@@ -64,6 +64,8 @@ def _unbounded(kind: str, check: Any, example: str) -> Any:
 
 # Bounds reject impossible values and slipped units (2.2 for 2.2 µF), not rare ones.
 Volts = _bounded("voltage", 1.0, 1.0e6, "voltage", "440 V")
+# A measured voltage may be zero: a solidly grounded phase reads 0 V to earth.
+MeasuredVolts = _bounded("voltage", 0.0, 1.0e6, "measured voltage", "0 V")
 Farads = _bounded("capacitance", 0.0, 1.0e-2, "capacitance", "2.2 uF")
 FaradsPerMetre = _bounded("capacitance_per_length", 0.0, 1.0e-8, "capacitance per metre",
                           "150 pF/m")
