@@ -118,7 +118,7 @@ def _quick_value(option: str, text: str, kind: str) -> float:
 
 def _quick_diagnose(args: argparse.Namespace) -> int:
     from workpack.diagnose import summarize_readings
-    from workpack.electrical import MeterTolerance, diagnose_ground
+    from workpack.electrical import MeterTolerance, diagnose_ground, ground_hazards
     from workpack.render.text import quick_diagnosis
 
     volts = _quick_value("--volts", args.volts, "voltage")
@@ -152,7 +152,8 @@ def _quick_diagnose(args: argparse.Namespace) -> int:
                                  tolerance=MeterTolerance(relative=args.tolerance / 100))
     except ValueError as error:
         raise UsageError(f"diagnose: {error}") from None
-    summary = summarize_readings(result)
+    hazards = ground_hazards(volts, readings, result.fault_current_a)
+    summary = summarize_readings(result, hazards)
     sys.stdout.write(_to_json(summary) if args.json else quick_diagnosis(summary))
     return 0
 
@@ -171,6 +172,13 @@ def _cmd_locate(args: argparse.Namespace) -> int:
                                           for d in i.detectors}
         raise UsageError(f"ISLAND_OR_DETECTOR: no system, bus or detector {args.place!r} in "
                          f"{args.plant}{did_you_mean(args.place, known)}")
+    from workpack.search import system_of
+
+    island = next(i for i in topology.normal_islands if i.id == system_of(topology, place))
+    if island.earthing is not None and island.earthing.value == "solid":
+        raise UsageError(f"{args.place}: the {island.id} system is solidly grounded: a ground "
+                         "there trips its protection; there is no standing indication to "
+                         "search for")
     as_found = None
     day = dt.date.fromisoformat(args.date) if args.date else None
     if args.findings:
@@ -478,8 +486,8 @@ def build_parser() -> argparse.ArgumentParser:
                             "without it only the displacement is found")
     quick.add_argument("--reading", action="append", metavar="PHASE=VOLTS",
                        help="one phase-to-earth reading, e.g. A=400 (give three)")
-    quick.add_argument("--sequence", help="phase sequence, e.g. ABC or ACB "
-                                          "(default: the order of the readings)")
+    quick.add_argument("--sequence", help="phase sequence, e.g. ABC or ACB (default: the "
+                                          "phase labels in alphabetical order, e.g. A-B-C)")
     quick.add_argument("--tolerance", type=float, default=1.0, metavar="PERCENT",
                        help="meter accuracy, percent of reading, plus 1 V (default 1)")
     diagnose.set_defaults(run=_cmd_diagnose)

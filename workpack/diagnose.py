@@ -52,6 +52,8 @@ from workpack.model.plant import (
     Load,
     LoadKind,
     Plant,
+    Source,
+    SourceKind,
     Transformer,
     Vitality,
 )
@@ -162,9 +164,24 @@ def diagnose_finding(plant: Plant, topology: Topology, finding: Finding,
     return Diagnosis(**base, severity=finding.severity, summary=finding.text)
 
 
+def _on_grounded_system(island: Island, base: dict[str, Any], what: str) -> Diagnosis:
+    return Diagnosis(
+        **base, severity=Severity.high,
+        summary=(f"{what} on the solidly grounded {island.id} system "
+                 f"({_volts(island.voltage)}): a ground there trips instead of shifting the "
+                 "readings, so these readings mean the neutral-to-earth bond may be lost "
+                 "(the system running unearthed) or the meter is faulty"),
+        next_steps=("check the neutral-to-earth bond at the transformer or source, and the "
+                    "meter on a known source",))
+
+
 def _phase_voltages(plant: Plant, topology: Topology, island: Island, finding: PhaseVoltages,
                     standards: Standards, base: dict[str, Any]) -> Diagnosis:
     voltage = _system_voltage(island)
+    if island.earthing is not None and island.earthing.value == "solid":
+        shift = max(finding.volts.values()) - min(finding.volts.values())
+        if shift > 0.1 * line_to_neutral(voltage):
+            return _on_grounded_system(island, base, "unequal phase-to-earth readings")
     capacitance, basis = island_capacitance(plant, topology, island)
     detector = _detector(island, finding.where)
     percent = finding.meter_tolerance_percent or (
@@ -224,6 +241,10 @@ def _ground_summary(result: GroundDiagnosis, island: Island) -> str:
 
 def _lamps(plant: Plant, island: Island, finding: LampsSeen,
            base: dict[str, Any]) -> Diagnosis:
+    if island.earthing is not None and island.earthing.value == "solid" and any(
+        state.value != "normal" for state in finding.lamps.values()
+    ):
+        return _on_grounded_system(island, base, "unequal detector lamps")
     states = {phase: state.value for phase, state in finding.lamps.items()}
     result: LampDiagnosis = diagnose_lamps(states, "-".join(plant.plant.sequence))
     grounded = bool(result.suspected_phases)
@@ -274,9 +295,14 @@ def equipment_family(element: Element) -> str:
     if isinstance(element, Load) and (element.kind in (LoadKind.motor, LoadKind.deck_machinery)
                                       or element.winding is not None):
         return "rotating_machines"
+    if isinstance(element, Source) and element.kind in ROTATING_SOURCES:
+        return "rotating_machines"
     if isinstance(element, Transformer | Bus | Device):
         return "apparatus"
     return "installations"
+
+
+ROTATING_SOURCES = (SourceKind.generator, SourceKind.emergency_generator)
 
 
 def winding_of(element: Element, voltage_v: float) -> tuple[str | None, str]:
@@ -285,9 +311,9 @@ def winding_of(element: Element, voltage_v: float) -> tuple[str | None, str]:
     Low-voltage motors are nearly all random-wound and machines above 1 kV form-wound
     (common practice): when the plant file does not say, that is assumed, and said.
     """
-    if not isinstance(element, Load) or equipment_family(element) != "rotating_machines":
+    if equipment_family(element) != "rotating_machines":
         return None, ""
-    if element.winding is not None:
+    if isinstance(element, Load) and element.winding is not None:
         return element.winding.value, ""
     assumed = "random_wound" if voltage_v < 1000 else "form_wound"
     return assumed, (f"{element.id}: winding kind not in the plant file; {assumed} assumed "
@@ -303,6 +329,8 @@ def rated_voltage(topology: Topology, element: Element) -> float:
     """Rated line-to-line voltage of an element, V: its own, else its system's."""
     if isinstance(element, Load) and element.rated_voltage:
         return element.rated_voltage
+    if isinstance(element, Source):
+        return element.voltage
     if isinstance(element, Transformer):
         return max(element.primary_voltage, element.secondary_voltage)
     return _system_voltage(topology.island_of(topology.node_in(element.id)))
@@ -540,11 +568,14 @@ class ReadingSummary:
     candidate_phases: tuple[str, ...]
     lowest_reading_phase: str
     best_fit: GroundDiagnosis
+    cautions: tuple[tuple[str, str], ...] = ()  # (signal word, text) for what stands now
 
 
-def summarize_readings(result: GroundDiagnosis) -> ReadingSummary:
+def summarize_readings(result: GroundDiagnosis,
+                       hazards: GroundHazards | None = None) -> ReadingSummary:
     known = result.grounded_phase is not None
     return ReadingSummary(
+        cautions=tuple((n.signal_word, n.text) for n in hazards.notes) if hazards else (),
         status=result.status.value, consistent=result.consistent,
         grounded_phase=result.grounded_phase,
         fault_resistance_ohm=result.fault_resistance_ohm if known else None,

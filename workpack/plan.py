@@ -571,13 +571,14 @@ class _PackageBuilder:
         voltage = system["voltage"]
         if state.ground_phases and voltage:
             healthy = [p for p in self.plant.plant.sequence if p not in state.ground_phases]
-            highest = state.highest_phase_to_earth_v or voltage
+            measured = state.highest_phase_to_earth_v or voltage
             facts.append(
                 f"Phase {' and '.join(state.ground_phases)} of the {voltage:g} V "
                 f"{system['id']} system {'is' if len(state.ground_phases) == 1 else 'are'} "
                 f"grounded: phase{'s' if len(healthy) > 1 else ''} {' and '.join(healthy)} "
-                f"stand{'' if len(healthy) > 1 else 's'} at up to {highest:.0f} V to earth "
-                f"(normally {line_to_neutral(voltage):.0f} V).")
+                f"stand{'' if len(healthy) > 1 else 's'} at up to {measured:.0f} V to earth as "
+                f"measured (normally {line_to_neutral(voltage):.0f} V); if the ground goes "
+                f"solid, at {voltage:g} V.")
         elif state.grounded and voltage:
             facts.append(f"A ground is indicated on the {voltage:g} V {system['id']} system, "
                          f"phase not certain: treat every conductor as up to "

@@ -18,6 +18,11 @@ from workpack.electrical.threephase import line_to_neutral
 LEADING_PHASE_MAX_PER_UNIT = (1.0 + math.sqrt(7.0)) / 2.0
 
 
+# Derived from the single-ground locus (SOURCES.md): the phase leading a resistive
+# ground peaks at (1 + √7)/2 ≈ 1.823 × V_LN when 3ωC0·Rf ≈ 0.373.
+MAX_SINGLE_GROUND_PU = (1 + 7 ** 0.5) / 2
+
+
 @dataclass(frozen=True)
 class HazardNote:
     """One caution, worded for a printed package: a signal word and plain text."""
@@ -75,7 +80,10 @@ def ground_hazards(
             HazardNote(
                 "WARNING",
                 f"A ground is indicated: phase {phase} stands at {highest:.0f} V to earth "
-                f"(normal {v_ln:.0f} V). Treat every conductor as up to {highest:.0f} V "
+                f"(normal {v_ln:.0f} V). A partial ground can go solid, and a resistive one "
+                f"can lift a phase to about {MAX_SINGLE_GROUND_PU:.2f} × {v_ln:.0f} V = "
+                f"{MAX_SINGLE_GROUND_PU * v_ln:.0f} V (derived): treat every conductor as at "
+                f"least {max(highest, line_voltage_v, MAX_SINGLE_GROUND_PU * v_ln):.0f} V "
                 "to earth.",
             )
         )

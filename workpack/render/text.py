@@ -93,10 +93,12 @@ def quick_diagnosis(summary: ReadingSummary) -> str:
     if summary.fault_current_a is not None:
         lines.append(f"Ground current: {summary.fault_current_a:.3g} A")
     lines.append(f"Consistent with a single ground: {'yes' if result.consistent else 'NO'}")
+    lines.extend(f"{word}: {text}" for word, text in summary.cautions)
     lines.extend(f"  - {note}" for note in result.notes)
     if result.next_steps:
         lines.append("Next:")
         lines.extend(f"  - {step}" for step in result.next_steps)
+    lines.append("Local codes, the employer's safety rules and licensed practice prevail.")
     return "\n".join(lines) + "\n"
 
 
