@@ -145,3 +145,41 @@ def test_same_inputs_give_the_same_packages(demo_vessel, ruleset, standards, wei
     second = day_plan(demo_vessel, findings, ruleset, standards, weights)
     assert [p.model_dump_json() for p in first.packages] == [
         p.model_dump_json() for p in second.packages]
+
+
+def test_search_steps_point_at_the_right_package_steps(demo: DayPlan) -> None:
+    """'go to step N', 'search its own circuits from step N' and 'test its sections from
+    step N' each land on the step they promise."""
+    import re
+
+    for work in demo.packages:
+        steps = {s.number: s for s in work.steps}
+        for step in work.steps:
+            for feeder, target in re.findall(
+                    r"the ground is below (\S+): close it, then isolate that circuit and test "
+                    r"its sections from step (\d+)", step.text):
+                assert steps[int(target)].text.startswith(f"Final tests below {feeder}:")
+            for feeder, target in re.findall(
+                    r"the ground is below (\S+): close it; search its own circuits from step "
+                    r"(\d+)", step.text):
+                assert steps[int(target)].text.startswith(f"Search on {feeder} ")
+            for target in re.findall(r"go to step (\d+)", step.text):
+                assert steps[int(target)].text.startswith("Search on ")
+
+
+def test_final_tests_come_with_their_locks_and_the_discharge_warning(demo: DayPlan) -> None:
+    search = package(demo, "locate-ground")
+    finals = [s for s in search.steps if s.text.startswith("Final tests below CB-WL1:")]
+    assert finals and "CB-WL1" in finals[0].text and "CB-DK-H-WL1" in finals[0].text
+    assert "prove each section dead" in finals[0].text
+    tests = [s for s in search.steps if s.text.startswith("Final test below CB-WL1")]
+    assert tests and all(any(c.id == "stored-charge" for c in s.cautions) for s in tests)
+    assert all(s.optional for s in tests + finals)
+
+
+def test_a_tripped_breaker_is_not_opened_by_the_search(demo: DayPlan) -> None:
+    search = package(demo, "locate-ground")
+    assert "CB-CR1" not in search.switches  # F6: CB-CR1 found tripped
+    assert "CB-WL1" in search.switches
+    # The windlass job locks CB-WL1, which the search opens and recloses: a conflict.
+    assert any("opens and recloses CB-WL1" in c.text for c in demo.conflicts)

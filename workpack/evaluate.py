@@ -168,6 +168,9 @@ def evaluate(package: WorkPackage, results: Results,
     """Judge checked results (``check_results`` found nothing) against their package."""
     verdicts = tuple(_judge(reading, results, standards) for reading in package.readings())
     deciding = {reading.id for reading in package.readings() if reading.acceptance}
+    # A branch of a search is done only if the search led there: unrecorded, it is no gap.
+    optional_steps = {s.number for s in package.steps if s.optional}
+    optional = {r.id for s in package.steps if s.optional for r in s.readings}
     deviations: list[Deviation] = []
     for judged in verdicts:
         if judged.id not in deciding:
@@ -175,12 +178,14 @@ def evaluate(package: WorkPackage, results: Results,
         if judged.outcome == "fail":
             deviations.append(Deviation("reading", judged.id, f"{judged.id} {judged.what}: "
                                         f"{judged.note}", fails=True))
-        elif judged.outcome == "not recorded":
+        elif judged.outcome == "not recorded" and judged.id not in optional:
             deviations.append(Deviation("reading", judged.id, f"{judged.id} {judged.what}: "
                                         "not recorded", fails=False))
     for section, steps in (("steps", package.steps), ("restoration", package.restoration)):
         done = getattr(results, section)
         for step in steps:
+            if section == "steps" and step.number in optional_steps:
+                continue
             if not (step.number in done and done[step.number].done):
                 name = "step" if section == "steps" else "restoration step"
                 deviations.append(Deviation(name, str(step.number),

@@ -50,6 +50,7 @@ from workpack.model.plant import (
     Device,
     Element,
     Load,
+    LoadKind,
     Plant,
     Routine,
     RoutineTest,
@@ -59,7 +60,7 @@ from workpack.model.plant import (
 )
 from workpack.model.weights import SearchWeights
 from workpack.rules import Compiled, CompiledRule, CompiledStep, RuleError, RuleSet
-from workpack.search import NOT_FOUND, plan_fault_search
+from workpack.search import NOT_FOUND, FinalTests, SectionTest, plan_fault_search
 from workpack.search_core import Branch
 from workpack.topology import Topology, element_of
 
@@ -386,6 +387,9 @@ class _PackageBuilder:
         self.states = states
         self.past_grounds = past_grounds
         self.diagnosis = diagnosis
+        # A tripped breaker is open: the search neither opens nor recloses it.
+        self.tripped = frozenset(d.where for d in diagnosis.diagnoses
+                                 if d.kind == "breaker_tripped")
 
     def build(self, job: _Job) -> WorkPackage:
         rule, context = job.rule, job.context
@@ -396,8 +400,9 @@ class _PackageBuilder:
             priority = 1
         isolation = plan_isolation(self.topology, job.item) if rule.isolate else None
         steps = self._steps(rule, rule.steps, context, "S")
+        switched: tuple[str, ...] = ()
         if rule.search_plan:
-            steps = self._with_search(steps, job)
+            steps, switched = self._with_search(steps, job, rule)
         restoration = self._steps(rule, rule.restoration, context, "X")
         cautions = self._cautions(rule, context, isolation, steps + restoration)
         title = str(_evaluate(rule, rule.title, context)).strip()
@@ -436,7 +441,7 @@ class _PackageBuilder:
             restoration=restoration,
             phasor=state.phasor if job.findings and state.grounded else None,
             sketch=_sketch(self.topology, job.item, isolation),
-            instrument_supply=supply or None,
+            instrument_supply=supply or None, switches=switched,
         )
 
     def _priority_reason(self, job: _Job, system: Mapping[str, Any]) -> str:
@@ -474,13 +479,15 @@ class _PackageBuilder:
                               check_only=step.check_only and not readings))
         return tuple(built)
 
-    def _with_search(self, steps: tuple[Step, ...], job: _Job) -> tuple[Step, ...]:
-        """The fault search as numbered package steps, then the final section tests."""
+    def _with_search(self, steps: tuple[Step, ...], job: _Job,
+                     rule: CompiledRule) -> tuple[tuple[Step, ...], tuple[str, ...]]:
+        """The fault search as numbered package steps, then the final section tests,
+        and the devices the search may open."""
         state = self.states.get(job.context["system"]["id"], SystemState())
         as_found = state.phasor.readings_v if state.phasor else None
         search = plan_fault_search(self.topology, job.item, self.weights, self.standards,
                                    self.day, past_grounds=self.past_grounds,
-                                   as_found_v=as_found)
+                                   as_found_v=as_found, exclude=self.tripped)
         first = len(steps) + 1
         number = {(s.level, s.number): first + n for n, s in enumerate(search.steps)}
         level_start: dict[str, int] = {}
@@ -490,7 +497,7 @@ class _PackageBuilder:
         next_number = first + len(search.steps)
         for final in search.final_tests:
             final_start[final.feeder] = next_number
-            next_number += len(final.sections)
+            next_number += 1 + len(_testable(self.topology, final))
         levels = [s.level for s in search.steps]
 
         def branch(level: str, target: Branch) -> str:
@@ -500,10 +507,9 @@ class _PackageBuilder:
                 return (f"the ground is below {target.candidate_id}: close it; search its own "
                         f"circuits from step {level_start[target.candidate_id]}")
             if target.kind == "found":
-                tests = final_start.get(target.candidate_id)
-                where = f" (steps from {tests})" if tests else ""
-                return (f"the ground is below {target.candidate_id}: close it, isolate that "
-                        f"circuit and test its sections{where}")
+                return (f"the ground is below {target.candidate_id}: close it, then isolate "
+                        f"that circuit and test its sections from step "
+                        f"{final_start[target.candidate_id]}")
             return NOT_FOUND
 
         added = list(steps)
@@ -521,9 +527,23 @@ class _PackageBuilder:
             lines.append(f"Open {opened}; watch the detector for about a minute.")
             lines.append(f"If it clears ({step.cleared}): {branch(step.level, step.on_clear)}.")
             lines.append(f"If it stays {step.unchanged}: {branch(step.level, step.on_stay)}.")
-            added.append(Step(number=len(added) + 1, text="\n".join(lines), check_only=True))
+            added.append(Step(number=len(added) + 1, text="\n".join(lines), check_only=True,
+                              optional=True))
+        stored_charge = self._caution(rule, "stored-charge", job.context)
+        electronics = self._caution(rule, "disconnect-electronics", job.context)
         for final in search.final_tests:
-            for section in final.sections:
+            testable = _testable(self.topology, final)
+            locks = sorted({d for section in final.sections for d in
+                            plan_isolation(self.topology, section.element).devices})
+            skipped = [s.element for s in final.sections if s not in testable]
+            text = (f"Final tests below {final.feeder}: lock open and tag "
+                    f"{', '.join(locks) or final.feeder}; prove each section dead (tester "
+                    "proven on a known live source before and after).")
+            if skipped:
+                text += f" Disconnect {', '.join(skipped)} (electronics): do not test it."
+            added.append(Step(number=len(added) + 1, text=text, check_only=True,
+                              optional=True, cautions=(electronics,)))
+            for section in testable:
                 low, high = section.test_voltage_v
                 dc = f"{low:g} V" if low == high else f"{low:g}–{high:g} V"
                 reading = Reading(
@@ -537,10 +557,11 @@ class _PackageBuilder:
                     needs_temperature=section.reference_c is not None,
                     element=section.element, test_voltage_v=section.test_voltage_v[1])
                 added.append(Step(number=len(added) + 1,
-                                  text=f"Final test below {final.feeder} — {section.label}: "
-                                       "with the circuit isolated, test this section.",
-                                  readings=(reading,)))
-        return tuple(added)
+                                  text=f"Final test below {final.feeder} — {section.label}.",
+                                  readings=(reading,), optional=True,
+                                  cautions=(stored_charge,)))
+        switched = tuple(sorted({d for s in search.steps for d in s.open_devices}))
+        return tuple(added), switched
 
     def _caution(self, rule: CompiledRule, caution_id: str,
                  context: Mapping[str, Any]) -> Caution:
@@ -649,6 +670,12 @@ def _merge_cautions(first: Iterable[Caution], more: Iterable[Caution]) -> tuple[
 _SEVERITY = {Severity.urgent: 0, Severity.high: 1, Severity.routine: 2, Severity.low: 3}
 
 
+def _testable(topology: Topology, final: FinalTests) -> list[SectionTest]:
+    """Sections an insulation test may be applied to: not electronics."""
+    return [s for s in final.sections
+            if getattr(topology.elements[s.element], "kind", None) is not LoadKind.electronics]
+
+
 def _renumber(readings: list[Reading]) -> tuple[Reading, ...]:
     """Reading ids S<step>.R<n>, in the order they appear."""
     out = []
@@ -738,6 +765,15 @@ def find_conflicts(topology: Topology, packages: Sequence[WorkPackage]) -> list[
             conflicts.append(Conflict(tuple(ids), f"{' and '.join(ids)} both isolate {device}: "
                                                   "each applies its own lock; neither "
                                                   "restores it while the other is open"))
+    for searcher in packages:
+        for other in packages:
+            held = sorted(set(searcher.switches) & {p.device for p in other.isolation})
+            if other.id != searcher.id and held:
+                conflicts.append(Conflict(
+                    (searcher.id, other.id),
+                    f"{searcher.id}'s search opens and recloses {', '.join(held)}, which "
+                    f"{other.id} keeps locked open: do not run them at the same time, or skip "
+                    "those search steps while the locks are on"))
     vital = {load.id for load in topology.plant.loads if load.vitality is Vitality.vital}
     for n, first in enumerate(packages):
         for second in packages[n + 1:]:

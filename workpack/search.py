@@ -42,7 +42,9 @@ from workpack.model.weights import SearchWeights
 from workpack.search_core import Branch, Candidate, LevelPlan, SearchPlan, plan_search
 from workpack.topology import Island, Topology
 
-OPENABLE = frozenset({DeviceKind.circuit_breaker, DeviceKind.switch, DeviceKind.disconnector})
+# Devices a search may open for a minute; a fuse is drawn (and put back) the same way.
+OPENABLE = frozenset({DeviceKind.circuit_breaker, DeviceKind.switch, DeviceKind.disconnector,
+                      DeviceKind.fuse})
 
 
 @dataclass(frozen=True)
@@ -130,10 +132,14 @@ def plan_fault_search(
     past_grounds: Mapping[str, int] | None = None,
     as_found_v: Mapping[str, float] | None = None,
     one_at_a_time: bool = False,
+    exclude: frozenset[str] = frozenset(),
 ) -> FaultSearch:
-    """The search for a ground shown by the detector (or on the system) named ``place``."""
+    """The search for a ground shown by the detector (or on the system) named ``place``.
+
+    ``exclude``: devices already open (tripped, or locked by another job): never opened
+    and never closed by the search."""
     island, board = _board(topology, place)
-    builder = _TreeBuilder(topology, island, weights, today, past_grounds or {})
+    builder = _TreeBuilder(topology, island, weights, today, past_grounds or {}, exclude)
     root = builder.root(board)
     plan: SearchPlan = plan_search(root, max_group_size=1 if one_at_a_time else None)
     voltage = island.voltage or 0.0
@@ -188,8 +194,10 @@ class _TreeBuilder:
     """Builds the candidate tree of one system, remembering why each number is what it is."""
 
     def __init__(self, topology: Topology, island: Island, weights: SearchWeights,
-                 today: dt.date, past_grounds: Mapping[str, int]):
+                 today: dt.date, past_grounds: Mapping[str, int],
+                 exclude: frozenset[str] = frozenset()):
         self.topology = topology
+        self.exclude = exclude
         self.island = island
         self.members = {n.split(":")[0] for n in island.nodes}
         self.weights = weights
@@ -271,15 +279,23 @@ class _TreeBuilder:
         """The nearest openable devices below ``element_id`` (one level of the search)."""
         result: list[str] = []
         for child in sorted(self.topology.normal_children.get(element_id, ())):
-            if child not in self.members:
+            if child not in self.members or child in self.topology.normally_open:
+                continue  # another system, or a tie that carries nothing now
+            if child in self.exclude:
+                self.notes.append(f"{child} is already open (tripped or locked by another "
+                                  "job): what it feeds cannot carry this indication")
                 continue
             element = self.topology.elements[child]
             if isinstance(element, Device) and element.kind in OPENABLE:
                 if self._would_drop_two_vital(child):
+                    inside = self.first_feeders(child)
                     self.notes.append(
-                        f"{child} is not opened whole: it would drop two or more vital loads "
-                        "that have no alternate supply; its own circuits are tried instead")
-                    result.extend(self.first_feeders(child))
+                        f"{child} is not opened: it would drop two or more vital loads that "
+                        "have no alternate supply; "
+                        + ("its own circuits are tried instead" if inside else
+                           "what it feeds on this system is left to an isolation test at a "
+                           "planned time"))
+                    result.extend(inside)
                 else:
                     result.append(child)
             else:

@@ -91,6 +91,7 @@ class Step(Plain):
     readings: tuple[Reading, ...] = ()
     cautions: tuple[Caution, ...] = ()
     check_only: bool = False  # a box to tick, no value to write
+    optional: bool = False  # one branch of a search: done only if the search leads here
 
 
 class IsolationPoint(Plain):
@@ -177,6 +178,7 @@ class WorkPackage(Plain):
     phasor: Phasor | None = None
     sketch: Sketch | None = None
     instrument_supply: str | None = None  # element whose supply a test instrument needs
+    switches: tuple[str, ...] = ()  # devices the job opens for a while and closes again
     notice: str = ("Local codes, the employer's safety rules and licensed practice prevail "
                    "over this package.")
 
