@@ -183,3 +183,20 @@ def test_a_tripped_breaker_is_not_opened_by_the_search(demo: DayPlan) -> None:
     assert "CB-WL1" in search.switches
     # The windlass job locks CB-WL1, which the search opens and recloses: a conflict.
     assert any("opens and recloses CB-WL1" in c.text for c in demo.conflicts)
+
+
+def test_urgent_jobs_that_do_not_fit_and_findings_no_rule_takes_are_said(
+    demo_vessel, ruleset, standards, weights,
+) -> None:
+    findings = load_findings_text("""
+date: 2026-12-01
+findings:
+  - {kind: transformer_unit, at: 2026-12-01T10:00, by: x, where: T1, unit: BC, state: failed,
+     load: 48 kVA}
+  - {kind: defect, at: 2026-12-01T11:00, by: x, where: SCB, text: shore box flooded,
+     severity: high}
+""", "f.yaml", demo_vessel)
+    plan = day_plan(demo_vessel, findings, ruleset, standards, weights, crew_hours=1)
+    texts = [c.text for c in plan.conflicts]
+    assert any("(priority 1" in t and "does not fit in 1 person-hours" in t for t in texts)
+    assert any(t.startswith("finding F2 (defect at SCB, high) matched no rule") for t in texts)

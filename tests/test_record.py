@@ -212,8 +212,9 @@ def test_verify_names_a_tampered_record(packages, tmp_path, capsys) -> None:
     package = windlass(packages)
     db = tmp_path / "records.sqlite"
     for n in range(3):
+        correction = ["--supersedes", str(n)] if n else []
         assert main(["record", str(package), str(filled_sheet(package, tmp_path)), "--db",
-                     str(db), "--at", f"2026-12-02T1{n}:00+00:00"]) == 0
+                     str(db), "--at", f"2026-12-02T1{n}:00+00:00", *correction]) == 0
     connection = sqlite3.connect(db)
     triggers = [name for (name,) in connection.execute(
         "SELECT name FROM sqlite_master WHERE type = 'trigger'")]
@@ -225,3 +226,19 @@ def test_verify_names_a_tampered_record(packages, tmp_path, capsys) -> None:
     capsys.readouterr()
     assert main(["verify", "--db", str(db)]) == 1
     assert "record 2" in capsys.readouterr().out
+
+
+def test_recording_twice_needs_a_correction_and_an_empty_sheet_is_refused(
+    packages, tmp_path, capsys,
+) -> None:
+    package = windlass(packages)
+    db = tmp_path / "r.sqlite"
+    sheet = filled_sheet(package, tmp_path)
+    assert main(["record", str(package), str(sheet), "--db", str(db), "--at", AT]) == 0
+    assert main(["record", str(package), str(sheet), "--db", str(db), "--at", AT]) == 2
+    assert "already recorded (record 1)" in capsys.readouterr().err
+    blank = tmp_path / "blank.yaml"
+    assert main(["results-template", str(package), "--out", str(blank)]) == 0
+    assert main(["record", str(package), str(blank), "--db", str(tmp_path / "b.sqlite"),
+                 "--at", AT]) == 2
+    assert "nothing is filled in" in capsys.readouterr().err

@@ -315,6 +315,9 @@ def _cmd_record(args: argparse.Namespace) -> int:
 
     package, digest = load_package(Path(args.package))
     results = load_results(Path(args.results), package, digest)
+    if not results.anything_filled_in():
+        raise UsageError(f"{args.results}: nothing is filled in; record a job once it has "
+                         "been done")
     evaluation = evaluate(package, results, _standards())
     try:
         at = dt.datetime.fromisoformat(args.at) if args.at else dt.datetime.now(dt.UTC)
@@ -325,6 +328,11 @@ def _cmd_record(args: argparse.Namespace) -> int:
         at = at.replace(tzinfo=dt.UTC)
     recorded_by = args.by or results.completed_by or "unknown"
     with open_store(_default_db(args)) as store:
+        latest = store.latest(package.id)
+        if latest is not None and args.supersedes is None:
+            raise UsageError(f"{package.id} is already recorded (record {latest.sequence}); "
+                             f"to correct it, record again with --supersedes "
+                             f"{latest.sequence}")
         record = store.append(package_id=package.id, package_sha256=digest,
                               results=record_payload(results, evaluation),
                               recorded_by=recorded_by, recorded_at=at,

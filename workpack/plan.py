@@ -295,9 +295,18 @@ def plan_day(plant: Plant, topology: Topology, findings: Findings, day: dt.date,
         else:
             deferred.append(package.id)
     chosen = [p for p in packages if p.id in scheduled]
+    warnings = [Conflict((p.id,), f"{p.id} (priority {p.priority}: {p.title}) does not fit in "
+                                  f"{crew_hours:g} person-hours and is deferred: find the crew")
+                for p in packages if p.id in deferred and p.priority <= 2]
+    handled = {f for job in jobs for f in job.findings}
+    warnings += [Conflict((), f"finding {d.finding} ({d.kind.replace('_', ' ')} at {d.where}, "
+                              f"{d.severity.value}) matched no rule: no package was made for "
+                              f"it — {d.summary}")
+                 for d in diagnosis.diagnoses
+                 if d.finding not in handled and d.severity in (Severity.urgent, Severity.high)]
     return DayPlan(plant=plant.plant.name, date=day, crew_hours=crew_hours, packages=packages,
                    scheduled=tuple(scheduled), deferred=tuple(deferred),
-                   conflicts=tuple(find_conflicts(topology, chosen)),
+                   conflicts=tuple(warnings + find_conflicts(topology, chosen)),
                    diagnosis=diagnosis)
 
 

@@ -64,3 +64,14 @@ class Results(Strict):
 
     _blanks = field_validator("completed_by", "supervisor", "remarks", "ground_found_at",
                               mode="before")(_blank_is_none)
+
+    def anything_filled_in(self) -> bool:
+        """False for a sheet or PDF handed back as it was issued."""
+        return bool(
+            self.completed_by or self.supervisor or self.remarks
+            or any(m.value is not None for m in self.readings.values())
+            or any(any(v is not None for v in lock.model_dump().values())
+                   for lock in self.isolation.values())
+            or any(v is not None and str(v).strip() for pairs in self.proving_dead.values()
+                   for v in pairs.values())
+            or any(s.done for s in (*self.steps.values(), *self.restoration.values())))

@@ -189,7 +189,7 @@ def day_plan(plan: DayPlan) -> str:
     lines.append(f"\n{len(plan.scheduled)} scheduled ({used:g} person-hours), "
                  f"{len(plan.deferred)} deferred")
     for conflict in plan.conflicts:
-        lines.append(f"CONFLICT: {conflict.text}")
+        lines.append(f"ATTENTION: {conflict.text}")
     lines.append("Local codes, the employer's safety rules and licensed practice prevail.")
     return "\n".join(lines) + "\n"
 
