@@ -200,3 +200,17 @@ findings:
     texts = [c.text for c in plan.conflicts]
     assert any("(priority 1" in t and "does not fit in 1 person-hours" in t for t in texts)
     assert any(t.startswith("finding F2 (defect at SCB, high) matched no rule") for t in texts)
+
+
+def test_printed_bounds_are_the_judged_bounds(demo: DayPlan) -> None:
+    """Bands are rounded inward to the three figures the package prints, so a reading on
+    the printed bound passes and nothing outside the computed band does."""
+    for work in demo.packages:
+        for reading in work.readings():
+            limit = reading.limit
+            if limit is None or reading.expected is None or reading.tolerance is None:
+                continue
+            for bound in (limit.low, limit.high):
+                assert bound is not None and float(f"{bound:.3g}") == bound
+            assert limit.low >= reading.expected - reading.tolerance - 1e-9
+            assert limit.high <= reading.expected + reading.tolerance + 1e-9

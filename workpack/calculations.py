@@ -70,9 +70,23 @@ def _labels(ctx: CalcContext) -> tuple[str, str, str]:
     return ctx.topology.plant.plant.sequence
 
 
+def _inward(low: float, high: float) -> tuple[float, float]:
+    """Bounds rounded inward to three significant figures, as the package prints them:
+    what is printed is what is judged, and never wider than computed."""
+    def significant(value: float, up: bool) -> float:
+        if value == 0:
+            return 0.0
+        step = 10 ** (math.floor(math.log10(abs(value))) - 2)
+        count = value / step
+        whole = math.ceil(count - 1e-9) if up else math.floor(count + 1e-9)
+        return float(f"{whole * step:.12g}")  # 381 × 0.01 is 3.81, not 3.8100000000000005
+
+    return significant(low, up=True), significant(high, up=False)
+
+
 def _band(value: float, basis: str) -> Limit:
-    return Limit(low=value * (1 - BALANCE_BAND), high=value * (1 + BALANCE_BAND),
-                 basis=f"{basis}; ±{BALANCE_BAND:.0%} band: common practice")
+    low, high = _inward(value * (1 - BALANCE_BAND), value * (1 + BALANCE_BAND))
+    return Limit(low=low, high=high, basis=f"{basis}; ±{BALANCE_BAND:.0%} band: common practice")
 
 
 def healthy_phase_to_earth(ctx: CalcContext, at: str) -> tuple[Reading, ...]:
@@ -185,11 +199,11 @@ def turns_ratio(ctx: CalcContext, bank: str) -> tuple[Reading, ...]:
     basis = ("±0.5 % of the calculated ratio: ANSI/NETA MTS transformer turns-ratio "
              "acceptance (from memory)")
     a, b, c = _labels(ctx)
+    bounds = _inward(ratio * (1 - RATIO_BAND), ratio * (1 + RATIO_BAND))
     return tuple(
         Reading(id=f"{ctx.prefix}.R{n}", what=f"turns ratio of the {x}{y} unit of {bank}",
                 unit="", expected=ratio, tolerance=RATIO_BAND * ratio,
-                limit=Limit(low=ratio * (1 - RATIO_BAND), high=ratio * (1 + RATIO_BAND),
-                            basis=basis),
+                limit=Limit(low=bounds[0], high=bounds[1], basis=basis),
                 basis=f"computed: winding voltages {transformer.primary_voltage:g} V / "
                       f"{transformer.secondary_voltage:g} V, {transformer.vector_group}")
         for n, (x, y) in enumerate(((a, b), (b, c), (c, a)), start=1))
