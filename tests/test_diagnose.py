@@ -38,7 +38,8 @@ def test_capacitance_estimate_is_cable_length_times_per_metre_plus_filters(
     expected = sum(lengths) * 150e-12 + (100e-9 + 100e-9 + 47e-9)
     capacitance, basis = island_capacitance(demo_vessel.plant, demo_vessel, island)
     assert capacitance == pytest.approx(expected, rel=1e-12)
-    assert basis == f"{len(lengths)} of {len(lengths)} cables and 3 equipment filters"
+    assert basis == (f"{len(lengths)} of the {len(lengths)} cables listed in the plant file "
+                     "and 3 equipment filters")
 
 
 def test_demo_day_finds_the_resistive_ground_on_b_not_the_lowest_phase_c(

@@ -230,14 +230,33 @@ def _reason(topology: Topology, item_id: str, device_id: str, blocked: set[str],
     if path is None:
         return "possible supply"
     transformers = sorted({element_of(n) for n in path if n.endswith(":secondary")})
-    ties = [element_of(n) for n in path if element_of(n) in topology.normally_open]
-    parts = []
+    ties = [element_of(n) for n in path
+            if element_of(n) in topology.normally_open and element_of(n) != device_id]
+    parts = [f"from {', '.join(_far_side_sources(topology, device_id, blocked - {device_id}))}"]
     if ties:
-        parts.append("via normally open " + ", ".join(dict.fromkeys(ties)))
+        parts.append("e.g. via normally open " + ", ".join(dict.fromkeys(ties)))
     if transformers:
         parts.append("back-feed through transformer " + ", ".join(transformers))
-    parts.append(f"from {element_of(path[-1])}")
-    return "possible supply " + " ".join(parts)
+    tie = "normally open tie or alternate feed: " if device_id in topology.normally_open else ""
+    return tie + "possible supply " + "; ".join(parts)
+
+
+def _far_side_sources(topology: Topology, device: str, blocked: set[str]) -> list[str]:
+    """Every source that could reach ``device`` without crossing ``blocked``."""
+    view = topology.closable_view(POWER)
+    seen = {device}
+    queue = deque([device])
+    found = []
+    while queue:
+        node = queue.popleft()
+        if node in topology.source_nodes:
+            found.append(node)
+            continue
+        for neighbour in view.neighbors(node):
+            if neighbour not in seen and neighbour not in blocked:
+                seen.add(neighbour)
+                queue.append(neighbour)
+    return sorted(found)
 
 
 def _verify_points(topology: Topology, item_id: str, chosen: list[str],

@@ -67,7 +67,7 @@ def island_capacitance(plant: Plant, topology: Topology,
     total += sum(lumped)
     if not known and not lumped:
         return None, "no cable or equipment capacitance data"
-    basis = f"{known} of {len(cables)} cables"
+    basis = f"{known} of the {len(cables)} cables listed in the plant file"
     if lumped:
         basis += f" and {len(lumped)} equipment filters"
     return total, basis
