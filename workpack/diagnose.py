@@ -431,20 +431,8 @@ def _tripped(topology: Topology, finding: BreakerTripped, base: dict[str, Any]) 
 
 def downstream_loads(topology: Topology, element_id: str) -> list[Load]:
     """Loads that lose supply when ``element_id`` is opened (normal state, through banks)."""
-    children: dict[str, list[str]] = topology.normal_children
-    seen = {element_id}
-    stack = [element_id]
-    loads: list[Load] = []
-    while stack:
-        node = stack.pop()
-        for child in children.get(node, ()):
-            if child not in seen:
-                seen.add(child)
-                stack.append(child)
-                element = topology.elements[child]
-                if isinstance(element, Load):
-                    loads.append(element)
-    return sorted(loads, key=lambda load: load.id)
+    loads = [topology.elements[e] for e in topology.below(element_id)]
+    return sorted((e for e in loads if isinstance(e, Load)), key=lambda load: load.id)
 
 
 def connected_load_va(loads: Iterable[Load]) -> float:

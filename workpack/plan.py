@@ -796,23 +796,10 @@ def find_conflicts(topology: Topology, packages: Sequence[WorkPackage]) -> list[
         if user.instrument_supply is None:
             continue
         for other in packages:
-            below = {e.id for point in other.isolation
-                     for e in _elements_below(topology, point.device)}
+            below = {e for point in other.isolation for e in topology.below(point.device)}
             if other.id != user.id and user.instrument_supply in below:
                 conflicts.append(Conflict(
                     (user.id, other.id),
                     f"{other.id} isolates the supply of {user.instrument_supply}, which "
                     f"{user.id} needs for its test instrument: do them at different times"))
     return conflicts
-
-
-def _elements_below(topology: Topology, element_id: str) -> list[Element]:
-    found, stack, seen = [], [element_id], {element_id}
-    while stack:
-        node = stack.pop()
-        for child in topology.normal_children.get(node, ()):
-            if child not in seen:
-                seen.add(child)
-                found.append(topology.elements[child])
-                stack.append(child)
-    return found

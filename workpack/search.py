@@ -263,17 +263,7 @@ class _TreeBuilder:
 
     def downstream(self, element_id: str) -> list[str]:
         """Elements of this system below ``element_id`` in the normal state."""
-        found: list[str] = []
-        stack = [element_id]
-        seen = {element_id}
-        while stack:
-            node = stack.pop()
-            for child in self.topology.normal_children.get(node, ()):
-                if child in self.members and child not in seen:
-                    seen.add(child)
-                    found.append(child)
-                    stack.append(child)
-        return found
+        return [e for e in self.topology.below(element_id) if e in self.members]
 
     def first_feeders(self, element_id: str) -> list[str]:
         """The nearest openable devices below ``element_id`` (one level of the search)."""
@@ -309,7 +299,7 @@ class _TreeBuilder:
     def _vital_split(self, device_id: str) -> tuple[list[Load], list[Load], list[Load]]:
         """Dead loads, vital ones with an alternate, vital ones without."""
         dead = downstream_loads(self.topology, device_id)
-        below = set(self._all_below(device_id))
+        below = set(self.topology.below(device_id))
         with_alternate, without = [], []
         for load in dead:
             if load.vitality is not Vitality.vital:
@@ -319,17 +309,6 @@ class _TreeBuilder:
             else:
                 without.append(load)
         return dead, with_alternate, without
-
-    def _all_below(self, element_id: str) -> list[str]:
-        found, stack, seen = [], [element_id], {element_id}
-        while stack:
-            node = stack.pop()
-            for child in self.topology.normal_children.get(node, ()):
-                if child not in seen:
-                    seen.add(child)
-                    found.append(child)
-                    stack.append(child)
-        return found
 
     def _alternate_outside(self, load: Load, below: set[str]) -> str | None:
         """A transfer switch feeding ``load`` whose alternate is not under the opened device."""

@@ -16,7 +16,6 @@ no file access.
 
 from __future__ import annotations
 
-from collections import deque
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass
 from functools import cached_property
@@ -202,6 +201,21 @@ class Topology:
                     children.setdefault(supply, []).append(element_id)
         return children
 
+    def below(self, element_id: str) -> list[str]:
+        """Every element that loses supply when ``element_id`` opens (normal state,
+        across transformer banks), nearest first in walk order."""
+        found: list[str] = []
+        stack = [element_id]
+        seen = {element_id}
+        while stack:
+            node = stack.pop()
+            for child in self.normal_children.get(node, ()):
+                if child not in seen:
+                    seen.add(child)
+                    found.append(child)
+                    stack.append(child)
+        return found
+
     # --- islands --------------------------------------------------------------------------
 
     def islands(self, open_devices: Iterable[str] | None = None) -> list[Island]:
@@ -366,27 +380,3 @@ class Topology:
             return found
 
         return neighbours
-
-    def reachable_sources(self, element_id: str, open_devices: Iterable[str] = ()) -> set[str]:
-        """Sources that could reach the element with ``open_devices`` locked open.
-
-        Every other device is taken as closable. An opened device conducts on
-        neither side, which is what locking it open means.
-        """
-        opened = set(open_devices)
-        neighbours = self.energy_neighbours(element_id)
-        starts = self.work_nodes(element_id)
-        seen: set[str] = set(starts)
-        queue = deque(starts)
-        reached: set[str] = set()
-        while queue:
-            node = queue.popleft()
-            if node in self.source_nodes and node not in starts:
-                reached.add(node)
-                continue
-            for neighbour in neighbours(node):
-                if neighbour in seen or element_of(neighbour) in opened:
-                    continue
-                seen.add(neighbour)
-                queue.append(neighbour)
-        return reached

@@ -374,15 +374,6 @@ class Transformer(FedElement):
                              f"{group} brings out no secondary neutral")
         return self
 
-    @property
-    def bank_kva(self) -> float:
-        """Rating of the complete bank or unit, VA."""
-        if self.construction is Construction.bank_of_single_phase:
-            assert self.unit_kva is not None
-            return 3 * self.unit_kva
-        assert self.rated_kva is not None
-        return self.rated_kva
-
 
 # --- cables -----------------------------------------------------------------------------
 
