@@ -57,6 +57,7 @@ class VerifyPoint:
     where: str
     conductors: str
     voltage: float | None
+    wires: int = 3  # three phases, or the two conductors of a heater or control supply
 
 
 @dataclass(frozen=True)
@@ -287,6 +288,7 @@ def _verify_points(topology: Topology, item_id: str, chosen: list[str],
                     where=f"{auxiliary.kind.value.replace('_', ' ')} terminals of {item_id}",
                     conductors="between the supply conductors and each to earth",
                     voltage=auxiliary.voltage or topology.voltage_at(auxiliary.from_),
+                    wires=2,
                 ))
     return tuple(points)
 

@@ -714,7 +714,7 @@ def _proving_dead(plant: Plant, plan: IsolationPlan | None) -> tuple[ProvingDead
     three = (f"{a}-{b}", f"{b}-{c}", f"{c}-{a}", f"{a}-E", f"{b}-E", f"{c}-E")
     two = ("1-2", "1-E", "2-E")
     return tuple(ProvingDead(where=v.where, voltage_v=v.voltage,
-                             pairs=two if "heater" in v.where or "control" in v.where else three)
+                             pairs=two if v.wires == 2 else three)
                  for v in plan.verify)
 
 
