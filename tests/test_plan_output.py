@@ -116,3 +116,19 @@ def test_letter_paper_on_request(tmp_path: Path) -> None:
     assert run_plan(out, "--page-size", "Letter") == 0
     page = PdfReader(next(out.glob("WP-*.pdf"))).pages[0]
     assert (round(float(page.mediabox.width)), round(float(page.mediabox.height))) == (612, 792)
+
+
+def test_planning_again_into_the_same_folder_leaves_no_stale_packages(tmp_path) -> None:
+    out = tmp_path / "out"
+    assert run_plan(out) == 0
+    before = sorted(p.name for p in out.glob("WP-*"))
+    keep = out / "notes.txt"
+    keep.write_text("mine", encoding="utf-8")
+    assert run_plan(out, "--crew-hours", "2") == 0  # same findings: same packages
+    assert sorted(p.name for p in out.glob("WP-*")) == before
+    findings = tmp_path / "quiet.yaml"
+    findings.write_text("date: 2026-12-01\nfindings: []\n", encoding="utf-8")
+    assert main(["plan", VESSEL, str(findings), "--out", str(out)]) == 0
+    after = sorted(p.name for p in out.glob("WP-*"))
+    assert len(after) < len(before)  # only the routine tests are left
+    assert keep.read_text(encoding="utf-8") == "mine"  # other files are not touched

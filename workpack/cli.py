@@ -240,7 +240,7 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     files[f"day-{day.isoformat()}.pdf"] = render_day_sheet(
         result.plant, day, result.packages, result.scheduled, result.deferred,
         [c.text for c in result.conflicts], result.crew_hours, args.page_size)
-    written = write_all(Path(args.out), files)
+    written = write_all(Path(args.out), files, replaces=_is_plan_output)
     sys.stdout.write(day_plan_summary(result, written))
     return 0
 
@@ -259,6 +259,13 @@ def _history(args: argparse.Namespace, plant: Any) -> Any:
     with open_store(db, create=False) as store:
         return history_from_records(store.records(),
                                     plant.plant.code_set.rotating_machines)
+
+
+def _is_plan_output(name: str) -> bool:
+    """Files a `plan` run writes: packages (PDF and JSON twin) and day sheets."""
+    import re
+
+    return re.fullmatch(r"WP-\d{8}-\d{2,}\.(pdf|json)|day-\d{4}-\d{2}-\d{2}\.pdf", name) is not None
 
 
 def day_plan_summary(result: Any, written: list[Path]) -> str:
