@@ -239,3 +239,12 @@ def test_quick_mode_bad_options_are_one_line_exit_2(args, message, capsys) -> No
     assert main(["diagnose", *args]) == 2
     err = capsys.readouterr().err
     assert message in err and len(err.splitlines()) == 1
+
+
+def test_quick_mode_with_frequency_but_no_capacitance_gives_the_displacement(capsys) -> None:
+    """The example printed in the command's own usage message must work."""
+    assert main(["diagnose", "--volts", "440", "--hertz", "60", "--reading", "A=460",
+                 "--reading", "B=60", "--reading", "C=400", "--json"]) == 0
+    answer = json.loads(capsys.readouterr().out)
+    assert answer["grounded_phase"] == "B" and answer["fault_resistance_ohm"] is None
+    assert answer["neutral_shift_v"] > 0

@@ -147,7 +147,9 @@ def _quick_diagnose(args: argparse.Namespace) -> int:
                          f"(got {len(readings)})")
     sequence = args.sequence or "-".join(sorted(readings))
     try:
-        result = diagnose_ground(readings, volts, sequence, frequency_hz=hertz,
+        # Frequency only matters with a capacitance: without one there is no resistance.
+        result = diagnose_ground(readings, volts, sequence,
+                                 frequency_hz=hertz if capacitance is not None else None,
                                  capacitance_f=capacitance,
                                  tolerance=MeterTolerance(relative=args.tolerance / 100))
     except ValueError as error:
@@ -212,8 +214,8 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     from workpack.render.daysheet import render_day_sheet
     from workpack.render.pdf import render_package
 
-    if args.crew_hours <= 0:
-        raise UsageError(f"--crew-hours {args.crew_hours:g}: must be above zero")
+    if not math.isfinite(args.crew_hours) or args.crew_hours <= 0:
+        raise UsageError(f"--crew-hours {args.crew_hours:g}: must be a number above zero")
     try:
         day = dt.date.fromisoformat(args.date) if args.date else None
     except ValueError:
