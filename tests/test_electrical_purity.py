@@ -2,10 +2,10 @@
 
 from __future__ import annotations
 
-import ast
 from pathlib import Path
 
 import pytest
+from imports import forbidden_in
 
 PACKAGE = Path(__file__).resolve().parent.parent / "workpack" / "electrical"
 LOADER = "tables.py"
@@ -19,16 +19,7 @@ FORBIDDEN = {"os", "pathlib", "io", "shutil", "sqlite3", "yaml", "importlib", "s
 )
 def test_calculation_module_imports_nothing_that_reads_files(path: Path) -> None:
     """No file, network or database module, no open(), no import of the table loader."""
-    tree = ast.parse(path.read_text(encoding="utf-8"))
-    found: set[str] = set()
-    for node in ast.walk(tree):
-        if isinstance(node, ast.Import):
-            found.update(alias.name for alias in node.names)
-        elif isinstance(node, ast.ImportFrom) and node.module:
-            found.add(node.module)
-        elif isinstance(node, ast.Call) and getattr(node.func, "id", None) == "open":
-            found.add("open()")
-    bad = {n for n in found if n in FORBIDDEN or n.split(".")[0] in FORBIDDEN or n == "open()"}
+    bad = forbidden_in(path, FORBIDDEN)
     assert not bad, f"{path.name} imports {sorted(bad)}"
 
 
