@@ -1,19 +1,24 @@
 """The records store: completed results kept append-only, hash-chained, verifiable.
 
-Open one with ``open_store(path_or_url)`` and pass it as an object to whatever records
-or audits (a ``RecordStore``); tests pass a temporary SQLite file. Corrections are new
-records that supersede old ones; nothing is ever updated or deleted. ``verify`` recomputes
-the chain and names the first record that was altered, removed or reordered.
+Open one with ``open_store(path_or_url, plant=...)`` and pass it as an object to whatever
+records or audits (a ``RecordStore``); tests pass a temporary SQLite file or a PostgreSQL
+database alike. Each plant has its own chain: an SQLite file holds one plant, a
+PostgreSQL store (``postgresql://…``, set up once with ``set_up_store``) holds a fleet.
+Corrections are new records that supersede old ones; nothing is ever updated or deleted.
+``verify`` recomputes a plant's chain and names the first record that was altered,
+removed or reordered.
 
 The error tree (all ``WorkpackError``, exit status 2)::
 
     StoreError               the store cannot do what was asked; names the file or URL
      ├── NotAStoreError      the file is not a workpack records store (or a newer one)
-     ├── StoreURLError       a URL scheme this workpack cannot open (PostgreSQL: not yet)
+     ├── StoreURLError       a URL this workpack cannot open (or no PostgreSQL driver)
      ├── RecordRefusedError  a new record refused before anything was written
      └── NoSuchRecordError   a record number not in the store
 
-The chain's byte encoding is documented in ``workpack/store/_chain.py``.
+The chain's byte encoding is documented in ``workpack/store/_chain.py``; the PostgreSQL
+backend (``_postgres.py``, imported only when a server URL is opened) documents its roles,
+triggers and locks.
 """
 
 from workpack.store._base import (
@@ -33,8 +38,9 @@ from workpack.store._chain import (
     canonical_json,
     chain_hash,
     package_sha256,
+    plant_genesis,
 )
-from workpack.store._open import open_store
+from workpack.store._open import is_server_url, open_store, set_up_store
 from workpack.store._sqlite import SQLiteStore
 
 __all__ = [
@@ -52,6 +58,9 @@ __all__ = [
     "Verification",
     "canonical_json",
     "chain_hash",
+    "is_server_url",
     "open_store",
     "package_sha256",
+    "plant_genesis",
+    "set_up_store",
 ]

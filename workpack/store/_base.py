@@ -12,6 +12,7 @@ from collections.abc import Iterator, Mapping
 from dataclasses import dataclass
 from types import TracebackType
 from typing import Any, Protocol, Self, runtime_checkable
+from urllib.parse import urlsplit, urlunsplit
 
 from workpack.errors import WorkpackError
 from workpack.store._chain import (
@@ -48,6 +49,23 @@ class NoSuchRecordError(StoreError):
     """A record asked for by number is not in the store."""
 
 
+def redact(url: str) -> str:
+    """``url`` with any password (``user:pw@`` or ``?password=``) replaced by ``***``."""
+    try:
+        parts = urlsplit(url)
+        if parts.password is not None:
+            netloc = parts.netloc.rsplit("@", 1)
+            user = netloc[0].split(":", 1)[0]
+            parts = parts._replace(netloc=f"{user}:***@{netloc[1]}")
+        if "password" in parts.query.lower():
+            query = "&".join("password=***" if item.lower().startswith("password=") else item
+                             for item in parts.query.split("&"))
+            parts = parts._replace(query=query)
+        return urlunsplit(parts)
+    except ValueError:
+        return "<unreadable store URL>"
+
+
 # --- the record ------------------------------------------------------------------------
 
 
@@ -65,6 +83,7 @@ class Record:
     supersedes: int | None
     verdict: str
     chain_sha256: str
+    plant: str = ""  # the plant whose chain holds it; "" in an unnamed store
 
     @property
     def results(self) -> dict[str, Any]:
@@ -73,7 +92,7 @@ class Record:
         return parsed
 
     @classmethod
-    def from_row(cls, row: StoredRow, location: str) -> Record:
+    def from_row(cls, row: StoredRow, location: str, plant: str = "") -> Record:
         """The record of a stored row; StoreError if the row cannot be read back."""
         try:
             when = parse_timestamp(row.recorded_at)
@@ -84,7 +103,7 @@ class Record:
                              ) from None
         return cls(row.sequence, row.package_id, row.package_sha256, row.results_json,
                    row.results_sha256, row.recorded_by, when, row.supersedes, row.verdict,
-                   row.chain_sha256)
+                   row.chain_sha256, plant)
 
 
 # --- the interface ---------------------------------------------------------------------
@@ -96,12 +115,30 @@ class RecordStore(Protocol):
 
     There is no update and no delete: a correction is a new record whose ``supersedes``
     names the record it corrects. Pass a store to whatever needs one (records, audit);
-    tests pass a temporary SQLite file, and a PostgreSQL store will fit the same slot.
+    tests pass a temporary SQLite file or a PostgreSQL database alike.
+
+    One chain per plant: an object reads and extends the chain of the plant it was
+    opened for (``open_store(location, plant=...)``); sequence numbers, ``head`` and
+    ``verify`` are that plant's. An SQLite file holds one plant; a PostgreSQL store holds
+    many, and ``plants()`` lists those this connection may read.
     """
 
     @property
     def location(self) -> str:
-        """The path or URL the store was opened with (passwords left out)."""
+        """The path or URL the store was opened with (passwords left out), and the plant
+        where the store holds several."""
+        ...
+
+    @property
+    def plant(self) -> str:
+        """The plant whose chain this object reads and extends ("" in an unnamed store).
+
+        StoreError where no plant was named and the store holds several (or none).
+        """
+        ...
+
+    def plants(self) -> list[str]:
+        """The plants whose records the store holds and this connection may read, sorted."""
         ...
 
     def append(self, *, package_id: str, package_sha256: str, results: Mapping[str, Any],

@@ -1,7 +1,7 @@
 """The integrity chain: canonical JSON, the record hash, and verification of a stored chain.
 
 Pure functions over plain data: no file, clock or database access, so every backend
-(SQLite now, PostgreSQL later) hashes and verifies exactly alike.
+(SQLite and PostgreSQL) hashes and verifies exactly alike.
 
 Canonical JSON
     ``json.dumps(value, sort_keys=True, separators=(",", ":"), ensure_ascii=False,
@@ -19,7 +19,7 @@ Chain hash, version 1
     ``chain_sha256`` of record *n* is the lowercase hex SHA-256 of the bytes::
 
         b"workpack-record-chain-v1\\x00"
-        text(prev_chain_sha256)      the chain hash of record n-1, or GENESIS for n = 1
+        text(prev_chain_sha256)      the chain hash of record n-1, or the genesis for n = 1
         u64(sequence)
         text(package_id)
         text(package_sha256)         SHA-256 of the package's canonical JSON
@@ -31,8 +31,15 @@ Chain hash, version 1
 
     where ``u64(n)`` is 8 bytes big-endian unsigned, ``text(s)`` is ``u32(len(b)) b`` with
     ``b = s.encode("utf-8")`` and ``u32`` 4 bytes big-endian unsigned; hashes enter as
-    their 64-character lowercase hex text. ``GENESIS`` is 64 zeros. Length prefixes make
-    the encoding unambiguous: no two different field tuples give the same bytes.
+    their 64-character lowercase hex text. Length prefixes make the encoding unambiguous:
+    no two different field tuples give the same bytes.
+
+One chain per plant: the genesis
+    Record 1 of a plant's chain chains from that plant's genesis value, the lowercase hex
+    SHA-256 of ``b"workpack-plant-genesis-v1\\x00" text(plant)``; so every record of the
+    chain is bound to its plant's name, and a chain relabelled as another plant's breaks
+    at record 1. ``GENESIS`` (64 zeros) starts the chain of an unnamed store: an SQLite
+    file made before stores knew their plant, or one opened without a plant name.
 """
 
 from __future__ import annotations
@@ -51,6 +58,7 @@ from pydantic import BaseModel
 GENESIS = "0" * 64
 CHAIN_VERSION = 1
 _DOMAIN = b"workpack-record-chain-v1\x00"
+_PLANT_DOMAIN = b"workpack-plant-genesis-v1\x00"
 _U64 = struct.Struct(">Q")
 _U32 = struct.Struct(">I")
 _HEX = frozenset("0123456789abcdef")
@@ -191,6 +199,13 @@ def chain_hash(prev_chain_sha256: str, sequence: int, package_id: str, package_s
     return hashlib.sha256(b"".join(parts)).hexdigest()
 
 
+def plant_genesis(plant: str) -> str:
+    """The value record 1 of ``plant``'s chain chains from; GENESIS for an unnamed chain."""
+    if plant == "":
+        return GENESIS
+    return hashlib.sha256(_PLANT_DOMAIN + _text(plant)).hexdigest()
+
+
 # --- stored rows and verification ----------------------------------------------------
 
 
@@ -247,10 +262,13 @@ def _safe_sha256(text: str) -> str | None:
 
 def next_row(prev: StoredRow | None, *, package_id: str, package_sha256: str,
              results_json: str, recorded_by: str, recorded_at: str, supersedes: int | None,
-             verdict: str) -> StoredRow:
-    """The row that follows ``prev`` (None for the first record), chain hash computed."""
+             verdict: str, genesis: str = GENESIS) -> StoredRow:
+    """The row that follows ``prev`` (None for the first record), chain hash computed.
+
+    ``genesis`` is what the first record chains from (``plant_genesis(plant)``).
+    """
     sequence = 1 if prev is None else prev.sequence + 1
-    prev_chain = GENESIS if prev is None else prev.chain_sha256
+    prev_chain = genesis if prev is None else prev.chain_sha256
     results_sha256 = sha256_hex(results_json)
     chain = chain_hash(prev_chain, sequence, package_id, package_sha256, results_sha256,
                        recorded_by, recorded_at, supersedes, verdict)
@@ -323,13 +341,14 @@ Rescan = Callable[[], Iterable[StoredRow]]
 
 def verify_rows(location: str, rows: Iterable[StoredRow], rescan: Rescan, *,
                 high_water: int | None = None, anchor: ChainHead | None = None,
-                guards_intact: bool = True) -> Verification:
+                guards_intact: bool = True, genesis: str = GENESIS) -> Verification:
     """Recompute the chain over ``rows`` (in sequence order) and name the first break.
 
     ``rescan`` gives the same rows again; it is used only once a break is found, to tell
     an altered record from one moved or removed. ``high_water`` is the highest sequence
     number the backend has ever handed out (None if it does not know): more than the last
     row means records were cut from the end. ``anchor`` is a head written down earlier.
+    ``genesis`` is the value record 1 must chain from (``plant_genesis`` of the plant).
     """
     prev: StoredRow | None = None
     count = 0
@@ -338,7 +357,7 @@ def verify_rows(location: str, rows: Iterable[StoredRow], rescan: Rescan, *,
     for row in rows:
         count += 1
         if found is None:
-            found = _break_at(row, prev, rescan)
+            found = _break_at(row, prev, rescan, genesis)
             if found is None and anchor is not None and row.sequence == anchor.sequence:
                 anchor_met = True
                 if row.chain_sha256 != anchor.chain_sha256:
@@ -367,14 +386,15 @@ def _missing(first: int, last: int) -> str:
     return "" if first == last else f"records {first} to {last} are gone; "
 
 
-def _break_at(row: StoredRow, prev: StoredRow | None, rescan: Rescan) -> ChainBreak | None:
+def _break_at(row: StoredRow, prev: StoredRow | None, rescan: Rescan,
+              genesis: str) -> ChainBreak | None:
     """None if ``row`` follows ``prev`` intact; otherwise the first break it shows."""
     prev_seq = prev.sequence if prev is not None else 0
-    prev_chain = prev.chain_sha256 if prev is not None else GENESIS
+    prev_chain = prev.chain_sha256 if prev is not None else genesis
     s = row.sequence
     expected = prev_seq + 1
     if s != expected:
-        written = _written_as(row, rescan)
+        written = _written_as(row, rescan, genesis)
         if written == expected:
             return ChainBreak("altered", expected, f"it has been renumbered to {s}")
         jump = (f"the sequence jumps from {prev_seq} to {s}" if prev_seq else
@@ -385,17 +405,19 @@ def _break_at(row: StoredRow, prev: StoredRow | None, rescan: Rescan) -> ChainBr
     if row.hash_as() == row.chain_sha256:
         if row.prev_sha256 == prev_chain:
             return None
-        holder = _holder_of(row.prev_sha256, rescan)
+        holder = _holder_of(row.prev_sha256, rescan, genesis)
         if holder is not None and holder != prev_seq:
             return ChainBreak("reordered", s,
                               f"it was chained after record {holder}, not after record "
                               f"{prev_seq}")
         if prev is None:
-            return ChainBreak("altered", s, "it does not chain from the genesis value")
+            return ChainBreak("altered", s, "it does not chain from its plant's genesis "
+                                            "value (the chain was begun for another plant "
+                                            "or rewritten)")
         return ChainBreak("altered", prev_seq,
                           f"record {s} was chained to a different record {prev_seq} "
                           "(this one was rewritten and rehashed)")
-    written = _written_as(row, rescan)
+    written = _written_as(row, rescan, genesis)
     if written is not None and written != s:
         if _held_elsewhere(s, prev_chain, row, rescan):
             return ChainBreak("reordered", s,
@@ -409,9 +431,9 @@ def _break_at(row: StoredRow, prev: StoredRow | None, rescan: Rescan) -> ChainBr
     return ChainBreak("altered", s, "a stored field no longer matches its chain hash")
 
 
-def _holder_of(chain_sha256: str, rescan: Rescan) -> int | None:
-    """The sequence of the row whose chain hash is ``chain_sha256``; 0 for GENESIS."""
-    if chain_sha256 == GENESIS:
+def _holder_of(chain_sha256: str, rescan: Rescan, genesis: str) -> int | None:
+    """The sequence of the row whose chain hash is ``chain_sha256``; 0 for the genesis."""
+    if chain_sha256 == genesis:
         return 0
     for other in rescan():
         if other.chain_sha256 == chain_sha256:
@@ -419,9 +441,9 @@ def _holder_of(chain_sha256: str, rescan: Rescan) -> int | None:
     return None
 
 
-def _written_as(row: StoredRow, rescan: Rescan) -> int | None:
+def _written_as(row: StoredRow, rescan: Rescan, genesis: str) -> int | None:
     """The sequence number ``row``'s fields were written under, if it can be found."""
-    holder = _holder_of(row.prev_sha256, rescan)
+    holder = _holder_of(row.prev_sha256, rescan, genesis)
     if holder is not None and row.hash_as(sequence=holder + 1) == row.chain_sha256:
         return holder + 1
     highest = 0

@@ -10,6 +10,12 @@ Append-only twice over: the class offers no update or delete, and triggers in th
 refuse UPDATE and DELETE and any INSERT that is not the next record of the chain. The
 triggers stop mistakes, not an attacker with the file (who can drop them); ``verify``
 is what catches an attacker, and it reports missing or changed triggers too.
+
+One plant per file. Schema 2 keeps the plant's name and its chain's genesis value in a
+one-row table ``store_plant`` (guarded like the records); a file opened with another
+plant's name is refused. A schema-1 file (made before stores knew their plant) opens and
+is written as it is, as an unnamed store: its chain starts from ``GENESIS`` and it takes
+records for whichever plant the caller names, as it always did.
 """
 
 from __future__ import annotations
@@ -38,11 +44,12 @@ from workpack.store._chain import (
     Verification,
     format_timestamp,
     next_row,
+    plant_genesis,
     verify_rows,
 )
 
 APPLICATION_ID = 0x77706B72  # "wpkr" in the SQLite header: marks a workpack records store
-SCHEMA_VERSION = 1  # PRAGMA user_version
+SCHEMA_VERSION = 2  # PRAGMA user_version; 1 (no store_plant table) is still read and written
 _BATCH = 500  # rows per read while iterating
 
 _COLUMNS = ("sequence, package_id, package_sha256, results_json, results_sha256, recorded_by, "
@@ -71,9 +78,15 @@ _INDEXES = (
     "WHERE supersedes IS NOT NULL",
 )
 
+_PLANT_TABLE = """CREATE TABLE store_plant (
+    one      INTEGER PRIMARY KEY CHECK (one = 1),
+    plant    TEXT NOT NULL,
+    genesis  TEXT NOT NULL CHECK (length(genesis) = 64)
+) STRICT"""
+
 # The exact text is compared on verify: a trigger of the same name that does nothing
 # is as good as none.
-_GUARDS = {
+_GUARDS_V1 = {
     "records_no_update": (
         "CREATE TRIGGER records_no_update BEFORE UPDATE ON records BEGIN "
         "SELECT RAISE(ABORT, 'workpack records are append-only: UPDATE refused'); END"),
@@ -89,6 +102,27 @@ _GUARDS = {
         "inserted'); END"),
 }
 
+_GUARDS_V2 = {
+    "records_no_update": _GUARDS_V1["records_no_update"],
+    "records_no_delete": _GUARDS_V1["records_no_delete"],
+    "records_append_in_order": (
+        "CREATE TRIGGER records_append_in_order BEFORE INSERT ON records WHEN "
+        "NEW.sequence IS NOT (SELECT coalesce(max(sequence), 0) + 1 FROM records) OR "
+        "NEW.prev_sha256 IS NOT coalesce((SELECT chain_sha256 FROM records "
+        "ORDER BY sequence DESC LIMIT 1), (SELECT genesis FROM store_plant)) BEGIN "
+        "SELECT RAISE(ABORT, 'workpack records: only the next record of the chain may be "
+        "inserted'); END"),
+    "store_plant_no_update": (
+        "CREATE TRIGGER store_plant_no_update BEFORE UPDATE ON store_plant BEGIN "
+        "SELECT RAISE(ABORT, 'workpack records: the plant of a store is fixed: "
+        "UPDATE refused'); END"),
+    "store_plant_no_delete": (
+        "CREATE TRIGGER store_plant_no_delete BEFORE DELETE ON store_plant BEGIN "
+        "SELECT RAISE(ABORT, 'workpack records: the plant of a store is fixed: "
+        "DELETE refused'); END"),
+}
+_GUARDS = {1: _GUARDS_V1, 2: _GUARDS_V2}
+
 
 class SQLiteStore:
     """A records store in one SQLite file (see the module docstring for the guarantees).
@@ -97,11 +131,15 @@ class SQLiteStore:
     path fails instead of verifying a new empty store.
     """
 
-    def __init__(self, path: str | os.PathLike[str], *, create: bool = True,
-                 busy_timeout_s: float = 30.0):
+    def __init__(self, path: str | os.PathLike[str], *, plant: str | None = None,
+                 create: bool = True, busy_timeout_s: float = 30.0):
         self._path = Path(path)
         self._location = str(path)
         self._busy_timeout_s = busy_timeout_s
+        if plant is not None and not (isinstance(plant, str) and plant.strip()):
+            raise StoreError(f"{self._location}: the plant's name is empty; name the plant "
+                             "whose records the store holds")
+        self._plant, self._genesis, self._version = "", GENESIS, SCHEMA_VERSION
         if self._path.is_dir():
             raise NotAStoreError(f"{self._location}: is a folder, not a records store file")
         if not self._path.exists():
@@ -119,19 +157,19 @@ class SQLiteStore:
             raise self._error(exc, "opening") from None
         try:
             with self._translate("opening"):
-                self._open()
+                self._open(plant)
         except BaseException:
             self._conn.close()
             raise
 
     # --- opening -----------------------------------------------------------------------
 
-    def _open(self) -> None:
+    def _open(self, plant: str | None) -> None:
         c = self._conn
         app_id, tables = self._identity()
         if app_id != APPLICATION_ID:
             self._refuse_unless_empty(app_id, tables)
-            self._create_schema()
+            self._create_schema(plant or "")
         version = c.execute("PRAGMA user_version").fetchone()[0]
         if version > SCHEMA_VERSION:
             raise NotAStoreError(f"{self._location}: written by a newer workpack (store schema "
@@ -143,6 +181,17 @@ class SQLiteStore:
         c.execute("PRAGMA journal_mode = WAL")  # kept by the file; a no-op once set
         c.execute("PRAGMA synchronous = FULL")
         c.execute("PRAGMA foreign_keys = ON")
+        self._version = version
+        if version >= 2:
+            found = c.execute("SELECT plant, genesis FROM store_plant").fetchone()
+            if found is None:
+                raise NotAStoreError(f"{self._location}: the store's plant row is missing; "
+                                     "the file was changed outside workpack")
+            # The genesis follows from the name: a relabelled store breaks at record 1.
+            self._plant, self._genesis = found[0], plant_genesis(found[0])
+        if plant is not None and self._plant not in ("", plant):
+            raise StoreError(f"{self._location}: this store holds the records of plant "
+                             f"{self._plant!r}, not {plant!r}; give the store of that plant")
 
     def _identity(self) -> tuple[int, list[str]]:
         """The file's application id and table names, read in one snapshot.
@@ -170,7 +219,7 @@ class SQLiteStore:
                                  f"database with {kind}); give the path of a records store "
                                  "or of a new file")
 
-    def _create_schema(self) -> None:
+    def _create_schema(self, plant: str) -> None:
         c = self._conn
         c.execute("BEGIN IMMEDIATE")
         try:
@@ -179,7 +228,10 @@ class SQLiteStore:
             if app_id != APPLICATION_ID:
                 self._refuse_unless_empty(app_id, tables)
                 c.execute(_TABLE)
-                for statement in (*_INDEXES, *_GUARDS.values()):
+                c.execute(_PLANT_TABLE)
+                c.execute("INSERT INTO store_plant (one, plant, genesis) VALUES (1, ?, ?)",
+                          (plant, plant_genesis(plant)))
+                for statement in (*_INDEXES, *_GUARDS[SCHEMA_VERSION].values()):
                     c.execute(statement)
                 c.execute(f"PRAGMA application_id = {APPLICATION_ID}")
                 c.execute(f"PRAGMA user_version = {SCHEMA_VERSION}")
@@ -236,6 +288,13 @@ class SQLiteStore:
     def location(self) -> str:
         return self._location
 
+    @property
+    def plant(self) -> str:
+        return self._plant
+
+    def plants(self) -> list[str]:
+        return [self._plant] if self.head() is not None else []
+
     def append(self, *, package_id: str, package_sha256: str, results: Mapping[str, Any],
                recorded_by: str, recorded_at: dt.datetime, verdict: str,
                supersedes: int | None = None) -> Record:
@@ -257,14 +316,14 @@ class SQLiteStore:
                                package_sha256=new.package_sha256,
                                results_json=new.results_json, recorded_by=new.recorded_by,
                                recorded_at=new.recorded_at, supersedes=new.supersedes,
-                               verdict=new.verdict)
+                               verdict=new.verdict, genesis=self._genesis)
                 c.execute(f"INSERT INTO records ({_COLUMNS}) VALUES "
                           "(?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)", row.as_tuple())
                 c.execute("COMMIT")
             except BaseException:
                 self._rollback()
                 raise
-        return Record.from_row(row, self._location)
+        return Record.from_row(row, self._location, self._plant)
 
     def _row(self, sequence: int) -> StoredRow | None:
         found = self._conn.execute(f"SELECT {_COLUMNS} FROM records WHERE sequence = ?",
@@ -291,7 +350,7 @@ class SQLiteStore:
                 held = f"the store holds records 1 to {last}" if last else "the store is empty"
                 raise NoSuchRecordError(f"{self._location}: there is no record {sequence} "
                                         f"({held})")
-        return Record.from_row(row, self._location)
+        return Record.from_row(row, self._location, self._plant)
 
     def records(self, *, package_id: str | None = None, since: dt.datetime | None = None,
                 until: dt.datetime | None = None) -> Iterator[Record]:
@@ -314,7 +373,7 @@ class SQLiteStore:
             with self._translate("reading"):
                 batch = self._conn.execute(query, (after, *params)).fetchall()
             for found in batch:
-                yield Record.from_row(StoredRow(*found), self._location)
+                yield Record.from_row(StoredRow(*found), self._location, self._plant)
             if len(batch) < _BATCH:
                 return
             after = batch[-1][0]
@@ -325,7 +384,7 @@ class SQLiteStore:
                 f"SELECT {_COLUMNS} FROM records AS r WHERE package_id = ? AND NOT EXISTS "
                 "(SELECT 1 FROM records AS c WHERE c.supersedes = r.sequence) "
                 "ORDER BY sequence DESC LIMIT 1", (package_id,)).fetchone()
-        return Record.from_row(StoredRow(*found), self._location) if found else None
+        return Record.from_row(StoredRow(*found), self._location, self._plant) if found else None
 
     def latest_per_package(self) -> dict[str, Record]:
         with self._translate("reading"):
@@ -334,7 +393,8 @@ class SQLiteStore:
                 "(PARTITION BY package_id ORDER BY sequence DESC) AS newest FROM records AS r "
                 "WHERE NOT EXISTS (SELECT 1 FROM records AS c WHERE c.supersedes = r.sequence)) "
                 "WHERE newest = 1 ORDER BY package_id").fetchall()
-        return {found[1]: Record.from_row(StoredRow(*found), self._location) for found in rows}
+        return {found[1]: Record.from_row(StoredRow(*found), self._location, self._plant)
+                for found in rows}
 
     def head(self) -> ChainHead | None:
         with self._translate("reading"):
@@ -356,13 +416,14 @@ class SQLiteStore:
             try:
                 triggers = dict(c.execute("SELECT name, sql FROM sqlite_master "
                                           "WHERE type = 'trigger'").fetchall())
-                guards_intact = all(triggers.get(name) == sql for name, sql in _GUARDS.items())
+                guards = _GUARDS[self._version]
+                guards_intact = all(triggers.get(name) == sql for name, sql in guards.items())
                 found = c.execute("SELECT seq FROM sqlite_sequence "
                                   "WHERE name = 'records'").fetchone()
                 high_water = found[0] if found is not None and type(found[0]) is int else None
                 result = verify_rows(self._location, self._stored_rows(), self._stored_rows,
                                      high_water=high_water, anchor=anchor,
-                                     guards_intact=guards_intact)
+                                     guards_intact=guards_intact, genesis=self._genesis)
             finally:
                 self._rollback()
         return result

@@ -1,0 +1,679 @@
+"""The PostgreSQL records store: one database for a fleet office, one chain per plant.
+
+The same records, the same chain hashes as the SQLite store (``_chain`` computes and
+verifies both), with what an office needs on top:
+
+One chain per plant
+    ``records`` is keyed by (plant, sequence); each plant's numbers run 1, 2, 3… and its
+    record 1 chains from ``plant_genesis(plant)`` (kept in ``plants``). Writers of one
+    plant queue on a per-plant transaction-level advisory lock; the last chain hash is
+    read after the lock is taken, so two writers never chain from the same record, and
+    writers of different plants never wait for each other.
+
+Append-only in the database, not only in Python
+    No role is granted UPDATE, DELETE or TRUNCATE on ``records`` or ``plants``; triggers
+    refuse them even to the owner; a BEFORE INSERT trigger takes the same plant lock and
+    refuses any row that is not the next record of its plant's chain, recomputing the
+    results hash and the chain hash in SQL. So a bad row cannot poison a chain that
+    can never be cleaned. A superuser can still switch triggers off: ``verify`` is what
+    catches an attacker, and it reports guards that are missing, changed or disabled.
+
+Roles and row-level security
+    ``workpack_auditor`` reads every plant and writes nothing; ``workpack_crew`` reads
+    and appends only the plants mapped to its login role in ``crew_plants``. The owner
+    (who ran ``set_up``) is not bound by row-level security and is meant for set-up only.
+
+Set-up is one explicit step, ``set_up(url, ...)`` (``workpack store init``), run once
+by a superuser (or the database owner with CREATEROLE); it is idempotent. Opening a store
+never creates anything, because a crew or auditor role could not.
+
+What this backend does not know: the highest number ever handed out (SQLite's
+``sqlite_sequence``), so records cut from the end of a chain by someone who could switch
+the triggers off are found only against an anchor written down earlier.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import datetime as dt
+from collections.abc import Callable, Iterator, Mapping, Sequence
+from types import TracebackType
+from typing import Any, Self
+
+import psycopg
+from psycopg import errors, sql
+
+from workpack.errors import did_you_mean
+from workpack.store._base import (
+    NoSuchRecordError,
+    NotAStoreError,
+    Record,
+    StoreError,
+    check_supersedes,
+    prepare,
+    redact,
+)
+from workpack.store._chain import (
+    GENESIS,
+    ChainHead,
+    StoredRow,
+    Verification,
+    format_timestamp,
+    next_row,
+    plant_genesis,
+    verify_rows,
+)
+
+SCHEMA_VERSION = 1  # workpack.store_info 'schema_version'
+LOCK_CLASS = 0x77706B72  # first key of every advisory lock this store takes ("wpkr")
+AUDITOR_ROLE = "workpack_auditor"
+CREW_ROLE = "workpack_crew"
+_BATCH = 500  # rows per read while iterating
+_COLUMNS = ("sequence, package_id, package_sha256, results_json, results_sha256, recorded_by, "
+            "recorded_at, supersedes, verdict, prev_sha256, chain_sha256")
+
+# --- the schema ----------------------------------------------------------------------
+# Function bodies are compared on verify (prosrc): a guard of the same name that does
+# nothing is as good as none.
+
+_CHAIN_TEXT = ("SELECT int4send(octet_length(convert_to(t, 'UTF8'))) "
+               "|| convert_to(t, 'UTF8')")
+
+_PLANT_GENESIS = ("SELECT encode(sha256(convert_to('workpack-plant-genesis-v1', 'UTF8') "
+                  "|| '\\x00'::bytea || workpack.chain_text(plant)), 'hex')")
+
+# The version-1 encoding of _chain.chain_hash, in SQL, for the insert guard.
+_CHAIN_SHA256 = """SELECT encode(sha256(
+    convert_to('workpack-record-chain-v1', 'UTF8') || '\\x00'::bytea
+    || workpack.chain_text(prev) || int8send(seq) || workpack.chain_text(package_id)
+    || workpack.chain_text(package_sha256) || workpack.chain_text(results_sha256)
+    || workpack.chain_text(recorded_by) || workpack.chain_text(recorded_at)
+    || CASE WHEN supersedes IS NULL THEN '\\x00'::bytea
+            ELSE '\\x01'::bytea || int8send(supersedes) END
+    || workpack.chain_text(verdict)), 'hex')"""
+
+_REFUSE_CHANGE = """
+BEGIN
+    RAISE EXCEPTION 'workpack records are append-only: % on % refused', TG_OP, TG_TABLE_NAME;
+END"""
+
+_APPEND_IN_ORDER = f"""
+DECLARE
+    last_sequence bigint;
+    last_chain text;
+BEGIN
+    PERFORM pg_advisory_xact_lock({LOCK_CLASS}, hashtext(NEW.plant));
+    SELECT r.sequence, r.chain_sha256 INTO last_sequence, last_chain
+        FROM workpack.records AS r WHERE r.plant = NEW.plant
+        ORDER BY r.sequence DESC LIMIT 1;
+    IF NOT FOUND THEN
+        last_sequence := 0;
+        SELECT p.genesis INTO last_chain FROM workpack.plants AS p WHERE p.plant = NEW.plant;
+    END IF;
+    IF NEW.sequence IS DISTINCT FROM last_sequence + 1
+            OR NEW.prev_sha256 IS DISTINCT FROM last_chain THEN
+        RAISE EXCEPTION 'workpack records: only the next record of the chain of plant % '
+            'may be inserted (record %)', NEW.plant, last_sequence + 1;
+    END IF;
+    IF NEW.results_sha256 IS DISTINCT FROM
+            encode(sha256(convert_to(NEW.results_json, 'UTF8')), 'hex') THEN
+        RAISE EXCEPTION 'workpack records: the results of record % of plant % do not '
+            'match their SHA-256', NEW.sequence, NEW.plant;
+    END IF;
+    IF NEW.chain_sha256 IS DISTINCT FROM workpack.chain_sha256(NEW.prev_sha256,
+            NEW.sequence, NEW.package_id, NEW.package_sha256, NEW.results_sha256,
+            NEW.recorded_by, NEW.recorded_at, NEW.supersedes, NEW.verdict) THEN
+        RAISE EXCEPTION 'workpack records: record % of plant % does not carry its chain '
+            'hash', NEW.sequence, NEW.plant;
+    END IF;
+    RETURN NEW;
+END"""
+
+# (name, arguments, returns, language and attributes, body)
+_FUNCTIONS = (
+    ("chain_text", "t text", "bytea", "sql IMMUTABLE STRICT PARALLEL SAFE", _CHAIN_TEXT),
+    ("plant_genesis", "plant text", "text", "sql IMMUTABLE STRICT PARALLEL SAFE",
+     _PLANT_GENESIS),
+    ("chain_sha256", "prev text, seq bigint, package_id text, package_sha256 text, "
+     "results_sha256 text, recorded_by text, recorded_at text, supersedes bigint, "
+     "verdict text", "text", "sql IMMUTABLE PARALLEL SAFE", _CHAIN_SHA256),
+    ("refuse_change", "", "trigger", "plpgsql", _REFUSE_CHANGE),
+    ("append_in_order", "", "trigger",
+     "plpgsql SECURITY DEFINER SET search_path = pg_catalog, pg_temp", _APPEND_IN_ORDER),
+)
+
+# (table, trigger, timing and events, level, function); verify expects exactly these.
+_TRIGGERS = (
+    ("records", "records_append_in_order", "BEFORE INSERT", "ROW", "append_in_order"),
+    ("records", "records_no_change", "BEFORE UPDATE OR DELETE", "ROW", "refuse_change"),
+    ("records", "records_no_truncate", "BEFORE TRUNCATE", "STATEMENT", "refuse_change"),
+    ("plants", "plants_no_change", "BEFORE UPDATE OR DELETE", "ROW", "refuse_change"),
+    ("plants", "plants_no_truncate", "BEFORE TRUNCATE", "STATEMENT", "refuse_change"),
+)
+
+_TABLES = (
+    """CREATE TABLE IF NOT EXISTS workpack.store_info (
+        key    text PRIMARY KEY,
+        value  text NOT NULL)""",
+    f"""CREATE TABLE IF NOT EXISTS workpack.plants (
+        plant    text PRIMARY KEY CHECK (plant <> ''),
+        -- GENESIS starts a chain begun in an unnamed vessel store, shipped ashore.
+        genesis  text NOT NULL
+                 CHECK (genesis = workpack.plant_genesis(plant) OR genesis = '{GENESIS}'))""",
+    """CREATE TABLE IF NOT EXISTS workpack.records (
+        plant           text NOT NULL REFERENCES workpack.plants (plant),
+        sequence        bigint NOT NULL CHECK (sequence >= 1),
+        package_id      text NOT NULL,
+        package_sha256  text NOT NULL CHECK (length(package_sha256) = 64),
+        results_json    text NOT NULL,
+        results_sha256  text NOT NULL CHECK (length(results_sha256) = 64),
+        recorded_by     text NOT NULL,
+        recorded_at     text NOT NULL,
+        supersedes      bigint CHECK (supersedes IS NULL OR supersedes < sequence),
+        verdict         text NOT NULL,
+        prev_sha256     text NOT NULL CHECK (length(prev_sha256) = 64),
+        chain_sha256    text NOT NULL CHECK (length(chain_sha256) = 64),
+        PRIMARY KEY (plant, sequence),
+        FOREIGN KEY (plant, supersedes) REFERENCES workpack.records (plant, sequence))""",
+    "CREATE INDEX IF NOT EXISTS records_by_package "
+    "ON workpack.records (plant, package_id, sequence)",
+    "CREATE INDEX IF NOT EXISTS records_by_time ON workpack.records (plant, recorded_at)",
+    # One correction per record: corrections form a line, never a fork.
+    "CREATE UNIQUE INDEX IF NOT EXISTS records_by_supersedes "
+    "ON workpack.records (plant, supersedes) WHERE supersedes IS NOT NULL",
+    """CREATE TABLE IF NOT EXISTS workpack.crew_plants (
+        member  name NOT NULL,
+        plant   text NOT NULL CHECK (plant <> ''),
+        PRIMARY KEY (member, plant))""",
+)
+
+_OWN_PLANT = ("plant IN (SELECT c.plant FROM workpack.crew_plants AS c "
+              "WHERE c.member = current_user)")
+
+# (table, policy, command, role, USING, WITH CHECK)
+_POLICIES = (
+    ("records", "auditor_reads", "SELECT", AUDITOR_ROLE, "true", None),
+    ("records", "crew_reads_own", "SELECT", CREW_ROLE, _OWN_PLANT, None),
+    ("records", "crew_appends_own", "INSERT", CREW_ROLE, None, _OWN_PLANT),
+    ("plants", "auditor_reads", "SELECT", AUDITOR_ROLE, "true", None),
+    ("plants", "crew_reads_own", "SELECT", CREW_ROLE, _OWN_PLANT, None),
+    ("plants", "crew_appends_own", "INSERT", CREW_ROLE, None, _OWN_PLANT),
+    ("crew_plants", "auditor_reads", "SELECT", AUDITOR_ROLE, "true", None),
+    ("crew_plants", "crew_reads_own", "SELECT", CREW_ROLE, "member = current_user", None),
+)
+
+_GRANTS = (
+    "REVOKE ALL ON SCHEMA workpack FROM PUBLIC",
+    f"GRANT USAGE ON SCHEMA workpack TO {AUDITOR_ROLE}, {CREW_ROLE}",
+    "REVOKE ALL ON workpack.store_info, workpack.plants, workpack.records, "
+    "workpack.crew_plants FROM PUBLIC",
+    # Never granted, and taken back should anyone have granted them by hand.
+    "REVOKE UPDATE, DELETE, TRUNCATE ON workpack.store_info, workpack.plants, "
+    f"workpack.records, workpack.crew_plants FROM {AUDITOR_ROLE}, {CREW_ROLE}",
+    "GRANT SELECT ON workpack.store_info, workpack.plants, workpack.records, "
+    f"workpack.crew_plants TO {AUDITOR_ROLE}, {CREW_ROLE}",
+    f"GRANT INSERT ON workpack.plants, workpack.records TO {CREW_ROLE}",
+)
+
+
+def _schema_statements() -> list[str]:
+    """Every statement of the set-up, in order; each one safe to run again."""
+    statements = ["CREATE SCHEMA IF NOT EXISTS workpack"]
+    for role in (AUDITOR_ROLE, CREW_ROLE):
+        statements.append(f"DO $$ BEGIN IF NOT EXISTS (SELECT FROM pg_roles WHERE rolname = "
+                          f"'{role}') THEN CREATE ROLE {role} NOLOGIN; END IF; END $$")
+    tables = iter(_TABLES)
+    statements.append(next(tables))  # store_info
+    for name, arguments, returns, attributes, body in _FUNCTIONS[:3]:
+        statements.append(_function(name, arguments, returns, attributes, body))
+    statements.extend(tables)
+    for name, arguments, returns, attributes, body in _FUNCTIONS[3:]:
+        statements.append(_function(name, arguments, returns, attributes, body))
+    for table, trigger, when, level, function in _TRIGGERS:
+        statements.append(f"CREATE OR REPLACE TRIGGER {trigger} {when} ON workpack.{table} "
+                          f"FOR EACH {level} EXECUTE FUNCTION workpack.{function}()")
+    for table in ("plants", "records", "crew_plants"):
+        statements.append(f"ALTER TABLE workpack.{table} ENABLE ROW LEVEL SECURITY")
+    for table, policy, command, role, using, check in _POLICIES:
+        statements.append(f"DROP POLICY IF EXISTS {policy} ON workpack.{table}")
+        statements.append(f"CREATE POLICY {policy} ON workpack.{table} FOR {command} TO {role}"
+                          + (f" USING ({using})" if using else "")
+                          + (f" WITH CHECK ({check})" if check else ""))
+    statements.extend(_GRANTS)
+    return statements
+
+
+def _function(name: str, arguments: str, returns: str, attributes: str, body: str) -> str:
+    language, _, rest = attributes.partition(" ")
+    return (f"CREATE OR REPLACE FUNCTION workpack.{name}({arguments}) RETURNS {returns} "
+            f"LANGUAGE {language} {rest} AS $body${body}$body$")
+
+
+# --- connecting and errors -------------------------------------------------------------
+
+
+def _connect(url: str, shown: str) -> psycopg.Connection[Any]:
+    try:
+        return psycopg.connect(url, autocommit=True, connect_timeout=10,
+                               application_name="workpack")
+    except psycopg.Error as exc:
+        raise StoreError(f"{shown}: cannot connect to the PostgreSQL server: "
+                         f"{_first_line(exc)}") from None
+    except ValueError:  # an unreadable connection string, caught by psycopg before libpq
+        raise StoreError(f"{shown}: not a PostgreSQL connection URL psycopg can read") from None
+
+
+def _first_line(exc: BaseException) -> str:
+    diag = getattr(exc, "diag", None)
+    primary = getattr(diag, "message_primary", None)
+    text = primary or str(exc).strip() or type(exc).__name__
+    return text.splitlines()[0]
+
+
+class PostgresStore:
+    """One plant's chain in a PostgreSQL records store (see the module docstring).
+
+    ``plant`` names the chain; without it, the store's only plant is taken if it holds
+    exactly one, and ``plants()`` still answers. ``create=False`` refuses a plant with no
+    records yet, so an audit of a mistyped plant fails instead of finding nothing.
+    """
+
+    def __init__(self, url: str, *, plant: str | None = None, create: bool = True,
+                 busy_timeout_s: float = 30.0):
+        self._shown = redact(url)
+        self._busy_timeout_s = busy_timeout_s
+        self._plant: str | None = None
+        if plant is not None and not (isinstance(plant, str) and plant.strip()):
+            raise StoreError(f"{self._shown}: the plant's name is empty; name the plant "
+                             "whose records to read or write")
+        self._conn = _connect(url, self._shown)
+        try:
+            with self._translate("opening"):
+                self._open(plant, create)
+        except BaseException:
+            self._conn.close()
+            raise
+
+    def _open(self, plant: str | None, create: bool) -> None:
+        c = self._conn
+        try:
+            found = c.execute("SELECT value FROM workpack.store_info "
+                              "WHERE key = 'schema_version'").fetchone()
+        except (errors.UndefinedTable, errors.InvalidSchemaName):
+            raise NotAStoreError(f"{self._shown}: no workpack records store in this database; "
+                                 "set one up once with: workpack store init URL (as its "
+                                 "owner)") from None
+        if found is None or not found[0].isdigit():
+            raise NotAStoreError(f"{self._shown}: the records store's schema version is "
+                                 "missing; it was changed outside workpack")
+        if int(found[0]) > SCHEMA_VERSION:
+            raise NotAStoreError(f"{self._shown}: set up by a newer workpack (store schema "
+                                 f"{found[0]}; this one reads schema {SCHEMA_VERSION}); "
+                                 "upgrade workpack")
+        c.execute("SELECT set_config('lock_timeout', %s, false)",
+                  (f"{int(self._busy_timeout_s * 1000)}ms",))
+        known = self.plants()
+        if plant is None:
+            if len(known) == 1:
+                self._plant = known[0]
+            return
+        if not create and plant not in known:
+            held = f"it holds {self._listed(known)}" if known else "it holds none yet"
+            raise StoreError(f"{self._shown}: no records of plant {plant!r} in this store "
+                             f"({held}){did_you_mean(plant, known)}")
+        self._plant = plant
+
+    @staticmethod
+    def _listed(known: Sequence[str]) -> str:
+        return ", ".join(known[:6]) + (f" and {len(known) - 6} more" if len(known) > 6 else "")
+
+    def _error(self, exc: psycopg.Error, doing: str) -> StoreError:
+        where, message = self._where(), _first_line(exc)
+        if isinstance(exc, errors.InsufficientPrivilege):
+            if "row-level security" in message:
+                return StoreError(f"{where}: this database role may not write the records of "
+                                  f"plant {self._plant!r}: a crew role writes only the plants "
+                                  "it was set up for")
+            return StoreError(f"{where}: this database role may not do that while {doing} "
+                              f"(PostgreSQL: {message}); an auditor role only reads")
+        if isinstance(exc, errors.LockNotAvailable):
+            return StoreError(f"{where}: the plant's chain stayed locked by another writer for "
+                              f"{self._busy_timeout_s:g} s while {doing}; try again")
+        if isinstance(exc, errors.RaiseException):
+            return StoreError(f"{where}: the database refused it: {message}")
+        if isinstance(exc, errors.UndefinedTable | errors.UndefinedFunction |
+                      errors.InvalidSchemaName | errors.UndefinedColumn):
+            return StoreError(f"{where}: the store's tables were changed outside workpack "
+                              f"(PostgreSQL: {message})")
+        if isinstance(exc, psycopg.OperationalError):
+            return StoreError(f"{where}: the connection to the PostgreSQL server failed while "
+                              f"{doing} ({message}); a record being written may or may not "
+                              "be stored: run verify")
+        return StoreError(f"{where}: PostgreSQL error while {doing}: {message}")
+
+    @contextlib.contextmanager
+    def _translate(self, doing: str) -> Iterator[None]:
+        """Database errors a person can cause become a StoreError naming the store.
+
+        IntegrityError is left alone: the lock and the checks before each write should make
+        it impossible, so seeing one is a bug.
+        """
+        try:
+            yield
+        except psycopg.IntegrityError:
+            raise
+        except psycopg.Error as exc:
+            raise self._error(exc, doing) from None
+
+    # --- which plant -------------------------------------------------------------------
+
+    def _where(self) -> str:
+        return self._shown if self._plant is None else f"{self._shown} (plant {self._plant})"
+
+    @property
+    def location(self) -> str:
+        return self._where()
+
+    @property
+    def plant(self) -> str:
+        if self._plant is None:
+            known = self.plants()
+            if not known:
+                raise StoreError(f"{self._shown}: the store holds no records yet; name the "
+                                 "plant to record for")
+            raise StoreError(f"{self._shown}: the store holds the records of {len(known)} "
+                             f"plants ({self._listed(known)}); name one")
+        return self._plant
+
+    def plants(self) -> list[str]:
+        with self._translate("reading"):
+            rows = self._conn.execute("SELECT plant FROM workpack.plants").fetchall()
+        return sorted(row[0] for row in rows)  # Python's order, whatever the collation
+
+    # --- writing -----------------------------------------------------------------------
+
+    def append(self, *, package_id: str, package_sha256: str, results: Mapping[str, Any],
+               recorded_by: str, recorded_at: dt.datetime, verdict: str,
+               supersedes: int | None = None) -> Record:
+        plant = self.plant
+        new = prepare(self.location, package_id=package_id, package_sha256=package_sha256,
+                      results=results, recorded_by=recorded_by, recorded_at=recorded_at,
+                      verdict=verdict, supersedes=supersedes)
+        c = self._conn
+        with self._translate("appending a record"), c.transaction():
+            c.execute("SELECT pg_advisory_xact_lock(%s::integer, hashtext(%s))",
+                      (LOCK_CLASS, plant))
+            genesis = self._genesis(plant)
+            if genesis is None:
+                genesis = plant_genesis(plant)
+                c.execute("INSERT INTO workpack.plants (plant, genesis) VALUES (%s, %s)",
+                          (plant, genesis))
+            prev = self._last_row(plant)
+            if new.supersedes is not None:
+                check_supersedes(self.location, new, self._row(plant, new.supersedes),
+                                 self._last_correction(plant, new.supersedes),
+                                 prev.sequence if prev is not None else 0)
+            row = next_row(prev, package_id=new.package_id,
+                           package_sha256=new.package_sha256, results_json=new.results_json,
+                           recorded_by=new.recorded_by, recorded_at=new.recorded_at,
+                           supersedes=new.supersedes, verdict=new.verdict, genesis=genesis)
+            c.execute(f"INSERT INTO workpack.records (plant, {_COLUMNS}) VALUES "
+                      "(%s, %s, %s, %s, %s, %s, %s, %s, %s, %s, %s, %s)",
+                      (plant, *row.as_tuple()))
+        return Record.from_row(row, self.location, plant)
+
+    def _genesis(self, plant: str) -> str | None:
+        found = self._conn.execute("SELECT genesis FROM workpack.plants WHERE plant = %s",
+                                   (plant,)).fetchone()
+        return found[0] if found is not None else None
+
+    def _last_row(self, plant: str) -> StoredRow | None:
+        found = self._conn.execute(f"SELECT {_COLUMNS} FROM workpack.records WHERE plant = %s "
+                                   "ORDER BY sequence DESC LIMIT 1", (plant,)).fetchone()
+        return StoredRow(*found) if found is not None else None
+
+    def _row(self, plant: str, sequence: int) -> StoredRow | None:
+        found = self._conn.execute(f"SELECT {_COLUMNS} FROM workpack.records "
+                                   "WHERE plant = %s AND sequence = %s",
+                                   (plant, sequence)).fetchone()
+        return StoredRow(*found) if found is not None else None
+
+    def _last_correction(self, plant: str, sequence: int) -> int | None:
+        """The end of the line of corrections to ``sequence``; None if it has none."""
+        end = None
+        while True:
+            found = self._conn.execute("SELECT sequence FROM workpack.records "
+                                       "WHERE plant = %s AND supersedes = %s",
+                                       (plant, sequence)).fetchone()
+            if found is None:
+                return end
+            end = sequence = found[0]
+
+    # --- reading -----------------------------------------------------------------------
+
+    def get(self, sequence: int) -> Record:
+        plant = self.plant
+        with self._translate("reading"):
+            row = self._row(plant, sequence)
+            if row is None:
+                last = self._last_row(plant)
+                held = (f"the store holds records 1 to {last.sequence}" if last else
+                        "the store is empty")
+                raise NoSuchRecordError(f"{self.location}: there is no record {sequence} "
+                                        f"({held})")
+        return Record.from_row(row, self.location, plant)
+
+    def records(self, *, package_id: str | None = None, since: dt.datetime | None = None,
+                until: dt.datetime | None = None) -> Iterator[Record]:
+        # Short batches keyed on the sequence number: no read stays open between the
+        # caller's steps.
+        plant = self.plant
+        where, params = ["plant = %s", "sequence > %s"], []
+        if package_id is not None:
+            where.append("package_id = %s")
+            params.append(package_id)
+        if since is not None:
+            where.append("recorded_at >= %s")
+            params.append(format_timestamp(since))
+        if until is not None:
+            where.append("recorded_at < %s")
+            params.append(format_timestamp(until))
+        query = (f"SELECT {_COLUMNS} FROM workpack.records WHERE {' AND '.join(where)} "
+                 f"ORDER BY sequence LIMIT {_BATCH}")
+        after = 0
+        while True:
+            with self._translate("reading"):
+                batch = self._conn.execute(query, (plant, after, *params)).fetchall()
+            for found in batch:
+                yield Record.from_row(StoredRow(*found), self.location, plant)
+            if len(batch) < _BATCH:
+                return
+            after = batch[-1][0]
+
+    _EFFECTIVE = ("FROM workpack.records AS r WHERE r.plant = %s AND NOT EXISTS (SELECT 1 "
+                  "FROM workpack.records AS c WHERE c.plant = r.plant AND "
+                  "c.supersedes = r.sequence)")
+
+    def latest(self, package_id: str) -> Record | None:
+        plant = self.plant
+        with self._translate("reading"):
+            found = self._conn.execute(
+                f"SELECT {_COLUMNS} {self._EFFECTIVE} AND r.package_id = %s "
+                "ORDER BY sequence DESC LIMIT 1", (plant, package_id)).fetchone()
+        return Record.from_row(StoredRow(*found), self.location, plant) if found else None
+
+    def latest_per_package(self) -> dict[str, Record]:
+        plant = self.plant
+        with self._translate("reading"):
+            rows = self._conn.execute(
+                f"SELECT DISTINCT ON (package_id) {_COLUMNS} {self._EFFECTIVE} "
+                "ORDER BY package_id, sequence DESC", (plant,)).fetchall()
+        latest = {found[1]: Record.from_row(StoredRow(*found), self.location, plant)
+                  for found in rows}
+        return dict(sorted(latest.items()))  # Python's order, whatever the collation
+
+    def head(self) -> ChainHead | None:
+        plant = self.plant
+        with self._translate("reading"):
+            last = self._last_row(plant)
+        return ChainHead(last.sequence, last.chain_sha256) if last is not None else None
+
+    # --- verifying ---------------------------------------------------------------------
+
+    def verify(self, *, anchor: ChainHead | None = None) -> Verification:
+        plant = self.plant
+        c = self._conn
+        with self._translate("verifying"), c.transaction():
+            # One snapshot: appends by others do not show half-way.
+            c.execute("SET TRANSACTION ISOLATION LEVEL REPEATABLE READ, READ ONLY")
+            guards_intact = self._guards_intact()
+            stored = self._genesis(plant)
+            expected = plant_genesis(plant)
+            # GENESIS marks a chain begun in an unnamed vessel store; anything else
+            # (the check constraint switched off) is held to the plant's own value.
+            genesis = stored if stored == GENESIS else expected
+            result = verify_rows(self.location, self._stored_rows(plant),
+                                 self._rescan(plant), anchor=anchor,
+                                 guards_intact=guards_intact, genesis=genesis)
+        return result
+
+    def _stored_rows(self, plant: str) -> Iterator[StoredRow]:
+        with self._conn.cursor(name="workpack_verify") as cursor:
+            cursor.itersize = 2000
+            cursor.execute(f"SELECT {_COLUMNS} FROM workpack.records WHERE plant = %s "
+                           "ORDER BY sequence", (plant,))
+            for found in cursor:
+                yield StoredRow(*found)
+
+    def _rescan(self, plant: str) -> Callable[[], Iterator[StoredRow]]:
+        def rescan() -> Iterator[StoredRow]:
+            rows = self._conn.execute(f"SELECT {_COLUMNS} FROM workpack.records "
+                                      "WHERE plant = %s ORDER BY sequence", (plant,)).fetchall()
+            return (StoredRow(*found) for found in rows)
+        return rescan
+
+    def _guards_intact(self) -> bool:
+        """Every trigger and guard function in place, enabled and as written."""
+        return _actual_guards(self._conn) == _expected_guards()
+
+    # --- lifetime ----------------------------------------------------------------------
+
+    def close(self) -> None:
+        self._conn.close()
+
+    def __enter__(self) -> Self:
+        return self
+
+    def __exit__(self, exc_type: type[BaseException] | None, exc: BaseException | None,
+                 tb: TracebackType | None) -> None:
+        self.close()
+
+    def __repr__(self) -> str:
+        return f"PostgresStore({self.location!r})"
+
+
+def _expected_guards() -> set[tuple[str, ...]]:
+    bodies = {name: body for name, _, _, _, body in _FUNCTIONS}
+    found: set[tuple[str, ...]] = {("function", name, body) for name, body in bodies.items()}
+    found |= {(table, trigger, "enabled", bodies[function])
+              for table, trigger, _, _, function in _TRIGGERS}
+    found |= {("row level security", table) for table in ("plants", "records", "crew_plants")}
+    return found
+
+
+def _actual_guards(conn: psycopg.Connection[Any]) -> set[tuple[str, ...]]:
+    found: set[tuple[str, ...]] = set()
+    for name, body in conn.execute(
+            "SELECT p.proname, p.prosrc FROM pg_proc AS p JOIN pg_namespace AS n "
+            "ON n.oid = p.pronamespace WHERE n.nspname = 'workpack'"):
+        found.add(("function", name, body))
+    for table, trigger, enabled, body in conn.execute(
+            "SELECT c.relname, t.tgname, t.tgenabled, p.prosrc FROM pg_trigger AS t "
+            "JOIN pg_class AS c ON c.oid = t.tgrelid "
+            "JOIN pg_namespace AS n ON n.oid = c.relnamespace "
+            "JOIN pg_proc AS p ON p.oid = t.tgfoid "
+            "WHERE n.nspname = 'workpack' AND NOT t.tgisinternal"):
+        found.add((table, trigger, "enabled" if enabled == "O" else f"state {enabled}", body))
+    for (table,) in conn.execute(
+            "SELECT c.relname FROM pg_class AS c JOIN pg_namespace AS n "
+            "ON n.oid = c.relnamespace WHERE n.nspname = 'workpack' AND c.relrowsecurity"):
+        found.add(("row level security", table))
+    return found
+
+
+# --- set-up ----------------------------------------------------------------------------
+
+
+def set_up(url: str, *, crew: Sequence[tuple[str, str]] = (),
+           auditors: Sequence[str] = ()) -> list[str]:
+    """Create or complete the store's schema, roles, grants and policies; idempotent.
+
+    ``crew`` pairs a login role with a plant it may append to (a role may have several);
+    ``auditors`` are login roles that read every plant. The roles must exist already
+    (passwords and authentication are the database administrator's). Returns one line
+    per thing done, for the person running it. Needs a superuser, or the database's owner
+    with CREATEROLE.
+    """
+    shown = redact(url)
+    conn = _connect(url, shown)
+    done: list[str] = []
+    try:
+        with conn.transaction():
+            conn.execute("SELECT pg_advisory_xact_lock(%s::integer, 0)", (LOCK_CLASS,))
+            encoding = conn.execute("SHOW server_encoding").fetchone()
+            if encoding is None or encoding[0].upper() not in ("UTF8", "UTF-8"):
+                raise StoreError(f"{shown}: the database's encoding is "
+                                 f"{encoding[0] if encoding else 'unknown'}, not UTF8; the "
+                                 "chain hashes text as UTF-8: create the database with "
+                                 "ENCODING 'UTF8'")
+            version = _existing_version(conn)
+            if version is not None and version > SCHEMA_VERSION:
+                raise NotAStoreError(f"{shown}: set up by a newer workpack (store schema "
+                                     f"{version}); upgrade workpack")
+            for statement in _schema_statements():
+                conn.execute(statement.encode())
+            conn.execute("INSERT INTO workpack.store_info (key, value) VALUES "
+                         "('schema_version', %s) ON CONFLICT (key) DO NOTHING",
+                         (str(SCHEMA_VERSION),))
+            done.append("schema workpack: tables, append-only triggers, row-level security "
+                        f"and grants in place (store schema {SCHEMA_VERSION})")
+            for role in auditors:
+                _grant_role(conn, shown, role, AUDITOR_ROLE)
+                done.append(f"role {role}: reads every plant's records, writes none")
+            for role, plant in crew:
+                if not plant.strip():
+                    raise StoreError(f"{shown}: --crew {role}: the plant's name is empty")
+                _grant_role(conn, shown, role, CREW_ROLE)
+                conn.execute("INSERT INTO workpack.crew_plants (member, plant) VALUES (%s, %s) "
+                             "ON CONFLICT DO NOTHING", (role, plant))
+                done.append(f"role {role}: reads and appends the records of plant {plant}")
+    except psycopg.Error as exc:
+        raise StoreError(f"{shown}: setting up the records store failed: {_first_line(exc)} "
+                         "(it needs a superuser, or the database's owner with CREATEROLE); "
+                         "nothing was changed") from None
+    finally:
+        conn.close()
+    return done
+
+
+def _existing_version(conn: psycopg.Connection[Any]) -> int | None:
+    found = conn.execute("SELECT to_regclass('workpack.store_info')").fetchone()
+    if found is None or found[0] is None:
+        return None
+    row = conn.execute("SELECT value FROM workpack.store_info "
+                       "WHERE key = 'schema_version'").fetchone()
+    return int(row[0]) if row is not None and row[0].isdigit() else None
+
+
+def _grant_role(conn: psycopg.Connection[Any], shown: str, role: str, group: str) -> None:
+    found = conn.execute("SELECT rolsuper OR rolbypassrls FROM pg_roles WHERE rolname = %s",
+                         (role,)).fetchone()
+    if found is None:
+        raise StoreError(f"{shown}: there is no database role {role!r}; create it first "
+                         f"(CREATE ROLE {role} LOGIN …, with the authentication your site "
+                         "uses), then run this again")
+    if found[0]:
+        raise StoreError(f"{shown}: role {role!r} is a superuser or bypasses row-level "
+                         "security, so no policy would bind it; give the crew and auditors "
+                         "roles of their own")
+    conn.execute(sql.SQL("GRANT {} TO {}").format(sql.Identifier(group), sql.Identifier(role)))
