@@ -25,3 +25,7 @@ def standards() -> dict:
     from workpack.electrical import available_code_sets, load_code_set
 
     return {name: load_code_set(name) for name in available_code_sets()}
+
+
+# A real PostgreSQL server for the records store tests, started once when first needed.
+from pgfixtures import pg_fresh_url, pg_server, pg_store_url, pg_template  # noqa: E402, F401

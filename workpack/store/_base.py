@@ -8,11 +8,12 @@ from __future__ import annotations
 
 import datetime as dt
 import json
+import re
 from collections.abc import Iterator, Mapping
 from dataclasses import dataclass
 from types import TracebackType
 from typing import Any, Protocol, Self, runtime_checkable
-from urllib.parse import urlsplit, urlunsplit
+from urllib.parse import urlsplit
 
 from workpack.errors import WorkpackError
 from workpack.store._chain import (
@@ -52,18 +53,14 @@ class NoSuchRecordError(StoreError):
 def redact(url: str) -> str:
     """``url`` with any password (``user:pw@`` or ``?password=``) replaced by ``***``."""
     try:
-        parts = urlsplit(url)
-        if parts.password is not None:
-            netloc = parts.netloc.rsplit("@", 1)
-            user = netloc[0].split(":", 1)[0]
-            parts = parts._replace(netloc=f"{user}:***@{netloc[1]}")
-        if "password" in parts.query.lower():
-            query = "&".join("password=***" if item.lower().startswith("password=") else item
-                             for item in parts.query.split("&"))
-            parts = parts._replace(query=query)
-        return urlunsplit(parts)
+        netloc, password = urlsplit(url).netloc, urlsplit(url).password
     except ValueError:
         return "<unreadable store URL>"
+    shown = url
+    if password is not None:
+        user, _, host = netloc.rpartition("@")
+        shown = shown.replace(netloc, f"{user.split(':', 1)[0]}:***@{host}", 1)
+    return re.sub(r"(?i)([?&]password=)[^&#]*", r"\1***", shown)
 
 
 # --- the record ------------------------------------------------------------------------
