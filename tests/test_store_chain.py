@@ -17,7 +17,14 @@ from imports import forbidden_in
 from samplepackage import sample_package
 
 import workpack.store as store_api
-from workpack.store import GENESIS, ChainBreak, canonical_json, chain_hash, package_sha256
+from workpack.store import (
+    GENESIS,
+    ChainBreak,
+    canonical_json,
+    chain_hash,
+    package_sha256,
+    plant_genesis,
+)
 from workpack.store._chain import (
     NotStorableError,
     StoredRow,
@@ -74,6 +81,33 @@ def test_chain_hash_is_frozen_for_version_1() -> None:
 def test_genesis_is_sixty_four_zeros() -> None:
     """The first record chains from a fixed, documented value."""
     assert GENESIS == "0" * 64
+
+
+def test_plant_genesis_follows_the_documented_encoding_and_is_frozen() -> None:
+    """Re-implemented from the docstring, plus a known answer; an unnamed plant: GENESIS."""
+    for plant in ("MV Skerry Lantern", "Ω-7"):
+        data = plant.encode("utf-8")
+        assert plant_genesis(plant) == hashlib.sha256(
+            b"workpack-plant-genesis-v1\x00" + struct.pack(">I", len(data)) + data).hexdigest()
+    assert plant_genesis("MV Skerry Lantern") == \
+        "44e65a1f4f5fec103f4b7d584b9c9e9a2c41b702eac99c84422e144330ffd040"
+    assert plant_genesis("") == GENESIS
+    assert plant_genesis("MV A") != plant_genesis("MV B")
+
+
+def test_a_chain_begun_for_one_plant_fails_as_another_plants() -> None:
+    """Rows chained from plant A's genesis break at record 1 when checked as plant B's."""
+    rows: list[StoredRow] = []
+    for i in range(1, 4):
+        rows.append(next_row(rows[-1] if rows else None, package_id="WP-1",
+                             package_sha256="a" * 64, results_json="{}", recorded_by="t",
+                             recorded_at=f"2026-12-02T08:0{i}:00.000000Z", supersedes=None,
+                             verdict="pass", genesis=plant_genesis("MV A")))
+    assert rows[0].prev_sha256 == plant_genesis("MV A")
+    assert _verify(rows, genesis=plant_genesis("MV A")) is None
+    found = _verify(rows, genesis=plant_genesis("MV B"))
+    assert found is not None and (found.kind, found.sequence) == ("altered", 1)
+    assert "does not chain from its plant's genesis value" in found.detail
 
 
 def test_length_prefixes_keep_adjacent_fields_apart() -> None:

@@ -1,9 +1,11 @@
 """Concurrent writers and killed writers: nothing committed is lost, nothing is corrupted.
 
 Real processes, not threads: each writer is a fresh Python with its own connection, the
-way two technicians' laptops or two shell commands would share a store file. Each
-writer prints a record's number only after ``append`` has returned (after COMMIT), so
-a printed number is an acknowledgement. Data is invented.
+way two technicians' laptops or two shell commands would share a store file, or several
+vessels and supervisors an office database. Each writer prints a record's number only
+after ``append`` has returned (after COMMIT), so a printed number is an acknowledgement.
+The tests through the interface run on both backends (a temporary SQLite file, a
+database of their own on the suite's PostgreSQL server). Data is invented.
 """
 
 from __future__ import annotations
@@ -16,17 +18,19 @@ import subprocess
 import sys
 from pathlib import Path
 
-from workpack.store import SQLiteStore
+import pytest
+
+from workpack.store import SQLiteStore, open_store
 
 WRITER = r"""
 import datetime as dt
 import sys
 
-from workpack.store import SQLiteStore
+from workpack.store import open_store
 
-path, name, count = sys.argv[1], sys.argv[2], int(sys.argv[3])
+location, plant, name, count = sys.argv[1], sys.argv[2], sys.argv[3], int(sys.argv[4])
 t0 = dt.datetime(2026, 12, 2, 8, 0, tzinfo=dt.UTC)
-with SQLiteStore(path) as store:
+with open_store(location, plant=plant) as store:
     print("ready", flush=True)
     if sys.stdin.readline() != "go\n":
         sys.exit(3)
@@ -75,28 +79,48 @@ time.sleep(60)
 """
 
 
-def start_writer(path: Path, name: str, count: int) -> subprocess.Popen[str]:
-    proc = subprocess.Popen([sys.executable, "-c", WRITER, str(path), name, str(count)],
+PLANT = "MV Skerry Lantern"
+
+
+@pytest.fixture(params=["sqlite", "postgresql"])
+def location(request: pytest.FixtureRequest, tmp_path: Path) -> str:
+    """An empty records store (for PLANT) on each backend."""
+    if request.param == "sqlite":
+        path = tmp_path / "records.sqlite"
+        SQLiteStore(path, plant=PLANT).close()
+        return str(path)
+    url: str = request.getfixturevalue("pg_fresh_url")
+    return url
+
+
+def start_writer(location: str | Path, name: str, count: int,
+                 plant: str = PLANT) -> subprocess.Popen[str]:
+    proc = subprocess.Popen([sys.executable, "-c", WRITER, str(location), plant, name,
+                             str(count)],
                             stdin=subprocess.PIPE, stdout=subprocess.PIPE, text=True)
     assert proc.stdout is not None and proc.stdout.readline() == "ready\n"
     return proc
 
 
-def test_two_processes_writing_500_each_give_1000_chained_records(tmp_path: Path) -> None:
-    """Writers serialize on the write lock: every record lands once, the chain holds."""
-    path = tmp_path / "records.sqlite"
-    SQLiteStore(path).close()
-    writers = {name: start_writer(path, name, 500) for name in ("port", "starboard")}
-    for proc in writers.values():  # both start together
+def run_together(writers: dict[str, subprocess.Popen[str]]) -> dict[str, list[int]]:
+    """Start every writer at once; the record numbers each acknowledged, in its order."""
+    for proc in writers.values():
         assert proc.stdin is not None
         proc.stdin.write("go\n")
         proc.stdin.flush()
     acknowledged: dict[str, list[int]] = {}
     for name, proc in writers.items():
-        out, _ = proc.communicate(timeout=120)
+        out, _ = proc.communicate(timeout=300)
         assert proc.returncode == 0
         acknowledged[name] = [int(line) for line in out.split()]
-    with SQLiteStore(path, create=False) as store:
+    return acknowledged
+
+
+def test_two_processes_writing_500_each_give_1000_chained_records(location: str) -> None:
+    """Writers serialize on the write lock: every record lands once, the chain holds."""
+    acknowledged = run_together({name: start_writer(location, name, 500)
+                                 for name in ("port", "starboard")})
+    with open_store(location, plant=PLANT, create=False) as store:
         result = store.verify()
         assert result.ok and result.count == 1000, result.message
         records = list(store.records())
@@ -126,9 +150,29 @@ def test_three_processes_creating_one_new_store_agree(tmp_path: Path) -> None:
     assert result.ok and result.count == 60, result.message
 
 
-def kill_mid_burst(path: Path, after: int) -> tuple[list[int], int]:
+def test_eight_writers_on_four_plants_into_one_postgresql_store(pg_fresh_url: str) -> None:
+    """Two writers per plant, all at once: every plant's chain whole, nothing lost, and each
+    plant's numbers exactly the ones its writers were given."""
+    plants = ["MV Aster", "MV Birch", "Quarry Cedar", "Plant Dune"]
+    writers = {f"{plant}/{side}": start_writer(pg_fresh_url, f"{plant}/{side}", 150, plant)
+               for plant in plants for side in ("day", "night")}
+    acknowledged = run_together(writers)
+    for plant in plants:
+        with open_store(pg_fresh_url, plant=plant, create=False) as store:
+            result = store.verify()
+            assert result.ok and result.count == 300 and result.guards_intact, result.message
+            records = list(store.records())
+        mine = acknowledged[f"{plant}/day"] + acknowledged[f"{plant}/night"]
+        assert sorted(mine) == [r.sequence for r in records] == list(range(1, 301))
+        for side in ("day", "night"):
+            own = [r for r in records if r.recorded_by == f"writer {plant}/{side}"]
+            assert [r.sequence for r in own] == acknowledged[f"{plant}/{side}"]
+            assert [r.results["i"] for r in own] == list(range(150))
+
+
+def kill_mid_burst(location: str | Path, after: int) -> tuple[list[int], int]:
     """Start a long burst, kill -9 it after ``after`` acknowledgements; the acked numbers."""
-    proc = start_writer(path, "burst", 1_000_000)
+    proc = start_writer(location, "burst", 1_000_000)
     assert proc.stdin is not None and proc.stdout is not None
     proc.stdin.write("go\n")
     proc.stdin.flush()
@@ -145,17 +189,15 @@ def kill_mid_burst(path: Path, after: int) -> tuple[list[int], int]:
     return acknowledged, proc.wait(timeout=30)
 
 
-def test_a_writer_killed_mid_burst_loses_no_acknowledged_record(tmp_path: Path) -> None:
+def test_a_writer_killed_mid_burst_loses_no_acknowledged_record(location: str) -> None:
     """kill -9 three times during bursts: all acknowledged records stay, the chain verifies."""
-    path = tmp_path / "records.sqlite"
-    SQLiteStore(path).close()
     rnd = random.Random(20261202)
     all_acknowledged: list[int] = []
     for _ in range(3):
-        acknowledged, status = kill_mid_burst(path, rnd.randint(150, 400))
+        acknowledged, status = kill_mid_burst(location, rnd.randint(150, 400))
         assert status == -signal.SIGKILL
         all_acknowledged += acknowledged
-        with SQLiteStore(path, create=False) as store:
+        with open_store(location, plant=PLANT, create=False) as store:
             result = store.verify()
             assert result.ok, result.message
             stored = {r.sequence: r for r in store.records()}

@@ -376,3 +376,23 @@ def test_a_chain_relabelled_as_another_plant_breaks_at_record_one(pg_fresh_url: 
     assert (result.first_break.kind, result.first_break.sequence) == ("altered", 1)
     assert "does not chain from its plant's genesis value" in result.message
     assert _verify(pg_fresh_url).count == 0  # and MV Aster's chain is gone
+
+
+def test_writers_wait_for_their_own_plant_only(pg_fresh_url: str) -> None:
+    """With MV Aster's chain lock held elsewhere, MV Birch appends at once and MV Aster
+    gives up after its timeout with a one-line reason."""
+    with open_store(pg_fresh_url, plant="MV Aster") as aster:
+        add(aster, 0)
+    with psycopg.connect(pg_fresh_url) as holder:  # a transaction left open
+        holder.execute("SELECT pg_advisory_xact_lock(%s::integer, hashtext(%s))",
+                       (0x77706B72, "MV Aster"))
+        with open_store(pg_fresh_url, plant="MV Birch", busy_timeout_s=0.3) as birch:
+            assert add(birch, 1).sequence == 1
+        with open_store(pg_fresh_url, plant="MV Aster", busy_timeout_s=0.3) as aster, \
+                pytest.raises(StoreError, match=r"\(plant MV Aster\): the plant's chain stayed "
+                                                "locked by another writer for 0.3 s while "
+                                                "appending a record; try again"):
+            add(aster, 2)
+        holder.rollback()
+    with open_store(pg_fresh_url, plant="MV Aster") as aster:
+        assert add(aster, 3).sequence == 2
