@@ -10,13 +10,17 @@ from __future__ import annotations
 
 import datetime as dt
 import hashlib
+import json
+from pathlib import Path
 from typing import Any
 
 import psycopg
 import pytest
 from pgserver import PgServer
+from test_record import FINDINGS, VESSEL, filled_sheet, windlass
 from test_store_chain import reference_chain_hash
 
+from workpack.cli import main
 from workpack.store import (
     GENESIS,
     NotAStoreError,
@@ -396,3 +400,70 @@ def test_writers_wait_for_their_own_plant_only(pg_fresh_url: str) -> None:
         holder.rollback()
     with open_store(pg_fresh_url, plant="MV Aster") as aster:
         assert add(aster, 3).sequence == 2
+
+
+# --- the command line ------------------------------------------------------------------
+
+
+@pytest.fixture(scope="module")
+def packages(tmp_path_factory: pytest.TempPathFactory) -> Path:
+    """The demo vessel's packages, issued as test_record.py issues them."""
+    out = tmp_path_factory.mktemp("issued")
+    assert main(["plan", VESSEL, FINDINGS, "--out", str(out), "--crew-hours", "40"]) == 0
+    return out
+
+
+def test_the_commands_work_with_an_office_store(pg_server: PgServer, pg_fresh_url: str,
+                                                packages: Path, tmp_path: Path,
+                                                capsys: pytest.CaptureFixture[str]) -> None:
+    """store init, then record as the vessel's crew role, verify / audit / closeout / plan
+    as the office auditor, each plant's chain chosen with --plant (a name or a plant file)."""
+    for role in ("crew_skerry", "office_auditor"):
+        pg_server.create_login_role(role)
+    assert main(["store", "init", pg_fresh_url, "--crew", "crew_skerry=MV Skerry Lantern",
+                 "--auditor", "office_auditor"]) == 0
+    assert capsys.readouterr().out.splitlines()[1:] == [
+        "role office_auditor: reads every plant's records, writes none",
+        "role crew_skerry: reads and appends the records of plant MV Skerry Lantern"]
+    crew, auditor = as_role(pg_fresh_url, "crew_skerry"), as_role(pg_fresh_url,
+                                                                  "office_auditor")
+    package = windlass(packages)
+    assert main(["record", str(package), str(filled_sheet(package, tmp_path)), "--db", crew,
+                 "--at", "2026-12-02T16:00+00:00"]) == 0
+    assert capsys.readouterr().out.endswith(
+        f"recorded as record 1 in {crew} (plant MV Skerry Lantern)\n")
+    with open_store(pg_fresh_url, plant="Quarry Cedar") as quarry:
+        add(quarry, 0)
+        add(quarry, 1)
+
+    assert main(["verify", "--db", auditor]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    assert [line.split(": ")[1].rsplit(":", 1)[0] for line in lines] == [
+        "OK, 1 record, chain intact to 1", "OK, 2 records, chain intact to 2"]
+    assert lines[0].startswith(f"{auditor} (plant MV Skerry Lantern): OK")
+    for chosen in ("MV Skerry Lantern", VESSEL):
+        assert main(["verify", "--db", auditor, "--plant", chosen]) == 0
+        assert capsys.readouterr().out.startswith(f"{auditor} (plant MV Skerry Lantern): OK, "
+                                                  "1 record")
+
+    out = tmp_path / "audit"
+    assert main(["audit", "--db", auditor, "--plant", "MV Skerry Lantern", "--packages",
+                 str(packages), "--as-of", "2026-12-03", "--out", str(out)]) == 0
+    assert json.loads(package.read_text(encoding="utf-8"))["id"] in \
+        (out / "audit.html").read_text(encoding="utf-8")
+    assert main(["closeout", str(package), "--db", auditor, "--out",
+                 str(tmp_path / "closeout.pdf")]) == 0
+    assert main(["plan", VESSEL, FINDINGS, "--out", str(tmp_path / "next"), "--db", auditor,
+                 "--crew-hours", "40"]) == 0
+    capsys.readouterr()
+
+    assert main(["audit", "--db", auditor, "--packages", str(packages), "--out",
+                 str(out)]) == 2
+    assert capsys.readouterr().err == (f"{auditor}: the store holds the records of 2 plants "
+                                       "(MV Skerry Lantern, Quarry Cedar); name one\n")
+    assert main(["record", str(package), str(filled_sheet(package, tmp_path)), "--db",
+                 auditor, "--supersedes", "1"]) == 2
+    assert "this database role may not do that" in capsys.readouterr().err
+    assert main(["store", "init", pg_fresh_url, "--crew", "ghost=MV Skerry Lantern"]) == 2
+    err = capsys.readouterr().err
+    assert "there is no database role 'ghost'" in err and err.count("\n") == 1

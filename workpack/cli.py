@@ -250,8 +250,12 @@ def _cmd_plan(args: argparse.Namespace) -> int:
 def _history(args: argparse.Namespace, plant: Any) -> Any:
     """What the records store says, if there is one (``--db``, or beside the plant)."""
     from workpack.history import History, history_from_records
-    from workpack.store import open_store
+    from workpack.store import is_server_url, open_store
 
+    if args.db and is_server_url(args.db):  # the plant's chain in an office store
+        with open_store(args.db, plant=plant.plant.name, create=False) as store:
+            return history_from_records(store.records(),
+                                        plant.plant.code_set.rotating_machines)
     db = Path(args.db) if args.db else Path(args.plant).with_name(
         Path(args.plant).stem + ".records.sqlite")
     if not db.exists():
@@ -304,13 +308,27 @@ def _cmd_results_template(args: argparse.Namespace) -> int:
     return 0
 
 
-def _default_db(args: argparse.Namespace) -> Path:
+def _default_db(args: argparse.Namespace) -> str:
+    """The store's path or URL (a URL must stay text: a Path would fold its slashes)."""
     if args.db:
-        return Path(args.db)
+        return str(args.db)
     if getattr(args, "plant", None):
         plant = Path(args.plant)
-        return plant.with_name(plant.stem + ".records.sqlite")
+        return str(plant.with_name(plant.stem + ".records.sqlite"))
     raise UsageError("--db: name the records store (or --plant, to use the one beside it)")
+
+
+def _store_plant(args: argparse.Namespace) -> str | None:
+    """Which plant's chain of a PostgreSQL store: --plant as a name, or its plant file's."""
+    from workpack.store import is_server_url
+
+    if not (args.db and is_server_url(args.db) and getattr(args, "plant", None)):
+        return None  # an SQLite file holds one plant
+    if Path(args.plant).is_file():
+        from workpack.loading import load_plant
+
+        return str(load_plant(Path(args.plant))[0].plant.name)
+    return str(args.plant)
 
 
 def _cmd_record(args: argparse.Namespace) -> int:
@@ -336,7 +354,7 @@ def _cmd_record(args: argparse.Namespace) -> int:
     if at.tzinfo is None:
         at = at.replace(tzinfo=dt.UTC)
     recorded_by = args.by or results.completed_by or "unknown"
-    with open_store(_default_db(args)) as store:
+    with open_store(_default_db(args), plant=package.plant) as store:
         latest = store.latest(package.id)
         if latest is not None and args.supersedes is None:
             raise UsageError(f"{package.id} is already recorded (record {latest.sequence}); "
@@ -346,8 +364,9 @@ def _cmd_record(args: argparse.Namespace) -> int:
                               results=record_payload(results, evaluation),
                               recorded_by=recorded_by, recorded_at=at,
                               verdict=evaluation.verdict, supersedes=args.supersedes)
+        where = store.location  # a URL's password left out
     sys.stdout.write(evaluation_text(evaluation)
-                     + f"recorded as record {record.sequence} in {_default_db(args)}\n")
+                     + f"recorded as record {record.sequence} in {where}\n")
     if args.followups and evaluation.followups:
         import yaml
 
@@ -361,12 +380,24 @@ def _cmd_record(args: argparse.Namespace) -> int:
 
 
 def _cmd_verify(args: argparse.Namespace) -> int:
-    from workpack.store import open_store
+    from workpack.store import is_server_url, open_store
 
-    with open_store(_default_db(args), create=False) as store:
-        result = store.verify()
-    sys.stdout.write(result.message + "\n")
-    return 0 if result.ok else 1
+    db, plant = _default_db(args), _store_plant(args)
+    plants: list[str | None] = [plant]
+    if plant is None and is_server_url(db):  # no plant named: every chain in the store
+        with open_store(db, create=False) as store:
+            plants = list(store.plants())
+            if not plants:
+                sys.stdout.write(f"{store.location}: OK, empty store (no plant's records "
+                                 "yet)\n")
+                return 0
+    failed = 0
+    for name in plants:
+        with open_store(db, plant=name, create=False) as store:
+            result = store.verify()
+        sys.stdout.write(result.message + "\n")
+        failed += not result.ok
+    return 0 if not failed else 1
 
 
 def _read_packages(folders: Sequence[str]) -> dict[str, Any]:
@@ -406,7 +437,7 @@ def _cmd_audit(args: argparse.Namespace) -> int:
     since, until = _date_option("--from", args.since), _date_option("--to", args.until)
     as_of = _date_option("--as-of", args.as_of) or until or dt.date.today()
     packages = _read_packages(args.packages)
-    with open_store(_default_db(args), create=False) as store:
+    with open_store(_default_db(args), plant=_store_plant(args), create=False) as store:
         records = list(store.records())
         verification = store.verify()
     report = build_audit(records, packages, verification, since=since, until=until,
@@ -428,7 +459,8 @@ def _cmd_closeout(args: argparse.Namespace) -> int:
     from workpack.store import open_store
 
     package, digest = load_package(Path(args.package))
-    with open_store(_default_db(args), create=False) as store:
+    with open_store(_default_db(args), plant=_store_plant(args) or package.plant,
+                    create=False) as store:
         record = store.get(args.record) if args.record else store.latest(package.id)
     if record is None:
         raise UsageError(f"no record of {package.id} in {_default_db(args)}")
@@ -461,10 +493,30 @@ def _cmd_schema(args: argparse.Namespace) -> int:
     return 0
 
 
+def _cmd_store_init(args: argparse.Namespace) -> int:
+    from workpack.store import set_up_store
+
+    for line in set_up_store(args.location, plant=args.plant, crew=args.crew or (),
+                             auditors=args.auditor or ()):
+        sys.stdout.write(line + "\n")
+    return 0
+
+
+def _role_plant(text: str) -> tuple[str, str]:
+    role, sep, plant = text.partition("=")
+    if not sep or not role.strip() or not plant.strip():
+        raise argparse.ArgumentTypeError(f"{text!r}: expected ROLE=PLANT, e.g. "
+                                         "crew_skerry='MV Skerry Lantern'")
+    return role.strip(), plant.strip()
+
+
 def _store_options(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("--db", help="records store (SQLite file)")
+    parser.add_argument("--db", help="records store: an SQLite file, or a postgresql:// URL "
+                                     "of an office store")
     parser.add_argument("--plant", help="plant file: the store beside it "
-                                        "(PLANT.records.sqlite) is used")
+                                        "(PLANT.records.sqlite) is used; with a postgresql:// "
+                                        "--db, the plant (its name, or its file) whose chain "
+                                        "to use")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -594,6 +646,22 @@ def build_parser() -> argparse.ArgumentParser:
     closeout.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
     closeout.add_argument("--out", required=True, metavar="FILE", help="PDF to write")
     closeout.set_defaults(run=_cmd_closeout)
+
+    store = commands.add_parser("store", help="set up a records store (once, by its owner)")
+    store_actions = store.add_subparsers(dest="store_action", required=True, metavar="ACTION")
+    init = store_actions.add_parser(
+        "init", help="create or complete a store: tables, append-only triggers, roles, grants "
+                     "and row-level security (PostgreSQL); safe to run again")
+    init.add_argument("location", metavar="DB",
+                      help="postgresql://… URL, connecting as a superuser or the database's "
+                           "owner with CREATEROLE (or an SQLite file to create)")
+    init.add_argument("--crew", action="append", type=_role_plant, metavar="ROLE=PLANT",
+                      help="an existing login role that may read and append one plant's "
+                           "records; repeat as needed")
+    init.add_argument("--auditor", action="append", metavar="ROLE",
+                      help="an existing login role that reads every plant and writes nothing")
+    init.add_argument("--plant", help="SQLite only: the plant whose records the file holds")
+    init.set_defaults(run=_cmd_store_init)
 
     schema = commands.add_parser("schema", help="print the JSON Schema of an input file")
     schema.add_argument("what", choices=["plant", "findings", "results"], help="which file")
