@@ -138,9 +138,31 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
             queue.append(reached)
 
     region = {node for node, _ in parent if node not in frontier}
+    normal_path = {element_of(node) for path in topology.normal_supply_paths(item_id)
+                   for node in path}
+    # A device is needed when a source reaches its far side without crossing the
+    # item's side or another frontier device: closing it alone would put that
+    # source onto the item. Dropping a device whose far side is dead never makes
+    # another device's far side live (it only joins dead parts together), so each
+    # is checked against the whole frontier, and what it keeps off stays the same.
+    # On the normal supply the first source found is enough; the rest of what such
+    # a device keeps off is the normal supply through it.
     blocked = region | set(frontier)
-    chosen = sorted(d for d, state in frontier.items()
-                    if _far_side(topology, state, blocked - {d}, first_only=True).sources)
+    normal_paths = topology.normal_supply_paths(item_id)
+
+    def far_side(device: str, state: State) -> _FarSide:
+        if device in normal_path:
+            # The normal supply itself, when its way up to the device is clear, shows
+            # the device needed without a walk.
+            for path in normal_paths:
+                if device in path:
+                    upstream = path[:path.index(device)]
+                    if not blocked.intersection(upstream):
+                        return _FarSide(sources=(path[0],), path=(device, *reversed(upstream)))
+        return _far_side(topology, state, blocked - {device}, first_only=device in normal_path)
+
+    walked = {d: far_side(d, state) for d, state in frontier.items()}
+    chosen = sorted(d for d, far in walked.items() if far.sources)
 
     def path_to(state: State) -> tuple[str, ...]:
         chain: list[str] = []
@@ -150,10 +172,13 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
             step = parent[step]
         return tuple(dict.fromkeys(reversed(chain)))
 
-    normal_path = {element_of(node) for path in topology.normal_supply_paths(item_id)
-                   for node in path}
     blocked = region | set(chosen)
-    beyond = {d: _far_side(topology, frontier[d], blocked - {d}) for d in chosen}
+    normal_sources: dict[str, set[str]] = {}
+    for path in normal_paths:
+        for node in path:
+            normal_sources.setdefault(element_of(node), set()).add(path[0])
+    beyond = {d: _FarSide(sources=tuple(sorted(normal_sources[d])), path=None)
+              if d in normal_path else walked[d] for d in chosen}
     automatic = {d for d in chosen if d not in normal_path and (
         any(_source(topology, s).comes_on_by_itself for s in beyond[d].sources)
         or _leaves_by_changeover(topology, (*path_to(frontier[d]), d)))}
@@ -254,15 +279,13 @@ def _far_side(topology: Topology, start: State, blocked: set[str],
               stop_at_boards: bool = False, first_only: bool = False) -> _FarSide:
     """Sources that reach the device at ``start`` without crossing ``blocked``.
 
-    A device is needed when a source reaches its far side without crossing the
-    item's side or another frontier device: closing it alone would put that
-    source onto the item. Dropping a device whose far side is dead never makes
-    another device's far side live (it only joins dead parts together), so each
-    is checked against the whole frontier. With ``stop_at_boards`` the walk does
-    not pass a bus or a normally open device: it finds only the sources right
-    behind the device. With ``first_only`` it stops at the first source.
+    With ``stop_at_boards`` the walk does not pass a bus or a normally open
+    device: it finds only the sources right behind the device. With
+    ``first_only`` it stops at the first source.
     """
-    view = topology.closable_view(POWER)
+    adjacency = topology.closable_adjacency
+    switches = topology.one_input_at_a_time
+    sources = topology.source_nodes
     device = start[0]
     parent: dict[State, State | None] = {start: None}
     queue = deque([start])
@@ -271,19 +294,30 @@ def _far_side(topology: Topology, start: State, blocked: set[str],
     while queue:
         state = queue.popleft()
         node = state[0]
-        if node in topology.source_nodes and node != device:
+        if node in sources and node != device:
             found.append(node)
             nearest = nearest or state
             if first_only:
                 break
             continue
-        element = topology.elements[element_of(node)]
         if stop_at_boards and node != device and (
-            isinstance(element, Bus) or node in topology.normally_open
+            node in topology.normally_open
+            or isinstance(topology.elements[element_of(node)], Bus)
         ):
             continue
-        for reached in topology.onward(*state, view.neighbors(node)):
-            if reached not in parent and reached[0] not in blocked:
+        # The step of Topology.onward, written out: this loop is the planner's hot spot
+        # (millions of steps a day on a large plant); the property tests in
+        # tests/test_isolation.py hold both walks to an independent model.
+        passed = state[1]
+        blocked_inputs = switches.get(node) if passed == node else None
+        for neighbour in adjacency[node]:
+            if neighbour in blocked or neighbour == passed or (
+                blocked_inputs and neighbour in blocked_inputs
+            ):
+                continue
+            inputs = switches.get(neighbour)
+            reached = (neighbour, neighbour if inputs and node in inputs else passed)
+            if reached not in parent:
                 parent[reached] = state
                 queue.append(reached)
     path: tuple[str, ...] | None = None

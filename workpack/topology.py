@@ -187,21 +187,31 @@ class Topology:
                 for device in self.plant.devices
                 if device.kind is DeviceKind.transfer_switch and not device.joins_inputs}
 
+    @cached_property
+    def closable_adjacency(self) -> dict[str, tuple[str, ...]]:
+        """Node → its neighbours in ``closable_view(POWER)``, in the graph's sorted build
+        order (plain tuples: the walks of the planner read them millions of times)."""
+        view = self.closable_view(POWER)
+        return {node: tuple(view.adj[node]) for node in view}
+
     def onward(self, node: str, passed: str | None,
-               neighbours: Iterable[str]) -> Iterator[tuple[str, str | None]]:
+               neighbours: Iterable[str]) -> list[tuple[str, str | None]]:
         """One step of a walk that respects open-transition changeovers.
 
         A walk state is (node, passed): ``passed`` is the open-transition changeover
         the walk last entered from one of its inputs. From that changeover the walk
         goes on to its load side only, and never enters it again (which would join
-        its inputs through its own load side). Yields the states one step on.
+        its inputs through its own load side). Returns the states one step on.
         """
-        blocked_inputs = self.one_input_at_a_time.get(node) if passed == node else None
+        switches = self.one_input_at_a_time
+        blocked_inputs = switches.get(node) if passed == node else None
+        found = []
         for neighbour in neighbours:
             if neighbour == passed or (blocked_inputs and neighbour in blocked_inputs):
                 continue
-            inputs = self.one_input_at_a_time.get(neighbour)
-            yield neighbour, (neighbour if inputs and node in inputs else passed)
+            inputs = switches.get(neighbour)
+            found.append((neighbour, neighbour if inputs and node in inputs else passed))
+        return found
 
     def _crosses_open_transition(self, path: Iterable[str]) -> bool:
         """A simple path that goes from one input of an open-transition changeover to another."""
@@ -405,14 +415,14 @@ class Topology:
         An auxiliary supply enters only the item that owns it: the heater of a
         motor does not connect the motor's winding to the heater's panel.
         """
-        view = self.closable_view(POWER)
+        adjacency = self.closable_adjacency
         starts = set(self.work_nodes(item_id))
         feeds = self.auxiliary_feeds(item_id)
 
         def neighbours(node: str) -> list[str]:
             # Adjacency keeps the sorted order the graph was built in: deterministic
             # without sorting on every step of a walk.
-            found = list(view.neighbors(node))
+            found = list(adjacency[node])
             if node in starts:
                 found += [f for f in feeds if f not in found]
             return found
