@@ -170,7 +170,7 @@ def check_blocked_first(topology: Topology, plan: IsolationPlan) -> None:
                 assert start_blocks[source_id] < removals[0]
     for source_id in start_blocks:
         source = topology.elements.get(source_id)
-        if isinstance(source, Source) and source.start_block is None:
+        if isinstance(source, Source) and source.start_block is None and source_id != plan.item:
             # no block named: the plan says so, and still makes it a step
             assert any(f"{source_id} (" in h.text and "no start block" in h.text
                        for h in plan.hazards)
@@ -541,3 +541,24 @@ devices:
 """)
     [point] = plan_isolation(topology, "MSB").verify
     assert point.wires == 4
+
+
+@pytest.mark.parametrize(("item", "warned"), [("MSB", True), ("SSG-1", False),
+                                              ("LP-MAIN", False), ("WL-1", False)])
+def test_generator_start_is_a_warning_only_where_the_isolation_darkens_its_board(
+    item: str, warned: bool, demo_vessel: Topology,
+) -> None:
+    """EDG starts when ESB goes dead: isolating MSB does that (ESB is fed from it);
+    one of three main generators, the lighting panel or the windlass do not."""
+    plan = plan_isolation(demo_vessel, item)
+    assert bool([h for h in plan.hazards if h.text.startswith("EDG ")]) is warned
+
+
+def test_a_self_starting_generator_as_the_item_is_stopped_and_blocked(
+    demo_vessel: Topology,
+) -> None:
+    """Its breaker first (off load), then its start block; the DANGER names the step."""
+    plan = plan_isolation(demo_vessel, "EDG")
+    assert [p.device for p in plan.points] == ["CB-EDG", "EDG-START"]
+    assert any(h.severity == "DANGER" and "its start is blocked in step 2" in h.text
+               for h in plan.hazards)

@@ -219,21 +219,24 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
         # A standby source's start is blocked before its breaker is touched; a source
         # that is the normal supply is switched off at its breaker first, off load.
         entries.extend([point, *blocks] if device_id in normal_path else [*blocks, point])
-    if isinstance(item, Source) and item.start_block is not None and item_id not in placed:
-        entries.insert(0, _start_point(topology, item_id))
-        placed.add(item_id)
+    if isinstance(item, Source) and _needs_start_block(item):
+        entries.append(_start_point(topology, item_id))  # its breakers first, off load
     points = tuple(replace(point, order=order) for order, point in enumerate(entries, start=1))
     step_of = {point.device: point.order for point in points}
 
     hazards.extend(_no_lock_hazard(topology, item_id, element_of(node), path_to(state))
                    for node, state in sorted(unprotected.items()))
-    hazards.extend(_self_starting(topology, item_id, chosen, beyond, region, step_of))
+    hazards.extend(_self_starting(topology, item_id, chosen, beyond, step_of))
     hazards.extend(_unblocked_changeovers(topology, region, chosen, normal_path, step_of))
     if isinstance(item, Source):
         if item.kind in (SourceKind.shore_connection, SourceKind.utility):
             hazards.append(Hazard("DANGER", f"{item_id} is itself a source fed from outside: "
                                             "have it isolated and locked at its far end (ashore "
                                             "or by the utility) before work"))
+        elif (own := next((p.order for p in points if p.blocks == item_id), None)):
+            hazards.append(Hazard("DANGER", f"{item_id} is itself a source: it must be stopped, "
+                                            f"and its start is blocked in step {own}; do not "
+                                            "rely on its breakers alone"))
         else:
             hazards.append(Hazard("DANGER", f"{item_id} is itself a source: block its start "
                                             "and lock it out at its own controls as well"))
@@ -403,18 +406,14 @@ def _reason(topology: Topology, item_id: str, device_id: str, far: _FarSide,
 
 
 def _self_starting(topology: Topology, item_id: str, chosen: list[str],
-                   beyond: dict[str, _FarSide], region: set[str],
-                   step_of: dict[str, int]) -> list[Hazard]:
+                   beyond: dict[str, _FarSide], step_of: dict[str, int]) -> list[Hazard]:
     """What the technician must know about sources that come on by themselves.
 
     A generator that starts by itself is worth a warning where this isolation
     darkens the board it starts for: it will start during the work.
     """
     hazards: list[Hazard] = []
-    dead_after = set(region)
-    for device in chosen:
-        if device not in topology.normally_open:
-            dead_after.update(topology.below(device))
+    darkened: frozenset[str] | None = None  # what this isolation leaves dead, when asked
     cut_by: dict[str, list[str]] = {}
     for device in chosen:
         for reached in beyond[device].sources:
@@ -433,7 +432,9 @@ def _self_starting(topology: Topology, item_id: str, chosen: list[str],
                                "block its start at its own controls as its maker's "
                                "instructions say, before anything is switched off"))
             elif source.start_block is None or source.start_block.id not in step_of:
-                dark = sorted(_boards_of(topology, source_id) & dead_after)
+                if darkened is None:
+                    darkened = topology.kept_live - topology.kept_live_without(chosen)
+                dark = sorted(_boards_of(topology, source_id) & darkened)
                 if dark:
                     hazards.append(Hazard(
                         "WARNING", f"{source_id} ({kind}) starts by itself when "

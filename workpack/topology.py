@@ -238,6 +238,29 @@ class Topology:
                     children.setdefault(supply, []).append(element_id)
         return children
 
+    @cached_property
+    def kept_live(self) -> frozenset[str]:
+        """Nodes live in the normal switching state from sources that run without
+        starting by themselves (a standby generator's board is dead until it starts)."""
+        return self.kept_live_without(())
+
+    def kept_live_without(self, opened: Iterable[str]) -> frozenset[str]:
+        """``kept_live`` with the devices ``opened`` open as well."""
+        view = self.normal_view(POWER)
+        cut = set(opened)
+        starts = [s.id for s in self.plant.sources if not s.starts_automatically]
+        seen = set(starts)
+        stack = list(starts)
+        while stack:
+            node = stack.pop()
+            if node in cut:
+                continue  # an open device stays live on its supply side, feeds nothing on
+            for neighbour in view.neighbors(node):
+                if neighbour not in seen:
+                    seen.add(neighbour)
+                    stack.append(neighbour)
+        return frozenset(seen)
+
     def below(self, element_id: str) -> list[str]:
         """Every element that loses supply when ``element_id`` opens (normal state,
         across transformer banks), nearest first in walk order."""
