@@ -812,7 +812,8 @@ class PackagePdf(PdfDocument):
                             height=h, suffix="V") for pair in chunk] + pad,
             ]
             table = Table(rows, colWidths=self.cols(26, *[26] * per_row), hAlign="LEFT")
-            style = [*_GRID, ("BACKGROUND", (0, 0), (-1, 0), colors.Color(0.85, 0.85, 0.85)),
+            style = [*_GRID, ("BACKGROUND", (0, 0), (len(chunk), 0),
+                                colors.Color(0.85, 0.85, 0.85)),
                      ("VALIGN", (0, 2), (0, 2), "MIDDLE")]
             if pad:
                 style.append(("GRID", (len(chunk) + 1, 0), (-1, -1), 0, colors.white))
