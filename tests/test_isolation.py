@@ -562,3 +562,17 @@ def test_a_self_starting_generator_as_the_item_is_stopped_and_blocked(
     assert [p.device for p in plan.points] == ["CB-EDG", "EDG-START"]
     assert any(h.severity == "DANGER" and "its start is blocked in step 2" in h.text
                for h in plan.hazards)
+
+
+def test_open_transition_removes_a_false_danger() -> None:
+    """Fuses only between a panel and a UPS-backed changeover: taken as able to join its
+    inputs, the UPS seems to reach the panel with nothing to lock (DANGER); declared
+    break-before-make, it cannot, and the panel's plan is complete."""
+    text = CHANGEOVER.replace("{id: CB-NAV, kind: circuit_breaker, from: LP}",
+                              "{id: CB-NAV, kind: fuse, from: LP}")
+    text = text.replace("{id: CB-U1, kind: circuit_breaker, from: U1}",
+                        "{id: CB-U1, kind: fuse, from: U1}")
+    joined = plan_isolation(load(text.replace("TRANSITION", "")), "LP")
+    assert not joined.complete and unprotected(joined) == {"U1"}
+    separate = plan_isolation(load(text.replace("TRANSITION", ", transition: open")), "LP")
+    assert separate.complete and separate.devices == ("CB-G1",)
