@@ -5,7 +5,11 @@ through the same model the loader uses. Shapes covered: several generators
 on main boards joined by a normally open tie, radial feeders with breakers,
 fuses and cables, sub-panels, transformer banks to 115 V panels joined by
 normally open ties (back-feed through a transformer), loads behind transfer
-switches fed from two boards, and motor heaters fed from a 115 V panel.
+switches fed from two boards or from a board and a UPS (open or closed
+transition, automatic or not, with or without a transfer block), motor heaters
+fed from a 115 V panel, an emergency board with a generator that starts by
+itself (with or without a start block) and a normally open back-feed to the
+main board, a shore connection, and four-wire panels behind a grounded wye.
 """
 
 from __future__ import annotations
@@ -51,7 +55,33 @@ def random_plant_data(seed: int, size: int = 40) -> dict[str, Any]:
         tie = device(mains[0], "circuit_breaker", normally="open")
         buses[-1]["from"].append(tie)
 
+    def start_block(owner: str) -> dict[str, Any] | None:
+        if rng.random() < 0.5:
+            return None
+        return {"id": f"{owner}-BLK", "location": f"{owner} local panel",
+                "how": "selector to BLOCKED; padlock it"}
+
     panels_440 = list(mains)
+    if rng.random() < 0.4:  # emergency board: fed from a main board, its own generator
+        feeder = device(mains[0], "circuit_breaker")
+        board = new_id("E")
+        generator: dict[str, Any] = {"id": new_id("EG"), "kind": "emergency_generator",
+                                     "voltage": 440, "starts_automatically": True}
+        if (block := start_block(generator["id"])) is not None:
+            generator["start_block"] = block
+        sources.append(generator)
+        buses.append({"id": board, "kind": "switchboard", "voltage": 440,
+                      "earthing": "insulated",
+                      "from": [feeder, device(generator["id"], "circuit_breaker", "open")]})
+        if rng.random() < 0.5:  # emergency back-feed to the main board
+            buses[0]["from"].append(device(board, "circuit_breaker", "open"))
+        panels_440.append(board)
+    if rng.random() < 0.3:  # shore connection through a box, onto a main board
+        shore = new_id("SH")
+        sources.append({"id": shore, "kind": "shore_connection", "voltage": 440})
+        box = device(shore, "connection_box")
+        buses[-1 if len(mains) == 1 else 1]["from"].append(
+            device(box, "circuit_breaker", "open"))
     panels_115: list[str] = []
     heater_feeds: list[str] = []
     motors: list[dict[str, Any]] = []
@@ -86,12 +116,37 @@ def random_plant_data(seed: int, size: int = 40) -> dict[str, Any]:
             panels_115.append(bus_id)
         elif choice < 0.35 and len(panels_440) >= 2:  # load behind a transfer switch
             normal, alternate = rng.sample(panels_440, 2)
+            alternate_feed = device(alternate, "circuit_breaker")
+            if rng.random() < 0.3:  # the alternate is a UPS
+                ups: dict[str, Any] = {"id": new_id("U"), "kind": "ups", "voltage": 440}
+                if (block := start_block(ups["id"])) is not None:
+                    ups["start_block"] = block
+                sources.append(ups)
+                devices[-1]["from"] = ups["id"]
             switch_id = new_id("TS")
-            devices.append({"id": switch_id, "kind": "transfer_switch",
-                            "from": [device(normal, "circuit_breaker"),
-                                     device(alternate, "circuit_breaker")]})
+            switch: dict[str, Any] = {"id": switch_id, "kind": "transfer_switch",
+                                      "from": [device(normal, "circuit_breaker"),
+                                               alternate_feed]}
+            switch["transition"] = rng.choice(["open", "closed", None])
+            switch["transfers_automatically"] = rng.choice([True, False, None])
+            if switch["transfers_automatically"] is not False and rng.random() < 0.5:
+                switch["transfer_block"] = {"id": f"{switch_id}-MODE", "how": "to MANUAL"}
+            devices.append({k: v for k, v in switch.items() if v is not None})
             loads.append({"id": new_id("M"), "kind": "motor", "from": switch_id,
                           "rated_voltage": 440, "vitality": "vital"})
+        elif choice < 0.38:  # four-wire panel behind a grounded wye
+            primary_breaker = device(rng.choice(panels_440), "circuit_breaker")
+            transformer_id = new_id("T")
+            transformers.append({
+                "id": transformer_id, "construction": "three_phase", "rated_kva": 30_000,
+                "primary_voltage": 440, "secondary_voltage": 208, "vector_group": "Dyn11",
+                "secondary_neutral": "grounded", "from": primary_breaker})
+            bus_id = new_id("W")
+            buses.append({"id": bus_id, "kind": "distribution_panel", "voltage": 208,
+                          "earthing": "solid", "four_wire": rng.random() < 0.5,
+                          "from": device(transformer_id, "circuit_breaker")})
+            loads.append({"id": new_id("LT"), "kind": rng.choice(["lighting", "motor"]),
+                          "from": device(bus_id), "rated_voltage": 208})
         elif choice < 0.45 and panels_115:  # heater supply way on a 115 V panel
             heater_feeds.append(device(rng.choice(panels_115), "circuit_breaker"))
         else:  # plain load
@@ -108,6 +163,9 @@ def random_plant_data(seed: int, size: int = 40) -> dict[str, Any]:
             motor = rng.choice(motors)
             motor.setdefault("auxiliaries", []).append(
                 {"kind": "anti_condensation_heater", "from": feed})
+        else:  # no motor to heat: the way feeds a heater of its own (no dead end)
+            loads.append({"id": new_id("H"), "kind": "heater", "from": feed,
+                          "rated_voltage": 115})
     return {
         "plant": {"name": f"generated {seed}", "kind": "other", "frequency": 60},
         "sources": sources, "buses": buses, "devices": devices,

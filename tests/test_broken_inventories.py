@@ -76,6 +76,15 @@ CASES = [
          r"'H1' is a load; an auxiliary supply is fed from a device"),
     Case("unknown_cable_type", 16, "cables[0].cable_type",
          r"unknown cable type 'LV-SWB' \(did you mean 'LV-SWA'\?\)"),
+    Case("device_feeds_nothing", 14, "devices[2].id",
+         "^" + re.escape("CB-SHORE feeds nothing: no element names this circuit breaker in "
+                         "its 'from' (nor as an auxiliary supply), so an isolation would "
+                         "never see the supply behind it; name it in the 'from' of what it "
+                         "feeds, or leave a spare way out of the inventory") + "$"),
+    Case("start_block_id_reused", 17, "devices[1].id",
+         r"id 'CB-EG' is already used; ids must be unique \(first given on line 12\)"),
+    Case("transition_on_breaker", 12, "devices[1]",
+         r"^transition describes a transfer_switch, not a circuit_breaker$"),
     # --- found while writing this battery ---------------------------------------------------
     Case("impossible_date", 16, None, r"2026-02-30|date"),
     Case("duplicate_id_through_alias", 20, "buses[1].detector.id",

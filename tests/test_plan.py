@@ -89,7 +89,7 @@ def test_windlass_test_voltage_and_minimum_come_from_ieee_43(demo: DayPlan) -> N
     assert "500 V DC" in reading.what
     assert reading.limit.low == pytest.approx(5e6)
     assert reading.limit.temperature_corrected_to_c == pytest.approx(40.0)
-    assert [p.device for p in windlass.isolation] == ["CB-WL1", "CB-DK-H-WL1"]
+    assert [p.device for p in windlass.isolation] == ["CB-DK-H-WL1", "CB-WL1"]
 
 
 def test_restoration_expects_the_computed_healthy_phase_to_earth(demo: DayPlan) -> None:

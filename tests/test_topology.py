@@ -43,3 +43,32 @@ def test_normal_supply_path_follows_from_links(demo_vessel: Topology) -> None:
 def test_possible_supply_paths_include_ties_and_changeovers(demo_vessel: Topology) -> None:
     starts = {p[0] for p in demo_vessel.possible_supply_paths("NAV-L")}
     assert {"UPS-NAV", "EDG", "SHORE"} <= starts
+
+
+def test_open_transition_changeover_never_joins_its_inputs(demo_vessel: Topology) -> None:
+    """TS-NAV is break-before-make: no path runs from the UPS through it to the
+    emergency lighting panel, while both inputs still reach the navigation panel."""
+    assert demo_vessel.one_input_at_a_time["TS-NAV"] == {"CB-ELP-NAV", "CB-UPS"}
+    assert "UPS-NAV" not in {p[0] for p in demo_vessel.possible_supply_paths("ELP")}
+    assert {"UPS-NAV", "SSG-1"} <= {p[0] for p in demo_vessel.possible_supply_paths("NAV")}
+    # a walk entering the changeover from one input goes on to its load side only
+    assert demo_vessel.onward("TS-NAV", "TS-NAV", ["CB-ELP-NAV", "CB-UPS", "NAV"]) == [
+        ("NAV", "TS-NAV")]
+    assert demo_vessel.onward("CB-UPS", None, ["TS-NAV"]) == [("TS-NAV", "TS-NAV")]
+    # from its load side either input
+    assert demo_vessel.onward("TS-NAV", None, ["CB-ELP-NAV", "CB-UPS"]) == [
+        ("CB-ELP-NAV", None), ("CB-UPS", None)]
+
+
+def test_a_neutral_is_known_per_system(demo_vessel: Topology, demo_site: Topology) -> None:
+    """Grounded-wye secondaries and four-wire boards carry a neutral; delta systems not."""
+    assert demo_vessel.island_of("DP-LDY").neutral
+    assert not demo_vessel.island_of("MSB").neutral
+    assert not demo_vessel.island_of("LP-MAIN").neutral
+    assert demo_site.island_of("LP-1").neutral and not demo_site.island_of("ICP").neutral
+
+
+def test_standby_generator_board_is_not_kept_live(demo_site: Topology) -> None:
+    """GSB is fed only by DG1, which stands by until the utility fails."""
+    assert "MSB" in demo_site.kept_live and "GSB" not in demo_site.kept_live
+    assert "VSB" not in demo_site.kept_live_without(["CB-VSB"])

@@ -58,6 +58,12 @@ def check_unique_ids(plant: Plant) -> Iterator[Mismatch]:
             ids: list[tuple[str, Path]] = [(element.id, (section, index, "id"))]
             if isinstance(element, Bus) and element.detector:
                 ids.append((element.detector.id, (section, index, "detector", "id")))
+            # start and transfer blocks are lock points with their own ids on the records
+            if isinstance(element, Source) and element.start_block:
+                ids.append((element.start_block.id, (section, index, "start_block", "id")))
+            if isinstance(element, Device) and element.transfer_block:
+                ids.append((element.transfer_block.id,
+                            (section, index, "transfer_block", "id")))
             for element_id, path in ids:
                 if element_id in seen:
                     yield Mismatch(path, f"id {element_id!r} is already used; ids must be "
@@ -102,6 +108,27 @@ def check_references(plant: Plant) -> Iterator[Mismatch]:
                               f"unknown cable type {element.cable_type!r}"
                               f"{did_you_mean(element.cable_type, cable_types)}; "
                               "define it under cable_types")
+
+
+def check_feeds_something(plant: Plant) -> Iterator[Mismatch]:
+    """Every source and device feeds something: a dead end hides a supply.
+
+    A shore breaker that no board names in its ``from`` is a supply the
+    isolation planner never sees; a spare way is better left out of the file.
+    """
+    fed_from = {supply for element in plant.elements() if isinstance(element, FedElement)
+                for supply in element.from_}
+    fed_from |= {auxiliary.from_ for load in plant.loads for auxiliary in load.auxiliaries}
+    for section in ("sources", "devices"):
+        for index, element in enumerate(getattr(plant, section)):
+            if element.id in fed_from:
+                continue
+            what = "source" if section == "sources" else element.kind.value.replace("_", " ")
+            yield Mismatch((section, index, "id"),
+                           f"{element.id} feeds nothing: no element names this {what} in "
+                           "its 'from' (nor as an auxiliary supply), so an isolation would "
+                           "never see the supply behind it; name it in the 'from' of what it "
+                           "feeds, or leave a spare way out of the inventory")
 
 
 def check_voltages(plant: Plant, topology: Topology) -> Iterator[Mismatch]:
@@ -192,6 +219,7 @@ def run_checks(plant: Plant) -> tuple[list[Mismatch], Topology | None]:
     found = list(check_unique_ids(plant)) + list(check_references(plant))
     if found:
         return found, None
+    found.extend(check_feeds_something(plant))
     topology = Topology(plant)
     for check in (check_fed, check_loops, check_voltages, check_earthing):
         found.extend(check(plant, topology))

@@ -52,7 +52,10 @@ def results_template(package: WorkPackage, package_sha256: str) -> str:
         lines.append("isolation:")
         for point in package.isolation:
             state = " (normally open: lock it open)" if point.already_open else ""
-            lines.append(f"  {point.device}:   # {point.order}. {point.device_kind}, "
+            if point.blocks:
+                state = f" (set and lock: {' '.join(point.how.split()) if point.how else ''})"
+            key = _quoted(point.device) if ":" in point.device else point.device
+            lines.append(f"  {key}:   # {point.order}. {point.device_kind}, "
                          f"{point.location or 'location not given'}{state}")
             lines += [f"    {name}:" for name in ("lock", "tag", "applied_by", "applied_at",
                                                    "removed_by", "removed_at")]

@@ -1,23 +1,33 @@
-"""What to open and lock so that no source can reach an item.
+"""What to open and lock so that no source can reach an item, and in which order.
 
 The search walks outward from the item over every path that could carry
 energy (normally open ties, changeovers, back-feed through transformers,
 auxiliary heater and control supplies) and stops at the first lockable device
 on each path: the nearest lockable device upstream of the item on that path.
+An open-transition changeover is never crossed from one input to the other.
 Devices whose far side reaches no source are dropped, then every remaining
 device is proven necessary: closing it alone would let a source reach the
 item. A path that reaches a source with no lockable device on it is reported
-as a hazard, never papered over. Pure: no file access.
+as a hazard, never papered over.
+
+Order. Whatever could come on by itself once the normal supply is gone is
+blocked first: the start of a generator that starts on a blackout (its start
+block, then its breaker), a changeover's automatic transfer, and the routes
+from UPSs, batteries, shore supplies and automatic changeovers. Then the other
+ties, alternates, back-feeds and auxiliary supplies are locked; the normal
+supply is opened last of all, so that nothing is switched off while something
+else could still close onto the dead side. Pure: no file access.
 """
 
 from __future__ import annotations
 
 from collections import deque
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from workpack.model.plant import (
     Bus,
     Cable,
+    ControlBlock,
     Device,
     Load,
     LoadKind,
@@ -31,6 +41,8 @@ from workpack.topology import (
     element_of,
 )
 
+State = tuple[str, str | None]  # (node, open-transition changeover entered from an input)
+
 # Common practice, not from a standard: a feeder this long holds enough charge
 # after a test or a switch-off to be felt; discharge it to earth before touching.
 LONG_CABLE_M = 100.0
@@ -38,16 +50,18 @@ LONG_CABLE_M = 100.0
 
 @dataclass(frozen=True)
 class IsolationPoint:
-    """One device to open, lock and tag."""
+    """One device to open, lock and tag, or one control to set and lock (a block)."""
 
     order: int
-    device: str
-    device_kind: str
+    device: str  # device id, or the id of a start or transfer block
+    device_kind: str  # circuit_breaker, …, start_block, transfer_block
     location: str | None
-    reason: str  # which supply path it cuts
+    reason: str  # which supply path it cuts, or what it stops
     voltage: float | None  # nominal V line-to-line on its supply side
     already_open: bool  # a normally open tie: lock it open, do not close it
     via: tuple[str, ...]  # the elements between the item and this device
+    blocks: str | None = None  # a block: the source or changeover it stops
+    how: str | None = None  # a block: what to set and how to lock it
 
 
 @dataclass(frozen=True)
@@ -57,7 +71,9 @@ class VerifyPoint:
     where: str
     conductors: str
     voltage: float | None
-    wires: int = 3  # three phases, or the two conductors of a heater or control supply
+    # three phases; three phases and a neutral; or the two conductors of a heater
+    # or control supply
+    wires: int = 3
 
 
 @dataclass(frozen=True)
@@ -77,7 +93,8 @@ class IsolationPlan:
 
     @property
     def devices(self) -> tuple[str, ...]:
-        return tuple(point.device for point in self.points)
+        """The switching devices locked open, in order (blocks left out)."""
+        return tuple(point.device for point in self.points if point.blocks is None)
 
     @property
     def complete(self) -> bool:
@@ -85,8 +102,11 @@ class IsolationPlan:
         return not any(h.severity == "DANGER" for h in self.hazards)
 
 
+START_BLOCK, TRANSFER_BLOCK = "start_block", "transfer_block"
+
+
 def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
-    """Devices to lock open so that no source can reach ``item_id``."""
+    """Devices to lock open so that no source can reach ``item_id``, in a safe order."""
     if item_id not in topology.elements:
         raise KeyError(item_id)
     item = topology.elements[item_id]
@@ -94,128 +114,271 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
     starts = topology.work_nodes(item_id)
     # Breadth-first, sorted: the nearest device on each path is found first and
     # the result never depends on set order.
-    parent: dict[str, str | None] = {node: None for node in starts}
-    queue = deque(sorted(starts))
-    frontier: list[str] = []
-    unprotected: list[str] = []
+    parent: dict[State, State | None] = {(node, None): None for node in sorted(starts)}
+    queue = deque(parent)
+    frontier: dict[str, State] = {}
+    unprotected: dict[str, State] = {}
     passed_unlockable: set[str] = set()
     while queue:
-        node = queue.popleft()
-        for neighbour in neighbours(node):
-            if neighbour in parent:
+        state = queue.popleft()
+        for reached in topology.onward(*state, neighbours(state[0])):
+            if reached in parent:
                 continue
-            parent[neighbour] = node
-            element = topology.elements[element_of(neighbour)]
+            parent[reached] = state
+            node = reached[0]
+            element = topology.elements[element_of(node)]
             if isinstance(element, Device) and element.id != item_id:
                 if element.can_lock:
-                    frontier.append(neighbour)
+                    frontier.setdefault(node, reached)
                     continue
                 passed_unlockable.add(element.id)
             if isinstance(element, Source):
-                unprotected.append(neighbour)
+                unprotected.setdefault(node, reached)
                 continue
-            queue.append(neighbour)
+            queue.append(reached)
 
-    region = {node for node in parent if node not in frontier}
-    chosen = _necessary(topology, region, frontier)
-
-    def path_to(node: str) -> tuple[str, ...]:
-        chain: list[str] = []
-        step = parent[node]
-        while step is not None:
-            chain.append(element_of(step))
-            step = parent[step]
-        deduplicated = list(dict.fromkeys(reversed(chain)))
-        return tuple(deduplicated)
-
-    def distance(node: str) -> int:
-        return len(path_to(node))
-
+    region = {node for node, _ in parent if node not in frontier}
     normal_path = {element_of(node) for path in topology.normal_supply_paths(item_id)
                    for node in path}
+    # A device is needed when a source reaches its far side without crossing the
+    # item's side or another frontier device: closing it alone would put that
+    # source onto the item. Dropping a device whose far side is dead never makes
+    # another device's far side live (it only joins dead parts together), so each
+    # is checked against the whole frontier, and what it keeps off stays the same.
+    # On the normal supply the first source found is enough; the rest of what such
+    # a device keeps off is the normal supply through it.
+    blocked = region | set(frontier)
+    normal_paths = topology.normal_supply_paths(item_id)
 
-    def application_order(device_id: str) -> tuple[int, int, str]:
-        # Interrupt the load first (closed devices on the normal supply), then
-        # other closed devices, then lock the normally open ones where they are.
-        if device_id in topology.normally_open:
-            group = 2
-        else:
-            group = 0 if device_id in normal_path else 1
-        return (group, distance(device_id), device_id)
+    def far_side(device: str, state: State) -> _FarSide:
+        if device in normal_path:
+            # The normal supply itself, when its way up to the device is clear, shows
+            # the device needed without a walk.
+            for path in normal_paths:
+                if device in path:
+                    upstream = path[:path.index(device)]
+                    if not blocked.intersection(upstream):
+                        return _FarSide(sources=(path[0],), path=(device, *reversed(upstream)))
+        return _far_side(topology, state, blocked - {device}, first_only=device in normal_path)
+
+    walked = {d: far_side(d, state) for d, state in frontier.items()}
+    chosen = sorted(d for d, far in walked.items() if far.sources)
+
+    def path_to(state: State) -> tuple[str, ...]:
+        chain: list[str] = []
+        step = parent[state]
+        while step is not None:
+            chain.append(element_of(step[0]))
+            step = parent[step]
+        return tuple(dict.fromkeys(reversed(chain)))
 
     blocked = region | set(chosen)
-    points: list[IsolationPoint] = []
-    for order, device_id in enumerate(sorted(chosen, key=application_order), start=1):
+    normal_sources: dict[str, set[str]] = {}
+    for path in normal_paths:
+        for node in path:
+            normal_sources.setdefault(element_of(node), set()).add(path[0])
+    beyond = {d: _FarSide(sources=tuple(sorted(normal_sources[d])), path=None)
+              if d in normal_path else walked[d] for d in chosen}
+    automatic = {d for d in chosen if d not in normal_path and (
+        any(_source(topology, s).comes_on_by_itself for s in beyond[d].sources)
+        or _leaves_by_changeover(topology, (*path_to(frontier[d]), d)))}
+    # Sources whose start is blocked with the device: those right behind it (no
+    # board in between). Further off, the locked device keeps them away and they
+    # stay free to serve the rest of the plant.
+    starters = {d: [s for s in _far_side(topology, frontier[d], blocked - {d},
+                                         stop_at_boards=True).sources
+                    if _needs_start_block(_source(topology, s))] for d in chosen}
+
+    def application_order(device_id: str) -> tuple[int, int, bool, int, str]:
+        if device_id in normal_path:
+            group = 2
+        else:
+            group = 0 if device_id in automatic else 1
+        return (group, 0 if starters[device_id] else 1,
+                device_id not in topology.normally_open,
+                len(path_to(frontier[device_id])), device_id)
+
+    hazards: list[Hazard] = []
+    entries: list[IsolationPoint] = []
+    placed: set[str] = set()
+    for block_id, switch in _transfer_blocks(topology, region):
+        entries.append(_block_point(topology, block_id, switch))
+    for device_id in sorted(chosen, key=application_order):
         device = topology.elements[device_id]
         assert isinstance(device, Device)
-        via = path_to(device_id)
-        points.append(IsolationPoint(
-            order=order, device=device_id, device_kind=device.kind.value,
+        start_blocks = [s for s in starters[device_id] if s not in placed]
+        placed.update(start_blocks)
+        point = IsolationPoint(
+            order=0, device=device_id, device_kind=device.kind.value,
             location=device.location,
-            reason=_reason(topology, item_id, device_id, blocked, normal_path),
+            reason=_reason(topology, item_id, device_id, beyond[device_id], normal_path),
             voltage=topology.voltage_at(device_id),
-            already_open=device_id in topology.normally_open, via=via,
-        ))
+            already_open=device_id in topology.normally_open, via=path_to(frontier[device_id]),
+        )
+        blocks = [_start_point(topology, s) for s in start_blocks]
+        # A standby source's start is blocked before its breaker is touched; a source
+        # that is the normal supply is switched off at its breaker first, off load.
+        entries.extend([point, *blocks] if device_id in normal_path else [*blocks, point])
+    if isinstance(item, Source) and _needs_start_block(item):
+        entries.append(_start_point(topology, item_id))  # its breakers first, off load
+    points = tuple(replace(point, order=order) for order, point in enumerate(entries, start=1))
+    step_of = {point.device: point.order for point in points}
 
-    hazards = [_no_lock_hazard(topology, item_id, source, path_to(source))
-               for source in sorted(unprotected)]
-    hazards.extend(_item_hazards(topology, item_id))
+    hazards.extend(_no_lock_hazard(topology, item_id, element_of(node), path_to(state))
+                   for node, state in sorted(unprotected.items()))
+    hazards.extend(_self_starting(topology, item_id, chosen, beyond, step_of))
+    hazards.extend(_unblocked_changeovers(topology, region, chosen, normal_path, step_of))
     if isinstance(item, Source):
         if item.kind in (SourceKind.shore_connection, SourceKind.utility):
             hazards.append(Hazard("DANGER", f"{item_id} is itself a source fed from outside: "
                                             "have it isolated and locked at its far end (ashore "
                                             "or by the utility) before work"))
+        elif (own := next((p.order for p in points if p.blocks == item_id), None)):
+            hazards.append(Hazard("DANGER", f"{item_id} is itself a source: it must be stopped, "
+                                            f"and its start is blocked in step {own}; do not "
+                                            "rely on its breakers alone"))
         else:
             hazards.append(Hazard("DANGER", f"{item_id} is itself a source: block its start "
                                             "and lock it out at its own controls as well"))
     dead = region - {n for n in region if isinstance(topology.elements[element_of(n)], Source)}
     return IsolationPlan(
         item=item_id,
-        points=tuple(points),
-        verify=_verify_points(topology, item_id, chosen, parent),
+        points=points,
+        verify=_verify_points(topology, item_id),
         stored_energy=_stored_energy(topology, dead),
         hazards=tuple(hazards),
         also_open=tuple(sorted(passed_unlockable & {element_of(n) for n in region})),
     )
 
 
-def _necessary(topology: Topology, region: set[str], frontier: list[str]) -> list[str]:
-    """Frontier devices with a source beyond them; each one kept is needed.
+def _source(topology: Topology, node: str) -> Source:
+    source = topology.elements[element_of(node)]
+    assert isinstance(source, Source)
+    return source
 
-    A device is needed when a source reaches its far side without crossing the
-    item's side (``region``) or another frontier device: closing it alone would
-    put that source onto the item. Dropping a device whose far side is dead
-    never makes another device's far side live (it only joins dead parts
-    together), so checking each against the whole frontier gives the same
-    answer as dropping them one at a time.
+
+def _needs_start_block(source: Source) -> bool:
+    return source.start_block is not None or source.starts_automatically
+
+
+def _leaves_by_changeover(topology: Topology, chain: tuple[str, ...]) -> bool:
+    """The route from the item leaves an automatic changeover by one of its inputs."""
+    for here, there in zip(chain, chain[1:], strict=False):
+        switch = topology.elements[here]
+        if isinstance(switch, Device) and switch.changes_over_by_itself and (
+            there in switch.from_
+        ):
+            return True
+    return False
+
+
+@dataclass(frozen=True)
+class _FarSide:
+    sources: tuple[str, ...]  # every source reached, sorted
+    path: tuple[str, ...] | None  # nodes from the device to the nearest source
+
+
+def _far_side(topology: Topology, start: State, blocked: set[str],
+              stop_at_boards: bool = False, first_only: bool = False) -> _FarSide:
+    """Sources that reach the device at ``start`` without crossing ``blocked``.
+
+    With ``stop_at_boards`` the walk does not pass a bus or a normally open
+    device: it finds only the sources right behind the device. With
+    ``first_only`` it stops at the first source.
     """
-    blocked = region | set(frontier)
-    return sorted(d for d in frontier if _far_side_path(topology, d, blocked) is not None)
-
-
-def _far_side_path(topology: Topology, device: str,
-                   blocked: set[str]) -> tuple[str, ...] | None:
-    """Shortest path from ``device`` to a source that avoids ``blocked``; device first."""
-    view = topology.closable_view(POWER)
-    parent: dict[str, str | None] = {device: None}
-    queue = deque([device])
+    adjacency = topology.closable_adjacency
+    switches = topology.one_input_at_a_time
+    sources = topology.source_nodes
+    device = start[0]
+    parent: dict[State, State | None] = {start: None}
+    queue = deque([start])
+    found: list[str] = []
+    nearest: State | None = None
     while queue:
-        node = queue.popleft()
-        if node in topology.source_nodes:
-            chain: list[str] = []
-            step: str | None = node
-            while step is not None:
-                chain.append(step)
-                step = parent[step]
-            return tuple(reversed(chain))
-        for neighbour in view.neighbors(node):
-            if neighbour not in parent and (neighbour not in blocked or neighbour == device):
-                parent[neighbour] = node
-                queue.append(neighbour)
-    return None
+        state = queue.popleft()
+        node = state[0]
+        if node in sources and node != device:
+            found.append(node)
+            nearest = nearest or state
+            if first_only:
+                break
+            continue
+        if stop_at_boards and node != device and (
+            node in topology.normally_open
+            or isinstance(topology.elements[element_of(node)], Bus)
+        ):
+            continue
+        # The step of Topology.onward, written out: this loop is the planner's hot spot
+        # (millions of steps a day on a large plant); the property tests in
+        # tests/test_isolation.py hold both walks to an independent model.
+        passed = state[1]
+        blocked_inputs = switches.get(node) if passed == node else None
+        for neighbour in adjacency[node]:
+            if neighbour in blocked or neighbour == passed or (
+                blocked_inputs and neighbour in blocked_inputs
+            ):
+                continue
+            inputs = switches.get(neighbour)
+            reached = (neighbour, neighbour if inputs and node in inputs else passed)
+            if reached not in parent:
+                parent[reached] = state
+                queue.append(reached)
+    path: tuple[str, ...] | None = None
+    if nearest is not None:
+        chain: list[str] = []
+        step: State | None = nearest
+        while step is not None:
+            chain.append(step[0])
+            step = parent[step]
+        path = tuple(reversed(chain))
+    return _FarSide(sources=tuple(sorted(set(found))), path=path)
 
 
-def _reason(topology: Topology, item_id: str, device_id: str, blocked: set[str],
+def _start_point(topology: Topology, source_id: str) -> IsolationPoint:
+    """The step that stops a source starting by itself: its declared block, or its
+    own controls when the inventory names none."""
+    source = topology.elements[source_id]
+    assert isinstance(source, Source)
+    block = source.start_block
+    stops = (f"stops {source.label} starting by itself" if source.starts_automatically
+             else f"stops {source.label} putting out power")
+    if block is None:
+        return IsolationPoint(
+            order=0, device=f"{source_id}:start", device_kind=START_BLOCK,
+            location=source.location, reason=stops,
+            voltage=source.voltage, already_open=False, via=(), blocks=source_id,
+            how="no start block is named in the inventory: block the start at the "
+                "source's own controls as its maker's instructions say, and lock or tag "
+                "that control")
+    return IsolationPoint(
+        order=0, device=block.id, device_kind=START_BLOCK,
+        location=block.location or source.location, reason=stops, voltage=source.voltage,
+        already_open=False, via=(), blocks=source_id, how=block.how)
+
+
+def _block_point(topology: Topology, block: ControlBlock, switch: Device) -> IsolationPoint:
+    return IsolationPoint(
+        order=0, device=block.id, device_kind=TRANSFER_BLOCK,
+        location=block.location or switch.location,
+        reason=f"stops changeover {switch.label} transferring by itself",
+        voltage=topology.voltage_at(switch.id), already_open=False, via=(), blocks=switch.id,
+        how=block.how)
+
+
+def _transfer_blocks(topology: Topology,
+                     region: set[str]) -> list[tuple[ControlBlock, Device]]:
+    """Declared transfer blocks of automatic changeovers inside the isolated part."""
+    found = []
+    for node in sorted(region):
+        switch = topology.elements[element_of(node)]
+        if isinstance(switch, Device) and switch.changes_over_by_itself and (
+            switch.transfer_block is not None
+        ):
+            found.append((switch.transfer_block, switch))
+    return found
+
+
+def _reason(topology: Topology, item_id: str, device_id: str, far: _FarSide,
             normal_path: set[str]) -> str:
     """Say in words which supply this device cuts."""
     if device_id in topology.auxiliary_feeds(item_id):
@@ -223,17 +386,17 @@ def _reason(topology: Topology, item_id: str, device_id: str, blocked: set[str],
         kinds = [a.kind.value.replace("_", " ") for a in item.auxiliaries  # type: ignore[attr-defined]
                  if a.from_ == device_id]
         return f"{', '.join(kinds)} supply into {item_id}"
-    path = _far_side_path(topology, device_id, blocked - {device_id})
     if device_id in normal_path:
         sources = sorted({element_of(p[0]) for p in topology.normal_supply_paths(item_id)
                           if device_id in {element_of(n) for n in p}})
         return "normal supply from " + ", ".join(sources)
-    if path is None:
+    if far.path is None:
         return "possible supply"
+    path = far.path
     transformers = sorted({element_of(n) for n in path if n.endswith(":secondary")})
     ties = [element_of(n) for n in path
             if element_of(n) in topology.normally_open and element_of(n) != device_id]
-    parts = [f"from {', '.join(_far_side_sources(topology, device_id, blocked - {device_id}))}"]
+    parts = [f"from {', '.join(far.sources)}"]
     if ties:
         parts.append("e.g. via normally open " + ", ".join(dict.fromkeys(ties)))
     if transformers:
@@ -242,26 +405,92 @@ def _reason(topology: Topology, item_id: str, device_id: str, blocked: set[str],
     return tie + "possible supply " + "; ".join(parts)
 
 
-def _far_side_sources(topology: Topology, device: str, blocked: set[str]) -> list[str]:
-    """Every source that could reach ``device`` without crossing ``blocked``."""
+def _self_starting(topology: Topology, item_id: str, chosen: list[str],
+                   beyond: dict[str, _FarSide], step_of: dict[str, int]) -> list[Hazard]:
+    """What the technician must know about sources that come on by themselves.
+
+    A generator that starts by itself is worth a warning where this isolation
+    darkens the board it starts for: it will start during the work.
+    """
+    hazards: list[Hazard] = []
+    darkened: frozenset[str] | None = None  # what this isolation leaves dead, when asked
+    cut_by: dict[str, list[str]] = {}
+    for device in chosen:
+        for reached in beyond[device].sources:
+            cut_by.setdefault(reached, []).append(device)
+    for source_id, devices in sorted(cut_by.items()):
+        source = _source(topology, source_id)
+        kind = source.kind.value
+        locks = ", ".join(f"{d} (step {step_of[d]})" for d in devices) + (
+            " locked open keeps" if len(devices) == 1 else " locked open keep")
+        if source.starts_automatically:
+            own = step_of.get(f"{source_id}:start")
+            if own is not None:
+                hazards.append(Hazard(
+                    "WARNING", f"{source_id} ({kind}) starts by itself on loss of supply and "
+                               f"the inventory names no start block for it: in step {own} "
+                               "block its start at its own controls as its maker's "
+                               "instructions say, before anything is switched off"))
+            elif source.start_block is None or source.start_block.id not in step_of:
+                if darkened is None:
+                    darkened = topology.kept_live - topology.kept_live_without(chosen)
+                dark = sorted(_boards_of(topology, source_id) & darkened)
+                if dark:
+                    hazards.append(Hazard(
+                        "WARNING", f"{source_id} ({kind}) starts by itself when "
+                                   f"{', '.join(dark)} goes dead in this isolation: "
+                                   f"{locks} it off {item_id}"))
+        if source.kind in (SourceKind.battery, SourceKind.ups):
+            hazards.append(Hazard(
+                "WARNING", f"{source_id} ({kind}) stays live with every breaker open: its own "
+                           f"terminals are never dead; {locks} it off {item_id}"))
+    return hazards
+
+
+def _boards_of(topology: Topology, source_id: str) -> set[str]:
+    """The boards a source connects to: the first buses on its side of any device."""
     view = topology.closable_view(POWER)
-    seen = {device}
-    queue = deque([device])
-    found = []
-    while queue:
-        node = queue.popleft()
-        if node in topology.source_nodes:
-            found.append(node)
-            continue
+    seen = {source_id}
+    stack = [source_id]
+    boards: set[str] = set()
+    while stack:
+        node = stack.pop()
         for neighbour in view.neighbors(node):
-            if neighbour not in seen and neighbour not in blocked:
-                seen.add(neighbour)
-                queue.append(neighbour)
-    return sorted(found)
+            if neighbour in seen or neighbour in topology.source_nodes:
+                continue
+            seen.add(neighbour)
+            if isinstance(topology.elements[element_of(neighbour)], Bus):
+                boards.add(neighbour)
+            else:
+                stack.append(neighbour)
+    return boards
 
 
-def _verify_points(topology: Topology, item_id: str, chosen: list[str],
-                   parent: dict[str, str | None]) -> tuple[VerifyPoint, ...]:
+def _unblocked_changeovers(topology: Topology, region: set[str], chosen: list[str],
+                           normal_path: set[str], step_of: dict[str, int]) -> list[Hazard]:
+    """Automatic changeovers in the isolated part with no transfer block named."""
+    hazards: list[Hazard] = []
+    for node in sorted(region):
+        switch = topology.elements[element_of(node)]
+        if not (isinstance(switch, Device) and switch.changes_over_by_itself) or (
+            switch.transfer_block is not None
+        ):
+            continue
+        first_normal = min((step_of[d] for d in chosen if d in normal_path), default=None)
+        before = f" before step {first_normal}" if first_normal else ""
+        hazards.append(Hazard(
+            "WARNING", f"{switch.id} changes over by itself and the inventory names no "
+                       f"transfer block for it: set it to manual (no automatic transfer) at "
+                       f"its own controls as its maker's instructions say{before}"))
+    return hazards
+
+
+PHASES = "each phase-to-phase and each phase-to-earth"
+PHASES_AND_NEUTRAL = ("each phase-to-phase, each phase-to-neutral, each phase-to-earth and "
+                      "neutral-to-earth")
+
+
+def _verify_points(topology: Topology, item_id: str) -> tuple[VerifyPoint, ...]:
     """Prove dead at the point of work, once per distinct supply arriving there."""
     points: list[VerifyPoint] = []
     item = topology.elements[item_id]
@@ -276,10 +505,10 @@ def _verify_points(topology: Topology, item_id: str, chosen: list[str],
             where = f"line and load terminals of {item_id}"
         else:
             where = f"supply terminals of {item_id}"
+        neutral = _has_neutral(topology, node)
         points.append(VerifyPoint(
-            where=where,
-            conductors="each phase-to-phase and each phase-to-earth",
-            voltage=topology.voltage_at(node),
+            where=where, conductors=PHASES_AND_NEUTRAL if neutral else PHASES,
+            voltage=topology.voltage_at(node), wires=4 if neutral else 3,
         ))
     if isinstance(item, Load):
         for auxiliary in item.auxiliaries:
@@ -291,6 +520,25 @@ def _verify_points(topology: Topology, item_id: str, chosen: list[str],
                     wires=2,
                 ))
     return tuple(points)
+
+
+def _has_neutral(topology: Topology, node: str) -> bool:
+    """A neutral conductor arrives at this node.
+
+    Its system carries a neutral (a wye secondary with the neutral brought out, or
+    a four-wire board), or it is the primary of a transformer with a primary
+    neutral terminal (YN, ZN). A three-phase motor takes no neutral (common
+    practice); anything else on a system with a neutral is treated as having one,
+    the cautious side: a neutral left untested can be live from another circuit.
+    """
+    element = topology.elements[element_of(node)]
+    if isinstance(element, Load) and element.kind is LoadKind.motor:
+        return False
+    if isinstance(element, Transformer) and node.endswith(":primary") and (
+        element.vector_group.startswith(("YN", "ZN"))
+    ):
+        return True
+    return topology.island_of(node).neutral
 
 
 def _stored_energy(topology: Topology, dead: set[str]) -> tuple[str, ...]:
@@ -321,23 +569,3 @@ def _no_lock_hazard(topology: Topology, item_id: str, source: str,
     return Hazard("DANGER", f"no lockable device between {item_id} and source {source} "
                             f"({element.kind.value}) on the path {route}: this path cannot be "
                             "locked out here; isolate at the source or do not start the work")
-
-
-def _item_hazards(topology: Topology, item_id: str) -> list[Hazard]:
-    """Sources that could appear on the item's own system if ties were closed."""
-    hazards: list[Hazard] = []
-    reach: set[str] = set()
-    for node in topology.work_nodes(item_id):
-        reach |= topology.sources_joined_with_ties_closed(node)
-    for source in sorted(reach - {item_id}):
-        element = topology.elements[source]
-        assert isinstance(element, Source)
-        if element.starts_automatically:
-            hazards.append(Hazard("WARNING", f"{source} ({element.kind.value}) starts by "
-                                             "itself on loss of supply: keep it locked out "
-                                             "or its breaker locked open"))
-        if element.kind in (SourceKind.battery, SourceKind.ups):
-            hazards.append(Hazard("WARNING", f"{source} ({element.kind.value}) stays live "
-                                             "with every breaker open: its own terminals "
-                                             "are never dead"))
-    return hazards

@@ -704,17 +704,22 @@ def _isolation_points(plan: IsolationPlan | None) -> tuple[IsolationPoint, ...]:
         return ()
     return tuple(IsolationPoint(order=p.order, device=p.device, device_kind=p.device_kind,
                                 location=p.location, cuts=p.reason, voltage_v=p.voltage,
-                                already_open=p.already_open) for p in plan.points)
+                                already_open=p.already_open, blocks=p.blocks, how=p.how)
+                 for p in plan.points)
 
 
 def _proving_dead(plant: Plant, plan: IsolationPlan | None) -> tuple[ProvingDead, ...]:
     if plan is None:
         return ()
     a, b, c = plant.plant.sequence
-    three = (f"{a}-{b}", f"{b}-{c}", f"{c}-{a}", f"{a}-E", f"{b}-E", f"{c}-E")
-    two = ("1-2", "1-E", "2-E")
-    return tuple(ProvingDead(where=v.where, voltage_v=v.voltage,
-                             pairs=two if v.wires == 2 else three)
+    pairs = {
+        2: ("1-2", "1-E", "2-E"),
+        3: (f"{a}-{b}", f"{b}-{c}", f"{c}-{a}", f"{a}-E", f"{b}-E", f"{c}-E"),
+        # with a neutral: phase-to-neutral and neutral-to-earth as well (common practice)
+        4: (f"{a}-{b}", f"{b}-{c}", f"{c}-{a}", f"{a}-N", f"{b}-N", f"{c}-N",
+            f"{a}-E", f"{b}-E", f"{c}-E", "N-E"),
+    }
+    return tuple(ProvingDead(where=v.where, voltage_v=v.voltage, pairs=pairs[v.wires])
                  for v in plan.verify)
 
 
@@ -749,6 +754,8 @@ def _sketch(topology: Topology, item_id: str, plan: IsolationPlan | None) -> Ske
         chain(path)
     if plan is not None:
         for point in plan.points:
+            if point.blocks is not None:
+                continue  # a start or transfer block is a control, not a place in the wiring
             upstream = topology.normal_supply_paths(point.device)[:1]
             chain([*(upstream[0] if upstream else (point.device,)),
                    *reversed(point.via)])

@@ -10,6 +10,12 @@ not a ground fault. Edges:
 - ``magnetic``: the two sides of a transformer;
 - ``auxiliary``: an item and the device feeding its heater or control power.
 
+An open-transition (break-before-make) changeover never joins its inputs: energy
+passes from either input to its load side, or from its load side to either
+input, never from one input to the other. No plain graph says that, so walks
+that ask where energy could go step with ``Topology.onward``, which carries the
+changeover a walk has entered from an input.
+
 The graph is built in sorted order, so nothing depends on hash seeds. Pure:
 no file access.
 """
@@ -70,6 +76,7 @@ class Island:
     buses: tuple[str, ...]
     sources: tuple[str, ...]
     transformer_fed: bool = False  # holds a transformer secondary
+    neutral: bool = False  # a neutral conductor is distributed: 3 phases + N
 
     @property
     def elements(self) -> tuple[str, ...]:
@@ -173,17 +180,47 @@ class Topology:
         return self._closable[kinds]
 
     @cached_property
-    def _closable_galvanic_sources(self) -> dict[str, frozenset[str]]:
-        """Node → the sources galvanically joined to it when every tie is closed."""
-        joined: dict[str, frozenset[str]] = {}
-        for component in nx.connected_components(self.closable_view(GALVANIC)):
-            sources = frozenset(component) & self.source_nodes
-            for node in component:
-                joined[node] = sources
-        return joined
+    def one_input_at_a_time(self) -> dict[str, frozenset[str]]:
+        """Open-transition changeover → the nodes of its inputs, which it never joins."""
+        return {device.id: frozenset(self.node_out(s) for s in device.from_
+                                     if s in self.elements)
+                for device in self.plant.devices
+                if device.kind is DeviceKind.transfer_switch and not device.joins_inputs}
 
-    def sources_joined_with_ties_closed(self, node: str) -> frozenset[str]:
-        return self._closable_galvanic_sources[node]
+    @cached_property
+    def closable_adjacency(self) -> dict[str, tuple[str, ...]]:
+        """Node → its neighbours in ``closable_view(POWER)``, in the graph's sorted build
+        order (plain tuples: the walks of the planner read them millions of times)."""
+        view = self.closable_view(POWER)
+        return {node: tuple(view.adj[node]) for node in view}
+
+    def onward(self, node: str, passed: str | None,
+               neighbours: Iterable[str]) -> list[tuple[str, str | None]]:
+        """One step of a walk that respects open-transition changeovers.
+
+        A walk state is (node, passed): ``passed`` is the open-transition changeover
+        the walk last entered from one of its inputs. From that changeover the walk
+        goes on to its load side only, and never enters it again (which would join
+        its inputs through its own load side). Returns the states one step on.
+        """
+        switches = self.one_input_at_a_time
+        blocked_inputs = switches.get(node) if passed == node else None
+        found = []
+        for neighbour in neighbours:
+            if neighbour == passed or (blocked_inputs and neighbour in blocked_inputs):
+                continue
+            inputs = switches.get(neighbour)
+            found.append((neighbour, neighbour if inputs and node in inputs else passed))
+        return found
+
+    def _crosses_open_transition(self, path: Iterable[str]) -> bool:
+        """A simple path that goes from one input of an open-transition changeover to another."""
+        nodes = list(path)
+        for before, middle, after in zip(nodes, nodes[1:], nodes[2:], strict=False):
+            inputs = self.one_input_at_a_time.get(middle)
+            if inputs and before in inputs and after in inputs:
+                return True
+        return False
 
     @cached_property
     def normal_children(self) -> dict[str, list[str]]:
@@ -200,6 +237,29 @@ class Topology:
                 if supply in self.elements and supply not in self.normally_open:
                     children.setdefault(supply, []).append(element_id)
         return children
+
+    @cached_property
+    def kept_live(self) -> frozenset[str]:
+        """Nodes live in the normal switching state from sources that run without
+        starting by themselves (a standby generator's board is dead until it starts)."""
+        return self.kept_live_without(())
+
+    def kept_live_without(self, opened: Iterable[str]) -> frozenset[str]:
+        """``kept_live`` with the devices ``opened`` open as well."""
+        view = self.normal_view(POWER)
+        cut = set(opened)
+        starts = [s.id for s in self.plant.sources if not s.starts_automatically]
+        seen = set(starts)
+        stack = list(starts)
+        while stack:
+            node = stack.pop()
+            if node in cut:
+                continue  # an open device stays live on its supply side, feeds nothing on
+            for neighbour in view.neighbors(node):
+                if neighbour not in seen:
+                    seen.add(neighbour)
+                    stack.append(neighbour)
+        return frozenset(seen)
 
     def below(self, element_id: str) -> list[str]:
         """Every element that loses supply when ``element_id`` opens (normal state,
@@ -265,13 +325,19 @@ class Topology:
                 assert isinstance(transformer, Transformer)
                 if transformer.secondary_neutral is SecondaryNeutral.grounded:
                     earthing = Earthing.solid
+        # A wye secondary whose neutral is brought out (grounded or not) or a board
+        # declared four-wire puts a neutral conductor into the whole system.
+        neutral = any(isinstance(b, Bus) and b.four_wire for b in buses) or any(
+            node.endswith(":secondary") and _secondary_neutral_out(self.elements[element_of(node)])
+            for node in nodes)
         detectors = tuple(b.detector for b in buses if isinstance(b, Bus) and b.detector)
         watched = [b.id for b in buses if isinstance(b, Bus) and b.detector]
         name = (watched or [b.id for b in buses] or [s.id for s in sources] or nodes)[0]
         return Island(id=name, nodes=tuple(nodes), voltage=voltage, earthing=earthing,
                       detectors=detectors, buses=tuple(b.id for b in buses),
                       sources=tuple(s.id for s in sources),
-                      transformer_fed=any(n.endswith(":secondary") for n in nodes))
+                      transformer_fed=any(n.endswith(":secondary") for n in nodes),
+                      neutral=neutral)
 
     def _transformer_side_voltage(self, nodes: list[str]) -> float | None:
         for node in nodes:
@@ -334,17 +400,22 @@ class Topology:
         """Every way a source could reach the element if anything closable were closed.
 
         Includes normally open ties, changeovers, back-feed through transformers
-        and auxiliary supplies. Source first. At most ``limit`` paths.
+        and auxiliary supplies; never from one input of an open-transition
+        changeover to the other. Source first. At most ``limit`` paths.
         """
         view = self.closable_view(POWER)
         targets = set(self.source_nodes)
         found: list[tuple[str, ...]] = []
+
+        def physical(walker: Iterator[list[str]]) -> Iterator[list[str]]:
+            return (p for p in walker if not self._crosses_open_transition(p))
+
         for start in self.work_nodes(element_id):
             walker: Iterator[list[str]] = nx.all_simple_paths(view, start, targets)
-            found.extend(tuple(reversed(p)) for p in islice(walker, limit))
+            found.extend(tuple(reversed(p)) for p in islice(physical(walker), limit))
         for feed in self.auxiliary_feeds(element_id):
             walker = nx.all_simple_paths(view, feed, targets)
-            found.extend((*reversed(p), element_id) for p in islice(walker, limit))
+            found.extend((*reversed(p), element_id) for p in islice(physical(walker), limit))
         return sorted(set(found))[:limit]
 
     def work_nodes(self, element_id: str) -> list[str]:
@@ -367,16 +438,21 @@ class Topology:
         An auxiliary supply enters only the item that owns it: the heater of a
         motor does not connect the motor's winding to the heater's panel.
         """
-        view = self.closable_view(POWER)
+        adjacency = self.closable_adjacency
         starts = set(self.work_nodes(item_id))
         feeds = self.auxiliary_feeds(item_id)
 
         def neighbours(node: str) -> list[str]:
             # Adjacency keeps the sorted order the graph was built in: deterministic
             # without sorting on every step of a walk.
-            found = list(view.neighbors(node))
+            found = list(adjacency[node])
             if node in starts:
                 found += [f for f in feeds if f not in found]
             return found
 
         return neighbours
+
+
+def _secondary_neutral_out(element: Element) -> bool:
+    return (isinstance(element, Transformer)
+            and element.secondary_neutral is not SecondaryNeutral.not_brought_out)

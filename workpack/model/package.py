@@ -96,18 +96,20 @@ class Step(Plain):
 
 class IsolationPoint(Plain):
     order: int
-    device: str
+    device: str  # a device, or a start or transfer block (then ``blocks`` is set)
     device_kind: str
     location: str | None
-    cuts: str  # which supply it cuts
+    cuts: str  # which supply it cuts, or what the block stops
     voltage_v: float | None
     already_open: bool
+    blocks: str | None = None  # a block: the source or changeover it stops
+    how: str | None = None  # a block: what to set and how to lock it
 
 
 class ProvingDead(Plain):
     where: str
     voltage_v: float | None
-    pairs: tuple[str, ...]  # "A-B", "A-E", …; each expected 0 V
+    pairs: tuple[str, ...]  # "A-B", "A-N", "A-E", "N-E", …; each expected 0 V
 
 
 class ApproachBoundaries(Plain):

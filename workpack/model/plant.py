@@ -90,6 +90,10 @@ class PlantInfo(Strict):
         if len(set(self.phase_labels)) != 3:
             raise ValueError(f"phase_labels must be three different labels (got "
                              f"{list(self.phase_labels)})")
+        if {"N", "E"} & set(self.phase_labels):
+            raise ValueError(f"phase_labels {list(self.phase_labels)}: N and E name the "
+                             "neutral and earth in the proving-dead pairs; label the phases "
+                             "otherwise")
         if self.phase_sequence is not None and sorted(self.phase_sequence) != sorted(
             self.phase_labels
         ):
@@ -201,12 +205,40 @@ class SourceKind(StrEnum):
     ups = "ups"
 
 
+# Sources live whether or not anyone here closes anything: a UPS or battery holds its
+# output up by itself and a shore supply is switched from ashore.
+ALWAYS_LIVE = frozenset({SourceKind.ups, SourceKind.battery, SourceKind.shore_connection})
+
+
+class ControlBlock(Strict):
+    """A lockable control that keeps a source from starting, or a changeover from
+    transferring, by itself: a mode or start selector, an inverter off switch."""
+
+    id: Id
+    name: str | None = None
+    location: str | None = None
+    how: str = Field(min_length=1, description="what to set and how to lock it, e.g. "
+                                               "'engine mode selector to OFF; padlock it'")
+
+    @property
+    def label(self) -> str:
+        return f"{self.id} ({self.name})" if self.name else self.id
+
+
 class Source(Element):
     kind: SourceKind
     voltage: Volts
     rated_kva: Watts | None = Field(default=None, description="apparent power, e.g. '500 kVA'")
     starts_automatically: bool = Field(
         default=False, description="e.g. an emergency generator that starts on blackout")
+    start_block: ControlBlock | None = Field(
+        default=None, description="the lockable control that stops it starting or putting "
+                                  "out power by itself (isolation locks it as a step)")
+
+    @property
+    def comes_on_by_itself(self) -> bool:
+        """Starts by itself, or is live without anyone here closing anything."""
+        return self.starts_automatically or self.kind in ALWAYS_LIVE
 
 
 # --- buses and detectors ----------------------------------------------------------------
@@ -267,6 +299,8 @@ class Bus(FedElement):
     voltage: Volts
     earthing: Earthing
     detector: Detector | None = None
+    four_wire: bool = Field(default=False, description="a neutral conductor runs with the "
+                                                       "three phases (3 phases + N)")
 
 
 # --- switching devices ------------------------------------------------------------------
@@ -293,12 +327,32 @@ _LOCKABLE_BY_DEFAULT = {
 }
 
 
+class Transition(StrEnum):
+    """How a changeover passes from one input to the other."""
+
+    open = "open"  # break-before-make: its inputs are never joined
+    closed = "closed"  # make-before-break: it may join its inputs for a moment
+
+
 class Device(FedElement):
     kind: DeviceKind
     normally: Literal["closed", "open"] = "closed"
     lockable: bool | None = Field(default=None,
                                   description="can be locked open; default by kind")
     rating: Amperes | None = None
+    # Changeover (transfer_switch) only. The defaults are the cautious reading of a
+    # switch nobody has described: it may join its two inputs (so a supply on one
+    # input is locked off when working on the other) and it transfers by itself (so
+    # its alternate is locked before its normal supply is opened).
+    transition: Transition | None = Field(
+        default=None, description="transfer_switch: 'open' (break-before-make, never joins "
+                                  "its inputs) or 'closed' (may parallel them); default closed")
+    transfers_automatically: bool | None = Field(
+        default=None, description="transfer_switch: changes over by itself on loss of its "
+                                  "normal supply; default true")
+    transfer_block: ControlBlock | None = Field(
+        default=None, description="transfer_switch: the lockable control that keeps it "
+                                  "from changing over by itself (manual / blocked)")
 
     @model_validator(mode="after")
     def _transfer_switch_inputs(self) -> Device:
@@ -308,7 +362,27 @@ class Device(FedElement):
         if self.kind is not DeviceKind.transfer_switch and len(self.from_) != 1:
             raise ValueError(f"a {self.kind} connects to one supply-side element "
                              f"(got {len(self.from_)}); use a transfer_switch for two")
+        if self.kind is not DeviceKind.transfer_switch:
+            given = [name for name in ("transition", "transfers_automatically",
+                                       "transfer_block") if getattr(self, name) is not None]
+            if given:
+                verb = "describes" if len(given) == 1 else "describe"
+                raise ValueError(f"{', '.join(given)} {verb} a transfer_switch, not a "
+                                 f"{self.kind}")
+        if self.transfers_automatically is False and self.transfer_block is not None:
+            raise ValueError("a transfer_block stops a switch changing over by itself; this "
+                             "one is declared transfers_automatically: false")
         return self
+
+    @property
+    def joins_inputs(self) -> bool:
+        """A changeover that can connect its inputs to each other (closed transition)."""
+        return self.kind is DeviceKind.transfer_switch and self.transition is not Transition.open
+
+    @property
+    def changes_over_by_itself(self) -> bool:
+        return (self.kind is DeviceKind.transfer_switch
+                and self.transfers_automatically is not False)
 
     @property
     def can_lock(self) -> bool:

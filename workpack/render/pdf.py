@@ -711,6 +711,9 @@ class PackagePdf(PdfDocument):
             device += f"<br/>{words(point.location)}"
         if point.already_open:
             device += "<br/><b>Normally open: lock it open</b>"
+        cuts = words(point.cuts)
+        if point.how:
+            cuts = f"<b>Set and lock:</b> {words(point.how)}<br/>{cuts}"
         h = self.field_height_mm * mm
 
         def box(kind: str, what: str, part: str) -> FieldBox:
@@ -736,7 +739,7 @@ class PackagePdf(PdfDocument):
                                     ("BOTTOMPADDING", (0, 0), (-1, -1), 0)]))
         rows = [
             [Paragraph(str(point.order), self.style["step_no"]),
-             Paragraph(device, cell), Paragraph(words(point.cuts), cell),
+             Paragraph(device, cell), Paragraph(cuts, cell),
              Paragraph(volts(point.voltage_v), bold),
              FieldBox(field_name("lock", point.device, "number"),
                       f"{point.device}: lock number", height=h),
@@ -755,7 +758,7 @@ class PackagePdf(PdfDocument):
         out: list[Flowable] = [self.numbered("Isolation: open, lock and tag in this order")]
         if p.isolation:
             head = Table([[Paragraph(t, self.style["head"]) for t in
-                           ("#", "Device, kind, place", "What it cuts", "Voltage",
+                           ("#", "Device, kind, place", "What it cuts or stops", "Voltage",
                             "Lock no.", "Tag no.")]],
                          colWidths=self.cols(10, 50, 52, 20, 25, 25))
             head.setStyle(TableStyle([*_GRID, *_HEAD_ROW,
@@ -809,7 +812,8 @@ class PackagePdf(PdfDocument):
                             height=h, suffix="V") for pair in chunk] + pad,
             ]
             table = Table(rows, colWidths=self.cols(26, *[26] * per_row), hAlign="LEFT")
-            style = [*_GRID, ("BACKGROUND", (0, 0), (-1, 0), colors.Color(0.85, 0.85, 0.85)),
+            style = [*_GRID, ("BACKGROUND", (0, 0), (len(chunk), 0),
+                                colors.Color(0.85, 0.85, 0.85)),
                      ("VALIGN", (0, 2), (0, 2), "MIDDLE")]
             if pad:
                 style.append(("GRID", (len(chunk) + 1, 0), (-1, -1), 0, colors.white))

@@ -27,8 +27,13 @@ def isolation_plan(plan: IsolationPlan, item_label: str) -> str:
     for point in plan.points:
         state = " (normally open: lock it open)" if point.already_open else ""
         where = f", {point.location}" if point.location else ""
-        lines.append(f"  {point.order}. {point.device} [{point.device_kind}{where}]{state}")
-        lines.append(f"     cuts: {point.reason}; {volts(point.voltage)} side")
+        kind = point.device_kind.replace("_", " ") if point.blocks else point.device_kind
+        lines.append(f"  {point.order}. {point.device} [{kind}{where}]{state}")
+        if point.blocks:
+            lines.append(f"     set and lock: {point.how}")
+            lines.append(f"     {point.reason}")
+        else:
+            lines.append(f"     cuts: {point.reason}; {volts(point.voltage)} side")
     if plan.also_open:
         lines.append("Also open and tag (not lockable): " + ", ".join(plan.also_open))
     if plan.stored_energy:
