@@ -230,8 +230,8 @@ def unit_windings(vector_group: str, sequence: tuple[str, str, str],
             turn = lv_phasor / hv_phasor
             if abs(turn.imag) < 1e-9 and turn.real > 0:
                 pairs.append((f"{hx}-{hy}", f"{lx}-{ly}"))
-            elif abs(turn.imag) < 1e-9 and turn.real < 0:
-                pairs.append((f"{hx}-{hy}", f"{ly}-{lx}"))
+            elif abs(turn.imag) < 1e-9 and turn.real < 0:  # named the other way round
+                pairs.append((f"{hy}-{hx}", f"{lx}-{ly}"))
     return tuple(pairs)
 
 
