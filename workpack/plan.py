@@ -71,7 +71,13 @@ from workpack.restoration import (
     take_out_of_service,
 )
 from workpack.rules import Compiled, CompiledRule, CompiledStep, RuleError, RuleSet
-from workpack.search import NOT_FOUND, FinalTests, SectionTest, plan_fault_search
+from workpack.search import (
+    NOT_FOUND,
+    FinalTests,
+    SectionTest,
+    final_test_isolation,
+    plan_fault_search,
+)
 from workpack.search_core import Branch
 from workpack.topology import Topology, element_of
 
@@ -420,6 +426,7 @@ class _PackageBuilder:
         # A tripped breaker is open: the search neither opens nor recloses it.
         self.tripped = frozenset(d.where for d in diagnosis.diagnoses
                                  if d.kind == "breaker_tripped")
+        self._isolations: dict[str, IsolationPlan] = {}
 
     def build(self, job: _Job) -> WorkPackage:
         rule, context = job.rule, job.context
@@ -428,7 +435,7 @@ class _PackageBuilder:
         priority = int(_evaluate(rule, rule.priority, context))
         if system["second_ground"]:
             priority = 1
-        isolation = plan_isolation(self.topology, job.item) if rule.isolate else None
+        isolation = self._isolation_of(self.topology, job.item) if rule.isolate else None
         points = _isolation_points(isolation)
         proving = _proving_dead(self.plant, isolation)
         vital = self._vital_loads(points, [job.item]) if isolation is not None else ()
@@ -456,10 +463,10 @@ class _PackageBuilder:
                 self._with_cautions(rule, draft, context, facts))
         reconnects = [(s.number, s.reconnect) for s in steps if s.reconnect]
         if isolation is not None:
+            normal = self._normal_devices([job.item])
             restoring = restoration_steps(Restoring(
-                item_label=item.label, points=points,
-                normal_devices=self._normal_devices([job.item]),
-                tripped=self._tripped_on([job.item]), reconnects=reconnects,
+                item_label=item.label, points=points, normal_devices=normal,
+                tripped=tuple(sorted(self.tripped & normal)), reconnects=reconnects,
                 vital_loads=vital,
                 gate=gate_text("every acceptance criterion of this package is met",
                                f"tell the supervisor, and the bridge or control room, that "
@@ -524,6 +531,13 @@ class _PackageBuilder:
             return f"routine {job.routine.replace('_', ' ')} due"
         return "rule"
 
+    def _isolation_of(self, topology: Topology, item_id: str) -> IsolationPlan:
+        """``plan_isolation``, once per item for the day: final tests of several searches
+        (and packages on the same item) share it."""
+        if item_id not in self._isolations:
+            self._isolations[item_id] = plan_isolation(topology, item_id)
+        return self._isolations[item_id]
+
     def _vital_loads(self, points: Iterable[IsolationPoint],
                      places: Iterable[str]) -> tuple[str, ...]:
         """Vital loads an isolation takes out: below any device it opens (a heater's
@@ -538,10 +552,6 @@ class _PackageBuilder:
         return frozenset(element_of(node) for place in places
                          for path in self.topology.normal_supply_paths(place)
                          for node in path)
-
-    def _tripped_on(self, places: Iterable[str]) -> tuple[str, ...]:
-        normal = self._normal_devices(places)
-        return tuple(sorted(d for d in self.tripped if d in normal))
 
     def _step(self, rule: CompiledRule, step: CompiledStep, context: Mapping[str, Any],
               kind: StepKind = "work") -> _Draft | None:
@@ -630,7 +640,7 @@ class _PackageBuilder:
     def _final_test(self, rule: CompiledRule, context: Mapping[str, Any], final: FinalTests,
                     final_id: str) -> FinalTest:
         """One circuit's final tests as a complete isolation of their own."""
-        plan = final.isolation
+        plan = final_test_isolation(self.topology, final, self._isolation_of)
         points = _isolation_points(plan)
         proving = _proving_dead(self.plant, plan)
         circuit = f"the circuit below {final.feeder}"

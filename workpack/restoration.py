@@ -139,7 +139,9 @@ def number_steps(steps: Sequence[Step], prefix: str, first: int = 1) -> tuple[St
     keeps pointing at the work step it undoes."""
     out = []
     for n, step in enumerate(steps, start=first):
-        readings = tuple(r.model_copy(update={"id": f"{prefix}{n}.R{k}"})
-                         for k, r in enumerate(step.readings, start=1))
-        out.append(step.model_copy(update={"number": n, "readings": readings}))
+        update: dict[str, object] = {"number": n}
+        if step.readings:
+            update["readings"] = tuple(r.model_copy(update={"id": f"{prefix}{n}.R{k}"})
+                                       for k, r in enumerate(step.readings, start=1))
+        out.append(step.model_copy(update=update))
     return tuple(out)

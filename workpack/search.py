@@ -16,7 +16,7 @@ never opened whole: its own circuits are tried instead. Pure: no file access.
 from __future__ import annotations
 
 import datetime as dt
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, replace
 
 from workpack.diagnose import (
@@ -104,12 +104,13 @@ class SectionTest:
 class FinalTests:
     """Where a search ends: isolate the circuit, then test its sections.
 
-    ``isolation`` locks every supply that reaches any place a section is tested, the
-    main supply of a motor whose heater circuit is tested included."""
+    ``places``: where the tests are made; ``final_test_isolation`` locks every supply
+    that reaches any of them, the main supply of a motor whose heater circuit is tested
+    included (computed on demand: a search of hundreds of feeders ends at one)."""
 
     feeder: str
     sections: tuple[SectionTest, ...]
-    isolation: IsolationPlan
+    places: tuple[str, ...]
 
 
 @dataclass(frozen=True)
@@ -216,6 +217,11 @@ class _TreeBuilder:
         self.notes: list[str] = []
         self.children_of: dict[str, list[str]] = {}
         self._weight_cache: dict[str, tuple[float, tuple[str, ...]]] = {}
+        # feeding device → (load, index of its auxiliary) for heaters and control supplies
+        self.auxiliaries_fed: dict[str, list[tuple[Load, int]]] = {}
+        for load in topology.plant.loads:
+            for index, auxiliary in enumerate(load.auxiliaries):
+                self.auxiliaries_fed.setdefault(auxiliary.from_, []).append((load, index))
         self.total = sum(self.weight(e)[0] for e in self.members)
 
     # --- likelihood ---------------------------------------------------------------------
@@ -458,23 +464,30 @@ def _final_tests(topology: Topology, builder: _TreeBuilder, leaf: str,
         sections.append(_section(element_id, element.label, code_set, voltage, winding,
                                  assumption))
     # Heater and control circuits this feeder supplies inside other items' enclosures.
-    feeds = {leaf, *below}
     installations = standards[plant.plant.code_set.installations]
-    for load in sorted(plant.loads, key=lambda x: x.id):
-        for auxiliary in load.auxiliaries:
-            if auxiliary.from_ not in feeds:
-                continue
-            circuit_v = auxiliary.voltage or topology.voltage_at(auxiliary.from_)
-            if circuit_v is None:
-                continue
-            kind = auxiliary.kind.value.replace("_", " ")
-            sections.append(_section(load.id, f"{kind} circuit inside {load.label}",
-                                     installations, circuit_v, None, "",
-                                     circuit=auxiliary.kind.value))
-    places = sorted({s.element for s in sections}) or [leaf]
-    return FinalTests(feeder=leaf, sections=tuple(sections),
-                      isolation=merged_isolation([plan_isolation(topology, place)
-                                                  for place in places]))
+    inside = sorted((load.id, n) for feed in (leaf, *below)
+                    for load, n in builder.auxiliaries_fed.get(feed, ()))
+    for load_id, index in inside:
+        load = topology.elements[load_id]
+        assert isinstance(load, Load)
+        auxiliary = load.auxiliaries[index]
+        circuit_v = auxiliary.voltage or topology.voltage_at(auxiliary.from_)
+        if circuit_v is None:
+            continue
+        kind = auxiliary.kind.value.replace("_", " ")
+        sections.append(_section(load.id, f"{kind} circuit inside {load.label}",
+                                 installations, circuit_v, None, "",
+                                 circuit=auxiliary.kind.value))
+    places = tuple(sorted({s.element for s in sections})) or (leaf,)
+    return FinalTests(feeder=leaf, sections=tuple(sections), places=places)
+
+
+def final_test_isolation(topology: Topology, final: FinalTests,
+                         plan: Callable[[Topology, str], IsolationPlan] = plan_isolation,
+                         ) -> IsolationPlan:
+    """What to lock for ``final``'s tests: every supply of every place they are made in.
+    ``plan`` is ``isolation.plan_isolation`` or a caching stand-in for it."""
+    return merged_isolation([plan(topology, place) for place in final.places])
 
 
 def _section(element_id: str, label: str, code_set: CodeSet, voltage: float,
