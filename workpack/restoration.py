@@ -125,13 +125,22 @@ def restoration_steps(spec: Restoring) -> list[Step]:
     others = [p for p in sorted(spec.points, key=lambda p: p.order)
               if not p.already_open and p.device not in spec.normal_devices]
     if others:
-        add("Return each of these to its normal position (closed): "
-            + ", ".join(f"{p.device} ({p.cuts})" for p in others) + ".", "energise",
-            devices=tuple(p.device for p in others))
+        add("Return each of these to its normal position: "
+            + "; ".join(f"{p.device}, {_normal_position(p)} ({p.cuts})" for p in others)
+            + ".", "energise", devices=tuple(p.device for p in others))
     steps += spec.rule_steps.get(IN_SERVICE, [])
     if spec.return_text:
         add(spec.return_text, "return_to_service")
     return steps
+
+
+# Device kinds whose normal position, when not normally open, is closed; anything else
+# an isolation locks (a start block, a mode switch) goes back to its normal setting.
+_SWITCHING = frozenset({"circuit_breaker", "switch", "disconnector", "fuse"})
+
+
+def _normal_position(point: IsolationPoint) -> str:
+    return "closed" if point.device_kind in _SWITCHING else "its normal setting"
 
 
 def number_steps(steps: Sequence[Step], prefix: str, first: int = 1) -> tuple[Step, ...]:
