@@ -132,6 +132,7 @@ def scenario(seed: int, ground: bool) -> tuple[dict[str, Any], dict[str, Any]]:
         {"kind": "defect", "at": at, "by": "x", "where": damaged["id"],
          "text": "terminal box cover cracked, water inside", "severity": "high"},
         {"kind": "breaker_tripped", "at": at, "by": "x", "where": f"CB-{tripped['id']}"},
+        {"kind": "breaker_tripped", "at": at, "by": "x", "where": "CB-PM"},
         {"kind": "transformer_unit", "at": at, "by": "x", "where": "TD", "unit": "AB",
          "state": "failed", "load": "8 kVA"},
         {"kind": "transformer_unit", "at": at, "by": "x", "where": "TD", "unit": "BC",

@@ -457,26 +457,9 @@ class _PackageBuilder:
         if rule.search_plan:
             searched, final_tests, switched = self._with_search(len(steps) + 1, job, rule)
             steps += searched
-        by_stage: dict[str, list[Step]] = {}
-        for draft in after:
-            by_stage.setdefault(draft.stage, []).append(
-                self._with_cautions(rule, draft, context, facts))
-        reconnects = [(s.number, s.reconnect) for s in steps if s.reconnect]
-        if isolation is not None:
-            normal = self._normal_devices([job.item])
-            restoring = restoration_steps(Restoring(
-                item_label=item.label, points=points, normal_devices=normal,
-                tripped=tuple(sorted(self.tripped & normal)), reconnects=reconnects,
-                vital_loads=vital,
-                gate=gate_text("every acceptance criterion of this package is met",
-                               f"tell the supervisor, and the bridge or control room, that "
-                               f"{item.label} stays out of service"),
-                rule_steps=by_stage, return_text=return_to_service(item.label, vital)))
-        else:
-            restoring = [Step(number=0, text=text, kind="reconnect", undoes=number,
-                              check_only=True) for number, text in reversed(reconnects)]
-            restoring += [step for stage in by_stage.values() for step in stage]
-        restoration = number_steps(restoring, "X")
+        checks = [(d.stage, self._with_cautions(rule, d, context, facts)) for d in after]
+        restoration = number_steps(self._restoration(
+            job.item, points if isolation is not None else None, vital, steps, checks), "X")
         cautions = self._cautions(rule, context, isolation, steps + restoration, facts)
         title = str(_evaluate(rule, rule.title, context)).strip()
         package_id = f"{rule.id}:{job.key}"
@@ -530,6 +513,31 @@ class _PackageBuilder:
         if job.routine:
             return f"routine {job.routine.replace('_', ' ')} due"
         return "rule"
+
+    def _restoration(self, item_id: str, points: Sequence[IsolationPoint] | None,
+                     vital: Sequence[str], steps: Sequence[Step],
+                     checks: Sequence[tuple[str, Step]]) -> list[Step]:
+        """The package's restoration: written from its isolation (see ``restoration``),
+        the rule's checks placed by their stage; without an isolation, what the steps
+        disconnected is reconnected, then the rule's steps in their order."""
+        reconnects = [(s.number, s.reconnect) for s in steps if s.reconnect]
+        if points is None:
+            return [*(Step(number=0, text=text, kind="reconnect", undoes=number,
+                           check_only=True) for number, text in reversed(reconnects)),
+                    *(step for _, step in checks)]
+        label = self.topology.elements[item_id].label
+        by_stage: dict[str, list[Step]] = {}
+        for stage, step in checks:
+            by_stage.setdefault(stage, []).append(step)
+        normal = self._normal_devices([item_id])
+        return restoration_steps(Restoring(
+            item_label=label, points=points, normal_devices=normal,
+            tripped=tuple(sorted(self.tripped & normal)), reconnects=reconnects,
+            vital_loads=vital,
+            gate=gate_text("every acceptance criterion of this package is met",
+                           f"tell the supervisor, and the bridge or control room, that "
+                           f"{label} stays out of service"),
+            rule_steps=by_stage, return_text=return_to_service(label, vital)))
 
     def _isolation_of(self, topology: Topology, item_id: str) -> IsolationPlan:
         """``plan_isolation``, once per item for the day: final tests of several searches
