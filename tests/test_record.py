@@ -33,8 +33,22 @@ def windlass(packages: Path) -> Path:
     raise AssertionError("no windlass package")
 
 
+def numbers(package: Path) -> dict[str, str]:
+    """Where the windlass package keeps its readings: the insulation test as found, the
+    polarization index, the test after the dry-out and the restoration's readings (step
+    numbers follow the rule and the planner's own steps, so they are looked up)."""
+    data = json.loads(package.read_text(encoding="utf-8"))
+    tests = [s for s in data["steps"] if s["readings"] and s["readings"][0]["unit"] == "MΩ"]
+    index = next(s for s in data["steps"] if s["readings"] and "polarization" in
+                 s["readings"][0]["what"])
+    after = next(s for s in data["restoration"] if s["readings"])
+    return {"found": f"S{tests[0]['number']}", "pi": f"S{index['number']}",
+            "dry": f"S{tests[-1]['number']}", "back": f"X{after['number']}"}
+
+
 def filled_sheet(package: Path, tmp_path: Path, *, dry_out_mohm: str = "40 MΩ",
                  removed: bool = True) -> Path:
+    at = numbers(package)
     sheet = tmp_path / "results.yaml"
     assert main(["results-template", str(package), "--out", str(sheet)]) == 0
     text = sheet.read_text(encoding="utf-8")
@@ -49,12 +63,12 @@ def filled_sheet(package: Path, tmp_path: Path, *, dry_out_mohm: str = "40 MΩ",
         text = re.sub(r"    removed_by:\n", "    removed_by: S. Quayle\n", text)
     text = re.sub(r'(    "[A-C12]-[A-CE12]":)\n', r"\1 0\n", text)
     text = text.replace("{done: false}", "{done: true}")
-    text = re.sub(r"(  S2\.R\d:.*\n)    value:\n    temperature:.*\n",
+    text = re.sub(rf"(  {at['found']}\.R\d:.*\n)    value:\n    temperature:.*\n",
                   r"\1    value: 1.1\n    temperature: 25\n", text)
-    text = re.sub(r"(  S5\.R\d:.*\n)    value:\n    temperature:.*\n",
+    text = re.sub(rf"(  {at['dry']}\.R\d:.*\n)    value:\n    temperature:.*\n",
                   rf"\1    value: {dry_out_mohm}\n    temperature: 30 °C\n", text)
-    text = re.sub(r"(  S3\.R1:.*\n)    value:\n", r"\1    value: 2.4\n", text)
-    text = re.sub(r"(  X1\.R\d:.*\n)    value:\n", r"\1    value: 253\n", text)
+    text = re.sub(rf"(  {at['pi']}\.R1:.*\n)    value:\n", r"\1    value: 2.4\n", text)
+    text = re.sub(rf"(  {at['back']}\.R\d:.*\n)    value:\n", r"\1    value: 253\n", text)
     sheet.write_text(text, encoding="utf-8")
     return sheet
 
@@ -71,8 +85,9 @@ def test_yaml_round_trip_records_a_passed_job(packages, tmp_path, capsys) -> Non
         assert record.verdict == "passed"
         readings = {r["id"]: r for r in record.results["evaluation"]["readings"]}
         # IEEE 43 halving rule: 40 MΩ at 30 °C is 20 MΩ at 40 °C.
-        assert readings["S5.R1"]["compared_si"] == pytest.approx(20e6)
-        assert record.results["results"]["readings"]["S5.R1"]["value"] == "40 MΩ"
+        dry = numbers(package)["dry"]
+        assert readings[f"{dry}.R1"]["compared_si"] == pytest.approx(20e6)
+        assert record.results["results"]["readings"][f"{dry}.R1"]["value"] == "40 MΩ"
     assert main(["verify", "--db", str(db)]) == 0
 
 
@@ -119,18 +134,20 @@ def test_filled_pdf_gives_the_same_record_as_the_yaml_sheet(packages, tmp_path) 
                    field_name("lock", device, "removed_by"): "S. Quayle"}
     for index, point in enumerate(data["proving_dead"], start=1):
         values |= {field_name("dead", index, pair): "0" for pair in point["pairs"]}
+    at = numbers(package)
     for step in data["steps"]:
         for reading in step["readings"]:
-            if reading["id"].startswith("S2."):
+            if reading["id"].startswith(f"{at['found']}."):
                 values |= {field_name("reading", reading["id"]): "1.1",
                            field_name("temperature", reading["id"]): "25"}
-            elif reading["id"].startswith("S5."):
+            elif reading["id"].startswith(f"{at['dry']}."):
                 values |= {field_name("reading", reading["id"]): "40 MΩ",
                            field_name("temperature", reading["id"]): "30 °C"}
-            elif reading["id"] == "S3.R1":
-                values[field_name("reading", "S3.R1")] = "2.4"
-    for reading in data["restoration"][0]["readings"]:
-        values[field_name("reading", reading["id"])] = "253"
+            elif reading["id"] == f"{at['pi']}.R1":
+                values[field_name("reading", reading["id"])] = "2.4"
+    for step in data["restoration"]:
+        for reading in step["readings"]:
+            values[field_name("reading", reading["id"])] = "253"
     writer = PdfWriter(clone_from=PdfReader(package.with_suffix(".pdf")))
     for page in writer.pages:
         writer.update_page_form_field_values(page, values, auto_regenerate=False)
@@ -151,8 +168,8 @@ def test_filled_pdf_gives_the_same_record_as_the_yaml_sheet(packages, tmp_path) 
 @pytest.mark.parametrize(("change", "expected"), [
     (("package: WP-", "package: XX-"), r":5:10: package: these results answer 'XX-"),
     (("    value: 253\n", "    value: 253 kΩ\n"),
-     r"readings\.X1\.R1\.value: 'kΩ' is not a unit of voltage"),
-    (("S5.R1:", "S5.R9:"), r"readings\.S5\.R9: no reading 'S5\.R9' in WP-\d+-\d+ \(did you mean"),
+     r"readings\.X\d+\.R1\.value: 'kΩ' is not a unit of voltage"),
+    (("S3.R1:", "S3.R9:"), r"readings\.S3\.R9: no reading 'S3\.R9' in WP-\d+-\d+ \(did you mean"),
     (("completed_on: 2026-12-02", "completed_on: 2026-13-02"),
      r":9:15: YAML: '2026-13-02' is not a real date"),
     (("  CB-WL1:", "  CB-WL9:"), r"isolation\.CB-WL9: 'CB-WL9' is not an isolation point"),

@@ -134,3 +134,21 @@ def test_shipped_rules_load_clean() -> None:
             "failed-unit-open-delta", "monitor-alarm", "tripped-breaker", "detector-test",
             "periodic-insulation-survey", "bank-inspection"} <= ids
     assert "second-ground" in ruleset.cautions
+
+
+def test_a_caution_that_speaks_of_an_isolation_must_need_one(tmp_path: Path) -> None:
+    """A caution's text may state only what the package does: its needs say so, and the
+    lint holds the text to them (issue: 'both sides are in the isolation' printed on a live
+    inspection)."""
+    folder = tmp_path / "rules"
+    folder.mkdir()
+    library = (ROOT / "rules" / "cautions.yaml").read_text(encoding="utf-8")
+    library = library.replace("    needs: [isolated, proves_dead, isolates_transformer]\n", "")
+    (folder / "cautions.yaml").write_text(library, encoding="utf-8")
+    shutil.copy(ROOT / "rules" / "transformers.yaml", folder / "transformers.yaml")
+    with pytest.raises(InputError) as caught:
+        load_ruleset(folder)
+    message = caught.value.format_message()
+    assert "caution transformer-backfeed: its text says 'isolation', which is true only " \
+           "where the package is isolated: add 'isolated' to its needs" in message
+    assert "add 'proves_dead' to its needs" in message

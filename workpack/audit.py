@@ -49,7 +49,7 @@ from workpack.electrical.standards import CodeSet
 from workpack.evaluate import Deviation, Evaluation, ReadingVerdict
 from workpack.history import History, history_from_records
 from workpack.model.package import Reading, WorkPackage, in_unit
-from workpack.model.results import Results
+from workpack.model.results import LockRecord, Results
 from workpack.store import package_sha256
 
 if TYPE_CHECKING:  # types only: the audit reads what the shell has read
@@ -523,13 +523,24 @@ def _open_isolations(pid: str, plant: str | None, package: WorkPackage | None, r
     out = []
     for device in sorted(read.evaluation.locks_not_removed,
                          key=lambda d: (order.get(d, len(order) + 1), d)):
-        lock = read.results.isolation.get(device) if read.results is not None else None
+        lock = _lock_record(read.results, device)
         out.append(OpenIsolation(
             pid, plant or "plant not known", read.evaluation.item, device,
             lock.lock if lock else None, lock.tag if lock else None,
             lock.applied_by if lock else None, lock.applied_at if lock else None,
             ref(read.record)))
     return out
+
+
+def _lock_record(results: Results | None, ref: str) -> LockRecord | None:
+    """The lock record of ``ref``: a device, or "F2:DEVICE" in a search's final test F2."""
+    if results is None:
+        return None
+    if ":" in ref:
+        final_id, device = ref.split(":", 1)
+        final = results.final_tests.get(final_id)
+        return final.isolation.get(device) if final is not None else None
+    return results.isolation.get(ref)
 
 
 # --- insulation trends ------------------------------------------------------------------

@@ -9,6 +9,7 @@ with. Pure: plant, topology and tables arrive as arguments.
 
 from __future__ import annotations
 
+import cmath
 import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
@@ -29,8 +30,10 @@ from workpack.electrical import (
     transformer_bank,
 )
 from workpack.electrical.standards import CodeSet
+from workpack.electrical.threephase import SQRT3, PhaseSequence, source_phasors
+from workpack.electrical.transformers import VectorGroup
 from workpack.model.package import Limit, Reading
-from workpack.model.plant import Bus, Load, Transformer
+from workpack.model.plant import Bus, Cable, Load, LoadKind, Transformer
 from workpack.topology import Topology
 
 # Common practice, not a published limit: on a healthy balanced system each
@@ -192,21 +195,141 @@ def bank_secondary_voltages(ctx: CalcContext, bank: str) -> tuple[Reading, ...]:
         for n, (x, y) in enumerate(((a, b), (b, c), (c, a)), start=1))
 
 
+def unit_windings(vector_group: str, sequence: tuple[str, str, str],
+                  ) -> tuple[tuple[str, str], ...]:
+    """Which LV winding shares a unit (a core) with each HV winding of a bank, as
+    ``(HV terminals, LV terminals)`` such as ``("A-B", "a-n")`` for Dyn11.
+
+    A unit's two windings carry voltages in phase (or in opposition, the terminals then
+    named the other way round). HV windings: line pairs for delta, line to neutral for
+    wye; LV likewise, shifted by the group's clock number × 30° (IEC 60076-1; LV lags HV
+    by that angle, mirrored for the opposite rotation). ``sequence``: the plant's phase
+    labels in rotation order; LV labels are the same in lower case.
+    """
+    group = VectorGroup.parse(vector_group)
+    if "Z" in (group.hv, group.lv.upper()):
+        raise CalcError(f"{vector_group}: zigzag windings are not single units on one core")
+    order = PhaseSequence.parse(sequence)
+    hv = source_phasors(SQRT3, order)  # 1 V to neutral; only angles matter here
+    shift = cmath.rect(1.0, math.radians(group.lv_angle_deg(order)))
+    a, b, c = sequence
+    low = {label: _lv_label(label) for label in sequence}
+
+    def windings(delta: bool, names: dict[str, str], turn: complex,
+                 ) -> list[tuple[str, str, complex]]:
+        if delta:
+            return [(names[x], names[y], (hv[x] - hv[y]) * turn)
+                    for x, y in ((a, b), (b, c), (c, a))]
+        return [(names[x], "n" if names is low else "N", hv[x] * turn) for x in (a, b, c)]
+
+    high = windings(group.hv == "D", {x: x for x in sequence}, 1.0)
+    lows = windings(group.lv == "d", low, shift)
+    pairs = []
+    for hx, hy, hv_phasor in high:
+        for lx, ly, lv_phasor in lows:
+            turn = lv_phasor / hv_phasor
+            if abs(turn.imag) < 1e-9 and turn.real > 0:
+                pairs.append((f"{hx}-{hy}", f"{lx}-{ly}"))
+            elif abs(turn.imag) < 1e-9 and turn.real < 0:  # named the other way round
+                pairs.append((f"{hy}-{hx}", f"{lx}-{ly}"))
+    return tuple(pairs)
+
+
+def _lv_label(label: str) -> str:
+    return label.lower() if len(label) == 1 else f"{label}'"
+
+
 def turns_ratio(ctx: CalcContext, bank: str) -> tuple[Reading, ...]:
-    """Turns ratio of each unit of a bank, from the nameplate voltages."""
+    """Turns ratio of each unit of a bank: its HV winding's nameplate voltage over its LV
+    winding's, the windings paired by the vector group (``unit_windings``)."""
     transformer = bank_of(ctx, bank)
     ratio = winding_ratio(transformer)
-    basis = ("±0.5 % of the calculated ratio: ANSI/NETA MTS transformer turns-ratio "
+    group = VectorGroup.parse(transformer.vector_group)
+    hv_v = transformer.primary_voltage if group.hv == "D" else (
+        transformer.primary_voltage / math.sqrt(3))
+    lv_v = transformer.secondary_voltage if group.lv == "d" else (
+        transformer.secondary_voltage / math.sqrt(3))
+
+    def how(connection: str, line_v: float) -> str:
+        return ("delta: the line voltage" if connection in "Dd" else
+                f"wye: {line_v:g} V / √3")
+
+    limit = ("±0.5 % of the calculated ratio: ANSI/NETA MTS transformer turns-ratio "
              "acceptance (from memory)")
-    a, b, c = _labels(ctx)
     bounds = _inward(ratio * (1 - RATIO_BAND), ratio * (1 + RATIO_BAND))
     return tuple(
-        Reading(id=f"{ctx.prefix}.R{n}", what=f"turns ratio of the {x}{y} unit of {bank}",
+        Reading(id=f"{ctx.prefix}.R{n}",
+                what=f"turns ratio of the {bank} unit across HV {hv_pair} (LV {lv_pair})",
                 unit="", expected=ratio, tolerance=RATIO_BAND * ratio,
-                limit=Limit(low=bounds[0], high=bounds[1], basis=basis),
-                basis=f"computed: winding voltages {transformer.primary_voltage:g} V / "
-                      f"{transformer.secondary_voltage:g} V, {transformer.vector_group}")
-        for n, (x, y) in enumerate(((a, b), (b, c), (c, a)), start=1))
+                limit=Limit(low=bounds[0], high=bounds[1], basis=limit),
+                basis=(f"computed: HV winding {hv_v:.4g} V "
+                       f"({how(group.hv, transformer.primary_voltage)}) / LV winding "
+                       f"{lv_v:.4g} V ({how(group.lv, transformer.secondary_voltage)}) = "
+                       f"{ratio:.4g}; {transformer.vector_group}: the unit across HV "
+                       f"{hv_pair} carries LV {lv_pair} (IEC 60076-1 clock number)"))
+        for n, (hv_pair, lv_pair) in enumerate(
+            unit_windings(transformer.vector_group, _labels(ctx)), start=1))
+
+
+def circuit_insulation(ctx: CalcContext, feeder: str) -> tuple[Reading, ...]:
+    """Insulation of the circuit a device feeds, down to the first board or bank: each
+    cable and busbar phase to phase and each phase to earth, each load phase to earth
+    (a winding joins its phases, so between them it reads nothing useful), with the
+    test voltage and minimum of each element's own table. Electronics are left out (they
+    are disconnected, not tested). Where the circuit has no cable element, the
+    conductors from the device to its loads are tested as one."""
+    device = _element(ctx, feeder)
+    topology = ctx.topology
+    a, b, c = _labels(ctx)
+    sections: list[Any] = []
+    stack = list(reversed(topology.normal_children.get(device.id, [])))
+    while stack:
+        element = topology.elements[stack.pop()]
+        if isinstance(element, Load) and element.kind is LoadKind.electronics:
+            continue
+        if isinstance(element, Cable | Load | Bus | Transformer):
+            sections.append(element)
+        if not isinstance(element, Bus | Transformer | Load):
+            stack.extend(reversed(topology.normal_children.get(element.id, [])))
+    readings: list[Reading] = []
+
+    def add(element: Any, label: str, pairs: list[tuple[str, str]], between: bool) -> None:
+        code_set = insulation_code_set(topology.plant, element, ctx.standards)
+        voltage = rated_voltage(topology, element)
+        winding, assumption = winding_of(element, voltage)
+        test = dc_test_voltage(code_set, voltage)
+        minimum = minimum_insulation_resistance(code_set, voltage, winding=winding)
+        dc = (f"{test.min_v:g} V" if test.min_v == test.max_v
+              else f"{test.min_v:g}–{test.max_v:g} V")
+        basis = f"{minimum.citation}" + (f"; {assumption}" if assumption else "")
+        for x, y in pairs:
+            phase_to_phase = y != "E"
+            readings.append(Reading(
+                id=f"{ctx.prefix}.R{len(readings) + 1}",
+                what=f"{label} {x}-{y}, {dc} DC for 1 min ({test.citation})",
+                unit="MΩ" if minimum.minimum_ohm >= 1e6 else "kΩ",
+                limit=Limit(low=minimum.minimum_ohm,
+                            basis=basis + ("; between phases the same minimum as to earth "
+                                           "(common practice)" if phase_to_phase else ""),
+                            temperature_corrected_to_c=minimum.reference_c,
+                            code_set=code_set.name if minimum.reference_c is not None
+                            else None),
+                needs_temperature=minimum.reference_c is not None,
+                element=element.id if between or not phase_to_phase else None,
+                test_voltage_v=test.max_v))
+
+    to_earth = [(a, "E"), (b, "E"), (c, "E")]
+    between = [(a, b), (b, c), (c, a)]
+    if not any(isinstance(s, Cable) for s in sections):
+        loads = [s for s in sections if isinstance(s, Load)]
+        if loads:
+            add(loads[0], f"conductors {feeder} to {loads[0].id}", between, False)
+    for section in sections:
+        add(section, section.id,
+            to_earth if isinstance(section, Load | Transformer) else between + to_earth, True)
+    if not readings:
+        raise CalcError(f"nothing below {feeder} can be insulation-tested")
+    return tuple(readings)
 
 
 def open_delta_load(ctx: CalcContext, bank: str) -> tuple[Reading, ...]:
@@ -250,6 +373,7 @@ CALCULATIONS: dict[str, Callable[..., tuple[Reading, ...]]] = {
     "polarization_index": polarization_index,
     "bank_secondary_voltages": bank_secondary_voltages,
     "turns_ratio": turns_ratio,
+    "circuit_insulation": circuit_insulation,
     "open_delta_load": open_delta_load,
     "monitor_above_alarm": monitor_above_alarm,
 }

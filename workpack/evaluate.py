@@ -11,15 +11,23 @@ recorded). A failing insulation reading becomes a finding for tomorrow. Pure.
 from __future__ import annotations
 
 import datetime as dt
-from collections.abc import Iterator, Mapping
+from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any, Literal
 
 from workpack.electrical import correct_to_reference
 from workpack.electrical.standards import CodeSet
 from workpack.errors import did_you_mean
-from workpack.model.package import UNIT_SCALE, Reading, WorkPackage, in_unit
-from workpack.model.results import Results
+from workpack.model.package import (
+    UNIT_SCALE,
+    IsolationPoint,
+    ProvingDead,
+    Reading,
+    Step,
+    WorkPackage,
+    in_unit,
+)
+from workpack.model.results import FinalTestResults, Results
 from workpack.units import UnitProblem, to_si
 
 # Common practice: a proving-dead reading is the tester's "no voltage"; anything above
@@ -75,6 +83,7 @@ class Evaluation:
     supervisor: str | None
     ground_found_at: str | None
     followups: tuple[dict[str, Any], ...]  # findings for tomorrow, as a findings file holds them
+    locks_left_on: tuple[str, ...] = ()  # "DEVICE: why", kept on by the restoration's gate
 
 
 # --- checking the results against the package (errors a person made while filling in) ------
@@ -107,33 +116,51 @@ def check_results(package: WorkPackage, results: Results,
                 to_si(measured.temperature, "temperature")
             except UnitProblem as problem:
                 yield ("readings", reading_id, "temperature"), str(problem)
-    devices = {point.device for point in package.isolation}
-    for device in results.isolation:
-        if device not in devices:
-            yield ("isolation", device), (f"{device!r} is not an isolation point of "
-                                          f"{package.id}{did_you_mean(device, devices)}")
-    for index, pairs in results.proving_dead.items():
-        if not 1 <= index <= len(package.proving_dead):
-            yield ("proving_dead", index), (f"{package.id} has {len(package.proving_dead)} "
-                                            "proving-dead points, numbered from 1")
+    yield from _check_scope((), package.id, package.isolation, package.proving_dead,
+                            package.steps, package.restoration, results)
+    finals = {final.id: final for final in package.final_tests}
+    for final_id, record in results.final_tests.items():
+        final = finals.get(final_id)
+        if final is None:
+            yield ("final_tests", final_id), (f"{package.id} has no final test {final_id!r}"
+                                              f"{did_you_mean(final_id, finals)}")
             continue
-        known = package.proving_dead[index - 1].pairs
+        yield from _check_scope(("final_tests", final_id), f"{package.id} {final_id}",
+                                final.isolation, final.proving_dead, final.steps,
+                                final.restoration, record)
+
+
+def _check_scope(base: Path, name: str, isolation: Sequence[IsolationPoint],
+                 proving_dead: Sequence[ProvingDead], steps: Sequence[Step],
+                 restoration: Sequence[Step],
+                 record: Results | FinalTestResults) -> Iterator[tuple[Path, str]]:
+    devices = {point.device for point in isolation}
+    for device in record.isolation:
+        if device not in devices:
+            yield (*base, "isolation", device), (f"{device!r} is not an isolation point of "
+                                                 f"{name}{did_you_mean(device, devices)}")
+    for index, pairs in record.proving_dead.items():
+        if not 1 <= index <= len(proving_dead):
+            yield (*base, "proving_dead", index), (f"{name} has {len(proving_dead)} "
+                                                   "proving-dead points, numbered from 1")
+            continue
+        known = proving_dead[index - 1].pairs
         for pair, value in pairs.items():
             if pair not in known:
-                yield ("proving_dead", index, pair), (f"no pair {pair!r} here"
-                                                      f"{did_you_mean(pair, known)}")
+                yield (*base, "proving_dead", index, pair), (f"no pair {pair!r} here"
+                                                             f"{did_you_mean(pair, known)}")
             elif value is not None and str(value).strip():
                 try:
                     to_si(value, "voltage")
                 except UnitProblem as problem:
-                    yield ("proving_dead", index, pair), str(problem)
-    for section, steps, name in (("steps", package.steps, "step"),
-                                 ("restoration", package.restoration, "restoration step")):
-        numbers = {step.number for step in steps}
-        for number in getattr(results, section):
+                    yield (*base, "proving_dead", index, pair), str(problem)
+    for section, numbered, what in (("steps", steps, "step"),
+                                    ("restoration", restoration, "restoration step")):
+        numbers = {step.number for step in numbered}
+        for number in getattr(record, section):
             if number not in numbers:
-                yield (section, number), (f"{package.id} has no {name} {number} (it has 1 to "
-                                          f"{max(numbers, default=0)})")
+                yield (*base, section, number), (f"{name} has no {what} {number} (it has 1 "
+                                                 f"to {max(numbers, default=0)})")
 
 
 def measured_value(reading: Reading, value: float | str) -> float:
@@ -168,9 +195,21 @@ def evaluate(package: WorkPackage, results: Results,
     """Judge checked results (``check_results`` found nothing) against their package."""
     verdicts = tuple(_judge(reading, results, standards) for reading in package.readings())
     deciding = {reading.id for reading in package.readings() if reading.acceptance}
+    found = results.ground_found_at is not None
     # A branch of a search is done only if the search led there: unrecorded, it is no gap.
-    optional_steps = {s.number for s in package.steps if s.optional}
     optional = {r.id for s in package.steps if s.optional for r in s.readings}
+    optional |= {r.id for s in package.restoration if not _outcome_applies(s, found)
+                 for r in s.readings}
+    recorded = {r.id for r in package.readings()
+                if (m := results.readings.get(r.id)) is not None and m.value is not None}
+    taken = []
+    for final in package.final_tests:
+        ids = {r.id for s in (*final.steps, *final.restoration) for r in s.readings}
+        record = results.final_tests.get(final.id)
+        if (record is not None and record.anything_filled_in()) or ids & recorded:
+            taken.append(final)
+        else:
+            optional |= ids  # the search did not end there
     deviations: list[Deviation] = []
     for judged in verdicts:
         if judged.id not in deciding:
@@ -181,43 +220,16 @@ def evaluate(package: WorkPackage, results: Results,
         elif judged.outcome == "not recorded" and judged.id not in optional:
             deviations.append(Deviation("reading", judged.id, f"{judged.id} {judged.what}: "
                                         "not recorded", fails=False))
-    for section, steps in (("steps", package.steps), ("restoration", package.restoration)):
-        done = getattr(results, section)
-        for step in steps:
-            if section == "steps" and step.number in optional_steps:
-                continue
-            if not (step.number in done and done[step.number].done):
-                name = "step" if section == "steps" else "restoration step"
-                deviations.append(Deviation(name, str(step.number),
-                                            f"{name} {step.number} not ticked as done",
-                                            fails=False))
-    not_removed = []
-    for point in package.isolation:
-        record = results.isolation.get(point.device)
-        if record is None or not (record.lock and record.applied_by):
-            deviations.append(Deviation("lock", point.device, f"{point.device}: no lock "
-                                        "recorded as applied", fails=False))
-            continue
-        if not record.removed_by:
-            not_removed.append(point.device)
-            deviations.append(Deviation(
-                "lock", point.device, f"{point.device}: lock {record.lock} applied by "
-                f"{record.applied_by} was never recorded as removed", fails=True))
-    for index, dead in enumerate(package.proving_dead, start=1):
-        measured = results.proving_dead.get(index, {})
-        for pair in dead.pairs:
-            value = measured.get(pair)
-            if value is None or not str(value).strip():
-                deviations.append(Deviation("dead", f"{index}:{pair}", f"{dead.where} {pair}: "
-                                            "absence of voltage not recorded", fails=False))
-            elif to_si(value, "voltage") > DEAD_BELOW_V:
-                deviations.append(Deviation(
-                    "dead", f"{index}:{pair}", f"{dead.where} {pair}: "
-                    f"{to_si(value, 'voltage'):g} V measured: NOT dead", fails=True))
-    if package.proving_dead and not (results.tester_proven_before and
-                                     results.tester_proven_after):
-        deviations.append(Deviation("tester", "tester", "tester not recorded as proven on a "
-                                    "known live source both before and after", fails=False))
+    not_removed: list[str] = []
+    left_on: list[str] = []
+    deviations += _scope_deviations("", package.isolation, package.proving_dead,
+                                    package.steps, package.restoration, results, found,
+                                    not_removed, left_on)
+    for final in taken:
+        deviations += _scope_deviations(
+            f"{final.id}:", final.isolation, final.proving_dead, final.steps,
+            final.restoration, results.final_tests.get(final.id) or FinalTestResults(),
+            found, not_removed, left_on)
     for who, signed in (("technician", results.completed_by),
                         ("supervisor", results.supervisor)):
         if not signed:
@@ -229,7 +241,80 @@ def evaluate(package: WorkPackage, results: Results,
         verdict=verdict, readings=verdicts, deviations=tuple(deviations),
         locks_not_removed=tuple(not_removed), completed_by=results.completed_by,
         supervisor=results.supervisor, ground_found_at=results.ground_found_at,
-        followups=tuple(_followups(package, results, verdicts)))
+        followups=tuple(_followups(package, results, verdicts)),
+        locks_left_on=tuple(left_on))
+
+
+def _outcome_applies(step: Step, found: bool) -> bool:
+    """A restoration step for one outcome of a search is due only for that outcome."""
+    return step.search_outcome is None or (step.search_outcome == "found") == found
+
+
+def _scope_deviations(prefix: str, isolation: Sequence[IsolationPoint],
+                      proving_dead: Sequence[ProvingDead], steps: Sequence[Step],
+                      restoration: Sequence[Step], record: Results | FinalTestResults,
+                      found: bool, not_removed: list[str],
+                      left_on: list[str]) -> list[Deviation]:
+    """Steps, locks, proving dead and tester of one isolation: the package's own
+    (``prefix`` "") or one final test's ("F2:"). Locks not removed are added to
+    ``not_removed`` ("F2:CB-7" in a final test); those the restoration's gate kept on
+    for a reason to ``left_on`` as well."""
+    deviations: list[Deviation] = []
+    kept = record.locks_left_on if any(s.kind == "gate" for s in restoration) else None
+    for section, numbered in (("steps", steps), ("restoration", restoration)):
+        done = getattr(record, section)
+        for step in numbered:
+            if step.optional or (section == "restoration" and (
+                    kept or not _outcome_applies(step, found))):
+                continue  # a branch not taken, or a restoration the gate withheld
+            if not (step.number in done and done[step.number].done):
+                name = f"{prefix}{'step' if section == 'steps' else 'restoration step'}"
+                deviations.append(Deviation(name.replace(":", " "), f"{prefix}{step.number}",
+                                            f"{name.replace(':', ' ')} {step.number} not "
+                                            "ticked as done", fails=False))
+    for point in isolation:
+        ref = f"{prefix}{point.device}"
+        lock = record.isolation.get(point.device)
+        if lock is None or not (lock.lock and lock.applied_by):
+            deviations.append(Deviation("lock", ref, f"{ref}: no lock recorded as applied",
+                                        fails=False))
+            continue
+        if not lock.removed_by:
+            not_removed.append(ref)
+            if kept:
+                left_on.append(f"{ref}: {kept}")
+                continue
+            deviations.append(Deviation(
+                "lock", ref, f"{ref}: lock {lock.lock} applied by {lock.applied_by} was "
+                "never recorded as removed", fails=True))
+        elif _person(lock.removed_by) != _person(lock.applied_by):
+            deviations.append(Deviation(
+                "lock", ref, f"{ref}: lock {lock.lock} applied by {lock.applied_by} was "
+                f"removed by {lock.removed_by}: each lock is removed by whoever applied it "
+                "(record the employer's procedure for removal by another in the remarks)",
+                fails=False))
+    for index, dead in enumerate(proving_dead, start=1):
+        measured = record.proving_dead.get(index, {})
+        for pair in dead.pairs:
+            value = measured.get(pair)
+            ref = f"{prefix}{index}:{pair}"
+            if value is None or not str(value).strip():
+                deviations.append(Deviation("dead", ref, f"{prefix}{dead.where} {pair}: "
+                                            "absence of voltage not recorded", fails=False))
+            elif to_si(value, "voltage") > DEAD_BELOW_V:
+                deviations.append(Deviation(
+                    "dead", ref, f"{prefix}{dead.where} {pair}: "
+                    f"{to_si(value, 'voltage'):g} V measured: NOT dead", fails=True))
+    if proving_dead and not (record.tester_proven_before and record.tester_proven_after):
+        deviations.append(Deviation("tester", f"{prefix}tester", f"{prefix}tester not "
+                                    "recorded as proven on a known live source both before "
+                                    "and after", fails=False))
+    return deviations
+
+
+def _person(name: str) -> str:
+    """A name as written, for comparing who applied and who removed a lock."""
+    return " ".join(name.split()).casefold()
 
 
 def _judge(reading: Reading, results: Results,

@@ -10,10 +10,17 @@ technician with a tablet and one with paper end in the same record. Pure.
 from __future__ import annotations
 
 import json
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from typing import Any
 
-from workpack.model.package import Reading, WorkPackage, in_unit
+from workpack.model.package import (
+    IsolationPoint,
+    ProvingDead,
+    Reading,
+    Step,
+    WorkPackage,
+    in_unit,
+)
 
 
 def _quoted(text: str) -> str:
@@ -31,6 +38,50 @@ def _expectation(reading: Reading) -> str:
     return "; ".join(parts) or "record as found"
 
 
+def _scope_lines(indent: str, isolation: Sequence[IsolationPoint],
+                 proving_dead: Sequence[ProvingDead], steps: Sequence[Step],
+                 restoration: Sequence[Step]) -> list[str]:
+    """Tester, locks, proving dead and step ticks of one isolation (the package's own or
+    a final test's), indented by ``indent``."""
+    lines: list[str] = []
+    if proving_dead:
+        lines += [f"{indent}tester_proven_before: false   # on a known live source, before",
+                  f"{indent}tester_proven_after: false    # and after"]
+    removed_in = {d: step.number for step in restoration if step.kind == "remove_lock"
+                  for d in step.devices}
+    if isolation:
+        lines.append(f"{indent}isolation:")
+        for point in isolation:
+            state = " (normally open: lock it open)" if point.already_open else ""
+            if point.blocks:
+                state = f" (set and lock: {' '.join(point.how.split()) if point.how else ''})"
+            removal = (f"; removed at restoration step {removed_in[point.device]}, by "
+                       "whoever applied it" if point.device in removed_in else "")
+            key = _quoted(point.device) if ":" in point.device else point.device
+            lines.append(f"{indent}  {key}:   # {point.order}. {point.device_kind}, "
+                         f"{point.location or 'location not given'}{state}{removal}")
+            lines += [f"{indent}    {name}:" for name in ("lock", "tag", "applied_by",
+                                                          "applied_at", "removed_by",
+                                                          "removed_at")]
+    if proving_dead:
+        lines.append(f"{indent}proving_dead:   # volts measured; expected 0 V")
+        for index, dead in enumerate(proving_dead, start=1):
+            lines.append(f"{indent}  {index}:   # {dead.where}")
+            lines += [f"{indent}    {_quoted(pair)}:" for pair in dead.pairs]
+    for section, numbered in (("steps", steps), ("restoration", restoration)):
+        if not numbered:
+            continue
+        lines.append(f"{indent}{section}:")
+        for step in numbered:
+            text = " ".join(step.text.split())
+            lines.append(f"{indent}  {step.number}: {{done: false}}   # {text[:70]}"
+                         + ("…" if len(text) > 70 else ""))
+    if any(step.kind == "gate" for step in restoration):
+        lines.append(f"{indent}locks_left_on:   # only if the restoration's first step says "
+                     "so: why every lock stays on")
+    return lines
+
+
 def results_template(package: WorkPackage, package_sha256: str) -> str:
     """A YAML results sheet for ``package`` with the expected values as comments."""
     lines = [
@@ -45,33 +96,15 @@ def results_template(package: WorkPackage, package_sha256: str) -> str:
         "supervisor:",
         "completed_on:            # YYYY-MM-DD",
     ]
-    if package.proving_dead:
-        lines += ["tester_proven_before: false   # on a known live source, before",
-                  "tester_proven_after: false    # and after"]
-    if package.isolation:
-        lines.append("isolation:")
-        for point in package.isolation:
-            state = " (normally open: lock it open)" if point.already_open else ""
-            if point.blocks:
-                state = f" (set and lock: {' '.join(point.how.split()) if point.how else ''})"
-            key = _quoted(point.device) if ":" in point.device else point.device
-            lines.append(f"  {key}:   # {point.order}. {point.device_kind}, "
-                         f"{point.location or 'location not given'}{state}")
-            lines += [f"    {name}:" for name in ("lock", "tag", "applied_by", "applied_at",
-                                                   "removed_by", "removed_at")]
-    if package.proving_dead:
-        lines.append("proving_dead:   # volts measured; expected 0 V")
-        for index, dead in enumerate(package.proving_dead, start=1):
-            lines.append(f"  {index}:   # {dead.where}")
-            lines += [f"    {_quoted(pair)}:" for pair in dead.pairs]
-    for section, steps in (("steps", package.steps), ("restoration", package.restoration)):
-        if not steps:
-            continue
-        lines.append(f"{section}:")
-        for step in steps:
-            text = " ".join(step.text.split())
-            lines.append(f"  {step.number}: {{done: false}}   # {text[:70]}"
-                         + ("…" if len(text) > 70 else ""))
+    lines += _scope_lines("", package.isolation, package.proving_dead, package.steps,
+                          package.restoration)
+    if package.final_tests:
+        lines.append("final_tests:   # only those the search ended at; leave the others as "
+                     "they are")
+        for final in package.final_tests:
+            lines.append(f"  {final.id}:   # {final.title}")
+            lines += _scope_lines("    ", final.isolation, final.proving_dead, final.steps,
+                                  final.restoration)
     readings = package.readings()
     if readings:
         lines.append("readings:")
@@ -91,17 +124,27 @@ def results_from_fields(package: WorkPackage, fields: Mapping[str, str | None],
                         split: Any) -> dict[str, Any]:
     """Filled AcroForm values (field name → text) as results data for the ``Results`` model.
 
-    ``split`` takes a field name apart (``render.pdf.split_field_name``).
+    ``split`` takes a field name apart (``render.pdf.split_field_name``); a name that
+    starts ``final:<id>:`` belongs to that final test.
     """
     data: dict[str, Any] = {"package": package.id}
-    isolation: dict[str, dict[str, Any]] = {}
-    dead: dict[int, dict[str, Any]] = {}
-    steps: dict[int, dict[str, bool]] = {}
-    restoration: dict[int, dict[str, bool]] = {}
+    scopes: dict[str, dict[str, Any]] = {}
+
+    def scope(final_id: str | None) -> dict[str, Any]:
+        target = data if final_id is None else scopes.setdefault(final_id, {})
+        for key in ("isolation", "proving_dead", "steps", "restoration"):
+            target.setdefault(key, {})
+        return target
+
     readings: dict[str, dict[str, Any]] = {}
+    scope(None)
     for name, raw in sorted(fields.items()):
         value = raw.strip() if isinstance(raw, str) else raw
         parts = split(name)
+        final_id = None
+        if parts[0] == "final" and len(parts) > 2:
+            final_id, parts = parts[1], parts[2:]
+        target = scope(final_id)
         kind = parts[0]
         ticked = value in ("/Yes", "Yes", "/On", "On", True)
         if kind == "reading" and value:
@@ -109,22 +152,36 @@ def results_from_fields(package: WorkPackage, fields: Mapping[str, str | None],
         elif kind == "temperature" and value:
             readings.setdefault(parts[1], {})["temperature"] = value
         elif kind in ("step", "restore"):
-            target = steps if kind == "step" else restoration
-            target[int(parts[1])] = {"done": ticked}
+            target["steps" if kind == "step" else "restoration"][int(parts[1])] = {
+                "done": ticked}
         elif kind in ("lock", "tag") and value:
             device = parts[1]
             key = "tag" if kind == "tag" else ("lock" if parts[2] == "number" else parts[2])
-            isolation.setdefault(device, {})[key] = value
+            target["isolation"].setdefault(device, {})[key] = value
         elif kind == "dead" and value:
-            dead.setdefault(int(parts[1]), {})[parts[2]] = value
+            target["proving_dead"].setdefault(int(parts[1]), {})[parts[2]] = value
         elif kind == "tester":
-            data[f"tester_proven_{parts[1]}"] = ticked
+            target[f"tester_proven_{parts[1]}"] = ticked
+        elif kind == "locks_left_on" and value:
+            target["locks_left_on"] = value
+        elif kind == "ground_found_at" and value:
+            data["ground_found_at"] = value
         elif kind == "sign" and value:
             key = {"technician": "completed_by", "supervisor": "supervisor",
                    "date": "completed_on"}[parts[1]]
             data[key] = value
         elif kind == "remarks" and value:
             data["remarks"] = value
-    data.update({"isolation": isolation, "proving_dead": dead, "steps": steps,
-                 "restoration": restoration, "readings": readings})
+    data["readings"] = readings
+    filled = {k: v for k, v in scopes.items() if _touched(v)}  # untouched ones stay out
+    if filled:
+        data["final_tests"] = filled
     return data
+
+
+def _touched(scope: Mapping[str, Any]) -> bool:
+    """Anything written or ticked in one final test's fields."""
+    return bool(scope["isolation"] or scope["proving_dead"] or scope.get("locks_left_on")
+                or scope.get("tester_proven_before") or scope.get("tester_proven_after")
+                or any(s["done"] for s in (*scope["steps"].values(),
+                                           *scope["restoration"].values())))

@@ -32,6 +32,7 @@ from workpack.model.findings import Findings, Severity
 from workpack.model.package import (
     ApproachBoundaries,
     Caution,
+    FinalTest,
     IsolationPoint,
     Limit,
     Origin,
@@ -42,6 +43,7 @@ from workpack.model.package import (
     Sketch,
     SketchNode,
     Step,
+    StepKind,
     WorkPackage,
 )
 from workpack.model.plant import (
@@ -59,8 +61,23 @@ from workpack.model.plant import (
     Vitality,
 )
 from workpack.model.weights import SearchWeights
+from workpack.restoration import (
+    IN_SERVICE,
+    Restoring,
+    gate_text,
+    number_steps,
+    restoration_steps,
+    return_to_service,
+    take_out_of_service,
+)
 from workpack.rules import Compiled, CompiledRule, CompiledStep, RuleError, RuleSet
-from workpack.search import NOT_FOUND, FinalTests, SectionTest, plan_fault_search
+from workpack.search import (
+    NOT_FOUND,
+    FinalTests,
+    SectionTest,
+    final_test_isolation,
+    plan_fault_search,
+)
 from workpack.search_core import Branch
 from workpack.topology import Topology, element_of
 
@@ -275,7 +292,7 @@ def plan_day(plant: Plant, topology: Topology, findings: Findings, day: dt.date,
     diagnosis = diagnose_day(plant, topology, findings, standards)
     states = system_states(topology, diagnosis)
     due = due_routines(plant, day, history, standards)
-    jobs = _match(plant, topology, findings, diagnosis, states, day, ruleset, due)
+    jobs, deferrals = _match(plant, topology, findings, diagnosis, states, day, ruleset, due)
     builder = _PackageBuilder(plant, topology, ruleset, standards, weights, day, states,
                               history.past_grounds, diagnosis)
     drafts = []
@@ -306,7 +323,7 @@ def plan_day(plant: Plant, topology: Topology, findings: Findings, day: dt.date,
                  if d.finding not in handled and d.severity in (Severity.urgent, Severity.high)]
     return DayPlan(plant=plant.plant.name, date=day, crew_hours=crew_hours, packages=packages,
                    scheduled=tuple(scheduled), deferred=tuple(deferred),
-                   conflicts=tuple(warnings + find_conflicts(topology, chosen)),
+                   conflicts=tuple(warnings + deferrals + find_conflicts(topology, chosen)),
                    diagnosis=diagnosis)
 
 
@@ -319,8 +336,11 @@ def _rank(package: WorkPackage) -> tuple[Any, ...]:
 
 def _match(plant: Plant, topology: Topology, findings: Findings, diagnosis: DayDiagnosis,
            states: Mapping[str, SystemState], day: dt.date, ruleset: RuleSet,
-           due: Sequence[tuple[Element, Routine, dt.date]]) -> list[_Job]:
+           due: Sequence[tuple[Element, Routine, dt.date]],
+           ) -> tuple[list[_Job], list[Conflict]]:
+    """The jobs the rules give, and the routine jobs a rule defers today (with why)."""
     merged: dict[tuple[str, str], _Job] = {}
+    deferrals: dict[tuple[str, str], Conflict] = {}
     base = {"plant": {"name": plant.plant.name, "kind": plant.plant.kind.value,
                       "frequency": plant.plant.frequency}}
     offers: list[tuple[dict[str, Any], str, tuple[str, ...], str | None,
@@ -349,6 +369,13 @@ def _match(plant: Plant, topology: Topology, findings: Findings, diagnosis: DayD
             if not _evaluate(rule, rule.when, context):
                 continue
             item = str(_evaluate(rule, rule.item, context)).strip()
+            if rule.defer_when is not None and _evaluate(rule, rule.defer_when, context):
+                reason = str(_evaluate(rule, rule.defer_reason, context)).strip() \
+                    if rule.defer_reason is not None else ""
+                deferrals[(rule.id, item)] = Conflict((), (
+                    f"{rule.id} on {item} ({routine_test or kind}) is due but deferred: "
+                    f"{reason}"))
+                continue
             if item not in topology.elements:
                 raise RuleError(f"{rule.place}: rule {rule.id}: item {item!r} is not an "
                                 "element of the plant")
@@ -365,7 +392,7 @@ def _match(plant: Plant, topology: Topology, findings: Findings, diagnosis: DayD
                     rule, existing.item, key, existing.context,
                     existing.findings + finding_ids, existing.routine or routine_test,
                     existing.diagnoses + diagnoses)
-    return [merged[k] for k in sorted(merged)]
+    return [merged[k] for k in sorted(merged)], [deferrals[k] for k in sorted(deferrals)]
 
 
 def _detector_bus(topology: Topology, detector_id: str) -> str:
@@ -399,6 +426,7 @@ class _PackageBuilder:
         # A tripped breaker is open: the search neither opens nor recloses it.
         self.tripped = frozenset(d.where for d in diagnosis.diagnoses
                                  if d.kind == "breaker_tripped")
+        self._isolations: dict[str, IsolationPlan] = {}
 
     def build(self, job: _Job) -> WorkPackage:
         rule, context = job.rule, job.context
@@ -407,13 +435,32 @@ class _PackageBuilder:
         priority = int(_evaluate(rule, rule.priority, context))
         if system["second_ground"]:
             priority = 1
-        isolation = plan_isolation(self.topology, job.item) if rule.isolate else None
-        steps = self._steps(rule, rule.steps, context, "S")
+        isolation = self._isolation_of(self.topology, job.item) if rule.isolate else None
+        points = _isolation_points(isolation)
+        proving = _proving_dead(self.plant, isolation)
+        vital = self._vital_loads(points, [job.item]) if isolation is not None else ()
+        work = [d for d in (self._step(rule, step, context) for step in rule.steps) if d]
+        after = [d for d in (self._step(rule, step, context, "check")
+                             for step in rule.restoration) if d]
+        facts = _facts(points, proving, [d.step for d in (*work, *after)],
+                       isolation is not None and isinstance(item, Transformer),
+                       rule.search_plan)
+        work_steps = [self._with_cautions(rule, d, context, facts) for d in work]
+        if isolation is not None:
+            work_steps.insert(0, Step(number=0, text=take_out_of_service(item.label, vital),
+                                      kind="take_out_of_service", check_only=True,
+                                      before_isolation=True))
+        work_steps.sort(key=lambda step: not step.before_isolation)  # stable: rule order
+        steps = number_steps(work_steps, "S")
+        final_tests: tuple[FinalTest, ...] = ()
         switched: tuple[str, ...] = ()
         if rule.search_plan:
-            steps, switched = self._with_search(steps, job, rule)
-        restoration = self._steps(rule, rule.restoration, context, "X")
-        cautions = self._cautions(rule, context, isolation, steps + restoration)
+            searched, final_tests, switched = self._with_search(len(steps) + 1, job, rule)
+            steps += searched
+        checks = [(d.stage, self._with_cautions(rule, d, context, facts)) for d in after]
+        restoration = number_steps(self._restoration(
+            job.item, points if isolation is not None else None, vital, steps, checks), "X")
+        cautions = self._cautions(rule, context, isolation, steps + restoration, facts)
         title = str(_evaluate(rule, rule.title, context)).strip()
         package_id = f"{rule.id}:{job.key}"
         supply = (str(_evaluate(rule, rule.instrument_supply, context)).strip()
@@ -426,10 +473,13 @@ class _PackageBuilder:
             for fact in self._hazard_facts(other, self.states.get(other["id"], SystemState())))
         for other in others:
             cautions = _merge_cautions(cautions, self._cautions(
-                rule, {**context, "system": other}, None, ()))
+                rule, {**context, "system": other}, None, (), facts))
         highest = max((s.highest_phase_to_earth_v or 0.0 for s in
                        [state, *(self.states.get(o["id"], SystemState()) for o in others)]),
                       default=0.0)
+        listed = {c.text for c in cautions}
+        final_tests = tuple(f.model_copy(update={"cautions": tuple(
+            c for c in f.cautions if c.text not in listed)}) for f in final_tests)
         return WorkPackage(
             id=package_id, plant=self.plant.plant.name, date=self.day, title=title,
             job_kind=rule.job_kind, clears_ground=rule.clears_ground,
@@ -441,12 +491,12 @@ class _PackageBuilder:
             hazard_facts=hazard_facts,
             cautions=cautions, approach=self._approach(job.item, highest or None),
             ppe=self._ppe(max((s["voltage"] or 0.0 for s in [system, *others]), default=0.0)),
-            isolation=_isolation_points(isolation),
-            isolation_gaps=tuple(h.text for h in isolation.hazards if h.severity == "DANGER"
-                                 and h.text.startswith("no lockable")) if isolation else (),
+            isolation=points,
+            isolation_gaps=_gaps(isolation),
             stored_energy=isolation.stored_energy if isolation else (),
-            proving_dead=_proving_dead(self.plant, isolation),
-            steps=steps, acceptance=self._acceptance(rule, context, steps, restoration),
+            proving_dead=proving,
+            steps=steps, final_tests=final_tests,
+            acceptance=self._acceptance(rule, context, steps, restoration, final_tests),
             restoration=restoration,
             phasor=state.phasor if job.findings and state.grounded else None,
             sketch=_sketch(self.topology, job.item, isolation),
@@ -464,49 +514,100 @@ class _PackageBuilder:
             return f"routine {job.routine.replace('_', ' ')} due"
         return "rule"
 
-    def _steps(self, rule: CompiledRule, steps: Sequence[CompiledStep],
-               context: Mapping[str, Any], prefix: str) -> tuple[Step, ...]:
-        built: list[Step] = []
-        for step in steps:
-            if step.when is not None and not _evaluate(rule, step.when, context):
-                continue
-            number = len(built) + 1
-            readings: list[Reading] = []
-            for calc, params, judge in step.readings:
-                values = {name: str(_evaluate(rule, source, context)).strip()
-                          for name, source in params.items()}
-                calc_context = CalcContext(self.topology, self.standards,
-                                           f"{prefix}{number}.{len(readings) + 1}")
-                try:
-                    readings.extend(r if judge else r.model_copy(update={"acceptance": False})
-                                    for r in CALCULATIONS[calc](calc_context, **values))
-                except CalcError as error:
-                    raise RuleError(f"{rule.place}: rule {rule.id}: {calc}: {error}") from None
-            cautions = tuple(self._caution(rule, c, context) for c in step.cautions)
-            built.append(Step(number=number, text=str(_evaluate(rule, step.text, context)),
-                              readings=_renumber(readings), cautions=cautions,
-                              check_only=step.check_only and not readings))
-        return tuple(built)
+    def _restoration(self, item_id: str, points: Sequence[IsolationPoint] | None,
+                     vital: Sequence[str], steps: Sequence[Step],
+                     checks: Sequence[tuple[str, Step]]) -> list[Step]:
+        """The package's restoration: written from its isolation (see ``restoration``),
+        the rule's checks placed by their stage; without an isolation, what the steps
+        disconnected is reconnected, then the rule's steps in their order."""
+        reconnects = [(s.number, s.reconnect) for s in steps if s.reconnect]
+        if points is None:
+            return [*(Step(number=0, text=text, kind="reconnect", undoes=number,
+                           check_only=True) for number, text in reversed(reconnects)),
+                    *(step for _, step in checks)]
+        label = self.topology.elements[item_id].label
+        by_stage: dict[str, list[Step]] = {}
+        for stage, step in checks:
+            by_stage.setdefault(stage, []).append(step)
+        normal = self._normal_devices([item_id])
+        return restoration_steps(Restoring(
+            item_label=label, points=points, normal_devices=normal,
+            tripped=tuple(sorted(self.tripped & normal)), reconnects=reconnects,
+            vital_loads=vital,
+            gate=gate_text("every acceptance criterion of this package is met",
+                           f"tell the supervisor, and the bridge or control room, that "
+                           f"{label} stays out of service"),
+            rule_steps=by_stage, return_text=return_to_service(label, vital)))
 
-    def _with_search(self, steps: tuple[Step, ...], job: _Job,
-                     rule: CompiledRule) -> tuple[tuple[Step, ...], tuple[str, ...]]:
-        """The fault search as numbered package steps, then the final section tests,
-        and the devices the search may open."""
+    def _isolation_of(self, topology: Topology, item_id: str) -> IsolationPlan:
+        """``plan_isolation``, once per item for the day: final tests of several searches
+        (and packages on the same item) share it."""
+        if item_id not in self._isolations:
+            self._isolations[item_id] = plan_isolation(topology, item_id)
+        return self._isolations[item_id]
+
+    def _vital_loads(self, points: Iterable[IsolationPoint],
+                     places: Iterable[str]) -> tuple[str, ...]:
+        """Vital loads an isolation takes out: below any device it opens (a heater's
+        circuit test can lock a fire pump's main supply), and the places of work."""
+        loads = [load for point in points if not point.already_open
+                 for load in downstream_loads(self.topology, point.device)]
+        loads += [e for e in (self.topology.elements[p] for p in places) if isinstance(e, Load)]
+        return tuple(sorted({load.id for load in loads if load.vitality is Vitality.vital}))
+
+    def _normal_devices(self, places: Iterable[str]) -> frozenset[str]:
+        """Devices on the normal supply paths of the places of work."""
+        return frozenset(element_of(node) for place in places
+                         for path in self.topology.normal_supply_paths(place)
+                         for node in path)
+
+    def _step(self, rule: CompiledRule, step: CompiledStep, context: Mapping[str, Any],
+              kind: StepKind = "work") -> _Draft | None:
+        """One rule step with its computed readings (ids are set when numbered), the ids
+        of the cautions it names and its restoration stage; None when its condition is
+        false."""
+        if step.when is not None and not _evaluate(rule, step.when, context):
+            return None
+        readings: list[Reading] = []
+        for calc, params, judge in step.readings:
+            values = {name: str(_evaluate(rule, source, context)).strip()
+                      for name, source in params.items()}
+            calc_context = CalcContext(self.topology, self.standards,
+                                       f"S0.{len(readings) + 1}")
+            try:
+                readings.extend(r if judge else r.model_copy(update={"acceptance": False})
+                                for r in CALCULATIONS[calc](calc_context, **values))
+            except CalcError as error:
+                raise RuleError(f"{rule.place}: rule {rule.id}: {calc}: {error}") from None
+        reconnect = (str(_evaluate(rule, step.reconnect, context)).strip()
+                     if step.reconnect is not None else None)
+        built = Step(number=0, text=str(_evaluate(rule, step.text, context)),
+                     readings=tuple(readings), check_only=step.check_only and not readings,
+                     kind=kind, before_isolation=step.before_isolation,
+                     reconnect=reconnect or None,
+                     search_outcome=step.search_outcome)  # type: ignore[arg-type]
+        return _Draft(built, step.cautions, step.stage)
+
+    def _with_cautions(self, rule: CompiledRule, draft: _Draft, context: Mapping[str, Any],
+                       facts: frozenset[str]) -> Step:
+        found = [c for c in (self._caution_if(rule, cid, context, facts)
+                             for cid in draft.cautions) if c is not None]
+        return draft.step.model_copy(update={"cautions": tuple(found)})
+
+    def _with_search(self, first: int, job: _Job, rule: CompiledRule,
+                     ) -> tuple[tuple[Step, ...], tuple[FinalTest, ...], tuple[str, ...]]:
+        """The fault search as numbered package steps from ``first``, the final tests of
+        each circuit it can end at, and the devices the search may open."""
         state = self.states.get(job.context["system"]["id"], SystemState())
         as_found = state.phasor.readings_v if state.phasor else None
         search = plan_fault_search(self.topology, job.item, self.weights, self.standards,
                                    self.day, past_grounds=self.past_grounds,
                                    as_found_v=as_found, exclude=self.tripped)
-        first = len(steps) + 1
         number = {(s.level, s.number): first + n for n, s in enumerate(search.steps)}
         level_start: dict[str, int] = {}
         for (level, _), package_number in sorted(number.items(), key=lambda kv: kv[1]):
             level_start.setdefault(level, package_number)
-        final_start: dict[str, int] = {}
-        next_number = first + len(search.steps)
-        for final in search.final_tests:
-            final_start[final.feeder] = next_number
-            next_number += 1 + len(_testable(self.topology, final))
+        final_id = {final.feeder: f"F{n}" for n, final in enumerate(search.final_tests, 1)}
         levels = [s.level for s in search.steps]
 
         def branch(level: str, target: Branch) -> str:
@@ -516,12 +617,13 @@ class _PackageBuilder:
                 return (f"the ground is below {target.candidate_id}: close it; search its own "
                         f"circuits from step {level_start[target.candidate_id]}")
             if target.kind == "found":
-                return (f"the ground is below {target.candidate_id}: close it, then isolate "
-                        f"that circuit and test its sections from step "
-                        f"{final_start[target.candidate_id]}")
+                return (f"the ground is below {target.candidate_id}: close what this step "
+                        f"opened, then do final tests {final_id[target.candidate_id]} "
+                        f"(below {target.candidate_id}): they isolate, prove dead and test "
+                        "that circuit")
             return NOT_FOUND
 
-        added = list(steps)
+        added: list[Step] = []
         for step in search.steps:
             opened = ", ".join(f"{d} ({w})" if w else d
                                for d, w in zip(step.open_devices, step.where, strict=True))
@@ -536,41 +638,110 @@ class _PackageBuilder:
             lines.append(f"Open {opened}; watch the detector for about a minute.")
             lines.append(f"If it clears ({step.cleared}): {branch(step.level, step.on_clear)}.")
             lines.append(f"If it stays {step.unchanged}: {branch(step.level, step.on_stay)}.")
-            added.append(Step(number=len(added) + 1, text="\n".join(lines), check_only=True,
-                              optional=True))
-        stored_charge = self._caution(rule, "stored-charge", job.context)
-        electronics = self._caution(rule, "disconnect-electronics", job.context)
-        for final in search.final_tests:
-            testable = _testable(self.topology, final)
-            locks = sorted({d for section in final.sections for d in
-                            plan_isolation(self.topology, section.element).devices})
-            skipped = [s.element for s in final.sections if s not in testable]
-            text = (f"Final tests below {final.feeder}: lock open and tag "
-                    f"{', '.join(locks) or final.feeder}; prove each section dead (tester "
-                    "proven on a known live source before and after).")
-            if skipped:
-                text += f" Disconnect {', '.join(skipped)} (electronics): do not test it."
-            added.append(Step(number=len(added) + 1, text=text, check_only=True,
-                              optional=True, cautions=(electronics,)))
-            for section in testable:
-                low, high = section.test_voltage_v
-                dc = f"{low:g} V" if low == high else f"{low:g}–{high:g} V"
-                reading = Reading(
-                    id=f"S{len(added) + 1}.R1",
-                    what=f"{section.element} to earth at {dc} DC, if the search ends at "
-                         f"{final.feeder}", unit="MΩ" if section.minimum_ohm >= 1e6 else "kΩ",
-                    limit=Limit(low=section.minimum_ohm, basis=section.basis,
-                                temperature_corrected_to_c=section.reference_c,
-                                code_set=section.code_set if section.reference_c is not None
-                                else None),
-                    needs_temperature=section.reference_c is not None,
-                    element=section.element, test_voltage_v=section.test_voltage_v[1])
-                added.append(Step(number=len(added) + 1,
-                                  text=f"Final test below {final.feeder} — {section.label}.",
-                                  readings=(reading,), optional=True,
-                                  cautions=(stored_charge,)))
+            added.append(Step(number=first + len(added), text="\n".join(lines),
+                              check_only=True, optional=True, kind="search"))
+        finals = tuple(self._final_test(rule, job.context, final, final_id[final.feeder])
+                       for final in search.final_tests)
         switched = tuple(sorted({d for s in search.steps for d in s.open_devices}))
-        return tuple(added), switched
+        return tuple(added), finals, switched
+
+    def _final_test(self, rule: CompiledRule, context: Mapping[str, Any], final: FinalTests,
+                    final_id: str) -> FinalTest:
+        """One circuit's final tests as a complete isolation of their own."""
+        plan = final_test_isolation(self.topology, final, self._isolation_of)
+        points = _isolation_points(plan)
+        proving = _proving_dead(self.plant, plan)
+        circuit = f"the circuit below {final.feeder}"
+        vital = self._vital_loads(points, [s.element for s in final.sections])
+        testable = _testable(self.topology, final)
+        skipped = sorted({s.element for s in final.sections if s not in testable})
+        drafts: list[tuple[_Draft, str]] = []
+        if skipped:
+            names = ", ".join(skipped)
+            drafts.append((_Draft(Step(
+                number=0, check_only=True,
+                text=f"Disconnect {names} (electronics) at its terminals, leads marked, so "
+                     "the test voltage cannot reach it: it is not insulation-tested.",
+                reconnect=f"Reconnect {names} as marked when it was disconnected; tighten "
+                          "and check each lead.")), final.feeder))
+        for section in testable:
+            low, high = section.test_voltage_v
+            dc = f"{low:g} V" if low == high else f"{low:g}–{high:g} V"
+            if section.circuit:
+                what = f"{section.label} to earth at {dc} DC (conductors joined)"
+                text = (f"Test the {section.label} at its terminals in the terminal box of "
+                        f"{section.element} (every supply into that box is locked above): "
+                        "its conductors joined, to earth.")
+            else:
+                what = f"{section.element} to earth at {dc} DC"
+                text = f"Test {section.label}: each conductor to earth."
+            reading = Reading(
+                id="", what=what, unit="MΩ" if section.minimum_ohm >= 1e6 else "kΩ",
+                limit=Limit(low=section.minimum_ohm, basis=section.basis,
+                            temperature_corrected_to_c=section.reference_c,
+                            code_set=section.code_set if section.reference_c is not None
+                            else None),
+                needs_temperature=section.reference_c is not None,
+                element=None if section.circuit else section.element,
+                test_voltage_v=section.test_voltage_v[1])
+            drafts.append((_Draft(Step(number=0, text=text, readings=(reading,)),
+                                  ("disconnect-electronics", "insulation-test-board",
+                                   "stored-charge")), section.element))
+        transformer = any(isinstance(self.topology.elements[s.element], Transformer)
+                          for s in final.sections if not s.circuit)
+        check = Step(number=0, check_only=True, kind="check", text=(
+            f"Watch the detector for about a minute: if the indication comes back, the ground "
+            f"is in {circuit} after all, in a part these tests do not reach: open "
+            f"{final.feeder} again, tag it and report; the search's restoration keeps it "
+            "open."))
+        facts = _facts(points, proving, [d.step for d, _ in drafts], transformer, False)
+        built = [Step(number=0, text=take_out_of_service(circuit, vital),
+                      kind="take_out_of_service", check_only=True, before_isolation=True)]
+        for draft, element in drafts:
+            scope = {**context, "item": item_context(self.topology,
+                                                     self.topology.elements[element])}
+            built.append(self._with_cautions(rule, draft, scope, facts))
+        steps = number_steps(built, f"{final_id}.S")
+        restoring = restoration_steps(Restoring(
+            item_label=circuit, points=points,
+            normal_devices=self._normal_devices({s.element for s in final.sections}),
+            reconnects=[(s.number, s.reconnect) for s in steps if s.reconnect],
+            vital_loads=vital,
+            gate=(f"If a section read below its minimum, the ground is in {circuit}: it "
+                  "stays isolated for its repair. Then do not restore: leave every lock and "
+                  f"tag of these final tests on, hang a tag at {final.feeder} saying 'ground "
+                  "found: do not close', write the section under 'ground found at' and why "
+                  "under 'locks left on', and skip the rest of this restoration. Otherwise "
+                  "restore as follows."),
+            rule_steps={IN_SERVICE: [check]},
+            return_text=return_to_service(circuit, vital)))
+        restoration = number_steps(restoring, f"{final_id}.X")
+        cautions: list[Caution] = []
+        for entry in self.ruleset.cautions.values():
+            if entry.automatic and entry.needs:
+                found = self._caution_if(rule, entry.id, context, facts)
+                if found is not None:
+                    cautions.append(found)
+        cautions += [Caution(signal_word=SignalWord(h.severity), text=h.text)
+                     for h in plan.hazards]
+        cautions += [c for step in steps for c in step.cautions]
+        return FinalTest(
+            id=final_id, feeder=final.feeder, title=f"Final tests {final_id}: {circuit}",
+            condition=(f"Only when the search ends at {final.feeder} (a search step sends you "
+                       "here); otherwise skip these final tests."),
+            isolation=points, isolation_gaps=_gaps(plan), stored_energy=plan.stored_energy,
+            cautions=_merge_cautions((), cautions), proving_dead=proving,
+            steps=steps, restoration=restoration,
+            elements=tuple(dict.fromkeys(s.element for s in final.sections)))
+
+    def _caution_if(self, rule: CompiledRule, caution_id: str, context: Mapping[str, Any],
+                    facts: frozenset[str]) -> Caution | None:
+        """The library's caution, where its text is true: the package does what it needs
+        and its condition holds; else None."""
+        entry = self.ruleset.cautions[caution_id]
+        if not set(entry.needs) <= facts or not _evaluate(rule, entry.when, context):
+            return None
+        return self._caution(rule, caution_id, context)
 
     def _caution(self, rule: CompiledRule, caution_id: str,
                  context: Mapping[str, Any]) -> Caution:
@@ -579,12 +750,15 @@ class _PackageBuilder:
                        text=str(_evaluate(rule, entry.text, context)).strip(), id=entry.id)
 
     def _cautions(self, rule: CompiledRule, context: Mapping[str, Any],
-                  isolation: IsolationPlan | None,
-                  steps: Iterable[Step]) -> tuple[Caution, ...]:
-        found: list[Caution] = [self._caution(rule, c, context) for c in rule.cautions]
+                  isolation: IsolationPlan | None, steps: Iterable[Step],
+                  facts: frozenset[str]) -> tuple[Caution, ...]:
+        found: list[Caution] = [c for c in (self._caution_if(rule, cid, context, facts)
+                                            for cid in rule.cautions) if c is not None]
         for entry in self.ruleset.cautions.values():
-            if entry.automatic and _evaluate(rule, entry.when, context):
-                found.append(self._caution(rule, entry.id, context))
+            if entry.automatic and entry.id not in rule.cautions:
+                caution = self._caution_if(rule, entry.id, context, facts)
+                if caution is not None:
+                    found.append(caution)
         state = self.states.get(context["system"]["id"], SystemState())
         for word, text in state.cautions:
             if "second ground" not in text.lower():  # the library's caution says it for all
@@ -655,13 +829,49 @@ class _PackageBuilder:
         )
 
     def _acceptance(self, rule: CompiledRule, context: Mapping[str, Any],
-                    steps: Sequence[Step], restoration: Sequence[Step]) -> tuple[str, ...]:
+                    steps: Sequence[Step], restoration: Sequence[Step],
+                    final_tests: Sequence[FinalTest] = ()) -> tuple[str, ...]:
         lines = [str(_evaluate(rule, text, context)).strip() for text in rule.acceptance]
-        for step in (*steps, *restoration):
+        final = [step for test in final_tests for step in (*test.steps, *test.restoration)]
+        for step in (*steps, *final, *restoration):
             for reading in step.readings:
                 if reading.limit is not None and reading.acceptance:
                     lines.append(f"{reading.id} {reading.what}: {_limit_text(reading)}")
         return tuple(lines)
+
+
+@dataclass(frozen=True)
+class _Draft:
+    """A step before it is numbered: the cautions it names are attached once the
+    package's facts are known, the stage places a restoration step."""
+
+    step: Step
+    cautions: tuple[str, ...] = ()
+    stage: str = IN_SERVICE
+
+
+def _facts(points: Sequence[IsolationPoint], proving: Sequence[ProvingDead],
+           steps: Iterable[Step], isolates_transformer: bool,
+           search: bool) -> frozenset[str]:
+    """What a package (or one final test) does, as the caution library's ``needs`` name it."""
+    facts = {"isolated" if points else "live"}
+    if proving:
+        facts.add("proves_dead")
+    if any(r.test_voltage_v is not None for step in steps for r in step.readings):
+        facts.add("insulation_test")
+    if isolates_transformer and points:
+        facts.add("isolates_transformer")
+    if search:
+        facts.add("search")
+    return frozenset(facts)
+
+
+def _gaps(plan: IsolationPlan | None) -> tuple[str, ...]:
+    """Paths no lock can cut: printed as DANGER beside the isolation."""
+    if plan is None:
+        return ()
+    return tuple(h.text for h in plan.hazards
+                 if h.severity == "DANGER" and h.text.startswith("no lockable"))
 
 
 _WORD_ORDER = {SignalWord.danger: 0, SignalWord.warning: 1, SignalWord.caution: 2,
@@ -683,15 +893,6 @@ def _testable(topology: Topology, final: FinalTests) -> list[SectionTest]:
     """Sections an insulation test may be applied to: not electronics."""
     return [s for s in final.sections
             if getattr(topology.elements[s.element], "kind", None) is not LoadKind.electronics]
-
-
-def _renumber(readings: list[Reading]) -> tuple[Reading, ...]:
-    """Reading ids S<step>.R<n>, in the order they appear."""
-    out = []
-    for n, reading in enumerate(readings, start=1):
-        step = reading.id.split(".")[0]
-        out.append(reading.model_copy(update={"id": f"{step}.R{n}"}))
-    return tuple(out)
 
 
 def _limit_text(reading: Reading) -> str:

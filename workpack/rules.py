@@ -11,6 +11,7 @@ names and unknown attributes, each with the nearest known name. Pure.
 
 from __future__ import annotations
 
+import re
 from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any, Literal
@@ -163,6 +164,10 @@ class CompiledStep:
     readings: tuple[tuple[str, dict[str, Compiled], bool], ...]  # calc, params, judge
     cautions: tuple[str, ...]
     check_only: bool
+    reconnect: Compiled | None = None
+    before_isolation: bool = False
+    stage: str = "in_service"
+    search_outcome: str | None = None
 
 
 @dataclass(frozen=True)
@@ -189,6 +194,8 @@ class CompiledRule:
     acceptance: tuple[Compiled, ...]
     restoration: tuple[CompiledStep, ...]
     instrument_supply: Compiled | None
+    defer_when: Compiled | None = None
+    defer_reason: Compiled | None = None
 
 
 @dataclass(frozen=True)
@@ -198,6 +205,7 @@ class CompiledCaution:
     text: Compiled
     when: Compiled
     automatic: bool
+    needs: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -237,10 +245,13 @@ def build_ruleset(
             for message in lint_source(getattr(entry, field_name), mode, common):  # type: ignore[arg-type]
                 problems.append(caution_place((*base, field_name),
                                               f"caution {entry.id}: {message}"))
+        for message in _claims_without_needs(entry.text, entry.needs):
+            problems.append(caution_place((*base, "needs"), f"caution {entry.id}: {message}"))
         cautions[entry.id] = CompiledCaution(
             id=entry.id, signal_word=entry.signal_word,
             text=_safe_compile(entry.text, "template"),
-            when=_safe_compile(entry.when, "expression"), automatic=entry.automatic)
+            when=_safe_compile(entry.when, "expression"), automatic=entry.automatic,
+            needs=entry.needs)
     rules: list[CompiledRule] = []
     seen: dict[str, str] = {}
     for rule_file, place in rule_files:
@@ -267,6 +278,26 @@ def _safe_compile(source: str, mode: Literal["expression", "template"]) -> Compi
         return compile_source(source, mode)
     except TemplateSyntaxError:
         return compile_source("false" if mode == "expression" else "", mode)  # linted
+
+
+# Words in a caution that state a fact about the package, and the fact they need: a
+# caution that says "both sides are in the isolation" must only print where they are.
+_CLAIMS = (
+    (re.compile(r"\bisolation\b|\bisolated\b|\blocked (open|out)\b", re.I), "isolated"),
+    (re.compile(r"\bprove[ds]? dead\b|\bproving dead\b", re.I), "proves_dead"),
+    (re.compile(r"\binsulation test\b|\btest voltage\b", re.I), "insulation_test"),
+)
+# Rule texts that would repeat (and could contradict) what the planner writes itself.
+_GENERATED = re.compile(r"\blocks?\b.*\b(remove|off)\b|\bremove\b.*\blocks?\b", re.I)
+_DISCONNECTS = re.compile(r"\bdisconnect", re.I)
+
+
+def _claims_without_needs(text: str, needs: Sequence[str]) -> Iterator[str]:
+    for pattern, fact in _CLAIMS:
+        match = pattern.search(text)
+        if match and fact not in needs:
+            yield (f"its text says {match.group(0)!r}, which is true only where the "
+                   f"package is {fact.replace('_', ' ')}: add '{fact}' to its needs")
 
 
 # Finding kinds that only make sense on one kind of item.
@@ -303,6 +334,16 @@ def _lint_rule(rule: Rule, schema: Schema, caution_ids: Sequence[str],
     lint(("job", "priority"), rule.job.priority, "expression")
     if rule.instrument_supply:
         lint(("instrument_supply",), rule.instrument_supply, "template")
+    if rule.defer_when:
+        lint(("defer_when",), rule.defer_when, "expression")
+        if not rule.defer_reason:
+            found.append((("defer_when",), "a rule that can be deferred needs defer_reason: "
+                                           "the day plan says why"))
+        if not rule.applies_to.routine:
+            found.append((("defer_when",), "only routine jobs are deferred: a finding's job "
+                                           "is issued or not, by 'when'"))
+    if rule.defer_reason:
+        lint(("defer_reason",), rule.defer_reason, "template")
     for position, text in enumerate(rule.acceptance):
         lint(("acceptance", position), text, "template")
     for position, caution in enumerate(rule.cautions):
@@ -315,6 +356,10 @@ def _lint_rule(rule: Rule, schema: Schema, caution_ids: Sequence[str],
             lint((*base, "text"), step.text, "template")
             if step.when:
                 lint((*base, "when"), step.when, "expression")
+            found.extend(((*base, *path), message)
+                         for path, message in _lint_step_kind(step, section))
+            if step.reconnect:
+                lint((*base, "reconnect"), step.reconnect, "template")
             for position, caution in enumerate(step.cautions):
                 if caution not in caution_ids:
                     found.append(((*base, "cautions", position),
@@ -340,6 +385,24 @@ def _lint_rule(rule: Rule, schema: Schema, caution_ids: Sequence[str],
                         found.append(((*path, "params"),
                                       f"{reading.calc} needs parameter {name!r}"))
     return found
+
+
+def _lint_step_kind(step: StepRule, section: str) -> Iterator[tuple[tuple[str, ...], str]]:
+    """A work step and a restoration step each use only their own fields; a work step that
+    disconnects says how it is put back; a restoration never writes the locks itself."""
+    if section == "steps":
+        if _DISCONNECTS.search(step.text) and step.reconnect is None:
+            yield (("reconnect",), "the step disconnects something: say in 'reconnect' how "
+                                   "the restoration puts it back")
+        if step.stage != "in_service" or step.search_outcome is not None:
+            yield (("stage",), "stage and search_outcome belong to restoration steps")
+        return
+    if step.reconnect is not None or step.before_isolation:
+        yield (("reconnect",), "reconnect and before_isolation belong to work steps")
+    if _GENERATED.search(step.text):
+        yield (("text",), "the planner writes the removal of locks (one step per lock, in "
+                          "reverse order, by whoever applied it) and the energising: leave "
+                          "them out of the rule")
 
 
 def _constant_false(source: str) -> bool:
@@ -372,7 +435,10 @@ def _compile_step(step: StepRule) -> CompiledStep:
                                        for name, source in reading.params.items()},
                         reading.judge)
                        for reading in step.readings),
-        cautions=step.cautions, check_only=step.check_only)
+        cautions=step.cautions, check_only=step.check_only,
+        reconnect=compile_source(step.reconnect, "template") if step.reconnect else None,
+        before_isolation=step.before_isolation, stage=step.stage,
+        search_outcome=step.search_outcome)
 
 
 def _compile_rule(rule: Rule, place: str) -> CompiledRule:
@@ -390,4 +456,7 @@ def _compile_rule(rule: Rule, place: str) -> CompiledRule:
         acceptance=tuple(compile_source(text, "template") for text in rule.acceptance),
         restoration=tuple(_compile_step(s) for s in rule.restoration),
         instrument_supply=(compile_source(rule.instrument_supply, "template")
-                           if rule.instrument_supply else None))
+                           if rule.instrument_supply else None),
+        defer_when=compile_source(rule.defer_when, "expression") if rule.defer_when else None,
+        defer_reason=(compile_source(rule.defer_reason, "template") if rule.defer_reason
+                      else None))

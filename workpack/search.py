@@ -16,8 +16,8 @@ never opened whole: its own circuits are tried instead. Pure: no file access.
 from __future__ import annotations
 
 import datetime as dt
-from collections.abc import Mapping
-from dataclasses import dataclass
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass, replace
 
 from workpack.diagnose import (
     downstream_loads,
@@ -27,6 +27,7 @@ from workpack.diagnose import (
 )
 from workpack.electrical import dc_test_voltage, line_to_neutral, minimum_insulation_resistance
 from workpack.electrical.standards import CodeSet
+from workpack.isolation import IsolationPlan, IsolationPoint, plan_isolation
 from workpack.model.plant import (
     Bus,
     Cable,
@@ -94,14 +95,22 @@ class SectionTest:
     minimum_ohm: float
     reference_c: float | None
     basis: str
+    # A heater or control circuit inside another item's enclosure: its kind; the test is
+    # made in ``element``'s terminal box, where every supply of ``element`` arrives.
+    circuit: str | None = None
 
 
 @dataclass(frozen=True)
 class FinalTests:
-    """Where a search ends: isolate the circuit, then test its sections."""
+    """Where a search ends: isolate the circuit, then test its sections.
+
+    ``places``: where the tests are made; ``final_test_isolation`` locks every supply
+    that reaches any of them, the main supply of a motor whose heater circuit is tested
+    included (computed on demand: a search of hundreds of feeders ends at one)."""
 
     feeder: str
     sections: tuple[SectionTest, ...]
+    places: tuple[str, ...]
 
 
 @dataclass(frozen=True)
@@ -208,6 +217,11 @@ class _TreeBuilder:
         self.notes: list[str] = []
         self.children_of: dict[str, list[str]] = {}
         self._weight_cache: dict[str, tuple[float, tuple[str, ...]]] = {}
+        # feeding device → (load, index of its auxiliary) for heaters and control supplies
+        self.auxiliaries_fed: dict[str, list[tuple[Load, int]]] = {}
+        for load in topology.plant.loads:
+            for index, auxiliary in enumerate(load.auxiliaries):
+                self.auxiliaries_fed.setdefault(auxiliary.from_, []).append((load, index))
         self.total = sum(self.weight(e)[0] for e in self.members)
 
     # --- likelihood ---------------------------------------------------------------------
@@ -439,22 +453,80 @@ def _final_tests(topology: Topology, builder: _TreeBuilder, leaf: str,
                  standards: Mapping[str, CodeSet]) -> FinalTests:
     plant: Plant = topology.plant
     sections = []
-    for element_id in sorted(builder.downstream(leaf)):
+    below = builder.downstream(leaf)
+    for element_id in sorted(below):
         element = topology.elements[element_id]
         if not isinstance(element, Cable | Load | Bus | Transformer):
             continue
         code_set = insulation_code_set(plant, element, standards)
         voltage = rated_voltage(topology, element)
         winding, assumption = winding_of(element, voltage)
-        test = dc_test_voltage(code_set, voltage)
-        minimum = minimum_insulation_resistance(code_set, voltage, winding=winding)
-        sections.append(SectionTest(
-            element=element_id, label=element.label,
-            code_set=code_set.name, test_voltage_v=(test.min_v, test.max_v),
-            minimum_ohm=minimum.minimum_ohm, reference_c=minimum.reference_c,
-            basis=f"{test.citation}; {minimum.citation}" + (
-                f"; {assumption}" if assumption else "")))
-    return FinalTests(feeder=leaf, sections=tuple(sections))
+        sections.append(_section(element_id, element.label, code_set, voltage, winding,
+                                 assumption))
+    # Heater and control circuits this feeder supplies inside other items' enclosures.
+    installations = standards[plant.plant.code_set.installations]
+    inside = sorted((load.id, n) for feed in (leaf, *below)
+                    for load, n in builder.auxiliaries_fed.get(feed, ()))
+    for load_id, index in inside:
+        load = topology.elements[load_id]
+        assert isinstance(load, Load)
+        auxiliary = load.auxiliaries[index]
+        circuit_v = auxiliary.voltage or topology.voltage_at(auxiliary.from_)
+        if circuit_v is None:
+            continue
+        kind = auxiliary.kind.value.replace("_", " ")
+        sections.append(_section(load.id, f"{kind} circuit inside {load.label}",
+                                 installations, circuit_v, None, "",
+                                 circuit=auxiliary.kind.value))
+    places = tuple(sorted({s.element for s in sections})) or (leaf,)
+    return FinalTests(feeder=leaf, sections=tuple(sections), places=places)
+
+
+def final_test_isolation(topology: Topology, final: FinalTests,
+                         plan: Callable[[Topology, str], IsolationPlan] = plan_isolation,
+                         ) -> IsolationPlan:
+    """What to lock for ``final``'s tests: every supply of every place they are made in.
+    ``plan`` is ``isolation.plan_isolation`` or a caching stand-in for it."""
+    return merged_isolation([plan(topology, place) for place in final.places])
+
+
+def _section(element_id: str, label: str, code_set: CodeSet, voltage: float,
+             winding: str | None, assumption: str, circuit: str | None = None) -> SectionTest:
+    test = dc_test_voltage(code_set, voltage)
+    minimum = minimum_insulation_resistance(code_set, voltage, winding=winding)
+    return SectionTest(
+        element=element_id, label=label, code_set=code_set.name,
+        test_voltage_v=(test.min_v, test.max_v), minimum_ohm=minimum.minimum_ohm,
+        reference_c=minimum.reference_c,
+        basis=f"{test.citation}; {minimum.citation}" + (f"; {assumption}" if assumption
+                                                        else ""),
+        circuit=circuit)
+
+
+def merged_isolation(plans: Sequence[IsolationPlan]) -> IsolationPlan:
+    """One isolation for several places of work: every device any of them locks, once,
+    in the order the plans apply them (earliest place first); every proving-dead point,
+    hazard and stored-energy note once."""
+    if len(plans) == 1:
+        return plans[0]
+    rank: dict[str, tuple[int, int]] = {}
+    chosen: dict[str, IsolationPoint] = {}
+    for index, plan in enumerate(plans):
+        for point in plan.points:
+            key = (point.order, index)
+            if point.device not in rank or key < rank[point.device]:
+                rank[point.device] = key
+                chosen[point.device] = point
+    ordered = sorted(chosen, key=lambda device: (*rank[device], device))
+    points = tuple(replace(chosen[device], order=n) for n, device in enumerate(ordered, 1))
+    return IsolationPlan(
+        item=", ".join(plan.item for plan in plans),
+        points=points,
+        verify=tuple(dict.fromkeys(v for plan in plans for v in plan.verify)),
+        stored_energy=tuple(dict.fromkeys(e for plan in plans for e in plan.stored_energy)),
+        hazards=tuple(dict.fromkeys(h for plan in plans for h in plan.hazards)),
+        also_open=tuple(sorted({d for plan in plans for d in plan.also_open})),
+    )
 
 
 def _weights_used(weights: SearchWeights) -> tuple[str, ...]:

@@ -85,6 +85,18 @@ class Reading(Plain):
     test_voltage_v: float | None = None  # DC test voltage of an insulation reading
 
 
+# What a step does. Work steps come from the rule; the restoration's own kinds are
+# written by the planner from the isolation plan, so no rule can leave one out:
+# gate (restore only when the acceptance is met), reconnect (undoes a work step that
+# disconnected something), close_up, remove_lock (one per isolation point, in reverse
+# order, by the person who applied it), energise (only after every lock is off), check
+# (a rule's readings after energising), return_to_service; take_out_of_service comes
+# before the isolation.
+StepKind = Literal["work", "search", "take_out_of_service", "gate", "reconnect", "close_up",
+                   "remove_lock", "energise", "check", "return_to_service"]
+SearchOutcome = Literal["found", "not_found"]
+
+
 class Step(Plain):
     number: int
     text: str
@@ -92,6 +104,14 @@ class Step(Plain):
     cautions: tuple[Caution, ...] = ()
     check_only: bool = False  # a box to tick, no value to write
     optional: bool = False  # one branch of a search: done only if the search leads here
+    kind: StepKind = "work"
+    before_isolation: bool = False  # done (and printed) before the isolation is applied
+    devices: tuple[str, ...] = ()  # remove_lock: its device; energise: the devices closed
+    reconnect: str | None = None  # a work step that disconnects something: how the
+    # restoration puts it back (a reconnect step there undoes this one)
+    undoes: int | None = None  # reconnect: the number of the work step it undoes
+    search_outcome: SearchOutcome | None = None  # done only when the search ended so:
+    # "found" when a ground was found (results name ``ground_found_at``), else "not_found"
 
 
 class IsolationPoint(Plain):
@@ -110,6 +130,26 @@ class ProvingDead(Plain):
     where: str
     voltage_v: float | None
     pairs: tuple[str, ...]  # "A-B", "A-N", "A-E", "N-E", …; each expected 0 V
+
+
+class FinalTest(Plain):
+    """The insulation tests of one circuit a ground search can end at: a complete
+    isolation of its own (locks, proving dead, tests, restoration), done only when the
+    search leads there. Every supply that reaches an enclosure a test is made in is
+    locked, the main supply of a motor whose heater circuit is tested included."""
+
+    id: str  # "F1": unique in the package; results and form fields are keyed by it
+    feeder: str  # the device the search opened when the indication cleared
+    title: str
+    condition: str  # when to do it, in words
+    isolation: tuple[IsolationPoint, ...] = ()
+    isolation_gaps: tuple[str, ...] = ()
+    stored_energy: tuple[str, ...] = ()
+    cautions: tuple[Caution, ...] = ()  # what this isolation adds to the package's cautions
+    proving_dead: tuple[ProvingDead, ...] = ()
+    steps: tuple[Step, ...] = ()
+    restoration: tuple[Step, ...] = ()
+    elements: tuple[str, ...] = ()  # what the tests are made on (sections)
 
 
 class ApproachBoundaries(Plain):
@@ -175,6 +215,7 @@ class WorkPackage(Plain):
     stored_energy: tuple[str, ...] = ()
     proving_dead: tuple[ProvingDead, ...] = ()
     steps: tuple[Step, ...] = ()
+    final_tests: tuple[FinalTest, ...] = ()  # a search's end: one isolation per circuit
     acceptance: tuple[str, ...] = ()
     restoration: tuple[Step, ...] = ()
     phasor: Phasor | None = None
@@ -185,4 +226,10 @@ class WorkPackage(Plain):
                    "over this package.")
 
     def readings(self) -> tuple[Reading, ...]:
-        return tuple(r for step in (*self.steps, *self.restoration) for r in step.readings)
+        """Every reading of the package in print order: steps, final tests, restoration."""
+        final = [step for test in self.final_tests for step in (*test.steps, *test.restoration)]
+        return tuple(r for step in (*self.steps, *final, *self.restoration)
+                     for r in step.readings)
+
+    def final_test(self, final_id: str) -> FinalTest | None:
+        return next((f for f in self.final_tests if f.id == final_id), None)

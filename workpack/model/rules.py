@@ -66,6 +66,23 @@ class StepRule(Strict):
     readings: tuple[CalcRef, ...] = ()
     cautions: tuple[str, ...] = ()  # caution library ids
     check_only: bool = False
+    # --- work steps
+    reconnect: str | None = Field(
+        default=None, min_length=1,
+        description="template: the restoration step that puts back what this step "
+                    "disconnects; required when the step's text disconnects something")
+    before_isolation: bool = Field(
+        default=False, description="done (and printed) before the isolation goes on, "
+                                   "e.g. a load measured while the item is still live")
+    # --- restoration steps (the planner writes the locks and the energising itself)
+    stage: Literal["before_locks_off", "after_normal_supply", "in_service"] = Field(
+        default="in_service",
+        description="where the step goes in the restoration: before the locks come off, "
+                    "once the normal supply is closed (other devices still open), or "
+                    "once everything is back in its normal state")
+    search_outcome: Literal["found", "not_found"] | None = Field(
+        default=None, description="a search's restoration: done only when the ground was "
+                                  "found, or only when it was not")
 
 
 class Rule(Strict):
@@ -87,6 +104,11 @@ class Rule(Strict):
     restoration: tuple[StepRule, ...] = ()
     instrument_supply: str | None = Field(
         default=None, description="template: element whose supply a test instrument needs")
+    defer_when: str | None = Field(
+        default=None, description="expression: the job is not issued today but named on the "
+                                  "day plan as deferred, with defer_reason")
+    defer_reason: str | None = Field(default=None, min_length=1,
+                                     description="template: why it is deferred")
 
     _when_text = field_validator("when", mode="before")(_yes_no_as_text)
 
@@ -95,11 +117,20 @@ class RuleFile(Strict):
     rules: tuple[Rule, ...] = Field(min_length=1)
 
 
+# Facts about a package (or one final test of it) that a caution's text may rely on.
+PackageFact = Literal["isolated", "proves_dead", "insulation_test", "isolates_transformer",
+                      "live", "search"]
+
+
 class CautionEntry(Strict):
     id: str = Field(pattern=r"^[a-z0-9][a-z0-9-]*$")
     signal_word: SignalWord
     text: str = Field(min_length=1, description="template")
     when: str = Field(default="true", description="expression: where it applies")
+    needs: tuple[PackageFact, ...] = Field(
+        default=(), description="what the package must do for the text to be true (e.g. "
+                                "'isolated'): where it does not, the caution is left out, "
+                                "so a caution never states what the package contradicts")
     automatic: bool = Field(default=False,
                             description="added to every package where 'when' holds, "
                                         "whether a rule names it or not")

@@ -344,9 +344,13 @@ class CloseoutPdf(PackagePdf):
         return item
 
     def _ticked(self, parts: tuple[str, ...]) -> bool:
-        r = self.results
+        r: Any = self.results
         if r is None:
             return False
+        if parts[0] == "final":  # a final test's own blanks: read from its record
+            r, parts = r.final_tests.get(parts[1]), parts[2:]
+            if r is None:
+                return False
         if parts[0] == "tester":
             return r.tester_proven_before if parts[1] == "before" else r.tester_proven_after
         done = r.steps if parts[0] == "step" else r.restoration
@@ -385,17 +389,31 @@ class CloseoutPdf(PackagePdf):
             return None, False
         if kind == "remarks":
             return r.remarks, False
+        if kind == "ground_found_at":
+            return r.ground_found_at, False
+        prefix = ""
+        scope: Any = r
+        if kind == "final":  # a final test's own blanks: read from its record
+            prefix, scope, parts = f"{parts[1]}:", r.final_tests.get(parts[1]), parts[2:]
+            kind = parts[0]
+            if scope is None:
+                return None, False
+        if kind == "locks_left_on":
+            return scope.locks_left_on, bool(scope.locks_left_on)
         if kind == "temperature":
             measured = r.readings.get(parts[1])
             return entered_text(measured.temperature if measured else None), False
         if kind == "dead":
-            return entered_text(r.proving_dead.get(int(parts[1]), {}).get(parts[2])), False
+            return (entered_text(scope.proving_dead.get(int(parts[1]), {}).get(parts[2])),
+                    False)
         if kind in ("lock", "tag"):
-            lock = r.isolation.get(parts[1])
+            lock = scope.isolation.get(parts[1])
             if parts[2] == "number":
                 return (lock.lock if kind == "lock" else lock.tag) if lock else None, False
-            if parts[2] == "removed_by" and parts[1] in e.locks_not_removed:
-                return "NOT REMOVED", True
+            if parts[2] == "removed_by" and f"{prefix}{parts[1]}" in e.locks_not_removed:
+                left_on = any(x.startswith(f"{prefix}{parts[1]}: ")
+                              for x in getattr(e, "locks_left_on", ()))
+                return ("LEFT ON" if left_on else "NOT REMOVED"), True
             return (getattr(lock, parts[2]) if lock else None), False
         return None, False
 

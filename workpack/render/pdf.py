@@ -24,12 +24,18 @@ name                                  kind    what goes in it
 ``tag:<device>:number``               text    number of the tag hung on the device
 ``lock:<device>:applied_by``          text    who applied lock and tag
 ``lock:<device>:applied_at``          text    when (time as written)
-``lock:<device>:removed_by``          text    who removed them
+``lock:<device>:removed_by``          text    who removed them (in the restoration step that
+                                              removes that lock)
 ``lock:<device>:removed_at``          text    when
 ``dead:<i>:<pair>``                   text    measured voltage, proving-dead point i (from 1),
                                               pair as given ("A-B", "A-E")
 ``tester:before``                     check   tester proven on a known live source before
 ``tester:after``                      check   and after the absence-of-voltage test
+``locks_left_on``                     text    why the locks stay on (restoration's gate step)
+``ground_found_at``                   text    element where a searched ground was found
+``final:<id>:<any name above>``       …       the same blanks inside final test ``<id>``
+                                              (``final:F2:lock:CB-7:number``); readings keep
+                                              their own ids (``reading:F2%2ES2%2ER1``)
 ``sign:technician``                   text    technician
 ``sign:supervisor``                   text    supervisor
 ``sign:date``                         text    date of sign-off
@@ -73,6 +79,7 @@ from reportlab.platypus import (
 
 from workpack.model.package import (
     Caution,
+    FinalTest,
     IsolationPoint,
     Limit,
     ProvingDead,
@@ -540,13 +547,43 @@ class PackagePdf(PdfDocument):
         parts += self.job_block()
         parts += self.hazard_block()
         parts += self.figures()
+        before = [s for s in self.package.steps if s.before_isolation]
+        parts += self.steps_block(before, "Before the isolation", "step")
         parts += self.isolation_block()
         parts += self.proving_dead_block()
-        parts += self.steps_block(self.package.steps, "Work steps", "step")
+        parts += self.steps_block([s for s in self.package.steps if not s.before_isolation],
+                                  "Work steps", "step")
+        for final in self.package.final_tests:
+            parts += self.final_test_block(final)
         parts += self.acceptance_block()
         parts += self.steps_block(self.package.restoration, "Restoration", "restore")
         parts += self.sign_off_block()
         return parts
+
+    # -- final tests of a search: each a complete isolation of its own
+    def final_test_block(self, final: FinalTest) -> list[Flowable]:
+        scope = ("final", final.id)
+        lead: list[Flowable] = [
+            self.numbered(final.title),
+            Paragraph(f"<b>{words(final.condition)}</b>", self.style["body"]),
+            Spacer(1, 1.5 * mm)]
+        out: list[Flowable] = [KeepTogether([*lead, *self.cautions(final.cautions[:1])])]
+        out += self.cautions(final.cautions[1:])
+        before = [s for s in final.steps if s.before_isolation]
+        out += [KeepTogether(self.step_parts(step, "step", scope)) for step in before]
+        out += self.isolation_table(final.isolation, final.isolation_gaps, final.stored_energy,
+                                    scope, self.sub(f"{final.id} isolation: open, lock and tag "
+                                                    "in this order"), final.restoration)
+        out += self.proving_dead_points(final.proving_dead, scope,
+                                        self.sub(f"{final.id} prove dead at the point of work"))
+        rest = [s for s in final.steps if not s.before_isolation]
+        out += self.step_group(rest, self.sub(f"{final.id} tests"), "step", scope)
+        out += self.step_group(final.restoration, self.sub(f"{final.id} restoration"),
+                               "restore", scope)
+        return out
+
+    def sub(self, title: str) -> Paragraph:
+        return Paragraph(words(title), self.style["sub"])
 
     # -- what and why
     def job_block(self) -> list[Flowable]:
@@ -704,7 +741,10 @@ class PackagePdf(PdfDocument):
         return out
 
     # -- isolation
-    def isolation_rows(self, point: IsolationPoint) -> Table:
+    def isolation_rows(self, point: IsolationPoint, scope: tuple[str, ...] = (),
+                       removal_step: int | None = None) -> Table:
+        """One isolation point: lock and tag numbers, who applied them and when; who
+        removed them too, unless the restoration has a step of its own for that."""
         cell, bold = self.style["cell"], self.style["cell_bold"]
         device = f"<b>{words(point.device)}</b><br/>{words(point.device_kind.replace('_', ' '))}"
         if point.location:
@@ -717,21 +757,25 @@ class PackagePdf(PdfDocument):
         h = self.field_height_mm * mm
 
         def box(kind: str, what: str, part: str) -> FieldBox:
-            return FieldBox(field_name(kind, point.device, part),
+            return FieldBox(field_name(*scope, kind, point.device, part),
                             f"{point.device}: {what}", height=h)
 
         widths = self.cols(10, 50, 52, 20, 25, 25)
         head = self.style["head"]
-        blanks = Table([[Paragraph("Locked by", head),
-                         box("lock", "applied by", "applied_by"),
-                         Paragraph("time", head),
-                         box("lock", "applied at", "applied_at"),
-                         Paragraph("Removed by", head),
-                         box("lock", "removed by", "removed_by"),
-                         Paragraph("time", head),
-                         box("lock", "removed at", "removed_at")]],
-                       colWidths=self._within(sum(widths[1:]) - 3.2 * mm,
-                                              24, 32, 11, 19, 26, 32, 11, 19))
+        applied = [Paragraph("Locked by", head), box("lock", "applied by", "applied_by"),
+                   Paragraph("time", head), box("lock", "applied at", "applied_at")]
+        if removal_step is None:
+            blanks = Table([[*applied, Paragraph("Removed by", head),
+                             box("lock", "removed by", "removed_by"),
+                             Paragraph("time", head),
+                             box("lock", "removed at", "removed_at")]],
+                           colWidths=self._within(sum(widths[1:]) - 3.2 * mm,
+                                                  24, 32, 11, 19, 26, 32, 11, 19))
+        else:
+            blanks = Table([[*applied, Paragraph("Removed in the restoration, step "
+                                                 f"{removal_step}", head)]],
+                           colWidths=self._within(sum(widths[1:]) - 3.2 * mm,
+                                                  24, 44, 11, 30, 65))
         blanks.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
                                     ("LEFTPADDING", (0, 0), (-1, -1), 0),
                                     ("RIGHTPADDING", (0, 0), (-1, -1), 1.5 * mm),
@@ -741,9 +785,9 @@ class PackagePdf(PdfDocument):
             [Paragraph(str(point.order), self.style["step_no"]),
              Paragraph(device, cell), Paragraph(cuts, cell),
              Paragraph(volts(point.voltage_v), bold),
-             FieldBox(field_name("lock", point.device, "number"),
+             FieldBox(field_name(*scope, "lock", point.device, "number"),
                       f"{point.device}: lock number", height=h),
-             FieldBox(field_name("tag", point.device, "number"),
+             FieldBox(field_name(*scope, "tag", point.device, "number"),
                       f"{point.device}: tag number", height=h)],
             ["", blanks, "", "", "", ""],
         ]
@@ -755,44 +799,55 @@ class PackagePdf(PdfDocument):
 
     def isolation_block(self) -> list[Flowable]:
         p = self.package
-        out: list[Flowable] = [self.numbered("Isolation: open, lock and tag in this order")]
-        if p.isolation:
+        return self.isolation_table(p.isolation, p.isolation_gaps, p.stored_energy, (),
+                                    self.numbered("Isolation: open, lock and tag in this "
+                                                  "order"), p.restoration)
+
+    def isolation_table(self, isolation: Sequence[IsolationPoint], gaps: Sequence[str],
+                        stored_energy: Sequence[str], scope: tuple[str, ...],
+                        heading: Flowable, restoration: Sequence[Step]) -> list[Flowable]:
+        out: list[Flowable] = [heading]
+        removed_in = {d: s.number for s in restoration if s.kind == "remove_lock"
+                      for d in s.devices}
+        if isolation:
             head = Table([[Paragraph(t, self.style["head"]) for t in
                            ("#", "Device, kind, place", "What it cuts or stops", "Voltage",
                             "Lock no.", "Tag no.")]],
                          colWidths=self.cols(10, 50, 52, 20, 25, 25))
             head.setStyle(TableStyle([*_GRID, *_HEAD_ROW,
                                       ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
-            first, *rest = sorted(p.isolation, key=lambda point: point.order)
+            rows = [self.isolation_rows(point, scope, removed_in.get(point.device))
+                    for point in sorted(isolation, key=lambda point: point.order)]
             # a heading never ends a page alone: reportlab's keepWithNext does not reach
             # into a KeepTogether, so the heading goes inside it
-            out = [KeepTogether([*out, head, self.isolation_rows(first)])]
-            out += [self.isolation_rows(point) for point in rest]
+            out = [KeepTogether([*out, head, rows[0]]), *rows[1:]]
         else:
             out.append(Paragraph("No isolation points are listed in this package.",
                                  self.style["bold"]))
-        if p.isolation_gaps:
+        if gaps:
             out.append(Paragraph("Supplies no lock can cut", self.style["sub"]))
             out += self.cautions([Caution(signal_word=SignalWord.danger, text=gap)
-                                  for gap in p.isolation_gaps])
-        if p.stored_energy:
+                                  for gap in gaps])
+        if stored_energy:
             out.append(Paragraph("Stored energy", self.style["sub"]))
-            out += self.bullets(p.stored_energy)
+            out += self.bullets(stored_energy)
         return out
 
     # -- proving dead
-    def tester_check(self, when: Literal["before", "after"]) -> Table:
+    def tester_check(self, when: Literal["before", "after"],
+                     scope: tuple[str, ...] = ()) -> Table:
         text = ("Tester proven on a known live source <b>before</b> the test"
                 if when == "before" else
                 "Tester proven again on the known live source <b>after</b> the test")
-        table = Table([[CheckBox(field_name("tester", when), f"tester proven {when}"),
+        table = Table([[CheckBox(field_name(*scope, "tester", when), f"tester proven {when}"),
                         Paragraph(text, self.style["body"])]],
                       colWidths=[10 * mm, self.width - 10 * mm], hAlign="LEFT")
         table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
                                    ("LEFTPADDING", (0, 0), (-1, -1), 0)]))
         return table
 
-    def proving_dead_table(self, index: int, point: ProvingDead) -> list[Flowable]:
+    def proving_dead_table(self, index: int, point: ProvingDead,
+                           scope: tuple[str, ...] = ()) -> list[Flowable]:
         head = Paragraph(f"<b>Point {index}: {words(point.where)}</b>, voltage class "
                          f"{volts(point.voltage_v)}. Expect 0 V on every pair.",
                          self.style["body"])
@@ -808,7 +863,8 @@ class PackagePdf(PdfDocument):
                 [Paragraph("Expected", self.style["cell"])]
                 + [Paragraph("0 V", self.style["cell"]) for _ in chunk] + pad,
                 [Paragraph("Measured", self.style["cell"])]
-                + [FieldBox(field_name("dead", index, pair), f"point {index}, {pair}: volts",
+                + [FieldBox(field_name(*scope, "dead", index, pair),
+                            f"point {index}, {pair}: volts",
                             height=h, suffix="V") for pair in chunk] + pad,
             ]
             table = Table(rows, colWidths=self.cols(26, *[26] * per_row), hAlign="LEFT")
@@ -822,17 +878,21 @@ class PackagePdf(PdfDocument):
         return out
 
     def proving_dead_block(self) -> list[Flowable]:
-        p = self.package
-        out: list[Flowable] = [self.numbered("Prove dead at the point of work")]
-        if not p.proving_dead:
+        return self.proving_dead_points(self.package.proving_dead, (),
+                                        self.numbered("Prove dead at the point of work"))
+
+    def proving_dead_points(self, proving_dead: Sequence[ProvingDead],
+                            scope: tuple[str, ...], heading: Flowable) -> list[Flowable]:
+        out: list[Flowable] = [heading]
+        if not proving_dead:
             out.append(Paragraph("No absence-of-voltage test is listed in this package.",
                                  self.style["bold"]))
             return out
         # the tester check stays with the first point, the second one with the last
-        points = [self.proving_dead_table(index, point)
-                  for index, point in enumerate(p.proving_dead, start=1)]
-        points[0] = [self.tester_check("before"), Spacer(1, 2 * mm), *points[0]]
-        points[-1] = [*points[-1], self.tester_check("after")]
+        points = [self.proving_dead_table(index, point, scope)
+                  for index, point in enumerate(proving_dead, start=1)]
+        points[0] = [self.tester_check("before", scope), Spacer(1, 2 * mm), *points[0]]
+        points[-1] = [*points[-1], self.tester_check("after", scope)]
         out[0:1] = [KeepTogether([out[0], *points[0]])]
         out += [KeepTogether(group) for group in points[1:]]
         return out
@@ -879,17 +939,28 @@ class PackagePdf(PdfDocument):
         table.setStyle(TableStyle([*_GRID, *_HEAD_ROW]))
         return table
 
-    def step_parts(self, step: Step, kind: str) -> list[Flowable]:
-        box = CheckBox(field_name(kind, step.number, "done"),
+    def step_parts(self, step: Step, kind: str,
+                   scope: tuple[str, ...] = ()) -> list[Flowable]:
+        box = CheckBox(field_name(*scope, kind, step.number, "done"),
                        f"{'restoration ' if kind == 'restore' else ''}step {step.number} done")
+        text = words(step.text)
+        if step.search_outcome is not None:
+            outcome = "not found" if step.search_outcome == "not_found" else "found"
+            text = f"<b>Only if the ground was {outcome}:</b> {text}"
         line = Table([[box, Paragraph(str(step.number), self.style["step_no"]),
-                       Paragraph(words(step.text), self.style["body"])]],
+                       Paragraph(text, self.style["body"])]],
                      colWidths=self.cols(10, 12, 160))
         line.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"),
                                   ("LEFTPADDING", (0, 0), (-1, -1), 0),
                                   ("TOPPADDING", (0, 0), (-1, -1), 0.5 * mm),
                                   ("LINEABOVE", (0, 0), (-1, 0), 0.7, colors.black)]))
         parts: list[Flowable] = [Spacer(1, 1.5 * mm), line]
+        if step.kind == "remove_lock" and step.devices:
+            parts += [Spacer(1, 1.5 * mm), self.removal_blanks(step.devices[0], scope)]
+        if step.kind == "gate":
+            parts += [Spacer(1, 1.5 * mm), self.labelled_box(
+                "Locks left on because", field_name(*scope, "locks_left_on"),
+                "why every lock stays on")]
         if step.cautions:
             parts.append(Spacer(1, 1.5 * mm))
             parts += self.cautions(step.cautions)
@@ -901,13 +972,43 @@ class PackagePdf(PdfDocument):
     def steps_block(self, steps: Sequence[Step], title: str, kind: str) -> list[Flowable]:
         if not steps:
             return []
+        return self.step_group(steps, self.numbered(title), kind, ())
+
+    def step_group(self, steps: Sequence[Step], heading: Flowable, kind: str,
+                   scope: tuple[str, ...]) -> list[Flowable]:
+        if not steps:
+            return []
         first, *rest = steps
-        lead = [self.numbered(title),
+        lead = [heading,
                 Paragraph("Tick each box when the step is done; write each reading in its "
                           "box, in the unit shown.", self.style["small"])]
-        out: list[Flowable] = [KeepTogether([*lead, *self.step_parts(first, kind)])]
-        out += [KeepTogether(self.step_parts(step, kind)) for step in rest]
+        out: list[Flowable] = [KeepTogether([*lead, *self.step_parts(first, kind, scope)])]
+        out += [KeepTogether(self.step_parts(step, kind, scope)) for step in rest]
         return out
+
+    def removal_blanks(self, device: str, scope: tuple[str, ...]) -> Table:
+        """Who removed the lock and tag of ``device``, and when: filled in at the step."""
+        h = self.field_height_mm * mm
+        head = self.style["head"]
+        row = [Paragraph("Removed by", head),
+               FieldBox(field_name(*scope, "lock", device, "removed_by"),
+                        f"{device}: removed by", height=h),
+               Paragraph("time", head),
+               FieldBox(field_name(*scope, "lock", device, "removed_at"),
+                        f"{device}: removed at", height=h)]
+        table = Table([row], colWidths=self.cols(22, 40, 10, 28), hAlign="RIGHT")
+        table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
+                                   ("LEFTPADDING", (0, 0), (-1, -1), 0),
+                                   ("RIGHTPADDING", (0, 0), (-1, -1), 1.5 * mm)]))
+        return table
+
+    def labelled_box(self, label: str, name: str, tooltip: str) -> Table:
+        table = Table([[Paragraph(words(label), self.style["head"]),
+                        FieldBox(name, tooltip, height=self.field_height_mm * mm)]],
+                      colWidths=self.cols(42, 118), hAlign="RIGHT")
+        table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
+                                   ("LEFTPADDING", (0, 0), (-1, -1), 0)]))
+        return table
 
     def acceptance_block(self) -> list[Flowable]:
         if not self.package.acceptance:
@@ -925,6 +1026,9 @@ class PackagePdf(PdfDocument):
              FieldBox(field_name("sign", "supervisor"), "supervisor", height=h)],
             [Paragraph("Date", label), FieldBox(field_name("sign", "date"), "date", height=h,
                                                 width=50 * mm)],
+            *([[Paragraph("Ground found at (element id)", label),
+                FieldBox(field_name("ground_found_at"), "ground found at", height=h)]]
+              if self.package.job_kind in ("locate_ground", "clear_second_ground") else []),
             [Paragraph("Remarks", label),
              FieldBox(field_name("remarks"), "remarks", height=30 * mm, multiline=True,
                       max_length=2000)],

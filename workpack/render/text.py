@@ -172,7 +172,8 @@ def fault_search(search: FaultSearch) -> str:
             low, high = section.test_voltage_v
             volts = f"{low:g} V" if low == high else f"{low:g}–{high:g} V"
             at = f" at {section.reference_c:g} °C" if section.reference_c is not None else ""
-            lines.append(f"  {final.feeder} → {section.element}: {volts} DC, minimum "
+            what = section.label if section.circuit else section.element
+            lines.append(f"  {final.feeder} → {what}: {volts} DC, minimum "
                          f"{_ohms(section.minimum_ohm)}{at} ({section.basis})")
     lines.append("\nWeights (rules/search-weights.yaml):")
     lines.extend(f"  {line}" for line in search.weights_used)
