@@ -19,13 +19,8 @@ import datetime as dt
 from collections.abc import Mapping
 from dataclasses import dataclass
 
-from workpack.diagnose import (
-    downstream_loads,
-    insulation_code_set,
-    rated_voltage,
-    winding_of,
-)
-from workpack.electrical import dc_test_voltage, line_to_neutral, minimum_insulation_resistance
+from workpack.diagnose import downstream_loads, insulation_tests
+from workpack.electrical import line_to_neutral
 from workpack.electrical.standards import CodeSet
 from workpack.model.plant import (
     Bus,
@@ -34,7 +29,6 @@ from workpack.model.plant import (
     DeviceKind,
     Element,
     Load,
-    Plant,
     Transformer,
     Vitality,
 )
@@ -437,23 +431,20 @@ def _branch_text(branch: Branch, builder: _TreeBuilder) -> str:
 
 def _final_tests(topology: Topology, builder: _TreeBuilder, leaf: str,
                  standards: Mapping[str, CodeSet]) -> FinalTests:
-    plant: Plant = topology.plant
     sections = []
     for element_id in sorted(builder.downstream(leaf)):
         element = topology.elements[element_id]
         if not isinstance(element, Cable | Load | Bus | Transformer):
             continue
-        code_set = insulation_code_set(plant, element, standards)
-        voltage = rated_voltage(topology, element)
-        winding, assumption = winding_of(element, voltage)
-        test = dc_test_voltage(code_set, voltage)
-        minimum = minimum_insulation_resistance(code_set, voltage, winding=winding)
+        # The winding on this system's side: a transformer below a feeder is its primary.
+        test = insulation_tests(topology, element, standards)[0]
         sections.append(SectionTest(
-            element=element_id, label=element.label,
-            code_set=code_set.name, test_voltage_v=(test.min_v, test.max_v),
-            minimum_ohm=minimum.minimum_ohm, reference_c=minimum.reference_c,
-            basis=f"{test.citation}; {minimum.citation}" + (
-                f"; {assumption}" if assumption else "")))
+            element=element_id, label=element.label + (f", {test.part}" if test.part else ""),
+            code_set=test.code_set.name,
+            test_voltage_v=(test.test_voltage.min_v, test.test_voltage.max_v),
+            minimum_ohm=test.minimum.minimum_ohm, reference_c=test.minimum.reference_c,
+            basis="; ".join(part for part in (str(test.test_voltage.citation), test.basis,
+                                               test.correction) if part)))
     return FinalTests(feeder=leaf, sections=tuple(sections))
 
 
