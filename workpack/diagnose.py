@@ -281,7 +281,10 @@ def _phase_voltages(plant: Plant, topology: Topology, island: Island, finding: P
     detector = _detector(island, finding.where)
     percent = finding.meter_tolerance_percent or (
         detector.meter_tolerance_percent if detector else 2.5)
-    burden = island_burden(island, _observed(island, finding.where, topology))
+    # Voltmeters being read load the system; lamps do not unless their button is pressed,
+    # which nobody does while reading a meter.
+    burden = island_burden(island, _observed(island, finding.where, topology),
+                           button_pressed=False)
     result = diagnose_ground(
         finding.volts, voltage, "-".join(plant.plant.sequence),
         frequency_hz=plant.plant.frequency if capacitance is not None else None,
