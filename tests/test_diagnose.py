@@ -411,3 +411,67 @@ def test_megger_reading_far_from_40_c_asks_for_a_retest(demo_vessel, standards) 
     diagnosis = result.diagnoses[0]
     assert "cannot be judged" in diagnosis.summary and "nearer 40 °C" in diagnosis.summary
     assert diagnosis.next_steps == ("repeat the test nearer the reference temperature",)
+
+
+SMALL_PLANT = """\
+plant: {name: test plant, kind: vessel, frequency: 60 Hz}
+sources:
+  - {id: G1, kind: generator, voltage: 440 V}
+devices:
+  - {id: CB-G1, kind: circuit_breaker, from: G1}
+  - {id: CB-T1, kind: circuit_breaker, from: MSB}
+buses:
+  - id: MSB
+    kind: switchboard
+    voltage: 440 V
+    earthing: insulated
+    from: CB-G1
+    detector: {id: GD, kind: DETECTOR}
+  - {id: LP, kind: lighting_panel, voltage: 115 V, earthing: insulated, from: T1}
+transformers:
+  - id: T1
+    construction: three_phase
+    rated_kva: 10 kVA
+    primary_voltage: 440 V
+    secondary_voltage: 115 V
+    vector_group: Dd0
+    insulation: INSULATION
+    from: CB-T1
+"""
+
+
+@pytest.mark.parametrize(("detector", "insulation", "where", "message"), [
+    ("voltmeters, lamp_power: 15 W, lamp_voltage: 250 V", "dry_type", "{id: GD",
+     "buses[0].detector: lamp_power and lamp_voltage describe lamps, not voltmeters"),
+    ("lamps, burden_per_phase: 0 Ω", "dry_type", "{id: GD",
+     "buses[0].detector: burden_per_phase of 0 Ω would be a bolted ground: give the "
+     "detector's resistance"),
+    ("lamps, burden_per_phase: 6.5 kV", "dry_type", "6.5 kV",
+     "buses[0].detector.burden_per_phase: 'kV' is not a unit of resistance (expected "
+     "something like Ω)"),
+    ("lamps, lamp_power: 15 W", "dry_type", "{id: GD",
+     "buses[0].detector: give both lamp_power and lamp_voltage (R = V²/P needs both)"),
+    ("insulation_monitor, alarm: 22 kΩ, burden_per_phase: 1 kΩ", "dry_type", "{id: GD",
+     "buses[0].detector: give an insulation_monitor's internal_impedance, not "
+     "burden_per_phase"),
+    ("lamps", "oil", "oil",
+     "transformers[0].insulation: 'oil' is not allowed; expected 'liquid_filled' or "
+     "'dry_type'"),
+])
+def test_misused_burden_and_insulation_fields_are_one_located_line(
+    detector: str, insulation: str, where: str, message: str,
+) -> None:
+    """Bad detector burdens and transformer insulation kinds: file:line:col, the field, what
+    is wrong (the loader's contract for every inventory error); a good one loads."""
+    from workpack.errors import InputError
+    from workpack.loading import load_plant_text
+
+    text = SMALL_PLANT.replace("DETECTOR", detector).replace("INSULATION", insulation)
+    line_no, line = next((n, ln) for n, ln in enumerate(text.splitlines(), start=1)
+                         if where in ln)
+    with pytest.raises(InputError) as caught:
+        load_plant_text(text, "p.yaml")
+    assert caught.value.format_message() == f"p.yaml:{line_no}:{line.index(where) + 1}: {message}"
+    good = SMALL_PLANT.replace("DETECTOR", "lamps, lamp_power: 15 W, lamp_voltage: 250 V")
+    plant, _ = load_plant_text(good.replace("INSULATION", "liquid_filled"), "p.yaml")
+    assert detector_burden_ohm(plant.buses[0].detector) == pytest.approx(250.0**2 / 15.0)

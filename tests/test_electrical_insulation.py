@@ -127,11 +127,13 @@ def test_ieee43_halving_is_not_used_far_from_40_c(temp: float) -> None:
 def test_the_printed_correction_states_the_range_and_the_retest() -> None:
     """What the package prints about the correction comes from the same tables."""
     text = correction_instruction(IEEE)
-    assert "10–60 °C" in text and "nearer 40 °C and test again" in text
-    assert "halving per 10 °C" in text
+    assert text == ("correct to 40 °C by halving per 10 °C rise (IEEE Std 43 (2013)), for "
+                    "readings at 10–60 °C only (common practice); outside that, test again "
+                    "nearer 40 °C")
     solid = correction_instruction(SOLID)
-    assert "Table 100.14" in solid and "solid insulation column" in solid
-    assert "0–75 °C" in solid and "nearer 20 °C" in solid
+    assert solid == ("correct to 20 °C with Table 100.14, solid insulation column (ANSI/NETA "
+                     "MTS (2019)), for readings at 0–75 °C only; outside that, test again "
+                     "nearer 20 °C")
 
 
 def test_neta_correction_worked_example() -> None:

@@ -72,7 +72,8 @@ def test_out_of_range_reading_is_not_judged_and_asks_for_a_retest(demo_vessel,
     nearer 40 °C, as the package's printed correction text does."""
     package = _package_with("WL-1", demo_vessel, standards)
     printed = package.steps[1].readings[0].basis
-    assert "10–60 °C" in printed and "nearer 40 °C and test again" in printed
+    assert "10–60 °C only" in printed and "test again nearer 40 °C" in printed
+    assert package.steps[1].readings[1].basis == "correct as for phase A above"
     verdicts, evaluation = _judged(package, standards, 100.0, 70.0)
     assert {v.outcome for v in verdicts} == {"not recorded"}
     assert all("nearer 40 °C" in v.note for v in verdicts)

@@ -135,13 +135,16 @@ def insulation_resistance(ctx: CalcContext, element: str) -> tuple[Reading, ...]
             whats = [f"{element} {test.part} to the other winding and earth"]
         else:
             whats = [f"{element} phase {phase} to earth" for phase in _labels(ctx)]
-        for what in whats:
+        for index, what in enumerate(whats):
+            # The correction rule in full once per test; the other phases point to it (by
+            # phase: the planner renumbers reading ids).
+            correction = (test.correction if index == 0 or not test.correction
+                          else f"correct as for phase {_labels(ctx)[0]} above")
             readings.append(Reading(
                 id=f"{ctx.prefix}.R{len(readings) + 1}",
                 what=f"{what}, {test.dc_text} DC for 1 min ({test.test_voltage.citation})",
                 unit=unit, limit=limit, needs_temperature=minimum.reference_c is not None,
-                basis=test.correction, element=element,
-                test_voltage_v=test.test_voltage.max_v))
+                basis=correction, element=element, test_voltage_v=test.test_voltage.max_v))
     return tuple(readings)
 
 

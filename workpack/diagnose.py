@@ -536,7 +536,7 @@ def insulation_tests(topology: Topology, element: Element,
         if assumption:
             basis += f"; {assumption}"
         correction = ("" if minimum.reference_c is None
-                      else f"reading {correction_instruction(code_set)}")
+                      else correction_instruction(code_set))
         tests.append(InsulationTest(element.id, part, voltage, code_set, test, minimum,
                                     assumption, basis, correction))
     return tuple(tests)

@@ -443,8 +443,10 @@ def _final_tests(topology: Topology, builder: _TreeBuilder, leaf: str,
             code_set=test.code_set.name,
             test_voltage_v=(test.test_voltage.min_v, test.test_voltage.max_v),
             minimum_ohm=test.minimum.minimum_ohm, reference_c=test.minimum.reference_c,
-            basis="; ".join(part for part in (str(test.test_voltage.citation), test.basis,
-                                               test.correction) if part)))
+            basis="; ".join(dict.fromkeys(  # the same table often gives both: once
+                part for part in (str(test.test_voltage.citation), test.basis,
+                                  test.correction)
+                if part and not (part != test.basis and test.basis.startswith(part))))))
     return FinalTests(feeder=leaf, sections=tuple(sections))
 
 

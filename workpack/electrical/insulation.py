@@ -309,22 +309,22 @@ def correct_to_reference(
 
 
 def correction_instruction(code_set: CodeSet) -> str:
-    """How the package's reading is corrected, and where not, in words for the page."""
+    """How the package's reading is corrected, and where not, in few words for the page."""
     rule = _rule(code_set)
     valid = rule.valid_range_c
+    source = f"{rule.citation.document} ({rule.citation.edition})"
     if rule.method == "halving":
-        how = (f"corrected to {rule.reference_c:g} °C by halving per "
-               f"{rule.halving_interval_c:g} °C rise ({rule.citation})")
+        how = (f"correct to {rule.reference_c:g} °C by halving per "
+               f"{rule.halving_interval_c:g} °C rise ({source})")
     else:
         column = f", {rule.column_label}" if rule.column_label else ""
-        how = f"corrected to {rule.reference_c:g} °C with {rule.citation}{column}"
+        how = f"correct to {rule.reference_c:g} °C with {rule.citation.clause}{column} ({source})"
     if valid is None:
         return how
-    text = f"{how}, for readings taken at {valid[0]:g}–{valid[1]:g} °C"
-    if rule.range_citation is not None:
-        text += f" ({rule.range_citation.strength})"
-    return (f"{text}; at any other temperature it cannot be judged: bring the insulation "
-            f"nearer {rule.reference_c:g} °C and test again")
+    strength = (f" ({rule.range_citation.strength})" if rule.range_citation is not None
+                and rule.range_citation.strength != "published" else "")
+    return (f"{how}, for readings at {valid[0]:g}–{valid[1]:g} °C only{strength}; outside "
+            f"that, test again nearer {rule.reference_c:g} °C")
 
 
 def _interpolate_factor(
