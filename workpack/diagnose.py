@@ -194,8 +194,7 @@ def island_burden(island: Island, observed: Detector | None,
             continue
         ohm = detector_burden_ohm(detector)
         if ohm is None:
-            if detector.kind is not DetectorKind.insulation_monitor:
-                unknown.append(detector.id)
+            unknown.append(detector.id)
             continue
         resistances.append(ohm)
         parts.append(f"{detector.id} {detector.kind.value.replace('_', ' ')} "
@@ -226,7 +225,8 @@ def _burden_notes(burden: Burden, capacitance: float | None) -> list[str]:
                      f"(together {_ohms(burden.ohm_per_phase or 0.0)} per phase to earth)")
     if burden.unknown:
         notes.append(f"the plant file gives no burden for {', '.join(burden.unknown)}: taken "
-                     "as none; lamps and meters to earth shift which phase reads low")
+                     "as none; lamps, meters and monitors tied to earth shift which phase "
+                     "reads low")
     return notes
 
 
