@@ -14,6 +14,7 @@ from workpack.electrical import (
     MonitorSeverity,
     assess_insulation_monitor,
     diagnose_lamps,
+    lamp_resistance,
     load_code_set,
     single_ground,
 )
@@ -82,6 +83,73 @@ def test_lamps_seen_from_the_model_always_include_the_grounded_phase(
             assert d.suspected_phases == (phase,)
 
 
+LAMP_15W_250V = 250.0**2 / 15.0  # R = V²/P
+
+
+def test_lamp_resistance_is_v_squared_over_p() -> None:
+    """P = V²/R (Ohm's law): a 15 W 250 V lamp is 4167 Ω; a 15 W 130 V one 1127 Ω."""
+    assert lamp_resistance(15.0, 250.0) == pytest.approx(4166.67, rel=1e-5)
+    assert lamp_resistance(15.0, 130.0) == pytest.approx(1126.67, rel=1e-5)
+    with pytest.raises(ValueError, match="lamp power"):
+        lamp_resistance(0.0, 250.0)
+
+
+def test_lamps_in_the_model_tell_which_phase_a_lone_dim_lamp_is() -> None:
+    """440 V, 60 Hz, C0 0.1 µF, lamps of 8 kΩ per phase to earth, 12 kΩ on B: the forward
+    model with the lamps gives B dim and the others normal. Read as if the lamps were not
+    in the circuit, a lone dim lamp is B or the phase it lags (the lagging phase reads
+    lowest beyond 3ωC0·Rf = √3); with their burden (arg(G + jωC0) = 17° ≤ 60°) the lagging
+    phase can never read lowest, so the dim lamp is the grounded one. (Which phase reads
+    lowest with and without lamps is checked on lcapy's numbers in
+    tests/test_electrical_ground_lcapy.py.)"""
+    bands = LampBands()
+    v_ln = 440 / math.sqrt(3)
+    lit = single_ground(440, 60, 0.1e-6, "B", 12e3, burden_ohm=8e3).phase_to_earth_magnitude_v
+    seen = {k: bands.classify(v / v_ln) for k, v in lit.items()}
+    assert seen == {"A": "normal", "B": "dim", "C": "normal"}
+    naive = diagnose_lamps(seen, "ABC", bands)
+    assert set(naive.suspected_phases) == {"A", "B"}
+    d = diagnose_lamps(seen, "ABC", bands, frequency_hz=60, capacitance_f=0.1e-6,
+                       burden_ohm=8e3)
+    assert d.suspected_phases == ("B",)
+    assert math.isinf(d.lag_dimmest_above_ratio)
+    assert "dimmest lamp is always the grounded phase" in d.finding
+    low, high = d.ratio_range["B"]
+    x = 3 * 2 * math.pi * 60 * 0.1e-6 * 12e3
+    assert low <= x <= high
+
+
+@settings(max_examples=200, deadline=None)
+@given(x=st.floats(1e-3, 30.0), phase=st.sampled_from(["A", "B", "C"]),
+       seq=st.sampled_from(["ABC", "ACB"]), c0=st.floats(0.01e-6, 5e-6),
+       lamp=st.floats(500.0, 50e3), f=st.sampled_from([50.0, 60.0]))
+def test_lamps_with_their_burden_always_include_the_grounded_phase(
+    x: float, phase: str, seq: str, c0: float, lamp: float, f: float
+) -> None:
+    """Lamp states made from the forward model with the lamps' own resistance to earth are
+    explained with the true phase among the suspects (never a wrong certainty), and the
+    brightness the guidance prints for that phase holds what each lamp shows (power ∝ V²)."""
+    bands = LampBands()
+    rf = x / (3 * 2 * math.pi * f * c0)
+    mags = single_ground(440, f, c0, phase, rf, seq, burden_ohm=lamp).phase_to_earth_magnitude_v
+    v_ln = 440 / math.sqrt(3)
+    obs = {k: bands.classify(v / v_ln) for k, v in mags.items()}
+    d = diagnose_lamps(obs, seq, bands, frequency_hz=f, capacitance_f=c0, burden_ohm=lamp)
+    if all(s == "normal" for s in obs.values()):
+        assert d.suspected_phases == ()
+        return
+    assert d.exact_match
+    assert phase in d.suspected_phases
+    if d.confidence is Confidence.HIGH:
+        assert d.suspected_phases == (phase,)
+    low, high = d.ratio_range[phase]
+    # The model's grid is 2001 points on the locus: allow one step of slack at the ends.
+    if low * 0.98 <= x <= high * 1.02:
+        for lbl, v in mags.items():
+            lo, hi = d.brightness[phase][lbl]
+            assert lo - 0.05 <= (v / v_ln) ** 2 <= hi + 0.05
+
+
 def test_lamp_inputs_are_checked() -> None:
     """Unknown states and missing phases are refused; 'off' reads as dark."""
     assert diagnose_lamps({"A": "off", "B": "bright", "C": "bright"}).suspected_phases == ("A",)
@@ -91,6 +159,8 @@ def test_lamp_inputs_are_checked() -> None:
         diagnose_lamps({"A": "dim", "B": "normal"})
     with pytest.raises(ValueError, match="lamp bands"):
         LampBands(dark_below=0.9, dim_below=0.5)
+    with pytest.raises(ValueError, match="needs the frequency and capacitance"):
+        diagnose_lamps({"A": "dim", "B": "normal", "C": "normal"}, burden_ohm=4e3)
 
 
 def test_monitor_response_guide_at_440_v_is_22_kilohm() -> None:

@@ -17,6 +17,9 @@ from workpack.electrical import (
     PhaseSequence,
     diagnose_ground,
     diagnose_ground_batch,
+    lag_crossover_ratio,
+    leading_phase_max,
+    locus_angle,
     single_ground,
     solve_ground,
 )
@@ -362,3 +365,122 @@ def test_l1_l2_l3_labels_work_end_to_end() -> None:
     d = diagnose_ground(readings, 400, "L1-L2-L3", frequency_hz=50, capacitance_f=1e-6)
     assert d.grounded_phase == "L2"
     assert set(d.fitted_readings_v) == {"L1", "L2", "L3"}
+
+
+# --- with the detector's own burden (lamps, voltmeters, a monitor) to earth -------------------
+
+small_and_large_caps = st.floats(0.01e-6, 10e-6)
+burdens = st.floats(500.0, 1e6)  # Ω per phase: lamps of a few watts to high-impedance meters
+
+
+@settings(max_examples=300, deadline=None)
+@given(v_ll=volts, f=freqs, c0=small_and_large_caps, rb=burdens, lx=log_ratio, phase=phases,
+       seq=sequences)
+def test_recovers_phase_and_resistance_with_a_detector_burden(
+    v_ll: float, f: float, c0: float, rb: float, lx: float, phase: str, seq: str
+) -> None:
+    """Forward model with a burden rb per phase to earth → inverse with the same burden:
+    the right phase, the true Rf inside the interval, a single ground wherever the
+    displacement is measurable (derived: V_g = E_k/(1 + 3·Y0·Rf), Y0 = 1/rb + jωC0)."""
+    x = 10**lx
+    rf = x / (3 * 2 * math.pi * f * c0)
+    sol = single_ground(v_ll, f, c0, phase, rf, seq, burden_ohm=rb)
+    readings = sol.phase_to_earth_magnitude_v
+    d = diagnose_ground(readings, v_ll, seq, frequency_hz=f, capacitance_f=c0, tolerance=TOL,
+                        burden_ohm=rb)
+    assert d.consistent
+    tol_max = max(TOL.bound_v(v) for v in readings.values())
+    if sol.neutral_shift_v > 10 * tol_max:
+        assert d.status is GroundStatus.SINGLE
+    if d.status is GroundStatus.SINGLE:
+        assert d.grounded_phase == phase
+        assert d.fault_resistance_interval_ohm is not None
+        lo, hi = d.fault_resistance_interval_ohm
+        assert lo * (1 - 1e-9) <= rf <= hi * (1 + 1e-9)
+        assert d.misfit <= 0.05
+    elif d.status is GroundStatus.NO_GROUND:
+        assert d.fault_resistance_interval_ohm is not None
+        assert rf >= d.fault_resistance_interval_ohm[0] * (1 - 1e-9)
+    else:
+        assert phase in d.candidate_phases
+
+
+def test_fault_current_with_burden_is_the_forward_models() -> None:
+    """440 V, 60 Hz, C0 0.39 µF, lamps 6.5 kΩ, 5 kΩ on A: the inverse's fault current at
+    its best fit equals the forward model's |I_f| (exact readings)."""
+    sol = single_ground(440, 60, 0.39e-6, "A", 5e3, burden_ohm=6.5e3)
+    d = diagnose_ground(sol.phase_to_earth_magnitude_v, 440, "ABC", frequency_hz=60,
+                        capacitance_f=0.39e-6, burden_ohm=6.5e3,
+                        tolerance=MeterTolerance(1e-9, 1e-9))
+    assert d.grounded_phase == "A"
+    assert d.fault_resistance_ohm == pytest.approx(5e3, rel=1e-4)
+    assert d.fault_current_a == pytest.approx(abs(sol.ground_current_a), rel=1e-4)
+
+
+@settings(max_examples=150, deadline=None)
+@given(f=freqs, c0=small_and_large_caps, rb=burdens, phase=phases, seq=sequences)
+def test_which_phase_reads_lowest_follows_the_burden(
+    f: float, c0: float, rb: float, phase: str, seq: str
+) -> None:
+    """lag_crossover_ratio against the forward model (solve_ground, KCL at earth): below
+    it the grounded phase reads lowest, above it the phase lagging it; when the burden makes
+    arg(Y0) ≤ 60° it is infinite and the grounded phase always reads lowest."""
+    phi = locus_angle(f, c0, 1 / rb)
+    crossover = lag_crossover_ratio(phi)
+    lagging = PhaseSequence.parse(seq).lagging(phase)
+    per_ratio = 1 / (3 * 2 * math.pi * f * c0)
+    probes = [0.3, 0.9, 1.1, 3.0] if math.isfinite(crossover) else [0.01, 1.0, 100.0]
+    for k in probes:
+        x = k * crossover if math.isfinite(crossover) else k
+        mags = single_ground(440, f, c0, phase, x * per_ratio, seq,
+                             burden_ohm=rb).phase_to_earth_magnitude_v
+        lowest = min(mags, key=mags.__getitem__)
+        if math.isfinite(crossover) and k > 1:
+            assert lowest == lagging
+        else:
+            assert lowest == phase
+
+
+@pytest.mark.parametrize("rb", [math.inf, 1e5, 1e4, 3e3, 1e3])
+def test_highest_reading_one_ground_allows_falls_with_the_burden(rb: float) -> None:
+    """leading_phase_max against a dense sweep of the forward model: (1+√7)/2 = 1.823 with
+    no burden (derived, SOURCES.md), lower with lamps, never above it."""
+    c0, f = 0.39e-6, 60.0
+    phi = locus_angle(f, c0, 0.0 if math.isinf(rb) else 1 / rb)
+    peak = leading_phase_max(phi)
+    v_ln = 440 / SQRT3
+    swept = max(
+        max(single_ground(440, f, c0, "A", r, burden_ohm=None if math.isinf(rb) else rb)
+            .phase_to_earth_magnitude_v.values())
+        for r in np.concatenate([[0.0], np.logspace(-1, 7, 4001)])
+    ) / v_ln
+    assert swept <= peak * (1 + 1e-9)
+    assert swept == pytest.approx(peak, rel=1e-4)
+    assert peak <= (1 + math.sqrt(7)) / 2 + 1e-12
+    if math.isinf(rb):
+        assert peak == pytest.approx((1 + math.sqrt(7)) / 2, rel=1e-12)
+
+
+def test_burden_without_capacitance_is_refused() -> None:
+    """The locus depends on the ratio of burden to capacitance: one alone is not enough."""
+    with pytest.raises(ValueError, match="needs the frequency and capacitance"):
+        diagnose_ground({"A": 254, "B": 254, "C": 254}, 440, burden_ohm=5e3)
+    with pytest.raises(ValueError, match="positive number of ohms"):
+        diagnose_ground({"A": 254, "B": 254, "C": 254}, 440, frequency_hz=60,
+                        capacitance_f=1e-6, burden_ohm=0.0)
+
+
+def test_batch_takes_one_locus_angle_per_set() -> None:
+    """Sets with and without burden in one batch give what each gives alone."""
+    c0 = 0.39e-6
+    with_lamps = single_ground(440, 60, c0, "C", 4e3, burden_ohm=6.5e3)
+    bare = single_ground(440, 60, c0, "C", 4e3)
+    phis = [locus_angle(60, c0, 1 / 6.5e3), math.pi / 2]
+    sets = [[with_lamps.phase_to_earth_magnitude_v[k] for k in LABELS],
+            [bare.phase_to_earth_magnitude_v[k] for k in LABELS]]
+    batch = diagnose_ground_batch(sets, 440, "ABC", TOL, phis)
+    for i, phi in enumerate(phis):
+        alone = diagnose_ground_batch([sets[i]], 440, "ABC", TOL, phi)
+        assert batch.grounded[i] == alone.grounded[0] == 2
+        assert batch.ratio[i, 2] == pytest.approx(alone.ratio[0, 2], rel=1e-12)
+        assert batch.ratio[i, 2] == pytest.approx(3 * 2 * math.pi * 60 * c0 * 4e3, rel=1e-6)

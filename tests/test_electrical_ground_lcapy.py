@@ -33,6 +33,7 @@ def _lcapy_solve(
     sequence: str,
     leakage_ohm: Mapping[str, float],
     faults: list[Fault],
+    burden_ohm: Mapping[str, float] | None = None,
 ) -> tuple[dict[str, complex], list[complex]]:
     """Phase-to-earth phasors and fault currents from lcapy; earth is lcapy's node 0."""
     seq = PhaseSequence.parse(sequence)
@@ -46,6 +47,8 @@ def _lcapy_solve(
             lines.append(f"C{lbl} {node[lbl]} 0 {capacitance_f[lbl]!r}")
         if lbl in leakage_ohm:
             lines.append(f"Rg{lbl} {node[lbl]} 0 {leakage_ohm[lbl]!r}")
+        if burden_ohm and lbl in burden_ohm:
+            lines.append(f"Rb{lbl} {node[lbl]} 0 {burden_ohm[lbl]!r}")
     for i, fault in enumerate(faults):
         if fault.resistance_ohm == 0:
             lines.append(f"Vq{i} {node[fault.phase]} 0 0")  # a 0 V source: bolted, and an ammeter
@@ -115,3 +118,68 @@ def test_forward_model_matches_lcapy(
     scale = max([abs(i) for i in currents] + [1e-12])
     for mine, ref in zip(ours.fault_currents_a, currents, strict=True):
         assert _close(mine, ref, scale), (mine, ref)
+
+
+# The detector's own burden from each phase to earth: lamps (R = V²/P of the lamp, Ohm's law),
+# lamps behind transformers or voltmeters (a declared resistance), an insulation monitor's
+# share (3 × its internal impedance per phase). 50 and 60 Hz; small systems, where the lamp
+# resistance is of the order of 1/(3ωC0) or below, and large ones, where it is far above.
+LAMP_15W_250V = 250.0**2 / 15.0  # 4167 Ω
+LAMP_15W_130V = 130.0**2 / 15.0  # 1127 Ω
+BURDEN_CASES = [
+    pytest.param(440, 60, 0.05e-6, "ABC", LAMP_15W_250V, [("B", 10e3)],
+                 id="small-C0-60Hz-lamps-10k-B"),
+    pytest.param(440, 50, 0.05e-6, "ABC", LAMP_15W_250V, [("B", 10e3)],
+                 id="small-C0-50Hz-lamps-10k-B"),
+    pytest.param(440, 60, 5e-6, "ABC", LAMP_15W_250V, [("A", 300.0)],
+                 id="large-C0-60Hz-lamps-300ohm-A"),
+    pytest.param(400, 50, 5e-6, "ACB", LAMP_15W_250V, [("C", 50.0)],
+                 id="large-C0-50Hz-ACB-lamps-50ohm-C"),
+    pytest.param(115, 60, 0.02e-6, "ACB", LAMP_15W_130V, [("C", 2e3)],
+                 id="115V-lamps-2k-C"),
+    pytest.param(115, 50, 0.063e-6, "ABC", LAMP_15W_130V, [("A", 0.0)],
+                 id="115V-lamps-bolted-A"),
+    pytest.param(230, 50, 0.5e-6, "ABC", 1 / (1 / 6.5e3 + 1 / (3 * 120e3)), [("B", 20e3)],
+                 id="lamps-and-monitor-20k-B"),
+    pytest.param(440, 60, 0.39e-6, "ABC", 200e3, [("A", 2e3), ("C", 9e3)],
+                 id="voltmeters-double-fault"),
+    pytest.param(690, 60, 1e-6, "ABC", {"A": 100e3}, [("B", 5e3)],
+                 id="one-voltmeter-on-a-selector-A"),
+    pytest.param(440, 60, 0.39e-6, "ABC", LAMP_15W_250V, [], id="lamps-no-fault"),
+]
+
+
+@pytest.mark.parametrize(("v_ll", "freq", "c0", "seq", "burden", "faults"), BURDEN_CASES)
+def test_forward_model_with_detector_burden_matches_lcapy(
+    v_ll: float,
+    freq: float,
+    c0: float,
+    seq: str,
+    burden: float | dict[str, float],
+    faults: list[tuple[str, float]],
+) -> None:
+    """With lamp, meter and monitor resistances to earth, the phase-to-earth phasors and
+    fault currents agree with lcapy (an independent circuit solver) within 1e-6."""
+    labels = PhaseSequence.parse(seq).labels
+    caps = dict.fromkeys(labels, c0)
+    per_phase = burden if isinstance(burden, dict) else dict.fromkeys(labels, burden)
+    fault_list = [Fault(p, r) for p, r in faults]
+    ours = solve_ground(v_ll, freq, c0, seq, faults=fault_list, burden_ohm=burden)
+    volts, currents = _lcapy_solve(v_ll, freq, caps, seq, {}, fault_list, per_phase)
+    for lbl, v in volts.items():
+        assert _close(ours.phase_to_earth_v[lbl], v, v_ll), (lbl, ours.phase_to_earth_v[lbl], v)
+    scale = max([abs(i) for i in currents] + [1e-12])
+    for mine, ref in zip(ours.fault_currents_a, currents, strict=True):
+        assert _close(mine, ref, scale), (mine, ref)
+
+
+def test_lamps_change_which_lamp_is_dimmest_as_lcapy_solves_it() -> None:
+    """The issue's point, on lcapy's numbers alone: 440 V, 60 Hz, C0 0.1 µF, 30 kΩ on B.
+    Without lamps (3ωC0·Rf = 3.4 > √3) phase C, lagging B, reads lowest; with 15 W 250 V
+    lamps to earth (R = V²/P = 4.2 kΩ) phase B itself is lowest, and so is its lamp."""
+    caps = dict.fromkeys("ABC", 0.1e-6)
+    fault = [Fault("B", 30e3)]
+    bare, _ = _lcapy_solve(440, 60, caps, "ABC", {}, fault)
+    lamps, _ = _lcapy_solve(440, 60, caps, "ABC", {}, fault, dict.fromkeys("ABC", LAMP_15W_250V))
+    assert min(bare, key=lambda k: abs(bare[k])) == "C"
+    assert min(lamps, key=lambda k: abs(lamps[k])) == "B"

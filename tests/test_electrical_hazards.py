@@ -12,6 +12,7 @@ from workpack.electrical import (
     ground_hazards,
     load_code_set,
     single_ground,
+    worst_voltage_to_earth,
 )
 
 NFPA = load_code_set("nfpa70e-2021")
@@ -89,3 +90,37 @@ def test_healthy_system_has_no_ground_warning() -> None:
     assert h.notes == ()
     with pytest.raises(ValueError, match="three phase-to-earth"):
         ground_hazards(440.0, {"A": 254.0})
+
+
+def test_one_worst_case_voltage_to_earth_per_system() -> None:
+    """440 V insulated: (1+√7)/2 × 254 V = 463 V to earth (derived from the single-ground
+    locus, SOURCES.md), above the line voltage, so 463 V enters the approach table and the
+    glove class too. 400 V solidly grounded: 231 V to earth (V_LL/√3, SOURCES.md), 400 V
+    phase to phase for the table. A reading above the bound is taken as it is."""
+    it = worst_voltage_to_earth(440.0, insulated=True)
+    assert it.worst_v == pytest.approx((1 + math.sqrt(7)) / 2 * 440 / math.sqrt(3))
+    assert round(it.worst_v) == 463 and it.exposure_v == it.worst_v
+    assert "463 V" in it.why() and "trips nothing" in it.why()
+    assert "solid ground puts the healthy phases at line voltage" in it.why(True)
+    tn = worst_voltage_to_earth(400.0, insulated=False)
+    assert tn.worst_v == pytest.approx(400 / math.sqrt(3)) and tn.exposure_v == 400.0
+    odd = worst_voltage_to_earth(440.0, insulated=True, measured_highest_v=480.0)
+    assert odd.worst_v == 480.0 and "measured 480 V" in odd.why()
+
+
+def test_ground_caution_and_table_entry_use_the_same_figure() -> None:
+    """The caution's 'treat every conductor as up to … V' and the approach table entry are
+    the one worst-case figure (the issue: one page said 440 V, another 463 V)."""
+    h = ground_hazards(440.0, {"A": 348.0, "B": 236.0, "C": 209.0})
+    figure = f"{h.worst_v:.0f} V"
+    assert figure == "463 V"
+    assert any(f"treat every conductor as up to {figure} to earth" in n.text for n in h.notes)
+    assert h.approach_entry_v == pytest.approx(h.worst_v)
+
+
+def test_150_v_insulated_system_enters_the_next_row() -> None:
+    """150 V insulated: 1.823 × 86.6 V = 158 V to earth (derived) moves the entry from the
+    50–150 V row to the 151–750 V row of NFPA 70E-2021 Table 130.4(E)(a)."""
+    worst = worst_voltage_to_earth(150.0, insulated=True)
+    row = approach_boundary(NFPA, 150.0, worst.exposure_v)
+    assert row is not None and row.label == "151–750 V"

@@ -19,13 +19,10 @@ from workpack.diagnose import (
     connected_load_va,
     downstream_loads,
     insulation_code_set,
-    rated_voltage,
-    winding_of,
+    insulation_tests,
 )
 from workpack.electrical import (
-    dc_test_voltage,
     line_to_neutral,
-    minimum_insulation_resistance,
     open_delta,
     transformer_bank,
 )
@@ -125,27 +122,33 @@ def line_voltages(ctx: CalcContext, at: str) -> tuple[Reading, ...]:
 
 
 def insulation_resistance(ctx: CalcContext, element: str) -> tuple[Reading, ...]:
-    """Each phase to earth of an element: test voltage and minimum from its code set."""
+    """Insulation to earth of an element: test voltage, minimum and correction from its
+    code set (``diagnose.insulation_tests``). Each phase to earth; a transformer's windings
+    one by one, each to the other winding and earth (ANSI/NETA MTS Table 100.5)."""
     target = _element(ctx, element)
-    code_set = insulation_code_set(ctx.topology.plant, target, ctx.standards)
-    voltage = rated_voltage(ctx.topology, target)
-    winding, assumption = winding_of(target, voltage)
-    test = dc_test_voltage(code_set, voltage)
-    minimum = minimum_insulation_resistance(code_set, voltage, winding=winding)
-    dc = f"{test.min_v:g} V" if test.min_v == test.max_v else f"{test.min_v:g}–{test.max_v:g} V"
-    basis = f"{minimum.citation}" + (f"; {assumption}" if assumption else "")
-    unit = "MΩ" if minimum.minimum_ohm >= 1e6 else "kΩ"
-    return tuple(
-        Reading(id=f"{ctx.prefix}.R{n}",
-                what=f"{element} phase {phase} to earth, {dc} DC for 1 min ({test.citation})",
-                unit=unit,
-                limit=Limit(low=minimum.minimum_ohm, basis=basis,
-                            temperature_corrected_to_c=minimum.reference_c,
-                            code_set=code_set.name if minimum.reference_c is not None
-                            else None),
-                needs_temperature=minimum.reference_c is not None, element=element,
-                test_voltage_v=test.max_v)
-        for n, phase in enumerate(_labels(ctx), start=1))
+    readings: list[Reading] = []
+    for test in insulation_tests(ctx.topology, target, ctx.standards):
+        minimum = test.minimum
+        unit = "MΩ" if minimum.minimum_ohm >= 1e6 else "kΩ"
+        limit = Limit(low=minimum.minimum_ohm, basis=test.basis,
+                      temperature_corrected_to_c=minimum.reference_c,
+                      code_set=test.code_set.name if minimum.reference_c is not None
+                      else None)
+        if test.part:
+            whats = [f"{element} {test.part} to the other winding and earth"]
+        else:
+            whats = [f"{element} phase {phase} to earth" for phase in _labels(ctx)]
+        for index, what in enumerate(whats):
+            # The correction rule in full once per test; the other phases point to it (by
+            # phase: the planner renumbers reading ids).
+            correction = (test.correction if index == 0 or not test.correction
+                          else f"correct as for phase {_labels(ctx)[0]} above")
+            readings.append(Reading(
+                id=f"{ctx.prefix}.R{len(readings) + 1}",
+                what=f"{what}, {test.dc_text} DC for 1 min ({test.test_voltage.citation})",
+                unit=unit, limit=limit, needs_temperature=minimum.reference_c is not None,
+                basis=correction, element=element, test_voltage_v=test.test_voltage.max_v))
+    return tuple(readings)
 
 
 def polarization_index(ctx: CalcContext, element: str) -> tuple[Reading, ...]:
@@ -294,29 +297,30 @@ def circuit_insulation(ctx: CalcContext, feeder: str) -> tuple[Reading, ...]:
     readings: list[Reading] = []
 
     def add(element: Any, label: str, pairs: list[tuple[str, str]], between: bool) -> None:
-        code_set = insulation_code_set(topology.plant, element, ctx.standards)
-        voltage = rated_voltage(topology, element)
-        winding, assumption = winding_of(element, voltage)
-        test = dc_test_voltage(code_set, voltage)
-        minimum = minimum_insulation_resistance(code_set, voltage, winding=winding)
-        dc = (f"{test.min_v:g} V" if test.min_v == test.max_v
-              else f"{test.min_v:g}–{test.max_v:g} V")
-        basis = f"{minimum.citation}" + (f"; {assumption}" if assumption else "")
+        # One limit path for every insulation reading: a transformer on this circuit is
+        # entered by its primary winding, the side this feeder reaches.
+        test = insulation_tests(topology, element, ctx.standards)[0]
+        minimum = test.minimum
+        if test.part:
+            label = f"{label} {test.part}"
         for x, y in pairs:
             phase_to_phase = y != "E"
             readings.append(Reading(
                 id=f"{ctx.prefix}.R{len(readings) + 1}",
-                what=f"{label} {x}-{y}, {dc} DC for 1 min ({test.citation})",
+                what=f"{label} {x}-{y}, {test.dc_text} DC for 1 min "
+                     f"({test.test_voltage.citation})",
                 unit="MΩ" if minimum.minimum_ohm >= 1e6 else "kΩ",
                 limit=Limit(low=minimum.minimum_ohm,
-                            basis=basis + ("; between phases the same minimum as to earth "
-                                           "(common practice)" if phase_to_phase else ""),
+                            basis=test.basis + ("; between phases the same minimum as to "
+                                                "earth (common practice)" if phase_to_phase
+                                                else ""),
                             temperature_corrected_to_c=minimum.reference_c,
-                            code_set=code_set.name if minimum.reference_c is not None
+                            code_set=test.code_set.name if minimum.reference_c is not None
                             else None),
                 needs_temperature=minimum.reference_c is not None,
+                basis=test.correction,
                 element=element.id if between or not phase_to_phase else None,
-                test_voltage_v=test.max_v))
+                test_voltage_v=test.test_voltage.max_v))
 
     to_earth = [(a, "E"), (b, "E"), (c, "E")]
     between = [(a, b), (b, c), (c, a)]

@@ -22,14 +22,21 @@ from workpack.electrical import (
     GroundHazards,
     LampDiagnosis,
     MeterTolerance,
+    MinimumIr,
+    TestVoltage,
     assess_insulation_monitor,
+    correction_instruction,
+    dc_test_voltage,
     diagnose_ground,
     diagnose_lamps,
     ground_hazards,
     judge_insulation,
     judge_polarization_index,
+    lamp_resistance,
     line_to_neutral,
+    minimum_insulation_resistance,
     open_delta,
+    parallel_conductance,
 )
 from workpack.electrical.standards import CodeSet
 from workpack.model.findings import (
@@ -45,8 +52,10 @@ from workpack.model.findings import (
     TransformerUnit,
 )
 from workpack.model.plant import (
+    BurdenConnection,
     Bus,
     Detector,
+    DetectorKind,
     Device,
     Element,
     Load,
@@ -55,6 +64,7 @@ from workpack.model.plant import (
     Source,
     SourceKind,
     Transformer,
+    TransformerInsulation,
     Vitality,
 )
 from workpack.summary import island_capacitance
@@ -140,6 +150,86 @@ def _detector(island: Island, where: str) -> Detector | None:
     return named[0] if named else (island.detectors[0] if island.detectors else None)
 
 
+def detector_burden_ohm(detector: Detector) -> float | None:
+    """A detector's own resistance from each phase to earth (Ω), from the plant file.
+
+    Lamps: R = V²/P of each lamp (or the declared burden_per_phase, e.g. as seen through a
+    lamp transformer); voltmeters: each meter's impedance; an insulation monitor coupled to
+    the three phases: its internal impedance Z from the system to earth is 3Z per phase
+    (three equal branches in parallel make Z). None when the plant file does not say.
+    """
+    if detector.lamp_power is not None and detector.lamp_voltage is not None:
+        return lamp_resistance(detector.lamp_power, detector.lamp_voltage)
+    if detector.burden_per_phase is not None:
+        return detector.burden_per_phase
+    if detector.internal_impedance is not None:
+        return 3.0 * detector.internal_impedance
+    return None
+
+
+@dataclass(frozen=True)
+class Burden:
+    """The detectors tying a system's phases to earth while a finding was made."""
+
+    ohm_per_phase: float | None  # all of them in parallel; None: none known
+    parts: tuple[str, ...]  # "GD-MSB lamps 4.17 kΩ per phase", for the notes
+    unknown: tuple[str, ...]  # detectors connected whose burden the plant file lacks
+
+
+def island_burden(island: Island, observed: Detector | None,
+                  button_pressed: bool = True) -> Burden:
+    """Detector burden on ``island`` (Ω per phase) while ``observed`` is read.
+
+    Detectors connected ``always`` load the system at every reading; one connected
+    ``while_testing`` only while it is the one being read (lamps: with the button pressed).
+    """
+    resistances: list[float] = []
+    parts: list[str] = []
+    unknown: list[str] = []
+    for detector in island.detectors:
+        connected = detector.burden_connection is BurdenConnection.always or (
+            observed is not None and detector.id == observed.id
+            and (detector.kind is not DetectorKind.lamps or button_pressed))
+        if not connected:
+            continue
+        ohm = detector_burden_ohm(detector)
+        if ohm is None:
+            unknown.append(detector.id)
+            continue
+        resistances.append(ohm)
+        parts.append(f"{detector.id} {detector.kind.value.replace('_', ' ')} "
+                     f"{_ohms(ohm)} per phase")
+    total = 1.0 / parallel_conductance(tuple(resistances)) if resistances else None
+    return Burden(total, tuple(parts), tuple(unknown))
+
+
+def _observed(island: Island, where: str, topology: Topology) -> Detector | None:
+    """The detector a finding was read on: named, or the detector of the bus named."""
+    for detector in island.detectors:
+        if detector.id == where:
+            return detector
+    element = topology.elements.get(where)
+    if isinstance(element, Bus) and element.detector is not None:
+        return element.detector
+    return None
+
+
+def _burden_notes(burden: Burden, capacitance: float | None) -> list[str]:
+    """What the diagnosis took as detector burden, or why it could not."""
+    notes = []
+    if burden.ohm_per_phase is not None and capacitance is None:
+        notes.append("detector burden not used: the system's capacitance to earth is unknown, "
+                     "and the fault locus depends on the ratio of the two")
+    elif burden.parts:
+        notes.append(f"detector burden in the model: {'; '.join(burden.parts)} "
+                     f"(together {_ohms(burden.ohm_per_phase or 0.0)} per phase to earth)")
+    if burden.unknown:
+        notes.append(f"the plant file gives no burden for {', '.join(burden.unknown)}: taken "
+                     "as none; lamps, meters and monitors tied to earth shift which phase "
+                     "reads low")
+    return notes
+
+
 def diagnose_finding(plant: Plant, topology: Topology, finding: Finding,
                      standards: Standards) -> Diagnosis:
     """One finding in its system, through the calculation its kind calls for."""
@@ -151,7 +241,7 @@ def diagnose_finding(plant: Plant, topology: Topology, finding: Finding,
     if isinstance(finding, PhaseVoltages):
         return _phase_voltages(plant, topology, island, finding, standards, base)
     if isinstance(finding, LampsSeen):
-        return _lamps(plant, island, finding, base)
+        return _lamps(plant, topology, island, finding, base)
     if isinstance(finding, MonitorReading):
         return _monitor(island, finding, standards, base)
     if isinstance(finding, Megger):
@@ -162,6 +252,11 @@ def diagnose_finding(plant: Plant, topology: Topology, finding: Finding,
         return _tripped(topology, finding, base)
     assert isinstance(finding, Defect)
     return Diagnosis(**base, severity=finding.severity, summary=finding.text)
+
+
+def _insulated(island: Island) -> bool:
+    """Not solidly grounded: a first ground trips nothing."""
+    return island.earthing is None or island.earthing.value != "solid"
 
 
 def _on_grounded_system(island: Island, base: dict[str, Any], what: str) -> Diagnosis:
@@ -186,15 +281,21 @@ def _phase_voltages(plant: Plant, topology: Topology, island: Island, finding: P
     detector = _detector(island, finding.where)
     percent = finding.meter_tolerance_percent or (
         detector.meter_tolerance_percent if detector else 2.5)
+    # Voltmeters being read load the system; lamps do not unless their button is pressed,
+    # which nobody does while reading a meter.
+    burden = island_burden(island, _observed(island, finding.where, topology),
+                           button_pressed=False)
     result = diagnose_ground(
         finding.volts, voltage, "-".join(plant.plant.sequence),
         frequency_hz=plant.plant.frequency if capacitance is not None else None,
         capacitance_f=capacitance,
         tolerance=MeterTolerance(relative=percent / 100, absolute_v=METER_RESOLUTION_V),
+        burden_ohm=burden.ohm_per_phase if capacitance is not None else None,
     )
     hazards = ground_hazards(voltage, finding.volts, result.fault_current_a,
                              intermittent=finding.intermittent,
-                             guides=standards.get("it-system-guides"))
+                             guides=standards.get("it-system-guides"),
+                             insulated=_insulated(island))
     ground = None
     severity = Severity.low
     if result.grounded_phase is not None or result.candidate_phases:
@@ -207,7 +308,8 @@ def _phase_voltages(plant: Plant, topology: Topology, island: Island, finding: P
         ground = Ground(island.id, None, certain=False, finding=str(finding.id))
     summary = _ground_summary(result, island)
     return Diagnosis(
-        **base, severity=severity, summary=summary, notes=result.notes,
+        **base, severity=severity, summary=summary,
+        notes=(*result.notes, *_burden_notes(burden, capacitance)),
         next_steps=result.next_steps,
         cautions=tuple((n.signal_word, n.text) for n in hazards.notes), ground=ground,
         capacitance_per_phase_f=capacitance, capacitance_basis=basis, detail=result,
@@ -239,14 +341,22 @@ def _ground_summary(result: GroundDiagnosis, island: Island) -> str:
             "phase sequence, or suspect two grounds")
 
 
-def _lamps(plant: Plant, island: Island, finding: LampsSeen,
+def _lamps(plant: Plant, topology: Topology, island: Island, finding: LampsSeen,
            base: dict[str, Any]) -> Diagnosis:
     if island.earthing is not None and island.earthing.value == "solid" and any(
         state.value != "normal" for state in finding.lamps.values()
     ):
         return _on_grounded_system(island, base, "unequal detector lamps")
     states = {phase: state.value for phase, state in finding.lamps.items()}
-    result: LampDiagnosis = diagnose_lamps(states, "-".join(plant.plant.sequence))
+    capacitance, basis = island_capacitance(plant, topology, island)
+    observed = _observed(island, finding.where, topology)
+    burden = island_burden(island, observed, finding.test_button_pressed)
+    known = capacitance is not None
+    result: LampDiagnosis = diagnose_lamps(
+        states, "-".join(plant.plant.sequence),
+        frequency_hz=plant.plant.frequency if known else None,
+        capacitance_f=capacitance,
+        burden_ohm=burden.ohm_per_phase if known else None)
     grounded = bool(result.suspected_phases)
     ground = None
     if grounded:
@@ -255,11 +365,19 @@ def _lamps(plant: Plant, island: Island, finding: LampsSeen,
                         certain=certain, finding=str(finding.id))
     severity = (Severity.urgent if grounded and finding.intermittent
                 else Severity.high if grounded else Severity.low)
-    notes = [f"confidence: {result.confidence.value}"]
+    notes = [f"confidence: {result.confidence.value}", *_burden_notes(burden, capacitance)]
     if not finding.test_button_pressed:
-        notes.append("lamps were read without the test button pressed")
+        if (observed is not None and observed.kind is DetectorKind.lamps
+                and observed.burden_connection is BurdenConnection.while_testing):
+            notes.append("lamps were read without the test button pressed: their star point "
+                         "was not earthed, so they could not show a ground; read them again "
+                         "with the button pressed")
+        else:
+            notes.append("lamps were read without the test button pressed")
     return Diagnosis(**base, severity=severity, summary=result.finding, notes=tuple(notes),
-                     next_steps=(result.next_step,), ground=ground, detail=result)
+                     next_steps=(result.next_step,), ground=ground,
+                     capacitance_per_phase_f=capacitance, capacitance_basis=basis,
+                     detail=result)
 
 
 def _monitor(island: Island, finding: MonitorReading, standards: Standards,
@@ -320,9 +438,35 @@ def winding_of(element: Element, voltage_v: float) -> tuple[str | None, str]:
                      f"for a {voltage_v:g} V machine (common practice)")
 
 
+def transformer_insulation(element: Element) -> tuple[str | None, str]:
+    """"liquid_filled" or "dry_type" for a transformer (None otherwise), and a note when
+    assumed. Absent from the plant file, dry-type is assumed: its Table 100.5 minimums are
+    five times the liquid-filled ones, so the assumption can fail a good winding but never
+    pass a bad one."""
+    if not isinstance(element, Transformer):
+        return None, ""
+    if element.insulation is not None:
+        return element.insulation.value, ""
+    return (TransformerInsulation.dry_type.value,
+            f"{element.id}: liquid-filled or dry-type not in the plant file; dry-type "
+            "assumed (the higher minimum): give 'insulation' to use the right one")
+
+
+def correction_column(element: Element) -> str:
+    """The column of a correction table with one per insulation (ANSI/NETA MTS Table
+    100.14): oil for liquid-filled transformers; solid for dry-type transformers,
+    switchgear, cables and other solid insulation."""
+    kind, _ = transformer_insulation(element)
+    return "oil" if kind == TransformerInsulation.liquid_filled.value else "solid"
+
+
 def insulation_code_set(plant: Plant, element: Element, standards: Standards) -> CodeSet:
-    family = equipment_family(element)
-    return standards[getattr(plant.plant.code_set, family)]
+    """The tables that judge an insulation test of ``element``, with the right column of a
+    correction table that has one per insulation ("neta-mts-2019/solid")."""
+    name = getattr(plant.plant.code_set, equipment_family(element))
+    if standards[name].temperature_columns:
+        return standards[f"{name}/{correction_column(element)}"]
+    return standards[name]
 
 
 def rated_voltage(topology: Topology, element: Element) -> float:
@@ -336,31 +480,104 @@ def rated_voltage(topology: Topology, element: Element) -> float:
     return _system_voltage(topology.island_of(topology.node_in(element.id)))
 
 
+@dataclass(frozen=True)
+class InsulationTest:
+    """One insulation-resistance test: of an element, or of one winding of a transformer.
+
+    Everything a package, a diagnosis and a search prints about it comes from here, so the
+    test voltage, the minimum, the table column and the correction range always agree with
+    what ``evaluate`` later judges by (the same code set, through ``correct_to_reference``).
+    """
+
+    element: str
+    part: str  # "" for the whole element; "primary winding (440 V)" for a transformer
+    voltage_v: float  # the rating that entered the table
+    code_set: CodeSet
+    test_voltage: TestVoltage
+    minimum: MinimumIr
+    assumption: str  # what was assumed for want of plant data ("" if nothing)
+    basis: str  # the source of the minimum (and what was assumed)
+    correction: str  # how the reading is brought to the minimum's temperature, and where not
+
+    @property
+    def dc_text(self) -> str:
+        """'500 V' or '500–1000 V' DC."""
+        low, high = self.test_voltage.min_v, self.test_voltage.max_v
+        return f"{low:g} V" if low == high else f"{low:g}–{high:g} V"
+
+
+def insulation_tests(topology: Topology, element: Element,
+                     standards: Standards) -> tuple[InsulationTest, ...]:
+    """The insulation tests of an element with their test voltage, minimum and basis.
+
+    A transformer has one per winding, each entered in its table by that winding's rated
+    voltage (ANSI/NETA MTS Table 100.5, liquid-filled or dry-type); anything else one, by
+    its rated voltage (IEEE Std 43 for machines, Table 100.1, IEC 60364-6 style).
+    """
+    plant: Plant = topology.plant
+    code_set = insulation_code_set(plant, element, standards)
+    kind, kind_note = transformer_insulation(element)
+    parts: list[tuple[str, float]]
+    if isinstance(element, Transformer) and code_set.transformer_windings:
+        parts = [(f"primary winding ({element.primary_voltage:g} V)", element.primary_voltage),
+                 (f"secondary winding ({element.secondary_voltage:g} V)",
+                  element.secondary_voltage)]
+    else:
+        kind, kind_note = None, ""
+        parts = [("", rated_voltage(topology, element))]
+    tests = []
+    for part, voltage in parts:
+        winding, assumption = winding_of(element, voltage)
+        assumption = "; ".join(a for a in (assumption, kind_note) if a)
+        test = dc_test_voltage(code_set, voltage, transformer=kind)
+        minimum = minimum_insulation_resistance(code_set, voltage, winding=winding,
+                                                transformer=kind)
+        basis = str(minimum.citation) + (f" ({minimum.basis})" if kind else "")
+        if assumption:
+            basis += f"; {assumption}"
+        correction = ("" if minimum.reference_c is None
+                      else correction_instruction(code_set))
+        tests.append(InsulationTest(element.id, part, voltage, code_set, test, minimum,
+                                    assumption, basis, correction))
+    return tuple(tests)
+
+
 def _megger(plant: Plant, topology: Topology, finding: Megger, standards: Standards,
             base: dict[str, Any]) -> Diagnosis:
     element = topology.elements[finding.where]
-    code_set = insulation_code_set(plant, element, standards)
-    voltage = rated_voltage(topology, element)
-    winding, assumption = winding_of(element, voltage)
+    tests = insulation_tests(topology, element, standards)
+    # A transformer finding names no winding: judge it by the stricter one.
+    test = max(tests, key=lambda t: t.minimum.minimum_ohm)
+    kind, _ = transformer_insulation(element)
+    if len(tests) == 1:
+        kind = None
     try:
-        judgement = judge_insulation(code_set, finding.reading, finding.temperature, voltage,
-                                     winding=winding)
-    except ValueError as error:  # e.g. a temperature outside the correction table
+        judgement = judge_insulation(test.code_set, finding.reading, finding.temperature,
+                                     test.voltage_v,
+                                     winding=winding_of(element, test.voltage_v)[0],
+                                     transformer=kind)
+    except ValueError as error:  # a temperature outside the correction's range
         return Diagnosis(**base, severity=Severity.high,
                          summary=f"{element.label}: {_ohms(finding.reading)} at "
                                  f"{finding.temperature:g} °C cannot be judged: {error}",
                          next_steps=("repeat the test nearer the reference temperature",))
-    notes = [assumption] if assumption else []
+    notes = [test.assumption] if test.assumption else []
+    if len(tests) > 1:
+        notes.append(f"judged by the {test.part}, the stricter of the windings")
     compared = _ohms(judgement.value_ohm)
     if judgement.corrected is not None:
         compared += f" at {judgement.corrected.reference_c:g} °C"
         notes.append(f"{_ohms(finding.reading)} at {finding.temperature:g} °C corrected by "
-                     f"×{judgement.corrected.factor:.3g} ({judgement.corrected.citation})")
+                     f"×{judgement.corrected.factor:.3g} ({judgement.corrected.citation}"
+                     + (f", {test.code_set.temperature_correction.column_label}"
+                        if test.code_set.temperature_correction is not None
+                        and test.code_set.temperature_correction.column_label else "")
+                     + ")")
     pi_fails = False
     if finding.reading_10min is not None and isinstance(element, Load) and (
         element.insulation_class
     ):
-        pi = judge_polarization_index(code_set, finding.reading, finding.reading_10min,
+        pi = judge_polarization_index(test.code_set, finding.reading, finding.reading_10min,
                                       element.insulation_class)
         notes.append(f"polarization index {pi.index:.2f} (minimum {pi.minimum:g}): {pi.note}")
         pi_fails = pi.passes is False
@@ -578,7 +795,9 @@ def healthy_phase_to_earth(line_voltage_v: float) -> float:
     return line_to_neutral(line_voltage_v)
 
 
-__all__ = ["Conclusion", "DayDiagnosis", "Diagnosis", "Ground", "ReadingSummary", "conclude",
-           "connected_load_va", "diagnose_day", "diagnose_finding", "downstream_loads",
-           "equipment_family", "healthy_phase_to_earth", "insulation_code_set", "rated_voltage",
-           "summarize_readings", "winding_of"]
+__all__ = ["Burden", "Conclusion", "DayDiagnosis", "Diagnosis", "Ground", "InsulationTest",
+           "ReadingSummary", "conclude", "connected_load_va", "correction_column",
+           "detector_burden_ohm", "diagnose_day", "diagnose_finding", "downstream_loads",
+           "equipment_family", "healthy_phase_to_earth", "insulation_code_set",
+           "insulation_tests", "island_burden", "rated_voltage", "summarize_readings",
+           "transformer_insulation", "winding_of"]

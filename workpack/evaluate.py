@@ -218,8 +218,9 @@ def evaluate(package: WorkPackage, results: Results,
             deviations.append(Deviation("reading", judged.id, f"{judged.id} {judged.what}: "
                                         f"{judged.note}", fails=True))
         elif judged.outcome == "not recorded" and judged.id not in optional:
+            why = f" ({judged.note})" if judged.note else ""
             deviations.append(Deviation("reading", judged.id, f"{judged.id} {judged.what}: "
-                                        "not recorded", fails=False))
+                                        f"not recorded{why}", fails=False))
     not_removed: list[str] = []
     left_on: list[str] = []
     deviations += _scope_deviations("", package.isolation, package.proving_dead,
@@ -342,12 +343,16 @@ def _judge(reading: Reading, results: Results,
             return ReadingVerdict(**base, measured_si=value, temperature_c=None,
                                   compared_si=None, outcome="not recorded",
                                   note="temperature not recorded: cannot correct")
+        # The same tables (with the same column) the package printed its limit from, and
+        # the same correct_to_reference that decided the printed range: one code path.
         try:
+            if limit.code_set not in standards:
+                raise ValueError(f"code set {limit.code_set!r} is not loaded")
             corrected = correct_to_reference(standards[limit.code_set], value, temperature)
-        except ValueError as error:  # a temperature outside the correction table
+        except ValueError as error:  # a temperature outside the correction's range
             return ReadingVerdict(**base, measured_si=value, temperature_c=temperature,
                                   compared_si=None, outcome="not recorded",
-                                  note=f"cannot be corrected: {error}")
+                                  note=f"cannot be judged: {error}")
         compared = corrected.corrected_ohm
         note = (f"{in_unit(value, reading.unit)} at {temperature:g} °C is "
                 f"{in_unit(compared, reading.unit)} at {corrected.reference_c:g} °C "

@@ -24,7 +24,13 @@ from typing import Any
 
 from workpack.calculations import CALCULATIONS, CalcContext, CalcError
 from workpack.diagnose import DayDiagnosis, Diagnosis, diagnose_day, downstream_loads
-from workpack.electrical import TrendStatus, approach_boundary, line_to_neutral
+from workpack.electrical import (
+    TrendStatus,
+    VoltageToEarth,
+    approach_boundary,
+    line_to_neutral,
+    worst_voltage_to_earth,
+)
 from workpack.electrical.standards import CodeSet
 from workpack.history import History
 from workpack.isolation import IsolationPlan, plan_isolation
@@ -468,15 +474,19 @@ class _PackageBuilder:
         state = self.states.get(system["id"], SystemState())
         others = [system_context(self.topology, node, self.states)
                   for node in self._touching(job.item) if node != system["id"]]
-        hazard_facts = self._hazard_facts(system, state) + tuple(
+        # One worst-case voltage to earth per system (electrical.worst_voltage_to_earth):
+        # the hazard facts, the approach table entry and the glove class all use it.
+        worsts = {s["id"]: _worst_to_earth(s, self.states.get(s["id"], SystemState()))
+                  for s in [system, *others]}
+        hazard_facts = self._hazard_facts(system, state, worsts[system["id"]]) + tuple(
             fact for other in others
-            for fact in self._hazard_facts(other, self.states.get(other["id"], SystemState())))
+            for fact in self._hazard_facts(other, self.states.get(other["id"], SystemState()),
+                                           worsts[other["id"]]))
         for other in others:
             cautions = _merge_cautions(cautions, self._cautions(
                 rule, {**context, "system": other}, None, (), facts))
-        highest = max((s.highest_phase_to_earth_v or 0.0 for s in
-                       [state, *(self.states.get(o["id"], SystemState()) for o in others)]),
-                      default=0.0)
+        worst = max((w for w in worsts.values() if w is not None),
+                    key=lambda w: w.exposure_v, default=None)
         listed = {c.text for c in cautions}
         final_tests = tuple(f.model_copy(update={"cautions": tuple(
             c for c in f.cautions if c.text not in listed)}) for f in final_tests)
@@ -489,8 +499,8 @@ class _PackageBuilder:
             item_label=item.label, system=system["id"],
             origin=Origin(rule=rule.id, findings=job.findings, routine=job.routine),
             hazard_facts=hazard_facts,
-            cautions=cautions, approach=self._approach(job.item, highest or None),
-            ppe=self._ppe(max((s["voltage"] or 0.0 for s in [system, *others]), default=0.0)),
+            cautions=cautions, approach=self._approach(job.item, worst),
+            ppe=self._ppe(worst),
             isolation=points,
             isolation_gaps=_gaps(isolation),
             stored_energy=isolation.stored_energy if isolation else (),
@@ -770,24 +780,31 @@ class _PackageBuilder:
             found.extend(step.cautions)
         return _merge_cautions((), found)
 
-    def _hazard_facts(self, system: Mapping[str, Any], state: SystemState) -> tuple[str, ...]:
+    def _hazard_facts(self, system: Mapping[str, Any], state: SystemState,
+                      worst: VoltageToEarth | None) -> tuple[str, ...]:
         facts: list[str] = []
         voltage = system["voltage"]
-        if state.ground_phases and voltage:
+        if worst is None or not voltage:
+            return ()
+        treat = f"treat every conductor as up to {worst.worst_v:.0f} V to earth"
+        if state.ground_phases:
             healthy = [p for p in self.plant.plant.sequence if p not in state.ground_phases]
-            measured = state.highest_phase_to_earth_v or voltage
+            normal = line_to_neutral(voltage)
+            standing = (f"at up to {state.highest_phase_to_earth_v:.0f} V to earth as measured "
+                        f"(normally {normal:.0f} V)" if state.highest_phase_to_earth_v
+                        else f"above their normal {normal:.0f} V to earth (not measured)")
             facts.append(
                 f"Phase {' and '.join(state.ground_phases)} of the {voltage:g} V "
                 f"{system['id']} system {'is' if len(state.ground_phases) == 1 else 'are'} "
                 f"grounded: phase{'s' if len(healthy) > 1 else ''} {' and '.join(healthy)} "
-                f"stand{'' if len(healthy) > 1 else 's'} at up to {measured:.0f} V to earth as "
-                f"measured (normally {line_to_neutral(voltage):.0f} V); if the ground goes "
-                f"solid, at {voltage:g} V.")
-        elif state.grounded and voltage:
+                f"stand{'' if len(healthy) > 1 else 's'} {standing}; "
+                f"{worst.why(ground_present=True)}: {treat}.")
+        elif state.grounded:
             facts.append(f"A ground is indicated on the {voltage:g} V {system['id']} system, "
-                         f"phase not certain: treat every conductor as up to "
-                         f"{max(state.highest_phase_to_earth_v or 0.0, voltage):.0f} V to "
-                         "earth.")
+                         f"phase not certain; {worst.why(ground_present=True)}: {treat}.")
+        elif worst.insulated:
+            facts.append(f"The {voltage:g} V {system['id']} system is insulated from earth: "
+                         f"{worst.basis}: {treat}.")
         if system["second_ground"]:
             facts.append("Grounds on two phases of one system: a phase-to-phase fault through "
                          "earth is waiting to happen.")
@@ -798,16 +815,18 @@ class _PackageBuilder:
         nodes = self.topology.work_nodes(item_id)
         return sorted({self.topology.island_of(n).id for n in nodes})
 
-    def _approach(self, item_id: str, highest_v: float | None) -> ApproachBoundaries | None:
+    def _approach(self, item_id: str,
+                  worst: VoltageToEarth | None) -> ApproachBoundaries | None:
         code_set = self.standards[self.plant.plant.code_set.approach_boundaries]
         voltages = [self.topology.voltage_at(n) for n in self.topology.work_nodes(item_id)]
         voltage = max((v for v in voltages if v), default=None)
         if voltage is None:
             return None
-        boundary = approach_boundary(code_set, voltage, highest_v)
+        entered = max(voltage, worst.exposure_v if worst is not None else 0.0)
+        boundary = approach_boundary(code_set, voltage, entered)
         if boundary is None:
             return None
-        entered = max(voltage, highest_v or 0.0)
+
         def shown(metres: float | None, text: str) -> str:
             return text if metres is None else f"{metres:.1f} m ({text})"
 
@@ -818,10 +837,15 @@ class _PackageBuilder:
             restricted=shown(boundary.restricted_m, boundary.restricted_text),
             source=str(boundary.citation))
 
-    def _ppe(self, voltage: float) -> tuple[str, ...]:
+    def _ppe(self, worst: VoltageToEarth | None) -> tuple[str, ...]:
+        gloves = ("rubber insulating gloves with leather protectors, of a class rated for the "
+                  "system's voltage (not in the plant file)")
+        if worst is not None:
+            gloves = (f"rubber insulating gloves with leather protectors, of a class rated for "
+                      f"at least {worst.exposure_v:.0f} V AC (the worst case on this job; see "
+                      "the hazard facts)")
         return (
-            f"rubber insulating gloves with leather protectors, of a class rated for at least "
-            f"{voltage:g} V AC (ASTM D120 classes: 00 to 500 V, 0 to 1 kV; from memory)",
+            gloves + " (ASTM D120 classes: 00 to 500 V, 0 to 1 kV; from memory)",
             "safety glasses or face shield; arc-rated clothing as the employer's arc-flash "
             "assessment requires (not computed here)",
             "voltage tester rated for the system, with its own proving unit",
@@ -893,6 +917,14 @@ def _testable(topology: Topology, final: FinalTests) -> list[SectionTest]:
     """Sections an insulation test may be applied to: not electronics."""
     return [s for s in final.sections
             if getattr(topology.elements[s.element], "kind", None) is not LoadKind.electronics]
+
+
+def _worst_to_earth(system: Mapping[str, Any], state: SystemState) -> VoltageToEarth | None:
+    """The system's one worst-case voltage to earth (None when its voltage is unknown)."""
+    if not system["voltage"]:
+        return None
+    return worst_voltage_to_earth(float(system["voltage"]), system["earthing"] != "solid",
+                                  state.highest_phase_to_earth_v)
 
 
 def _limit_text(reading: Reading) -> str:

@@ -19,12 +19,7 @@ import datetime as dt
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, replace
 
-from workpack.diagnose import (
-    downstream_loads,
-    insulation_code_set,
-    rated_voltage,
-    winding_of,
-)
+from workpack.diagnose import downstream_loads, insulation_tests
 from workpack.electrical import dc_test_voltage, line_to_neutral, minimum_insulation_resistance
 from workpack.electrical.standards import CodeSet
 from workpack.isolation import IsolationPlan, IsolationPoint, plan_isolation
@@ -35,7 +30,6 @@ from workpack.model.plant import (
     DeviceKind,
     Element,
     Load,
-    Plant,
     Transformer,
     Vitality,
 )
@@ -451,20 +445,25 @@ def _branch_text(branch: Branch, builder: _TreeBuilder) -> str:
 
 def _final_tests(topology: Topology, builder: _TreeBuilder, leaf: str,
                  standards: Mapping[str, CodeSet]) -> FinalTests:
-    plant: Plant = topology.plant
     sections = []
     below = builder.downstream(leaf)
     for element_id in sorted(below):
         element = topology.elements[element_id]
         if not isinstance(element, Cable | Load | Bus | Transformer):
             continue
-        code_set = insulation_code_set(plant, element, standards)
-        voltage = rated_voltage(topology, element)
-        winding, assumption = winding_of(element, voltage)
-        sections.append(_section(element_id, element.label, code_set, voltage, winding,
-                                 assumption))
+        # The winding on this system's side: a transformer below a feeder is its primary.
+        test = insulation_tests(topology, element, standards)[0]
+        sections.append(SectionTest(
+            element=element_id, label=element.label + (f", {test.part}" if test.part else ""),
+            code_set=test.code_set.name,
+            test_voltage_v=(test.test_voltage.min_v, test.test_voltage.max_v),
+            minimum_ohm=test.minimum.minimum_ohm, reference_c=test.minimum.reference_c,
+            basis="; ".join(dict.fromkeys(  # the same table often gives both: once
+                part for part in (str(test.test_voltage.citation), test.basis,
+                                  test.correction)
+                if part and not (part != test.basis and test.basis.startswith(part))))))
     # Heater and control circuits this feeder supplies inside other items' enclosures.
-    installations = standards[plant.plant.code_set.installations]
+    installations = standards[topology.plant.plant.code_set.installations]
     inside = sorted((load.id, n) for feed in (leaf, *below)
                     for load, n in builder.auxiliaries_fed.get(feed, ()))
     for load_id, index in inside:

@@ -1,29 +1,65 @@
 """Ground detectors: lamps (qualitative) and insulation monitoring devices (a reading in Ω).
 
-Lamps are read against the single-ground model: for each phase and each fault resistance
-the model gives three voltages to earth, and the lamp bands below turn them into what a
-person would see. The observed pattern is then matched against every (phase, resistance).
-The bands are our assumption about how a lamp looks at a given voltage (incandescent light
-rises steeply with voltage; lamps on small transformers vary): they are a modelling choice,
-not a published value, and a plant may set its own.
+Lamps are part of the circuit they watch. Each lamp ties its phase to earth through its
+own resistance (R = V²/P at its rating, or as seen through its transformer), which on a
+small system is of the same order as 1/(3ωC0): with the capacitance it sets where the earth
+point sits for a given ground, and so which lamp goes dim. Lamps are read against the
+single-ground model with that burden (``ground_inverse.locus_readings`` at the locus angle
+φ = arg(1/R + jωC0)): for each phase and each fault resistance the model gives the voltage
+across each lamp, a lamp's power goes as V² (its resistance taken as constant), and the
+bands below turn that power, relative to the healthy system's, into what a person would
+see. The observed pattern is then matched against every (phase, resistance), and the
+guidance printed (which lamp dims, how far) is read off the same model.
 
-Units: volts, ohms.
+The bands are our assumption about how a lamp looks at a given power (incandescent light
+rises more steeply than power; lamps on small transformers vary): a modelling choice, not
+a published value, and a plant may set its own. A tungsten filament's resistance falls at
+lower voltage; the constant-resistance lamp is a simplification (common practice in
+circuit models of indicator lamps).
+
+Units: volts, ohms, watts, siemens, hertz, farads.
 """
 
 from __future__ import annotations
 
 import math
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from enum import StrEnum
+from typing import Any
 
 import numpy as np
 
-from workpack.electrical.ground_inverse import locus_readings
+from workpack.electrical.ground_inverse import (
+    lag_crossover_ratio,
+    locus_angle,
+    locus_readings,
+    theta_to_ratio,
+)
 from workpack.electrical.threephase import PhaseSequence
 
 LAMP_STATES = ("dark", "dim", "normal", "bright")
 _SYNONYMS = {"off": "dark", "out": "dark", "unlit": "dark", "low": "dim", "high": "bright"}
+_HALF_PI = math.pi / 2.0
+_LOCUS_POINTS = 2001
+
+
+def lamp_resistance(rated_power_w: float, rated_voltage_v: float) -> float:
+    """A lamp's resistance (Ω) at its rating: R = V²/P (Ohm's law and P = V·I)."""
+    for name, value in (("lamp power", rated_power_w), ("lamp voltage", rated_voltage_v)):
+        if not math.isfinite(value) or value <= 0:
+            raise ValueError(f"{name} must be a positive number (got {value!r})")
+    return rated_voltage_v**2 / rated_power_w
+
+
+def parallel_conductance(resistances_ohm: Mapping[str, float] | tuple[float, ...]) -> float:
+    """Total conductance (S) of resistances (Ω) side by side from one phase to earth."""
+    values = list(resistances_ohm.values()) if isinstance(resistances_ohm, Mapping) else list(
+        resistances_ohm)
+    for value in values:
+        if math.isnan(value) or value <= 0:
+            raise ValueError(f"a burden resistance must be positive ohms (got {value!r})")
+    return sum(1.0 / value for value in values)
 
 
 class Confidence(StrEnum):
@@ -37,14 +73,15 @@ class Confidence(StrEnum):
 
 @dataclass(frozen=True)
 class LampBands:
-    """Voltage to earth, per unit of V_LN, at which a lamp is seen dark / dim / bright.
+    """Lamp power relative to the healthy system's ((V/V_LN)², since P ∝ V² in a lamp of
+    constant resistance) at which a lamp is seen dark / dim / bright.
 
     Our modelling assumption, not a published value: tune per installation.
     """
 
-    dark_below: float = 0.3
-    dim_below: float = 0.85
-    bright_above: float = 1.15
+    dark_below: float = 0.1
+    dim_below: float = 0.7
+    bright_above: float = 1.3
 
     def __post_init__(self) -> None:
         """Refuse bands out of order."""
@@ -54,15 +91,19 @@ class LampBands:
                 f"(got {self.dark_below}, {self.dim_below}, {self.bright_above})"
             )
 
-    def classify(self, per_unit: float) -> str:
-        """The state a lamp at ``per_unit`` × V_LN shows."""
-        if per_unit < self.dark_below:
+    def classify_power(self, relative_power: float) -> str:
+        """The state a lamp at ``relative_power`` × its healthy power shows."""
+        if relative_power < self.dark_below:
             return "dark"
-        if per_unit < self.dim_below:
+        if relative_power < self.dim_below:
             return "dim"
-        if per_unit > self.bright_above:
+        if relative_power > self.bright_above:
             return "bright"
         return "normal"
+
+    def classify(self, per_unit: float) -> str:
+        """The state a lamp at ``per_unit`` × V_LN across it shows (power ∝ V²)."""
+        return self.classify_power(per_unit * per_unit)
 
 
 @dataclass(frozen=True)
@@ -76,6 +117,17 @@ class LampDiagnosis:
     exact_match: bool  # some single ground reproduces every lamp exactly
     ratio_range: dict[str, tuple[float, float]]  # 3ωC0·Rf range per suspected phase
     next_step: str
+    # Per suspected phase, each lamp's power relative to healthy (min, max) over the
+    # matching grounds, from the model: what the printed guidance says.
+    brightness: dict[str, dict[str, tuple[float, float]]] = field(default_factory=dict)
+    locus_angle_rad: float = _HALF_PI  # arg(1/R_burden + jωC0); π/2 without lamp burden
+    burden_ohm: float | None = None  # lamps' (and other detectors') resistance per phase
+    # 3ωC0·Rf past which the lamp of the phase lagging the ground is the dimmest: inf when
+    # the burden makes that impossible (the dimmest lamp is then the grounded phase).
+    lag_dimmest_above_ratio: float = math.inf
+    # 3ωC0·Rf above which no lamp leaves "normal": a ground the lamps cannot show.
+    invisible_above_ratio: float | None = None
+    resistance_per_ratio_ohm: float | None = None  # 1/(3ωC0): turns ratios into ohms
 
 
 def _normalise_state(label: str, state: str) -> str:
@@ -89,47 +141,114 @@ def _normalise_state(label: str, state: str) -> str:
     return s
 
 
+def _two_figures(value: float) -> str:
+    """A number to two significant figures, never in exponent form (530, 5.4, 0.41)."""
+    return f"{float(f'{value:.2g}'):g}"
+
+
+def _ohm_text(value: float) -> str:
+    """Ohms for a person: Ω, kΩ or MΩ to two figures."""
+    for scale, unit in ((1e6, "MΩ"), (1e3, "kΩ")):
+        if value >= scale:
+            return f"{_two_figures(value / scale)} {unit}"
+    return f"{_two_figures(value)} Ω"
+
+
+def _resistance_text(ratio: float, per_ratio: float | None) -> str:
+    """A 3ωC0·Rf value in ohms when C0 is known, else as the ratio."""
+    if per_ratio is not None:
+        return f"about {_ohm_text(ratio * per_ratio)}"
+    return f"3ωC0·Rf {ratio:.3g}"
+
+
+def _range_text(low: float, high: float) -> str:
+    """'0.31×' or '0.2–0.6×' of normal brightness."""
+    if _two_figures(low) == _two_figures(high):
+        return f"{_two_figures(low)}×"
+    return f"{_two_figures(low)}–{_two_figures(high)}×"
+
+
 def diagnose_lamps(
     observations: Mapping[str, str],
     sequence: PhaseSequence | str = "ABC",
     bands: LampBands = LampBands(),  # noqa: B008 - frozen, so a safe default
+    *,
+    frequency_hz: float | None = None,
+    capacitance_f: float | None = None,
+    burden_ohm: float | None = None,
 ) -> LampDiagnosis:
     """Match lamp states (dark / dim / normal / bright, per phase) to single-ground cases.
 
-    The phase lagging a grounded phase reads lowest once 3ωC0·Rf > √3, so a dim lamp alone
-    cannot say which phase is grounded; the bright lamp (the phase leading the ground)
-    often can. Confidence says how far to trust the answer; the next step says what to
-    measure.
+    ``burden_ohm`` is the resistance from each phase to earth of the lamps themselves (and
+    any other detector connected while they were looked at); with the system's C0
+    (``capacitance_f``, F) and ``frequency_hz`` it fixes the fault locus. Without them the
+    lamps are taken as no burden on a purely capacitive system, and resistances cannot be
+    given. Which lamp is dimmest for a ground on a phase is read off that model: without
+    burden the phase lagging the ground goes dimmest once 3ωC0·Rf > √3; a heavy lamp
+    burden (φ ≤ 60°) makes the grounded phase always the dimmest. Confidence says how far
+    to trust the answer; the next step says what to measure.
     """
     seq = PhaseSequence.parse(sequence)
     seq.check_labels(list(observations), "lamp observations")
     obs = {lbl: _normalise_state(lbl, observations[lbl]) for lbl in seq.labels}
     rank = {s: i for i, s in enumerate(LAMP_STATES)}
+    if (frequency_hz is None) != (capacitance_f is None):
+        raise ValueError("give both frequency and capacitance, or neither")
+    if burden_ohm is not None and capacitance_f is None:
+        raise ValueError("a lamp burden needs the frequency and capacitance: the locus depends "
+                         "on the ratio of the two")
+    phi = _HALF_PI
+    per_ratio: float | None = None
+    if frequency_hz is not None and capacitance_f is not None:
+        conductance = 0.0 if burden_ohm is None else parallel_conductance((burden_ohm,))
+        phi = locus_angle(frequency_hz, capacitance_f, conductance)
+        per_ratio = 1.0 / (3.0 * 2.0 * math.pi * frequency_hz * capacitance_f)
+    crossover = lag_crossover_ratio(phi)
 
-    theta = np.linspace(0.0, math.pi / 2.0, 2001)
-    faulted, lag, lead = locus_readings(theta)
+    theta = np.linspace(0.0, phi, _LOCUS_POINTS)
+    faulted, lag, lead = locus_readings(theta, phi)
+    power = {"faulted": faulted**2, "lag": lag**2, "lead": lead**2}
+    ratios = theta_to_ratio(theta, phi)
+
+    def seen(values: np.ndarray) -> np.ndarray:
+        """Lamp state ranks at relative powers ``values``."""
+        return np.where(
+            values < bands.dark_below,
+            rank["dark"],
+            np.where(
+                values < bands.dim_below,
+                rank["dim"],
+                np.where(values > bands.bright_above, rank["bright"], rank["normal"]),
+            ),
+        )
+
+    states = {role: seen(values) for role, values in power.items()}
+    healthy_looking = np.all([st == rank["normal"] for st in states.values()], axis=0)
+    visible = theta[~healthy_looking]
+    invisible_above = (float(theta_to_ratio(np.array(visible.max()), phi))
+                       if visible.size else 0.0)
     distance: dict[str, np.ndarray] = {}
+    roles_of: dict[str, dict[str, str]] = {}
     for k in seq.labels:
-        roles = {k: faulted, seq.lagging(k): lag, seq.leading(k): lead}
+        roles = {k: "faulted", seq.lagging(k): "lag", seq.leading(k): "lead"}
+        roles_of[k] = roles
         total = np.zeros_like(theta)
-        healthy_looking = np.ones(theta.shape, dtype=bool)
-        for lbl, values in roles.items():
-            seen = np.where(
-                values < bands.dark_below,
-                rank["dark"],
-                np.where(
-                    values < bands.dim_below,
-                    rank["dim"],
-                    np.where(values > bands.bright_above, rank["bright"], rank["normal"]),
-                ),
-            )
-            total += np.abs(seen - rank[obs[lbl]])
-            healthy_looking &= seen == rank["normal"]
+        for lbl, role in roles.items():
+            total += np.abs(states[role] - rank[obs[lbl]])
         # A ground so high in resistance that every lamp looks normal explains nothing
         # about a lamp seen abnormal: leave those cases out of the near-matches.
         distance[k] = np.where(healthy_looking, np.inf, total)
 
+    model = ("the model of these lamps on this system" if per_ratio is not None
+             and burden_ohm is not None else "the model without lamp burden")
+    common: dict[str, Any] = {"locus_angle_rad": phi, "burden_ohm": burden_ohm,
+              "lag_dimmest_above_ratio": crossover, "invisible_above_ratio": invisible_above,
+              "resistance_per_ratio_ohm": per_ratio}
     if all(s == "normal" for s in obs.values()):
+        hidden = (f"a ground above {_resistance_text(invisible_above, per_ratio)} leaves all "
+                  f"three lamps looking normal ({model})"
+                  if per_ratio is not None else "a high-resistance ground does not show on "
+                  "lamps")
         return LampDiagnosis(
             observations=obs,
             finding="No ground indicated: the three lamps are equal.",
@@ -137,8 +256,9 @@ def diagnose_lamps(
             confidence=Confidence.MEDIUM,
             exact_match=True,
             ratio_range={},
-            next_step="Press the test button to prove the lamps; a high-resistance ground "
-            "does not show on lamps: check the insulation monitor or voltmeters.",
+            next_step=f"Press the test button to prove the lamps; {hidden}: check the "
+            "insulation monitor or voltmeters.",
+            **common,
         )
     best = min(float(d.min()) for d in distance.values())
     if best >= 2:
@@ -154,50 +274,72 @@ def diagnose_lamps(
             ratio_range={},
             next_step="Press the test button to prove the lamps, then measure each phase "
             "to earth with a voltmeter and run the ground diagnosis.",
+            **common,
         )
     suspects: list[tuple[float, float, str]] = []
     ranges: dict[str, tuple[float, float]] = {}
+    brightness: dict[str, dict[str, tuple[float, float]]] = {}
     for k, d in distance.items():
-        hits = theta[d == best]
+        hit = d == best
+        hits = theta[hit]
         if hits.size:
             # Wider matching range first: the more fault resistances fit, the likelier.
             suspects.append((-float(hits.size), float(hits.min()), k))
-            lo, hi = float(hits.min()), float(hits.max())
-            ranges[k] = (math.tan(lo), math.inf if hi >= math.pi / 2 - 1e-12 else math.tan(hi))
+            ranges[k] = (float(ratios[hit].min()), float(ratios[hit].max()))
+            brightness[k] = {
+                lbl: (float(power[role][hit].min()), float(power[role][hit].max()))
+                for lbl, role in sorted(roles_of[k].items())
+            }
     ordered = tuple(k for _, _, k in sorted(suspects))
     exact = best == 0
     solid = any(s == "dark" for s in obs.values())
+
+    def expected(phase: str) -> str:
+        """What the model says each lamp shows for the grounds on ``phase`` that fit."""
+        parts = [f"{lbl} {_range_text(*brightness[phase][lbl])}" for lbl in seq.labels]
+        low, high = ranges[phase]
+        span = (f" (fault {_resistance_text(low, per_ratio)} to "
+                f"{'no fault' if math.isinf(high) else _resistance_text(high, per_ratio)})")
+        return (f"a ground on {phase} that fits gives lamp power {', '.join(parts)} of "
+                f"normal{span if per_ratio is not None else ''}, by {model}")
+
     if len(ordered) == 1:
         phase = ordered[0]
         if solid and exact:
             confidence = Confidence.HIGH
-            finding = f"Solid (low-resistance) ground on {phase}."
+            finding = f"Solid (low-resistance) ground on {phase}: {expected(phase)}."
             step = (
                 f"Confirm with phase-to-earth voltmeter readings ({phase} near 0 V, the others "
                 "near line voltage), then find the circuit feeder by feeder."
             )
         else:
             confidence = Confidence.MEDIUM if exact else Confidence.LOW
-            finding = f"Partial ground, probably on {phase}."
+            finding = f"Partial ground, probably on {phase}: {expected(phase)}."
             dimmest = min(obs.values(), key=lambda st: rank[st])
             if rank[obs[phase]] > rank[dimmest]:
                 darker = [lbl for lbl in seq.labels if obs[lbl] == dimmest]
                 finding += (
                     f" The {dimmest} lamp ({', '.join(darker)}) is not the grounded phase: "
-                    "with a high-resistance ground the phase lagging it reads lowest."
+                    f"above {_resistance_text(crossover, per_ratio)} the phase lagging the "
+                    "ground has the dimmest lamp."
                 )
             step = (
                 "Measure each phase to earth with a voltmeter and run the ground diagnosis: "
-                "lamps cannot give the resistance, and the dimmest lamp is not always the "
-                "grounded phase."
+                "lamps cannot give the resistance"
+                + (", and the dimmest lamp is not always the grounded phase."
+                   if math.isfinite(crossover) else ".")
             )
     else:
         confidence = Confidence.LOW
-        finding = "Partial ground on " + " or ".join(ordered) + ": the lamps cannot tell which."
+        finding = ("Partial ground on " + " or ".join(ordered) + ": the lamps cannot tell "
+                   "which; " + "; ".join(expected(k) for k in ordered) + ".")
         step = (
-            "A dim lamp cannot say which phase is grounded: measure each phase to earth "
+            "Dim lamps cannot say which phase is grounded here: measure each phase to earth "
             "with a voltmeter (phase sequence known) and run the ground diagnosis."
         )
+    if math.isinf(crossover):
+        finding += (" With this lamp burden the dimmest lamp is always the grounded phase "
+                    "(the phase lagging it never reads lower).")
     return LampDiagnosis(
         observations=obs,
         finding=finding,
@@ -206,6 +348,8 @@ def diagnose_lamps(
         exact_match=exact,
         ratio_range={k: ranges[k] for k in ordered},
         next_step=step,
+        brightness={k: brightness[k] for k in ordered},
+        **common,
     )
 
 

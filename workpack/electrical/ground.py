@@ -13,6 +13,10 @@ reduces to V_g = E_k/(1 + j·3ωC0·Rf) and I_f = j3ωC0·E_k/(1 + j3ωC0·Rf) (
 Electrical Safety of Low-Voltage Systems, ch. 9, eqs. 9.14-9.15). A bolted (0 Ω) fault is
 solved exactly as its own case: earth takes that phase's potential.
 
+The ground detector is part of that circuit: lamps (R = V²/P each, or as seen through
+their transformers), voltmeters and an insulation monitor's internal impedance tie the
+phases to earth too. They enter as ``burden_ohm``, one more branch per phase.
+
 Units: volts (RMS phasors), amperes, ohms, farads, hertz.
 """
 
@@ -93,13 +97,16 @@ def solve_ground(
     sequence: PhaseSequence | str = "ABC",
     leakage_ohm: Mapping[str, float] | float | None = None,
     faults: Sequence[Fault] = (),
+    burden_ohm: Mapping[str, float] | float | None = None,
 ) -> GroundSolution:
     """Solve the earth node of an insulated system (V, A) for any capacitances and faults.
 
     ``capacitance_f`` is each phase's capacitance to earth (F; one number for all three or a
     mapping by label); ``leakage_ohm`` each phase's insulation resistance to earth (Ω; None,
-    or a phase left out of the mapping, for none); ``faults`` any number of faults on any
-    phases, 0 Ω allowed. Two bolted faults on different phases short the source through
+    or a phase left out of the mapping, for none); ``burden_ohm`` the resistance from each
+    phase to earth of the detectors connected (lamps, voltmeters, an insulation monitor's
+    share; same forms as leakage); ``faults`` any number of faults on any phases, 0 Ω
+    allowed. Two bolted faults on different phases short the source through
     earth: the current is then set by impedances this model does not hold, so that case is
     refused.
     """
@@ -116,12 +123,14 @@ def solve_ground(
                 f"of farads (got {c!r})"
             )
     leaks = _per_phase(leakage_ohm, seq, "leakage resistance", partial=True)
-    for label, r in leaks.items():
-        if r is not None and (math.isnan(r) or r <= 0):
-            raise ValueError(
-                f"leakage resistance of phase {label} must be a positive number of ohms "
-                f"(got {r!r}); give a 0 Ω connection as a Fault"
-            )
+    burdens = _per_phase(burden_ohm, seq, "detector burden", partial=True)
+    for what, values in (("leakage resistance", leaks), ("detector burden", burdens)):
+        for label, r in values.items():
+            if r is not None and (math.isnan(r) or r <= 0):
+                raise ValueError(
+                    f"{what} of phase {label} must be a positive number of ohms "
+                    f"(got {r!r}); give a 0 Ω connection as a Fault"
+                )
     for fault in faults:
         if fault.phase not in seq.order:
             raise ValueError(
@@ -138,9 +147,9 @@ def solve_ground(
         assert c is not None
         if c > 0:
             branches.append((label, 1j * omega * c))
-        r = leaks[label]
-        if r is not None and math.isfinite(r):
-            branches.append((label, complex(1.0 / r)))
+        for r in (leaks[label], burdens[label]):
+            if r is not None and math.isfinite(r):
+                branches.append((label, complex(1.0 / r)))
     fault_admittance: list[complex | None] = []
     for fault in faults:
         # Below 1e-100 Ω a fault is bolted to double precision (and 1/R·E would overflow).
@@ -215,14 +224,17 @@ def single_ground(
     phase: str,
     fault_ohm: float,
     sequence: PhaseSequence | str = "ABC",
+    burden_ohm: float | None = None,
 ) -> GroundSolution:
-    """One fault of ``fault_ohm`` (Ω, 0 = bolted) on ``phase`` with equal capacitance C0 (F)."""
+    """One fault of ``fault_ohm`` (Ω, 0 = bolted) on ``phase`` with equal capacitance C0 (F)
+    and, if given, an equal detector burden ``burden_ohm`` (Ω) from each phase to earth."""
     return solve_ground(
         line_voltage_v,
         frequency_hz,
         capacitance_f,
         sequence=sequence,
         faults=(Fault(phase, fault_ohm),),
+        burden_ohm=burden_ohm,
     )
 
 

@@ -7,13 +7,20 @@ Method (our own formulation of textbook geometry):
    E_k; the pairwise differences of the squared equations are linear in V_g and give a
    closed-form start, refined by weighted Gauss-Newton. This is the neutral displacement,
    whatever caused it.
-2. Locus fit. A single fault of resistance Rf on phase k with balanced capacitance C0 puts
-   the earth point on V_g = E_k/(1 + j·x), x = 3ωC0·Rf: a semicircle from E_k (x = 0) to the
-   neutral (x → ∞) on the lagging side of E_k. Writing x = tan θ, V_g = E_k·cos θ·e^(-jθ),
-   and the readings normalised to V_LN become functions of θ alone:
-       faulted phase   sin θ
-       lagging phase   √(1 + cos²θ - 2 cos θ cos(120° - θ))
-       leading phase   √(1 + cos²θ - 2 cos θ cos(120° + θ))
+2. Locus fit. A single fault of resistance Rf on phase k, with each phase tied to earth by
+   the same admittance Y0 = G + jωC0 (capacitance C0 and the detectors' own burden G: lamps,
+   voltmeters, an insulation monitor), puts the earth point on V_g = E_k/(1 + 3·Y0·Rf).
+   Without burden that is V_g = E_k/(1 + j·x), x = 3ωC0·Rf: a semicircle from E_k (x = 0) to
+   the neutral (x → ∞) on the lagging side of E_k. With burden, Y0 has the angle
+   φ = arctan(ωC0/G) < 90° and the locus is a shallower circular arc through E_k and the
+   neutral. Writing V_g = E_k·r·e^(-jθ), θ runs from 0 (bolted) to φ (no fault), with
+   r = sin(φ - θ)/sin φ (sine rule in the triangle 0, 1, 1 + 3Y0Rf), and the readings
+   normalised to V_LN are functions of θ alone:
+       faulted phase   sin θ / sin φ
+       lagging phase   √(1 + r² - 2 r cos(120° - θ))
+       leading phase   √(1 + r² - 2 r cos(120° + θ))
+   and x = 3ωC0·Rf = sin φ·sin θ / sin(φ - θ). With φ = 90° (no burden) this is the
+   semicircle: r = cos θ, x = tan θ, faulted sin θ.
    For each phase the fit finds the θ whose worst reading residual, in units of the meter
    tolerance, is smallest (a minimax, or Chebyshev, fit: the tolerance is a bound, not a
    standard deviation). A value ≤ 1 means some single fault on that phase explains every
@@ -23,8 +30,10 @@ Method (our own formulation of textbook geometry):
    the readings are ambiguous; if none does, the readings are inconsistent with one
    ground and balanced capacitance and are flagged, never forced.
 
-Because the whole locus is fitted, the high-resistance case is handled: once x > √3 the
-phase lagging the grounded one reads lower than the grounded phase itself.
+Because the whole locus is fitted, the high-resistance case is handled: past θ = 60° the
+phase lagging the grounded one reads lower than the grounded phase itself (x > √3 without
+burden); with a burden heavy enough that φ ≤ 60° that never happens, and the lowest reading
+is always the grounded phase. ``lag_crossover_ratio`` gives the x where it starts.
 
 Units: volts, ohms, farads, hertz, amperes. numpy does the arithmetic for many reading sets
 at once (``diagnose_ground_batch``); ``diagnose_ground`` is the one-set front.
@@ -123,29 +132,125 @@ class BatchDiagnosis:
     status: IntArray  # (N,) STATUS_* codes
     grounded: IntArray  # (N,) index into labels, -1 when not a single ground
     best: IntArray  # (N,) phase with the smallest misfit
+    locus_angle_rad: FloatArray  # (N,) φ = arg(Y0) used: π/2 without burden
 
 
-def locus_readings(theta: FloatArray) -> tuple[FloatArray, FloatArray, FloatArray]:
+def locus_angle(
+    frequency_hz: float, capacitance_f: float, burden_conductance_s: float = 0.0
+) -> float:
+    """φ = arg(G + jωC0) (rad) of each phase's admittance to earth: π/2 without burden.
+
+    ``capacitance_f`` is C0 (F, one phase to earth), ``burden_conductance_s`` the detectors'
+    own conductance from one phase to earth (S). Both zero is refused: no path to earth.
+    """
+    if not math.isfinite(frequency_hz) or frequency_hz <= 0:
+        raise ValueError(f"frequency must be positive hertz (got {frequency_hz!r})")
+    if not math.isfinite(capacitance_f) or capacitance_f <= 0:
+        raise ValueError(
+            f"capacitance to earth must be a positive number of farads (got {capacitance_f!r})"
+        )
+    if not math.isfinite(burden_conductance_s) or burden_conductance_s < 0:
+        raise ValueError(
+            f"burden conductance must be zero or positive siemens (got {burden_conductance_s!r})"
+        )
+    return math.atan2(2.0 * math.pi * frequency_hz * capacitance_f, burden_conductance_s)
+
+
+def _check_angle(phi: npt.ArrayLike) -> FloatArray:
+    """Locus angles as an array; ValueError outside (0, π/2]."""
+    arr = np.asarray(phi, dtype=np.float64)
+    if not np.all(np.isfinite(arr)) or np.any(arr <= 0.0) or np.any(arr > _HALF_PI + 1e-12):
+        raise ValueError("locus angle must be in (0, π/2] radians (capacitance must be present)")
+    return np.minimum(arr, _HALF_PI)
+
+
+def _angle_terms(phi: npt.ArrayLike) -> tuple[FloatArray | float, FloatArray | float]:
+    """(cot φ, 1/sin φ), exactly (0, 1) at φ = π/2 so that no burden means the semicircle."""
+    if np.ndim(phi) == 0 and float(phi) == _HALF_PI:  # type: ignore[arg-type]
+        return 0.0, 1.0
+    phi_a = np.asarray(phi, dtype=np.float64)
+    sin_phi = np.sin(phi_a)
+    return np.where(phi_a == _HALF_PI, 0.0, np.cos(phi_a) / sin_phi), 1.0 / sin_phi
+
+
+def locus_readings(
+    theta: FloatArray, phi: npt.ArrayLike = _HALF_PI
+) -> tuple[FloatArray, FloatArray, FloatArray]:
     """Readings / V_LN of the (faulted, lagging, leading) phases at locus angle θ (rad).
 
-    θ = arctan(3ωC0·Rf): 0 for a bolted fault, π/2 for no fault.
+    θ runs from 0 (bolted fault) to φ (no fault); ``phi`` is arg(Y0), π/2 without burden
+    (then θ = arctan(3ωC0·Rf)). Arrays broadcast.
     """
+    cot_phi, inv_sin_phi = _angle_terms(phi)
     c = np.cos(theta)
     s = np.sin(theta)
-    # 1 + cos²θ - 2 cosθ cos(120° ∓ θ), with cos(120° ∓ θ) = -cosθ/2 ± (√3/2) sinθ
-    twice_cc = 2.0 * c * c
-    cross = _SQRT3 * c * s
-    lag = np.sqrt(np.maximum(1.0 + twice_cc - cross, 0.0))
-    lead = np.sqrt(np.maximum(1.0 + twice_cc + cross, 0.0))
-    return s, lag, lead
+    r = c - cot_phi * s  # sin(φ - θ)/sin φ
+    # 1 + r² - 2 r cos(120° ∓ θ), with cos(120° ∓ θ) = -cosθ/2 ± (√3/2) sinθ
+    base = 1.0 + r * (r + c)
+    cross = _SQRT3 * r * s
+    lag = np.sqrt(np.maximum(base - cross, 0.0))
+    lead = np.sqrt(np.maximum(base + cross, 0.0))
+    return s * inv_sin_phi, lag, lead
 
 
-def _minimax(theta: FloatArray, rho: FloatArray, inv_tau: FloatArray) -> FloatArray:
+def ratio_to_theta(ratio: npt.ArrayLike, phi: npt.ArrayLike = _HALF_PI) -> FloatArray:
+    """Locus angle θ (rad) for x = 3ωC0·Rf: tan θ = x sin φ / (sin φ + x cos φ); inf → φ."""
+    x = np.asarray(ratio, dtype=np.float64)
+    phi_a = np.asarray(phi, dtype=np.float64)
+    with np.errstate(invalid="ignore"):
+        theta = np.arctan2(x * np.sin(phi_a), np.sin(phi_a) + x * np.cos(phi_a))
+    return np.where(np.isinf(x), np.broadcast_to(phi_a, theta.shape), theta)
+
+
+def theta_to_ratio(theta: FloatArray, phi: npt.ArrayLike = _HALF_PI) -> FloatArray:
+    """x = 3ωC0·Rf = sin φ sin θ / sin(φ - θ) (dimensionless), inf at θ = φ (no fault)."""
+    phi_a = np.asarray(phi, dtype=np.float64)
+    end = theta >= phi_a - 1e-12
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        ratio = np.sin(phi_a) * np.sin(theta) / np.sin(phi_a - theta)
+    return np.where(end, np.inf, ratio)
+
+
+def leading_phase_max(phi: float = _HALF_PI) -> float:
+    """Highest reading / V_LN a single ground can put on a phase for locus angle φ.
+
+    (1+√7)/2 ≈ 1.823 without burden (derived, SOURCES.md); lower with a resistive burden,
+    whose arc bulges less. Found on a fine grid then refined by golden section.
+    """
+    phi_a = float(_check_angle(phi))
+    grid = np.linspace(0.0, phi_a, 4001)
+    values = locus_readings(grid, phi_a)[2]
+    i = int(values.argmax())
+    a, b = grid[max(i - 1, 0)], grid[min(i + 1, grid.size - 1)]
+    for _ in range(60):
+        c = b - _INV_PHI * (b - a)
+        d = a + _INV_PHI * (b - a)
+        if locus_readings(np.array(c), phi_a)[2] > locus_readings(np.array(d), phi_a)[2]:
+            b = d
+        else:
+            a = c
+    return float(max(values.max(), locus_readings(np.array(0.5 * (a + b)), phi_a)[2]))
+
+
+def lag_crossover_ratio(phi: float = _HALF_PI) -> float:
+    """x = 3ωC0·Rf beyond which the phase lagging the grounded one reads lower than the
+    grounded phase itself: θ = 60° on the locus (faulted² - lag² = 2r[cos(120° - θ) - cos θ]),
+    so x = sin φ sin 60° / sin(φ - 60°), √3 without burden; inf when φ ≤ 60° (never)."""
+    phi_a = float(_check_angle(phi))
+    if phi_a <= math.pi / 3.0 + 1e-12:
+        return math.inf
+    return math.sin(phi_a) * math.sin(math.pi / 3.0) / math.sin(phi_a - math.pi / 3.0)
+
+
+def _minimax(
+    theta: FloatArray, rho: FloatArray, inv_tau: FloatArray, phi: FloatArray
+) -> FloatArray:
     """Worst |predicted - measured| / tolerance over the three roles.
 
-    theta (n, 3, g); rho, inv_tau (n, 3, 3) = (row, hypothesis, role). Returns (n, 3, g).
+    theta (n, 3, g); rho, inv_tau (n, 3, 3) = (row, hypothesis, role); phi (n, 1, 1).
+    Returns (n, 3, g).
     """
-    return _worst(*locus_readings(theta), rho, inv_tau)
+    return _worst(*locus_readings(theta, phi), rho, inv_tau)
 
 
 def _worst(
@@ -158,7 +263,8 @@ def _worst(
     return worst
 
 
-_SWEEP = np.linspace(0.0, _HALF_PI, _GRID_SWEEP)
+_SWEEP_SHARE = np.linspace(0.0, 1.0, _GRID_SWEEP)  # of the locus angle φ
+_SWEEP = _SWEEP_SHARE * _HALF_PI
 _SWEEP_FAULTED, _SWEEP_LAG, _SWEEP_LEAD = (r[None, None, :] for r in locus_readings(_SWEEP))
 
 
@@ -206,24 +312,27 @@ def _start(
 
 
 def _refine(
-    theta: FloatArray, value: FloatArray, step: FloatArray, rho_h: FloatArray, inv_tau_h: FloatArray
+    theta: FloatArray, value: FloatArray, step: FloatArray, rho_h: FloatArray,
+    inv_tau_h: FloatArray, phi: FloatArray,
 ) -> tuple[FloatArray, FloatArray]:
     """Golden-section search for the minimum within ±step of θ (any shape (n, k)).
 
-    Never returns worse than the starting point (the bracket need not be unimodal).
+    ``phi`` (n, 1) bounds θ to the locus. Never returns worse than the starting point (the
+    bracket need not be unimodal).
     """
-    a = np.clip(theta - step, 0.0, _HALF_PI)
-    b = np.clip(theta + step, 0.0, _HALF_PI)
+    phi3 = phi[:, :, None]
+    a = np.clip(theta - step, 0.0, phi)
+    b = np.clip(theta + step, 0.0, phi)
     c = b - _INV_PHI * (b - a)
     d = a + _INV_PHI * (b - a)
-    fc = _minimax(c[:, :, None], rho_h, inv_tau_h)[:, :, 0]
-    fd = _minimax(d[:, :, None], rho_h, inv_tau_h)[:, :, 0]
+    fc = _minimax(c[:, :, None], rho_h, inv_tau_h, phi3)[:, :, 0]
+    fd = _minimax(d[:, :, None], rho_h, inv_tau_h, phi3)[:, :, 0]
     for _ in range(_GOLDEN_STEPS):
         left = fc < fd  # the minimum lies in [a, d]
         b = np.where(left, d, b)
         a = np.where(left, a, c)
         x = np.where(left, b - _INV_PHI * (b - a), a + _INV_PHI * (b - a))
-        fx = _minimax(x[:, :, None], rho_h, inv_tau_h)[:, :, 0]
+        fx = _minimax(x[:, :, None], rho_h, inv_tau_h, phi3)[:, :, 0]
         c, d = np.where(left, x, d), np.where(left, c, x)
         fc, fd = np.where(left, fx, fd), np.where(left, fc, fx)
     cand = np.where(fc < fd, c, d)
@@ -233,11 +342,14 @@ def _refine(
 
 
 def _fit_block(
-    rho: FloatArray, tau: FloatArray, units: npt.NDArray[np.complex128], perm: IntArray
+    rho: FloatArray, tau: FloatArray, units: npt.NDArray[np.complex128], perm: IntArray,
+    phi: FloatArray,
 ) -> dict[str, npt.NDArray[np.generic]]:
-    """Fit one block of reading sets; rho, tau are (n, 3) per unit of V_LN."""
+    """Fit one block of reading sets; rho, tau are (n, 3) per unit of V_LN, phi (n,)."""
     n = rho.shape[0]
     g, tri_misfit = _trilaterate(rho, tau, units)
+    phi2 = phi[:, None]  # (n, 1)
+    phi3 = phi[:, None, None]  # (n, 1, 1)
 
     # Readings rearranged per hypothesis as (faulted, lagging, leading): (n, 3, 3).
     rho_h = rho[:, perm]
@@ -245,25 +357,37 @@ def _fit_block(
     tau_max = tau.max(axis=1)  # (n,)
 
     # Start each phase's search at the locus point nearest the trilaterated earth point.
+    # The locus of phase k is an arc of the circle through E_k and the neutral with centre
+    # E_k·(1 + j·cot φ)/2 and radius 1/(2 sin φ); on it the angle about the centre,
+    # turned by π/2 - φ, is β = -2θ.
     uk = units[None, :]  # (1, 3)
-    rel = (g[:, None] - uk / 2.0) * np.conj(uk)  # centre-relative, rotated to E_k at 0°
-    psi = np.angle(rel)  # the locus is psi in [-π, 0], psi = -2θ
-    theta0 = np.where(psi <= 0.0, -psi / 2.0, np.where(psi < _HALF_PI, 0.0, _HALF_PI))
-    nearest = uk * np.cos(theta0) * np.exp(-1j * theta0)
+    cot = np.cos(phi2) / np.sin(phi2)
+    rel = g[:, None] * np.conj(uk) - 0.5 * (1.0 + 1j * cot)
+    beta = np.angle(rel * np.exp(1j * (_HALF_PI - phi2)))
+    beta = np.where(beta < -2.0 * phi2, beta + 2.0 * math.pi, beta)
+    theta0 = np.where(beta <= 0.0, -beta / 2.0, np.where(beta < math.pi - phi2, 0.0, phi2))
+    radius = np.sin(phi2 - theta0) / np.sin(phi2)
+    nearest = uk * radius * np.exp(-1j * theta0)
     dist = np.abs(g[:, None] - nearest)
-    half = dist + _WINDOW_TOLERANCES * tau_max[:, None]  # arc length per unit = Δθ
+    # Arc length per unit of θ is 1/sin φ.
+    half = (dist + _WINDOW_TOLERANCES * tau_max[:, None]) * np.sin(phi2)
     lo = np.maximum(theta0 - half, 0.0)
-    hi = np.minimum(theta0 + half, _HALF_PI)
+    hi = np.minimum(theta0 + half, phi2)
 
     # A fine window around that start, plus a sparse sweep of the whole locus so that the
     # best fit of readings far from any locus is not missed. Sorted, so that neighbours on
     # the grid are neighbours on the locus.
     steps = np.linspace(0.0, 1.0, _GRID_WINDOW)
     window = lo[:, :, None] + (hi - lo)[:, :, None] * steps
-    # The sweep is the same for every row: its readings are computed once.
-    f_sweep = _worst(_SWEEP_FAULTED, _SWEEP_LAG, _SWEEP_LEAD, rho_h, inv_tau_h)
-    f_window = _minimax(window, rho_h, inv_tau_h)
-    unsorted = np.concatenate([window, np.broadcast_to(_SWEEP, (n, 3, _GRID_SWEEP))], axis=-1)
+    if np.all(phi == _HALF_PI):
+        # Without burden the sweep is the same for every row: its readings are precomputed.
+        sweep = np.broadcast_to(_SWEEP, (n, 3, _GRID_SWEEP))
+        f_sweep = _worst(_SWEEP_FAULTED, _SWEEP_LAG, _SWEEP_LEAD, rho_h, inv_tau_h)
+    else:
+        sweep = np.broadcast_to(phi3 * _SWEEP_SHARE, (n, 3, _GRID_SWEEP))
+        f_sweep = _minimax(phi3 * _SWEEP_SHARE, rho_h, inv_tau_h, phi3)
+    f_window = _minimax(window, rho_h, inv_tau_h, phi3)
+    unsorted = np.concatenate([window, sweep], axis=-1)
     order = np.argsort(unsorted, axis=-1)
     grid = np.take_along_axis(unsorted, order, axis=-1)  # (n, 3, G)
     f_grid = np.take_along_axis(np.concatenate([f_window, f_sweep], axis=-1), order, axis=-1)
@@ -281,6 +405,7 @@ def _fit_block(
         np.concatenate([spacing, other_spacing], axis=1),
         np.concatenate([rho_h, rho_h], axis=1),
         np.concatenate([inv_tau_h, inv_tau_h], axis=1),
+        phi2,
     )
     best_theta, other_theta = both_theta[:, :3], both_theta[:, 3:]
     best_f, other_f = both_f[:, :3], both_f[:, 3:]
@@ -311,6 +436,7 @@ def _fit_block(
         np.concatenate([seed_lo, seed_hi], axis=1),
         np.concatenate([rho_h, rho_h], axis=1),
         np.concatenate([inv_tau_h, inv_tau_h], axis=1),
+        phi3,
     )
     theta_lo, theta_hi = both[:, :3], both[:, 3:]
     theta_lo = np.where(any_ok, theta_lo, np.nan)
@@ -328,30 +454,24 @@ def _fit_block(
     }
 
 
-def _bisect(outside: FloatArray, inside: FloatArray, rho_h: FloatArray, inv_tau_h: FloatArray) -> (
-    FloatArray
-):
+def _bisect(
+    outside: FloatArray, inside: FloatArray, rho_h: FloatArray, inv_tau_h: FloatArray,
+    phi3: FloatArray,
+) -> FloatArray:
     """Boundary of the feasible set between an infeasible and a feasible θ, shape (n, k).
 
     Where ``outside`` is itself feasible (a locus end), that end is returned.
     """
-    f_out = _minimax(outside[:, :, None], rho_h, inv_tau_h)[:, :, 0]
+    f_out = _minimax(outside[:, :, None], rho_h, inv_tau_h, phi3)[:, :, 0]
     end_feasible = f_out <= 1.0 + _SLACK
     a = outside.copy()
     b = inside.copy()
     for _ in range(_BISECTIONS):
         mid = 0.5 * (a + b)
-        ok = _minimax(mid[:, :, None], rho_h, inv_tau_h)[:, :, 0] <= 1.0 + _SLACK
+        ok = _minimax(mid[:, :, None], rho_h, inv_tau_h, phi3)[:, :, 0] <= 1.0 + _SLACK
         b = np.where(ok, mid, b)
         a = np.where(ok, a, mid)
     return np.where(end_feasible, outside, b)
-
-
-def _theta_to_ratio(theta: FloatArray) -> FloatArray:
-    """x = tan θ (dimensionless), inf at θ = π/2 (no fault)."""
-    with np.errstate(over="ignore", invalid="ignore"):
-        ratio = np.tan(theta)
-    return np.where(theta >= _HALF_PI - 1e-12, np.inf, ratio)
 
 
 def diagnose_ground_batch(
@@ -359,12 +479,16 @@ def diagnose_ground_batch(
     line_voltage_v: float | npt.ArrayLike,
     sequence: PhaseSequence | str = "ABC",
     tolerance: MeterTolerance = MeterTolerance(),  # noqa: B008 - frozen, so a safe default
+    locus_angle_rad: float | npt.ArrayLike = _HALF_PI,
 ) -> BatchDiagnosis:
     """Diagnose N sets of phase-to-earth readings (V), array (N, 3) in ``sequence.labels`` order.
 
     ``line_voltage_v`` (V) is one number or one per set: the measured line voltage is best,
-    the nominal will do when the bus sits on it. Results are dimensionless (3ωC0·Rf), so
-    this needs neither frequency nor capacitance; ``diagnose_ground`` converts to ohms.
+    the nominal will do when the bus sits on it. ``locus_angle_rad`` is φ = arg(G + jωC0)
+    of each phase's admittance to earth (``locus_angle``), one or one per set: π/2 when no
+    detector burden loads the system. Results are dimensionless (3ωC0·Rf), so without
+    burden this needs neither frequency nor capacitance; ``diagnose_ground`` converts to
+    ohms.
     """
     seq = PhaseSequence.parse(sequence)
     m = np.asarray(readings_v, dtype=np.float64)
@@ -375,6 +499,7 @@ def diagnose_ground_batch(
     v_ll = np.broadcast_to(np.asarray(line_voltage_v, dtype=np.float64), (m.shape[0],))
     if not np.all(np.isfinite(v_ll)) or np.any(v_ll <= 0):
         raise ValueError("line voltage must be a positive number of volts")
+    phi = np.broadcast_to(_check_angle(locus_angle_rad), (m.shape[0],))
     v_ln = v_ll / math.sqrt(3.0)
     tol = tolerance.relative * m + tolerance.absolute_v
     rho = m / v_ln[:, None]
@@ -391,7 +516,7 @@ def diagnose_ground_batch(
     )
 
     parts = [
-        _fit_block(rho[i : i + _CHUNK], tau[i : i + _CHUNK], units, perm)
+        _fit_block(rho[i : i + _CHUNK], tau[i : i + _CHUNK], units, perm, phi[i : i + _CHUNK])
         for i in range(0, m.shape[0], _CHUNK)
     ]
 
@@ -419,18 +544,20 @@ def diagnose_ground_batch(
     best = misfit.argmin(axis=1).astype(np.int64) if misfit.size else np.zeros(0, np.int64)
     grounded = np.where(status == STATUS_SINGLE, fits.argmax(axis=1), -1).astype(np.int64)
     g = cat("g").astype(np.complex128) * v_ln
+    phi2 = phi[:, None]
     return BatchDiagnosis(
         labels=labels,
         earth_point_v=g,
         trilateration_misfit=cat("tri").astype(np.float64),
         misfit=misfit,
-        ratio=_theta_to_ratio(theta),
-        ratio_low=_theta_to_ratio(cat("theta_lo").astype(np.float64)),
-        ratio_high=_theta_to_ratio(cat("theta_hi").astype(np.float64)),
+        ratio=theta_to_ratio(theta, phi2),
+        ratio_low=theta_to_ratio(cat("theta_lo").astype(np.float64), phi2),
+        ratio_high=theta_to_ratio(cat("theta_hi").astype(np.float64), phi2),
         zero_shift_misfit=zero,
         status=status,
         grounded=grounded,
         best=best,
+        locus_angle_rad=np.array(phi, dtype=np.float64),
     )
 
 
@@ -468,19 +595,27 @@ class GroundDiagnosis:
     sequence: PhaseSequence
     notes: tuple[str, ...]
     next_steps: tuple[str, ...]
+    locus_angle_rad: float = _HALF_PI  # arg(G + jωC0): π/2 when no detector burden
+    burden_ohm: float | None = None  # detectors' resistance per phase to earth, if given
 
 
 def _predicted(
-    seq: PhaseSequence, v_ln: float, phase: str, ratio: float
+    seq: PhaseSequence, v_ln: float, phase: str, ratio: float, phi: float = _HALF_PI
 ) -> dict[str, float]:
     """Readings (V) a single ground of ratio x on ``phase`` gives, by label."""
-    theta = math.atan(ratio) if math.isfinite(ratio) else _HALF_PI
-    faulted, lag, lead = locus_readings(np.array(theta))
+    theta = ratio_to_theta(ratio, phi)
+    faulted, lag, lead = locus_readings(theta, phi)
     return {
         phase: float(faulted) * v_ln,
         seq.lagging(phase): float(lag) * v_ln,
         seq.leading(phase): float(lead) * v_ln,
     }
+
+
+def earth_point_fraction(ratio: float, phi: float = _HALF_PI) -> float:
+    """|V_g| / V_LN on the locus at x = 3ωC0·Rf: r = sin(φ - θ)/sin φ (1 at a bolted fault)."""
+    theta = float(ratio_to_theta(ratio, phi))
+    return math.sin(phi - theta) / math.sin(phi)
 
 
 def _fmt_ohm(value: float) -> str:
@@ -502,30 +637,38 @@ def diagnose_ground(
     frequency_hz: float | None = None,
     capacitance_f: float | None = None,
     tolerance: MeterTolerance = MeterTolerance(),  # noqa: B008 - frozen, so a safe default
+    burden_ohm: float | None = None,
 ) -> GroundDiagnosis:
     """Grounded phase, fault resistance (Ω) and neutral shift (V) from three readings (V).
 
     ``readings_v`` maps each phase label to its voltmeter reading to earth; ``capacitance_f``
-    is C0, one phase's capacitance to earth (F), assumed equal on the three phases. Without
-    frequency and capacitance the phase and the displacement are still found, but not the
-    resistance or current. Locus: V_g = E_k/(1 + j3ωC0·Rf) (Mitolo, ch. 9, eqs. 9.14-9.15).
+    is C0, one phase's capacitance to earth (F), assumed equal on the three phases.
+    ``burden_ohm`` is the resistance from each phase to earth of the detectors connected
+    while the readings were taken (lamps, voltmeters, an insulation monitor's share), equal
+    on the three phases; it needs the capacitance, since the locus depends on their ratio.
+    Without frequency and capacitance the phase and the displacement are still found, but
+    not the resistance or current. Locus: V_g = E_k/(1 + 3·Y0·Rf), Y0 = 1/R_burden + jωC0;
+    without burden V_g = E_k/(1 + j3ωC0·Rf) (Mitolo, ch. 9, eqs. 9.14-9.15).
     """
     seq = PhaseSequence.parse(sequence)
     seq.check_labels(list(readings_v), "readings")
     if (frequency_hz is None) != (capacitance_f is None):
         raise ValueError("give both frequency and capacitance, or neither")
+    if burden_ohm is not None:
+        if math.isnan(burden_ohm) or burden_ohm <= 0:
+            raise ValueError(f"burden must be a positive number of ohms (got {burden_ohm!r})")
+        if capacitance_f is None:
+            raise ValueError("a detector burden needs the frequency and capacitance: the "
+                             "locus depends on the ratio of the two")
     omega_c: float | None = None
+    phi = _HALF_PI
     if frequency_hz is not None and capacitance_f is not None:
-        if not math.isfinite(frequency_hz) or frequency_hz <= 0:
-            raise ValueError(f"frequency must be positive hertz (got {frequency_hz!r})")
-        if not math.isfinite(capacitance_f) or capacitance_f <= 0:
-            raise ValueError(
-                f"capacitance to earth must be a positive number of farads (got {capacitance_f!r})"
-            )
+        conductance = 0.0 if burden_ohm is None else 1.0 / burden_ohm
+        phi = locus_angle(frequency_hz, capacitance_f, conductance)
         omega_c = 3.0 * 2.0 * math.pi * frequency_hz * capacitance_f
     labels = seq.labels
     values = [float(readings_v[lbl]) for lbl in labels]
-    batch = diagnose_ground_batch([values], line_voltage_v, seq, tolerance)
+    batch = diagnose_ground_batch([values], line_voltage_v, seq, tolerance, phi)
     v_ln = line_to_neutral(line_voltage_v)
 
     status = _STATUS_BY_CODE[int(batch.status[0])]
@@ -549,7 +692,7 @@ def diagnose_ground(
     interval: tuple[float, float] | None = None
     current: float | None = None
     misfit = misfit_by_phase[best_phase]
-    fitted = _predicted(seq, v_ln, best_phase, float(batch.ratio[0, best_i]))
+    fitted = _predicted(seq, v_ln, best_phase, float(batch.ratio[0, best_i]), phi)
 
     if status is GroundStatus.NO_GROUND:
         misfit = float(batch.zero_shift_misfit[0])
@@ -571,8 +714,9 @@ def diagnose_ground(
         if best_phase in candidates:
             interval = (float(batch.ratio_low[0, best_i]), float(batch.ratio_high[0, best_i]))
         if omega_c is not None and candidates:
-            # KCL at earth: the fault returns the capacitive current 3ωC0·|V_g|.
-            current = omega_c * v_ln * math.cos(math.atan(ratio))
+            # KCL at earth: the fault returns the current of the three balanced branches,
+            # 3·|Y0|·|V_g|, with |Y0| = ωC0/sin φ.
+            current = omega_c / math.sin(phi) * v_ln * earth_point_fraction(ratio, phi)
         if status is GroundStatus.SINGLE:
             grounded = best_phase
             text = f"Single ground on {grounded}"
@@ -580,9 +724,12 @@ def diagnose_ground(
                 text += f" through about {_fmt_ohm(ratio / omega_c)}"
             notes.append(text + f"; neutral shifted {abs(g):.0f} V.")
             if lowest != grounded:
+                crossover = lag_crossover_ratio(phi)
+                where = (f"above about {_fmt_ohm(crossover / omega_c)}"
+                         if omega_c is not None else f"with 3ωC0·Rf above {crossover:.3g}")
                 notes.append(
-                    f"The lowest reading ({lowest}) is NOT the grounded phase: with "
-                    "3ωC0·Rf above √3 the phase lagging the grounded one reads lowest."
+                    f"The lowest reading ({lowest}) is NOT the grounded phase: {where} "
+                    "the phase lagging the grounded one reads lowest."
                 )
             if omega_c is None:
                 steps.append(
@@ -606,15 +753,17 @@ def diagnose_ground(
                 "to earth, two grounds, a wrong phase sequence, a faulty meter, or a line "
                 "voltage other than the value given."
             )
-            ceiling = _LEADING_MAX * v_ln
+            ceiling_pu = _LEADING_MAX if phi == _HALF_PI else leading_phase_max(phi)
+            ceiling = ceiling_pu * v_ln
             over = [lbl for lbl in labels if readings[lbl] - tolerance_v[lbl] > ceiling]
             if over:
                 notes.append(
                     f"{', '.join(over)} reads above {ceiling:.0f} V, the most any single "
-                    f"ground can put on a phase ((1+√7)/2 × V_LN, derived): check the line "
-                    "voltage given and the meter."
+                    f"ground can put on a phase ({ceiling_pu:.3f} × V_LN, derived from the "
+                    "locus): check the line voltage given and the meter."
                 )
-            other = diagnose_ground_batch([values], line_voltage_v, seq.reversed(), tolerance)
+            other = diagnose_ground_batch([values], line_voltage_v, seq.reversed(), tolerance,
+                                          phi)
             alt = "-".join(seq.reversed().order)
             other_best = int(other.best[0])
             other_misfit = float(other.misfit[0, other_best])
@@ -645,6 +794,11 @@ def diagnose_ground(
     if status is not GroundStatus.NO_GROUND and status is not GroundStatus.INCONSISTENT:
         steps.append("Find the circuit: open feeders one at a time while watching the readings.")
 
+    if burden_ohm is not None:
+        notes.append(
+            f"Detector burden {_fmt_ohm(burden_ohm)} per phase to earth taken into the model "
+            f"with C0: the fault locus is an arc at {math.degrees(phi):.0f}° instead of 90°."
+        )
     resistance = None if ratio is None else to_ohm(ratio)
     r_interval: tuple[float, float] | None = None
     if interval is not None and omega_c is not None:
@@ -673,4 +827,6 @@ def diagnose_ground(
         sequence=seq,
         notes=tuple(notes),
         next_steps=tuple(steps),
+        locus_angle_rad=phi,
+        burden_ohm=burden_ohm,
     )

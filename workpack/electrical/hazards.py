@@ -15,12 +15,73 @@ from workpack.electrical.threephase import line_to_neutral
 
 # A healthy phase leading a resistive ground can reach (1+√7)/2 · V_LN at 3ωC0·Rf ≈ 0.373.
 # Derived from the single-fault locus (KCL at the earth node); no published statement found.
+# A resistive detector burden (lamps, meters) only flattens the locus and lowers the peak
+# (ground_inverse.leading_phase_max), so the figure bounds every balanced system.
 LEADING_PHASE_MAX_PER_UNIT = (1.0 + math.sqrt(7.0)) / 2.0
+MAX_SINGLE_GROUND_PU = LEADING_PHASE_MAX_PER_UNIT
 
 
-# Derived from the single-ground locus (SOURCES.md): the phase leading a resistive
-# ground peaks at (1 + √7)/2 ≈ 1.823 × V_LN when 3ωC0·Rf ≈ 0.373.
-MAX_SINGLE_GROUND_PU = (1 + 7 ** 0.5) / 2
+@dataclass(frozen=True)
+class VoltageToEarth:
+    """The one worst-case voltage to earth (V) a package states for a system.
+
+    Hazard facts, cautions, the approach-boundary table entry and the glove class all use
+    ``worst_v`` (for the last two, never less than the line voltage: ``exposure_v``).
+    """
+
+    line_voltage_v: float
+    worst_v: float  # the highest voltage to earth a person can meet on the system
+    exposure_v: float  # max(line voltage, worst_v): enters NFPA 70E and the glove class
+    measured_v: float | None  # the highest phase-to-earth reading of the day, if any
+    insulated: bool
+    single_ground_v: float | None  # (1+√7)/2 × V_LN on an insulated system, else None
+
+    def why(self, ground_present: bool = False) -> str:
+        """Where ``worst_v`` comes from, in words for the page."""
+        v_ln = line_to_neutral(self.line_voltage_v)
+        if self.single_ground_v is None:
+            return (f"solidly grounded: a ground trips; the phases stay at V_LL/√3 = "
+                    f"{v_ln:.0f} V to earth")
+        if self.measured_v is not None and self.measured_v > self.single_ground_v:
+            return (f"measured {self.measured_v:.0f} V to earth, above the "
+                    f"{self.single_ground_v:.0f} V one ground can cause")
+        lift = (f"a resistive one lifts a phase to up to {MAX_SINGLE_GROUND_PU:.2f} × "
+                f"{v_ln:.0f} V = {self.single_ground_v:.0f} V to earth (derived)")
+        if ground_present:
+            return f"a solid ground puts the healthy phases at line voltage and {lift}"
+        return f"a first ground can appear during the work and trips nothing; {lift}"
+
+    @property
+    def basis(self) -> str:
+        """``why`` for a system with no ground known."""
+        return self.why(False)
+
+
+def worst_voltage_to_earth(
+    line_voltage_v: float, insulated: bool, measured_highest_v: float | None = None
+) -> VoltageToEarth:
+    """The worst-case voltage to earth (V) on a system of ``line_voltage_v`` (V).
+
+    On an insulated (or resistance-earthed) system nothing trips on a first ground, which can
+    appear at any time during the job: a solid one puts the healthy phases at line voltage,
+    a resistive one lifts the leading phase up to (1+√7)/2 × V_LN (derived, SOURCES.md), and
+    a reading of the day may be higher still (a meter, unequal capacitance). On a solidly
+    grounded system a ground trips and the phases stay at V_LN to earth.
+    """
+    if not math.isfinite(line_voltage_v) or line_voltage_v <= 0:
+        raise ValueError(f"line voltage must be positive volts (got {line_voltage_v!r})")
+    if measured_highest_v is not None and (
+        not math.isfinite(measured_highest_v) or measured_highest_v < 0
+    ):
+        raise ValueError(f"measured voltage must be 0 V or more (got {measured_highest_v!r})")
+    v_ln = line_to_neutral(line_voltage_v)
+    measured = measured_highest_v or 0.0
+    bound = MAX_SINGLE_GROUND_PU * v_ln if insulated else None
+    worst = max(bound if bound is not None else v_ln, measured)
+    return VoltageToEarth(
+        line_voltage_v=line_voltage_v, worst_v=worst,
+        exposure_v=max(line_voltage_v, worst), measured_v=measured_highest_v,
+        insulated=insulated, single_ground_v=bound)
 
 
 @dataclass(frozen=True)
@@ -44,6 +105,7 @@ class GroundHazards:
     ground_current_a: float | None
     approach_entry_v: float  # the voltage to enter a phase-to-phase approach table with
     notes: tuple[HazardNote, ...]
+    worst_v: float = 0.0  # the one worst-case voltage to earth (worst_voltage_to_earth)
 
 
 def ground_hazards(
@@ -53,6 +115,7 @@ def ground_hazards(
     intermittent: bool = False,
     guides: CodeSet | None = None,
     shift_threshold: float = 0.1,
+    insulated: bool = True,
 ) -> GroundHazards:
     """Highest phase-to-earth voltage (V), ground current (A) and cautions.
 
@@ -74,6 +137,7 @@ def ground_hazards(
     phase = max(sorted(phase_to_earth_v), key=lambda k: phase_to_earth_v[k])
     highest = phase_to_earth_v[phase]
     shifted = any(abs(v - v_ln) > shift_threshold * v_ln for v in phase_to_earth_v.values())
+    worst = worst_voltage_to_earth(line_voltage_v, insulated, highest)
     notes: list[HazardNote] = []
     if shifted:
         notes.append(
@@ -82,9 +146,8 @@ def ground_hazards(
                 f"A ground is indicated: phase {phase} stands at {highest:.0f} V to earth "
                 f"(normal {v_ln:.0f} V). A partial ground can go solid, and a resistive one "
                 f"can lift a phase to about {MAX_SINGLE_GROUND_PU:.2f} × {v_ln:.0f} V = "
-                f"{MAX_SINGLE_GROUND_PU * v_ln:.0f} V (derived): treat every conductor as at "
-                f"least {max(highest, line_voltage_v, MAX_SINGLE_GROUND_PU * v_ln):.0f} V "
-                "to earth.",
+                f"{MAX_SINGLE_GROUND_PU * v_ln:.0f} V (derived): treat every conductor as up "
+                f"to {worst.worst_v:.0f} V to earth.",
             )
         )
         notes.append(
@@ -125,8 +188,9 @@ def ground_hazards(
         highest_per_unit=highest / v_ln,
         above_line_voltage=highest > line_voltage_v,
         ground_current_a=ground_current_a,
-        approach_entry_v=max(line_voltage_v, highest),
+        approach_entry_v=worst.exposure_v,
         notes=tuple(notes),
+        worst_v=worst.worst_v,
     )
 
 

@@ -1,8 +1,14 @@
 """Insulation-resistance tests: test voltage, minimum, temperature correction, PI, trend.
 
 Every limit comes from a ``CodeSet`` (see ``tables.load_code_set``): IEEE Std 43 for
-rotating machines, ANSI/NETA MTS Table 100.1 for other apparatus, an IEC 60364-6 style
-table for low-voltage installation circuits. Units: volts, ohms, °C, seconds, dates.
+rotating machines, ANSI/NETA MTS Table 100.5 for transformer windings (liquid-filled and
+dry-type minimums) and Table 100.1 for other apparatus, an IEC 60364-6 style table for
+low-voltage installation circuits. A correction to the reference temperature is made only
+inside its stated range (the correction table's span; 10–60 °C for the IEEE 43 halving
+rule); outside it the reading cannot be judged and the test is repeated nearer the
+reference temperature. ``correct_to_reference`` is the one place that decides this, for
+the diagnosis, the printed package and the judging of results alike.
+Units: volts, ohms, °C, seconds, dates.
 """
 
 from __future__ import annotations
@@ -17,6 +23,8 @@ from workpack.electrical.standards import (
     Citation,
     CodeSet,
     SpecialCircuit,
+    TemperatureCorrection,
+    TransformerWindingBand,
     VoltageBand,
     WindingMinimum,
 )
@@ -36,6 +44,8 @@ DEFAULT_CODE_SET_BY_KIND: dict[str, str] = {
 _DAYS_PER_MONTH = 365.25 / 12.0
 
 # Trend thresholds: a fact of the trade, not a published limit.
+TRANSFORMER_INSULATION = ("liquid_filled", "dry_type")
+
 TREND_CITATION = Citation(
     document="trend thresholds",
     edition="-",
@@ -86,6 +96,28 @@ def _band(code_set: CodeSet, rated_voltage_v: float) -> VoltageBand:
     )
 
 
+def _transformer_band(code_set: CodeSet, rated_voltage_v: float) -> TransformerWindingBand:
+    """The transformer-winding row covering a winding's rated voltage (V)."""
+    _check_positive("rated voltage", rated_voltage_v)
+    if not code_set.transformer_windings:
+        raise ValueError(f"code set {code_set.name!r} has no transformer-winding table")
+    for band in code_set.transformer_windings:
+        if band.up_to_v is None or rated_voltage_v < band.up_to_v or (
+            band.up_to_inclusive and rated_voltage_v == band.up_to_v
+        ):
+            return band
+    last = code_set.transformer_windings[-1]
+    raise ValueError(f"winding voltage {rated_voltage_v:g} V is above the {code_set.name} "
+                     f"transformer table, which ends at {last.up_to_v:g} V")
+
+
+def _check_transformer(transformer: str | None) -> None:
+    """ValueError for an insulation kind that is not liquid_filled or dry_type."""
+    if transformer is not None and transformer not in TRANSFORMER_INSULATION:
+        raise ValueError(f"transformer insulation {transformer!r} must be one of "
+                         f"{', '.join(TRANSFORMER_INSULATION)}")
+
+
 def _special(code_set: CodeSet, circuit_kind: str | None) -> SpecialCircuit | None:
     """The row for a circuit kind such as SELV/PELV, if the table has one."""
     if circuit_kind is None:
@@ -109,13 +141,21 @@ class TestVoltage:
 
 
 def dc_test_voltage(
-    code_set: CodeSet, rated_voltage_v: float, circuit_kind: str | None = None
+    code_set: CodeSet, rated_voltage_v: float, circuit_kind: str | None = None,
+    transformer: str | None = None,
 ) -> TestVoltage:
     """DC test voltage (V) by rated voltage (V; line-to-line for three-phase) from the table.
 
     Sources: IEEE Std 43 test-voltage guideline table; ANSI/NETA MTS Table 100.1 (rated
-    between rows: next row up); IEC 60364-6 style table (``circuit_kind`` "selv_pelv").
+    between rows: next row up); Table 100.5 for a transformer winding (``transformer``
+    "liquid_filled" or "dry_type", ``rated_voltage_v`` that winding's); IEC 60364-6 style
+    table (``circuit_kind`` "selv_pelv").
     """
+    _check_transformer(transformer)
+    if transformer is not None and code_set.transformer_windings:
+        band_t = _transformer_band(code_set, rated_voltage_v)
+        return TestVoltage(band_t.dc_test_min_v, band_t.dc_test_max_v,
+                           f"winding {band_t.label}", band_t.citation)
     special = _special(code_set, circuit_kind)
     if special is not None:
         return TestVoltage(
@@ -140,15 +180,28 @@ def minimum_insulation_resistance(
     rated_voltage_v: float,
     winding: str | None = None,
     circuit_kind: str | None = None,
+    transformer: str | None = None,
 ) -> MinimumIr:
     """Minimum IR (Ω) from the code set.
 
     Machines (IEEE Std 43 clause 12.3, one-minute value at 40 °C): ``winding`` one of
-    "kv_plus_1" (kV + 1 MΩ), "form_wound", "random_wound", "dc_armature". Other apparatus
-    and installations: by rated-voltage row (NETA MTS Table 100.1; IEC 60364-6 style).
+    "kv_plus_1" (kV + 1 MΩ), "form_wound", "random_wound", "dc_armature". Transformer
+    windings (NETA MTS Table 100.5, at 20 °C): ``transformer`` "liquid_filled" or
+    "dry_type", ``rated_voltage_v`` the winding's. Other apparatus and installations: by
+    rated-voltage row (NETA MTS Table 100.1; IEC 60364-6 style).
     """
+    _check_transformer(transformer)
     rule = code_set.temperature_correction
     reference = None if rule is None else rule.reference_c
+    if rule is None and code_set.temperature_columns:
+        reference = next(iter(code_set.temperature_columns.values())).reference_c
+    if transformer is not None and code_set.transformer_windings:
+        band_t = _transformer_band(code_set, rated_voltage_v)
+        value = (band_t.minimum_dry_type_ohm if transformer == "dry_type"
+                 else band_t.minimum_liquid_filled_ohm)
+        kind = transformer.replace("_", "-")
+        return MinimumIr(value, reference, f"{kind} transformer winding rated {band_t.label}",
+                         band_t.citation)
     if code_set.winding_minimums:
         _check_positive("rated voltage", rated_voltage_v)
         kinds = sorted({w.winding for w in code_set.winding_minimums})
@@ -200,20 +253,46 @@ class CorrectedResistance:
     citation: Citation
 
 
+def _rule(code_set: CodeSet) -> TemperatureCorrection:
+    """The code set's temperature correction; ValueError naming the columns to choose from."""
+    rule = code_set.temperature_correction
+    if rule is not None:
+        return rule
+    if code_set.temperature_columns:
+        columns = sorted(code_set.temperature_columns)
+        raise ValueError(
+            f"code set {code_set.name!r} has one correction column per kind of insulation "
+            f"({', '.join(columns)}): name one, e.g. {code_set.name}/{columns[0]}")
+    raise ValueError(f"code set {code_set.name!r} has no temperature correction")
+
+
+def correction_range(code_set: CodeSet) -> tuple[float, float] | None:
+    """(lowest, highest) temperature (°C) from which a reading is corrected, or None."""
+    return _rule(code_set).valid_range_c
+
+
 def correct_to_reference(
     code_set: CodeSet, resistance_ohm: float, temperature_c: float
 ) -> CorrectedResistance:
     """Bring a reading (Ω at °C) to the code set's reference temperature.
 
-    IEEE Std 43: R40 = R_T·0.5^((40 − T)/10). NETA MTS: R20 = R_T·k(T), k from the
-    conversion table, interpolated geometrically between points; outside 0–75 °C refused.
+    IEEE Std 43: R40 = R_T·0.5^((40 − T)/10), only for readings at 10–60 °C (our bound,
+    common practice: see the table file). NETA MTS Table 100.14: R20 = R_T·k(T), k from the
+    code set's column, interpolated geometrically between points; outside 0–75 °C refused.
+    A reading outside the range raises ValueError asking for a retest nearer the reference.
     """
     _check_positive("insulation resistance", resistance_ohm)
     if not math.isfinite(temperature_c):
         raise ValueError(f"temperature must be a finite number of °C (got {temperature_c!r})")
-    rule = code_set.temperature_correction
-    if rule is None:
-        raise ValueError(f"code set {code_set.name!r} has no temperature correction")
+    rule = _rule(code_set)
+    valid = rule.valid_range_c
+    if valid is not None and not valid[0] <= temperature_c <= valid[1]:
+        source = rule.range_citation or rule.citation
+        raise ValueError(
+            f"a reading at {temperature_c:g} °C is outside {valid[0]:g}–{valid[1]:g} °C, the "
+            f"range the {code_set.name} correction to {rule.reference_c:g} °C is used for "
+            f"({source}): test again with the insulation nearer {rule.reference_c:g} °C"
+        )
     if rule.method == "halving":
         assert rule.halving_interval_c is not None
         factor = 0.5 ** ((rule.reference_c - temperature_c) / rule.halving_interval_c)
@@ -227,6 +306,25 @@ def correct_to_reference(
         factor=factor,
         citation=rule.citation,
     )
+
+
+def correction_instruction(code_set: CodeSet) -> str:
+    """How the package's reading is corrected, and where not, in few words for the page."""
+    rule = _rule(code_set)
+    valid = rule.valid_range_c
+    source = f"{rule.citation.document} ({rule.citation.edition})"
+    if rule.method == "halving":
+        how = (f"correct to {rule.reference_c:g} °C by halving per "
+               f"{rule.halving_interval_c:g} °C rise ({source})")
+    else:
+        column = f", {rule.column_label}" if rule.column_label else ""
+        how = f"correct to {rule.reference_c:g} °C with {rule.citation.clause}{column} ({source})"
+    if valid is None:
+        return how
+    strength = (f" ({rule.range_citation.strength})" if rule.range_citation is not None
+                and rule.range_citation.strength != "published" else "")
+    return (f"{how}, for readings at {valid[0]:g}–{valid[1]:g} °C only{strength}; outside "
+            f"that, test again nearer {rule.reference_c:g} °C")
 
 
 def _interpolate_factor(
@@ -329,18 +427,19 @@ def judge_insulation(
     rated_voltage_v: float,
     winding: str | None = None,
     circuit_kind: str | None = None,
+    transformer: str | None = None,
 ) -> IrJudgement:
     """Correct a reading (Ω at °C) where the code set has a correction, then compare (Ω)."""
     _check_positive("insulation resistance", resistance_ohm)
-    minimum = minimum_insulation_resistance(code_set, rated_voltage_v, winding, circuit_kind)
+    minimum = minimum_insulation_resistance(code_set, rated_voltage_v, winding, circuit_kind,
+                                            transformer)
     corrected = None
     value = resistance_ohm
-    if code_set.temperature_correction is not None:
+    if code_set.temperature_correction is not None or code_set.temperature_columns:
         if temperature_c is None:
             raise ValueError(
-                f"{code_set.name} compares values at "
-                f"{code_set.temperature_correction.reference_c:g} °C: give the winding "
-                "or apparatus temperature of the reading"
+                f"{code_set.name} compares values at {minimum.reference_c:g} °C: give the "
+                "winding or apparatus temperature of the reading"
             )
         corrected = correct_to_reference(code_set, resistance_ohm, temperature_c)
         value = corrected.corrected_ohm
@@ -373,7 +472,7 @@ class TrendJudgement:
     status: TrendStatus
     corrected_ohm: tuple[float, ...]  # oldest first
     dates: tuple[date, ...]
-    latest_ohm: float
+    latest_ohm: float | None  # None when no reading could be corrected
     minimum_ohm: float
     drop_fraction: float | None  # fall of the latest from the best earlier value
     rate_per_year: float | None  # fitted fractional change per year (-0.3: 30 % a year down)
@@ -382,6 +481,7 @@ class TrendJudgement:
     horizon_months: float
     citation: Citation
     note: str
+    left_out: tuple[str, ...] = ()  # readings that could not be corrected, and why
 
 
 def insulation_trend(
@@ -396,7 +496,9 @@ def insulation_trend(
     Flags a latest corrected value below ``minimum_ohm``; a fall of more than
     ``drop_threshold`` from the best earlier value; or a fitted exponential decline
     (least squares on log R against time) reaching the minimum within ``horizon_months``.
-    Thresholds: common practice, not a published limit.
+    Thresholds: common practice, not a published limit. A reading that cannot be corrected
+    (no temperature, or one outside the correction's range) is left out and listed in
+    ``left_out``, exactly as the judging of a package's reading leaves it unjudged.
     """
     _check_positive("minimum insulation resistance", minimum_ohm)
     if not 0 < drop_threshold < 1:
@@ -406,19 +508,33 @@ def insulation_trend(
         raise ValueError("a trend needs at least one reading")
     ordered = sorted(readings, key=lambda r: r.taken_on)
     values: list[float] = []
+    kept: list[date] = []
+    left_out: list[str] = []
+    corrects = code_set.temperature_correction is not None or bool(code_set.temperature_columns)
     for r in ordered:
-        if code_set.temperature_correction is not None and r.temperature_c is not None:
-            corrected = correct_to_reference(code_set, r.resistance_ohm, r.temperature_c)
-            values.append(corrected.corrected_ohm)
-        elif code_set.temperature_correction is not None:
-            raise ValueError(
-                f"reading of {r.taken_on.isoformat()} has no temperature; {code_set.name} "
-                "compares corrected values"
-            )
-        else:
-            _check_positive("insulation resistance", r.resistance_ohm)
+        _check_positive("insulation resistance", r.resistance_ohm)
+        if not corrects:
             values.append(r.resistance_ohm)
-    dates = tuple(r.taken_on for r in ordered)
+        elif r.temperature_c is None:
+            left_out.append(f"{r.taken_on.isoformat()}: no temperature; {code_set.name} "
+                            "compares corrected values")
+            continue
+        else:
+            try:
+                corrected = correct_to_reference(code_set, r.resistance_ohm, r.temperature_c)
+            except ValueError as problem:
+                left_out.append(f"{r.taken_on.isoformat()}: {problem}")
+                continue
+            values.append(corrected.corrected_ohm)
+        kept.append(r.taken_on)
+    dates = tuple(kept)
+    if not values:
+        return TrendJudgement(
+            status=TrendStatus.INSUFFICIENT, corrected_ohm=(), dates=(), latest_ohm=None,
+            minimum_ohm=minimum_ohm, drop_fraction=None, rate_per_year=None,
+            projected_minimum_on=None, drop_threshold=drop_threshold,
+            horizon_months=horizon_months, citation=TREND_CITATION,
+            note="no reading could be corrected: no trend", left_out=tuple(left_out))
     latest = values[-1]
     drop = None
     if len(values) >= 2:
@@ -458,6 +574,7 @@ def insulation_trend(
             horizon_months=horizon_months,
             citation=TREND_CITATION,
             note=note,
+            left_out=tuple(left_out),
         )
 
     if latest < minimum_ohm:

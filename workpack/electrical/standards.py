@@ -12,6 +12,7 @@ Each table carries a ``Citation`` with a ``strength``:
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 from typing import Literal
 
@@ -88,13 +89,49 @@ class TemperatureCorrection:
     """How a reading at T °C is brought to the reference temperature.
 
     "halving": R_ref = R_T · 0.5^((ref - T)/interval). "factors": R_ref = R_T · k(T), with
-    k interpolated between ``points`` (°C, factor).
+    k interpolated between ``points`` (°C, factor). Readings outside ``valid_from_c`` to
+    ``valid_to_c`` (°C) are not corrected: the package asks for a retest nearer the
+    reference temperature. ``column`` names the table column when the table has several
+    (e.g. "oil", "solid").
     """
 
     method: Literal["halving", "factors"]
     reference_c: float
     halving_interval_c: float | None
     points: tuple[tuple[float, float], ...]
+    citation: Citation
+    valid_from_c: float | None = None
+    valid_to_c: float | None = None
+    range_citation: Citation | None = None  # where the valid range comes from
+    column: str | None = None
+    column_label: str = ""
+
+    @property
+    def valid_range_c(self) -> tuple[float, float] | None:
+        """(lowest, highest) temperature (°C) a reading is corrected from, or None."""
+        if self.points:
+            return (max(self.points[0][0], self.valid_from_c or -math.inf),
+                    min(self.points[-1][0], self.valid_to_c or math.inf))
+        if self.valid_from_c is None or self.valid_to_c is None:
+            return None
+        return (self.valid_from_c, self.valid_to_c)
+
+
+@dataclass(frozen=True)
+class TransformerWindingBand:
+    """One row of a transformer-winding insulation table, by the winding's rated voltage.
+
+    Minimums (Ω) at the code set's reference temperature, for liquid-filled and dry-type
+    transformers. Rows are contiguous as in ``VoltageBand``.
+    """
+
+    label: str
+    up_to_v: float | None
+    up_to_inclusive: bool
+    dc_test_min_v: float
+    dc_test_max_v: float
+    minimum_liquid_filled_ohm: float
+    minimum_dry_type_ohm: float
     citation: Citation
 
 
@@ -153,6 +190,10 @@ class CodeSet:
     polarization_index: PolarizationIndexRule | None = None
     approach_boundaries: tuple[ApproachBoundary, ...] = ()
     guide_values: dict[str, GuideValue] = field(default_factory=dict)
+    transformer_windings: tuple[TransformerWindingBand, ...] = ()
+    # Every column of a correction table with several; a code set named "<name>/<column>"
+    # has that one as its temperature_correction.
+    temperature_columns: dict[str, TemperatureCorrection] = field(default_factory=dict)
 
     def guide(self, name: str) -> GuideValue:
         """One guide value by name; ValueError naming the known ones if absent."""

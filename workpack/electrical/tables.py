@@ -7,6 +7,7 @@ pydantic models that forbid unknown keys, so a misspelled key in a table fails l
 
 from __future__ import annotations
 
+from dataclasses import replace
 from functools import cache
 from importlib import resources
 from importlib.resources.abc import Traversable
@@ -24,6 +25,7 @@ from workpack.electrical.standards import (
     SpecialCircuit,
     Strength,
     TemperatureCorrection,
+    TransformerWindingBand,
     VoltageBand,
     WindingMinimum,
 )
@@ -82,12 +84,36 @@ class _WindingIn(_Strict):
     rows: list[_WindingRowIn]
 
 
+class _ColumnIn(_Strict):
+    name: str
+    label: str
+    points: list[tuple[float, float]]
+
+
 class _TemperatureIn(_Strict):
     method: Literal["halving", "factors"]
     reference_c: float
     halving_interval_c: float | None = None
     points: list[tuple[float, float]] = []
+    columns: list[_ColumnIn] = []
+    valid_from_c: float | None = None
+    valid_to_c: float | None = None
+    range_citation: _CitationIn | None = None
     citation: _CitationIn
+
+
+class _TransformerBandIn(_Strict):
+    label: str
+    up_to_v: float | None
+    up_to_inclusive: bool = True
+    dc_test_v: tuple[float, float]
+    liquid_filled_megohm: float
+    dry_type_megohm: float
+
+
+class _TransformerIn(_Strict):
+    citation: _CitationIn
+    bands: list[_TransformerBandIn]
 
 
 class _PolarizationIn(_Strict):
@@ -135,6 +161,7 @@ class _CodeSetIn(_Strict):
     special_circuits: list[_SpecialIn] = []
     winding_minimums: _WindingIn | None = None
     temperature_correction: _TemperatureIn | None = None
+    transformer_windings: _TransformerIn | None = None
     polarization_index: _PolarizationIn | None = None
     approach_boundaries: _BoundariesIn | None = None
     guide_values: list[_GuideIn] = []
@@ -145,12 +172,23 @@ def _folder() -> Traversable:
     return resources.files("workpack").joinpath(*_FOLDER)
 
 
-def available_code_sets() -> tuple[str, ...]:
-    """Names of the shipped code sets, sorted."""
+def _files() -> tuple[str, ...]:
+    """Names of the shipped tables files, sorted."""
     folder = _folder()
     return tuple(
         sorted(p.name[: -len(".yaml")] for p in folder.iterdir() if p.name.endswith(".yaml"))
     )
+
+
+@cache
+def available_code_sets() -> tuple[str, ...]:
+    """Names of the shipped code sets, sorted: one per file, and one per column of a
+    correction table with several ("neta-mts-2019/oil", "neta-mts-2019/solid")."""
+    names: list[str] = []
+    for name in _files():
+        names.append(name)
+        names.extend(f"{name}/{column}" for column in load_code_set(name).temperature_columns)
+    return tuple(sorted(names))
 
 
 def _cite(doc: _CodeSetIn, c: _CitationIn) -> Citation:
@@ -221,14 +259,37 @@ def _build(doc: _CodeSetIn) -> CodeSet:
             for r in doc.winding_minimums.rows
         )
     temperature = None
+    columns: dict[str, TemperatureCorrection] = {}
     if doc.temperature_correction is not None:
         t = doc.temperature_correction
-        temperature = TemperatureCorrection(
-            method=t.method,
-            reference_c=t.reference_c,
-            halving_interval_c=t.halving_interval_c,
-            points=tuple((float(a), float(b)) for a, b in sorted(t.points)),
-            citation=_cite(doc, t.citation),
+
+        def correction(points: list[tuple[float, float]], column: str | None = None,
+                       label: str = "") -> TemperatureCorrection:
+            """One column of the correction table (the only one, for most tables)."""
+            return TemperatureCorrection(
+                method=t.method, reference_c=t.reference_c,
+                halving_interval_c=t.halving_interval_c,
+                points=tuple((float(a), float(b)) for a, b in sorted(points)),
+                citation=_cite(doc, t.citation), valid_from_c=t.valid_from_c,
+                valid_to_c=t.valid_to_c,
+                range_citation=None if t.range_citation is None
+                else _cite(doc, t.range_citation),
+                column=column, column_label=label)
+
+        if t.columns:
+            columns = {c.name: correction(c.points, c.name, c.label) for c in t.columns}
+        else:
+            temperature = correction(t.points)
+    transformer: tuple[TransformerWindingBand, ...] = ()
+    if doc.transformer_windings is not None:
+        cite = _cite(doc, doc.transformer_windings.citation)
+        transformer = tuple(
+            TransformerWindingBand(
+                label=b.label, up_to_v=b.up_to_v, up_to_inclusive=b.up_to_inclusive,
+                dc_test_min_v=b.dc_test_v[0], dc_test_max_v=b.dc_test_v[1],
+                minimum_liquid_filled_ohm=b.liquid_filled_megohm * _MEGOHM,
+                minimum_dry_type_ohm=b.dry_type_megohm * _MEGOHM, citation=cite)
+            for b in doc.transformer_windings.bands
         )
     pi = None
     if doc.polarization_index is not None:
@@ -286,14 +347,31 @@ def _build(doc: _CodeSetIn) -> CodeSet:
         polarization_index=pi,
         approach_boundaries=boundaries,
         guide_values=guides,
+        transformer_windings=transformer,
+        temperature_columns=columns,
     )
 
 
 @cache
 def load_code_set(name: str) -> CodeSet:
-    """The tables of one code set, e.g. "ieee43-2013", "neta-mts-2019", "iec60364-6",
-    "nfpa70e-2021" or "it-system-guides". ValueError for an unknown name."""
-    known = available_code_sets()
+    """The tables of one code set, e.g. "ieee43-2013", "neta-mts-2019/solid", "iec60364-6",
+    "nfpa70e-2021" or "it-system-guides". ValueError for an unknown name.
+
+    "<file>/<column>" is the file's tables with that column of its temperature-correction
+    table as the correction (the column is chosen by the equipment tested)."""
+    base, _, column = name.partition("/")
+    if column:
+        whole = load_code_set(base)
+        if column not in whole.temperature_columns:
+            known_columns = sorted(whole.temperature_columns)
+            raise ValueError(
+                f"code set {base!r} has no correction column {column!r}"
+                f"{did_you_mean(column, known_columns)}; known: "
+                f"{', '.join(known_columns) or 'none'}")
+        chosen = whole.temperature_columns[column]
+        return replace(whole, name=name, title=f"{whole.title} ({chosen.column_label})",
+                       temperature_correction=chosen)
+    known = _files()
     if name not in known:
         raise ValueError(
             f"unknown code set {name!r}{did_you_mean(name, known)}; known: {', '.join(known)}"

@@ -256,6 +256,13 @@ class DetectorKind(StrEnum):
     insulation_monitor = "insulation_monitor"
 
 
+class BurdenConnection(StrEnum):
+    """When a detector ties the phases to earth (and so loads the system it watches)."""
+
+    always = "always"
+    while_testing = "while_testing"  # e.g. lamps whose star point a push button earths
+
+
 class Detector(Strict):
     id: Id
     kind: DetectorKind
@@ -264,6 +271,22 @@ class Detector(Strict):
     prewarning: Ohms | None = None
     meter_tolerance_percent: float = Field(default=2.5, gt=0, le=20,
                                            description="voltmeter accuracy class")
+    # The detector's own burden: it is part of the circuit it watches (see diagnose.py).
+    lamp_power: Watts | None = Field(
+        default=None, description="rating of each lamp wired from a phase to earth, e.g. "
+        "'15 W'; with lamp_voltage it gives the lamp's resistance R = V²/P")
+    lamp_voltage: Volts | None = Field(default=None,
+                                       description="rated voltage of each lamp, e.g. '250 V'")
+    burden_per_phase: Ohms | None = Field(
+        default=None, description="resistance from each phase to earth as the system sees "
+        "it, e.g. '4.3 kΩ' for lamps behind small transformers, or each voltmeter's impedance")
+    internal_impedance: Ohms | None = Field(
+        default=None, description="insulation monitor's internal impedance from the system "
+        "(all phases together) to earth, e.g. '120 kΩ'")
+    connected: BurdenConnection | None = Field(
+        default=None, description="when the burden is on the system: 'always', or "
+        "'while_testing' (lamps whose star point a push button earths); default: lamps "
+        "while_testing, voltmeters and monitors always")
 
     @model_validator(mode="after")
     def _monitor_has_alarm(self) -> Detector:
@@ -275,6 +298,37 @@ class Detector(Strict):
             raise ValueError(f"alarm and prewarning are settings of an insulation_monitor, "
                              f"not of {self.kind}")
         return self
+
+    @model_validator(mode="after")
+    def _burden_fits_the_kind(self) -> Detector:
+        lamp = (self.lamp_power, self.lamp_voltage)
+        if any(v is not None for v in lamp):
+            if self.kind is not DetectorKind.lamps:
+                raise ValueError(f"lamp_power and lamp_voltage describe lamps, not {self.kind}")
+            if None in lamp:
+                raise ValueError("give both lamp_power and lamp_voltage (R = V²/P needs both)")
+            if self.burden_per_phase is not None:
+                raise ValueError("give the lamps' rating or burden_per_phase, not both")
+        if self.internal_impedance is not None and (
+            self.kind is not DetectorKind.insulation_monitor
+        ):
+            raise ValueError(f"internal_impedance belongs to an insulation_monitor, not to "
+                             f"{self.kind}; use burden_per_phase")
+        if self.burden_per_phase is not None and self.kind is DetectorKind.insulation_monitor:
+            raise ValueError("give an insulation_monitor's internal_impedance, not "
+                             "burden_per_phase")
+        for name in ("burden_per_phase", "internal_impedance"):
+            if getattr(self, name) == 0:
+                raise ValueError(f"{name} of 0 Ω would be a bolted ground: give the "
+                                 "detector's resistance")
+        return self
+
+    @property
+    def burden_connection(self) -> BurdenConnection:
+        if self.connected is not None:
+            return self.connected
+        return (BurdenConnection.while_testing if self.kind is DetectorKind.lamps
+                else BurdenConnection.always)
 
     @field_validator("prewarning")
     @classmethod
@@ -403,6 +457,14 @@ class SecondaryNeutral(StrEnum):
     grounded = "grounded"
 
 
+class TransformerInsulation(StrEnum):
+    """What insulates the windings: it picks the insulation-resistance minimum and the
+    temperature-correction column (ANSI/NETA MTS Tables 100.5 and 100.14)."""
+
+    liquid_filled = "liquid_filled"
+    dry_type = "dry_type"
+
+
 _VECTOR_GROUP = re.compile(r"^(D|Y|YN|Z|ZN)(d|y|yn|z|zn)(\d{1,2})$")
 
 
@@ -415,6 +477,9 @@ class Transformer(FedElement):
     secondary_voltage: Volts
     vector_group: str = Field(description="IEC 60076-1 vector group, e.g. Dd0, Dyn11, Yd1")
     secondary_neutral: SecondaryNeutral = SecondaryNeutral.not_brought_out
+    insulation: TransformerInsulation | None = Field(
+        default=None, description="liquid_filled or dry_type; when absent, dry_type is "
+        "assumed for insulation limits (the higher minimum) and the package says so")
 
     @field_validator("vector_group")
     @classmethod
