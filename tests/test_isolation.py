@@ -14,7 +14,7 @@ from plantgen import random_plant
 from workpack.checks import run_checks
 from workpack.isolation import IsolationPlan, plan_isolation
 from workpack.loading import load_plant_text
-from workpack.model.plant import Bus, Device, DeviceKind, Source
+from workpack.model.plant import Bus, Cable, Device, DeviceKind, Load, Source, Transformer
 from workpack.topology import POWER, Topology, element_of
 
 # --- an independent model of where energy can go ----------------------------------------------
@@ -576,3 +576,38 @@ def test_open_transition_removes_a_false_danger() -> None:
     assert not joined.complete and unprotected(joined) == {"U1"}
     separate = plan_isolation(load(text.replace("TRANSITION", ", transition: open")), "LP")
     assert separate.complete and separate.devices == ("CB-G1",)
+
+
+# --- several places of work in one isolation ----------------------------------------------------
+
+
+def as_seen_from(merged: IsolationPlan, own: IsolationPlan) -> IsolationPlan:
+    """The merged steps, judged from one of the places it isolates."""
+    return IsolationPlan(item=own.item, points=merged.points, verify=own.verify,
+                         stored_energy=(), hazards=merged.hazards, also_open=())
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(seed=st.integers(0, 2**32 - 1), first=st.integers(0, 10**6),
+       second=st.integers(0, 10**6))
+def test_one_isolation_of_two_places_still_blocks_first_for_each(
+    seed: int, first: int, second: int,
+) -> None:
+    """Property: merging the isolations of two places of work (a motor and the heater
+    inside its terminal box) keeps, for each place, whatever comes on by itself blocked
+    before any step removes its normal supply."""
+    from workpack.search import merged_isolation
+
+    topology, _ = random_case(seed, 0)
+    # the places a final test is made in: loads, cables, boards and transformers
+    places = sorted(e.id for e in topology.elements.values()
+                    if isinstance(e, Load | Cable | Bus | Transformer))
+    one, other = places[first % len(places)], places[second % len(places)]
+    if one == other:
+        return
+    plans = [plan_isolation(topology, one), plan_isolation(topology, other)]
+    merged = merged_isolation(topology, plans)
+    assert [p.order for p in merged.points] == list(range(1, len(merged.points) + 1))
+    assert {p.device for p in merged.points} == {p.device for plan in plans for p in plan.points}
+    for own in plans:
+        check_blocked_first(topology, as_seen_from(merged, own))

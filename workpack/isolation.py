@@ -62,6 +62,9 @@ class IsolationPoint:
     via: tuple[str, ...]  # the elements between the item and this device
     blocks: str | None = None  # a block: the source or changeover it stops
     how: str | None = None  # a block: what to set and how to lock it
+    # Which group of the safe order it belongs to (STAGES): a merged isolation of
+    # several places keeps every block and standby lock ahead of any normal supply.
+    stage: int = 0
 
 
 @dataclass(frozen=True)
@@ -103,6 +106,8 @@ class IsolationPlan:
 
 
 START_BLOCK, TRANSFER_BLOCK = "start_block", "transfer_block"
+# The groups of the safe order, first to last.
+STAGES = ("transfer block", "what comes on by itself", "other supplies", "normal supply")
 
 
 def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
@@ -204,6 +209,7 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
     for block_id, switch in _transfer_blocks(topology, region):
         entries.append(_block_point(topology, block_id, switch))
     for device_id in sorted(chosen, key=application_order):
+        stage = 1 + application_order(device_id)[0]
         device = topology.elements[device_id]
         assert isinstance(device, Device)
         start_blocks = [s for s in starters[device_id] if s not in placed]
@@ -214,13 +220,15 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
             reason=_reason(topology, item_id, device_id, beyond[device_id], normal_path),
             voltage=topology.voltage_at(device_id),
             already_open=device_id in topology.normally_open, via=path_to(frontier[device_id]),
+            stage=stage,
         )
-        blocks = [_start_point(topology, s) for s in start_blocks]
+        blocks = [replace(_start_point(topology, s), stage=stage) for s in start_blocks]
         # A standby source's start is blocked before its breaker is touched; a source
         # that is the normal supply is switched off at its breaker first, off load.
         entries.extend([point, *blocks] if device_id in normal_path else [*blocks, point])
     if isinstance(item, Source) and _needs_start_block(item):
-        entries.append(_start_point(topology, item_id))  # its breakers first, off load
+        # its breakers first, off load
+        entries.append(replace(_start_point(topology, item_id), stage=len(STAGES) - 1))
     points = tuple(replace(point, order=order) for order, point in enumerate(entries, start=1))
     step_of = {point.device: point.order for point in points}
 

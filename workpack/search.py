@@ -22,7 +22,7 @@ from dataclasses import dataclass, replace
 from workpack.diagnose import downstream_loads, insulation_tests
 from workpack.electrical import dc_test_voltage, line_to_neutral, minimum_insulation_resistance
 from workpack.electrical.standards import CodeSet
-from workpack.isolation import IsolationPlan, IsolationPoint, plan_isolation
+from workpack.isolation import STAGES, IsolationPlan, IsolationPoint, plan_isolation
 from workpack.model.plant import (
     Bus,
     Cable,
@@ -35,7 +35,7 @@ from workpack.model.plant import (
 )
 from workpack.model.weights import SearchWeights
 from workpack.search_core import Branch, Candidate, LevelPlan, SearchPlan, plan_search
-from workpack.topology import Island, Topology
+from workpack.topology import Island, Topology, element_of
 
 # Devices a search may open for a minute; a fuse is drawn (and put back) the same way.
 OPENABLE = frozenset({DeviceKind.circuit_breaker, DeviceKind.switch, DeviceKind.disconnector,
@@ -486,7 +486,7 @@ def final_test_isolation(topology: Topology, final: FinalTests,
                          ) -> IsolationPlan:
     """What to lock for ``final``'s tests: every supply of every place they are made in.
     ``plan`` is ``isolation.plan_isolation`` or a caching stand-in for it."""
-    return merged_isolation([plan(topology, place) for place in final.places])
+    return merged_isolation(topology, [plan(topology, place) for place in final.places])
 
 
 def _section(element_id: str, label: str, code_set: CodeSet, voltage: float,
@@ -502,17 +502,28 @@ def _section(element_id: str, label: str, code_set: CodeSet, voltage: float,
         circuit=circuit)
 
 
-def merged_isolation(plans: Sequence[IsolationPlan]) -> IsolationPlan:
-    """One isolation for several places of work: every device any of them locks, once,
-    in the order the plans apply them (earliest place first); every proving-dead point,
-    hazard and stored-energy note once."""
+def merged_isolation(topology: Topology, plans: Sequence[IsolationPlan]) -> IsolationPlan:
+    """One isolation for several places of work: every device any of them locks, once;
+    every proving-dead point, hazard and stored-energy note once.
+
+    The safe order holds for every place: all blocks and locks of what comes on by itself
+    go before any step that switches off a normal supply of any of the places (a device
+    one place locks as a standby route can be another's normal supply); within a stage,
+    places in turn, each in its own order."""
     if len(plans) == 1:
         return plans[0]
-    rank: dict[str, tuple[int, int]] = {}
+    normal = {element_of(node) for plan in plans
+              for path in topology.normal_supply_paths(plan.item) for node in path}
+    last = len(STAGES) - 1
+    rank: dict[str, tuple[int, int, int]] = {}
     chosen: dict[str, IsolationPoint] = {}
     for index, plan in enumerate(plans):
         for point in plan.points:
-            key = (point.order, index)
+            stage = point.stage
+            if (point.blocks is None and point.device in normal
+                    and point.device not in topology.normally_open):
+                stage = last
+            key = (stage, index, point.order)
             if point.device not in rank or key < rank[point.device]:
                 rank[point.device] = key
                 chosen[point.device] = point
