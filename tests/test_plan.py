@@ -176,7 +176,8 @@ def test_final_tests_are_real_isolations_with_the_discharge_warning(demo: DayPla
     """A final test locks (with record fields), proves dead and restores on its own."""
     search = package(demo, "locate-ground")
     final = next(f for f in search.final_tests if f.feeder == "CB-WL1")
-    assert [p.device for p in final.isolation] == ["CB-WL1", "CB-DK-H-WL1"]
+    # the heater's feeder before the motor's normal supply, as WL-1's own isolation has it
+    assert [p.device for p in final.isolation] == ["CB-DK-H-WL1", "CB-WL1"]
     assert [d.where for d in final.proving_dead] == [
         "both ends of cable C-WL1", "supply terminals of WL-1",
         "anti condensation heater terminals of WL-1"]
