@@ -184,7 +184,7 @@ def test_final_tests_are_real_isolations_with_the_discharge_warning(demo: DayPla
     tests = [s for s in final.steps if s.readings]
     assert tests and all(any(c.id == "stored-charge" for c in s.cautions) for s in tests)
     removed = [s.devices for s in final.restoration if s.kind == "remove_lock"]
-    assert removed == [("CB-DK-H-WL1",), ("CB-WL1",)]
+    assert removed == [("CB-WL1",), ("CB-DK-H-WL1",)]  # in reverse order of application
 
 
 def test_a_heater_circuit_test_locks_the_motors_main_supply(demo: DayPlan) -> None:
