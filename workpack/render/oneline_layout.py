@@ -359,6 +359,7 @@ class _Connector:
     edge: PlantEdge
     other: str  # the element at the far end
     other_sheet: int
+    own_sheet: int = 0
 
 
 @dataclass
@@ -471,7 +472,9 @@ class _Builder:
 
     def connector_lines(self, connector: _Connector) -> tuple[str, str]:
         word = "from" if connector.upward else "to"
-        return f"{word} sheet {connector.other_sheet}", connector.other
+        where = ("this sheet" if connector.other_sheet == connector.own_sheet
+                 else f"sheet {connector.other_sheet}")
+        return f"{word} {where}", connector.other
 
     def connector_extents(self, connector: _Connector) -> tuple[float, float]:
         first, second = self.connector_lines(connector)
@@ -741,7 +744,8 @@ class _Builder:
                     tag = "from" if upward else "to"
                     connectors.append(_Connector(
                         id=f"{tag}:{edge.supply}>{edge.load}:{edge.kind}", at=end,
-                        upward=upward, edge=edge, other=other, other_sheet=sheet_of(far)))
+                        upward=upward, edge=edge, other=other, other_sheet=sheet_of(far),
+                        own_sheet=sheet_of(piece)))
                 else:
                     ports[end] = ports.get(end, 0) + 1
         return connectors, ports
@@ -1130,7 +1134,11 @@ class _Band:
                 taken = used.setdefault((piece, node, side), [])
                 own = self.abs_x[(piece, node)]
                 bus = self.by_piece[piece].nodes[node].is_bus
-                prefer = hi if bus else own
+                # a bus takes the wire near the far end's side; anything else on its
+                # conductor when that is free
+                far = (self.abs_x[(route.end_piece, route.end)] if side == "bottom"
+                       else self.abs_x[(route.start_piece, route.start)])
+                prefer = min(max(far, lo), hi) if bus else own
                 x = _free_port(lo + 4, hi - 4, taken, prefer)
                 taken.append(x)
                 setattr(route, attr, x)
@@ -1390,8 +1398,8 @@ class _SheetText:
         y += ((len(samples) + per_row - 1) // per_row) * row_h + 6
         notes = ["Not drawn: element names (but for buses), locations, cable sizes and "
                  "routine tests (see the inventory)."]
-        notes.append("Off-sheet connectors name the sheet and the element at the far end "
-                     "of the line.")
+        notes.append("Connectors name the sheet (or this sheet) and the element at the far "
+                     "end of the line.")
         for note in notes:
             texts.append(("notes", TextRun(note, MARGIN, y, b.width(note))))
             y += LINE_PT + 2
