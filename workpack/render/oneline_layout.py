@@ -91,6 +91,10 @@ HEADER_H = 2 * LINE_PT + 10.0
 BAND_GAP = 3 * LINE_PT
 GLYPH = 9.0  # padlock, detector mark
 
+# what no sheet shows, said on every sheet
+LEFT_OUT = ("element names (but for buses)", "locations", "cable sizes and types",
+            "routine tests")
+
 PAPER: dict[str, tuple[float, float]] = {  # landscape, points (ISO 216)
     "A3": (420 * MM, 297 * MM),
     "A2": (594 * MM, 420 * MM),
@@ -1396,8 +1400,7 @@ class _SheetText:
                                   marks=marks | {f"sample-{kind}"}))
             texts.append(("legend", TextRun(text, x + 34, y + row * row_h + 1, b.width(text))))
         y += ((len(samples) + per_row - 1) // per_row) * row_h + 6
-        notes = ["Not drawn: element names (but for buses), locations, cable sizes and "
-                 "routine tests (see the inventory)."]
+        notes = [f"Not drawn: {', '.join(LEFT_OUT)} (see the inventory)."]
         notes.append("Connectors name the sheet (or this sheet) and the element at the far "
                      "end of the line.")
         for note in notes:
@@ -1501,6 +1504,5 @@ def layout_plant(plant: Plant, topology: Topology, measure: Measure,
         sheets.append(Sheet(number, width, height, tuple(boxes + legend_boxes), tuple(wires),
                             tuple(frames), tuple(texts),
                             enlarged=enlarged))
-    left_out = ("element names but for buses", "locations", "cable sizes", "routine tests")
     return OneLineDrawing(title=plant.plant.name, paper=paper, sheets=tuple(sheets),
-                          left_out=left_out)
+                          left_out=LEFT_OUT)
