@@ -493,6 +493,26 @@ def _cmd_schema(args: argparse.Namespace) -> int:
     return 0
 
 
+def _cmd_draw(args: argparse.Namespace) -> int:
+    from workpack.loading import load_plant
+    from workpack.output import write_all
+    from workpack.render.oneline import draw_plant, render_pdf, render_svg
+
+    out = Path(args.out)
+    renderers = {".pdf": render_pdf, ".svg": render_svg}
+    if out.suffix.lower() not in renderers:
+        raise UsageError(f"--out {args.out}: expected a .pdf or .svg file name")
+    plant, topology = load_plant(Path(args.plant))
+    drawing = draw_plant(plant, topology, paper=args.paper)
+    write_all(out.parent, {out.name: renderers[out.suffix.lower()](drawing)})
+    enlarged = [str(s.number) for s in drawing.sheets if s.enlarged]
+    sys.stdout.write(f"{len(drawing.sheets)} sheet(s) of {args.paper} written to {out}\n")
+    if enlarged:
+        sys.stdout.write(f"larger than {args.paper} (nothing left to split at): sheet(s) "
+                         f"{', '.join(enlarged)}\n")
+    return 0
+
+
 def _cmd_store_init(args: argparse.Namespace) -> int:
     from workpack.store import set_up_store
 
@@ -646,6 +666,17 @@ def build_parser() -> argparse.ArgumentParser:
     closeout.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
     closeout.add_argument("--out", required=True, metavar="FILE", help="PDF to write")
     closeout.set_defaults(run=_cmd_closeout)
+
+    draw = commands.add_parser(
+        "draw", help="the whole plant's one-line drawing (PDF or SVG), systems framed")
+    draw.add_argument("plant", metavar="PLANT", help="plant inventory (YAML)")
+    draw.add_argument("--out", required=True, metavar="FILE",
+                      help="FILE.pdf (one page per sheet) or FILE.svg (sheets one under "
+                           "the other)")
+    draw.add_argument("--paper", choices=["A3", "A2", "A1", "A0"], default="A3",
+                      help="sheet size, landscape (default A3); a plant too big for one "
+                           "sheet is split with off-sheet connectors")
+    draw.set_defaults(run=_cmd_draw)
 
     store = commands.add_parser("store", help="set up a records store (once, by its owner)")
     store_actions = store.add_subparsers(dest="store_action", required=True, metavar="ACTION")
