@@ -320,8 +320,8 @@ def test_csv_places_read_like_spreadsheet_cells(tmp_path, capsys) -> None:
 
 
 def test_a_column_that_only_other_kinds_have_must_stay_empty(tmp_path, capsys) -> None:
-    (tmp_path / "assets.csv").write_text(MIXED.replace("CB-M1,Breaker,PB,,,", "CB-M1,Breaker,PB,,5 kW,"),
-                                         encoding="utf-8")
+    mixed = MIXED.replace("CB-M1,Breaker,PB,,,", "CB-M1,Breaker,PB,,5 kW,")
+    (tmp_path / "assets.csv").write_text(mixed, encoding="utf-8")
     (tmp_path / "map.yaml").write_text(MIXED_MAP, encoding="utf-8")
     with pytest.raises(InputError) as error:
         import_assets([tmp_path / "assets.csv"], tmp_path / "map.yaml", "plant.yaml")
