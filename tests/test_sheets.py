@@ -191,7 +191,23 @@ def test_a_bare_number_with_no_unit_anywhere_is_refused(tmp_path, capsys) -> Non
                         encoding="utf-8")
     assert refused(tmp_path, map_path, capsys) == (
         "assets.xlsx:Loads!D2: rated_kw: a bare number (15): say its unit, in the cell "
-        "('15 W') or for the whole column in the map (unit: …) (and in 1 more rows below)\n")
+        "('15 W') or for the whole column in the map (unit: …) (and in 1 more row below)\n")
+
+
+def test_a_map_unit_of_the_wrong_kind_is_one_line_at_the_map(tmp_path, capsys) -> None:
+    """Not one line per row: the map is what to correct."""
+    map_path = tmp_path / "asset-map.yaml"
+    map_path.write_text(MAP.replace("{column: Power (kW), unit: kW}",
+                                    "{column: Power (kW), unit: kV}"), encoding="utf-8")
+    assert refused(tmp_path, map_path, capsys) == (
+        "asset-map.yaml:28:44: sheets[3].columns.rated_kw.unit: 'kV' is not a unit of power "
+        "(expected something like W) (for rated_kw of loads)\n")
+    map_path.write_text(MAP.replace("name: Description\n      from: Fed from\n      rated_kw",
+                                    "name: {column: Description, unit: V}\n      from: Fed "
+                                    "from\n      rated_kw"), encoding="utf-8")
+    assert refused(tmp_path, map_path, capsys) == (
+        "asset-map.yaml:26:41: sheets[3].columns.name.unit: name of loads is not a quantity; "
+        "a unit applies to quantities only\n")
 
 
 def test_a_missing_required_column(tmp_path, asset_map, capsys) -> None:
@@ -319,6 +335,18 @@ def test_csv_places_read_like_spreadsheet_cells(tmp_path, capsys) -> None:
         "'Board', 'Breaker', 'Motor' (did you mean 'Motor'?)\n")
 
 
+def test_a_formula_in_the_kind_column_is_refused_too(tmp_path, capsys) -> None:
+    rows = [line.split(",") for line in MIXED.splitlines()]
+    rows[2][1] = '="Breaker"'
+    book = workbook(tmp_path / "assets.xlsx", {"Assets": [[c or None for c in r] for r in rows]})
+    (tmp_path / "map.yaml").write_text(MIXED_MAP, encoding="utf-8")
+    with pytest.raises(InputError) as error:
+        import_assets([book], tmp_path / "map.yaml", "plant.yaml")
+    assert error.value.format_message() == (
+        f"{book}:Assets!B3: Type: the cell holds a formula (=\"Breaker\"); the import reads "
+        "typed values only: copy the column and paste it as values")
+
+
 def test_a_column_that_only_other_kinds_have_must_stay_empty(tmp_path, capsys) -> None:
     mixed = MIXED.replace("CB-M1,Breaker,PB,,,", "CB-M1,Breaker,PB,,5 kW,")
     (tmp_path / "assets.csv").write_text(mixed, encoding="utf-8")
@@ -444,7 +472,8 @@ def test_a_quantity_that_no_unit_writes_exactly_falls_back_to_si() -> None:
 
 def test_the_mapping_core_does_no_io() -> None:
     package = ROOT / "workpack"
-    for name in ("assetlist.py", "exports.py", "grid.py", "model/assetmap.py"):
+    for name in ("assetlist.py", "assetimport.py", "exports.py", "grid.py",
+                 "model/assetmap.py"):
         assert not forbidden_in(package / name, {"os", "pathlib", "io", "shutil", "sqlite3",
                                                  "yaml", "openpyxl", "csv", "zipfile",
                                                  "workpack.loading", "workpack.sheets"})
@@ -462,6 +491,16 @@ def test_the_shipped_map_is_valid_against_its_schema(capsys) -> None:
     bad = {"sheets": [{"section": "loads", "colums": {}}]}
     with pytest.raises(jsonschema.ValidationError):
         jsonschema.validate(bad, schema)
+
+
+def test_text_that_looks_like_a_formula_is_written_as_text(tmp_path) -> None:
+    """openpyxl takes a string starting with "=" for a formula; a name is not one."""
+    from workpack.grid import Table
+
+    path = tmp_path / "t.xlsx"
+    path.write_bytes(xlsx_bytes([Table("t", ("name",), (("=2+2 spare",),))]))
+    (sheet,) = read_sheets([path])
+    assert sheet.rows == (("name",), ("=2+2 spare",))
 
 
 def test_an_unreadable_workbook_is_one_line(tmp_path, capsys) -> None:

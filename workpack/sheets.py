@@ -18,7 +18,8 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from workpack.assetlist import Place, dedupe, inventory_from_sheets, plant_document
+from workpack.assetimport import Place, dedupe, inventory_from_sheets
+from workpack.assetlist import plant_document
 from workpack.checks import run_checks
 from workpack.errors import InputError, Problem
 from workpack.grid import CellError, CellValue, Formula, Sheet, Table
@@ -154,6 +155,8 @@ def xlsx_bytes(tables: Sequence[Table], stamp: dt.datetime = FIXED_STAMP) -> byt
                 cell = sheet.cell(row=row_number, column=column)
                 if isinstance(cell.value, dt.date):
                     cell.number_format = "yyyy-mm-dd"
+                elif isinstance(cell.value, str) and cell.value.startswith("="):
+                    cell.data_type = "s"  # text that looks like a formula stays text
         sheet.freeze_panes = "A2"
     workbook.properties.creator = "workpack"
     workbook.properties.created = stamp
