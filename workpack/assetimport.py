@@ -14,6 +14,7 @@ import json
 import re
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
+from functools import cache
 from typing import Any
 
 from pydantic import BaseModel
@@ -35,18 +36,38 @@ from workpack.units import UnitProblem, to_si
 
 @dataclass(frozen=True)
 class Place:
-    """Where a value came from: a cell, or a line of the map (a default)."""
+    """Where a value came from: a cell of a sheet, or a line of the map (a default).
 
-    file: str  # "assets.xlsx:Loads!D14", or the map file
-    line: int = 0
-    column: int = 0
+    A cell's text ("assets.xlsx:Loads!D14") is made only when a message needs it: an
+    asset list has a hundred thousand cells and few mistakes."""
+
     label: str = ""  # the field path shown with a message at this place
-    short: str = ""  # the place in a message about the same input ("Loads!D14")
+    sheet: Sheet | None = None
+    row: int = 0
+    column: int = 0  # of the cell; of the map line when there is no sheet
+    map_file: str = ""
+    line: int = 0  # of the map
+
+    @property
+    def file(self) -> str:
+        return self.sheet.where(self.row, self.column) if self.sheet else self.map_file
+
+    @property
+    def short(self) -> str:
+        """The place in a message about the same input: "Loads!D14", or "map.yaml:7"."""
+        return (self.sheet.short(self.row, self.column) if self.sheet
+                else f"{self.map_file}:{self.line}")
 
     def problem(self, message: str, rest: str = "") -> Problem:
         label = self.label + (rest if rest.startswith("[") or not self.label else f".{rest}") \
             if rest else self.label
-        return Problem(self.file, self.line, self.column, label, message)
+        if self.sheet is None:
+            return Problem(self.map_file, self.line, self.column, label, message)
+        return Problem(self.file, 0, 0, label, message)
+
+
+def _cell(sheet: Sheet, row: int, column: int, label: str = "") -> Place:
+    return Place(label, sheet, row, column)
 
 
 class _Refused(ValueError):
@@ -118,7 +139,7 @@ def read_cell(cell: CellValue, shape: FieldShape, model: type[BaseModel], unit: 
     return cell.strip() if isinstance(cell, str) else cell
 
 
-@dataclass
+@dataclass(frozen=True)
 class _Target:
     """A field path of a model: ("detector", "alarm") of a bus."""
 
@@ -126,6 +147,7 @@ class _Target:
     model: type[BaseModel]  # the model holding the last field
 
 
+@cache
 def _resolve(model: type[BaseModel], dotted: str) -> _Target | None:
     shapes: list[FieldShape] = []
     owner = model
@@ -180,13 +202,13 @@ class _Reader:
 
     def map_place(self, path: Path) -> Place:
         found = self.map_problem(path, "")
-        return Place(found.file, found.line, found.column, found.path,
-                     f"{found.file}:{found.line}")
+        return Place(found.path, map_file=found.file, line=found.line, column=found.column)
 
     def refuse_map(self, path: Path, message: str) -> None:
         self.problems.append(self.map_problem(path, message))
 
 
+@cache
 def _target_model(target: str) -> type[BaseModel] | None:
     for section in sections():
         if section.key == target:
@@ -202,6 +224,7 @@ def _target_names() -> list[str]:
         {e.key for e in element_lists()} | {f"{e.section}.{e.key}" for e in element_lists()})
 
 
+@cache
 def _is_list_target(target: str) -> bool:
     return target not in {s.key for s in sections()}
 
@@ -290,7 +313,7 @@ def _match_columns(reader: _Reader, plan: _SheetPlan) -> None:
             continue
         name = _normal(_as_text(cell))
         if name in headers:
-            reader.problems.append(Place(sheet.where(spec.header_row, column)).problem(
+            reader.problems.append(_cell(sheet, spec.header_row, column).problem(
                 f"the header {_as_text(cell)!r} is given twice (first in column "
                 f"{sheet.short(spec.header_row, headers[name])}); headers must differ"))
             continue
@@ -348,7 +371,7 @@ def _match_columns(reader: _Reader, plan: _SheetPlan) -> None:
                        f"unknown column {header!r}: no field of that name in "
                        f"{', '.join(plan.targets)}{did_you_mean(header, field_paths)}; map it "
                        f"(columns) or leave it out (ignore_columns)")
-                reader.problems.append(Place(sheet.where(spec.header_row, column)).problem(why))
+                reader.problems.append(_cell(sheet, spec.header_row, column).problem(why))
                 continue
             if header_field not in plan.columns:
                 plan.columns[header_field] = (column, ColumnSpec(column=header_field))
@@ -394,8 +417,7 @@ def _check_required(reader: _Reader, plan: _SheetPlan) -> None:
                 continue
             whose = (f" (rows of {', '.join(repr(v) for v in lacking)} go to {target})"
                      if values else "")
-            reader.problems.append(Place(sheet.where(spec.header_row, 1),
-                                         label=shape.key).problem(
+            reader.problems.append(_cell(sheet, spec.header_row, 1, shape.key).problem(
                 f"no column holds this required field of {target}{whose}; add a column "
                 f"named {shape.key!r}, map one (sheets[{plan.index}].columns) or give a "
                 f"default"))
@@ -408,13 +430,15 @@ def _row_is_empty(row: tuple[CellValue, ...]) -> bool:
 def _read_rows(reader: _Reader, plan: _SheetPlan, data: dict[str, Any],
                lists: list[tuple[str, str, Place, dict[str, Any], dict[Path, Place]]]) -> None:
     spec, sheet = plan.spec, plan.sheet
+    by_column = _by_column(plan)
+    resolved_for: dict[str, list[tuple[int, list[tuple[str, ColumnSpec, _Target | None]]]]] = {}
     last = max((n for n, row in enumerate(sheet.rows, start=1)
                 if n > spec.header_row and not _row_is_empty(row)), default=spec.header_row)
     for row in range(spec.header_row + 1, last + 1):
         cells = sheet.rows[row - 1]
         if _row_is_empty(cells):
             if spec.empty_rows == "refuse":
-                reader.problems.append(Place(sheet.where(row, 1)).problem(
+                reader.problems.append(_cell(sheet, row, 1).problem(
                     f"empty row inside the list (rows {spec.header_row + 1} to {last}); "
                     "delete it, or set empty_rows: skip for this sheet in the map"))
             continue
@@ -426,16 +450,18 @@ def _read_rows(reader: _Reader, plan: _SheetPlan, data: dict[str, Any],
         item: dict[str, Any] = {}
         places: dict[Path, Place] = {}
         first = _first_cell(cells)
-        places[()] = Place(sheet.where(row, first), short=sheet.short(row, first))
-        for column, fields in _by_column(plan).items():
+        places[()] = _cell(sheet, row, first)
+        if target not in resolved_for:
+            resolved_for[target] = [
+                (column, [(dotted, spec_, _resolve(model, dotted)) for dotted, spec_ in fields])
+                for column, fields in by_column.items()]
+        for column, resolved_fields in resolved_for[target]:
             cell = sheet.cell(row, column)
-            resolved_fields = [(dotted, spec_, _resolve(model, dotted))
-                               for dotted, spec_ in fields]
             if all(r is None for _, _, r in resolved_fields):
                 if not _is_empty(cell):  # no field of this row's kind takes this column
                     dotted, column_spec, _ = resolved_fields[0]
                     names = " or ".join(repr(d) for d, _, _ in resolved_fields)
-                    reader.problems.append(Place(sheet.where(row, column), label=dotted).problem(
+                    reader.problems.append(_cell(sheet, row, column, dotted).problem(
                         f"{target} have no field {names}: leave column "
                         f"{column_spec.column!r} empty in these rows"))
                 continue
@@ -443,11 +469,10 @@ def _read_rows(reader: _Reader, plan: _SheetPlan, data: dict[str, Any],
                 if resolved is None:
                     continue
                 keys = tuple(s.key for s in resolved.path)
-                place = Place(sheet.where(row, column), label=dotted,
-                              short=sheet.short(row, column))
+                place = _cell(sheet, row, column, dotted)
                 places[keys] = place
                 if keys == ("id",):
-                    places[()] = Place(place.file, short=place.short)
+                    places[()] = _cell(sheet, row, column)
                 if _is_empty(cell):
                     continue
                 unit = column_spec.unit
@@ -475,8 +500,7 @@ def _read_rows(reader: _Reader, plan: _SheetPlan, data: dict[str, Any],
         if _is_list_target(target):
             assert plan.owner_column is not None
             owner = sheet.cell(row, plan.owner_column)
-            owner_place = Place(sheet.where(row, plan.owner_column), label=spec.owner_column,
-                                short=sheet.short(row, plan.owner_column))
+            owner_place = _cell(sheet, row, plan.owner_column, spec.owner_column)
             try:
                 owner_id = "" if _is_empty(owner) else _label_text(owner)
             except _Refused as refused:
@@ -522,7 +546,7 @@ def _row_target(reader: _Reader, plan: _SheetPlan,
         return spec.section, {}, ("sheets", plan.index)
     assert plan.kind_column is not None
     cell = sheet.cell(row, plan.kind_column)
-    place = Place(sheet.where(row, plan.kind_column), label=spec.sections_by.column)
+    place = _cell(sheet, row, plan.kind_column, spec.sections_by.column)
     values = spec.sections_by.values
     try:
         text = "" if _is_empty(cell) else _label_text(cell)
@@ -579,29 +603,26 @@ def _plant_constants(reader: _Reader, data: dict[str, Any]) -> None:
 def _attach_lists(reader: _Reader, data: dict[str, Any],
                   lists: list[tuple[str, str, Place, dict[str, Any], dict[Path, Place]]]) -> None:
     """Rows of per-element lists (routine, auxiliaries) into their elements, in row order."""
+    where: dict[str, tuple[str, int]] = {}  # element id → its first place
+    for section in sections():
+        if not section.single:
+            for index, element in enumerate(data.get(section.key, [])):
+                where.setdefault(str(element.get("id")), (section.key, index))
     for target, owner, owner_place, item, places in lists:
         key = target.split(".")[-1]
         holders = [e.section for e in element_lists()
                    if e.key == key and target in (e.key, f"{e.section}.{e.key}")]
-        found = None
-        candidates: list[str] = []
-        for section in holders:
-            for index, element in enumerate(data.get(section, [])):
-                element_id = element.get("id")
-                candidates.append(str(element_id))
-                if element_id == owner and found is None:
-                    found = (section, index)
-        if found is None:
-            others = [str(e.get("id")) for s in sections() if not s.single
-                      for e in data.get(s.key, []) if s.key not in holders]
+        found = where.get(owner)
+        if found is None or found[0] not in holders:
+            candidates = [i for i, (held_in, _) in where.items() if held_in in holders]
             reason = (f"{owner!r} is not one of {' or '.join(holders)}, which keep {key}"
-                      if owner in others else
+                      if found is not None else
                       f"no element {owner!r} in the asset list{did_you_mean(owner, candidates)}")
             reader.problems.append(owner_place.problem(reason))
             continue
-        section, index = found
-        entries = data[section][index].setdefault(key, [])
-        base: Path = (section, index, key, len(entries))
+        section_key, index = found
+        entries = data[section_key][index].setdefault(key, [])
+        base: Path = (section_key, index, key, len(entries))
         reader.places.update({(*base, *k): p for k, p in places.items()})
         entries.append(item)
 

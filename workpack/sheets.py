@@ -90,25 +90,33 @@ def _read_workbook(path: Path) -> list[Sheet]:
     if not path.is_file():
         read_text(path)  # raises the loader's own "no such file" / "is a folder"
     try:
-        workbook = load_workbook(path, data_only=False)
+        # read-only: streams the sheets, several times faster on a long asset list
+        workbook = load_workbook(path, read_only=True, data_only=False)
     except Exception as error:  # openpyxl raises zip, XML and key errors for a bad file
         raise InputError([Problem(str(path), 0, 0, "", f"cannot read the workbook "
                                   f"({type(error).__name__}: {error})")]) from None
     sheets = []
-    for worksheet in workbook.worksheets:
-        rows = []
-        for row in worksheet.iter_rows(min_row=1, min_col=1, max_row=worksheet.max_row,
-                                       max_col=worksheet.max_column):
-            rows.append(tuple(_cell_value(cell) for cell in row))
-        while rows and all(value is None for value in rows[-1]):
-            rows.pop()
-        sheets.append(Sheet(str(path), worksheet.title, tuple(rows)))
-    workbook.close()
+    try:
+        for worksheet in workbook.worksheets:
+            if worksheet.max_row is None or worksheet.max_column is None:
+                worksheet.reset_dimensions()  # a writer that left out the sheet's size
+            rows = [tuple(_cell_value(cell) for cell in row)
+                    for row in worksheet.iter_rows(min_row=1, min_col=1,
+                                                   max_row=worksheet.max_row,
+                                                   max_col=worksheet.max_column)]
+            while rows and all(value is None for value in rows[-1]):
+                rows.pop()
+            sheets.append(Sheet(str(path), worksheet.title, tuple(rows)))
+    except Exception as error:  # a damaged part inside the zip shows up while reading
+        raise InputError([Problem(str(path), 0, 0, "", f"cannot read the workbook "
+                                  f"({type(error).__name__}: {error})")]) from None
+    finally:
+        workbook.close()
     return sheets
 
 
 def _cell_value(cell: Any) -> CellValue:
-    value = cell.value
+    value = getattr(cell, "value", None)
     if value is None:
         return None
     if cell.data_type == "f":
@@ -257,7 +265,7 @@ class SheetMarks(Marks):
 
     def mention(self, path: tuple[str | int, ...]) -> str:
         place, _ = self.place_of(path)
-        return place.short or place.file if place else format_path(path)
+        return place.short if place else format_path(path)
 
 
 def read_asset_map(path: Path) -> tuple[AssetMap, Marks]:
@@ -304,27 +312,33 @@ def inventory_yaml(plant: Plant, note: str) -> str:
     one line unless it holds lists of entries (routine tests), units written out."""
     import yaml
 
-    class Dumper(yaml.SafeDumper):
-        def increase_indent(self, flow: bool = False, indentless: bool = False) -> Any:
-            return super().increase_indent(flow, False)  # "  - item" under its key
+    dumper = getattr(yaml, "CSafeDumper", yaml.SafeDumper)  # libyaml where present
 
-    Dumper.add_representer(_OneLine, lambda dumper, data: dumper.represent_mapping(
-        "tag:yaml.org,2002:map", data, flow_style=True))
+    def dump(value: Any, flow: bool | None) -> str:
+        return str(yaml.dump(value, Dumper=dumper, default_flow_style=flow, sort_keys=False,
+                             allow_unicode=True, width=4096)).rstrip("\n")
+
     parts = [f"# {note}\n# `workpack schema plant` lists every field.\n"]
     for key, value in plant_document(plant).items():
-        if isinstance(value, list):
-            value = [_OneLine(item) if isinstance(item, dict) and not _nested(item) else item
-                     for item in value]
-        parts.append(yaml.dump({key: value}, Dumper=Dumper, default_flow_style=None,
-                               sort_keys=False, allow_unicode=True, width=4096))
+        if not isinstance(value, list):
+            parts.append(dump({key: value}, None) + "\n")
+            continue
+        lines = [f"{key}:"]
+        for item in value:
+            if not _nested(item):
+                lines.append(f"  - {dump(item, True)}")
+                continue
+            block = dump(item, None).splitlines()
+            lines.append(f"  - {block[0]}")
+            # an entry of a nested list ("- {test: …}") one step in, under its key
+            lines.extend(f"    {'  ' if line.startswith('- ') else ''}{line}"
+                         for line in block[1:])
+        parts.append("\n".join(lines) + "\n")
     return "\n".join(parts)
 
 
-class _OneLine(dict[str, Any]):
-    """An element written as one flow mapping."""
-
-
-def _nested(item: dict[str, Any]) -> bool:
-    return any(isinstance(v, dict) or (isinstance(v, list) and any(isinstance(i, dict)
-                                                                      for i in v))
-               for v in item.values())
+def _nested(item: Any) -> bool:
+    """Whether an element holds a mapping or a list of them (then it takes a block)."""
+    return isinstance(item, dict) and any(
+        isinstance(v, dict) or (isinstance(v, list) and any(isinstance(i, dict) for i in v))
+        for v in item.values())
