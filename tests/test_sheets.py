@@ -217,7 +217,7 @@ def test_a_missing_required_column(tmp_path, asset_map, capsys) -> None:
                         encoding="utf-8")
     assert refused(tmp_path, map_path, capsys, Breakers=breakers) == (
         "assets.xlsx:Breakers!A1: from: no column holds this required field of devices; "
-        "add a column named 'from', map one (sheets[2].columns) or give a default\n")
+        "add a column named 'from', or map a column or give a default in the asset map\n")
 
 
 def test_a_duplicate_id_names_both_cells(tmp_path, asset_map, capsys) -> None:

@@ -184,6 +184,7 @@ class _SheetPlan:
     index: int
     spec: SheetMap
     sheet: Sheet
+    where: Path  # the entry in the map: ("sheets", 2), or ("sheets_by_name",)
     targets: dict[str, list[str]]  # section or per-element list → kind-column values
     # that send rows there (empty when every row goes there)
     columns: dict[str, tuple[int, ColumnSpec]] = field(default_factory=dict)  # field → column
@@ -254,11 +255,26 @@ def inventory_from_sheets(sheets: Sequence[Sheet], asset_map: AssetMap,
     return ordered, reader.places
 
 
+def _entries(asset_map: AssetMap, sheets: Sequence[Sheet]) -> list[SheetMap]:
+    """The map's sheets, then (``sheets_by_name``) every other sheet named like a section
+    or a per-element list, in the inventory's order."""
+    entries = list(asset_map.sheets)
+    if asset_map.sheets_by_name:
+        taken = {_normal(e.sheet) for e in entries if e.sheet is not None}
+        present = {_normal(s.name): s.name for s in sheets}
+        for target in _target_names():
+            name = present.get(_normal(target))
+            if name is not None and _normal(target) not in taken:
+                entries.append(SheetMap(sheet=name, section=target, fields_from_headers=True))
+    return entries
+
+
 def _plan_sheets(reader: _Reader, input_name: str) -> list[_SheetPlan]:
     by_name = {_normal(s.name): s for s in reader.sheets}
     plans = []
-    for index, spec in enumerate(reader.asset_map.sheets):
-        where: Path = ("sheets", index)
+    written = len(reader.asset_map.sheets)
+    for index, spec in enumerate(_entries(reader.asset_map, reader.sheets)):
+        where: Path = ("sheets", index) if index < written else ("sheets_by_name",)
         targets: dict[str, list[str]] = {}
         if spec.section is not None:
             targets[spec.section] = []
@@ -290,7 +306,7 @@ def _plan_sheets(reader: _Reader, input_name: str) -> list[_SheetPlan]:
                                   f"{input_name} (it has: {', '.join(names)})"
                                   f"{did_you_mean(spec.sheet or '', names)}")
             continue
-        plan = _SheetPlan(index, spec, sheet, targets)
+        plan = _SheetPlan(index, spec, sheet, where, targets)
         _match_columns(reader, plan)
         plans.append(plan)
     return plans
@@ -301,7 +317,7 @@ def _sheet_label(sheet: Sheet) -> str:
 
 
 def _match_columns(reader: _Reader, plan: _SheetPlan) -> None:
-    spec, sheet, where = plan.spec, plan.sheet, ("sheets", plan.index)
+    spec, sheet, where = plan.spec, plan.sheet, plan.where
     headers: dict[str, int] = {}
     header_cells = sheet.rows[spec.header_row - 1] if spec.header_row <= len(sheet.rows) else ()
     if not any(not _is_empty(c) for c in header_cells) and all(
@@ -419,8 +435,7 @@ def _check_required(reader: _Reader, plan: _SheetPlan) -> None:
                      if values else "")
             reader.problems.append(_cell(sheet, spec.header_row, 1, shape.key).problem(
                 f"no column holds this required field of {target}{whose}; add a column "
-                f"named {shape.key!r}, map one (sheets[{plan.index}].columns) or give a "
-                f"default"))
+                f"named {shape.key!r}, or map a column or give a default in the asset map"))
 
 
 def _row_is_empty(row: tuple[CellValue, ...]) -> bool:
@@ -487,7 +502,7 @@ def _read_rows(reader: _Reader, plan: _SheetPlan, data: dict[str, Any],
                     continue
                 _put(item, keys, value)
         for defaults, origin in ((choice_defaults, choice_path),
-                                 (spec.defaults, ("sheets", plan.index, "defaults"))):
+                                 (spec.defaults, (*plan.where, "defaults"))):
             for dotted, value in defaults.items():
                 resolved = _resolve(model, dotted)
                 if resolved is None:
@@ -543,7 +558,7 @@ def _row_target(reader: _Reader, plan: _SheetPlan,
     """The row's section, the defaults its kind brings, and where the map gives them."""
     spec, sheet = plan.spec, plan.sheet
     if spec.sections_by is None:
-        return spec.section, {}, ("sheets", plan.index)
+        return spec.section, {}, plan.where
     assert plan.kind_column is not None
     cell = sheet.cell(row, plan.kind_column)
     place = _cell(sheet, row, plan.kind_column, spec.sections_by.column)
@@ -563,7 +578,7 @@ def _row_target(reader: _Reader, plan: _SheetPlan,
         return None, {}, ()
     choice = values[key]
     return (choice.section, choice.defaults,
-            ("sheets", plan.index, "sections_by", "values", key, "defaults"))
+            (*plan.where, "sections_by", "values", key, "defaults"))
 
 
 def _put(item: dict[str, Any], keys: tuple[str, ...], value: Any) -> None:

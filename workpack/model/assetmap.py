@@ -125,5 +125,17 @@ class AssetMap(Strict):
         description="the plant's own details (name, kind, frequency…) where no sheet "
                     "holds them", examples=[{"name": "MV Example", "kind": "vessel",
                                              "frequency": "60 Hz"}])
-    sheets: tuple[SheetMap, ...] = Field(min_length=1,
-                                         description="the sheets read, in order")
+    sheets_by_name: bool = Field(
+        default=False,
+        description="also read every sheet named like an inventory section (sources, loads…) "
+                    "or a per-element list (routine, auxiliaries…) that no entry of sheets "
+                    "names, its headers being field names; the layout `workpack export "
+                    "--what assets` writes, new fields and lists included", examples=[True])
+    sheets: tuple[SheetMap, ...] = Field(default=(), description="the sheets read, in order")
+
+    @model_validator(mode="after")
+    def _something_to_read(self) -> AssetMap:
+        if not self.sheets and not self.sheets_by_name:
+            raise ValueError("name the sheets to read (sheets), or read them by their "
+                             "names (sheets_by_name: true)")
+        return self
