@@ -201,6 +201,15 @@ def test_two_exports_are_byte_identical_with_fixed_dates(db, tmp_path) -> None:
     assert "<dcterms:modified xsi:type=\"dcterms:W3CDTF\">2026-12-01T00:00:00Z" in core
 
 
+def test_an_asset_list_does_not_depend_on_the_day(tmp_path) -> None:
+    """No table of it depends on --as-of, so the workbook carries a fixed date."""
+    outs = [tmp_path / "a.xlsx", tmp_path / "b.xlsx"]
+    for out, day in zip(outs, ("2026-12-01", "2027-02-11"), strict=True):
+        assert main(["export", "--what", "assets", "--plant", str(SITE), "--as-of", day,
+                     "--out", str(out)]) == 0
+    assert outs[0].read_bytes() == outs[1].read_bytes()
+
+
 def test_csv_goes_to_one_file_per_table(db, tmp_path, capsys) -> None:
     folder = tmp_path / "office"
     assert main(["export", "--db", str(db), "--plant", str(SITE), "--as-of", "2026-12-01",

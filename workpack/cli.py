@@ -532,7 +532,7 @@ def _cmd_export(args: argparse.Namespace) -> int:
     from workpack.history import history_from_records
     from workpack.loading import load_plant
     from workpack.output import write_all
-    from workpack.sheets import tables_to_files
+    from workpack.sheets import FIXED_STAMP, tables_to_files
     from workpack.store import open_store
 
     kinds = list(dict.fromkeys(args.what or ["records", "readings", "due"]))
@@ -559,7 +559,9 @@ def _cmd_export(args: argparse.Namespace) -> int:
                           days=args.days)
     tables = build_tables(kinds, inputs)
     out = Path(args.out)
-    stamp = dt.datetime.combine(max(as_of, dt.date(1980, 1, 1)), dt.time())
+    dated = any(TABLE_KINDS[kind].dated for kind in kinds)
+    stamp = dt.datetime.combine(max(as_of, dt.date(1980, 1, 1)), dt.time()) if dated \
+        else FIXED_STAMP
     files = tables_to_files(tables, out, stamp)
     written = write_all(out.parent if out.suffix else out, files)
     sys.stdout.write("".join(f"{t.name}: {len(t.rows)} rows\n" for t in tables)

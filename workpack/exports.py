@@ -42,6 +42,7 @@ class TableKind:
     help: str
     needs: frozenset[str]  # "plant", "records"
     build: Callable[[ExportInputs], list[Table]]
+    dated: bool = False  # depends on the as-of day (the workbook then carries that date)
 
 
 def _number(value_si: float | None, unit: str) -> float | None:
@@ -178,7 +179,7 @@ TABLE_KINDS: dict[str, TableKind] = {kind.name: kind for kind in (
     TableKind("readings", "every reading of every record, with its unit and limits",
               frozenset({"records"}), readings_table),
     TableKind("due", "routine tests falling due within --days", frozenset({"plant"}),
-              due_table),
+              due_table, dated=True),
     TableKind("assets", "the plant inventory as an asset list (import-assets reads it back)",
               frozenset({"plant"}), assets_tables),
 )}
