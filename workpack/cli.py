@@ -533,7 +533,6 @@ def _cmd_export(args: argparse.Namespace) -> int:
     from workpack.loading import load_plant
     from workpack.output import write_all
     from workpack.sheets import FIXED_STAMP, tables_to_files
-    from workpack.store import open_store
 
     kinds = list(dict.fromkeys(args.what or ["records", "readings", "due"]))
     needs = set().union(*(TABLE_KINDS[kind].needs for kind in kinds))
@@ -543,15 +542,9 @@ def _cmd_export(args: argparse.Namespace) -> int:
     if "plant" in needs and not args.plant:
         wanting = ", ".join(k for k in kinds if "plant" in TABLE_KINDS[k].needs)
         raise UsageError(f"--plant: the {wanting} table needs the plant inventory")
-    plant = load_plant(Path(args.plant))[0] if args.plant else None
-    records = None
-    db = _default_db(args) if "records" in needs or args.db or args.plant else None
-    if db is not None and "records" in needs and not db.exists() and not args.what:
-        raise UsageError(f"no records store at {db}: give --db, or --what due for the due "
-                         "list alone")
-    if db is not None and ("records" in needs or db.exists()):
-        with open_store(db, create=False) as store:
-            records = list(store.records())
+    plant = (load_plant(Path(args.plant))[0] if args.plant and (
+        "plant" in needs or Path(args.plant).is_file()) else None)
+    records = _export_records(args, needs, plant)
     history = (history_from_records(records, plant.plant.code_set.rotating_machines)
                if records is not None and plant is not None else None)
     inputs = ExportInputs(as_of=as_of, plant=plant, records=records, history=history,
@@ -567,6 +560,31 @@ def _cmd_export(args: argparse.Namespace) -> int:
     sys.stdout.write("".join(f"{t.name}: {len(t.rows)} rows\n" for t in tables)
                      + "written: " + ", ".join(str(p) for p in written) + "\n")
     return 0
+
+
+def _export_records(args: argparse.Namespace, needs: set[str], plant: Any) -> list[Any] | None:
+    """One plant's chain of records for an export: needed (records, readings), or there
+    to inform the due list; None when there is no store and none is needed."""
+    from workpack.store import is_server_url, open_store
+
+    if not ("records" in needs or args.db or args.plant):
+        return None
+    db = _default_db(args)
+    server = is_server_url(db)
+    if not server and not Path(db).exists():
+        if "records" not in needs:
+            return None  # the due list without a store: intervals only
+        if not args.what:
+            raise UsageError(f"no records store at {db}: give --db, or --what due for the "
+                             "due list alone")
+    chain = (plant.plant.name if plant is not None else _store_plant(args)) if server else None
+    if server and chain is None:
+        with open_store(db, create=False) as store:
+            names = ", ".join(store.plants()) or "none yet"
+        raise UsageError(f"--plant: name the plant whose records to export (the store holds: "
+                         f"{names})")
+    with open_store(db, plant=chain, create=False) as store:
+        return list(store.records())
 
 
 def _store_options(parser: argparse.ArgumentParser) -> None:
@@ -744,8 +762,11 @@ def build_parser() -> argparse.ArgumentParser:
                         help=f"a table to write; repeat for more (default: records, "
                              f"readings, due). {describe()}")
     export.add_argument("--plant", help="plant inventory (for due and assets; its records "
-                                        "store PLANT.records.sqlite is used if there)")
-    export.add_argument("--db", help="records store (SQLite file)")
+                                        "store PLANT.records.sqlite is used if there); with "
+                                        "a postgresql:// --db, the plant (its file or name) "
+                                        "whose records to export")
+    export.add_argument("--db", help="records store: an SQLite file, or a postgresql:// URL "
+                                     "of an office store")
     export.add_argument("--as-of", metavar="YYYY-MM-DD",
                         help="the day the due list counts from (default: today)")
     export.add_argument("--days", type=int, default=30,
