@@ -240,3 +240,23 @@ def test_export_tells_what_is_missing(tmp_path, capsys) -> None:
     assert main(["export", "--what", "due", "--plant", str(SITE), "--days", "-1",
                  "--out", str(tmp_path / "d.csv")]) == 2
     assert capsys.readouterr().err == "--days -1: give 0 or more days\n"
+
+
+def test_an_office_store_exports_the_chain_of_the_plant_named(pg_fresh_url, tmp_path,
+                                                              capsys) -> None:
+    """A PostgreSQL store keeps a chain per plant: the export takes the one named."""
+    for plant, package in (("MV Skerry Lantern", "WP-20261201-01"),
+                           ("MV Birch (invented)", "WP-20261201-02")):
+        with open_store(pg_fresh_url, plant=plant) as store:
+            store.append(package_id=package, package_sha256="0" * 64, results={},
+                         recorded_by="office", verdict="passed",
+                         recorded_at=dt.datetime(2026, 12, 1, 9, tzinfo=dt.UTC))
+    out = tmp_path / "records.csv"
+    assert main(["export", "--what", "records", "--db", pg_fresh_url, "--out", str(out)]) == 2
+    assert capsys.readouterr().err == (
+        f"{pg_fresh_url}: the store holds the records of 2 plants (MV Birch (invented), "
+        "MV Skerry Lantern); name one\n")
+    assert main(["export", "--what", "records", "--db", pg_fresh_url, "--plant",
+                 "MV Birch (invented)", "--out", str(out)]) == 0
+    table = list(csv.reader(io.StringIO(out.read_bytes().decode("utf-8-sig"))))
+    assert [row[:2] for row in table[1:]] == [["1", "WP-20261201-02"]]

@@ -577,12 +577,9 @@ def _export_records(args: argparse.Namespace, needs: set[str], plant: Any) -> li
         if not args.what:
             raise UsageError(f"no records store at {db}: give --db, or --what due for the "
                              "due list alone")
+    # An office store holds many plants' chains: the one of --plant (the store takes its
+    # only plant, or names them all when there are several and none is given).
     chain = (plant.plant.name if plant is not None else _store_plant(args)) if server else None
-    if server and chain is None:
-        with open_store(db, create=False) as store:
-            names = ", ".join(store.plants()) or "none yet"
-        raise UsageError(f"--plant: name the plant whose records to export (the store holds: "
-                         f"{names})")
     with open_store(db, plant=chain, create=False) as store:
         return list(store.records())
 
