@@ -21,6 +21,7 @@ from workpack.errors import UsageError, WorkpackError, did_you_mean
 
 # The shipped rules and weights, beside the package in a checkout.
 RULES = Path(__file__).resolve().parent.parent / "rules"
+PLANTS = RULES.parent / "plants"
 
 
 def _to_json(value: Any) -> str:
@@ -480,12 +481,13 @@ def _cmd_closeout(args: argparse.Namespace) -> int:
 
 
 def _cmd_schema(args: argparse.Namespace) -> int:
+    from workpack.model.assetmap import AssetMap
     from workpack.model.findings import Findings
     from workpack.model.plant import Plant
     from workpack.model.results import Results
 
     models: dict[str, type[BaseModel]] = {"plant": Plant, "findings": Findings,
-                                          "results": Results}
+                                          "results": Results, "asset-map": AssetMap}
     model = models[args.what]
     schema = model.model_json_schema(by_alias=True)
     schema["title"] = f"workpack {args.what} file"
@@ -528,6 +530,78 @@ def _role_plant(text: str) -> tuple[str, str]:
         raise argparse.ArgumentTypeError(f"{text!r}: expected ROLE=PLANT, e.g. "
                                          "crew_skerry='MV Skerry Lantern'")
     return role.strip(), plant.strip()
+
+
+def _cmd_import_assets(args: argparse.Namespace) -> int:
+    from workpack.model.plant import SECTIONS
+    from workpack.output import write_all
+    from workpack.sheets import import_assets
+
+    out = Path(args.out)
+    plant, text = import_assets([Path(p) for p in args.inputs], Path(args.map), str(out))
+    write_all(out.parent, {out.name: text.encode()})
+    counts = ", ".join(f"{len(getattr(plant, s))} {s}" for s in SECTIONS if getattr(plant, s))
+    sys.stdout.write(f"{plant.plant.name}: {counts}\ninventory written to {out}\n")
+    return 0
+
+
+def _cmd_export(args: argparse.Namespace) -> int:
+    import datetime as dt
+
+    from workpack.exports import TABLE_KINDS, ExportInputs, build_tables
+    from workpack.history import history_from_records
+    from workpack.loading import load_plant
+    from workpack.output import write_all
+    from workpack.sheets import FIXED_STAMP, tables_to_files
+
+    kinds = list(dict.fromkeys(args.what or ["records", "readings", "due"]))
+    needs = set().union(*(TABLE_KINDS[kind].needs for kind in kinds))
+    as_of = _date_option("--as-of", args.as_of) or dt.date.today()
+    if args.days < 0:
+        raise UsageError(f"--days {args.days}: give 0 or more days")
+    if "plant" in needs and not args.plant:
+        wanting = ", ".join(k for k in kinds if "plant" in TABLE_KINDS[k].needs)
+        raise UsageError(f"--plant: the {wanting} table needs the plant inventory")
+    plant = (load_plant(Path(args.plant))[0] if args.plant and (
+        "plant" in needs or Path(args.plant).is_file()) else None)
+    records = _export_records(args, needs, plant)
+    history = (history_from_records(records, plant.plant.code_set.rotating_machines)
+               if records is not None and plant is not None else None)
+    inputs = ExportInputs(as_of=as_of, plant=plant, records=records, history=history,
+                          standards=_standards() if plant is not None else {},
+                          days=args.days)
+    tables = build_tables(kinds, inputs)
+    out = Path(args.out)
+    dated = any(TABLE_KINDS[kind].dated for kind in kinds)
+    stamp = dt.datetime.combine(max(as_of, dt.date(1980, 1, 1)), dt.time()) if dated \
+        else FIXED_STAMP
+    files = tables_to_files(tables, out, stamp)
+    written = write_all(out.parent if out.suffix else out, files)
+    sys.stdout.write("".join(f"{t.name}: {len(t.rows)} rows\n" for t in tables)
+                     + "written: " + ", ".join(str(p) for p in written) + "\n")
+    return 0
+
+
+def _export_records(args: argparse.Namespace, needs: set[str], plant: Any) -> list[Any] | None:
+    """One plant's chain of records for an export: needed (records, readings), or there
+    to inform the due list; None when there is no store and none is needed."""
+    from workpack.store import is_server_url, open_store
+
+    if not ("records" in needs or args.db or args.plant):
+        return None
+    db = _default_db(args)
+    server = is_server_url(db)
+    if not server and not Path(db).exists():
+        if "records" not in needs:
+            return None  # the due list without a store: intervals only
+        if not args.what:
+            raise UsageError(f"no records store at {db}: give --db, or --what due for the "
+                             "due list alone")
+    # An office store holds many plants' chains: the one of --plant (the store takes its
+    # only plant, or names them all when there are several and none is given).
+    chain = (plant.plant.name if plant is not None else _store_plant(args)) if server else None
+    with open_store(db, plant=chain, create=False) as store:
+        return list(store.records())
 
 
 def _store_options(parser: argparse.ArgumentParser) -> None:
@@ -694,8 +768,46 @@ def build_parser() -> argparse.ArgumentParser:
     init.add_argument("--plant", help="SQLite only: the plant whose records the file holds")
     init.set_defaults(run=_cmd_store_init)
 
+    import_assets = commands.add_parser(
+        "import-assets", help="an asset list (spreadsheet or CSV) into a plant inventory")
+    import_assets.add_argument("inputs", nargs="+", metavar="FILE",
+                               help="workbook (.xlsx), CSV file, or a folder of CSV files "
+                                    "(one sheet each, named by the file)")
+    import_assets.add_argument("--map", default=str(PLANTS / "asset-map.yaml"),
+                               metavar="MAP.yaml",
+                               help="which sheet and column holds which field (default: "
+                                    "plants/asset-map.yaml, which reads `export --what "
+                                    "assets`)")
+    import_assets.add_argument("--out", required=True, metavar="PLANT.yaml",
+                               help="the inventory to write (only once it validates)")
+    import_assets.set_defaults(run=_cmd_import_assets)
+
+    from workpack.exports import TABLE_KINDS, describe
+
+    export = commands.add_parser(
+        "export", help="records, readings, the due list or the asset list as XLSX or CSV")
+    export.add_argument("--what", action="append", choices=list(TABLE_KINDS),
+                        help=f"a table to write; repeat for more (default: records, "
+                             f"readings, due). {describe()}")
+    export.add_argument("--plant", help="plant inventory (for due and assets; its records "
+                                        "store PLANT.records.sqlite is used if there); with "
+                                        "a postgresql:// --db, the plant (its file or name) "
+                                        "whose records to export")
+    export.add_argument("--db", help="records store: an SQLite file, or a postgresql:// URL "
+                                     "of an office store")
+    export.add_argument("--as-of", metavar="YYYY-MM-DD",
+                        help="the day the due list counts from (default: today)")
+    export.add_argument("--days", type=int, default=30,
+                        help="the due list covers tests due within this many days "
+                             "(default 30); overdue ones are always in")
+    export.add_argument("--out", required=True, metavar="FILE.xlsx|FILE.csv|DIR",
+                        help="one workbook (a sheet per table), one CSV file (one table), "
+                             "or a folder (a CSV file per table)")
+    export.set_defaults(run=_cmd_export)
+
     schema = commands.add_parser("schema", help="print the JSON Schema of an input file")
-    schema.add_argument("what", choices=["plant", "findings", "results"], help="which file")
+    schema.add_argument("what", choices=["plant", "findings", "results", "asset-map"],
+                        help="which file")
     schema.set_defaults(run=_cmd_schema)
     return parser
 
