@@ -16,7 +16,7 @@ from reportlab.graphics.shapes import Circle, Drawing, Group, Line, PolyLine, Re
 from reportlab.lib import colors
 from reportlab.lib.units import mm
 from reportlab.pdfbase.pdfmetrics import stringWidth
-from reportlab.platypus import Flowable, KeepTogether, Paragraph, Spacer, Table, TableStyle
+from reportlab.platypus import Flowable, Paragraph, Spacer, TableStyle
 
 from workpack.audit import OUTCOME_WORDS, STATUS_WORDS, AuditReport, IrTrend, PackageAudit
 from workpack.render.audit_html import (
@@ -41,8 +41,10 @@ from workpack.render.pdf import (
     FONT,
     FONT_BOLD,
     MIN_TEXT_PT,
+    KeepTogether,
     PageSize,
     PdfDocument,
+    Table,
     format_quantity,
     words,
 )

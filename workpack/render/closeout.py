@@ -25,10 +25,8 @@ from reportlab.pdfgen.canvas import Canvas
 from reportlab.platypus import (
     BaseDocTemplate,
     Flowable,
-    KeepTogether,
     Paragraph,
     Spacer,
-    Table,
     TableStyle,
 )
 
@@ -41,8 +39,10 @@ from workpack.render.pdf import (
     FONT_BOLD,
     CheckBox,
     FieldBox,
+    KeepTogether,
     PackagePdf,
     PageSize,
+    Table,
     format_quantity,
     split_field_name,
     words,
@@ -151,6 +151,21 @@ class FilledBox(Flowable):
         _, text_h = self.paragraph.wrap(self._box_width() - 2 * self.pad, availHeight)
         self.height = max(self.box_height, text_h + 2 * self.pad)
         return self.width, self.height
+
+    def split(self, availWidth: float, availHeight: float) -> list[Flowable]:
+        """An entry longer than the space left goes on in a second box (long remarks);
+        the unit stays with the first part, where the value starts."""
+        self.wrap(availWidth, availHeight)
+        if self.height <= availHeight:
+            return [self]
+        parts = self.paragraph.split(self._box_width() - 2 * self.pad,
+                                     availHeight - 2 * self.pad)
+        if len(parts) != 2:
+            return []
+        first = FilledBox(parts[0], self.suffix, min(self.box_height, availHeight),
+                          self.fixed_width, top=True)
+        rest = FilledBox(parts[1], "", 0.0, self.fixed_width, top=True)
+        return [first, rest]
 
     def draw(self) -> None:
         canv = self.canv

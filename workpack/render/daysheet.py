@@ -15,14 +15,16 @@ from typing import Any, ClassVar
 from reportlab.lib import colors
 from reportlab.lib.units import mm
 from reportlab.pdfbase.pdfmetrics import stringWidth
-from reportlab.platypus import Flowable, KeepTogether, Paragraph, Spacer, Table, TableStyle
+from reportlab.platypus import Flowable, Paragraph, Spacer, TableStyle
 
 from workpack.model.package import SignalWord, WorkPackage
 from workpack.render.pdf import (
     FONT,
     FONT_BOLD,
+    KeepTogether,
     PageSize,
     PdfDocument,
+    Table,
     format_number,
     words,
 )

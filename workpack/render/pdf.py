@@ -63,13 +63,13 @@ from reportlab.platypus import (
     BaseDocTemplate,
     Flowable,
     Frame,
-    KeepTogether,
     PageTemplate,
     Paragraph,
     Spacer,
-    Table,
     TableStyle,
 )
+from reportlab.platypus import KeepTogether as PlatypusKeepTogether
+from reportlab.platypus import Table as PlatypusTable
 
 from workpack.model.package import (
     Caution,
@@ -82,8 +82,8 @@ from workpack.model.package import (
     WorkPackage,
 )
 from workpack.render.figures import (
+    fit_sketch,
     phasor_drawing,
-    sketch_drawing,
     sketch_legend,
     sketch_width_needed,
 )
@@ -93,11 +93,13 @@ __all__ = [
     "FONT",
     "FONT_BOLD",
     "FieldBox",
+    "KeepTogether",
     "MIN_TEXT_PT",
     "PackagePdf",
     "PageSize",
     "PagedCanvas",
     "PdfDocument",
+    "Table",
     "field_name",
     "format_number",
     "format_quantity",
@@ -205,6 +207,76 @@ def expected_text(reading: Reading) -> str:
 def words(text: str) -> str:
     """Package text made safe for reportlab's paragraph markup; line breaks kept."""
     return escape(text).replace("\n", "<br/>")
+
+
+# --- tables that never fail to fit -----------------------------------------------------
+
+class Table(PlatypusTable):
+    """reportlab's table that can also split inside a row, so a cell of any length flows
+    on to the next page instead of stopping the document with a ``LayoutError``.
+
+    Rows stay whole wherever they can: a row is cut only when nothing stands above the
+    table on its page (moving it on would not help) or when the row is taller than a whole
+    page (then it starts filling the page it is on). The header rows (``repeatRows``) are
+    repeated on every page the table reaches. Use it for every table in a document.
+    """
+
+    def __init__(self, data: Any, *args: Any, **kwargs: Any) -> None:
+        kwargs.setdefault("splitInRow", 1)  # the smallest part of a row that may be cut (pt)
+        super().__init__(data, *args, **kwargs)
+
+    def split(self, availWidth: float, availHeight: float) -> list[Flowable]:
+        self._calc(availWidth, availHeight)
+        heights = list(self._rowHeights)
+        headers = sum(heights[:self._repeat_count()])
+        reached, stop = 0.0, len(heights)  # stop: the first row that does not fit here
+        for index, height in enumerate(heights):
+            reached += height
+            if reached > availHeight:
+                stop = index
+                break
+        frame = getattr(self, "_frame", None)  # set by the frame; absent inside a cell
+        never_fits = (stop < len(heights) and frame is not None
+                      and headers + heights[stop] > frame._aH)
+        if never_fits:  # fill this page with the start of that row
+            return self._cut_inside_row(availHeight) or list(
+                self._splitRows(availHeight, doInRowSplit=0))
+        whole_rows = list(self._splitRows(availHeight, doInRowSplit=0))
+        if whole_rows or (frame is not None and not frame._atTop):
+            return whole_rows  # an empty list moves the table to a fresh page
+        return self._cut_inside_row(availHeight)
+
+    def _cut_inside_row(self, availHeight: float) -> list[Flowable]:
+        parts = self._splitRows(availHeight, doInRowSplit=1)
+        if len(parts) == 2 and not any(_has_content(cell) for cell in parts[0]._cellvalues[-1]):
+            return []  # nothing of the cut row would go on this page: no progress
+        return list(parts)
+
+    def _repeat_count(self) -> int:
+        rows = self.repeatRows
+        return rows if isinstance(rows, int) else max(rows, default=-1) + 1
+
+
+class KeepTogether(PlatypusKeepTogether):
+    """reportlab's group kept on one page; a group taller than a whole page cannot be, so it
+    starts where it is when a third of the page is left, rather than leaving that third
+    blank. Also used for the groups reportlab makes of a heading and what follows it."""
+
+    def split(self, aW: float, aH: float) -> list[Flowable]:
+        if getattr(self, "_wrapInfo", None) != (aW, aH):
+            self.wrap(aW, aH)
+        frame = getattr(self, "_frame", None)
+        if frame is not None and self._H > frame._aH and aH >= frame._aH / 3:
+            return list(self._content)
+        return list(super().split(aW, aH))
+
+
+def _has_content(cell: Any) -> bool:
+    if isinstance(cell, str):
+        return bool(cell)
+    if isinstance(cell, list | tuple):
+        return any(_has_content(part) for part in cell)
+    return cell is not None
 
 
 # --- canvas and flowables for fields ----------------------------------------------------
@@ -358,6 +430,9 @@ class PdfDocument:
         register_fonts()
         self.page_size = PAGE_SIZES[page_size]
         self.width = self.page_size[0] - 2 * self.margin_mm * mm
+        # the body frame's height: nothing placed whole may be taller (points)
+        self.height = (self.page_size[1] - 2 * self.margin_mm * mm
+                       - (self.header_mm + self.footer_mm) * mm)
         self.style = self.stylesheet()
 
     # what subclasses fill in
@@ -462,14 +537,14 @@ class PdfDocument:
     def render(self) -> bytes:
         width, height = self.page_size
         margin = self.margin_mm * mm
-        frame = Frame(margin, margin + self.footer_mm * mm, width - 2 * margin,
-                      height - 2 * margin - self.header_mm * mm - self.footer_mm * mm,
+        frame = Frame(margin, margin + self.footer_mm * mm, width - 2 * margin, self.height,
                       leftPadding=0, rightPadding=0, topPadding=0, bottomPadding=0, id="body")
         buffer = io.BytesIO()
         doc = BaseDocTemplate(buffer, pagesize=self.page_size, leftMargin=margin,
                               rightMargin=margin, topMargin=margin, bottomMargin=margin,
                               title=self.document_title, subject=self.document_id,
                               author="workpack", creator="workpack", invariant=1,
+                              keepTogetherClass=KeepTogether,
                               pageTemplates=[PageTemplate("page", [frame],
                                                           onPage=self._on_page)])
         canvasmaker = functools.partial(PagedCanvas, finish_page=self.draw_page_count,
@@ -515,6 +590,7 @@ class PackagePdf(PdfDocument):
 
     field_height_mm: ClassVar[float] = 8.5
     figure_gap_mm: ClassVar[float] = 4.0
+    sketch_reserve_mm: ClassVar[float] = 55.0  # headings and notes around the sketch
 
     def __init__(self, package: WorkPackage, page_size: PageSize = "A4") -> None:
         super().__init__(page_size)
@@ -681,10 +757,14 @@ class PackagePdf(PdfDocument):
                       phasor_drawing(p.phasor, phasor_width, FONT, FONT_BOLD, volts)]
         sketch: list[Flowable] = []
         if p.sketch is not None:
-            width = half if side_by_side else min(self.width, max(half, sketch_needs))
-            sketch = [Paragraph("One-line sketch", self.style["sub"]),
-                      sketch_drawing(p.sketch, width, FONT, FONT_BOLD), Spacer(1, 1 * mm),
-                      *[Paragraph(words(n), self.style["small"]) for n in sketch_legend()]]
+            widths = (half, half) if side_by_side else (half, self.width)
+            # room for the figure headings and the notes under the drawing
+            fitted = fit_sketch(p.sketch, widths, self.height - self.sketch_reserve_mm * mm,
+                                FONT, FONT_BOLD)
+            sketch = [Paragraph("One-line sketch", self.style["sub"]), fitted.drawing,
+                      Spacer(1, 1 * mm),
+                      *[Paragraph(words(n), self.style["small"])
+                        for n in (*sketch_legend(), *fitted.notes)]]
         if side_by_side:
             table = Table([[[*phasor, Spacer(1, 1 * mm), *self.phasor_notes()], sketch]],
                           colWidths=[half + gap, half], hAlign="LEFT")
