@@ -123,7 +123,8 @@ class AuditPdf(PdfDocument):
         ids += [i.package_id for i in report.open_isolations]
         ids += [p.package_id for t in report.trends for p in t.points]
         widest = max((stringWidth(i, FONT_BOLD, 10) for i in ids), default=0.0)
-        self.id_mm = max(28.0, (widest + 2 * 1.6 * mm + 2) / mm)
+        # but never so wide that the other columns vanish: a longer id wraps
+        self.id_mm = min(44.0, max(28.0, (widest + 2 * 1.6 * mm + 2) / mm))
 
     def header_right(self) -> str:
         return self.report.filter.plant or "all plants"

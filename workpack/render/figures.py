@@ -286,14 +286,16 @@ def _reach(start: str, links: dict[str, list[str]]) -> set[str]:
     return seen
 
 
-def _shortened(text: str, face: str, room: float) -> str:
-    """``text`` cut to fit ``room`` points at the figure size, ending in "…"."""
-    if stringWidth(text, face, FIGURE_TEXT_PT) <= room:
+def shortened(text: str, face: str, room: float, size: float = FIGURE_TEXT_PT) -> str:
+    """``text`` as drawn in ``face`` at ``size`` pt, cut to fit ``room`` points and then
+    ending in "…" (unchanged when it fits). For lines drawn straight on the page, which
+    cannot wrap; whoever cuts a text says where it stands in full."""
+    if stringWidth(text, face, size) <= room:
         return text
     low, high = 0, len(text)
     while low < high:
         middle = (low + high + 1) // 2
-        if stringWidth(text[:middle] + "…", face, FIGURE_TEXT_PT) <= room:
+        if stringWidth(text[:middle] + "…", face, size) <= room:
             low = middle
         else:
             high = middle - 1
@@ -307,7 +309,7 @@ def _shorten_labels(sketch: Sketch, room: float, font: str,
     cut = False
     for node in sketch.nodes:
         space = room - 4 * mm - _NODE_GAP - (_LOCK_W if node.isolate else 0.0)
-        label = _shortened(node.label, _face(node, font, bold), max(space, 6 * mm))
+        label = shortened(node.label, _face(node, font, bold), max(space, 6 * mm))
         cut = cut or label != node.label
         nodes.append(node.model_copy(update={"label": label}) if label != node.label else node)
     return Sketch(nodes=tuple(nodes), edges=sketch.edges), cut

@@ -84,6 +84,7 @@ from workpack.model.package import (
 from workpack.render.figures import (
     fit_sketch,
     phasor_drawing,
+    shortened,
     sketch_legend,
     sketch_width_needed,
 )
@@ -103,6 +104,7 @@ __all__ = [
     "field_name",
     "format_number",
     "format_quantity",
+    "listed",
     "register_fonts",
     "render_package",
     "split_field_name",
@@ -202,6 +204,15 @@ def expected_text(reading: Reading) -> str:
     if reading.tolerance is not None:
         text += f" ± {format_quantity(reading.tolerance, reading.unit)}"
     return text
+
+
+def listed(ids: Sequence[str], at_most: int, whole_list_in: str) -> str:
+    """Ids joined by commas; past ``at_most`` the rest are counted and the reader is sent
+    to where the whole list is (a rounds log can give one package ten thousand findings)."""
+    if len(ids) <= at_most:
+        return ", ".join(ids)
+    return (", ".join(ids[:at_most]) + f" and {len(ids) - at_most:,} more "
+            f"(all {len(ids):,} are listed in {whole_list_in})")
 
 
 def words(text: str) -> str:
@@ -497,12 +508,17 @@ class PdfDocument:
         width, height = self.page_size
         left, right = self.margin_mm * mm, width - self.margin_mm * mm
         base = height - self.margin_mm * mm - 6 * mm
+        # running lines cannot wrap: a long id or plant name is shortened with "…" here
+        # and stands in full in the body (the job table, the record's facts)
+        document_id = shortened(self.document_id, FONT_BOLD, (right - left) * 0.6, 12)
+        id_width = pdfmetrics.stringWidth(document_id, FONT_BOLD, 12)
         canv.saveState()
         canv.setFillColor(colors.black)
         canv.setFont(FONT_BOLD, 12)
-        canv.drawString(left, base, self.document_id)
+        canv.drawString(left, base, document_id)
         canv.setFont(FONT, 10)
-        canv.drawRightString(right, base, self.header_right())
+        canv.drawRightString(right, base, shortened(self.header_right(), FONT,
+                                                    right - left - id_width - 6 * mm, 10))
         canv.setLineWidth(1.2)
         canv.line(left, base - 2.5 * mm, right, base - 2.5 * mm)
         canv.restoreState()
@@ -515,9 +531,12 @@ class PdfDocument:
         canv.setLineWidth(0.8)
         canv.line(left, top, right, top)
         canv.setFont(FONT, self.small_pt)
-        canv.drawString(left, top - 4.5 * mm, self.footer_note())
+        canv.drawString(left, top - 4.5 * mm,
+                        shortened(self.footer_note(), FONT, right - left, self.small_pt))
         canv.setFont(FONT_BOLD, 10)
-        canv.drawString(left, top - 9.5 * mm, self.document_id)
+        page_count_room = pdfmetrics.stringWidth("Page 9999 of 9999", FONT_BOLD, 10) + 6 * mm
+        canv.drawString(left, top - 9.5 * mm, shortened(self.document_id, FONT_BOLD,
+                                                        right - left - page_count_room, 10))
         canv.restoreState()
 
     def draw_page_count(self, canv: Canvas, number: int, total: int) -> None:
@@ -591,6 +610,7 @@ class PackagePdf(PdfDocument):
     field_height_mm: ClassVar[float] = 8.5
     figure_gap_mm: ClassVar[float] = 4.0
     sketch_reserve_mm: ClassVar[float] = 55.0  # headings and notes around the sketch
+    listed_at_most: ClassVar[int] = 30  # ids in one cell; the rest are counted
 
     def __init__(self, package: WorkPackage, page_size: PageSize = "A4") -> None:
         super().__init__(page_size)
@@ -634,7 +654,8 @@ class PackagePdf(PdfDocument):
 
         origin = [f"rule {p.origin.rule}"]
         if p.origin.findings:
-            origin.append("findings " + ", ".join(p.origin.findings))
+            origin.append("findings " + listed(p.origin.findings, self.listed_at_most,
+                                               f"the package's file {p.id}.json"))
         if p.origin.routine:
             origin.append(f"routine {p.origin.routine}")
         rows = [
