@@ -250,14 +250,19 @@ class Table(PlatypusTable):
         never_fits = (stop < len(heights) and frame is not None
                       and headers + heights[stop] > frame._aH)
         if never_fits:  # fill this page with the start of that row
-            return self._cut_inside_row(availHeight) or list(
+            return self._cut_inside_row(availHeight, stop) or list(
                 self._splitRows(availHeight, doInRowSplit=0))
         whole_rows = list(self._splitRows(availHeight, doInRowSplit=0))
-        if whole_rows or (frame is not None and not frame._atTop):
+        if whole_rows or (frame is not None and not frame._atTop) or stop >= len(heights):
             return whole_rows  # an empty list moves the table to a fresh page
-        return self._cut_inside_row(availHeight)
+        return self._cut_inside_row(availHeight, stop)
 
-    def _cut_inside_row(self, availHeight: float) -> list[Flowable]:
+    def _cut_inside_row(self, availHeight: float, row: int) -> list[Flowable]:
+        # a row taller than a page is read from its top: centring it would leave its
+        # parts floating (and reportlab's cut of a centred row loses track of its height)
+        self._cellStyles[row] = [style.copy() for style in self._cellStyles[row]]
+        for style in self._cellStyles[row]:
+            style.valign = "TOP"
         parts = self._splitRows(availHeight, doInRowSplit=1)
         if len(parts) == 2 and not any(_has_content(cell) for cell in parts[0]._cellvalues[-1]):
             return []  # nothing of the cut row would go on this page: no progress
