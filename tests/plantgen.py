@@ -264,3 +264,26 @@ def findings_data(plant: dict[str, Any], date: str = "2026-12-01") -> dict[str, 
                       "where": plant["transformers"][-1]["id"], "unit": "BC",
                       "state": "failed"})
     return {"date": date, "findings": items}
+
+
+def random_findings_data(plant: dict[str, Any], count: int, seed: int = 7,
+                         date: str = "2026-12-01") -> dict[str, Any]:
+    """Invented findings on random items of ``random_plant_data``: low megger readings,
+    tripped breakers and serious defects, in turn."""
+    rng = random.Random(seed)
+    motors = [load["id"] for load in plant["loads"] if load["kind"] == "motor"]
+    breakers = [d["id"] for d in plant["devices"] if d["kind"] == "circuit_breaker"]
+    items: list[dict[str, Any]] = []
+    for n in range(count):
+        at = f"{date}T{6 + n % 12:02d}:{n % 60:02d}"
+        if n % 3 == 0:
+            items.append({"kind": "insulation_resistance", "at": at, "by": "x",
+                          "where": rng.choice(motors), "test_voltage": "500 V",
+                          "reading": f"{rng.uniform(0.5, 4):.2f} MΩ", "temperature": "25 °C"})
+        elif n % 3 == 1:
+            items.append({"kind": "breaker_tripped", "at": at, "by": "x",
+                          "where": rng.choice(breakers)})
+        else:
+            items.append({"kind": "defect", "at": at, "by": "x", "where": rng.choice(motors),
+                          "text": "terminal box cover loose", "severity": "high"})
+    return {"date": date, "findings": items}
