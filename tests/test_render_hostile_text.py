@@ -99,6 +99,12 @@ def test_the_package_prints_every_word(hostile: Any, tmp_path: Path) -> None:
     check(data, texts, tmp_path, "package")
     assert DEVICE in unbroken(data)  # the isolation table wraps the id, whole
     assert render_package(package) == data
+    for page in PdfReader(io.BytesIO(data)).pages:  # a cut row still says what it is
+        text = page.extract_text()
+        if any(word.startswith("cau") for word in text.split()):
+            assert "DANGER" in text
+        if any(word.startswith("prr") for word in text.split()):
+            assert "Priority" in text
 
 
 def test_the_day_sheet_prints_every_word(hostile: Any, tmp_path: Path) -> None:

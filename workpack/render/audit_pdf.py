@@ -142,7 +142,7 @@ class AuditPdf(PdfDocument):
         get heavy rules above and below, so they stand out in black and white."""
         body = [[self.para(c) if isinstance(c, str) else c for c in row] for row in rows]
         table = Table([[self.para(h, "head") for h in head], *body],
-                      colWidths=self.cols(*widths_mm), repeatRows=1)
+                      colWidths=self.cols(*widths_mm), repeatRows=1, repeat_when_cut=(0,))
         style: list[tuple[Any, ...]] = [*_GRID, *_HEAD_ROW]
         for i in flagged:
             style += [("LINEABOVE", (0, i + 1), (-1, i + 1), 2.2, colors.black),

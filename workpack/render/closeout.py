@@ -328,7 +328,7 @@ class CloseoutPdf(PackagePdf):
                 ("Recorded by", r.recorded_by), ("Recorded at", utc_text(r.recorded_at)),
                 ("Chain hash", r.chain_sha256), ("Answers", matches)]
         table = Table([[Paragraph(words(k), label), Paragraph(words(v), cell)] for k, v in rows],
-                      colWidths=self.cols(34, 148))
+                      colWidths=self.cols(34, 148), repeat_when_cut=(0,))
         table.setStyle(TableStyle([("GRID", (0, 0), (-1, -1), 0.7, colors.black),
                                    ("VALIGN", (0, 0), (-1, -1), "TOP")]))
         return [table]
@@ -341,7 +341,7 @@ class CloseoutPdf(PackagePdf):
         rows = [[Mark("cross" if d.fails else "bar", "FAILS" if d.fails else "INCOMPLETE"),
                  Paragraph(words(d.text), self.style["cell"])]
                 for d in self.evaluation.deviations]
-        table = Table(rows, colWidths=self.cols(36, 146), repeatRows=0)
+        table = Table(rows, colWidths=self.cols(36, 146), repeat_when_cut=(0,))
         table.setStyle(TableStyle([("GRID", (0, 0), (-1, -1), 0.7, colors.black),
                                    ("VALIGN", (0, 0), (-1, -1), "MIDDLE")]))
         return [*out, table]

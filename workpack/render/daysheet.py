@@ -112,7 +112,7 @@ class DaySheetPdf(PdfDocument):
         rest = self.width - sum(widths)
         widths[4] = rest * 0.32
         widths[3] = rest - widths[4]
-        table = Table(rows, colWidths=widths, repeatRows=1)
+        table = Table(rows, colWidths=widths, repeatRows=1, repeat_when_cut=(0, 1, 2))
         table.setStyle(TableStyle([
             ("GRID", (0, 0), (-1, -1), 0.7, colors.black),
             ("BOX", (0, 0), (-1, -1), 1.4, colors.black),

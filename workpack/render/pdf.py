@@ -42,6 +42,7 @@ drawn on the page itself, so the paper copy prints the same boxes for a pen.
 
 from __future__ import annotations
 
+import copy
 import datetime as dt
 import functools
 import io
@@ -229,14 +230,26 @@ class Table(PlatypusTable):
     Rows stay whole wherever they can: a row is cut only when nothing stands above the
     table on its page (moving it on would not help) or when the row is taller than a whole
     page (then it starts filling the page it is on). The header rows (``repeatRows``) are
-    repeated on every page the table reaches. Use it for every table in a document.
+    repeated on every page the table reaches; the cells of the columns in
+    ``repeat_when_cut`` (labels, signal words, ids) are repeated beside each part of a
+    cut row, so a page that starts inside a row still says what the row is. Use it for
+    every table in a document.
     """
 
-    def __init__(self, data: Any, *args: Any, **kwargs: Any) -> None:
+    def __init__(self, data: Any, *args: Any, repeat_when_cut: Sequence[int] = (),
+                 **kwargs: Any) -> None:
         kwargs.setdefault("splitInRow", 1)  # the smallest part of a row that may be cut (pt)
         super().__init__(data, *args, **kwargs)
+        self.repeat_when_cut = tuple(repeat_when_cut)
 
     def split(self, availWidth: float, availHeight: float) -> list[Flowable]:
+        parts = self._parts(availWidth, availHeight)
+        for part in parts:  # reportlab makes the parts without our settings
+            if isinstance(part, Table):
+                part.repeat_when_cut = self.repeat_when_cut
+        return parts
+
+    def _parts(self, availWidth: float, availHeight: float) -> list[Flowable]:
         self._calc(availWidth, availHeight)
         heights = list(self._rowHeights)
         headers = sum(heights[:self._repeat_count()])
@@ -263,10 +276,30 @@ class Table(PlatypusTable):
         self._cellStyles[row] = [style.copy() for style in self._cellStyles[row]]
         for style in self._cellStyles[row]:
             style.valign = "TOP"
+        labels = {column: self._cellvalues[row][column] for column in self.repeat_when_cut}
         parts = self._splitRows(availHeight, doInRowSplit=1)
         if len(parts) == 2 and not any(_has_content(cell) for cell in parts[0]._cellvalues[-1]):
             return []  # nothing of the cut row would go on this page: no progress
+        if len(parts) == 2:
+            parts[1]._repeat_labels(parts[1]._repeat_count(), labels)
         return list(parts)
+
+    def _repeat_labels(self, row: int, labels: dict[int, Any]) -> None:
+        """Put ``labels`` (column -> cell) into the empty cells of ``row``, made tall
+        enough for them."""
+        for column, value in labels.items():
+            if _has_content(self._cellvalues[row][column]) or not _has_content(value):
+                continue
+            cell = [copy.copy(part) for part in value] if isinstance(value, list | tuple) \
+                else copy.copy(value)
+            self._cellvalues[row][column] = cell
+            if isinstance(cell, list):
+                style = self._cellStyles[row][column]
+                needed = (self._listCellGeom(cell, self._colWidths[column], style)[1]
+                          + style.topPadding + style.bottomPadding)
+                if self._argH is not None and self._argH[row] is not None \
+                        and needed > self._argH[row]:
+                    self._argH[row] = needed
 
     def _repeat_count(self) -> int:
         rows = self.repeatRows
@@ -673,7 +706,7 @@ class PackagePdf(PdfDocument):
             + pair("Permits", ", ".join(p.permits) or "none listed"),
             pair("Origin", "; ".join(origin)) + ["", ""],
         ]
-        table = Table(rows, colWidths=self.cols(24, 67, 24, 67))
+        table = Table(rows, colWidths=self.cols(24, 67, 24, 67), repeat_when_cut=(0, 2))
         table.setStyle(TableStyle([*_GRID, ("SPAN", (1, 5), (3, 5)),
                                    ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
         return [self.numbered("The job"), table]
@@ -688,7 +721,7 @@ class PackagePdf(PdfDocument):
         word_cell = Paragraph(word.value, self.style["signal_white" if reversed_word
                                                      else "signal"])
         table = Table([[word_cell, Paragraph(words(caution.text), self.style["cell"])]],
-                      colWidths=self.cols(30, 152))
+                      colWidths=self.cols(30, 152), repeat_when_cut=(0,))
         style: list[tuple[Any, ...]] = [
             ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
             ("TOPPADDING", (0, 0), (-1, -1), 2 * mm),
@@ -1031,7 +1064,7 @@ class PackagePdf(PdfDocument):
              FieldBox(field_name("remarks"), "remarks", height=30 * mm, multiline=True,
                       max_length=2000)],
         ]
-        table = Table(rows, colWidths=self.cols(50, 132))
+        table = Table(rows, colWidths=self.cols(50, 132), repeat_when_cut=(0,))
         table.setStyle(TableStyle([*_GRID, ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
                                    ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
         return [KeepTogether([self.numbered("Sign-off"), table])]
