@@ -7,6 +7,9 @@ at 0°, the second at -120°, the third at +120°) and the earth point in the sa
 the whole picture is turned by 90° so the first phase points up, which changes nothing
 but the look. Labels carry the measured values, never a number the package lacks.
 Sizes are points; no text is smaller than ``FIGURE_TEXT_PT``.
+
+The sketch is fitted to the room the page gives it (``fit_sketch``): never by shrinking
+the type, but by drawing less and saying so under it, so a plant of any size plans.
 """
 
 from __future__ import annotations
@@ -250,7 +253,7 @@ def _height(rows: Sequence[Sequence[SketchNode]]) -> float:
 # type size), step by step, and a note under it says what was left out.
 
 MIN_SKETCH_HEIGHT = _NODE_H + 2 * _ROW_GAP  # one row: the item alone
-MAX_ROWS_PER_LAYER = 1  # a wrapped layer's lines pass behind the boxes of its next row
+MAX_ROWS_PER_LAYER = 1  # wrapped, a layer's lines would pass behind its own boxes
 
 
 class FittedSketch:
@@ -273,19 +276,6 @@ def _neighbours(sketch: Sketch) -> tuple[dict[str, list[str]], dict[str, list[st
     return supplies, loads
 
 
-def _reach(start: str, links: dict[str, list[str]]) -> set[str]:
-    """Every node reached from ``start`` along ``links`` (``start`` excluded)."""
-    seen: set[str] = set()
-    todo = list(links[start])
-    while todo:
-        node_id = todo.pop()
-        if node_id not in seen:
-            seen.add(node_id)
-            todo.extend(links[node_id])
-    seen.discard(start)
-    return seen
-
-
 def shortened(text: str, face: str, room: float, size: float = FIGURE_TEXT_PT) -> str:
     """``text`` as drawn in ``face`` at ``size`` pt, cut to fit ``room`` points and then
     ending in "…" (unchanged when it fits). For lines drawn straight on the page, which
@@ -302,17 +292,14 @@ def shortened(text: str, face: str, room: float, size: float = FIGURE_TEXT_PT) -
     return text[:low] + "…"
 
 
-def _shorten_labels(sketch: Sketch, room: float, font: str,
-                    bold: str) -> tuple[Sketch, bool]:
+def _shorten_labels(sketch: Sketch, room: float, font: str, bold: str) -> Sketch:
     """Labels cut so that every box fits one row of ``room`` points."""
     nodes = []
-    cut = False
     for node in sketch.nodes:
         space = room - 4 * mm - _NODE_GAP - (_LOCK_W if node.isolate else 0.0)
         label = shortened(node.label, _face(node, font, bold), max(space, 6 * mm))
-        cut = cut or label != node.label
         nodes.append(node.model_copy(update={"label": label}) if label != node.label else node)
-    return Sketch(nodes=tuple(nodes), edges=sketch.edges), cut
+    return Sketch(nodes=tuple(nodes), edges=sketch.edges)
 
 
 def _elide_runs(sketch: Sketch) -> tuple[Sketch, int]:
@@ -394,12 +381,10 @@ def _with_paths(sketch: Sketch, units: Sequence[str]) -> Sketch:
     for unit in units:
         keep.add(unit)
         node_id = unit
-        while supplies[node_id]:  # up: the first supply, never round a loop
+        while supplies[node_id]:  # up: the first supply each time
             node_id = min(supplies[node_id], key=preferred)
-            if node_id in keep and node_id != unit and node_id not in items:
-                break
-            if node_id == unit:
-                break
+            if node_id in keep:
+                break  # joins what is drawn already (or came round a loop)
             keep.add(node_id)
         came_from: dict[str, str] = {unit: unit}  # down: the shortest path to an item
         frontier = [unit]
@@ -449,7 +434,7 @@ def fit_sketch(sketch: Sketch, width: tuple[float, float], max_height: float, fo
     def summarised(candidate: Sketch) -> tuple[Sketch, int, int]:
         merged, boards = _elide_runs(candidate)
         merged, parallel = _merge_parallel_supplies(merged)
-        return _shorten_labels(merged, room, font, bold)[0], boards, parallel
+        return _shorten_labels(merged, room, font, bold), boards, parallel
 
     def finished(candidate: Sketch, boards: int, parallel: int,
                  notes: list[str]) -> FittedSketch:
@@ -464,7 +449,7 @@ def fit_sketch(sketch: Sketch, width: tuple[float, float], max_height: float, fo
         drawing = sketch_drawing(candidate, width_for(candidate), font, bold)
         return FittedSketch(drawing, notes)
 
-    whole = _shorten_labels(sketch, room, font, bold)[0]
+    whole = _shorten_labels(sketch, room, font, bold)
     if fits(whole):
         return finished(whole, 0, 0, [])
     shown, boards, parallel = summarised(sketch)
