@@ -171,8 +171,8 @@ def test_csv_errors_name_row_and_column(demo_vessel: Topology) -> None:
         load_findings_text("at,by,where,kind,A,B,C\n2026-12-01T07:00,x,GD-MSB,phase_voltages,"
                            "400,60 A,470\n", "rounds.csv", demo_vessel)
     assert caught.value.format_message() == (
-        "rounds.csv:2:46: findings[0].volts.B: 'A' is not a unit of voltage "
-        "(expected something like V)")
+        "rounds.csv:2:46: findings[0].volts.B: 'A' is not a unit of voltage: it is a unit "
+        "of current (expected something like V)")
 
 
 def test_findings_naming_unknown_places_and_phases_are_refused(demo_vessel) -> None:

@@ -27,8 +27,8 @@ from workpack.units import UnitProblem, to_si
 DEAD_BELOW_V = 1.0
 
 UNIT_KIND = {"V": "voltage", "A": "current", "Ω": "resistance", "kΩ": "resistance",
-             "MΩ": "resistance", "kVA": "power", "Hz": "frequency", "s": "time",
-             "°C": "temperature"}
+             "MΩ": "resistance", "kVA": "apparent_power", "kW": "real_power",
+             "Hz": "frequency", "s": "time", "°C": "temperature"}
 
 Verdict = Literal["passed", "failed", "incomplete"]
 Path = tuple[str | int, ...]
