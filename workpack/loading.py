@@ -6,25 +6,47 @@ validated data for the pure core.
 
 from __future__ import annotations
 
+import io
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any, TypeVar
 
 from pydantic import BaseModel, ValidationError
 
-from workpack.checks import Mismatch, check_findings, run_checks
+from workpack.checks import (
+    Mismatch,
+    check_findings,
+    check_references,
+    check_unique_ids,
+    run_checks,
+)
 from workpack.errors import InputError, Problem, did_you_mean
 from workpack.model.findings import Findings
 from workpack.model.package import WorkPackage
-from workpack.model.plant import Plant
+from workpack.model.plant import (
+    Auxiliary,
+    Bus,
+    Cable,
+    CableType,
+    Detector,
+    Device,
+    Load,
+    Plant,
+    Source,
+    Transformer,
+)
 from workpack.model.results import Results
 from workpack.model.rules import CautionLibrary, RuleFile
 from workpack.model.weights import SearchWeights
 from workpack.rules import RuleSet, build_ruleset
 from workpack.topology import Topology
-from workpack.yamlsource import Marks, TableMarks, parse_yaml
+from workpack.yamlsource import Marks, TableMarks, find_unprintable, format_path, parse_yaml
 
 Model = TypeVar("Model", bound=BaseModel)
+
+PLANT_SECTIONS: dict[str, type[BaseModel]] = {
+    "sources": Source, "buses": Bus, "devices": Device, "transformers": Transformer,
+    "cables": Cable, "loads": Load}
 
 
 def read_text(path: Path) -> str:
@@ -138,10 +160,86 @@ def _located(marks: Marks, mismatches: list[Mismatch]) -> list[Problem]:
     return problems
 
 
+def _below(path: str, problems: list[Problem]) -> bool:
+    """True when ``path`` lies at or below a field some problem already reports."""
+    return any(path == p.path or path.startswith((p.path + ".", p.path + "["))
+               for p in problems if p.path)
+
+
+def _standing_in(model: type[Model], entry: dict[str, Any]) -> Model | None:
+    """``entry`` as ``model`` when it is valid; else a stand-in with only its names.
+
+    The stand-in keeps the id and the references (when they are well-formed) so
+    that the reference checks can run on a plant with schema errors: other
+    entries that name it find it, and its own references are still checked.
+    """
+    try:
+        return model.model_validate(entry)
+    except ValidationError:
+        pass
+    if not isinstance(entry.get("id"), str):
+        return None
+    fields: dict[str, Any] = {"id": entry["id"]}
+    supply = entry.get("from")
+    supplies = [supply] if isinstance(supply, str) else supply
+    if "from_" in model.model_fields:
+        fields["from_"] = (tuple(supplies) if isinstance(supplies, list) and supplies
+                           and all(isinstance(s, str) for s in supplies) else ())
+    if isinstance(entry.get("cable_type"), str):
+        fields["cable_type"] = entry["cable_type"]
+    if "auxiliaries" in model.model_fields:
+        auxiliaries: Any = entry.get("auxiliaries")
+        readable = isinstance(auxiliaries, list) and all(
+            isinstance(a, dict) and isinstance(a.get("from"), str) for a in auxiliaries)
+        fields["auxiliaries"] = tuple(
+            Auxiliary.model_construct(from_=a["from"])  # type: ignore[call-arg]
+            for a in auxiliaries) if readable else ()
+    if "detector" in model.model_fields:
+        detector: Any = entry.get("detector")
+        readable = isinstance(detector, dict) and isinstance(detector.get("id"), str)
+        fields["detector"] = (Detector.model_construct(id=detector["id"])  # type: ignore[call-arg]
+                              if readable else None)
+    return model.model_construct(**fields)
+
+
+def _references_despite_schema(data: Any, schema: list[Problem]) -> list[Mismatch]:
+    """The reference checks, run on what of a schema-invalid plant is readable.
+
+    Only when the file's outline is sound (known sections, each a list of
+    entries): with a section misspelled or malformed, every reference into it
+    would look broken and the real mistake would drown.
+    """
+    if not isinstance(data, dict) or set(data) - set(Plant.model_fields):
+        return []
+    sections: dict[str, Any] = {}
+    models: dict[str, type[BaseModel]] = {"cable_types": CableType, **PLANT_SECTIONS}
+    for section, model in models.items():
+        entries = data.get(section) or []
+        if not isinstance(entries, list) or not all(isinstance(e, dict) for e in entries):
+            return []
+        standing = [_standing_in(model, entry) for entry in entries]
+        if any(s is None for s in standing):
+            return []  # an entry without an id: references to it cannot be judged
+        sections[section] = tuple(standing)
+    partial = Plant.model_construct(**sections)
+    found = [*check_unique_ids(partial), *check_references(partial)]
+    return [m for m in found if not _below(format_path(m.path), schema)]
+
+
 def load_plant_text(text: str, file: str) -> tuple[Plant, Topology]:
-    """Parse, validate and check a plant; raise InputError listing every problem."""
+    """Parse, validate and check a plant; raise InputError listing every problem.
+
+    Schema problems and reference problems come in the same run where the file
+    parses; the checks that need a whole plant (loops, voltages, what is fed) wait
+    for a valid one.
+    """
     data, marks = parse_yaml(text, file)
-    plant = validate(Plant, data, marks, "plant inventory")
+    try:
+        plant = validate(Plant, data, marks, "plant inventory")
+    except InputError as error:
+        schema = list(error.problems)
+        raise InputError([*schema, *_located(marks, _references_despite_schema(data, schema))]
+                         ) from None
     findings, topology = run_checks(plant)
     if findings:
         raise InputError(_located(marks, findings))
@@ -159,11 +257,48 @@ def load_findings_text(text: str, file: str, topology: Topology) -> Findings:
         data, marks = findings_from_csv(text, file, topology.plant.plant.phase_labels)
     else:
         data, marks = parse_yaml(text, file)
-    findings = validate(Findings, data, marks, "findings file")
+    try:
+        findings = validate(Findings, data, marks, "findings file")
+    except InputError as error:
+        schema = list(error.problems)
+        raise InputError([*schema, *_located(marks, _places_despite_schema(data, schema,
+                                                                           topology))]) from None
     mismatches = list(check_findings(findings, topology))
     if mismatches:
         raise InputError(_located(marks, mismatches))
     return findings
+
+
+def _places_despite_schema(data: Any, schema: list[Problem],
+                           topology: Topology) -> list[Mismatch]:
+    """The place checks of findings, run on the findings that are readable.
+
+    A finding the schema refused still has its ``where`` checked, when it is text.
+    """
+    from pydantic import TypeAdapter
+
+    from workpack.model.findings import Defect, Finding
+
+    if not isinstance(data, dict) or set(data) - set(Findings.model_fields):
+        return []
+    entries = data.get("findings") or []
+    if not isinstance(entries, list):
+        return []
+    adapter: TypeAdapter[Any] = TypeAdapter(Finding)
+    readable: list[Any] = []
+    index_of: list[int] = []
+    for index, entry in enumerate(entries):
+        try:
+            readable.append(adapter.validate_python(entry))
+        except ValidationError:
+            if not (isinstance(entry, dict) and isinstance(entry.get("where"), str)):
+                continue
+            readable.append(Defect.model_construct(where=entry["where"]))  # type: ignore[call-arg]
+        index_of.append(index)
+    partial = Findings.model_construct(findings=tuple(readable))
+    found = [Mismatch(("findings", index_of[int(m.path[1])], *m.path[2:]), m.message)
+             for m in check_findings(partial, topology)]
+    return [m for m in found if not _below(format_path(m.path), schema)]
 
 
 def load_findings(path: Path, topology: Topology) -> Findings:
@@ -179,27 +314,40 @@ CSV_COLUMNS = ("id", "at", "by", "where", "kind", "reading", "test_voltage", "te
 def findings_from_csv(text: str, file: str,
                       phase_labels: tuple[str, str, str]) -> tuple[dict[str, Any], Marks]:
     """Rows of a rounds log to findings data, keeping each cell's line and column."""
-    import csv
-
-    lines = text.splitlines()
-    rows = list(csv.reader(lines))
-    if len(rows) != len(lines):
-        raise InputError([Problem(file, 0, 0, "", "a cell spans lines; keep each finding "
-                                                  "on one line of the CSV")])
+    text = text.removeprefix("\ufeff")  # a spreadsheet's byte-order mark
+    unprintable = find_unprintable(text)
+    if unprintable is not None:
+        line, column, char = unprintable
+        raise InputError([Problem(file, line, column, "", f"character U+{ord(char):04X} is "
+                                  "not allowed (a control character)")])
+    lines = io.StringIO(text, newline="").readlines()
+    rows = _csv_rows(lines, file)
     if not rows:
         raise InputError([Problem(file, 0, 0, "", "empty CSV file; expected a header row")])
-    header = [cell.strip() for cell in rows[0]]
+    header = [cell.strip() for cell in rows[0][1]]
     allowed = set(CSV_COLUMNS) | set(phase_labels)
-    unknown = [name for name in header if name not in allowed]
-    if unknown:
-        column = header.index(unknown[0]) + 1
-        raise InputError([Problem(file, 1, column, "", f"unknown column {unknown[0]!r}; "
-                                  f"expected some of {', '.join(sorted(allowed))}")])
+    header_starts = _cell_starts(lines[rows[0][0] - 1])
+    for position, name in enumerate(header):
+        column = header_starts[position] if position < len(header_starts) else 1
+        if name not in allowed:
+            raise InputError([Problem(file, rows[0][0], column, "", f"unknown column "
+                                      f"{name!r}; expected some of "
+                                      f"{', '.join(sorted(allowed))}")])
+        if name in header[:position]:
+            raise InputError([Problem(file, rows[0][0], column, "",
+                                      f"column {name!r} is named twice")])
     places: dict[tuple[str | int, ...], tuple[int, int]] = {}
     findings: list[dict[str, Any]] = []
-    for line, row in enumerate(rows[1:], start=2):
+    for line, row in rows[1:]:
         if not any(cell.strip() for cell in row):
             continue
+        if len(row) > len(header):
+            starts = _cell_starts(lines[line - 1])
+            column = starts[len(header)] if len(header) < len(starts) else 1
+            raise InputError([Problem(file, line, column, "",
+                                      f"this row has {len(row)} cells but the header names "
+                                      f"{len(header)} columns (a comma inside a note? put "
+                                      "the note in double quotes)")])
         index = len(findings)
         entry: dict[str, Any] = {}
         places[("findings", index)] = (line, 1)
@@ -225,6 +373,32 @@ def findings_from_csv(text: str, file: str,
             places[("findings", index, field)] = (line, 1)
         findings.append(entry)
     return {"findings": findings}, TableMarks(file, places=places)
+
+
+def _csv_rows(lines: list[str], file: str) -> list[tuple[int, list[str]]]:
+    """(line number, cells) of each CSV row; a row must stand on one line."""
+    import csv
+
+    reader = csv.reader(lines)
+    rows: list[tuple[int, list[str]]] = []
+    previous = 0
+    try:
+        for row in reader:
+            first = previous + 1
+            if reader.line_num > first:
+                raise InputError([Problem(
+                    file, first, 1, "", f"this row runs on to line {reader.line_num}: a "
+                    "quoted cell is not closed on its line, or holds a line break; keep "
+                    "each finding on one line of the CSV")])
+            rows.append((first, row))
+            previous = reader.line_num
+    except csv.Error as error:
+        message = str(error)
+        if "field limit" in message:
+            message = (f"a cell is longer than {csv.field_size_limit():,} characters; a "
+                       "finding's cell holds a short value or note")
+        raise InputError([Problem(file, reader.line_num, 0, "", f"CSV: {message}")]) from None
+    return rows
 
 
 def _cell_starts(raw: str) -> list[int]:

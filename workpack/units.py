@@ -140,15 +140,16 @@ def parse_quantity(text: str) -> tuple[Fraction, str]:
     return number, unit
 
 
-def _split(text: str) -> tuple[Fraction, str]:
+def _split(text: str, example: str = "440 V") -> tuple[Fraction, str]:
     """A number at the start of ``text``, and what follows it (normalised, not checked)."""
     if len(text) > MAX_LENGTH:
         raise UnitProblem(f"{len(text)} characters is too long for a quantity (at most "
-                          f"{MAX_LENGTH}): write a number and a unit, e.g. '440 V'")
+                          f"{MAX_LENGTH}): write a number and a unit, e.g. '{example}'")
     stripped = text.strip(_SPACES)
     match = _NUMBER.match(stripped)
     if match is None:
-        raise UnitProblem(f"expected a number with a unit, such as '440 V', got {text!r}")
+        raise UnitProblem(f"expected a number with a unit, such as '{example}', got "
+                          f"{text!r}")
     number_text = match.group(0)
     _, _, exponent = number_text.lower().partition("e")
     if exponent and abs(int(exponent)) > MAX_EXPONENT:
@@ -189,7 +190,7 @@ def to_si(value: Any, kind: str) -> float:
     if not isinstance(value, str):
         raise UnitProblem(f"expected a {expected.name} such as '{expected.example}', got "
                           f"{type(value).__name__}")
-    number, symbol = _split(value)
+    number, symbol = _split(value, expected.example)
     if symbol and symbol not in UNITS:
         raise UnitProblem(_unknown_unit(value, symbol, kind))
     if not symbol:

@@ -330,14 +330,27 @@ def _yaml_problem(error: yaml.MarkedYAMLError, file: str) -> Problem:
     return Problem(file, line, column, "", f"YAML: {what}")
 
 
-def _unprintable(text: str, file: str, error: yaml.reader.ReaderError) -> Problem:
-    """The reader's complaint at the line and column of the character it refused."""
+def find_unprintable(text: str) -> tuple[int, int, str] | None:
+    """(line, column, character) of the first character outside YAML's printable set.
+
+    Lines are counted at LF, and at a CR not followed by LF.
+    """
     found = _NOT_PRINTABLE.search(text)
     if found is None:
+        return None
+    head = text[: found.start()].replace("\r\n", "\n").replace("\r", "\n")
+    line = head.count("\n") + 1
+    column = len(head) - (head.rfind("\n") + 1) + 1
+    return line, column, found.group()
+
+
+def _unprintable(text: str, file: str, error: yaml.reader.ReaderError) -> Problem:
+    """The reader's complaint at the line and column of the character it refused."""
+    found = find_unprintable(text)
+    if found is None:
         return Problem(file, 0, 0, "", f"YAML: {error.reason}")
-    line = text.count("\n", 0, found.start()) + 1
-    column = found.start() - (text.rfind("\n", 0, found.start()) + 1) + 1
-    return Problem(file, line, column, "", f"YAML: character U+{ord(found.group()):04X} is "
+    line, column, char = found
+    return Problem(file, line, column, "", f"YAML: character U+{ord(char):04X} is "
                    "not allowed (a control character; only tab and line breaks are)")
 
 
