@@ -438,8 +438,13 @@ def _cmd_closeout(args: argparse.Namespace) -> int:
     if record.package_sha256 != digest:
         raise UsageError(f"{args.package}: this package differs from the one record "
                          f"{record.sequence} answers (hash); use the package as issued")
-    pdf = render_closeout(package, evaluation_from_payload(record.results), record,
-                          page_size=args.page_size)
+    try:
+        evaluation = evaluation_from_payload(record.results)
+    except (ValueError, TypeError, KeyError) as error:
+        raise UsageError(f"record {record.sequence} of {package.id} in {_default_db(args)}: "
+                         f"{error}; it cannot be closed out (record the results again with "
+                         f"--supersedes {record.sequence})") from None
+    pdf = render_closeout(package, evaluation, record, page_size=args.page_size)
     out = Path(args.out)
     write_all(out.parent, {out.name: pdf})
     sys.stdout.write(f"record {record.sequence} of {package.id} ({record.verdict}) "

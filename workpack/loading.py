@@ -7,7 +7,8 @@ validated data for the pure core.
 from __future__ import annotations
 
 import io
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
 from pathlib import Path
 from typing import Any, TypeVar
 
@@ -498,22 +499,102 @@ def load_results(path: Path, package: WorkPackage, package_hash: str) -> Results
     return results
 
 
-def _results_from_pdf(path: Path, package: WorkPackage) -> tuple[dict[str, Any], Marks]:
-    from pypdf import PdfReader
-    from pypdf.errors import PdfReadError
+# Far above a filled package (a few hundred kB); PdfReader reads the whole file.
+MAX_PDF_BYTES = 50 * 1024 * 1024
 
-    from workpack.forms import results_from_fields
+
+def _results_from_pdf(path: Path, package: WorkPackage) -> tuple[dict[str, Any], Marks]:
+    """The filled fields of a package PDF as results data; any unreadable PDF is one line.
+
+    pypdf parses whatever the file holds, and a hostile file can make it raise nearly
+    anything (encryption it cannot undo, streams that expand past its limits, broken
+    objects), or log warnings: these become one error naming the file, and the
+    warnings are kept off the terminal.
+    """
+    from workpack.forms import FormFieldError, results_from_fields
     from workpack.render.pdf import split_field_name
 
+    file = str(path)
     try:
-        fields = PdfReader(path).get_fields() or {}
-    except (PdfReadError, OSError, ValueError) as error:
-        raise InputError([Problem(str(path), 0, 0, "", f"cannot read the PDF: {error}")]) \
-            from None
-    if not fields:
-        raise InputError([Problem(str(path), 0, 0, "", "this PDF has no form fields: is it a "
-                                                      "workpack package?")])
-    values = {name: field.get("/V") for name, field in fields.items()}
-    data = results_from_fields(package, {k: (str(v) if v is not None else None)
-                                         for k, v in values.items()}, split_field_name)
-    return data, TableMarks(str(path), places={})
+        size = path.stat().st_size
+    except OSError as error:
+        raise InputError([Problem(file, 0, 0, "", error.strerror or str(error))]) from None
+    if size > MAX_PDF_BYTES:
+        raise InputError([Problem(file, 0, 0, "", f"{size:,} bytes is larger than a filled "
+                                  f"package PDF can be ({MAX_PDF_BYTES:,})")])
+    with _pypdf_quiet() as heard:
+        try:
+            values = _pdf_field_values(path)
+        except InputError:
+            raise
+        except Exception as error:  # noqa: BLE001 -- a hostile file; see the docstring
+            said = f" ({heard[0]})" if heard else ""
+            raise InputError([Problem(file, 0, 0, "", f"cannot read the PDF: "
+                                      f"{_pdf_reason(error)}{said}")]) from None
+    if not values:
+        raise InputError([Problem(file, 0, 0, "", "this PDF has no form fields: is it a "
+                                                  "workpack package?")])
+    try:
+        data = results_from_fields(package, values, split_field_name)
+    except FormFieldError as error:
+        raise InputError([Problem(file, 0, 0, "", f"form field {name!r}: {why}")
+                          for name, why in error.problems]) from None
+    return data, TableMarks(file, places={})
+
+
+def _pdf_field_values(path: Path) -> dict[str, str | None]:
+    from pypdf import PdfReader
+
+    reader = PdfReader(path)
+    if reader.is_encrypted:
+        # Some form apps lock editing with an owner password and no user password.
+        if not reader.decrypt(""):
+            raise InputError([Problem(str(path), 0, 0, "", "the PDF is password-protected; "
+                                      "save an unprotected copy of the filled package")])
+    fields = reader.get_fields() or {}
+    values: dict[str, str | None] = {}
+    for name, field in fields.items():
+        value = field.get("/V")
+        values[str(name)] = None if value is None else str(value)
+    return values
+
+
+def _pdf_reason(error: Exception) -> str:
+    from pypdf.errors import DependencyError, FileNotDecryptedError, LimitReachedError
+
+    if isinstance(error, DependencyError | FileNotDecryptedError):
+        return ("the PDF is encrypted in a way workpack cannot open; save an unprotected "
+                "copy of the filled package")
+    if isinstance(error, LimitReachedError) or "Limit reached" in str(error):
+        return ("a compressed part of it expands past the reader's limit (a filled package "
+                "has nothing like it)")
+    text = str(error).strip() or type(error).__name__
+    return text if len(text) < 200 else text[:200] + "…"
+
+
+@contextmanager
+def _pypdf_quiet() -> Iterator[list[str]]:
+    """Collects what pypdf logs or warns while a PDF is read, instead of printing it."""
+    import logging
+    import warnings
+
+    heard: list[str] = []
+
+    class Keep(logging.Handler):
+        def emit(self, record: logging.LogRecord) -> None:
+            heard.append(record.getMessage())
+
+    logger = logging.getLogger("pypdf")
+    handler, propagate = Keep(), logger.propagate
+    logger.addHandler(handler)
+    logger.propagate = False
+    try:
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            try:
+                yield heard
+            finally:
+                heard.extend(str(w.message) for w in caught)
+    finally:
+        logger.removeHandler(handler)
+        logger.propagate = propagate

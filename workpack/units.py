@@ -125,6 +125,35 @@ class UnitProblem(ValueError):
     """A value whose unit is missing, unknown or of the wrong kind."""
 
 
+# What an instrument on a low-voltage plant can read, per kind (SI): far wider than any
+# real reading, narrow enough that the arithmetic on it stays finite. A winding or
+# equipment temperature during a test lies well inside −60 to 250 °C (the same bounds
+# as a temperature in the findings).
+PLAUSIBLE: dict[str, tuple[float, float]] = {
+    "voltage": (-1.0e6, 1.0e6),
+    "current": (-1.0e6, 1.0e6),
+    "resistance": (0.0, 1.0e16),
+    "capacitance": (0.0, 1.0),
+    "frequency": (0.0, 1.0e4),
+    "real_power": (-1.0e10, 1.0e10),
+    "apparent_power": (0.0, 1.0e10),
+    "reactive_power": (-1.0e10, 1.0e10),
+    "time": (0.0, 1.0e7),
+    "temperature": (-60.0, 250.0),
+    "length": (0.0, 1.0e6),
+}
+
+
+def plausible(value: float, kind: str) -> float:
+    """``value`` (SI) when an instrument could have read it as a ``kind``; else UnitProblem."""
+    low, high = PLAUSIBLE.get(kind, (-1.0e12, 1.0e12))
+    if not (math.isfinite(value) and low <= value <= high):
+        shown = KINDS[kind]
+        raise UnitProblem(f"{value:g} {shown.si} is not a reading an instrument gives "
+                          f"(expected {low:g} to {high:g} {shown.si})")
+    return value
+
+
 def _kind(kind: str) -> Kind:
     return KINDS[kind]
 
