@@ -118,6 +118,23 @@ def _data_path(loc: tuple[Any, ...], data: Any) -> tuple[str | int, ...]:
     return tuple(path)
 
 
+def _shown(value: Any, limit: int = 60) -> str:
+    """A value as quoted in a message: repr, shortened when long (numbers too)."""
+    text = repr(value) if isinstance(value, str) else str(value) if not isinstance(
+        value, int) or value.bit_length() < 200 else f"a number of {value.bit_length()} bits"
+    return text if len(text) <= limit else text[: limit - 1] + "…"
+
+
+# pydantic's words for a value of the wrong shape, in the file's terms.
+_SHAPES = {"dict_type": "expected a mapping of fields here", "model_type":
+           "expected a mapping of fields here", "model_attributes_type":
+           "expected a mapping of fields here", "tuple_type": "expected a list",
+           "list_type": "expected a list", "bool_type": "expected true or false",
+           "bool_parsing": "expected true or false", "int_type": "expected a whole number",
+           "int_parsing": "expected a whole number", "int_from_float": "expected a whole number",
+           "float_type": "expected a number", "float_parsing": "expected a number"}
+
+
 def _message(detail: Any) -> str:
     kind = detail["type"]
     message = str(detail["msg"])
@@ -133,21 +150,24 @@ def _message(detail: Any) -> str:
     if kind in ("string_type",) and isinstance(detail.get("input"), bool):
         return f"expected text (got {detail['input']}); put it in quotes"
     if kind in ("string_type",) and isinstance(detail.get("input"), int | float):
-        return f"expected text (got the number {detail['input']}); put it in quotes"
+        return f"expected text (got the number {_shown(detail['input'])}); put it in quotes"
+    if kind in _SHAPES and "input" in detail:
+        found = detail["input"]
+        what = ("a list" if isinstance(found, list) else "a mapping" if isinstance(found, dict)
+                else _shown(found))
+        return f"{_SHAPES[kind]} (got {what})"
     if "Keys should be strings" in message:
         return "a field name must be text (a number stands where a name should)"
     if kind in ("enum", "literal_error"):
         expected = detail.get("ctx", {}).get("expected", "")
-        return f"{detail['input']!r} is not allowed; expected {expected}"
+        return f"{_shown(detail['input'])} is not allowed; expected {expected}"
     if kind == "value_error":
         return message.removeprefix("Value error, ")
     if kind == "string_pattern_mismatch":
-        return (f"{detail['input']!r} is not a valid id (letters, digits and _ . - /, "
+        return (f"{_shown(detail['input'])} is not a valid id (letters, digits and _ . - /, "
                 "starting with a letter or digit)")
     if "input" in detail and not isinstance(detail["input"], dict | list):
-        shown = detail["input"]
-        return f"{message} (got {shown!r})" if isinstance(shown, str) else (
-            f"{message} (got {shown})")
+        return f"{message} (got {_shown(detail['input'])})"
     return message
 
 
