@@ -21,6 +21,7 @@ import re
 import unicodedata
 from dataclasses import dataclass
 from fractions import Fraction
+from functools import lru_cache
 from typing import Any
 
 # Longer than any honest quantity ("0.000150 uF/km" is 14); refuses pasted text early.
@@ -219,6 +220,12 @@ def to_si(value: Any, kind: str) -> float:
     if not isinstance(value, str):
         raise UnitProblem(f"expected a {expected.name} such as '{expected.example}', got "
                           f"{type(value).__name__}")
+    return _text_to_si(value, kind)
+
+
+@lru_cache(maxsize=8192)  # plant files repeat the same few quantities thousands of times
+def _text_to_si(value: str, kind: str) -> float:
+    expected = _kind(kind)
     number, symbol = _split(value, expected.example)
     if symbol and symbol not in UNITS:
         raise UnitProblem(_unknown_unit(value, symbol, kind))

@@ -181,6 +181,8 @@ def mutate_structure(data: Any, rng: random.Random, raw: Raw, rule_file: bool = 
                   "duplicate", "alias"]
     if rule_file and isinstance(value, str):
         operations += ["expression"] * 6
+    if isinstance(value, str):
+        operations += ["long"]
     operation = rng.choice(operations)
     if operation == "delete":
         del parent[key]
@@ -224,6 +226,8 @@ def mutate_structure(data: Any, rng: random.Random, raw: Raw, rule_file: bool = 
             "&a [x,x,x,x,x,x,x,x,x,x]", "{<<: [*nowhere]}"]))
     elif operation == "expression":
         parent[key] = rng.choice(RULE_EXPRESSIONS)
+    elif operation == "long":  # words, so that a renderer must wrap them, not cut them
+        parent[key] = " ".join([value or "word"] * rng.choice([50, 300, 3000]))
     return f"{operation} at {'/'.join(map(str, path))}"
 
 
@@ -385,24 +389,36 @@ def make_case(number: int, seed: int, seeds: Seeds, scratch: Path) -> Case:
     if kind == "plant":
         name = rng.choice(["demo-vessel.yaml", "demo-site.yaml", "small-works.yaml"])
         data, mutation = mutate_yaml(seeds.texts[name], rng)
-        if name == "small-works.yaml" and rng.random() < 0.3:
-            return Case(number, kind, f"{name}: {mutation}; diagnose",
-                        {**small, "plant.yaml": data},
-                        ["diagnose", "{dir}/plant.yaml", "{dir}/findings.yaml"])
-        return Case(number, kind, f"{name}: {mutation}", {"plant.yaml": data},
-                    ["check", "{dir}/plant.yaml"])
+        command = rng.choice(["check", "check", "isolate", "diagnose", "plan"]
+                             if name == "small-works.yaml" else ["check", "check", "isolate"])
+        argv = {"check": ["check", "{dir}/plant.yaml"],
+                "isolate": ["isolate", "{dir}/plant.yaml",
+                            rng.choice(_ids(yaml.safe_load(seeds.texts[name])))],
+                "diagnose": ["diagnose", "{dir}/plant.yaml", "{dir}/findings.yaml"],
+                "plan": ["plan", "{dir}/plant.yaml", "{dir}/findings.yaml", "--out",
+                         "{dir}/out"]}[command]
+        return Case(number, kind, f"{name}: {mutation}; {command}",
+                    {**small, "plant.yaml": data}, argv,
+                    writes=["out"] if command == "plan" else [])
     if kind == "findings-yaml":
         plant, findings = rng.choice([("demo-vessel.yaml", "demo-vessel-findings.yaml"),
                                       ("small-works.yaml", "small-findings.yaml")])
         data, mutation = mutate_yaml(seeds.texts[findings], rng)
-        return Case(number, kind, f"{findings}: {mutation}",
-                    {"plant.yaml": seeds.texts[plant].encode(), "findings.yaml": data},
-                    ["diagnose", "{dir}/plant.yaml", "{dir}/findings.yaml"])
+        plan = plant == "small-works.yaml" and rng.random() < 0.3
+        argv = (["plan", "{dir}/plant.yaml", "{dir}/findings.yaml", "--out", "{dir}/out"]
+                if plan else ["diagnose", "{dir}/plant.yaml", "{dir}/findings.yaml"])
+        return Case(number, kind, f"{findings}: {mutation}; {argv[0]}",
+                    {"plant.yaml": seeds.texts[plant].encode(), "findings.yaml": data}, argv,
+                    writes=["out"] if plan else [])
     if kind == "findings-csv":
         data, mutation = mutate_csv(seeds.texts["small-findings.csv"], rng)
-        return Case(number, kind, f"small-findings.csv: {mutation}",
-                    {"plant.yaml": small["plant.yaml"], "findings.csv": data},
-                    ["diagnose", "{dir}/plant.yaml", "{dir}/findings.csv"])
+        plan = rng.random() < 0.3
+        argv = (["plan", "{dir}/plant.yaml", "{dir}/findings.csv", "--out", "{dir}/out",
+                 "--date", "2026-12-02"]
+                if plan else ["diagnose", "{dir}/plant.yaml", "{dir}/findings.csv"])
+        return Case(number, kind, f"small-findings.csv: {mutation}; {argv[0]}",
+                    {"plant.yaml": small["plant.yaml"], "findings.csv": data}, argv,
+                    writes=["out"] if plan else [])
     if kind == "rules":
         name = rng.choice(sorted(seeds.rules))
         data, mutation = mutate_yaml(seeds.rules[name], rng, rule_file=True)
