@@ -157,3 +157,14 @@ def test_csv_problems_are_located(text, expected, demo_vessel) -> None:
 def test_csv_as_spreadsheets_write_it_is_read(text, demo_vessel) -> None:
     findings = load_findings_text(text, "r.csv", demo_vessel)
     assert findings.findings[0].where == "GD-MSB"
+
+
+def test_a_file_that_is_not_utf8_is_placed_at_the_byte(tmp_path, capsys) -> None:
+    """Issue 10.9: a byte offset alone sends a person counting; say the line and column."""
+    from workpack.cli import main
+
+    plant = tmp_path / "latin1.yaml"
+    plant.write_bytes(b"plant: {name: Caf\xe9, kind: other}\n")
+    assert main(["check", str(plant)]) == 2
+    assert capsys.readouterr().err == (f"{plant}:1:18: not UTF-8 text: byte 0xE9 (save the "
+                                       "file as UTF-8)\n")

@@ -58,8 +58,13 @@ def read_text(path: Path) -> str:
     except IsADirectoryError:
         raise InputError([Problem(str(path), 0, 0, "", "is a folder, expected a file")]) from None
     except UnicodeDecodeError as error:
-        raise InputError([Problem(str(path), 0, 0, "",
-                                  f"not UTF-8 text (byte {error.start})")]) from None
+        data = error.object if isinstance(error.object, bytes) else b""
+        line_start = data.rfind(b"\n", 0, error.start) + 1
+        line = data.count(b"\n", 0, error.start) + 1
+        column = len(data[line_start:error.start].decode("utf-8", "replace")) + 1
+        raise InputError([Problem(str(path), line, column, "", f"not UTF-8 text: byte "
+                                  f"0x{data[error.start]:02X} (save the file as UTF-8)"
+                                  if data else "not UTF-8 text")]) from None
     except OSError as error:
         raise InputError([Problem(str(path), 0, 0, "", error.strerror or str(error))]) from None
 
