@@ -168,3 +168,38 @@ def test_a_file_that_is_not_utf8_is_placed_at_the_byte(tmp_path, capsys) -> None
     assert main(["check", str(plant)]) == 2
     assert capsys.readouterr().err == (f"{plant}:1:18: not UTF-8 text: byte 0xE9 (save the "
                                        "file as UTF-8)\n")
+
+
+def test_rule_schema_and_lint_problems_come_in_one_run(tmp_path) -> None:
+    """One rule has a crew of 99 (schema), the next names an unknown caution (lint), and
+    another file does not parse: all three in one run, each at its line."""
+    import shutil
+
+    from conftest import ROOT
+
+    from workpack.loading import load_ruleset
+
+    folder = tmp_path / "rules"
+    shutil.copytree(ROOT / "rules", folder)
+    text = (folder / "switchboards.yaml").read_text(encoding="utf-8")
+    lines = text.splitlines()
+    crews = [i for i, line in enumerate(lines) if line.strip().startswith("crew:")]
+    cautions = [i for i, line in enumerate(lines) if line.strip().startswith("cautions: [")]
+    assert len(crews) >= 2 and len(cautions) >= 2
+    first_rule_crew = crews[0]
+    later_caution = next(i for i in cautions if i > crews[1])
+    lines[first_rule_crew] = lines[first_rule_crew].split("crew:")[0] + "crew: 99"
+    lines[later_caution] = (lines[later_caution].split("cautions:")[0]
+                            + "cautions: [no-such-caution]")
+    (folder / "switchboards.yaml").write_text("\n".join(lines) + "\n", encoding="utf-8")
+    (folder / "ground.yaml").write_text("rules: [\n", encoding="utf-8")
+    with pytest.raises(InputError) as caught:
+        load_ruleset(folder)
+    found = caught.value.format_message().splitlines()
+    assert len(found) == 3, found
+    assert found[0] == (f"{folder / 'ground.yaml'}:2:1: YAML: did not find expected node "
+                        "content (the file ends inside brackets: a '[' or '{' is not closed)")
+    assert found[1].startswith(f"{folder / 'switchboards.yaml'}:{first_rule_crew + 1}:")
+    assert "crew: Input should be less than or equal to 20" in found[1]
+    assert found[2].startswith(f"{folder / 'switchboards.yaml'}:{later_caution + 1}:")
+    assert "unknown caution 'no-such-caution'" in found[2]

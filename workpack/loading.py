@@ -468,22 +468,62 @@ def load_ruleset(folder: Path) -> RuleSet:
     library_path = folder / CAUTIONS_FILE
     library_data, library_marks = parse_yaml(read_text(library_path), str(library_path))
     library = validate(CautionLibrary, library_data, library_marks, "caution library")
-    files = []
+    files: list[tuple[RuleFile, Any]] = []
     problems: list[Problem] = []
     for path in sorted(folder.glob("*.yaml")):
         if path.name in NOT_RULES:
             continue
-        data, marks = parse_yaml(read_text(path), str(path))
+        try:
+            data, marks = parse_yaml(read_text(path), str(path))
+        except InputError as error:
+            problems.extend(error.problems)
+            continue
         try:
             files.append((validate(RuleFile, data, marks, "rule file"), marks.problem))
         except InputError as error:
             problems.extend(error.problems)
+            readable = _readable_rules(data, marks)
+            if readable is not None:
+                files.append(readable)
+    if not files and not problems:
+        raise InputError([Problem(str(folder), 0, 0, "", "no rule files (*.yaml) here")])
+    try:
+        ruleset = build_ruleset(files, (library, library_marks.problem), context_schema,
+                                {name: parameters(name) for name in CALCULATIONS})
+    except InputError as error:
+        schema = list(problems)
+        problems.extend(p for p in error.problems if not _below(
+            p.path, [s for s in schema if s.file == p.file]))
     if problems:
         raise InputError(problems)
-    if not files:
-        raise InputError([Problem(str(folder), 0, 0, "", "no rule files (*.yaml) here")])
-    return build_ruleset(files, (library, library_marks.problem), context_schema,
-                         {name: parameters(name) for name in CALCULATIONS})
+    return ruleset
+
+
+def _readable_rules(data: Any, marks: Marks) -> tuple[RuleFile, Any] | None:
+    """The rules of a schema-invalid rule file that are valid on their own, with a place
+    function that maps their new positions back to the file's, so they are linted in
+    the same run (unknown cautions, calculations and names beside the schema problems)."""
+    from workpack.model.rules import Rule
+
+    if not isinstance(data, dict) or not isinstance(data.get("rules"), list):
+        return None
+    valid: list[Rule] = []
+    index_of: list[int] = []
+    for index, entry in enumerate(data["rules"]):
+        try:
+            valid.append(Rule.model_validate(entry))
+        except ValidationError:
+            continue
+        index_of.append(index)
+    if not valid:
+        return None
+
+    def place(path: tuple[str | int, ...], message: str) -> Problem:
+        if len(path) >= 2 and path[0] == "rules" and isinstance(path[1], int):
+            path = ("rules", index_of[path[1]], *path[2:])
+        return marks.problem(path, message)
+
+    return RuleFile.model_construct(rules=tuple(valid)), place
 
 
 def load_package(path: Path) -> tuple[WorkPackage, str]:

@@ -310,7 +310,7 @@ def _expanded_size(root: yaml.Node) -> int:
     return size(root)
 
 
-def _yaml_problem(error: yaml.MarkedYAMLError, file: str) -> Problem:
+def _yaml_problem(error: yaml.MarkedYAMLError, file: str, text: str = "") -> Problem:
     """One line for a YAML error, at the place a person should look."""
     mark = error.problem_mark or error.context_mark
     what = error.problem or error.context or "malformed YAML"
@@ -324,6 +324,10 @@ def _yaml_problem(error: yaml.MarkedYAMLError, file: str) -> Problem:
             what += f" (a '{bracket}' opened here is not closed)"
         else:
             what += f" (inside the '{bracket}' opened at column {opened.column + 1})"
+    elif "flow node" in context and mark is not None and (
+        mark.line >= len(text.rstrip().splitlines())  # past the last line: the file ended
+    ):
+        what += " (the file ends inside brackets: a '[' or '{' is not closed)"
     elif "expected" in what and "block" in context:
         what += " (check the indentation of this line against the lines above)"
     line, column = (mark.line + 1, mark.column + 1) if mark else (0, 0)
@@ -400,7 +404,7 @@ def parse_yaml(text: str, file: str) -> tuple[Any, Marks]:
         finally:
             loader.dispose()
     except yaml.MarkedYAMLError as error:
-        raise InputError([_yaml_problem(error, file)]) from None
+        raise InputError([_yaml_problem(error, file, text)]) from None
     except yaml.reader.ReaderError as error:
         raise InputError([_unprintable(text, file, error)]) from None
     except yaml.YAMLError as error:
