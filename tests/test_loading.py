@@ -203,3 +203,22 @@ def test_rule_schema_and_lint_problems_come_in_one_run(tmp_path) -> None:
     assert "crew: Input should be less than or equal to 20" in found[1]
     assert found[2].startswith(f"{folder / 'switchboards.yaml'}:{later_caution + 1}:")
     assert "unknown caution 'no-such-caution'" in found[2]
+
+
+def test_an_empty_set_of_lamps_is_refused_at_its_line(capsys) -> None:
+    """Found by the fuzz run: `lamps: {}` slipped past the check and raised in plan."""
+    from conftest import ROOT
+
+    plant_path = ROOT / "tests" / "fuzz" / "seeds" / "small-works.yaml"
+    from workpack.loading import load_plant
+
+    _, topology = load_plant(plant_path)
+    text = (ROOT / "tests" / "fuzz" / "seeds" / "small-findings.yaml").read_text(
+        encoding="utf-8").replace("lamps: {L1: dim, L2: bright, L3: bright}", "lamps: {}")
+    line = next(n for n, t in enumerate(text.splitlines(), start=1) if "lamps: {}" in t)
+    column = text.splitlines()[line - 1].index("{}") + 1
+    with pytest.raises(InputError) as caught:
+        load_findings_text(text, "f.yaml", topology)
+    assert caught.value.format_message() == (
+        f"f.yaml:{line}:{column}: findings[0].lamps: phases [] do not match the plant's phase "
+        "labels ['L1', 'L2', 'L3']; give one value for each")
