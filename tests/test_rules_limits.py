@@ -39,6 +39,7 @@ def refused_at_run_time(source: str, mode: str = "expression") -> str:
     ("'%*d' % (10**9, 1)", "format width or precision '*'"),
     ("'aa'" + "|replace('a', 'aaaa')" * 12, "replace would build a text over 100,000"),
     ("([1] * 9000) | join('y' * 100)", "join would build a text over 100,000"),
+    ("('x' * 10000) | join('y' * 90000)", "join would build a text over 100,000"),
     ("('x' * 20000) | list", "20,000 items are more than a rule may list or sort"),
     ("1.5 | round(10**9)", "round to at most 20 digits"),
 ])
@@ -78,6 +79,15 @@ def test_deep_nesting_is_refused_when_the_rule_is_read(source) -> None:
     assert lint_source(source, "expression", SCHEMA) == [
         f"nested more than {MAX_NESTING} levels deep (brackets, operators or filters inside "
         "one another)"]
+
+
+@pytest.mark.parametrize("source", [
+    "{% filter upper %}{% for i in [0]*10000 %}{{ 'x' * 99999 }}{% endfor %}{% endfilter %}",
+    "{% set x %}{% for i in [0]*10000 %}{{ 'x' * 99999 }}{% endfor %}{% endset %}{{ x }}",
+])
+def test_blocks_that_build_a_whole_body_first_are_refused(source) -> None:
+    """Their body is built as one text before the output bound can see it."""
+    assert lint_source(source, "template", SCHEMA)
 
 
 def test_ordinary_rule_texts_still_work() -> None:

@@ -41,6 +41,9 @@ REFUSED_NODES: dict[type[nodes.Node], str] = {
     nodes.Macro: "macros are not allowed in a rule",
     nodes.CallBlock: "call blocks are not allowed in a rule",
     nodes.Call: "function and method calls are not allowed in a rule",
+    # Both build their body as one text before anything bounds it: not needed in a rule.
+    nodes.FilterBlock: "filter blocks are not allowed in a rule (use a filter: x | upper)",
+    nodes.AssignBlock: "block assignments are not allowed in a rule (use {% set x = … %})",
 }
 
 Schema = Mapping[str, Any]  # name → nested schema, or None for a plain value
@@ -202,7 +205,8 @@ def _bounded_filters(filters: Mapping[str, Any]) -> dict[str, Any]:
 
     def join(eval_ctx: Any, value: Any, d: str = "", attribute: Any = None) -> Any:
         items_of(value)
-        if attribute is None and isinstance(value, list | tuple):
+        if attribute is None and isinstance(value, str | list | tuple | dict):
+            value = list(value)
             total = 0
             for item in value:  # before joining: the joined text is never built if too long
                 total += len(str(item)) + len(str(d))
