@@ -90,8 +90,10 @@ def test_written_values_become_si(text, kind, expected) -> None:
 
 
 def test_temperatures_convert_with_their_offsets() -> None:
-    # 104 °F = 40 °C: (104 − 32) × 5/9 (NIST SP 811, 2008, B.9); 313.15 K = 40 °C
-    # (0 °C = 273.15 K, SI Brochure 9th ed. 2.3.1).
+    # 104 °F = 40 °C: (104 − 32) × 5/9, the Fahrenheit scale's definition (NIST SP 811,
+    # 2008 edition; clause B.9 from memory). 313.15 K = 40 °C: t/°C = T/K − 273.15 (SI
+    # Brochure, 9th ed., 2019, the definition of the Celsius temperature; section 2.3.1
+    # from memory).
     assert to_si("104 degF", "temperature") == pytest.approx(40.0, abs=1e-12)
     assert to_si("313.15 K", "temperature") == pytest.approx(40.0, abs=1e-12)
 

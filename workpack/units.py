@@ -109,7 +109,8 @@ def _build_table() -> dict[str, Unit]:
     for symbol in ("°C", "degC", "C", "ºC"):  # º: the ordinal sign typed for a degree
         add(symbol, Unit("temperature", Fraction(1)))
     add("K", Unit("temperature", Fraction(1), Fraction(-27315, 100)))
-    # Degree Fahrenheit: t/°C = (t/°F − 32) × 5/9 (NIST SP 811, 2008, B.9).
+    # Degree Fahrenheit: t/°C = (t/°F − 32) × 5/9, the scale's definition (NIST SP 811,
+    # 2008 edition; the clause number from memory: B.9).
     for symbol in ("°F", "degF"):
         add(symbol, Unit("temperature", Fraction(5, 9), Fraction(-160, 9)))
     return table
