@@ -23,7 +23,14 @@ from typing import Annotated, Literal
 from pydantic import Field, model_validator
 
 from workpack.model.plant import Id, Strict
-from workpack.model.quantities import Celsius, MeasuredVolts, Ohms, Seconds, Volts, Watts
+from workpack.model.quantities import (
+    Celsius,
+    MeasuredVolts,
+    Ohms,
+    Seconds,
+    VoltAmperes,
+    Volts,
+)
 
 
 class LampState(StrEnum):
@@ -98,7 +105,7 @@ class TransformerUnit(Observation):
     unit: str = Field(description="which single-phase unit, by the phase pair it serves "
                                   "or its mark, e.g. 'AB' or 'unit 2'")
     state: UnitState
-    load: Watts | None = Field(default=None,
+    load: VoltAmperes | None = Field(default=None,
                                description="bank load now, e.g. '30 kVA'; estimated if absent")
 
 

@@ -33,6 +33,7 @@ from workpack.model.quantities import (
     Hertz,
     Metres,
     Ohms,
+    VoltAmperes,
     Volts,
     Watts,
 )
@@ -228,7 +229,8 @@ class ControlBlock(Strict):
 class Source(Element):
     kind: SourceKind
     voltage: Volts
-    rated_kva: Watts | None = Field(default=None, description="apparent power, e.g. '500 kVA'")
+    rated_kva: VoltAmperes | None = Field(default=None,
+                                          description="apparent power, e.g. '500 kVA'")
     starts_automatically: bool = Field(
         default=False, description="e.g. an emergency generator that starts on blackout")
     start_block: ControlBlock | None = Field(
@@ -471,8 +473,10 @@ _VECTOR_GROUP = re.compile(r"^(D|Y|YN|Z|ZN)(d|y|yn|z|zn)(\d{1,2})$")
 class Transformer(FedElement):
     construction: Construction
     units: int = Field(default=3, ge=1, le=3, description="single-phase units in a bank")
-    unit_kva: Watts | None = Field(default=None, description="rating of each unit of a bank")
-    rated_kva: Watts | None = Field(default=None, description="rating of a three-phase unit")
+    unit_kva: VoltAmperes | None = Field(default=None,
+                                         description="rating of each unit of a bank")
+    rated_kva: VoltAmperes | None = Field(default=None,
+                                          description="rating of a three-phase unit")
     primary_voltage: Volts
     secondary_voltage: Volts
     vector_group: str = Field(description="IEC 60076-1 vector group, e.g. Dd0, Dyn11, Yd1")
@@ -580,7 +584,7 @@ class Load(FedElement):
     kind: LoadKind
     vitality: Vitality = Vitality.non_essential
     rated_kw: Watts | None = None
-    rated_kva: Watts | None = None
+    rated_kva: VoltAmperes | None = None
     rated_voltage: Volts | None = None
     full_load_current: Amperes | None = None
     insulation_class: Literal["A", "B", "F", "H"] | None = None
