@@ -9,11 +9,9 @@ from __future__ import annotations
 
 from dataclasses import replace
 from functools import cache
-from importlib import resources
-from importlib.resources.abc import Traversable
+from pathlib import Path
 from typing import Literal
 
-import yaml
 from pydantic import BaseModel, ConfigDict, ValidationError
 
 from workpack.electrical.standards import (
@@ -30,9 +28,8 @@ from workpack.electrical.standards import (
     WindingMinimum,
 )
 from workpack.errors import did_you_mean
+from workpack.shipped import standards_folder
 
-# Anchored on the workpack package itself, so data/ and data/standards/ need no __init__.py.
-_FOLDER = ("data", "standards")
 _MEGOHM = 1e6
 
 
@@ -167,9 +164,9 @@ class _CodeSetIn(_Strict):
     guide_values: list[_GuideIn] = []
 
 
-def _folder() -> Traversable:
+def _folder() -> Path:
     """The folder of shipped standards tables inside the package."""
-    return resources.files("workpack").joinpath(*_FOLDER)
+    return standards_folder()
 
 
 def _files() -> tuple[str, ...]:
@@ -376,6 +373,8 @@ def load_code_set(name: str) -> CodeSet:
         raise ValueError(
             f"unknown code set {name!r}{did_you_mean(name, known)}; known: {', '.join(known)}"
         )
+    import yaml  # here, not above: importing the calculations must not load a parser
+
     text = _folder().joinpath(f"{name}.yaml").read_text(encoding="utf-8")
     try:
         doc = _CodeSetIn.model_validate(yaml.safe_load(text))

@@ -21,6 +21,8 @@ backend (``_postgres.py``, imported only when a server URL is opened) documents 
 triggers and locks.
 """
 
+from typing import TYPE_CHECKING, Any
+
 from workpack.store._base import (
     NoSuchRecordError,
     NotAStoreError,
@@ -41,7 +43,9 @@ from workpack.store._chain import (
     plant_genesis,
 )
 from workpack.store._open import is_server_url, open_store, set_up_store
-from workpack.store._sqlite import SQLiteStore
+
+if TYPE_CHECKING:
+    from workpack.store._sqlite import SQLiteStore
 
 __all__ = [
     "ChainBreak",
@@ -64,3 +68,13 @@ __all__ = [
     "plant_genesis",
     "set_up_store",
 ]
+
+
+def __getattr__(name: str) -> Any:
+    """``SQLiteStore`` on first use: importing the package (for the pure chain, as the
+    audit does) must not load sqlite3."""
+    if name == "SQLiteStore":
+        from workpack.store._sqlite import SQLiteStore
+
+        return SQLiteStore
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
