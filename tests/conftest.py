@@ -21,6 +21,19 @@ def demo_site() -> Topology:
 
 
 @pytest.fixture(scope="session")
+def demo_plan(tmp_path_factory: pytest.TempPathFactory) -> Path:
+    """The demo vessel's day planned once (``plan … --crew-hours 40``), for every test that
+    only reads the packages: copy the folder before changing anything in it."""
+    from workpack.cli import main
+
+    out = tmp_path_factory.mktemp("demo-plan") / "out"
+    assert main(["plan", str(ROOT / "plants" / "demo-vessel.yaml"),
+                 str(ROOT / "plants" / "demo-vessel-findings.yaml"), "--out", str(out),
+                 "--crew-hours", "40"]) == 0
+    return out
+
+
+@pytest.fixture(scope="session")
 def standards() -> dict:
     from workpack.electrical import available_code_sets, load_code_set
 

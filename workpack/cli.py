@@ -18,10 +18,7 @@ from typing import Any
 from pydantic import BaseModel
 
 from workpack.errors import UsageError, WorkpackError, did_you_mean
-
-# The shipped rules and weights, beside the package in a checkout.
-RULES = Path(__file__).resolve().parent.parent / "rules"
-PLANTS = RULES.parent / "plants"
+from workpack.shipped import asset_map, rules_folder
 
 
 def _to_json(value: Any) -> str:
@@ -720,8 +717,9 @@ def build_parser() -> argparse.ArgumentParser:
     locate.add_argument("--findings", metavar="FILE",
                         help="the day's findings: the latest phase-to-earth readings on that "
                              "system are shown as what an uncleared indication looks like")
-    locate.add_argument("--weights", default=str(RULES / "search-weights.yaml"),
-                        help="likelihood and cost weights (default: rules/search-weights.yaml)")
+    locate.add_argument("--weights", default=str(rules_folder() / "search-weights.yaml"),
+                        help="likelihood and cost weights (default: the shipped "
+                             "rules/search-weights.yaml)")
     locate.add_argument("--date", help="the day of the search (YYYY-MM-DD), for recent work; "
                                        "default: the findings' date, else today")
     locate.add_argument("--one-at-a-time", action="store_true",
@@ -740,7 +738,7 @@ def build_parser() -> argparse.ArgumentParser:
     plan.add_argument("--crew-hours", type=float, default=16.0, metavar="H",
                       help="person-hours available (default 16: two people, a day)")
     plan.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
-    plan.add_argument("--rules", default=str(RULES), metavar="DIR",
+    plan.add_argument("--rules", default=str(rules_folder()), metavar="DIR",
                       help="rules folder (default: the shipped rules/)")
     plan.add_argument("--db", help="records store whose history informs the plan (default: "
                                    "PLANT.records.sqlite beside the plant, if it exists)")
@@ -830,11 +828,11 @@ def build_parser() -> argparse.ArgumentParser:
     import_assets.add_argument("inputs", nargs="+", metavar="FILE",
                                help="workbook (.xlsx), CSV file, or a folder of CSV files "
                                     "(one sheet each, named by the file)")
-    import_assets.add_argument("--map", default=str(PLANTS / "asset-map.yaml"),
+    import_assets.add_argument("--map", default=str(asset_map()),
                                metavar="MAP.yaml",
                                help="which sheet and column holds which field (default: "
-                                    "plants/asset-map.yaml, which reads `export --what "
-                                    "assets`)")
+                                    "the shipped map, plants/asset-map.yaml in the "
+                                    "repository, which reads `export --what assets`)")
     import_assets.add_argument("--out", required=True, metavar="PLANT.yaml",
                                help="the inventory to write (only once it validates)")
     import_assets.set_defaults(run=_cmd_import_assets)

@@ -15,12 +15,10 @@ import datetime as dt
 import functools
 import math
 from dataclasses import dataclass
-from pathlib import Path
 from typing import Any, Literal
 
 import jinja2
 
-import workpack
 from workpack.audit import (
     OUTCOME_WORDS,
     STATUS_WORDS,
@@ -34,6 +32,7 @@ from workpack.audit import (
 from workpack.model.package import Limit
 from workpack.numbers import format_number, format_quantity
 from workpack.render.closeout import utc_text
+from workpack.shipped import templates_folder
 
 __all__ = [
     "ChartText",
@@ -54,7 +53,7 @@ __all__ = [
     "trend_chart",
 ]
 
-TEMPLATES = Path(workpack.__file__).resolve().parent.parent / "templates"
+TEMPLATES = templates_folder()
 
 # Symbols beside the words (HTML); the PDF draws the same shapes (render.closeout.Mark).
 SYMBOLS = {"pass": "✓", "fail": "✗", "not recorded": "—", "recorded": "•",
