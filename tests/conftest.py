@@ -1,4 +1,5 @@
 import sys
+from collections.abc import Iterator
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -21,16 +22,19 @@ def demo_site() -> Topology:
 
 
 @pytest.fixture(scope="session")
-def demo_plan(tmp_path_factory: pytest.TempPathFactory) -> Path:
+def demo_plan(tmp_path_factory: pytest.TempPathFactory) -> Iterator[Path]:
     """The demo vessel's day planned once (``plan … --crew-hours 40``), for every test that
-    only reads the packages: copy the folder before changing anything in it."""
+    only reads the packages: copy the folder before changing anything in it (checked)."""
     from workpack.cli import main
 
     out = tmp_path_factory.mktemp("demo-plan") / "out"
     assert main(["plan", str(ROOT / "plants" / "demo-vessel.yaml"),
                  str(ROOT / "plants" / "demo-vessel-findings.yaml"), "--out", str(out),
                  "--crew-hours", "40"]) == 0
-    return out
+    issued = {p.name: p.read_bytes() for p in out.iterdir()}
+    yield out
+    assert {p.name: p.read_bytes() for p in out.iterdir()} == issued, (
+        "a test changed the shared demo plan; it must work on a copy")
 
 
 @pytest.fixture(scope="session")

@@ -357,14 +357,13 @@ def test_draw_command_refuses_other_file_kinds(tmp_path: Path, capsys) -> None: 
     assert not (tmp_path / "vessel.png").exists()
 
 
-def test_draw_command_reports_a_broken_plant_on_one_line(tmp_path: Path) -> None:
+def test_draw_command_reports_a_broken_plant_on_one_line(tmp_path: Path, capsys) -> None:
     broken = tmp_path / "broken.yaml"
     broken.write_text(VESSEL.read_text().replace("kind: switchboard\n", "kind: switchbord\n",
                                                  1))
-    run = subprocess.run([sys.executable, "-m", "workpack", "draw", str(broken), "--out",
-                          str(tmp_path / "x.pdf")], capture_output=True, text=True)
-    assert run.returncode == 2 and "Traceback" not in run.stderr
-    assert run.stderr.startswith(f"{broken}:")
+    assert main(["draw", str(broken), "--out", str(tmp_path / "x.pdf")]) == 2
+    err = capsys.readouterr().err
+    assert "Traceback" not in err and err.startswith(f"{broken}:")
     assert not (tmp_path / "x.pdf").exists()
 
 

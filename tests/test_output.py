@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import datetime as dt
 import json
+import shutil
 import signal
 import subprocess
 import sys
@@ -34,9 +35,9 @@ def plan(out: Path, *options: str, plant: str = VESSEL, findings: str = FINDINGS
 
 
 @pytest.fixture(scope="module")
-def two_days(tmp_path_factory) -> Path:
-    out = tmp_path_factory.mktemp("plans")
-    assert plan(out, "--date", "2026-12-02") == 0
+def two_days(tmp_path_factory, demo_plan: Path) -> Path:
+    out = tmp_path_factory.mktemp("plans") / "out"
+    shutil.copytree(demo_plan, out)  # the plan of 2026-12-02, the findings' next day
     assert plan(out, "--date", "2026-12-03") == 0
     return out
 
@@ -78,9 +79,10 @@ def test_another_plants_set_for_the_same_day_is_never_replaced(two_days, tmp_pat
     assert contents(two_days) == before
 
 
-def test_an_issued_package_with_a_record_is_never_replaced(tmp_path, capsys) -> None:
+def test_an_issued_package_with_a_record_is_never_replaced(demo_plan, tmp_path,
+                                                           capsys) -> None:
     out = tmp_path / "out"
-    assert plan(out) == 0
+    shutil.copytree(demo_plan, out)  # as `plan(out)` leaves it
     twin = sorted(out.glob("WP-*.json"))[0]
     package, digest = load_package(twin)
     db = tmp_path / "records.sqlite"

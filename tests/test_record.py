@@ -20,10 +20,9 @@ AT = "2026-12-02T16:00+00:00"
 
 
 @pytest.fixture(scope="module")
-def packages(tmp_path_factory) -> Path:
-    out = tmp_path_factory.mktemp("issued")
-    assert main(["plan", VESSEL, FINDINGS, "--out", str(out), "--crew-hours", "40"]) == 0
-    return out
+def packages(demo_plan: Path) -> Path:
+    """The demo vessel's packages as issued (planned once per session; only read here)."""
+    return demo_plan
 
 
 def windlass(packages: Path) -> Path:

@@ -406,11 +406,9 @@ def test_writers_wait_for_their_own_plant_only(pg_fresh_url: str) -> None:
 
 
 @pytest.fixture(scope="module")
-def packages(tmp_path_factory: pytest.TempPathFactory) -> Path:
-    """The demo vessel's packages, issued as test_record.py issues them."""
-    out = tmp_path_factory.mktemp("issued")
-    assert main(["plan", VESSEL, FINDINGS, "--out", str(out), "--crew-hours", "40"]) == 0
-    return out
+def packages(demo_plan: Path) -> Path:
+    """The demo vessel's packages, issued as test_record.py issues them (only read here)."""
+    return demo_plan
 
 
 def test_the_commands_work_with_an_office_store(pg_server: PgServer, pg_fresh_url: str,
