@@ -2,6 +2,7 @@
 
 import json
 
+import pytest
 from conftest import ROOT
 
 from workpack.cli import main
@@ -63,3 +64,56 @@ def test_schema_is_valid_json_schema_and_accepts_the_demo(capsys) -> None:
         document = yaml.safe_load(handle)
     document = json.loads(json.dumps(document, default=str))  # dates as text, as editors see
     jsonschema.Draft202012Validator(schema).validate(document)
+
+
+SITE = str(ROOT / "plants" / "demo-site.yaml")
+
+
+@pytest.mark.parametrize(("args", "message"), [
+    (["plan", VESSEL, "f.yaml", "--out", "o", "--crew-hours", "0"],
+     "--crew-hours 0: must be a number above zero"),
+    (["plan", VESSEL, "f.yaml", "--out", "o", "--crew-hours", "nan"],
+     "--crew-hours nan: must be a number above zero"),
+    (["plan", VESSEL, "f.yaml", "--out", "o", "--crew-hours", "many"],
+     "--crew-hours many: must be a number above zero"),
+    (["plan", VESSEL, "f.yaml", "--out", "o", "--date", "2026-13-01"],
+     "--date 2026-13-01: expected YYYY-MM-DD"),
+    (["locate", VESSEL, "GD-MSB", "--date", "tomorrow"], "--date tomorrow: expected YYYY-MM-DD"),
+    (["record", "p.json", "r.yaml", "--db", "d.sqlite", "--at", "noon"],
+     "--at noon: expected a date and time such as 2026-12-02T16:30+00:00"),
+    (["audit", "--db", "d", "--packages", "p", "--out", "o", "--from", "2026-1-1"],
+     "--from 2026-1-1: expected YYYY-MM-DD"),
+    (["export", "--what", "due", "--plant", VESSEL, "--days", "-1", "--out", "x.csv"],
+     "--days -1: give 0 or more days"),
+    (["export", "--what", "due", "--plant", VESSEL, "--days", "2.5", "--out", "x.csv"],
+     "--days 2.5: expected a whole number of days"),
+    (["draw", VESSEL, "--out", "vessel.png"],
+     "--out vessel.png: expected a .pdf or .svg file name"),
+    (["diagnose", "--volts", "-440", "--reading", "A=1"], "--volts -440: must be above zero"),
+    (["diagnose", "--volts", "440", "--tolerance", "-1", "--reading", "A=1"],
+     "--tolerance -1: expected a percentage, 0 or more"),
+    (["diagnose", "--volts", "440", "--reading", "A=-3"],
+     "--reading A=-3: a voltmeter reads no negative volts"),
+    (["diagnose", "--volts", "440", "--reading", "A=1", "--reading", "A=2"],
+     "--reading A=2: phase A given twice"),
+])
+def test_a_bad_option_value_is_refused_before_anything_is_read(args, message, capsys) -> None:
+    """Parse time: one line naming the option and the value as typed, exit 2, even where
+    the files named beside it do not exist."""
+    assert main(args) == 2
+    assert capsys.readouterr() == ("", message + "\n")
+
+
+def test_an_unknown_search_place_is_one_line_with_a_suggestion(capsys) -> None:
+    assert main(["locate", VESSEL, "GD-MBS"]) == 2
+    assert capsys.readouterr().err == (
+        f"ISLAND_OR_DETECTOR: no system, bus or detector 'GD-MBS' in {VESSEL} "
+        "(did you mean 'GD-MSB' or 'GD-ESB'?)\n")
+
+
+def test_no_search_on_a_solidly_grounded_system(capsys) -> None:
+    """A ground on a solidly grounded (TN) board trips it: nothing stands to be searched."""
+    assert main(["locate", SITE, "DB-1"]) == 2
+    assert capsys.readouterr().err == (
+        "DB-1: the DB-1 system is solidly grounded: a ground there trips its protection; "
+        "there is no standing indication to search for\n")

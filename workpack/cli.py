@@ -8,12 +8,13 @@ from __future__ import annotations
 
 import argparse
 import dataclasses
+import datetime as dt
 import json
 import math
 import sys
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from pathlib import Path
-from typing import Any
+from typing import Any, NamedTuple, TypeVar
 
 from pydantic import BaseModel
 
@@ -41,6 +42,112 @@ def _to_json(value: Any) -> str:
         return obj
 
     return json.dumps(plain(value), indent=2, sort_keys=True, ensure_ascii=False) + "\n"
+
+
+# --- option values, converted (and refused) while the command line is parsed ------------
+
+Value = TypeVar("Value")
+
+
+def _option(option: str, convert: Callable[[str], Value]) -> Callable[[str], Value]:
+    """``type=`` for ``option``: ``convert`` the text as typed; a ValueError refuses it at
+    parse time as one line ``OPTION TEXT: why`` (exit 2), before anything is read."""
+
+    def checked(text: str) -> Value:
+        try:
+            return convert(text)
+        except ValueError as problem:
+            raise UsageError(f"{option} {text}: {problem}") from None
+
+    return checked
+
+
+def _day(text: str) -> dt.date:
+    try:
+        return dt.date.fromisoformat(text)
+    except ValueError:
+        raise ValueError("expected YYYY-MM-DD") from None
+
+
+def _moment(text: str) -> dt.datetime:
+    """A date and time; one written without a zone is taken as UTC."""
+    try:
+        at = dt.datetime.fromisoformat(text)
+    except ValueError:
+        raise ValueError("expected a date and time such as 2026-12-02T16:30+00:00") from None
+    return at if at.tzinfo is not None else at.replace(tzinfo=dt.UTC)
+
+
+def _hours(text: str) -> float:
+    try:
+        hours = float(text)
+    except ValueError:
+        hours = math.nan
+    if not math.isfinite(hours) or hours <= 0:
+        raise ValueError("must be a number above zero")
+    return hours
+
+
+def _days(text: str) -> int:
+    try:
+        days = int(text)
+    except ValueError:
+        raise ValueError("expected a whole number of days") from None
+    if days < 0:
+        raise ValueError("give 0 or more days")
+    return days
+
+
+def _percent(text: str) -> float:
+    try:
+        percent = float(text)
+    except ValueError:
+        percent = math.nan
+    if not (math.isfinite(percent) and percent >= 0):
+        raise ValueError("expected a percentage, 0 or more")
+    return percent
+
+
+def _quantity(kind: str, above_zero: bool = False) -> Callable[[str], float]:
+    """Text such as ``440``, ``2.2uF`` or ``60 Hz`` as SI, of the given kind."""
+    from workpack.units import to_si
+
+    def convert(text: str) -> float:
+        try:
+            number: Any = float(text)
+        except ValueError:
+            number = text
+        value = to_si(number, kind)  # UnitProblem is a ValueError
+        if above_zero and value <= 0:
+            raise ValueError("must be above zero")
+        return value
+
+    return convert
+
+
+class _Reading(NamedTuple):
+    """One ``--reading PHASE=VOLTS``."""
+
+    phase: str
+    volts: float
+    written: str  # as typed, for messages
+
+
+def _phase_reading(text: str) -> _Reading:
+    """``PHASE=VOLTS``, e.g. ``A=400``: one phase-to-earth reading."""
+    label, sep, value = text.partition("=")
+    if not sep or not label.strip():
+        raise ValueError("expected PHASE=VOLTS, e.g. A=400")
+    volts = _quantity("voltage")(value)
+    if volts < 0:
+        raise ValueError("a voltmeter reads no negative volts")
+    return _Reading(label.strip(), volts, text)
+
+
+def _drawing_file(text: str) -> Path:
+    if Path(text).suffix.lower() not in (".pdf", ".svg"):  # the renderers of _cmd_draw
+        raise ValueError("expected a .pdf or .svg file name")
+    return Path(text)
 
 
 def _cmd_check(args: argparse.Namespace) -> int:
@@ -78,12 +185,12 @@ def _standards() -> dict[str, Any]:
 
 
 def _cmd_diagnose(args: argparse.Namespace) -> int:
-    quick = [args.volts, args.hertz, args.capacitance_per_phase, args.reading, args.sequence]
     if args.volts is not None or args.reading:
         if args.plant or args.findings:
             raise UsageError("diagnose: give either PLANT FINDINGS or the quick options "
                              "(--volts, --reading …), not both")
         return _quick_diagnose(args)
+    quick = [args.hertz, args.capacitance_per_phase, args.sequence]
     if any(option is not None for option in quick):
         raise UsageError("diagnose: quick mode needs --volts and three --reading options")
     if not (args.plant and args.findings):
@@ -100,70 +207,37 @@ def _cmd_diagnose(args: argparse.Namespace) -> int:
     return 0
 
 
-def _quick_value(option: str, text: str, kind: str) -> float:
-    from workpack.units import UnitProblem, to_si
-
-    try:
-        number: Any = float(text)
-    except ValueError:
-        number = text
-    try:
-        return to_si(number, kind)
-    except UnitProblem as problem:
-        separator = "" if option.endswith("=") else " "
-        raise UsageError(f"{option}{separator}{text}: {problem}") from None
-
-
 def _quick_diagnose(args: argparse.Namespace) -> int:
-    from workpack.diagnose import summarize_readings
-    from workpack.electrical import MeterTolerance, diagnose_ground, ground_hazards
+    from workpack.diagnose import diagnose_readings
     from workpack.render.text import quick_diagnosis
 
-    volts = _quick_value("--volts", args.volts, "voltage")
-    if volts <= 0:
-        raise UsageError(f"--volts {args.volts}: must be above zero")
-    hertz = _quick_value("--hertz", args.hertz, "frequency") if args.hertz else None
-    capacitance = (_quick_value("--capacitance-per-phase", args.capacitance_per_phase,
-                                "capacitance") if args.capacitance_per_phase else None)
-    if capacitance is not None and hertz is None:
+    if args.volts is None:
+        raise UsageError("diagnose: quick mode needs --volts and three --reading options")
+    if args.capacitance_per_phase is not None and args.hertz is None:
         raise UsageError("--capacitance-per-phase needs --hertz to give a fault resistance")
-    if capacitance is not None and capacitance <= 0:
-        raise UsageError(f"--capacitance-per-phase {args.capacitance_per_phase}: must be "
-                         "above zero")
     readings: dict[str, float] = {}
     for reading in args.reading or []:
-        label, sep, value = reading.partition("=")
-        if not sep or not label.strip():
-            raise UsageError(f"--reading {reading}: expected PHASE=VOLTS, e.g. A=400")
-        if label.strip() in readings:
-            raise UsageError(f"--reading {reading}: phase {label.strip()} given twice")
-        readings[label.strip()] = _quick_value(f"--reading {label.strip()}=", value, "voltage")
-        if readings[label.strip()] < 0:
-            raise UsageError(f"--reading {reading}: a voltmeter reads no negative volts")
+        if reading.phase in readings:
+            raise UsageError(f"--reading {reading.written}: phase {reading.phase} given twice")
+        readings[reading.phase] = reading.volts
     if len(readings) != 3:
         raise UsageError(f"--reading: give one reading for each of three phases "
                          f"(got {len(readings)})")
-    sequence = args.sequence or "-".join(sorted(readings))
     try:
-        # Frequency only matters with a capacitance: without one there is no resistance.
-        result = diagnose_ground(readings, volts, sequence,
-                                 frequency_hz=hertz if capacitance is not None else None,
-                                 capacitance_f=capacitance,
-                                 tolerance=MeterTolerance(relative=args.tolerance / 100))
+        summary = diagnose_readings(readings, args.volts, args.sequence,
+                                    frequency_hz=args.hertz,
+                                    capacitance_f=args.capacitance_per_phase,
+                                    tolerance_percent=args.tolerance)
     except ValueError as error:
         raise UsageError(f"diagnose: {error}") from None
-    hazards = ground_hazards(volts, readings, result.fault_current_a)
-    summary = summarize_readings(result, hazards)
     sys.stdout.write(_to_json(summary) if args.json else quick_diagnosis(summary))
     return 0
 
 
 def _cmd_locate(args: argparse.Namespace) -> int:
-    import datetime as dt
-
     from workpack.loading import load_findings, load_plant, load_weights
     from workpack.render.text import fault_search
-    from workpack.search import plan_fault_search, search_place
+    from workpack.search import as_found_voltages, plan_fault_search, search_place, search_refused
 
     plant, topology = load_plant(Path(args.plant))
     place = search_place(topology, args.place)
@@ -172,19 +246,15 @@ def _cmd_locate(args: argparse.Namespace) -> int:
                                           for d in i.detectors}
         raise UsageError(f"ISLAND_OR_DETECTOR: no system, bus or detector {args.place!r} in "
                          f"{args.plant}{did_you_mean(args.place, known)}")
-    from workpack.search import system_of
-
-    island = next(i for i in topology.normal_islands if i.id == system_of(topology, place))
-    if island.earthing is not None and island.earthing.value == "solid":
-        raise UsageError(f"{args.place}: the {island.id} system is solidly grounded: a ground "
-                         "there trips its protection; there is no standing indication to "
-                         "search for")
+    refused = search_refused(topology, place)
+    if refused:
+        raise UsageError(f"{args.place}: {refused}")
     as_found = None
-    day = dt.date.fromisoformat(args.date) if args.date else None
+    day = args.date
     if args.findings:
         findings = load_findings(Path(args.findings), topology)
         day = day or findings.date
-        as_found = _latest_readings(topology, findings, place)
+        as_found = as_found_voltages(topology, findings, place)
     weights = load_weights(Path(args.weights))
     search = plan_fault_search(topology, place, weights, _standards(), day or dt.date.today(),
                                as_found_v=as_found, one_at_a_time=args.one_at_a_time)
@@ -192,35 +262,17 @@ def _cmd_locate(args: argparse.Namespace) -> int:
     return 0
 
 
-def _latest_readings(topology: Any, findings: Any, place: str) -> dict[str, float] | None:
-    from workpack.search import system_of
-
-    island = system_of(topology, place)
-    latest = None
-    for finding in findings.findings:
-        if finding.kind == "phase_voltages" and system_of(topology, finding.where) == island:
-            latest = dict(finding.volts)
-    return latest
-
-
 def _cmd_plan(args: argparse.Namespace) -> int:
-    import datetime as dt
-
     from workpack.loading import load_findings, load_plant, load_ruleset, load_weights
     from workpack.output import write_all
     from workpack.plan import plan_day
     from workpack.render.daysheet import render_day_sheet
     from workpack.render.pdf import render_package
+    from workpack.render.text import day_plan
 
-    if not math.isfinite(args.crew_hours) or args.crew_hours <= 0:
-        raise UsageError(f"--crew-hours {args.crew_hours:g}: must be a number above zero")
-    try:
-        day = dt.date.fromisoformat(args.date) if args.date else None
-    except ValueError:
-        raise UsageError(f"--date {args.date}: expected YYYY-MM-DD") from None
     plant, topology = load_plant(Path(args.plant))
     findings = load_findings(Path(args.findings), topology)
-    day = day or (findings.date + dt.timedelta(days=1) if findings.date else None)
+    day = args.date or (findings.date + dt.timedelta(days=1) if findings.date else None)
     if day is None:
         raise UsageError("--date: the findings file has no date; give the day to plan for")
     rules = Path(args.rules)
@@ -241,16 +293,9 @@ def _cmd_plan(args: argparse.Namespace) -> int:
         result.plant, day, result.packages, result.scheduled, result.deferred,
         [c.text for c in result.conflicts], result.crew_hours, args.page_size)
     written = write_all(Path(args.out), files,
-                        replaces=_earlier_plan(day, result.plant, _store_location(args)))
-    sys.stdout.write(day_plan_summary(result, written))
+                        replaces=_earlier_plan(day, result.plant, _default_db(args)))
+    sys.stdout.write(day_plan(result) + f"\n{len(written)} files written to {written[0].parent}\n")
     return 0
-
-
-def _store_location(args: argparse.Namespace) -> str:
-    """The records store a plan consults: ``--db`` (a file or a postgresql:// URL, kept as
-    text: a Path would fold a URL's slashes), or the file beside the plant."""
-    return str(args.db) if args.db else str(Path(args.plant).with_name(
-        Path(args.plant).stem + ".records.sqlite"))
 
 
 def _history(args: argparse.Namespace, plant: Any) -> Any:
@@ -258,18 +303,14 @@ def _history(args: argparse.Namespace, plant: Any) -> Any:
     from workpack.history import History, history_from_records
     from workpack.store import is_server_url, open_store
 
-    if is_server_url(_store_location(args)):  # the plant's chain in an office store
-        with open_store(args.db, plant=plant.plant.name, create=False) as store:
-            return history_from_records(store.records(),
-                                        plant.plant.code_set.rotating_machines)
-    db = Path(_store_location(args))
-    if not db.exists():
+    db = _default_db(args)
+    server = is_server_url(db)  # an office store holds many plants: read this one's chain
+    if not server and not Path(db).exists():
         if args.db:
             raise UsageError(f"--db {args.db}: no such records store")
         return History()
-    with open_store(db, create=False) as store:
-        return history_from_records(store.records(),
-                                    plant.plant.code_set.rotating_machines)
+    with open_store(db, plant=plant.plant.name if server else None, create=False) as store:
+        return history_from_records(store.records(), plant.plant.code_set.rotating_machines)
 
 
 def _earlier_plan(day: Any, plant: str, db: str) -> Any:
@@ -313,12 +354,6 @@ def _earlier_plan(day: Any, plant: str, db: str) -> Any:
         return names
 
     return earlier
-
-
-def day_plan_summary(result: Any, written: list[Path]) -> str:
-    from workpack.render.text import day_plan
-
-    return day_plan(result) + f"\n{len(written)} files written to {written[0].parent}\n"
 
 
 class _Progress:
@@ -372,8 +407,6 @@ def _store_plant(args: argparse.Namespace) -> str | None:
 
 
 def _cmd_record(args: argparse.Namespace) -> int:
-    import datetime as dt
-
     from workpack.evaluate import evaluate, record_payload
     from workpack.loading import load_results
     from workpack.output import write_all
@@ -386,13 +419,7 @@ def _cmd_record(args: argparse.Namespace) -> int:
         raise UsageError(f"{args.results}: nothing is filled in; record a job once it has "
                          "been done")
     evaluation = evaluate(package, results, _standards())
-    try:
-        at = dt.datetime.fromisoformat(args.at) if args.at else dt.datetime.now(dt.UTC)
-    except ValueError:
-        raise UsageError(f"--at {args.at}: expected a date and time such as "
-                         "2026-12-02T16:30+00:00") from None
-    if at.tzinfo is None:
-        at = at.replace(tzinfo=dt.UTC)
+    at = args.at or dt.datetime.now(dt.UTC)
     recorded_by = args.by or results.completed_by or "unknown"
     with open_store(_default_db(args), plant=package.plant) as store:
         latest = store.latest(package.id)
@@ -465,33 +492,19 @@ def _read_packages(folders: Sequence[str]) -> dict[str, Any]:
     return packages
 
 
-def _date_option(option: str, text: str | None) -> Any:
-    import datetime as dt
-
-    if text is None:
-        return None
-    try:
-        return dt.date.fromisoformat(text)
-    except ValueError:
-        raise UsageError(f"{option} {text}: expected YYYY-MM-DD") from None
-
-
 def _cmd_audit(args: argparse.Namespace) -> int:
-    import datetime as dt
-
     from workpack.audit import build_audit
     from workpack.output import write_all
     from workpack.render.audit_html import render_audit_html
     from workpack.render.audit_pdf import render_audit_pdf
     from workpack.store import open_store
 
-    since, until = _date_option("--from", args.since), _date_option("--to", args.until)
-    as_of = _date_option("--as-of", args.as_of) or until or dt.date.today()
+    as_of = args.as_of or args.until or dt.date.today()
     packages = _read_packages(args.packages)
     with open_store(_default_db(args), plant=_store_plant(args), create=False) as store:
         records = list(store.records())
         verification = store.verify()
-    report = build_audit(records, packages, verification, since=since, until=until,
+    report = build_audit(records, packages, verification, since=args.since, until=args.until,
                          plant=args.plant_name, as_of=as_of, standards=_standards(),
                          default_code_set=args.code_set)
     written = write_all(Path(args.out), {
@@ -554,10 +567,8 @@ def _cmd_draw(args: argparse.Namespace) -> int:
     from workpack.output import write_all
     from workpack.render.oneline import draw_plant, render_pdf, render_svg
 
-    out = Path(args.out)
+    out = args.out
     renderers = {".pdf": render_pdf, ".svg": render_svg}
-    if out.suffix.lower() not in renderers:
-        raise UsageError(f"--out {args.out}: expected a .pdf or .svg file name")
     plant, topology = load_plant(Path(args.plant))
     drawing = draw_plant(plant, topology, paper=args.paper)
     write_all(out.parent, {out.name: renderers[out.suffix.lower()](drawing)})
@@ -600,8 +611,6 @@ def _cmd_import_assets(args: argparse.Namespace) -> int:
 
 
 def _cmd_export(args: argparse.Namespace) -> int:
-    import datetime as dt
-
     from workpack.exports import TABLE_KINDS, ExportInputs, build_tables
     from workpack.history import history_from_records
     from workpack.loading import load_plant
@@ -610,9 +619,7 @@ def _cmd_export(args: argparse.Namespace) -> int:
 
     kinds = list(dict.fromkeys(args.what or ["records", "readings", "due"]))
     needs = set().union(*(TABLE_KINDS[kind].needs for kind in kinds))
-    as_of = _date_option("--as-of", args.as_of) or dt.date.today()
-    if args.days < 0:
-        raise UsageError(f"--days {args.days}: give 0 or more days")
+    as_of = args.as_of or dt.date.today()
     if "plant" in needs and not args.plant:
         wanting = ", ".join(k for k in kinds if "plant" in TABLE_KINDS[k].needs)
         raise UsageError(f"--plant: the {wanting} table needs the plant inventory")
@@ -696,16 +703,22 @@ def build_parser() -> argparse.ArgumentParser:
     quick = diagnose.add_argument_group(
         "quick mode", "three phase-to-earth readings, no plant file; units may be written "
                       "with the number (2.2uF)")
-    quick.add_argument("--volts", help="line-to-line voltage of the system, e.g. 440")
-    quick.add_argument("--hertz", help="frequency, e.g. 60")
+    quick.add_argument("--volts", type=_option("--volts", _quantity("voltage", above_zero=True)),
+                       help="line-to-line voltage of the system, e.g. 440")
+    quick.add_argument("--hertz", type=_option("--hertz", _quantity("frequency")),
+                       help="frequency, e.g. 60")
     quick.add_argument("--capacitance-per-phase",
+                       type=_option("--capacitance-per-phase",
+                                    _quantity("capacitance", above_zero=True)),
                        help="each phase's capacitance to earth, e.g. 2.2e-6 or 2.2uF; "
                             "without it only the displacement is found")
     quick.add_argument("--reading", action="append", metavar="PHASE=VOLTS",
+                       type=_option("--reading", _phase_reading),
                        help="one phase-to-earth reading, e.g. A=400 (give three)")
     quick.add_argument("--sequence", help="phase sequence, e.g. ABC or ACB (default: the "
                                           "phase labels in alphabetical order, e.g. A-B-C)")
-    quick.add_argument("--tolerance", type=float, default=1.0, metavar="PERCENT",
+    quick.add_argument("--tolerance", type=_option("--tolerance", _percent), default=1.0,
+                       metavar="PERCENT",
                        help="meter accuracy, percent of reading, plus 1 V (default 1)")
     diagnose.set_defaults(run=_cmd_diagnose)
 
@@ -720,8 +733,9 @@ def build_parser() -> argparse.ArgumentParser:
     locate.add_argument("--weights", default=str(rules_folder() / "search-weights.yaml"),
                         help="likelihood and cost weights (default: the shipped "
                              "rules/search-weights.yaml)")
-    locate.add_argument("--date", help="the day of the search (YYYY-MM-DD), for recent work; "
-                                       "default: the findings' date, else today")
+    locate.add_argument("--date", type=_option("--date", _day),
+                        help="the day of the search (YYYY-MM-DD), for recent work; "
+                             "default: the findings' date, else today")
     locate.add_argument("--one-at-a-time", action="store_true",
                         help="never open feeders in groups")
     locate.add_argument("--json", action="store_true", help="print JSON")
@@ -733,9 +747,11 @@ def build_parser() -> argparse.ArgumentParser:
     plan.add_argument("findings", metavar="FINDINGS",
                       help="the day's findings (YAML, or CSV from a rounds log)")
     plan.add_argument("--out", required=True, metavar="DIR", help="folder for the packages")
-    plan.add_argument("--date", help="the day planned for (YYYY-MM-DD); default: the day "
-                                     "after the findings' date")
-    plan.add_argument("--crew-hours", type=float, default=16.0, metavar="H",
+    plan.add_argument("--date", type=_option("--date", _day),
+                      help="the day planned for (YYYY-MM-DD); default: the day after the "
+                           "findings' date")
+    plan.add_argument("--crew-hours", type=_option("--crew-hours", _hours), default=16.0,
+                      metavar="H",
                       help="person-hours available (default 16: two people, a day)")
     plan.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
     plan.add_argument("--rules", default=str(rules_folder()), metavar="DIR",
@@ -757,7 +773,9 @@ def build_parser() -> argparse.ArgumentParser:
                         help="the filled results sheet (YAML) or the filled package PDF")
     _store_options(record)
     record.add_argument("--by", help="who records it (default: the technician)")
-    record.add_argument("--at", help="when (ISO date and time; default: now)")
+    record.add_argument("--at", type=_option("--at", _moment),
+                        help="when (ISO date and time; default: now; UTC unless a zone "
+                             "is given)")
     record.add_argument("--supersedes", type=int, metavar="N",
                         help="this corrects record N (records are never changed)")
     record.add_argument("--followups", metavar="FILE",
@@ -774,11 +792,11 @@ def build_parser() -> argparse.ArgumentParser:
     audit.add_argument("--packages", action="append", required=True, metavar="DIR",
                        help="folder of issued packages (their JSON twins); repeat as needed")
     audit.add_argument("--from", dest="since", metavar="YYYY-MM-DD",
-                       help="first package date included")
+                       type=_option("--from", _day), help="first package date included")
     audit.add_argument("--to", dest="until", metavar="YYYY-MM-DD",
-                       help="packages dated before this day")
+                       type=_option("--to", _day), help="packages dated before this day")
     audit.add_argument("--plant-name", help="only packages of this plant")
-    audit.add_argument("--as-of", metavar="YYYY-MM-DD",
+    audit.add_argument("--as-of", metavar="YYYY-MM-DD", type=_option("--as-of", _day),
                        help="the day open packages become overdue (default: --to, else today)")
     audit.add_argument("--code-set", default="ieee43-2013",
                        help="tables for insulation trends whose readings name none")
@@ -800,6 +818,7 @@ def build_parser() -> argparse.ArgumentParser:
         "draw", help="the whole plant's one-line drawing (PDF or SVG), systems framed")
     draw.add_argument("plant", metavar="PLANT", help="plant inventory (YAML)")
     draw.add_argument("--out", required=True, metavar="FILE",
+                      type=_option("--out", _drawing_file),
                       help="FILE.pdf (one page per sheet) or FILE.svg (sheets one under "
                            "the other)")
     draw.add_argument("--paper", choices=["A3", "A2", "A1", "A0"], default="A3",
@@ -850,9 +869,9 @@ def build_parser() -> argparse.ArgumentParser:
                                         "whose records to export")
     export.add_argument("--db", help="records store: an SQLite file, or a postgresql:// URL "
                                      "of an office store")
-    export.add_argument("--as-of", metavar="YYYY-MM-DD",
+    export.add_argument("--as-of", metavar="YYYY-MM-DD", type=_option("--as-of", _day),
                         help="the day the due list counts from (default: today)")
-    export.add_argument("--days", type=int, default=30,
+    export.add_argument("--days", type=_option("--days", _days), default=30,
                         help="the due list covers tests due within this many days "
                              "(default 30); overdue ones are always in")
     export.add_argument("--out", required=True, metavar="FILE.xlsx|FILE.csv|DIR",
@@ -869,8 +888,8 @@ def build_parser() -> argparse.ArgumentParser:
 
 def main(argv: Sequence[str] | None = None) -> int:
     parser = build_parser()
-    args = parser.parse_args(argv)
     try:
+        args = parser.parse_args(argv)  # a bad option value is a UsageError (see _option)
         return int(args.run(args))
     except WorkpackError as error:
         sys.stderr.write(error.format_message() + "\n")

@@ -780,6 +780,26 @@ def summarize_readings(result: GroundDiagnosis,
         lowest_reading_phase=result.lowest_reading_phase, best_fit=result)
 
 
+def diagnose_readings(readings: Mapping[str, float], line_voltage_v: float,
+                      sequence: str | None = None, *, frequency_hz: float | None = None,
+                      capacitance_f: float | None = None,
+                      tolerance_percent: float = 1.0) -> ReadingSummary:
+    """Three phase-to-earth readings (V) taken at a switchboard, with no plant file: the
+    ground they show and the hazards that stand with it.
+
+    ``sequence`` defaults to the phase labels in alphabetical order ("A-B-C"). The
+    frequency (Hz) matters only with a capacitance per phase (F): without one there is
+    no fault resistance to find. ``tolerance_percent`` of reading, plus 1 V, is the
+    meter's accuracy. ValueError for readings that cannot be diagnosed.
+    """
+    result = diagnose_ground(readings, line_voltage_v, sequence or "-".join(sorted(readings)),
+                             frequency_hz=frequency_hz if capacitance_f is not None else None,
+                             capacitance_f=capacitance_f,
+                             tolerance=MeterTolerance(relative=tolerance_percent / 100))
+    hazards = ground_hazards(line_voltage_v, readings, result.fault_current_a)
+    return summarize_readings(result, hazards)
+
+
 def healthy_phase_to_earth(line_voltage_v: float) -> float:
     """Each phase to earth on a healthy, balanced insulated system: V_LL/√3, V."""
     return line_to_neutral(line_voltage_v)
@@ -787,7 +807,7 @@ def healthy_phase_to_earth(line_voltage_v: float) -> float:
 
 __all__ = ["Burden", "Conclusion", "DayDiagnosis", "Diagnosis", "Ground", "InsulationTest",
            "ReadingSummary", "conclude", "connected_load_va", "correction_column",
-           "detector_burden_ohm", "diagnose_day", "diagnose_finding", "downstream_loads",
-           "equipment_family", "healthy_phase_to_earth", "insulation_code_set",
+           "detector_burden_ohm", "diagnose_day", "diagnose_finding", "diagnose_readings",
+           "downstream_loads", "equipment_family", "healthy_phase_to_earth", "insulation_code_set",
            "insulation_tests", "island_burden", "rated_voltage", "summarize_readings",
            "transformer_insulation", "winding_of"]

@@ -7,7 +7,7 @@ validated data for the pure core.
 from __future__ import annotations
 
 import io
-from collections.abc import Callable, Iterator
+from collections.abc import Iterator
 from contextlib import contextmanager
 from pathlib import Path
 from typing import Any, TypeVar
@@ -439,14 +439,10 @@ def _cell_starts(raw: str) -> list[int]:
     return starts
 
 
-def load_model(path: Path, model: type[Model], what: str,
-               after: Callable[[Model, Marks], None] | None = None) -> Model:
-    """Read a YAML file as ``model``; ``after`` may raise located problems of its own."""
+def load_model(path: Path, model: type[Model], what: str) -> Model:
+    """Read a YAML file as ``model``."""
     data, marks = parse_yaml(read_text(path), str(path))
-    loaded = validate(model, data, marks, what)
-    if after is not None:
-        after(loaded, marks)
-    return loaded
+    return validate(model, data, marks, what)
 
 
 def load_weights(path: Path) -> SearchWeights:

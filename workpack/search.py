@@ -23,6 +23,7 @@ from workpack.diagnose import downstream_loads, insulation_tests
 from workpack.electrical import dc_test_voltage, line_to_neutral, minimum_insulation_resistance
 from workpack.electrical.standards import CodeSet
 from workpack.isolation import STAGES, IsolationPlan, IsolationPoint, plan_isolation
+from workpack.model.findings import Findings
 from workpack.model.plant import (
     Bus,
     Cable,
@@ -174,6 +175,30 @@ def search_place(topology: Topology, place: str) -> str | None:
 def system_of(topology: Topology, place: str) -> str:
     """Id of the normal-state system holding a detector, bus or element."""
     return _board(topology, place)[0].id
+
+
+def search_refused(topology: Topology, place: str) -> str | None:
+    """Why no ground search can start at ``place`` (a detector, bus or item), or None.
+
+    On a solidly grounded system a ground trips its protection: there is no standing
+    indication to search for."""
+    island = _board(topology, place)[0]
+    if island.earthing is not None and island.earthing.value == "solid":
+        return (f"the {island.id} system is solidly grounded: a ground there trips its "
+                "protection; there is no standing indication to search for")
+    return None
+
+
+def as_found_voltages(topology: Topology, findings: Findings,
+                      place: str) -> dict[str, float] | None:
+    """The day's latest phase-to-earth readings (V by phase) on the system of ``place``,
+    or None when the findings hold none there."""
+    system = system_of(topology, place)
+    latest = None
+    for finding in findings.findings:
+        if finding.kind == "phase_voltages" and system_of(topology, finding.where) == system:
+            latest = dict(finding.volts)
+    return latest
 
 
 def _board(topology: Topology, place: str) -> tuple[Island, str]:

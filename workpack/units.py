@@ -156,21 +156,6 @@ def plausible(value: float, kind: str) -> float:
     return value
 
 
-def _kind(kind: str) -> Kind:
-    return KINDS[kind]
-
-
-def parse_quantity(text: str) -> tuple[Fraction, str]:
-    """The number (exact) and the unit symbol of ``text``; the unit is '' when bare.
-
-    Refuses anything that is not a number followed by a single known unit symbol.
-    """
-    number, unit = _split(text)
-    if unit and unit not in UNITS:
-        raise UnitProblem(_unknown_unit(text, unit, None))
-    return number, unit
-
-
 def _split(text: str, example: str = "440 V") -> tuple[Fraction, str]:
     """A number at the start of ``text``, and what follows it (normalised, not checked)."""
     if len(text) > MAX_LENGTH:
@@ -189,11 +174,11 @@ def _split(text: str, example: str = "440 V") -> tuple[Fraction, str]:
     return Fraction(number_text), unit
 
 
-def _unknown_unit(text: str, unit: str, kind: str | None) -> str:
+def _unknown_unit(text: str, unit: str, kind: str) -> str:
     if any(char in unit for char in "*^()+"):
         return (f"{unit!r} in {text!r} is not a unit symbol: write one unit, such as "
                 "'kV' or 'uF/km'; no arithmetic")
-    known = sorted(symbol for symbol, known in UNITS.items() if kind in (None, known.kind))
+    known = sorted(symbol for symbol, known in UNITS.items() if known.kind == kind)
     close = [symbol for symbol in known if symbol.lower() == unit.lower()] or \
         difflib.get_close_matches(unit, known, n=3, cutoff=0.7)
     hint = (" (did you mean " + " or ".join(repr(c) for c in close) + "?)") if close else ""
@@ -206,7 +191,7 @@ def to_si(value: Any, kind: str) -> float:
     >>> to_si("2.2 uF", "capacitance")
     2.2e-06
     """
-    expected = _kind(kind)
+    expected = KINDS[kind]
     if isinstance(value, bool):
         raise UnitProblem(f"expected a {expected.name}, got {value!r}")
     if isinstance(value, int):
@@ -226,7 +211,7 @@ def to_si(value: Any, kind: str) -> float:
 
 @lru_cache(maxsize=8192)  # plant files repeat the same few quantities thousands of times
 def _text_to_si(value: str, kind: str) -> float:
-    expected = _kind(kind)
+    expected = KINDS[kind]
     number, symbol = _split(value, expected.example)
     if symbol and symbol not in UNITS:
         raise UnitProblem(_unknown_unit(value, symbol, kind))
@@ -234,7 +219,7 @@ def _text_to_si(value: str, kind: str) -> float:
         return _finite(_to_float(number), value)
     unit = UNITS[symbol]
     if unit.kind != kind:
-        found = _kind(unit.kind)
+        found = KINDS[unit.kind]
         raise UnitProblem(f"{symbol!r} is not a unit of {expected.name}: it is a unit of "
                           f"{found.name} (expected something like "
                           f"{expected.example.split()[-1]})")

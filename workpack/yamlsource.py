@@ -30,7 +30,8 @@ MAX_DIGITS = 4300
 # Far deeper than any workpack file (a plant nests about six levels).
 MAX_DEPTH = 100
 
-Path = tuple[str | int, ...]
+# A field's place in a document: keys and list indexes from the top.
+FieldPath = tuple[str | int, ...]
 
 _SURROGATE = re.compile("[\ud800-\udfff]")
 # YAML 1.1's printable set (5.1); anything else is refused by the reader, which
@@ -51,7 +52,7 @@ class Marks:
     file: str
     root: yaml.Node | None = None
 
-    def locate(self, path: Path, at_key: bool = False) -> tuple[int, int]:
+    def locate(self, path: FieldPath, at_key: bool = False) -> tuple[int, int]:
         """Line and column (1-based) of the value at ``path``, or of its nearest parent.
 
         With ``at_key``, the place of the last key itself (for an unknown field).
@@ -70,7 +71,7 @@ class Marks:
                 break  # what lies inside was written at the anchor, not here
         return (node.start_mark.line + 1, node.start_mark.column + 1)
 
-    def problem(self, path: Path, message: str, at_key: bool = False) -> Problem:
+    def problem(self, path: FieldPath, message: str, at_key: bool = False) -> Problem:
         line, column = self.locate(path, at_key)
         return Problem(self.file, line, column, format_path(path), message)
 
@@ -79,9 +80,9 @@ class Marks:
 class TableMarks(Marks):
     """Places of values read from a table (CSV): known up front, one per cell."""
 
-    places: dict[Path, tuple[int, int]] | None = None
+    places: dict[FieldPath, tuple[int, int]] | None = None
 
-    def locate(self, path: Path, at_key: bool = False) -> tuple[int, int]:
+    def locate(self, path: FieldPath, at_key: bool = False) -> tuple[int, int]:
         places = self.places or {}
         while path not in places and path:
             path = path[:-1]
@@ -99,7 +100,7 @@ def _child(node: yaml.Node, part: str | int) -> tuple[yaml.Node | None, yaml.Nod
     return None
 
 
-def format_path(path: Path) -> str:
+def format_path(path: FieldPath) -> str:
     text = ""
     for part in path:
         if isinstance(part, int):
@@ -310,7 +311,7 @@ def _expanded_size(root: yaml.Node) -> int:
     return size(root)
 
 
-def _yaml_problem(error: yaml.MarkedYAMLError, file: str, text: str = "") -> Problem:
+def _yaml_problem(error: yaml.MarkedYAMLError, file: str, text: str) -> Problem:
     """One line for a YAML error, at the place a person should look."""
     mark = error.problem_mark or error.context_mark
     what = error.problem or error.context or "malformed YAML"
