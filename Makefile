@@ -5,7 +5,7 @@ VENV := .venv
 BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 
-.PHONY: demo test lint bench fuzz clean
+.PHONY: demo test coverage lint bench fuzz clean
 
 $(STAMP): pyproject.toml
 	$(PYTHON) -m venv $(VENV)
@@ -23,8 +23,15 @@ lint: $(STAMP)
 	$(BIN)/ruff check workpack tests bench
 	$(BIN)/mypy
 
+# Every core at once (pytest-xdist); each test file stays on one worker, so a file's
+# module fixtures (a planned day, a records store) are built once.
+PYTEST_PARALLEL := -n logical --dist loadfile
+
 test: lint
-	$(BIN)/pytest
+	$(BIN)/pytest $(PYTEST_PARALLEL)
+
+coverage: $(STAMP)
+	$(BIN)/pytest $(PYTEST_PARALLEL) --cov=workpack --cov-report=term
 
 bench: $(STAMP)
 	for script in bench/bench_*.py; do echo "== $$script"; $(BIN)/python $$script || exit 1; done
@@ -35,4 +42,4 @@ fuzz: $(STAMP)
 	$(BIN)/python tests/fuzz/fuzz_inputs.py -n $(N) --jobs 2
 
 clean:
-	rm -rf $(VENV) out
+	rm -rf $(VENV) out .coverage

@@ -9,7 +9,6 @@ them: a word cut off the end of a cell, or drawn past the edge of the page, is m
 
 from __future__ import annotations
 
-import io
 import json
 import shutil
 from collections.abc import Iterator
@@ -143,12 +142,9 @@ def test_a_rounds_log_of_10000_rows(tmp_path: Path, capsys: Any) -> None:
 # --- close-out and audit: a job recorded for real ----------------------------------------
 
 @pytest.fixture(scope="module")
-def issued(tmp_path_factory: pytest.TempPathFactory) -> Path:
-    out = tmp_path_factory.mktemp("issued")
-    with pytest.MonkeyPatch.context() as patch:
-        patch.setattr("sys.stdout", io.StringIO())
-        plan(FINDINGS, out)
-    return out
+def issued(demo_plan: Path) -> Path:
+    """The demo day's packages as issued (planned once per session; only read here)."""
+    return demo_plan
 
 
 def record(issued: Path, tmp_path: Path, package_id: str, *, remarks: str | None = None,
