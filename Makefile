@@ -23,9 +23,9 @@ lint: $(STAMP)
 	$(BIN)/ruff check workpack tests bench
 	$(BIN)/mypy
 
-# Every core at once (pytest-xdist); each test file stays on one worker, so a file's
-# module fixtures (a planned day, a records store) are built once.
-PYTEST_PARALLEL := -n logical --dist loadfile
+# Every core at once (pytest-xdist). Work stealing keeps both cores busy to the end:
+# a few slow files (generated plants, long texts) would otherwise finish on one core.
+PYTEST_PARALLEL := -n logical --dist worksteal
 
 test: lint
 	$(BIN)/pytest $(PYTEST_PARALLEL)

@@ -117,3 +117,34 @@ def test_no_search_on_a_solidly_grounded_system(capsys) -> None:
     assert capsys.readouterr().err == (
         "DB-1: the DB-1 system is solidly grounded: a ground there trips its protection; "
         "there is no standing indication to search for\n")
+
+
+def test_a_plan_that_would_replace_an_issued_package_is_refused_before_planning(
+        demo_plan, tmp_path, capsys, monkeypatch) -> None:
+    """The refusal comes before the day is planned (no waiting on a big plant for it), and
+    the folder is left as it was."""
+    import datetime as dt
+    import shutil
+
+    from workpack.loading import load_package
+    from workpack.store import open_store
+
+    out = tmp_path / "out"
+    shutil.copytree(demo_plan, out)
+    twin = sorted(out.glob("WP-*.json"))[0]
+    package, digest = load_package(twin)
+    db = tmp_path / "records.sqlite"
+    with open_store(db) as store:
+        store.append(package_id=package.id, package_sha256=digest, results={"results": {}},
+                     recorded_by="x", recorded_at=dt.datetime(2026, 12, 2, 16, tzinfo=dt.UTC),
+                     verdict="passed")
+    before = {p.name: p.read_bytes() for p in out.iterdir()}
+
+    def no_planning(*args, **kwargs):
+        raise AssertionError("planned although the folder refuses the plan")
+
+    monkeypatch.setattr("workpack.plan.plan_day", no_planning)
+    assert main(["plan", VESSEL, str(ROOT / "plants" / "demo-vessel-findings.yaml"), "--out",
+                 str(out), "--db", str(db)]) == 2
+    assert f"package {package.id} was issued and has record 1" in capsys.readouterr().err
+    assert {p.name: p.read_bytes() for p in out.iterdir()} == before

@@ -264,7 +264,7 @@ def _cmd_locate(args: argparse.Namespace) -> int:
 
 def _cmd_plan(args: argparse.Namespace) -> int:
     from workpack.loading import load_findings, load_plant, load_ruleset, load_weights
-    from workpack.output import write_all
+    from workpack.output import reading, write_all
     from workpack.plan import plan_day
     from workpack.render.daysheet import render_day_sheet
     from workpack.render.pdf import render_package
@@ -279,6 +279,11 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     ruleset = load_ruleset(rules)
     weights = load_weights(rules / "search-weights.yaml")
     history = _history(args, plant)
+    out = Path(args.out)
+    replaces = _earlier_plan(day, plant.plant.name, _default_db(args))
+    if out.is_dir():  # refuse before the work, not after it; write_all asks again, locked
+        with reading(out):
+            replaces(out)
     progress = _Progress("planning") if sys.stderr.isatty() else None
     result = plan_day(plant, topology, findings, day, ruleset, _standards(), weights,
                       args.crew_hours, history=history, progress=progress)
@@ -292,8 +297,7 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     files[f"day-{day.isoformat()}.pdf"] = render_day_sheet(
         result.plant, day, result.packages, result.scheduled, result.deferred,
         [c.text for c in result.conflicts], result.crew_hours, args.page_size)
-    written = write_all(Path(args.out), files,
-                        replaces=_earlier_plan(day, result.plant, _default_db(args)))
+    written = write_all(out, files, replaces=replaces)
     sys.stdout.write(day_plan(result) + f"\n{len(written)} files written to {written[0].parent}\n")
     return 0
 
