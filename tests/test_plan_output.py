@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import functools
 import json
 import math
 import shutil
@@ -27,8 +28,13 @@ def output(demo_plan: Path) -> Path:
     return demo_plan
 
 
+@functools.cache  # the demo's PDFs are read by several tests; extracting text is slow
+def page_texts(pdf: Path) -> tuple[str, ...]:
+    return tuple(page.extract_text() for page in PdfReader(pdf).pages)
+
+
 def text_of(pdf: Path) -> str:
-    return "\n".join(page.extract_text() for page in PdfReader(pdf).pages)
+    return "\n".join(page_texts(pdf))
 
 
 def package_by_rule(output: Path, rule: str) -> tuple[dict, str]:
@@ -79,9 +85,8 @@ def test_grounded_insulated_systems_carry_the_second_ground_caution_on_paper(
 
 def test_every_page_names_the_package_and_defers_to_local_codes(output: Path) -> None:
     for pdf in sorted(output.glob("WP-*.pdf")):
-        pages = PdfReader(pdf).pages
-        for number, page in enumerate(pages, start=1):
-            text = page.extract_text()
+        pages = page_texts(pdf)
+        for number, text in enumerate(pages, start=1):
             assert pdf.stem in text and f"Page {number} of {len(pages)}" in text
         assert "licensed practice prevail" in text_of(pdf)
 
@@ -111,10 +116,18 @@ def test_a_broken_rule_writes_nothing(tmp_path: Path, capsys) -> None:
 
 
 def test_letter_paper_on_request(tmp_path: Path) -> None:
+    """Every page of every package and of the day sheet (a quiet day: routine tests only,
+    which is quicker to plan than the demo's findings and prints the same way)."""
+    quiet = tmp_path / "quiet.yaml"
+    quiet.write_text("date: 2026-12-01\nfindings: []\n", encoding="utf-8")
     out = tmp_path / "letter"
-    assert run_plan(out, "--page-size", "Letter") == 0
-    page = PdfReader(next(out.glob("WP-*.pdf"))).pages[0]
-    assert (round(float(page.mediabox.width)), round(float(page.mediabox.height))) == (612, 792)
+    assert main(["plan", VESSEL, str(quiet), "--out", str(out), "--page-size", "Letter"]) == 0
+    pdfs = sorted(out.glob("*.pdf"))
+    assert len(pdfs) >= 2
+    for pdf in pdfs:
+        for page in PdfReader(pdf).pages:
+            assert (round(float(page.mediabox.width)),
+                    round(float(page.mediabox.height))) == (612, 792), pdf.name
 
 
 def test_planning_again_into_the_same_folder_leaves_no_stale_packages(output: Path,
