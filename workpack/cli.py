@@ -15,8 +15,6 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
-from pydantic import BaseModel
-
 from workpack.errors import UsageError, WorkpackError, did_you_mean
 
 # The shipped rules and weights, beside the package in a checkout.
@@ -481,17 +479,22 @@ def _cmd_closeout(args: argparse.Namespace) -> int:
 
 
 def _cmd_schema(args: argparse.Namespace) -> int:
-    from workpack.model.assetmap import AssetMap
-    from workpack.model.findings import Findings
-    from workpack.model.plant import Plant
-    from workpack.model.results import Results
+    from workpack.model.schemas import INPUT_FILES, file_name, schema_text
+    from workpack.output import write_all
 
-    models: dict[str, type[BaseModel]] = {"plant": Plant, "findings": Findings,
-                                          "results": Results, "asset-map": AssetMap}
-    model = models[args.what]
-    schema = model.model_json_schema(by_alias=True)
-    schema["title"] = f"workpack {args.what} file"
-    sys.stdout.write(json.dumps(schema, indent=2, sort_keys=True, ensure_ascii=False) + "\n")
+    if args.all == (args.what is not None):
+        raise UsageError("schema: name one file (" + ", ".join(INPUT_FILES) + ") or give "
+                         "--all")
+    if args.out is None:
+        if args.all:
+            raise UsageError("schema --all writes one file per schema: give --out DIR")
+        sys.stdout.write(schema_text(args.what))
+        return 0
+    names = list(INPUT_FILES) if args.all else [args.what]
+    out = Path(args.out)
+    write_all(out, {file_name(name): schema_text(name).encode("utf-8") for name in names})
+    for name in names:
+        sys.stdout.write(f"{out / file_name(name)}\n")
     return 0
 
 
@@ -805,9 +808,20 @@ def build_parser() -> argparse.ArgumentParser:
                              "or a folder (a CSV file per table)")
     export.set_defaults(run=_cmd_export)
 
-    schema = commands.add_parser("schema", help="print the JSON Schema of an input file")
-    schema.add_argument("what", choices=["plant", "findings", "results", "asset-map"],
-                        help="which file")
+    from workpack.model.schemas import INPUT_FILES
+
+    schema = commands.add_parser(
+        "schema", help="the JSON Schema of an input file, for editors and validators",
+        description="Print the JSON Schema of one kind of input file, or write them all. "
+                    "The same schemas ship in workpack/data/schemas/; the demo YAML files "
+                    "point editors at them on their first line.")
+    schema.add_argument("what", nargs="?", choices=list(INPUT_FILES),
+                        help="which file: " + "; ".join(f"{name}: {what}" for name, (_, what)
+                                                        in INPUT_FILES.items()))
+    schema.add_argument("--all", action="store_true", help="every schema (needs --out)")
+    schema.add_argument("--out", metavar="DIR",
+                        help="write NAME.schema.json files into DIR (atomically) instead of "
+                             "printing")
     schema.set_defaults(run=_cmd_schema)
     return parser
 
