@@ -71,8 +71,9 @@ class Observation(Strict):
     note: str | None = Field(default=None, description="anything else worth knowing, in words",
                              examples=["changed since the evening rounds"])
     intermittent: bool = Field(default=False,
-                               description="true when the indication comes and goes (an "
-                                           "arcing ground? it is then urgent)",
+                               description="true when the indication comes and goes "
+                                           "(an arcing ground: a ground that comes and goes "
+                                           "is urgent)",
                                examples=[True])
 
 
@@ -102,7 +103,7 @@ class PhaseVoltages(Observation):
                                                        "C": "209 V"}])
     meter_tolerance_percent: float | None = Field(
         default=None, gt=0, le=20, description="accuracy of the meter used, in percent of "
-                                               "full scale; defaults to the detector's",
+                                               "the reading; defaults to the detector's",
         examples=[2.5])
 
 

@@ -228,9 +228,9 @@ class Element(Strict):
     """Any part of the plant; every kind below adds its own fields."""
 
     id: Id = Field(description=f"unique id of the element in the whole plant, as marked on "
-                               f"it where possible: {ID_RULE}", examples=["CB-MCC1", "SG-1"])
+                               f"it where possible: {ID_RULE}", examples=["MSB", "CB-MCC1", "SG-1"])
     name: str | None = Field(default=None, description="plain name, printed beside the id",
-                             examples=["steering gear pump 1"])
+                             examples=["main switchboard", "steering gear pump 1"])
     location: str | None = Field(
         default=None, description="where to find it, as a technician would look for it "
                                   "(printed in packages)",
@@ -319,8 +319,8 @@ class Source(Element):
     kind: SourceKind = Field(description="what kind of source", examples=["generator"])
     voltage: Volts = Field(description="rated line-to-line output voltage, e.g. '450 V'",
                            examples=["450 V"])
-    rated_kva: Watts | None = Field(default=None, description="rated apparent power, e.g. "
-                                    "'625 kVA'", examples=["625 kVA"])
+    rated_kva: Watts | None = Field(default=None, description="rated apparent power in kVA, "
+                                    "e.g. '625 kVA'", examples=["625 kVA"])
     starts_automatically: bool = Field(
         default=False, description="true when it starts by itself, e.g. an emergency "
                                    "generator that starts on blackout", examples=[True])
@@ -382,8 +382,9 @@ class Detector(Strict):
         default=None, description="insulation monitor's earlier warning setting in ohms, "
                                   "above the alarm, e.g. '50 kΩ'", examples=["50 kΩ"])
     meter_tolerance_percent: float = Field(default=2.5, gt=0, le=20,
-                                           description="voltmeter accuracy class, in percent "
-                                                       "of full scale", examples=[2.5])
+                                           description="voltmeter accuracy in percent of the "
+                                                       "reading (the diagnosis allows it on "
+                                                       "each reading)", examples=[2.5])
     # The detector's own burden: it is part of the circuit it watches (see diagnose.py).
     lamp_power: Watts | None = Field(
         default=None, description="rating of each lamp wired from a phase to earth, in "
