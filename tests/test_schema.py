@@ -90,6 +90,16 @@ def test_schema_usage_mistakes_are_one_line(argv: list[str], message: str, capsy
     assert (captured.out, captured.err) == ("", message)
 
 
+def test_a_folder_that_cannot_be_written_is_one_line_and_nothing_written(tmp_path,
+                                                                         capsys) -> None:
+    blocker = tmp_path / "schemas"
+    blocker.write_text("a file, not a folder", encoding="utf-8")
+    assert main(["schema", "--all", "--out", str(blocker)]) == 2
+    captured = capsys.readouterr()
+    assert (captured.out, captured.err) == ("", f"{blocker}: cannot write here (File exists)\n")
+    assert blocker.read_text(encoding="utf-8") == "a file, not a folder"
+
+
 def test_one_schema_can_be_written_to_a_folder(tmp_path, capsys) -> None:
     assert main(["schema", "rules", "--out", str(tmp_path)]) == 0
     assert [p.name for p in tmp_path.iterdir()] == ["rules.schema.json"]

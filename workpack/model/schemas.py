@@ -8,27 +8,26 @@ a test keeps them equal.
 
 from __future__ import annotations
 
+import importlib
 import json
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from pydantic import BaseModel
-
-from workpack.model.assetmap import AssetMap
-from workpack.model.findings import Findings
-from workpack.model.plant import Plant
-from workpack.model.results import Results
-from workpack.model.rules import CautionLibrary, RuleFile
-from workpack.model.weights import SearchWeights
+if TYPE_CHECKING:
+    from pydantic import BaseModel
 
 # name → (model, what the file is); the name is also the file name, <name>.schema.json.
-INPUT_FILES: dict[str, tuple[type[BaseModel], str]] = {
-    "plant": (Plant, "plant inventory (plants/*.yaml)"),
-    "findings": (Findings, "day's findings"),
-    "results": (Results, "results of one work package"),
-    "rules": (RuleFile, "rule file (rules/*.yaml)"),
-    "cautions": (CautionLibrary, "caution library (rules/cautions.yaml)"),
-    "search-weights": (SearchWeights, "search weights (rules/search-weights.yaml)"),
-    "asset-map": (AssetMap, "asset map (how an asset list becomes a plant inventory)"),
+# Models by import path: the command line lists the names without loading every model.
+INPUT_FILES: dict[str, tuple[str, str]] = {
+    "plant": ("workpack.model.plant:Plant", "plant inventory (plants/*.yaml)"),
+    "findings": ("workpack.model.findings:Findings", "day's findings"),
+    "results": ("workpack.model.results:Results", "results of one work package"),
+    "rules": ("workpack.model.rules:RuleFile", "rule file (rules/*.yaml)"),
+    "cautions": ("workpack.model.rules:CautionLibrary",
+                 "caution library (rules/cautions.yaml)"),
+    "search-weights": ("workpack.model.weights:SearchWeights",
+                       "search weights (rules/search-weights.yaml)"),
+    "asset-map": ("workpack.model.assetmap:AssetMap",
+                  "asset map (how an asset list becomes a plant inventory)"),
 }
 
 DIALECT = "https://json-schema.org/draft/2020-12/schema"
@@ -38,10 +37,16 @@ def file_name(name: str) -> str:
     return f"{name}.schema.json"
 
 
+def input_model(name: str) -> type[BaseModel]:
+    module, _, model = INPUT_FILES[name][0].partition(":")
+    found: type[BaseModel] = getattr(importlib.import_module(module), model)
+    return found
+
+
 def input_schema(name: str) -> dict[str, Any]:
     """The JSON Schema of input file ``name`` (a key of ``INPUT_FILES``)."""
-    model, what = INPUT_FILES[name]
-    schema = model.model_json_schema(by_alias=True)
+    schema = input_model(name).model_json_schema(by_alias=True)
+    what = INPUT_FILES[name][1]
     schema["$schema"] = DIALECT
     schema["title"] = f"workpack {name} file"
     schema["description"] = f"workpack {what}. {schema.get('description', '')}"
@@ -50,13 +55,21 @@ def input_schema(name: str) -> dict[str, Any]:
 
 def _one_line_descriptions(node: Any) -> Any:
     """Docstrings wrap at the code's line length; an editor's hover should not."""
-    if isinstance(node, dict):
-        return {key: " ".join(value.split()) if key == "description" and isinstance(value, str)
-                else value if key in ("examples", "default") else _one_line_descriptions(value)
-                for key, value in node.items()}
     if isinstance(node, list):
         return [_one_line_descriptions(item) for item in node]
-    return node
+    if not isinstance(node, dict):
+        return node
+    flat: dict[str, Any] = {}
+    for key, value in node.items():
+        if key in ("properties", "$defs", "patternProperties"):  # name → schema
+            flat[key] = {name: _one_line_descriptions(sub) for name, sub in value.items()}
+        elif key == "description" and isinstance(value, str):
+            flat[key] = " ".join(value.split())
+        elif key in ("examples", "default", "const", "enum"):  # data, kept as written
+            flat[key] = value
+        else:
+            flat[key] = _one_line_descriptions(value)
+    return flat
 
 
 def schema_text(name: str) -> str:
