@@ -175,13 +175,13 @@ def test_every_example_and_default_fits_its_own_property(name: str, path: str,
     """Checked by jsonschema against the property's schema (its $refs resolved)."""
     root = shipped(name)
     alone = {k: v for k, v in prop.items() if k not in ("examples", "default")}
-    validator = validator_for({**alone, "$defs": root.get("$defs", {})})
-    for example in prop.get("examples", []):
-        errors = [e.message for e in validator.iter_errors(example)]
-        assert not errors, f"{name}{path}: example {example!r}: {errors}"
-    if "default" in prop:
-        errors = [e.message for e in validator.iter_errors(prop["default"])]
-        assert not errors, f"{name}{path}: default {prop['default']!r}: {errors}"
+    for validator in validators({**alone, "$defs": root.get("$defs", {})}):
+        for example in prop.get("examples", []):
+            errors = [e.message for e in validator.iter_errors(example)]
+            assert not errors, f"{name}{path}: example {example!r}: {errors}"
+        if "default" in prop:
+            errors = [e.message for e in validator.iter_errors(prop["default"])]
+            assert not errors, f"{name}{path}: default {prop['default']!r}: {errors}"
 
 
 def mentions(text: str, value: Any) -> bool:
@@ -234,11 +234,60 @@ def test_the_choice_check_can_fail() -> None:
 RFC3339 = re.compile(r"^\d{4}-\d{2}-\d{2}[Tt ]\d{2}:\d{2}:\d{2}(\.\d+)?([Zz]|[+-]\d{2}:\d{2})$")
 
 
-def validator_for(schema: dict[str, Any]) -> Any:
+def validators(schema: dict[str, Any]) -> list[Any]:
+    """Draft 7 (as the schema declares, and as editors read it) and 2020-12 (the draft
+    pydantic writes for), both checking formats as strictly as an editor does."""
     checker = jsonschema.FormatChecker()
     checker.checks("date-time")(lambda text: not isinstance(text, str)
                                 or RFC3339.match(text) is not None)
-    return jsonschema.Draft202012Validator(schema, format_checker=checker)
+    return [jsonschema.Draft7Validator(schema, format_checker=checker),
+            jsonschema.Draft202012Validator(schema, format_checker=checker)]
+
+
+@pytest.mark.parametrize("name", list(INPUT_FILES))
+def test_the_schema_is_a_valid_draft_7_schema(name: str) -> None:
+    schema = shipped(name)
+    # http://, not https://: vscode-yaml 1.16.0 could not resolve the https:// form (#1096)
+    assert schema["$schema"] == "http://json-schema.org/draft-07/schema#"
+    jsonschema.Draft7Validator.check_schema(schema)
+    jsonschema.Draft202012Validator.check_schema(schema)
+
+
+# Keywords draft 7 defines (Draft 7 validation and core, sections 6-10), and the three
+# pydantic adds that draft 7 does not know, each harmless there (see model/schemas.py).
+DRAFT_7 = {"$schema", "$id", "$ref", "$comment", "title", "description", "default",
+           "examples", "readOnly", "writeOnly", "type", "enum", "const", "multipleOf",
+           "maximum", "exclusiveMaximum", "minimum", "exclusiveMinimum", "maxLength",
+           "minLength", "pattern", "items", "additionalItems", "maxItems", "minItems",
+           "uniqueItems", "contains", "maxProperties", "minProperties", "required",
+           "properties", "patternProperties", "additionalProperties", "dependencies",
+           "propertyNames", "if", "then", "else", "allOf", "anyOf", "oneOf", "not", "format",
+           "contentMediaType", "contentEncoding", "definitions"}
+UNKNOWN_TO_DRAFT_7 = {"$defs", "prefixItems", "discriminator"}
+
+
+def schema_nodes(node: Any) -> Iterator[dict[str, Any]]:
+    if isinstance(node, list):
+        for item in node:
+            yield from schema_nodes(item)
+    elif isinstance(node, dict):
+        yield node
+        for key, value in node.items():
+            if key in ("properties", "$defs", "patternProperties"):
+                for sub in value.values():
+                    yield from schema_nodes(sub)
+            elif key not in ("examples", "default", "const", "enum", "discriminator"):
+                yield from schema_nodes(value)
+
+
+@pytest.mark.parametrize("name", list(INPUT_FILES))
+def test_the_schema_uses_only_what_draft_7_editors_read(name: str) -> None:
+    """Draft 7 ignores every word beside a "$ref": a field's description must not sit there."""
+    nodes = list(schema_nodes(shipped(name)))
+    used = {key for node in nodes for key in node}
+    assert used - DRAFT_7 <= UNKNOWN_TO_DRAFT_7, used - DRAFT_7 - UNKNOWN_TO_DRAFT_7
+    beside_a_ref = [node for node in nodes if "$ref" in node and len(node) > 1]
+    assert not beside_a_ref, beside_a_ref[:3]
 
 
 class EditorLoader(yaml.SafeLoader):
@@ -274,10 +323,11 @@ def test_every_kind_of_demo_file_is_covered() -> None:
 @pytest.mark.parametrize("path", DEMO_FILES, ids=lambda p: f"{p.parent.name}/{p.name}")
 def test_the_demo_file_validates_against_its_shipped_schema(path: Path) -> None:
     """jsonschema, not pydantic: the schema and the models agree about the demo files."""
-    schema = shipped(schema_name_of(path))
-    errors = [f"{'.'.join(map(str, e.absolute_path))}: {e.message}"
-              for e in validator_for(schema).iter_errors(read_as_an_editor(path))]
-    assert not errors, errors[:5]
+    data = read_as_an_editor(path)
+    for validator in validators(shipped(schema_name_of(path))):
+        errors = [f"{'.'.join(map(str, e.absolute_path))}: {e.message}"
+                  for e in validator.iter_errors(data)]
+        assert not errors, (type(validator).__name__, errors[:5])
 
 
 @pytest.mark.parametrize("path", DEMO_FILES, ids=lambda p: f"{p.parent.name}/{p.name}")
@@ -322,12 +372,16 @@ SHAPE_MISTAKES = ["unknown_top_level_key.yaml", "unknown_deep_key.yaml",
 @pytest.mark.parametrize("name", SHAPE_MISTAKES)
 def test_the_schema_refuses_a_mistake_of_shape(name: str) -> None:
     data = read_as_an_editor(ROOT / "tests" / "fixtures" / "broken" / name)
-    assert not validator_for(shipped("plant")).is_valid(data)
+    for validator in validators(shipped("plant")):
+        assert not validator.is_valid(data), type(validator).__name__
 
 
 def test_a_finding_time_without_seconds_is_valid_and_a_wrong_one_is_not() -> None:
     """Editors check a claimed format; the findings schema describes the times people write."""
-    validator = validator_for(shipped("findings"))
     finding = {"kind": "defect", "by": "x", "where": "MSB", "text": "cover cracked"}
-    assert validator.is_valid({"findings": [{**finding, "at": "2026-12-01T07:40"}]})
-    assert not validator.is_valid({"findings": [{**finding, "at": "yesterday"}]})
+    for validator in validators(shipped("findings")):
+        assert validator.is_valid({"findings": [{**finding, "at": "2026-12-01T07:40"}]})
+        assert not validator.is_valid({"findings": [{**finding, "at": "yesterday"}]})
+    # the strict check itself: what an editor would say of a format: date-time claim
+    assert not validators({"format": "date-time"})[0].is_valid("2026-12-01T07:40")
+    assert validators({"format": "date-time"})[0].is_valid("2026-12-01T07:40:00Z")

@@ -30,7 +30,15 @@ INPUT_FILES: dict[str, tuple[str, str]] = {
                   "asset map (how an asset list becomes a plant inventory)"),
 }
 
-DIALECT = "https://json-schema.org/draft/2020-12/schema"
+# Draft 7: the YAML language server editors use validates draft 7 and below (its README:
+# "Supports JSON Schema 7 and below"; newer drafts are its open issue 856), and it drops
+# the words beside a "$ref" as draft 7 says (so a field's description goes in an allOf,
+# below). The http:// form of the draft URI: the https:// one failed to resolve in
+# vscode-yaml 1.16.0 (its issue 1096). What pydantic writes is draft 7 but for "$defs"
+# (only a place "$ref" points at), "prefixItems" (fixed tuples; draft 7 still checks
+# their length) and "discriminator" (an annotation); tests/test_schema.py validates under
+# draft 7 and 2020-12 alike.
+DIALECT = "http://json-schema.org/draft-07/schema#"
 
 
 def file_name(name: str) -> str:
@@ -50,25 +58,29 @@ def input_schema(name: str) -> dict[str, Any]:
     schema["$schema"] = DIALECT
     schema["title"] = f"workpack {name} file"
     schema["description"] = f"workpack {what}. {schema.get('description', '')}"
-    return _one_line_descriptions(schema)
+    return _for_editors(schema)
 
 
-def _one_line_descriptions(node: Any) -> Any:
-    """Docstrings wrap at the code's line length; an editor's hover should not."""
+def _for_editors(node: Any) -> Any:
+    """Descriptions on one line (docstrings wrap at the code's line length; a hover should
+    not), and a "$ref" with words beside it put in an "allOf": draft 7 ignores whatever
+    stands beside a "$ref", so a field's own description and example would be lost."""
     if isinstance(node, list):
-        return [_one_line_descriptions(item) for item in node]
+        return [_for_editors(item) for item in node]
     if not isinstance(node, dict):
         return node
     flat: dict[str, Any] = {}
     for key, value in node.items():
         if key in ("properties", "$defs", "patternProperties"):  # name → schema
-            flat[key] = {name: _one_line_descriptions(sub) for name, sub in value.items()}
+            flat[key] = {name: _for_editors(sub) for name, sub in value.items()}
         elif key == "description" and isinstance(value, str):
             flat[key] = " ".join(value.split())
         elif key in ("examples", "default", "const", "enum"):  # data, kept as written
             flat[key] = value
         else:
-            flat[key] = _one_line_descriptions(value)
+            flat[key] = _for_editors(value)
+    if "$ref" in flat and len(flat) > 1:
+        flat["allOf"] = [{"$ref": flat.pop("$ref")}]
     return flat
 
 
