@@ -5,7 +5,7 @@ VENV := .venv
 BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 
-.PHONY: demo test lint bench clean
+.PHONY: demo test lint bench fuzz clean
 
 $(STAMP): pyproject.toml
 	$(PYTHON) -m venv $(VENV)
@@ -28,6 +28,11 @@ test: lint
 
 bench: $(STAMP)
 	for script in bench/bench_*.py; do echo "== $$script"; $(BIN)/python $$script || exit 1; done
+
+# Structure-aware fuzzing of every input through the command line (tests/fuzz/).
+N ?= 2000
+fuzz: $(STAMP)
+	$(BIN)/python tests/fuzz/fuzz_inputs.py -n $(N) --jobs 2
 
 clean:
 	rm -rf $(VENV) out

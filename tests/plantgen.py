@@ -175,3 +175,173 @@ def random_plant_data(seed: int, size: int = 40) -> dict[str, Any]:
 
 def random_plant(seed: int, size: int = 40) -> Plant:
     return Plant.model_validate(random_plant_data(seed, size))
+
+
+# --- plants of one extreme shape ------------------------------------------------------------
+
+SHAPES = ("deep", "parallel", "wide")
+
+
+def shaped_plant_data(shape: str, size: int) -> dict[str, Any]:
+    """Plain data for a plant of one extreme shape, ``size`` setting its extent:
+
+    - ``deep``: two chains of ``size`` and ``size // 2`` distribution panels hung below the
+      main board, joined at the bottom by a normally open tie, a motor on every panel and a
+      transformer bank to a 115 V panel at the very bottom;
+    - ``parallel``: ``size`` generators in parallel on the main board and ``size``
+      transformer banks that can each feed one 115 V panel (all but one stand by);
+    - ``wide``: one main board with ``size`` motor feeders (breaker, cable, motor), a third
+      of them with heaters fed from a 115 V panel.
+
+    Every system is insulated, with a lamp ground detector on its main board; routine
+    tests are overdue on the deepest or widest parts, so planning makes routine packages
+    there too.
+    """
+    if shape not in SHAPES:
+        raise ValueError(f"shape must be one of {', '.join(SHAPES)} (got {shape!r})")
+    overdue = "2020-01-01"
+    sources: list[dict[str, Any]] = []
+    buses: list[dict[str, Any]] = []
+    devices: list[dict[str, Any]] = []
+    transformers: list[dict[str, Any]] = []
+    cables: list[dict[str, Any]] = []
+    loads: list[dict[str, Any]] = []
+
+    def breaker(device_id: str, supply: str, normally: str = "closed") -> str:
+        devices.append({"id": device_id, "kind": "circuit_breaker", "from": supply,
+                        "normally": normally})
+        return device_id
+
+    def board(bus_id: str, supply: str | list[str], voltage: int = 440,
+              kind: str = "distribution_panel", tests: tuple[str, ...] = ()) -> str:
+        entry: dict[str, Any] = {"id": bus_id, "kind": kind, "voltage": voltage,
+                                 "earthing": "insulated", "from": supply}
+        if kind != "distribution_panel":  # one detector per system, on its main board
+            entry["detector"] = {"id": f"GD-{bus_id}", "kind": "lamps"}
+        entry["routine"] = [{"test": t, "every": "1 month", "last_done": overdue}
+                            for t in tests]
+        buses.append(entry)
+        return bus_id
+
+    def motor(load_id: str, supply: str, tests: bool = False) -> dict[str, Any]:
+        entry: dict[str, Any] = {"id": load_id, "kind": "motor", "from": supply,
+                                 "rated_voltage": 440}
+        if tests:
+            entry["routine"] = [{"test": "insulation_resistance", "every": "1 year",
+                                 "last_done": overdue}]
+        loads.append(entry)
+        return entry
+
+    def bank(bank_id: str, supply: str, tests: bool = True) -> str:
+        transformers.append({"id": bank_id, "construction": "bank_of_single_phase",
+                             "unit_kva": 10_000, "primary_voltage": 440,
+                             "secondary_voltage": 115, "vector_group": "Dd0",
+                             "from": supply, "routine": [
+                                 {"test": "transformer_inspection", "every": "1 year",
+                                  "last_done": overdue}] if tests else []})
+        return bank_id
+
+    generators = 2 if shape != "parallel" else size
+    for number in range(1, generators + 1):
+        sources.append({"id": f"G{number}", "kind": "generator", "voltage": 440})
+    main = board("MAIN", [breaker(f"CB-G{n}", f"G{n}") for n in range(1, generators + 1)],
+                 kind="switchboard", tests=("detector_test",))
+    if shape == "deep":
+        ends: dict[str, str] = {}
+        for chain, depth in (("B", max(2, size // 2)), ("A", size)):  # A, the deeper, last
+            above = main
+            for level in range(1, depth + 1):
+                feed = breaker(f"CB-{chain}{level}", above)
+                if level % 2:
+                    cables.append({"id": f"C-{chain}{level}", "from": feed, "length": 40})
+                    feed = f"C-{chain}{level}"
+                above = board(f"P{chain}{level}", feed)
+                motor(f"M{chain}{level}", breaker(f"CB-M{chain}{level}", above),
+                      tests=level == depth)
+            ends[chain] = above
+        deepest = next(bus for bus in buses if bus["id"] == ends["A"])
+        deepest["from"] = [deepest["from"], breaker("CB-TIE", ends["B"], "open")]
+        deepest["routine"] = [{"test": "insulation_resistance", "every": "1 year",
+                               "last_done": overdue}]
+        primary = breaker("CB-T1P", ends["A"])
+        board("LP1", breaker("CB-T1S", bank("T1", primary)), voltage=115,
+              kind="lighting_panel", tests=("detector_test",))
+        loads.append({"id": "LT1", "kind": "lighting", "from": breaker("CB-LT1", "LP1"),
+                      "rated_voltage": 115})
+        loads[-2].setdefault("auxiliaries", []).append(
+            {"kind": "anti_condensation_heater", "from": breaker("CB-H1", "LP1")})
+    elif shape == "parallel":
+        secondaries = []  # banks never run in parallel: all but the first stand by
+        for number in range(1, size + 1):
+            secondaries.append(breaker(f"CB-T{number}S",
+                                       bank(f"T{number}", breaker(f"CB-T{number}P", main),
+                                            tests=number == size),
+                                       "closed" if number == 1 else "open"))
+        board("LP1", secondaries, voltage=115, kind="lighting_panel",
+              tests=("detector_test",))
+        motor("M1", breaker("CB-M1", main), tests=True)
+        loads.append({"id": "LT1", "kind": "lighting", "from": breaker("CB-LT1", "LP1"),
+                      "rated_voltage": 115})
+    else:  # wide
+        primary = breaker("CB-T1P", main)
+        board("LP1", breaker("CB-T1S", bank("T1", primary)), voltage=115,
+              kind="lighting_panel")
+        for number in range(1, size + 1):
+            feed = breaker(f"CB-M{number}", main)
+            cables.append({"id": f"C-M{number}", "from": feed, "length": 20 + number % 200})
+            entry = motor(f"M{number}", f"C-M{number}", tests=number == size)
+            if number % 3 == 0:
+                entry["auxiliaries"] = [{"kind": "anti_condensation_heater",
+                                         "from": breaker(f"CB-H{number}", "LP1")}]
+    return {
+        "plant": {"name": f"generated {shape} {size}", "kind": "other", "frequency": 60},
+        "sources": sources, "buses": buses, "devices": devices,
+        "transformers": transformers, "cables": cables, "loads": loads,
+    }
+
+
+def findings_data(plant: dict[str, Any], date: str = "2026-12-01") -> dict[str, Any]:
+    """Invented findings for a shaped plant, aimed at its deepest and widest parts: a ground
+    on the main board (lamps), a low insulation reading on the last motor, the last motor
+    breaker tripped, a serious defect on the last panel, a failed unit of the last bank."""
+    motors = [load["id"] for load in plant["loads"] if load["kind"] == "motor"]
+    breakers = [d["id"] for d in plant["devices"] if d["id"].startswith("CB-M")]
+    panels = [bus["id"] for bus in plant["buses"] if bus["voltage"] == 440]  # deepest last
+    at = f"{date}T08:00"
+    items: list[dict[str, Any]] = [
+        {"kind": "lamps", "at": at, "by": "x", "where": "GD-MAIN",
+         "lamps": {"A": "bright", "B": "dim", "C": "dim"}},
+        {"kind": "insulation_resistance", "at": at, "by": "x", "where": motors[-1],
+         "test_voltage": "500 V", "reading": "0.4 MΩ", "temperature": "30 °C"},
+        {"kind": "breaker_tripped", "at": at, "by": "x", "where": breakers[-1]},
+        {"kind": "defect", "at": at, "by": "x", "where": panels[-1],
+         "text": "cover cracked, water inside", "severity": "high"},
+    ]
+    if plant["transformers"]:
+        items.append({"kind": "transformer_unit", "at": at, "by": "x",
+                      "where": plant["transformers"][-1]["id"], "unit": "BC",
+                      "state": "failed"})
+    return {"date": date, "findings": items}
+
+
+def random_findings_data(plant: dict[str, Any], count: int, seed: int = 7,
+                         date: str = "2026-12-01") -> dict[str, Any]:
+    """Invented findings on random items of ``random_plant_data``: low megger readings,
+    tripped breakers and serious defects, in turn."""
+    rng = random.Random(seed)
+    motors = [load["id"] for load in plant["loads"] if load["kind"] == "motor"]
+    breakers = [d["id"] for d in plant["devices"] if d["kind"] == "circuit_breaker"]
+    items: list[dict[str, Any]] = []
+    for n in range(count):
+        at = f"{date}T{6 + n % 12:02d}:{n % 60:02d}"
+        if n % 3 == 0:
+            items.append({"kind": "insulation_resistance", "at": at, "by": "x",
+                          "where": rng.choice(motors), "test_voltage": "500 V",
+                          "reading": f"{rng.uniform(0.5, 4):.2f} MΩ", "temperature": "25 °C"})
+        elif n % 3 == 1:
+            items.append({"kind": "breaker_tripped", "at": at, "by": "x",
+                          "where": rng.choice(breakers)})
+        else:
+            items.append({"kind": "defect", "at": at, "by": "x", "where": rng.choice(motors),
+                          "text": "terminal box cover loose", "severity": "high"})
+    return {"date": date, "findings": items}

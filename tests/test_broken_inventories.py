@@ -52,9 +52,12 @@ CASES = [
     # --- schema ---------------------------------------------------------------------------
     Case("unknown_top_level_key", 18, "lodas", r"unknown section \(did you mean 'loads'\?\)"),
     Case("unknown_deep_key", 18, "buses[0].detector.prewarnig", r"unknown field"),
-    Case("wrong_type_text_for_number", 18, "transformers[0].units", r"integer.*'three'"),
+    Case("wrong_type_text_for_number", 18, "transformers[0].units",
+         r"expected a whole number \(got 'three'\)"),
     Case("wrong_unit_amperes_for_volts", 12, "buses[1].voltage",
          r"'A' is not a unit of voltage"),
+    Case("wrong_unit_kva_for_kw", 18, "loads[0].rated_kw",
+         r"'kVA' is not a unit of real power: it is a unit of apparent power"),
     Case("negative_length", 16, "cables[0].length", r"-120 m is not a plausible length"),
     Case("capacitance_in_farads", 19, "loads[0].equipment_capacitance",
          r"2\.2 ?F\b|farad"),

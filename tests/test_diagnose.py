@@ -182,8 +182,8 @@ def test_csv_errors_name_row_and_column(demo_vessel: Topology) -> None:
         load_findings_text("at,by,where,kind,A,B,C\n2026-12-01T07:00,x,GD-MSB,phase_voltages,"
                            "400,60 A,470\n", "rounds.csv", demo_vessel)
     assert caught.value.format_message() == (
-        "rounds.csv:2:46: findings[0].volts.B: 'A' is not a unit of voltage "
-        "(expected something like V)")
+        "rounds.csv:2:46: findings[0].volts.B: 'A' is not a unit of voltage: it is a unit "
+        "of current (expected something like V)")
 
 
 def test_findings_naming_unknown_places_and_phases_are_refused(demo_vessel) -> None:
@@ -447,8 +447,8 @@ transformers:
      "buses[0].detector: burden_per_phase of 0 Ω would be a bolted ground: give the "
      "detector's resistance"),
     ("lamps, burden_per_phase: 6.5 kV", "dry_type", "6.5 kV",
-     "buses[0].detector.burden_per_phase: 'kV' is not a unit of resistance (expected "
-     "something like Ω)"),
+     "buses[0].detector.burden_per_phase: 'kV' is not a unit of resistance: it is a unit of "
+     "voltage (expected something like kΩ)"),
     ("lamps, lamp_power: 15 W", "dry_type", "{id: GD",
      "buses[0].detector: give both lamp_power and lamp_voltage (R = V²/P needs both)"),
     ("insulation_monitor, alarm: 22 kΩ, burden_per_phase: 1 kΩ", "dry_type", "{id: GD",

@@ -180,8 +180,8 @@ def test_a_cell_with_a_unit_of_the_wrong_kind(tmp_path, asset_map, capsys) -> No
     loads = [list(row) for row in LOADS]
     loads[2][4] = "22 kW"  # a power where a voltage belongs
     assert refused(tmp_path, asset_map, capsys, Loads=loads) == (
-        "assets.xlsx:Loads!E3: rated_voltage: 'kW' is not a unit of voltage "
-        "(expected something like V)\n")
+        "assets.xlsx:Loads!E3: rated_voltage: 'kW' is not a unit of voltage: it is a unit "
+        "of real power (expected something like V)\n")
 
 
 def test_a_bare_number_with_no_unit_anywhere_is_refused(tmp_path, capsys) -> None:
@@ -200,8 +200,9 @@ def test_a_map_unit_of_the_wrong_kind_is_one_line_at_the_map(tmp_path, capsys) -
     map_path.write_text(MAP.replace("{column: Power (kW), unit: kW}",
                                     "{column: Power (kW), unit: kV}"), encoding="utf-8")
     assert refused(tmp_path, map_path, capsys) == (
-        "asset-map.yaml:28:44: sheets[3].columns.rated_kw.unit: 'kV' is not a unit of power "
-        "(expected something like W) (for rated_kw of loads)\n")
+        "asset-map.yaml:28:44: sheets[3].columns.rated_kw.unit: 'kV' is not a unit of real "
+        "power: it is a unit of voltage (expected something like kW) (for rated_kw of "
+        "loads)\n")
     map_path.write_text(MAP.replace("name: Description\n      from: Fed from\n      rated_kw",
                                     "name: {column: Description, unit: V}\n      from: Fed "
                                     "from\n      rated_kw"), encoding="utf-8")
@@ -264,9 +265,9 @@ def test_problems_in_several_cells_are_reported_together(tmp_path, asset_map, ca
     loads[1][5] = "A"  # amperes in the unit column of a voltage
     loads[2][3] = -4  # a negative power
     assert refused(tmp_path, asset_map, capsys, Loads=loads).splitlines() == [
-        "assets.xlsx:Loads!D3: rated_kw: must be greater than zero (got -4000)",
-        "assets.xlsx:Loads!E2: rated_voltage: 'A' is not a unit of voltage (expected "
-        "something like V)",
+        "assets.xlsx:Loads!D3: rated_kw: must be greater than zero (got -4000 W)",
+        "assets.xlsx:Loads!E2: rated_voltage: 'A' is not a unit of voltage: it is a unit of "
+        "current (expected something like V)",
     ]
 
 
@@ -445,8 +446,8 @@ def test_field_shapes_are_read_from_the_model() -> None:
 
 
 @pytest.mark.parametrize(("text", "kind", "key"), [
-    ("625 kVA", "power", "rated_kva"),
-    ("0.6 kW", "power", "rated_kw"),
+    ("625 kVA", "apparent_power", "rated_kva"),
+    ("0.6 kW", "real_power", "rated_kw"),
     ("150 pF/m", "capacitance_per_length", ""),
     ("100 nF", "capacitance", ""),
     ("2.2 uF", "capacitance", ""),

@@ -27,7 +27,7 @@ from pydantic_core import PydanticUndefined, to_jsonable_python
 
 from workpack.grid import CellValue, Table
 from workpack.model.plant import Plant
-from workpack.units import DIMENSIONS, UnitProblem, to_si
+from workpack.units import KINDS, UnitProblem, to_si
 
 Path = tuple[str | int, ...]
 OWNER_COLUMN = "element"  # names the element a per-element list row belongs to
@@ -195,10 +195,10 @@ def _adapter(model: type[BaseModel], name: str) -> TypeAdapter[Any]:
 
 def _try_kinds(model: type[BaseModel], name: str, probes: tuple[float, ...]) -> str | None:
     adapter = _adapter(model, name)
-    for kind, (_, pint_unit) in DIMENSIONS.items():
+    for kind, spec in KINDS.items():
         for probe in probes:
             try:
-                read = adapter.validate_python(f"{probe!r} {pint_unit}")
+                read = adapter.validate_python(f"{probe!r} {spec.si}")
             except (ValidationError, ValueError, TypeError):
                 continue
             if isinstance(read, float) and read == probe:
@@ -207,7 +207,7 @@ def _try_kinds(model: type[BaseModel], name: str, probes: tuple[float, ...]) -> 
 
 
 def quantity_kind(model: type[BaseModel], name: str, value: float | None = None) -> str | None:
-    """The kind of quantity (``units.DIMENSIONS``) a field holds, or None for a plain field.
+    """The kind of quantity (``units.KINDS``) a field holds, or None for a plain field.
 
     Asked of the field itself: a quantity field takes "1 V" (or "1 F"…) in its own kind
     and refuses every other; a plain number or text field takes none of them as the
@@ -237,13 +237,17 @@ _DISPLAY: dict[str, tuple[tuple[str, float, float], ...]] = {
     "length": (("m", 1.0, 0.0),),
     "area": (("mm2", 1e-6, 0.0),),
     "frequency": (("Hz", 1.0, 0.0),),
-    "power": (("W", 1.0, 0.0), ("kW", 1e3, 1e3), ("MW", 1e6, 1e6)),
+    "real_power": (("W", 1.0, 0.0), ("kW", 1e3, 1e3), ("MW", 1e6, 1e6)),
+    "apparent_power": (("VA", 1.0, 0.0), ("kVA", 1e3, 1e3), ("MVA", 1e6, 1e6)),
+    "reactive_power": (("var", 1.0, 0.0), ("kvar", 1e3, 1e3), ("Mvar", 1e6, 1e6)),
     "time": (("s", 1.0, 0.0),),
     "temperature": (("°C", 1.0, 0.0),),
 }
 # A power field named for its unit is written in it: rated_kva in kVA, rated_kw in kW.
-_POWER_SUFFIX = {"_kva": ("kVA", 1e3), "_mva": ("MVA", 1e6), "_va": ("VA", 1.0),
-                 "_kw": ("kW", 1e3), "_mw": ("MW", 1e6), "_w": ("W", 1.0)}
+_POWER_SUFFIX = {
+    "apparent_power": {"_kva": ("kVA", 1e3), "_mva": ("MVA", 1e6), "_va": ("VA", 1.0)},
+    "real_power": {"_kw": ("kW", 1e3), "_mw": ("MW", 1e6), "_w": ("W", 1.0)},
+}
 
 
 def format_quantity(value: float, kind: str, key: str = "") -> str:
@@ -252,7 +256,7 @@ def format_quantity(value: float, kind: str, key: str = "") -> str:
     mantissa = value / scale
     candidates = [f"{number} {unit}" for number in (f"{mantissa:.12g}", repr(mantissa))
                   if "e" not in number and "n" not in number]
-    candidates.append(f"{value!r} {DIMENSIONS[kind][1]}")  # SI: always exact
+    candidates.append(f"{value!r} {KINDS[kind].si}")  # SI: always exact
     for text in candidates:
         try:
             if to_si(text, kind) == value:
@@ -264,15 +268,14 @@ def format_quantity(value: float, kind: str, key: str = "") -> str:
 
 def unit_example(kind: str) -> str:
     """The unit a quantity of ``kind`` is usually written in, for messages ("V")."""
-    return _DISPLAY.get(kind, ((DIMENSIONS[kind][1], 1.0, 0.0),))[0][0]
+    return _DISPLAY.get(kind, ((KINDS[kind].si, 1.0, 0.0),))[0][0]
 
 
 def _display_unit(value: float, kind: str, key: str) -> tuple[str, float]:
-    if kind == "power":
-        for suffix, chosen in _POWER_SUFFIX.items():
-            if key.endswith(suffix):
-                return chosen
-    choices = _DISPLAY.get(kind, ((DIMENSIONS[kind][1], 1.0, 0.0),))
+    for suffix, chosen in _POWER_SUFFIX.get(kind, {}).items():
+        if key.endswith(suffix):
+            return chosen
+    choices = _DISPLAY.get(kind, ((KINDS[kind].si, 1.0, 0.0),))
     unit, scale = choices[0][0], choices[0][1]
     for candidate, candidate_scale, start in choices:
         if abs(value) >= start:

@@ -264,7 +264,8 @@ def check_findings(findings: Findings, topology: Topology) -> Iterator[Mismatch]
             yield Mismatch((*base, "where"), f"unknown element or detector {finding.where!r}"
                                               f"{did_you_mean(finding.where, known)}")
             continue
-        per_phase = getattr(finding, "lamps", None) or getattr(finding, "volts", None)
+        # Not `lamps or volts`: an empty {} of lamps must be checked, not skipped.
+        per_phase = getattr(finding, "lamps", getattr(finding, "volts", None))
         if per_phase is not None:
             field = "lamps" if isinstance(finding, LampsSeen) else "volts"
             if set(per_phase) != labels:

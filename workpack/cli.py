@@ -241,9 +241,17 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     files[f"day-{day.isoformat()}.pdf"] = render_day_sheet(
         result.plant, day, result.packages, result.scheduled, result.deferred,
         [c.text for c in result.conflicts], result.crew_hours, args.page_size)
-    written = write_all(Path(args.out), files, replaces=_is_plan_output)
+    written = write_all(Path(args.out), files,
+                        replaces=_earlier_plan(day, result.plant, _store_location(args)))
     sys.stdout.write(day_plan_summary(result, written))
     return 0
+
+
+def _store_location(args: argparse.Namespace) -> str:
+    """The records store a plan consults: ``--db`` (a file or a postgresql:// URL, kept as
+    text: a Path would fold a URL's slashes), or the file beside the plant."""
+    return str(args.db) if args.db else str(Path(args.plant).with_name(
+        Path(args.plant).stem + ".records.sqlite"))
 
 
 def _history(args: argparse.Namespace, plant: Any) -> Any:
@@ -251,12 +259,11 @@ def _history(args: argparse.Namespace, plant: Any) -> Any:
     from workpack.history import History, history_from_records
     from workpack.store import is_server_url, open_store
 
-    if args.db and is_server_url(args.db):  # the plant's chain in an office store
+    if is_server_url(_store_location(args)):  # the plant's chain in an office store
         with open_store(args.db, plant=plant.plant.name, create=False) as store:
             return history_from_records(store.records(),
                                         plant.plant.code_set.rotating_machines)
-    db = Path(args.db) if args.db else Path(args.plant).with_name(
-        Path(args.plant).stem + ".records.sqlite")
+    db = Path(_store_location(args))
     if not db.exists():
         if args.db:
             raise UsageError(f"--db {args.db}: no such records store")
@@ -266,11 +273,47 @@ def _history(args: argparse.Namespace, plant: Any) -> Any:
                                     plant.plant.code_set.rotating_machines)
 
 
-def _is_plan_output(name: str) -> bool:
-    """Files a `plan` run writes: packages (PDF and JSON twin) and day sheets."""
+def _earlier_plan(day: Any, plant: str, db: str) -> Any:
+    """The files an earlier plan of ``day`` for ``plant`` left in a folder, which this
+    plan replaces as a set; refuses (UsageError) to replace another plant's set, or a
+    package a record in ``db`` refers to (it has been issued and worked)."""
     import re
 
-    return re.fullmatch(r"WP-\d{8}-\d{2,}\.(pdf|json)|day-\d{4}-\d{2}-\d{2}\.pdf", name) is not None
+    from workpack.store import is_server_url, open_store, package_sha256
+
+    pattern = re.compile(rf"WP-{day:%Y%m%d}-\d{{2,}}\.(pdf|json)|day-{day.isoformat()}\.pdf")
+
+    def earlier(folder: Path) -> list[str]:
+        names = sorted(p.name for p in folder.iterdir() if p.is_file()
+                       and pattern.fullmatch(p.name))
+        twins: dict[str, Any] = {}
+        for name in (n for n in names if n.endswith(".json")):
+            try:
+                data = json.loads((folder / name).read_text(encoding="utf-8"))
+                twins[name] = data if isinstance(data, dict) and "plant" in data else None
+            except (OSError, ValueError):
+                twins[name] = None
+            if twins[name] is None:
+                raise UsageError(f"{folder / name}: not a package this plan can replace "
+                                 "(unreadable); move it away or plan into another folder")
+            if twins[name]["plant"] != plant:
+                raise UsageError(f"{folder}: holds the {day} packages of "
+                                 f"{twins[name]['plant']!r} ({name}); plan {plant!r} into "
+                                 "another folder")
+        if twins and (is_server_url(db) or Path(db).exists()):
+            with open_store(db, plant=plant, create=False) as store:
+                recorded = {(r.package_id, r.package_sha256): r.sequence
+                            for r in store.records()}
+            for name, data in twins.items():
+                sequence = recorded.get((data.get("id"), package_sha256(data)))
+                if sequence is not None:
+                    raise UsageError(
+                        f"{folder / name}: package {data.get('id')} was issued and has record "
+                        f"{sequence} in {db}; planning {day} again would replace it. Plan "
+                        "into another folder")
+        return names
+
+    return earlier
 
 
 def day_plan_summary(result: Any, written: list[Path]) -> str:
@@ -293,10 +336,9 @@ class _Progress:
 
 def _cmd_results_template(args: argparse.Namespace) -> int:
     from workpack.forms import results_template
-    from workpack.loading import load_package
     from workpack.output import write_all
 
-    package, digest = load_package(Path(args.package))
+    package, digest = _issued_package(Path(args.package))
     text = results_template(package, digest)
     if args.out:
         out = Path(args.out)
@@ -334,12 +376,12 @@ def _cmd_record(args: argparse.Namespace) -> int:
     import datetime as dt
 
     from workpack.evaluate import evaluate, record_payload
-    from workpack.loading import load_package, load_results
+    from workpack.loading import load_results
     from workpack.output import write_all
     from workpack.render.text import evaluation_text
     from workpack.store import open_store
 
-    package, digest = load_package(Path(args.package))
+    package, digest = _issued_package(Path(args.package))
     results = load_results(Path(args.results), package, digest)
     if not results.anything_filled_in():
         raise UsageError(f"{args.results}: nothing is filled in; record a job once it has "
@@ -399,17 +441,28 @@ def _cmd_verify(args: argparse.Namespace) -> int:
     return 0 if not failed else 1
 
 
+def _issued_package(path: Path) -> tuple[Any, str]:
+    """A package JSON, read while its folder holds one whole set (see output.reading)."""
+    from workpack.loading import load_package
+    from workpack.output import reading
+
+    with reading(path.parent):
+        return load_package(path)  # type: ignore[no-any-return]
+
+
 def _read_packages(folders: Sequence[str]) -> dict[str, Any]:
     from workpack.loading import load_package
+    from workpack.output import reading
 
     packages: dict[str, Any] = {}
     for folder in folders:
         path = Path(folder)
         if not path.is_dir():
             raise UsageError(f"--packages {folder}: no such folder")
-        for twin in sorted(path.glob("*.json")):
-            package, _ = load_package(twin)
-            packages[package.id] = package
+        with reading(path):
+            for twin in sorted(path.glob("*.json")):
+                package, _ = load_package(twin)
+                packages[package.id] = package
     return packages
 
 
@@ -452,12 +505,11 @@ def _cmd_audit(args: argparse.Namespace) -> int:
 
 def _cmd_closeout(args: argparse.Namespace) -> int:
     from workpack.audit import evaluation_from_payload
-    from workpack.loading import load_package
     from workpack.output import write_all
     from workpack.render.closeout import render_closeout
     from workpack.store import open_store
 
-    package, digest = load_package(Path(args.package))
+    package, digest = _issued_package(Path(args.package))
     with open_store(_default_db(args), plant=_store_plant(args) or package.plant,
                     create=False) as store:
         record = store.get(args.record) if args.record else store.latest(package.id)
@@ -469,8 +521,13 @@ def _cmd_closeout(args: argparse.Namespace) -> int:
     if record.package_sha256 != digest:
         raise UsageError(f"{args.package}: this package differs from the one record "
                          f"{record.sequence} answers (hash); use the package as issued")
-    pdf = render_closeout(package, evaluation_from_payload(record.results), record,
-                          page_size=args.page_size)
+    try:
+        evaluation = evaluation_from_payload(record.results)
+    except (ValueError, TypeError, KeyError) as error:
+        raise UsageError(f"record {record.sequence} of {package.id} in {_default_db(args)}: "
+                         f"{error}; it cannot be closed out (record the results again with "
+                         f"--supersedes {record.sequence})") from None
+    pdf = render_closeout(package, evaluation, record, page_size=args.page_size)
     out = Path(args.out)
     write_all(out.parent, {out.name: pdf})
     sys.stdout.write(f"record {record.sequence} of {package.id} ({record.verdict}) "

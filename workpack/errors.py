@@ -13,8 +13,32 @@ workpack, never a mistake in the user's files.
 from __future__ import annotations
 
 import difflib
+import re
 from collections.abc import Iterable
 from dataclasses import dataclass
+
+# Characters that would break a message's one line or reorder what a terminal shows:
+# C0 and C1 controls, Unicode line and paragraph separators, bidirectional overrides.
+_UNSAFE = re.compile("[\x00-\x1f\x7f-\x9f\u2028\u2029\u202a-\u202e\u2066-\u2069]")
+_ESCAPES = {"\n": "\\n", "\r": "\\r", "\t": "\\t"}
+# A message longer than this is shortened in the middle, saying how much was left out.
+MAX_MESSAGE = 1000
+
+
+def one_line(text: str) -> str:
+    """``text`` as one printable line: control characters escaped, length bounded.
+
+    Messages quote what was found, and what was found may hold a newline copied
+    from the input: printed raw it would split one problem over two lines.
+    """
+    text = _UNSAFE.sub(lambda found: _ESCAPES.get(found.group(), found.group()
+                                                  .encode("unicode_escape").decode("ascii")),
+                       text)
+    if len(text) > MAX_MESSAGE:
+        left_out = len(text) - MAX_MESSAGE
+        text = (text[: MAX_MESSAGE // 2] + f" … ({left_out:,} characters left out) … "
+                + text[-MAX_MESSAGE // 2:])
+    return text
 
 
 @dataclass(frozen=True, order=True)
@@ -34,7 +58,7 @@ class Problem:
             if self.column:
                 place += f":{self.column}"
         field = f" {self.path}:" if self.path else ""
-        return f"{place}:{field} {self.message}"
+        return one_line(f"{place}:{field} {self.message}")
 
 
 class WorkpackError(Exception):
@@ -43,7 +67,7 @@ class WorkpackError(Exception):
     exit_code = 2
 
     def format_message(self) -> str:
-        return str(self)
+        return one_line(str(self))
 
 
 class InputError(WorkpackError):

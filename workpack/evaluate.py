@@ -11,6 +11,7 @@ recorded). A failing insulation reading becomes a finding for tomorrow. Pure.
 from __future__ import annotations
 
 import datetime as dt
+import math
 from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any, Literal
@@ -28,15 +29,15 @@ from workpack.model.package import (
     in_unit,
 )
 from workpack.model.results import FinalTestResults, Results
-from workpack.units import UnitProblem, to_si
+from workpack.units import UnitProblem, plausible, to_si
 
 # Common practice: a proving-dead reading is the tester's "no voltage"; anything above
 # the resolution of a two-pole tester (about a volt) means the conductor is not dead.
 DEAD_BELOW_V = 1.0
 
 UNIT_KIND = {"V": "voltage", "A": "current", "Ω": "resistance", "kΩ": "resistance",
-             "MΩ": "resistance", "kVA": "power", "Hz": "frequency", "s": "time",
-             "°C": "temperature"}
+             "MΩ": "resistance", "kVA": "apparent_power", "kW": "real_power",
+             "Hz": "frequency", "s": "time", "°C": "temperature"}
 
 Verdict = Literal["passed", "failed", "incomplete"]
 Path = tuple[str | int, ...]
@@ -113,7 +114,7 @@ def check_results(package: WorkPackage, results: Results,
                 yield ("readings", reading_id, "value"), str(problem)
         if measured.temperature is not None:
             try:
-                to_si(measured.temperature, "temperature")
+                plausible(to_si(measured.temperature, "temperature"), "temperature")
             except UnitProblem as problem:
                 yield ("readings", reading_id, "temperature"), str(problem)
     yield from _check_scope((), package.id, package.isolation, package.proving_dead,
@@ -151,7 +152,7 @@ def _check_scope(base: Path, name: str, isolation: Sequence[IsolationPoint],
                                                              f"{did_you_mean(pair, known)}")
             elif value is not None and str(value).strip():
                 try:
-                    to_si(value, "voltage")
+                    plausible(to_si(value, "voltage"), "voltage")
                 except UnitProblem as problem:
                     yield (*base, "proving_dead", index, pair), str(problem)
     for section, numbered, what in (("steps", steps, "step"),
@@ -164,7 +165,23 @@ def _check_scope(base: Path, name: str, isolation: Sequence[IsolationPoint],
 
 
 def measured_value(reading: Reading, value: float | str) -> float:
-    """A filled-in value in SI: a bare number is in the unit printed beside the box."""
+    """A filled-in value in SI: a bare number is in the unit printed beside the box.
+
+    Refuses (UnitProblem) a value no instrument gives: NaN, infinity, 20,000 °C.
+    """
+    si = _measured_si(reading, value)
+    kind = UNIT_KIND.get(reading.unit)
+    if kind is None:
+        if not (math.isfinite(si) and abs(si) <= 1.0e12):
+            raise UnitProblem(f"{si:g} is not a reading an instrument gives")
+        return si
+    try:
+        return plausible(si, kind)
+    except UnitProblem as problem:
+        raise UnitProblem(f"{problem} ({reading.id} is measured in {reading.unit})") from None
+
+
+def _measured_si(reading: Reading, value: float | str) -> float:
     if isinstance(value, int | float) and not isinstance(value, bool):
         return float(value) * UNIT_SCALE.get(reading.unit, 1.0)
     if reading.unit == "":

@@ -120,13 +120,74 @@ def results_template(package: WorkPackage, package_sha256: str) -> str:
     return "\n".join(lines) + "\n"
 
 
+class FormFieldError(ValueError):
+    """Form fields that are not the ones a workpack package has: (field name, why) each."""
+
+    def __init__(self, problems: list[tuple[str, str]]):
+        self.problems = problems
+        super().__init__("; ".join(f"{name}: {why}" for name, why in problems))
+
+
+# Each field kind: its number of parts, which parts are numbers (by position), and the
+# words its last part may be (None: any). As ``render.pdf`` documents the names.
+_FIELD_SHAPES: dict[str, tuple[int, tuple[int, ...], tuple[str, ...] | None]] = {
+    "reading": (2, (), None),
+    "temperature": (2, (), None),
+    "step": (3, (1,), ("done",)),
+    "restore": (3, (1,), ("done",)),
+    "lock": (3, (), ("number", "applied_by", "applied_at", "removed_by", "removed_at")),
+    "tag": (3, (), ("number",)),
+    "dead": (3, (1,), None),
+    "tester": (2, (), ("before", "after")),
+    "sign": (2, (), ("technician", "supervisor", "date")),
+    "remarks": (1, (), None),
+    "locks_left_on": (1, (), None),
+    "ground_found_at": (1, (), None),
+}
+# Fields of a final test of a ground search carry its scope first: final:<id>:<field…>.
+_SCOPED = frozenset({"reading", "temperature", "step", "restore", "lock", "tag", "dead",
+                     "tester", "locks_left_on"})
+
+
+def field_problem(parts: tuple[str, ...]) -> str | None:
+    """Why a split field name is not one a workpack package has, or None."""
+    if parts and parts[0] == "final":
+        if len(parts) < 3 or not parts[1]:
+            return "a final test's field is final:<test id>:<field>"
+        if parts[2] not in _SCOPED:
+            return (f"{parts[2]!r} is not a kind of field a final test has (expected one of "
+                    f"{', '.join(sorted(_SCOPED))})")
+        parts = parts[2:]
+    shape = _FIELD_SHAPES.get(parts[0])
+    if shape is None:
+        return (f"{parts[0]!r} is not a kind of field a workpack package has (expected one "
+                f"of {', '.join(sorted(_FIELD_SHAPES))})")
+    count, numbers, words = shape
+    if len(parts) != count:
+        return f"a {parts[0]} field has {count} parts separated by ':', this has {len(parts)}"
+    for position in numbers:
+        if not (parts[position].isascii() and parts[position].isdigit()
+                and len(parts[position]) <= 6):
+            return f"part {position + 1} must be a number (got {parts[position]!r})"
+    if words is not None and parts[-1] not in words:
+        return f"the last part must be one of {', '.join(words)} (got {parts[-1]!r})"
+    if any(not part for part in parts[1:]):
+        return "a part of the name is empty"
+    return None
+
+
 def results_from_fields(package: WorkPackage, fields: Mapping[str, str | None],
                         split: Any) -> dict[str, Any]:
     """Filled AcroForm values (field name → text) as results data for the ``Results`` model.
 
     ``split`` takes a field name apart (``render.pdf.split_field_name``); a name that
-    starts ``final:<id>:`` belongs to that final test.
+    starts ``final:<id>:`` belongs to that final test. A field whose name is not one of a
+    package's raises ``FormFieldError`` naming each.
     """
+    problems = [(name, why) for name in sorted(fields)
+                if (why := field_problem(tuple(split(name)))) is not None]
+    if problems:
+        raise FormFieldError(problems)
     data: dict[str, Any] = {"package": package.id}
     scopes: dict[str, dict[str, Any]] = {}
 

@@ -983,7 +983,7 @@ def _sketch(topology: Topology, item_id: str, plan: IsolationPlan | None) -> Ske
             if (upstream, downstream) not in edges and upstream != downstream:
                 edges.append((upstream, downstream))
 
-    for path in topology.normal_supply_paths(item_id)[:2]:
+    for path in topology.normal_supply_paths(item_id):  # all: the renderer fits them
         chain(path)
     if plan is not None:
         for point in plan.points:

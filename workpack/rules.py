@@ -11,12 +11,16 @@ names and unknown attributes, each with the nearest known name. Pure.
 
 from __future__ import annotations
 
+import math
 import re
-from collections.abc import Callable, Iterator, Mapping, Sequence
-from dataclasses import dataclass
+import time
+from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
+from contextvars import ContextVar
+from dataclasses import dataclass, field
 from typing import Any, Literal
 
 from jinja2 import StrictUndefined, TemplateSyntaxError, nodes
+from jinja2.compiler import CodeGenerator, Frame
 from jinja2.exceptions import SecurityError, UndefinedError
 from jinja2.sandbox import ImmutableSandboxedEnvironment
 
@@ -37,6 +41,9 @@ REFUSED_NODES: dict[type[nodes.Node], str] = {
     nodes.Macro: "macros are not allowed in a rule",
     nodes.CallBlock: "call blocks are not allowed in a rule",
     nodes.Call: "function and method calls are not allowed in a rule",
+    # Both build their body as one text before anything bounds it: not needed in a rule.
+    nodes.FilterBlock: "filter blocks are not allowed in a rule (use a filter: x | upper)",
+    nodes.AssignBlock: "block assignments are not allowed in a rule (use {% set x = … %})",
 }
 
 Schema = Mapping[str, Any]  # name → nested schema, or None for a plain value
@@ -46,11 +53,214 @@ class RuleError(WorkpackError):
     """A rule failed while being applied (a value it needs is missing)."""
 
 
+# --- what one evaluation of a rule text may do --------------------------------------------
+# A rule builds short texts and small numbers from the plant; these bounds are far above
+# that and far below what would take a machine's memory or minutes of time.
+MAX_SOURCE = 20_000  # characters in one rule text
+MAX_NESTING = 32  # depth of one text's syntax tree (brackets, operators, filters)
+MAX_STRING = 100_000  # characters in any text built, the rendered text included
+MAX_ITEMS = 10_000  # items in any list built, sorted or listed
+MAX_INT_BITS = 1024  # any whole number built (about 308 digits; beyond any float)
+MAX_FORMAT_WIDTH = 200  # width or precision in a '%' format
+MAX_ROUND_DIGITS = 20
+MAX_STEPS = 100_000  # blocks entered (each loop pass is one) per evaluation
+MAX_SECONDS = 1.0  # wall-clock per evaluation: the backstop behind the counts
+
+
+class RuleLimit(SecurityError):
+    """A rule text went past one of the sandbox's limits."""
+
+
+@dataclass
+class _Budget:
+    deadline: float
+    steps: int = field(default=0)
+
+
+_BUDGET: ContextVar[_Budget | None] = ContextVar("rule_budget", default=None)
+
+# A '%' conversion: mapping key, flags, width, precision, length, type.
+_CONVERSION = re.compile(r"%(?:\([^)]*\))?[#0\- +]*(\*|\d+)?(?:\.(\*|\d+))?[hlL]?(.)")
+
+
+def _check_text(value: Any, what: str) -> None:
+    if isinstance(value, str) and len(value) > MAX_STRING:
+        raise RuleLimit(f"{what} would be {len(value):,} characters long; a rule may build "
+                        f"texts of up to {MAX_STRING:,}")
+
+
+def _check_format(template: Any) -> None:
+    """Refuse '%' widths and precisions that would build huge texts ('%999999999d')."""
+    if not isinstance(template, str):
+        return
+    for found in _CONVERSION.finditer(template):
+        for part in found.group(1, 2):
+            if part == "*" or (part is not None and int(part) > MAX_FORMAT_WIDTH):
+                raise RuleLimit(f"format width or precision {part!r} is more than a rule may "
+                                f"use ({MAX_FORMAT_WIDTH})")
+
+
+def _sized(value: Any) -> int | None:
+    return len(value) if isinstance(value, str | list | tuple) else None
+
+
+def _check_binop(operator: str, left: Any, right: Any) -> None:
+    """Before the operation: would it build something past the limits?"""
+    numbers = all(isinstance(v, int | float) for v in (left, right))
+    if operator == "**" and numbers and isinstance(left, int) and isinstance(right, int):
+        if right > 0 and abs(left) > 1 and right * abs(left).bit_length() > MAX_INT_BITS:
+            raise RuleLimit(f"a power of {right} on a number of {abs(left).bit_length()} bits "
+                            f"builds a number over {MAX_INT_BITS} bits")
+    elif operator == "*" and numbers:
+        if isinstance(left, int) and isinstance(right, int) and (
+            left.bit_length() + right.bit_length() > MAX_INT_BITS
+        ):
+            raise RuleLimit(f"a product would be over {MAX_INT_BITS} bits")
+    elif operator in ("*", "+"):
+        for sequence, other in ((left, right), (right, left)):
+            size = _sized(sequence)
+            if size is None:
+                continue
+            text = isinstance(sequence, str)
+            limit, unit = (MAX_STRING, "characters") if text else (MAX_ITEMS, "items")
+            built = (size * other if isinstance(other, int) and operator == "*"
+                     else size + (_sized(other) or 0))
+            if built > limit:
+                raise RuleLimit(f"this builds a {'text' if text else 'list'} of {built:,} "
+                                f"{unit}; a rule may build up to {limit:,}")
+            break
+    elif operator == "%":
+        _check_format(left)
+
+
+class _BoundedSandbox(ImmutableSandboxedEnvironment):
+    """The immutable sandbox, with sizes, steps and time bounded (see the limits above)."""
+
+    intercepted_binops = frozenset({"*", "**", "%", "+"})
+
+    def call_binop(self, context: Any, operator: str, left: Any, right: Any) -> Any:
+        _check_binop(operator, left, right)
+        result = super().call_binop(context, operator, left, right)
+        _check_text(result, "a text")
+        return result
+
+    def tick(self) -> None:
+        """Called on entering every block: counts loop passes, watches the clock."""
+        budget = _BUDGET.get()
+        if budget is None:
+            return
+        budget.steps += 1
+        if budget.steps > MAX_STEPS:
+            raise RuleLimit(f"more than {MAX_STEPS:,} loop passes in one evaluation")
+        if budget.steps % 256 == 0 and time.monotonic() > budget.deadline:
+            raise RuleLimit(f"took longer than {MAX_SECONDS:g} s to evaluate")
+
+    def bounded_join(self, parts: Iterable[Any]) -> str:
+        """The '~' operator: join as text, within the size limit."""
+        texts = []
+        total = 0
+        for part in parts:
+            text = str(part)
+            total += len(text)
+            if total > MAX_STRING:
+                raise RuleLimit(f"joining with '~' builds a text over {MAX_STRING:,} "
+                                "characters")
+            texts.append(text)
+        return "".join(texts)
+
+
+class _BoundedCodeGenerator(CodeGenerator):
+    """Jinja's code generator with a budget check in every block and a bounded '~'."""
+
+    def blockvisit(self, body: Iterable[nodes.Node], frame: Frame) -> None:
+        self.writeline("environment.tick()")
+        super().blockvisit(body, frame)
+
+    def visit_Concat(self, node: nodes.Concat, frame: Frame) -> None:
+        self.write("environment.bounded_join((")
+        for argument in node.nodes:
+            self.visit(argument, frame)
+            self.write(", ")
+        self.write("))")
+
+
+def _bounded_filters(filters: Mapping[str, Any]) -> dict[str, Any]:
+    """The allowed filters, each refusing inputs that would build past the limits."""
+    original = {name: filters[name] for name in ALLOWED_FILTERS}
+    bounded = dict(original)
+
+    def items_of(value: Any) -> None:
+        size = len(value) if hasattr(value, "__len__") else None
+        if size is not None and size > MAX_ITEMS:
+            raise RuleLimit(f"{size:,} items are more than a rule may list or sort")
+
+    def replace(eval_ctx: Any, value: Any, old: Any, new: Any, count: Any = None) -> Any:
+        text, old, new = str(value), str(old), str(new)
+        times = text.count(old) if old else len(text) + 1
+        if count is not None and isinstance(count, int) and count >= 0:
+            times = min(times, count)
+        if len(text) + times * (len(new) - len(old)) > MAX_STRING:
+            raise RuleLimit(f"replace would build a text over {MAX_STRING:,} characters")
+        return original["replace"](eval_ctx, value, old, new, count)
+
+    def join(eval_ctx: Any, value: Any, d: str = "", attribute: Any = None) -> Any:
+        items_of(value)
+        if attribute is None and isinstance(value, str | list | tuple | dict):
+            value = list(value)
+            total = 0
+            for item in value:  # before joining: the joined text is never built if too long
+                total += len(str(item)) + len(str(d))
+                if total > MAX_STRING:
+                    raise RuleLimit(f"join would build a text over {MAX_STRING:,} characters")
+        result = original["join"](eval_ctx, value, d, attribute)
+        _check_text(result, "join")
+        return result
+
+    def format_(value: Any, *args: Any, **kwargs: Any) -> Any:
+        _check_format(value)
+        result = original["format"](value, *args, **kwargs)
+        _check_text(result, "format")
+        return result
+
+    def as_int(value: Any, default: int = 0, base: int = 10) -> Any:
+        if isinstance(value, str) and len(value) > 100:
+            raise RuleLimit("a number written with more than 100 characters")
+        return original["int"](value, default, base)
+
+    def round_(value: Any, precision: int = 0, method: str = "common") -> Any:
+        if not isinstance(precision, int) or abs(precision) > MAX_ROUND_DIGITS:
+            raise RuleLimit(f"round to at most {MAX_ROUND_DIGITS} digits")
+        if isinstance(value, float) and not math.isfinite(value):
+            raise RuleLimit("cannot round a number that is not finite")
+        return original["round"](value, precision, method)
+
+    def sized(name: str) -> Any:
+        def check(*args: Any, **kwargs: Any) -> Any:
+            items_of(args[1])  # each takes the environment or context first
+            return original[name](*args, **kwargs)
+
+        for attribute in ("jinja_pass_arg",):
+            if hasattr(original[name], attribute):
+                setattr(check, attribute, getattr(original[name], attribute))
+        return check
+
+    for name, wrapper in (("replace", replace), ("join", join), ("format", format_),
+                          ("int", as_int), ("round", round_)):
+        for attribute in ("jinja_pass_arg",):
+            if hasattr(original[name], attribute):
+                setattr(wrapper, attribute, getattr(original[name], attribute))
+        bounded[name] = wrapper
+    for name in ("list", "sort", "max", "min"):
+        bounded[name] = sized(name)
+    return bounded
+
+
 def _environment() -> ImmutableSandboxedEnvironment:
-    environment = ImmutableSandboxedEnvironment(undefined=StrictUndefined, autoescape=False,
-                                                keep_trailing_newline=False)
+    environment = _BoundedSandbox(undefined=StrictUndefined, autoescape=False,
+                                  keep_trailing_newline=False)
+    environment.code_generator_class = _BoundedCodeGenerator
     environment.globals.clear()
-    environment.filters = {name: environment.filters[name] for name in ALLOWED_FILTERS}
+    environment.filters = _bounded_filters(environment.filters)
     environment.tests = {name: environment.tests[name] for name in ALLOWED_TESTS}
     return environment
 
@@ -67,21 +277,55 @@ class Compiled:
     _run: Any
 
     def __call__(self, context: Mapping[str, Any]) -> Any:
+        token = _BUDGET.set(_Budget(deadline=time.monotonic() + MAX_SECONDS))
         try:
             if self.mode == "expression":
                 return self._run(**context)
-            return self._run.render(**context)
-        except (UndefinedError, SecurityError, TypeError, ValueError, ZeroDivisionError) as e:
-            raise RuleError(f"{self.source!r}: {e}") from None
+            return self._render(context)
+        except OverflowError:
+            raise RuleError(f"{_shown(self.source)}: a number too large to compute") from None
+        except (UndefinedError, SecurityError, TypeError, ValueError, ArithmeticError,
+                LookupError) as e:
+            raise RuleError(f"{_shown(self.source)}: {e}") from None
+        except RecursionError:
+            raise RuleError(f"{_shown(self.source)}: nested too deeply to evaluate") from None
+        finally:
+            _BUDGET.reset(token)
+
+    def _render(self, context: Mapping[str, Any]) -> str:
+        """The template's text, refused as soon as it grows past MAX_STRING."""
+        chunks = []
+        size = 0
+        for chunk in self._run.generate(**context):
+            size += len(chunk)
+            if size > MAX_STRING:
+                raise RuleLimit(f"the text would be over {MAX_STRING:,} characters long")
+            chunks.append(chunk)
+        return "".join(chunks)
+
+
+def _shown(source: str, limit: int = 80) -> str:
+    """A rule text as quoted in a message: short and on one line."""
+    one = " ".join(source.split())
+    return repr(one if len(one) <= limit else one[:limit] + "…")
 
 
 def lint_source(source: str, mode: Literal["expression", "template"],
                 schema: Schema) -> list[str]:
     """Everything wrong with a rule text, one message each; empty when it may run."""
+    if len(source) > MAX_SOURCE:
+        return [f"{len(source):,} characters is longer than a rule text may be "
+                f"({MAX_SOURCE:,})"]
     try:
         tree = ENVIRONMENT.parse(_as_template(source, mode))
     except TemplateSyntaxError as error:
         return [f"syntax: {error.message}"]
+    except RecursionError:
+        return [f"nested more than {MAX_NESTING} levels deep (brackets, operators or "
+                "filters inside one another)"]
+    if _depth(tree) > MAX_NESTING:
+        return [f"nested more than {MAX_NESTING} levels deep (brackets, operators or "
+                "filters inside one another)"]
     problems: list[str] = []
     for node in tree.find_all(nodes.Node):
         for refused, why in REFUSED_NODES.items():
@@ -101,6 +345,17 @@ def lint_source(source: str, mode: Literal["expression", "template"],
                             f"{did_you_mean(node.name, ALLOWED_TESTS)}")
     problems.extend(_unknown_names(tree, schema))
     return sorted(set(problems), key=problems.index)
+
+
+def _depth(tree: nodes.Node) -> int:
+    """Depth of a syntax tree, walked without recursion."""
+    deepest = 0
+    stack = [(tree, 1)]
+    while stack:
+        node, depth = stack.pop()
+        deepest = max(deepest, depth)
+        stack.extend((child, depth + 1) for child in node.iter_child_nodes())
+    return deepest
 
 
 def _as_template(source: str, mode: str) -> str:
@@ -275,9 +530,11 @@ def build_ruleset(
 
 def _safe_compile(source: str, mode: Literal["expression", "template"]) -> Compiled:
     try:
-        return compile_source(source, mode)
-    except TemplateSyntaxError:
-        return compile_source("false" if mode == "expression" else "", mode)  # linted
+        if len(source) <= MAX_SOURCE:
+            return compile_source(source, mode)
+    except (TemplateSyntaxError, RecursionError, SyntaxError):
+        pass
+    return compile_source("false" if mode == "expression" else "", mode)  # linted
 
 
 # Words in a caution that state a fact about the package, and the fact they need: a
@@ -408,7 +665,7 @@ def _lint_step_kind(step: StepRule, section: str) -> Iterator[tuple[tuple[str, .
 def _constant_false(source: str) -> bool:
     try:
         expression = ENVIRONMENT.parse("{{ (" + source + ") }}")
-    except TemplateSyntaxError:
+    except (TemplateSyntaxError, RecursionError):
         return False
     output = expression.body[0]
     if not isinstance(output, nodes.Output) or len(output.nodes) != 1:
@@ -416,7 +673,7 @@ def _constant_false(source: str) -> bool:
     node = output.nodes[0]
     try:
         return isinstance(node, nodes.Expr) and node.as_const() in (False, 0, None, "")
-    except nodes.Impossible:
+    except (nodes.Impossible, RecursionError):
         return False
 
 

@@ -13,6 +13,7 @@ bomb is refused instead of eating the machine.
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 from typing import Any
 
@@ -24,7 +25,18 @@ from workpack.errors import InputError, Problem
 MAX_EXPANDED_NODES = 5_000_000
 MAX_FILE_BYTES = 50 * 1024 * 1024
 
+# Python refuses to read integers longer than this (int_max_str_digits); so do we.
+MAX_DIGITS = 4300
+# Far deeper than any workpack file (a plant nests about six levels).
+MAX_DEPTH = 100
+
 Path = tuple[str | int, ...]
+
+_SURROGATE = re.compile("[\ud800-\udfff]")
+# YAML 1.1's printable set (5.1); anything else is refused by the reader, which
+# gives only an offset (in bytes, with libyaml): we find the place ourselves.
+_NOT_PRINTABLE = re.compile(
+    "[^\x09\x0a\x0d\x20-\x7e\x85\xa0-\ud7ff\ue000-\ufffd\U00010000-\U0010ffff]")
 
 
 @dataclass
@@ -101,11 +113,37 @@ def format_path(path: Path) -> str:
 _SafeBase: type = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
 
 
-class _StrictLoader(_SafeBase):  # type: ignore[misc, valid-type]
+class _DepthLimit:
+    """Refuses nesting deeper than MAX_DEPTH where composing is done in Python.
+
+    PyYAML's composer recurses once per level; without a limit a few hundred
+    nested brackets end in a RecursionError with no place. libyaml's composer
+    has its own limit (1,000) and reports it with a place.
+    """
+
+    _depth = 0
+
+    def compose_node(self, parent: Any, index: Any) -> Any:
+        self._depth += 1
+        try:
+            if self._depth > MAX_DEPTH:
+                event = self.peek_event()  # type: ignore[attr-defined]
+                raise yaml.composer.ComposerError(
+                    None, None, f"values nested more than {MAX_DEPTH} levels deep",
+                    event.start_mark)
+            return super().compose_node(parent, index)  # type: ignore[misc]
+        finally:
+            self._depth -= 1
+
+
+class _StrictLoader(_DepthLimit, _SafeBase):  # type: ignore[misc, valid-type]
     """Safe loader that refuses duplicate keys."""
 
 
 def _construct_mapping(loader: _StrictLoader, node: yaml.MappingNode, deep: bool = False) -> Any:
+    if not isinstance(node, yaml.MappingNode):
+        raise yaml.constructor.ConstructorError(
+            None, None, f"expected a mapping, found {_node_kind(node)}", node.start_mark)
     loader.flatten_mapping(node)
     seen: dict[Any, yaml.Node] = {}
     for key_node, _ in node.value:
@@ -133,12 +171,68 @@ _StrictLoader.add_constructor(
 
 
 def _construct_timestamp(loader: Any, node: yaml.ScalarNode) -> Any:
+    if not isinstance(node, yaml.ScalarNode):
+        raise yaml.constructor.ConstructorError(
+            None, None, f"expected a date, found {_node_kind(node)}", node.start_mark)
     try:
         return yaml.constructor.SafeConstructor.construct_yaml_timestamp(loader, node)
     except ValueError as error:  # 2026-02-30: the date library's words, with a place
         raise yaml.constructor.ConstructorError(
-            None, None, f"{node.value!r} is not a real date or time ({error})",
+            None, None, f"{_shown(node.value)} is not a real date or time ({error})",
             node.start_mark) from None
+    except (AttributeError, TypeError, IndexError):  # !!timestamp on a text that is none
+        raise yaml.constructor.ConstructorError(
+            None, None, f"{_shown(node.value)} is not a date (expected YYYY-MM-DD)",
+            node.start_mark) from None
+
+
+def _node_kind(node: yaml.Node) -> str:
+    return {yaml.ScalarNode: "a single value", yaml.SequenceNode: "a list",
+            yaml.MappingNode: "a mapping"}.get(type(node), "something else")
+
+
+def _shown(text: str, limit: int = 40) -> str:
+    """A value as quoted in a message: escaped, and shortened when long."""
+    return repr(text if len(text) <= limit else text[:limit] + "…")
+
+
+# What a value tagged (or resolved) as each type must look like, for the message.
+_SCALAR_NAMES = {"int": "a whole number", "float": "a number", "bool": "true or false",
+                 "null": "nothing (null)", "str": "text"}
+
+
+def _checked_scalar(tag: str) -> Any:
+    """PyYAML's constructor for ``tag``, turning its ValueError/KeyError into a placed error.
+
+    ``!!int 1.5``, ``!!float abc``, ``!!bool maybe`` and a 5,000-digit integer reach
+    Python's own conversions, which raise bare exceptions without a place.
+    """
+    name = tag.rsplit(":", 1)[-1]
+    construct = yaml.constructor.SafeConstructor.yaml_constructors[tag]
+
+    def checked(loader: Any, node: yaml.Node) -> Any:
+        if not isinstance(node, yaml.ScalarNode):
+            raise yaml.constructor.ConstructorError(
+                None, None, f"expected {_SCALAR_NAMES[name]}, found {_node_kind(node)}",
+                node.start_mark)
+        text = str(node.value)
+        if name == "int" and sum(char.isdigit() for char in text) > MAX_DIGITS:
+            raise yaml.constructor.ConstructorError(
+                None, None, f"a number of {len(text):,} characters is too long "
+                f"(at most {MAX_DIGITS} digits)", node.start_mark)
+        try:
+            value = construct(loader, node)
+        except (ValueError, KeyError, IndexError, TypeError, AttributeError, OverflowError):
+            raise yaml.constructor.ConstructorError(
+                None, None, f"{_shown(text)} is not {_SCALAR_NAMES[name]}",
+                node.start_mark) from None
+        if isinstance(value, str) and _SURROGATE.search(value):
+            raise yaml.constructor.ConstructorError(
+                None, None, "the text holds an unpaired surrogate escape (\\ud800 to "
+                "\\udfff): write the character itself", node.start_mark)
+        return value
+
+    return checked
 
 
 def _refuse_tag(loader: Any, suffix: str, node: yaml.Node) -> Any:
@@ -147,8 +241,14 @@ def _refuse_tag(loader: Any, suffix: str, node: yaml.Node) -> Any:
         node.start_mark)
 
 
-class _AliasPlacingLoader(_StrictLoader if _SafeBase is yaml.SafeLoader  # type: ignore[misc]
-                          else yaml.SafeLoader):
+class _PythonSafeLoader(_DepthLimit, yaml.SafeLoader):
+    """The pure-Python safe loader, depth-limited."""
+
+
+_PurePython: type = _StrictLoader if _SafeBase is yaml.SafeLoader else _PythonSafeLoader
+
+
+class _AliasPlacingLoader(_PurePython):  # type: ignore[misc, valid-type]
     """Pure-Python loader that gives each alias use its own place.
 
     libyaml hands back the anchored node itself for ``*alias``, so an error
@@ -167,6 +267,13 @@ class _AliasPlacingLoader(_StrictLoader if _SafeBase is yaml.SafeLoader  # type:
 
 
 for _loader in (_StrictLoader, _AliasPlacingLoader):
+    for _name in _SCALAR_NAMES:
+        _loader.add_constructor(f"tag:yaml.org,2002:{_name}", _checked_scalar(
+            f"tag:yaml.org,2002:{_name}"))
+    # Bytes, sets and ordered pairs are no values a workpack file holds.
+    for _name in ("binary", "set", "omap", "pairs"):
+        _loader.add_constructor(f"tag:yaml.org,2002:{_name}",
+                                lambda loader, node: _refuse_tag(loader, "", node))
     _loader.add_constructor("tag:yaml.org,2002:timestamp", _construct_timestamp)
     _loader.add_multi_constructor("!", _refuse_tag)
     _loader.add_multi_constructor("tag:", _refuse_tag)
@@ -203,20 +310,71 @@ def _expanded_size(root: yaml.Node) -> int:
     return size(root)
 
 
-def _yaml_problem(error: yaml.MarkedYAMLError, file: str) -> Problem:
+def _yaml_problem(error: yaml.MarkedYAMLError, file: str, text: str = "") -> Problem:
     """One line for a YAML error, at the place a person should look."""
     mark = error.problem_mark or error.context_mark
     what = error.problem or error.context or "malformed YAML"
     context = error.context or ""
-    if "flow" in context and error.context_mark is not None:
-        # An unclosed [ or {: the parser notices lines later; show where it opened.
-        mark = error.context_mark
+    opened = error.context_mark
+    if context.endswith(("flow mapping", "flow sequence")) and opened is not None:
         bracket = "{" if context.endswith("mapping") else "["
-        what += f" (a '{bracket}' opened here is not closed)"
+        if mark is None or mark.line != opened.line or "end" in what:
+            # Unclosed: the parser notices lines later; show where it opened.
+            mark = opened
+            what += f" (a '{bracket}' opened here is not closed)"
+        else:
+            what += f" (inside the '{bracket}' opened at column {opened.column + 1})"
+    elif "flow node" in context and mark is not None and (
+        mark.line >= len(text.rstrip().splitlines())  # past the last line: the file ended
+    ):
+        what += " (the file ends inside brackets: a '[' or '{' is not closed)"
     elif "expected" in what and "block" in context:
         what += " (check the indentation of this line against the lines above)"
     line, column = (mark.line + 1, mark.column + 1) if mark else (0, 0)
     return Problem(file, line, column, "", f"YAML: {what}")
+
+
+def find_unprintable(text: str) -> tuple[int, int, str] | None:
+    """(line, column, character) of the first character outside YAML's printable set.
+
+    Lines are counted at LF, and at a CR not followed by LF.
+    """
+    found = _NOT_PRINTABLE.search(text)
+    if found is None:
+        return None
+    head = text[: found.start()].replace("\r\n", "\n").replace("\r", "\n")
+    line = head.count("\n") + 1
+    column = len(head) - (head.rfind("\n") + 1) + 1
+    return line, column, found.group()
+
+
+def _unprintable(text: str, file: str, error: yaml.reader.ReaderError) -> Problem:
+    """The reader's complaint at the line and column of the character it refused."""
+    found = find_unprintable(text)
+    if found is None:
+        return Problem(file, 0, 0, "", f"YAML: {error.reason}")
+    line, column, char = found
+    return Problem(file, line, column, "", f"YAML: character U+{ord(char):04X} is "
+                   "not allowed (a control character; only tab and line breaks are)")
+
+
+def _deep_place(root: yaml.Node) -> tuple[int, int]:
+    """Line and column of the first value nested deeper than MAX_DEPTH (walked, not recursed)."""
+    stack: list[tuple[yaml.Node, int]] = [(root, 1)]
+    seen: set[int] = set()
+    while stack:
+        node, depth = stack.pop()
+        if depth > MAX_DEPTH:
+            return node.start_mark.line + 1, node.start_mark.column + 1
+        if id(node) in seen:
+            continue
+        seen.add(id(node))
+        if isinstance(node, yaml.SequenceNode):
+            stack.extend((child, depth + 1) for child in reversed(node.value))
+        elif isinstance(node, yaml.MappingNode):
+            for key, value in reversed(node.value):
+                stack.extend(((value, depth + 1), (key, depth + 1)))
+    return 0, 0
 
 
 def parse_yaml(text: str, file: str) -> tuple[Any, Marks]:
@@ -225,6 +383,7 @@ def parse_yaml(text: str, file: str) -> tuple[Any, Marks]:
     Raises InputError (one line, with file:line:col) on any YAML problem.
     """
     marks = Marks(file)
+    root = None
     if len(text.encode("utf-8", "surrogatepass")) > MAX_FILE_BYTES:
         raise InputError([Problem(file, 0, 0, "", f"file is larger than {MAX_FILE_BYTES} bytes")])
     try:
@@ -245,10 +404,14 @@ def parse_yaml(text: str, file: str) -> tuple[Any, Marks]:
         finally:
             loader.dispose()
     except yaml.MarkedYAMLError as error:
-        raise InputError([_yaml_problem(error, file)]) from None
+        raise InputError([_yaml_problem(error, file, text)]) from None
+    except yaml.reader.ReaderError as error:
+        raise InputError([_unprintable(text, file, error)]) from None
     except yaml.YAMLError as error:
         raise InputError([Problem(file, 0, 0, "", f"YAML: {error}")]) from None
     except RecursionError:
-        raise InputError([Problem(file, 0, 0, "", "YAML nests too deeply")]) from None
+        line, column = _deep_place(root) if root is not None else (0, 0)
+        raise InputError([Problem(file, line, column, "", "YAML: values nested more than "
+                                  f"{MAX_DEPTH} levels deep")]) from None
     marks.root = root
     return data, marks

@@ -23,7 +23,14 @@ from typing import Annotated, Any, Literal
 from pydantic import Field, model_validator
 
 from workpack.model.plant import ID_RULE, Id, Strict
-from workpack.model.quantities import Celsius, MeasuredVolts, Ohms, Seconds, Volts, Watts
+from workpack.model.quantities import (
+    Celsius,
+    MeasuredVolts,
+    Ohms,
+    Seconds,
+    VoltAmperes,
+    Volts,
+)
 
 
 class LampState(StrEnum):
@@ -170,7 +177,7 @@ class TransformerUnit(Observation):
     unit: str = Field(description="which single-phase unit, by the phase pair it serves "
                                   "or its mark, e.g. 'AB' or 'unit 2'", examples=["BC"])
     state: UnitState = Field(description="what is wrong with it", examples=["failed"])
-    load: Watts | None = Field(default=None,
+    load: VoltAmperes | None = Field(default=None,
                                description="bank load now, in kVA, e.g. '30 kVA'; estimated "
                                            "from the connected loads if absent",
                                examples=["48 kVA"])

@@ -33,6 +33,7 @@ from workpack.model.quantities import (
     Hertz,
     Metres,
     Ohms,
+    VoltAmperes,
     Volts,
     Watts,
 )
@@ -319,8 +320,8 @@ class Source(Element):
     kind: SourceKind = Field(description="what kind of source", examples=["generator"])
     voltage: Volts = Field(description="rated line-to-line output voltage, e.g. '450 V'",
                            examples=["450 V"])
-    rated_kva: Watts | None = Field(default=None, description="rated apparent power in kVA, "
-                                    "e.g. '625 kVA'", examples=["625 kVA"])
+    rated_kva: VoltAmperes | None = Field(default=None, description="rated apparent power in "
+                                          "kVA, e.g. '625 kVA'", examples=["625 kVA"])
     starts_automatically: bool = Field(
         default=False, description="true when it starts by itself, e.g. an emergency "
                                    "generator that starts on blackout", examples=[True])
@@ -634,12 +635,13 @@ class Transformer(FedElement):
 
     construction: Construction = Field(description="a bank of single-phase units or one "
                                        "three-phase unit", examples=["bank_of_single_phase"])
-    units: int = Field(default=3, ge=1, le=3, description="number of single-phase units in a bank",
-                       examples=[3])
-    unit_kva: Watts | None = Field(default=None, description="rating of each unit of a bank, "
-                                   "in kVA, e.g. '25 kVA'", examples=["25 kVA"])
-    rated_kva: Watts | None = Field(default=None, description="rating of a three-phase unit, "
-                                    "in kVA, e.g. '100 kVA'", examples=["100 kVA"])
+    units: int = Field(default=3, ge=1, le=3,
+                       description="number of single-phase units in a bank", examples=[3])
+    unit_kva: VoltAmperes | None = Field(default=None, description="rating of each unit of a "
+                                         "bank, in kVA, e.g. '25 kVA'", examples=["25 kVA"])
+    rated_kva: VoltAmperes | None = Field(default=None, description="rating of a three-phase "
+                                          "unit, in kVA, e.g. '100 kVA'",
+                                          examples=["100 kVA"])
     primary_voltage: Volts = Field(description="rated line-to-line voltage of the primary "
                                    "(supply) side, e.g. '440 V'", examples=["440 V"])
     secondary_voltage: Volts = Field(description="rated line-to-line voltage of the "
@@ -795,8 +797,8 @@ class Load(FedElement):
                                examples=["vital"])
     rated_kw: Watts | None = Field(default=None, description="rated power in kW, e.g. "
                                    "'22 kW' (a motor's output)", examples=["22 kW"])
-    rated_kva: Watts | None = Field(default=None, description="rated apparent power in kVA, "
-                                    "e.g. '5 kVA'", examples=["5 kVA"])
+    rated_kva: VoltAmperes | None = Field(default=None, description="rated apparent power in "
+                                          "kVA, e.g. '5 kVA'", examples=["5 kVA"])
     rated_voltage: Volts | None = Field(default=None, description="rated line-to-line "
                                         "voltage, e.g. '440 V'; a motor needs it (it picks "
                                         "the insulation test voltage)", examples=["440 V"])

@@ -16,7 +16,7 @@ from reportlab.graphics.shapes import Circle, Drawing, Group, Line, PolyLine, Re
 from reportlab.lib import colors
 from reportlab.lib.units import mm
 from reportlab.pdfbase.pdfmetrics import stringWidth
-from reportlab.platypus import Flowable, KeepTogether, Paragraph, Spacer, Table, TableStyle
+from reportlab.platypus import Flowable, Paragraph, Spacer, TableStyle
 
 from workpack.audit import OUTCOME_WORDS, STATUS_WORDS, AuditReport, IrTrend, PackageAudit
 from workpack.render.audit_html import (
@@ -41,8 +41,10 @@ from workpack.render.pdf import (
     FONT,
     FONT_BOLD,
     MIN_TEXT_PT,
+    KeepTogether,
     PageSize,
     PdfDocument,
+    Table,
     format_quantity,
     words,
 )
@@ -121,7 +123,8 @@ class AuditPdf(PdfDocument):
         ids += [i.package_id for i in report.open_isolations]
         ids += [p.package_id for t in report.trends for p in t.points]
         widest = max((stringWidth(i, FONT_BOLD, 10) for i in ids), default=0.0)
-        self.id_mm = max(28.0, (widest + 2 * 1.6 * mm + 2) / mm)
+        # but never so wide that the other columns vanish: a longer id wraps
+        self.id_mm = min(44.0, max(28.0, (widest + 2 * 1.6 * mm + 2) / mm))
 
     def header_right(self) -> str:
         return self.report.filter.plant or "all plants"
@@ -139,7 +142,7 @@ class AuditPdf(PdfDocument):
         get heavy rules above and below, so they stand out in black and white."""
         body = [[self.para(c) if isinstance(c, str) else c for c in row] for row in rows]
         table = Table([[self.para(h, "head") for h in head], *body],
-                      colWidths=self.cols(*widths_mm), repeatRows=1)
+                      colWidths=self.cols(*widths_mm), repeatRows=1, repeat_when_cut=(0,))
         style: list[tuple[Any, ...]] = [*_GRID, *_HEAD_ROW]
         for i in flagged:
             style += [("LINEABOVE", (0, i + 1), (-1, i + 1), 2.2, colors.black),

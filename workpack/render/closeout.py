@@ -25,10 +25,8 @@ from reportlab.pdfgen.canvas import Canvas
 from reportlab.platypus import (
     BaseDocTemplate,
     Flowable,
-    KeepTogether,
     Paragraph,
     Spacer,
-    Table,
     TableStyle,
 )
 
@@ -36,13 +34,16 @@ from workpack.audit import OUTCOME_WORDS, entered_text, is_bare_number, results_
 from workpack.evaluate import Evaluation, ReadingVerdict
 from workpack.model.package import WorkPackage
 from workpack.model.results import Results
+from workpack.render.figures import shortened
 from workpack.render.pdf import (
     FONT,
     FONT_BOLD,
     CheckBox,
     FieldBox,
+    KeepTogether,
     PackagePdf,
     PageSize,
+    Table,
     format_quantity,
     split_field_name,
     words,
@@ -77,16 +78,33 @@ class Mark(Flowable):
         self.size_pt = size_pt
         self.icon = size_pt * 1.25
         self.gap = size_pt * 0.45
+        self.lines = [word]
         self.width = self.icon + self.gap + stringWidth(word, FONT_BOLD, size_pt)
         self.height = self.icon
 
     def wrap(self, availWidth: float, availHeight: float) -> tuple[float, float]:
+        # a word wider than the cell (a long device id) goes on over several lines
+        room = max(availWidth - self.icon - self.gap, self.size_pt)
+        self.lines = []
+        rest = self.word
+        while rest:
+            fits = 1
+            while (fits < len(rest)
+                   and stringWidth(rest[:fits + 1], FONT_BOLD, self.size_pt) <= room):
+                fits += 1
+            self.lines.append(rest[:fits])
+            rest = rest[fits:]
+        self.lines = self.lines or [""]
+        self.width = self.icon + self.gap + max(
+            stringWidth(line, FONT_BOLD, self.size_pt) for line in self.lines)
+        self.height = max(self.icon, len(self.lines) * self.size_pt * 1.2)
         return self.width, self.height
 
     def draw(self) -> None:
         canv, s = self.canv, self.icon
         c = s / 2
         canv.saveState()
+        canv.translate(0, self.height - s)  # the shape beside the first line
         canv.setStrokeColor(colors.black)
         canv.setFillColor(colors.black)
         canv.setLineWidth(1.1)
@@ -122,7 +140,9 @@ class Mark(Flowable):
             canv.setFont(FONT_BOLD, self.size_pt * 0.9)
             canv.drawCentredString(c, s * 0.16, "!")
         canv.setFont(FONT_BOLD, self.size_pt)
-        canv.drawString(self.icon + self.gap, (s - self.size_pt * 0.72) / 2, self.word)
+        first = (s - self.size_pt * 0.72) / 2
+        for number, line in enumerate(self.lines):
+            canv.drawString(self.icon + self.gap, first - number * self.size_pt * 1.2, line)
         canv.restoreState()
 
 
@@ -151,6 +171,21 @@ class FilledBox(Flowable):
         _, text_h = self.paragraph.wrap(self._box_width() - 2 * self.pad, availHeight)
         self.height = max(self.box_height, text_h + 2 * self.pad)
         return self.width, self.height
+
+    def split(self, availWidth: float, availHeight: float) -> list[Flowable]:
+        """An entry longer than the space left goes on in a second box (long remarks);
+        the unit stays with the first part, where the value starts."""
+        self.wrap(availWidth, availHeight)
+        if self.height <= availHeight:
+            return [self]
+        parts = self.paragraph.split(self._box_width() - 2 * self.pad,
+                                     availHeight - 2 * self.pad)
+        if len(parts) != 2:
+            return []
+        first = FilledBox(parts[0], self.suffix, min(self.box_height, availHeight),
+                          self.fixed_width, top=True)
+        rest = FilledBox(parts[1], "", 0.0, self.fixed_width, top=True)
+        return [first, rest]
 
     def draw(self) -> None:
         canv = self.canv
@@ -234,8 +269,15 @@ class CloseoutPdf(PackagePdf):
         r = self.record
         if r is None:
             return "Not yet in a records store: no record number, no chain hash."
-        return (f"Record {r.sequence} · recorded by {r.recorded_by} at "
-                f"{utc_text(r.recorded_at)} · chain {r.chain_sha256[:16]}")
+
+        def line(name: str) -> str:
+            return (f"Record {r.sequence} · recorded by {name} at "
+                    f"{utc_text(r.recorded_at)} · chain {r.chain_sha256[:16]}")
+
+        # a footer line cannot wrap: a long name ends in "…" here, and the record's
+        # facts at the top give it in full
+        room = self.width - stringWidth(line(""), FONT, self.small_pt)
+        return line(shortened(r.recorded_by, FONT, max(room, 20 * mm), self.small_pt))
 
     def draw_footer(self, canv: Canvas, doc: BaseDocTemplate) -> None:
         super().draw_footer(canv, doc)
@@ -286,7 +328,7 @@ class CloseoutPdf(PackagePdf):
                 ("Recorded by", r.recorded_by), ("Recorded at", utc_text(r.recorded_at)),
                 ("Chain hash", r.chain_sha256), ("Answers", matches)]
         table = Table([[Paragraph(words(k), label), Paragraph(words(v), cell)] for k, v in rows],
-                      colWidths=self.cols(34, 148))
+                      colWidths=self.cols(34, 148), repeat_when_cut=(0,))
         table.setStyle(TableStyle([("GRID", (0, 0), (-1, -1), 0.7, colors.black),
                                    ("VALIGN", (0, 0), (-1, -1), "TOP")]))
         return [table]
@@ -299,7 +341,7 @@ class CloseoutPdf(PackagePdf):
         rows = [[Mark("cross" if d.fails else "bar", "FAILS" if d.fails else "INCOMPLETE"),
                  Paragraph(words(d.text), self.style["cell"])]
                 for d in self.evaluation.deviations]
-        table = Table(rows, colWidths=self.cols(36, 146), repeatRows=0)
+        table = Table(rows, colWidths=self.cols(36, 146), repeat_when_cut=(0,))
         table.setStyle(TableStyle([("GRID", (0, 0), (-1, -1), 0.7, colors.black),
                                    ("VALIGN", (0, 0), (-1, -1), "MIDDLE")]))
         return [*out, table]

@@ -15,14 +15,16 @@ from typing import Any, ClassVar
 from reportlab.lib import colors
 from reportlab.lib.units import mm
 from reportlab.pdfbase.pdfmetrics import stringWidth
-from reportlab.platypus import Flowable, KeepTogether, Paragraph, Spacer, Table, TableStyle
+from reportlab.platypus import Flowable, Paragraph, Spacer, TableStyle
 
 from workpack.model.package import SignalWord, WorkPackage
 from workpack.render.pdf import (
     FONT,
     FONT_BOLD,
+    KeepTogether,
     PageSize,
     PdfDocument,
+    Table,
     format_number,
     words,
 )
@@ -41,6 +43,8 @@ class DaySheetPdf(PdfDocument):
     """The day's jobs for one plant, ranked, with what fits and what waits."""
 
     cell_pad_mm: ClassVar[float] = 1.3
+    widest_column: ClassVar[float] = 0.25  # of the text width, for each fitted column
+    text_columns: ClassVar[float] = 0.35  # of the text width at least, for title and item
 
     def __init__(self, plant: str, date: dt.date, packages: Sequence[WorkPackage],
                  scheduled: Sequence[str], deferred: Sequence[str],
@@ -100,11 +104,15 @@ class DaySheetPdf(PdfDocument):
             face = FONT_BOLD if column in bold_columns else FONT
             widest = max([stringWidth(text[column], face, 10) for text in texts]
                          + [max(stringWidth(w, FONT_BOLD, 9.5) for w in title.split())])
-            widths.append(widest + pad)
+            # but a column never takes more than its share: a longer id wraps
+            widths.append(min(widest + pad, self.width * self.widest_column))
+        fitted = sum(widths)
+        if fitted > self.width * (1 - self.text_columns):  # leave title and item their room
+            widths = [w * self.width * (1 - self.text_columns) / fitted for w in widths]
         rest = self.width - sum(widths)
         widths[4] = rest * 0.32
         widths[3] = rest - widths[4]
-        table = Table(rows, colWidths=widths, repeatRows=1)
+        table = Table(rows, colWidths=widths, repeatRows=1, repeat_when_cut=(0, 1, 2))
         table.setStyle(TableStyle([
             ("GRID", (0, 0), (-1, -1), 0.7, colors.black),
             ("BOX", (0, 0), (-1, -1), 1.4, colors.black),

@@ -48,6 +48,7 @@ drawn on the page itself, so the paper copy prints the same boxes for a pen.
 
 from __future__ import annotations
 
+import copy
 import datetime as dt
 import functools
 import io
@@ -69,13 +70,13 @@ from reportlab.platypus import (
     BaseDocTemplate,
     Flowable,
     Frame,
-    KeepTogether,
     PageTemplate,
     Paragraph,
     Spacer,
-    Table,
     TableStyle,
 )
+from reportlab.platypus import KeepTogether as PlatypusKeepTogether
+from reportlab.platypus import Table as PlatypusTable
 
 from workpack.model.package import (
     Caution,
@@ -89,8 +90,9 @@ from workpack.model.package import (
     WorkPackage,
 )
 from workpack.render.figures import (
+    fit_sketch,
     phasor_drawing,
-    sketch_drawing,
+    shortened,
     sketch_legend,
     sketch_width_needed,
 )
@@ -100,14 +102,17 @@ __all__ = [
     "FONT",
     "FONT_BOLD",
     "FieldBox",
+    "KeepTogether",
     "MIN_TEXT_PT",
     "PackagePdf",
     "PageSize",
     "PagedCanvas",
     "PdfDocument",
+    "Table",
     "field_name",
     "format_number",
     "format_quantity",
+    "listed",
     "register_fonts",
     "render_package",
     "split_field_name",
@@ -209,9 +214,125 @@ def expected_text(reading: Reading) -> str:
     return text
 
 
+def listed(ids: Sequence[str], at_most: int, whole_list_in: str) -> str:
+    """Ids joined by commas; past ``at_most`` the rest are counted and the reader is sent
+    to where the whole list is (a rounds log can give one package ten thousand findings)."""
+    if len(ids) <= at_most:
+        return ", ".join(ids)
+    return (", ".join(ids[:at_most]) + f" and {len(ids) - at_most:,} more "
+            f"(all {len(ids):,} are listed in {whole_list_in})")
+
+
 def words(text: str) -> str:
     """Package text made safe for reportlab's paragraph markup; line breaks kept."""
     return escape(text).replace("\n", "<br/>")
+
+
+# --- tables that never fail to fit -----------------------------------------------------
+
+class Table(PlatypusTable):
+    """reportlab's table that can also split inside a row, so a cell of any length flows
+    on to the next page instead of stopping the document with a ``LayoutError``.
+
+    Rows stay whole wherever they can: a row is cut only when nothing stands above the
+    table on its page (moving it on would not help) or when the row is taller than a whole
+    page (then it starts filling the page it is on). The header rows (``repeatRows``) are
+    repeated on every page the table reaches; the cells of the columns in
+    ``repeat_when_cut`` (labels, signal words, ids) are repeated beside each part of a
+    cut row, so a page that starts inside a row still says what the row is. Use it for
+    every table in a document.
+    """
+
+    def __init__(self, data: Any, *args: Any, repeat_when_cut: Sequence[int] = (),
+                 **kwargs: Any) -> None:
+        kwargs.setdefault("splitInRow", 1)  # the smallest part of a row that may be cut (pt)
+        super().__init__(data, *args, **kwargs)
+        self.repeat_when_cut = tuple(repeat_when_cut)
+
+    def split(self, availWidth: float, availHeight: float) -> list[Flowable]:
+        parts = self._parts(availWidth, availHeight)
+        for part in parts:  # reportlab makes the parts without our settings
+            if isinstance(part, Table):
+                part.repeat_when_cut = self.repeat_when_cut
+        return parts
+
+    def _parts(self, availWidth: float, availHeight: float) -> list[Flowable]:
+        self._calc(availWidth, availHeight)
+        heights = list(self._rowHeights)
+        headers = sum(heights[:self._repeat_count()])
+        reached, stop = 0.0, len(heights)  # stop: the first row that does not fit here
+        for index, height in enumerate(heights):
+            reached += height
+            if reached > availHeight:
+                stop = index
+                break
+        frame = getattr(self, "_frame", None)  # set by the frame; absent inside a cell
+        never_fits = (stop < len(heights) and frame is not None
+                      and headers + heights[stop] > frame._aH)
+        if never_fits:  # fill this page with the start of that row
+            return self._cut_inside_row(availHeight, stop) or list(
+                self._splitRows(availHeight, doInRowSplit=0))
+        whole_rows = list(self._splitRows(availHeight, doInRowSplit=0))
+        if whole_rows or (frame is not None and not frame._atTop) or stop >= len(heights):
+            return whole_rows  # an empty list moves the table to a fresh page
+        return self._cut_inside_row(availHeight, stop)
+
+    def _cut_inside_row(self, availHeight: float, row: int) -> list[Flowable]:
+        # a row taller than a page is read from its top: centring it would leave its
+        # parts floating (and reportlab's cut of a centred row loses track of its height)
+        self._cellStyles[row] = [style.copy() for style in self._cellStyles[row]]
+        for style in self._cellStyles[row]:
+            style.valign = "TOP"
+        labels = {column: self._cellvalues[row][column] for column in self.repeat_when_cut}
+        parts = self._splitRows(availHeight, doInRowSplit=1)
+        if len(parts) == 2 and not any(_has_content(cell) for cell in parts[0]._cellvalues[-1]):
+            return []  # nothing of the cut row would go on this page: no progress
+        if len(parts) == 2:
+            parts[1]._repeat_labels(parts[1]._repeat_count(), labels)
+        return list(parts)
+
+    def _repeat_labels(self, row: int, labels: dict[int, Any]) -> None:
+        """Put ``labels`` (column -> cell) into the empty cells of ``row``, made tall
+        enough for them."""
+        for column, value in labels.items():
+            if _has_content(self._cellvalues[row][column]) or not _has_content(value):
+                continue
+            cell = [copy.copy(part) for part in value] if isinstance(value, list | tuple) \
+                else copy.copy(value)
+            self._cellvalues[row][column] = cell
+            if isinstance(cell, list):
+                style = self._cellStyles[row][column]
+                needed = (self._listCellGeom(cell, self._colWidths[column], style)[1]
+                          + style.topPadding + style.bottomPadding)
+                if self._argH is not None and self._argH[row] is not None \
+                        and needed > self._argH[row]:
+                    self._argH[row] = needed
+
+    def _repeat_count(self) -> int:
+        rows = self.repeatRows
+        return rows if isinstance(rows, int) else max(rows, default=-1) + 1
+
+
+class KeepTogether(PlatypusKeepTogether):
+    """reportlab's group kept on one page; a group taller than a whole page cannot be, so it
+    starts where it is when a third of the page is left, rather than leaving that third
+    blank. Also used for the groups reportlab makes of a heading and what follows it."""
+
+    def split(self, aW: float, aH: float) -> list[Flowable]:
+        if getattr(self, "_wrapInfo", None) != (aW, aH):
+            self.wrap(aW, aH)
+        frame = getattr(self, "_frame", None)
+        if frame is not None and self._H > frame._aH and aH >= frame._aH / 3:
+            return list(self._content)
+        return list(super().split(aW, aH))
+
+
+def _has_content(cell: Any) -> bool:
+    if isinstance(cell, str):
+        return bool(cell)
+    if isinstance(cell, list | tuple):
+        return any(_has_content(part) for part in cell)
+    return cell is not None
 
 
 # --- canvas and flowables for fields ----------------------------------------------------
@@ -365,6 +486,9 @@ class PdfDocument:
         register_fonts()
         self.page_size = PAGE_SIZES[page_size]
         self.width = self.page_size[0] - 2 * self.margin_mm * mm
+        # the body frame's height: nothing placed whole may be taller (points)
+        self.height = (self.page_size[1] - 2 * self.margin_mm * mm
+                       - (self.header_mm + self.footer_mm) * mm)
         self.style = self.stylesheet()
 
     # what subclasses fill in
@@ -429,12 +553,17 @@ class PdfDocument:
         width, height = self.page_size
         left, right = self.margin_mm * mm, width - self.margin_mm * mm
         base = height - self.margin_mm * mm - 6 * mm
+        # running lines cannot wrap: a long id or plant name is shortened with "…" here
+        # and stands in full in the body (the job table, the record's facts)
+        document_id = shortened(self.document_id, FONT_BOLD, (right - left) * 0.6, 12)
+        id_width = pdfmetrics.stringWidth(document_id, FONT_BOLD, 12)
         canv.saveState()
         canv.setFillColor(colors.black)
         canv.setFont(FONT_BOLD, 12)
-        canv.drawString(left, base, self.document_id)
+        canv.drawString(left, base, document_id)
         canv.setFont(FONT, 10)
-        canv.drawRightString(right, base, self.header_right())
+        canv.drawRightString(right, base, shortened(self.header_right(), FONT,
+                                                    right - left - id_width - 6 * mm, 10))
         canv.setLineWidth(1.2)
         canv.line(left, base - 2.5 * mm, right, base - 2.5 * mm)
         canv.restoreState()
@@ -447,9 +576,12 @@ class PdfDocument:
         canv.setLineWidth(0.8)
         canv.line(left, top, right, top)
         canv.setFont(FONT, self.small_pt)
-        canv.drawString(left, top - 4.5 * mm, self.footer_note())
+        canv.drawString(left, top - 4.5 * mm,
+                        shortened(self.footer_note(), FONT, right - left, self.small_pt))
         canv.setFont(FONT_BOLD, 10)
-        canv.drawString(left, top - 9.5 * mm, self.document_id)
+        page_count_room = pdfmetrics.stringWidth("Page 9999 of 9999", FONT_BOLD, 10) + 6 * mm
+        canv.drawString(left, top - 9.5 * mm, shortened(self.document_id, FONT_BOLD,
+                                                        right - left - page_count_room, 10))
         canv.restoreState()
 
     def draw_page_count(self, canv: Canvas, number: int, total: int) -> None:
@@ -469,14 +601,14 @@ class PdfDocument:
     def render(self) -> bytes:
         width, height = self.page_size
         margin = self.margin_mm * mm
-        frame = Frame(margin, margin + self.footer_mm * mm, width - 2 * margin,
-                      height - 2 * margin - self.header_mm * mm - self.footer_mm * mm,
+        frame = Frame(margin, margin + self.footer_mm * mm, width - 2 * margin, self.height,
                       leftPadding=0, rightPadding=0, topPadding=0, bottomPadding=0, id="body")
         buffer = io.BytesIO()
         doc = BaseDocTemplate(buffer, pagesize=self.page_size, leftMargin=margin,
                               rightMargin=margin, topMargin=margin, bottomMargin=margin,
                               title=self.document_title, subject=self.document_id,
                               author="workpack", creator="workpack", invariant=1,
+                              keepTogetherClass=KeepTogether,
                               pageTemplates=[PageTemplate("page", [frame],
                                                           onPage=self._on_page)])
         canvasmaker = functools.partial(PagedCanvas, finish_page=self.draw_page_count,
@@ -522,6 +654,8 @@ class PackagePdf(PdfDocument):
 
     field_height_mm: ClassVar[float] = 8.5
     figure_gap_mm: ClassVar[float] = 4.0
+    sketch_reserve_mm: ClassVar[float] = 55.0  # headings and notes around the sketch
+    listed_at_most: ClassVar[int] = 30  # ids in one cell; the rest are counted
 
     def __init__(self, package: WorkPackage, page_size: PageSize = "A4") -> None:
         super().__init__(page_size)
@@ -595,7 +729,8 @@ class PackagePdf(PdfDocument):
 
         origin = [f"rule {p.origin.rule}"]
         if p.origin.findings:
-            origin.append("findings " + ", ".join(p.origin.findings))
+            origin.append("findings " + listed(p.origin.findings, self.listed_at_most,
+                                               f"the package's file {p.id}.json"))
         if p.origin.routine:
             origin.append(f"routine {p.origin.routine}")
         rows = [
@@ -608,7 +743,7 @@ class PackagePdf(PdfDocument):
             + pair("Permits", ", ".join(p.permits) or "none listed"),
             pair("Origin", "; ".join(origin)) + ["", ""],
         ]
-        table = Table(rows, colWidths=self.cols(24, 67, 24, 67))
+        table = Table(rows, colWidths=self.cols(24, 67, 24, 67), repeat_when_cut=(0, 2))
         table.setStyle(TableStyle([*_GRID, ("SPAN", (1, 5), (3, 5)),
                                    ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
         return [self.numbered("The job"), table]
@@ -623,7 +758,7 @@ class PackagePdf(PdfDocument):
         word_cell = Paragraph(word.value, self.style["signal_white" if reversed_word
                                                      else "signal"])
         table = Table([[word_cell, Paragraph(words(caution.text), self.style["cell"])]],
-                      colWidths=self.cols(30, 152))
+                      colWidths=self.cols(30, 152), repeat_when_cut=(0,))
         style: list[tuple[Any, ...]] = [
             ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
             ("TOPPADDING", (0, 0), (-1, -1), 2 * mm),
@@ -718,10 +853,14 @@ class PackagePdf(PdfDocument):
                       phasor_drawing(p.phasor, phasor_width, FONT, FONT_BOLD, volts)]
         sketch: list[Flowable] = []
         if p.sketch is not None:
-            width = half if side_by_side else min(self.width, max(half, sketch_needs))
-            sketch = [Paragraph("One-line sketch", self.style["sub"]),
-                      sketch_drawing(p.sketch, width, FONT, FONT_BOLD), Spacer(1, 1 * mm),
-                      *[Paragraph(words(n), self.style["small"]) for n in sketch_legend()]]
+            widths = (half, half) if side_by_side else (half, self.width)
+            # room for the figure headings and the notes under the drawing
+            fitted = fit_sketch(p.sketch, widths, self.height - self.sketch_reserve_mm * mm,
+                                FONT, FONT_BOLD)
+            sketch = [Paragraph("One-line sketch", self.style["sub"]), fitted.drawing,
+                      Spacer(1, 1 * mm),
+                      *[Paragraph(words(n), self.style["small"])
+                        for n in (*sketch_legend(), *fitted.notes)]]
         if side_by_side:
             table = Table([[[*phasor, Spacer(1, 1 * mm), *self.phasor_notes()], sketch]],
                           colWidths=[half + gap, half], hAlign="LEFT")
@@ -1033,7 +1172,7 @@ class PackagePdf(PdfDocument):
              FieldBox(field_name("remarks"), "remarks", height=30 * mm, multiline=True,
                       max_length=2000)],
         ]
-        table = Table(rows, colWidths=self.cols(50, 132))
+        table = Table(rows, colWidths=self.cols(50, 132), repeat_when_cut=(0,))
         table.setStyle(TableStyle([*_GRID, ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
                                    ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
         return [KeepTogether([self.numbered("Sign-off"), table])]

@@ -1,0 +1,69 @@
+"""Hostile results PDFs, built from a real package PDF (for tests and the fuzz run)."""
+
+from __future__ import annotations
+
+import zlib
+from pathlib import Path
+
+from pypdf import PdfReader, PdfWriter
+from pypdf.generic import DictionaryObject, NameObject, NumberObject, TextStringObject
+
+
+def renamed_field(package_pdf: Path, out: Path, old: str, new: str, value: str = "x") -> Path:
+    """The package PDF with form field ``old`` renamed ``new`` and filled with ``value``."""
+    writer = PdfWriter(clone_from=PdfReader(package_pdf))
+    for page in writer.pages:
+        for annotation in page.get("/Annots") or []:
+            field = annotation.get_object()
+            if field.get("/T") == old:
+                field[NameObject("/T")] = TextStringObject(new)
+                field[NameObject("/V")] = TextStringObject(value)
+    writer.write(out)
+    return out
+
+
+def password_protected(package_pdf: Path, out: Path) -> Path:
+    writer = PdfWriter(clone_from=PdfReader(package_pdf))
+    writer.encrypt(user_password="secret", owner_password="owner", algorithm="RC4-128")
+    writer.write(out)
+    return out
+
+
+def aes_encrypted(package_pdf: Path, out: Path) -> Path:
+    """A PDF whose /Encrypt entry names AES (AESV2): reading it needs a cryptography
+    library. Built with RC4 keys (valid for revision 4 too) and then relabelled, so no
+    AES library is needed to make it."""
+    writer = PdfWriter(clone_from=PdfReader(package_pdf))
+    writer.encrypt(user_password="", owner_password="owner", algorithm="RC4-128")
+    entry = writer._encrypt_entry
+    assert entry is not None
+    entry[NameObject("/V")] = NumberObject(4)
+    entry[NameObject("/R")] = NumberObject(4)
+    entry[NameObject("/CF")] = DictionaryObject({NameObject("/StdCF"): DictionaryObject({
+        NameObject("/CFM"): NameObject("/AESV2"), NameObject("/Length"): NumberObject(16),
+        NameObject("/AuthEvent"): NameObject("/DocOpen")})})
+    entry[NameObject("/StmF")] = NameObject("/StdCF")
+    entry[NameObject("/StrF")] = NameObject("/StdCF")
+    writer._encryption = None  # objects in clear; the /Encrypt entry still says AES
+    writer.write(out)
+    return out
+
+
+def decompression_bomb(out: Path, expands_to: int = 200 * 1024 * 1024) -> Path:
+    """A PDF whose cross-reference stream expands to ``expands_to`` bytes of zeros."""
+    bomb = zlib.compress(b"\0" * expands_to, 9)
+    head = b"%PDF-1.5\n"
+    body = (b"1 0 obj\n<< /Type /XRef /Size 2 /W [1 2 1] /Root 1 0 R /Filter /FlateDecode "
+            b"/Length %d >>\nstream\n" % len(bomb) + bomb + b"\nendstream\nendobj\n")
+    out.write_bytes(head + body + b"startxref\n%d\n%%%%EOF\n" % len(head))
+    return out
+
+
+def broken_startxref(package_pdf: Path, out: Path) -> Path:
+    """The package PDF with its startxref pointer wrong: pypdf warns and repairs."""
+    data = bytearray(package_pdf.read_bytes())
+    at = data.rfind(b"startxref")
+    end = data.find(b"%%EOF", at)
+    data[at:end] = b"startxref\n12345\n"
+    out.write_bytes(bytes(data))
+    return out
