@@ -16,8 +16,9 @@ from test_audit import filled, ir40, ir_package, noon, store_job
 from workpack.evaluate import Evaluation, evaluate
 from workpack.model.package import WorkPackage
 from workpack.model.results import MeasuredValue, Results
+from workpack.numbers import format_quantity
 from workpack.render.closeout import render_closeout
-from workpack.render.pdf import MIN_TEXT_PT, format_quantity
+from workpack.render.pdf import MIN_TEXT_PT
 from workpack.store import Record, open_store
 
 PACKAGE = ir_package(3, dt.date(2026, 12, 2))

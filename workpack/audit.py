@@ -48,8 +48,9 @@ from workpack.electrical import TrendJudgement
 from workpack.electrical.standards import CodeSet
 from workpack.evaluate import Deviation, Evaluation, ReadingVerdict
 from workpack.history import History, history_from_records
-from workpack.model.package import Reading, WorkPackage, in_unit
+from workpack.model.package import Reading, WorkPackage
 from workpack.model.results import LockRecord, Results
+from workpack.numbers import format_quantity
 from workpack.store import package_sha256
 
 if TYPE_CHECKING:  # types only: the audit reads what the shell has read
@@ -647,7 +648,7 @@ def _trend(element: str, taken: Sequence[_Taken], left_out: tuple[str, ...],
             len(judgement.corrected_ohm) != len(line)
             or not all(math.isclose(j, p.compared_si, rel_tol=1e-9)
                        for j, p in zip(judgement.corrected_ohm, line, strict=False))):
-        shown = ", ".join(in_unit(v, last.unit) for v in judgement.corrected_ohm)
+        shown = ", ".join(format_quantity(v, last.unit) for v in judgement.corrected_ohm)
         notes.append(f"judged on {shown} ({series.code_set if series else ''}, the lowest "
                      "reading of each day, corrected with those tables), not on the values "
                      "plotted, which are as the evaluation compared them")

@@ -67,6 +67,7 @@ from workpack.model.plant import (
     TransformerInsulation,
     Vitality,
 )
+from workpack.numbers import format_number, format_ohms, format_volts
 from workpack.summary import island_capacitance
 from workpack.topology import Island, Topology, element_of
 
@@ -198,7 +199,7 @@ def island_burden(island: Island, observed: Detector | None,
             continue
         resistances.append(ohm)
         parts.append(f"{detector.id} {detector.kind.value.replace('_', ' ')} "
-                     f"{_ohms(ohm)} per phase")
+                     f"{format_ohms(ohm)} per phase")
     total = 1.0 / parallel_conductance(tuple(resistances)) if resistances else None
     return Burden(total, tuple(parts), tuple(unknown))
 
@@ -222,7 +223,7 @@ def _burden_notes(burden: Burden, capacitance: float | None) -> list[str]:
                      "and the fault locus depends on the ratio of the two")
     elif burden.parts:
         notes.append(f"detector burden in the model: {'; '.join(burden.parts)} "
-                     f"(together {_ohms(burden.ohm_per_phase or 0.0)} per phase to earth)")
+                     f"(together {format_ohms(burden.ohm_per_phase or 0.0)} per phase to earth)")
     if burden.unknown:
         notes.append(f"the plant file gives no burden for {', '.join(burden.unknown)}: taken "
                      "as none; lamps, meters and monitors tied to earth shift which phase "
@@ -263,7 +264,7 @@ def _on_grounded_system(island: Island, base: dict[str, Any], what: str) -> Diag
     return Diagnosis(
         **base, severity=Severity.high,
         summary=(f"{what} on the solidly grounded {island.id} system "
-                 f"({_volts(island.voltage)}): a ground there trips instead of shifting the "
+                 f"({format_volts(island.voltage)}): a ground there trips instead of shifting the "
                  "readings, so these readings mean the neutral-to-earth bond may be lost "
                  "(the system running unearthed) or the meter is faulty"),
         next_steps=("check the neutral-to-earth bond at the transformer or source, and the "
@@ -318,15 +319,15 @@ def _phase_voltages(plant: Plant, topology: Topology, island: Island, finding: P
 
 
 def _ground_summary(result: GroundDiagnosis, island: Island) -> str:
-    where = f"{island.id} system ({_volts(island.voltage)})"
+    where = f"{island.id} system ({format_volts(island.voltage)})"
     if result.status.value == "no ground detected":
         return f"no ground detected on the {where}"
     if result.grounded_phase is not None:
         text = f"phase {result.grounded_phase} grounded on the {where}"
         if result.fault_resistance_ohm is not None and result.fault_resistance_interval_ohm:
             low, high = result.fault_resistance_interval_ohm
-            text += (f", fault resistance about {_ohms(result.fault_resistance_ohm)} "
-                     f"({_ohms(low)} to {_ohms(high)})")
+            text += (f", fault resistance about {format_ohms(result.fault_resistance_ohm)} "
+                     f"({format_ohms(low)} to {format_ohms(high)})")
         if result.fault_current_a is not None:
             text += f", ground current about {result.fault_current_a:.2g} A"
         if result.lowest_reading_phase != result.grounded_phase:
@@ -385,7 +386,7 @@ def _monitor(island: Island, finding: MonitorReading, standards: Standards,
     detector = _detector(island, finding.where)
     if detector is None or detector.alarm is None:
         return Diagnosis(**base, severity=Severity.high,
-                         summary=f"insulation monitor reading {_ohms(finding.reading)}, but "
+                         summary=f"insulation monitor reading {format_ohms(finding.reading)}, but "
                                  "the plant lists no monitor with an alarm setting here",
                          next_steps=("add the monitor and its setting to the plant file",))
     guides = standards["it-system-guides"]
@@ -400,8 +401,8 @@ def _monitor(island: Island, finding: MonitorReading, standards: Standards,
               if result.severity.value == "alarm" else None)
     return Diagnosis(
         **base, severity=severity,
-        summary=(f"insulation monitor {detector.id}: {_ohms(finding.reading)} "
-                 f"({result.severity.value}; alarm at {_ohms(detector.alarm)})"),
+        summary=(f"insulation monitor {detector.id}: {format_ohms(finding.reading)} "
+                 f"({result.severity.value}; alarm at {format_ohms(detector.alarm)})"),
         notes=(result.note,),
         next_steps=(("find the circuit: the monitor shows the whole system's insulation, not "
                      "the phase or the feeder",) if ground else ()),
@@ -558,17 +559,17 @@ def _megger(plant: Plant, topology: Topology, finding: Megger, standards: Standa
                                      transformer=kind)
     except ValueError as error:  # a temperature outside the correction's range
         return Diagnosis(**base, severity=Severity.high,
-                         summary=f"{element.label}: {_ohms(finding.reading)} at "
+                         summary=f"{element.label}: {format_ohms(finding.reading)} at "
                                  f"{finding.temperature:g} °C cannot be judged: {error}",
                          next_steps=("repeat the test nearer the reference temperature",))
     notes = [test.assumption] if test.assumption else []
     if len(tests) > 1:
         notes.append(f"judged by the {test.part}, the stricter of the windings")
-    compared = _ohms(judgement.value_ohm)
+    compared = format_ohms(judgement.value_ohm)
     if judgement.corrected is not None:
         compared += f" at {judgement.corrected.reference_c:g} °C"
-        notes.append(f"{_ohms(finding.reading)} at {finding.temperature:g} °C corrected by "
-                     f"×{judgement.corrected.factor:.3g} ({judgement.corrected.citation}"
+        notes.append(f"{format_ohms(finding.reading)} at {finding.temperature:g} °C corrected by "
+                     f"×{format_number(judgement.corrected.factor)} ({judgement.corrected.citation}"
                      + (f", {test.code_set.temperature_correction.column_label}"
                         if test.code_set.temperature_correction is not None
                         and test.code_set.temperature_correction.column_label else "")
@@ -584,7 +585,7 @@ def _megger(plant: Plant, topology: Topology, finding: Megger, standards: Standa
     passes = judgement.passes and not pi_fails
     verdict = "passes" if passes else "BELOW the minimum"
     summary = (f"{element.label}: insulation {compared} {verdict} "
-               f"{_ohms(judgement.minimum.minimum_ohm)} ({judgement.minimum.citation})")
+               f"{format_ohms(judgement.minimum.minimum_ohm)} ({judgement.minimum.citation})")
     return Diagnosis(
         **base, severity=Severity.low if passes else Severity.high, summary=summary,
         notes=tuple(notes),
@@ -663,17 +664,6 @@ def _system_voltage(island: Island) -> float:
     return island.voltage
 
 
-def _ohms(value: float) -> str:
-    for scale, unit in ((1e9, "GΩ"), (1e6, "MΩ"), (1e3, "kΩ")):
-        if abs(value) >= scale:
-            return f"{value / scale:.3g} {unit}"
-    return f"{value:.3g} Ω"
-
-
-def _volts(value: float | None) -> str:
-    return "unknown voltage" if value is None else f"{value:g} V"
-
-
 # --- the day ------------------------------------------------------------------------------------
 
 
@@ -701,8 +691,8 @@ def conclude(topology: Topology, diagnoses: Iterable[Diagnosis]) -> list[Conclus
             conclusions.append(Conclusion(
                 Severity.urgent, island_id,
                 f"grounds on phases {' and '.join(phases)} of the {island_id} system "
-                f"({_volts(island.voltage)}): a phase-to-phase fault through earth is waiting "
-                "to happen; find and clear one before anything else",
+                f"({format_volts(island.voltage)}): a phase-to-phase fault through earth is "
+                "waiting to happen; find and clear one before anything else",
                 ids))
         feeding = _feeding_transformers(topology, island)
         if feeding:
@@ -742,7 +732,7 @@ def _joining_ties(topology: Topology, island_id: str,
                     found.append(Conclusion(
                         Severity.urgent, island_id,
                         f"do not close {device}: it would join the grounded {island_id} and "
-                        f"{other} systems ({_volts(island.voltage)})",
+                        f"{other} systems ({format_volts(island.voltage)})",
                         tuple(g.finding for g in grounds[island_id] + grounds[other])))
     return found
 

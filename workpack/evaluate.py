@@ -20,15 +20,14 @@ from workpack.electrical import correct_to_reference
 from workpack.electrical.standards import CodeSet
 from workpack.errors import did_you_mean
 from workpack.model.package import (
-    UNIT_SCALE,
     IsolationPoint,
     ProvingDead,
     Reading,
     Step,
     WorkPackage,
-    in_unit,
 )
 from workpack.model.results import FinalTestResults, Results
+from workpack.numbers import format_quantity, unit_scale
 from workpack.units import UnitProblem, plausible, to_si
 
 # Common practice: a proving-dead reading is the tester's "no voltage"; anything above
@@ -183,7 +182,7 @@ def measured_value(reading: Reading, value: float | str) -> float:
 
 def _measured_si(reading: Reading, value: float | str) -> float:
     if isinstance(value, int | float) and not isinstance(value, bool):
-        return float(value) * UNIT_SCALE.get(reading.unit, 1.0)
+        return float(value) * unit_scale(reading.unit)
     if reading.unit == "":
         try:
             return float(value)
@@ -192,7 +191,7 @@ def _measured_si(reading: Reading, value: float | str) -> float:
                 from None
     text = str(value).strip()
     try:
-        return float(text) * UNIT_SCALE.get(reading.unit, 1.0)
+        return float(text) * unit_scale(reading.unit)
     except ValueError:
         pass
     kind = UNIT_KIND.get(reading.unit)
@@ -371,17 +370,17 @@ def _judge(reading: Reading, results: Results,
                                   compared_si=None, outcome="not recorded",
                                   note=f"cannot be judged: {error}")
         compared = corrected.corrected_ohm
-        note = (f"{in_unit(value, reading.unit)} at {temperature:g} °C is "
-                f"{in_unit(compared, reading.unit)} at {corrected.reference_c:g} °C "
+        note = (f"{format_quantity(value, reading.unit)} at {temperature:g} °C is "
+                f"{format_quantity(compared, reading.unit)} at {corrected.reference_c:g} °C "
                 f"({corrected.citation})")
     if limit is None:
         return ReadingVerdict(**base, measured_si=value, temperature_c=temperature,
                               compared_si=compared, outcome="recorded", note=note)
     broken = []
     if low is not None and compared < low:
-        broken.append(f"below the minimum {in_unit(low, reading.unit)}")
+        broken.append(f"below the minimum {format_quantity(low, reading.unit)}")
     if high is not None and compared > high:
-        broken.append(f"above the maximum {in_unit(high, reading.unit)}")
+        broken.append(f"above the maximum {format_quantity(high, reading.unit)}")
     if broken:
         note = (note + "; " if note else "") + " and ".join(broken) + f" ({limit.basis})"
     if not reading.acceptance:

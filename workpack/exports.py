@@ -47,11 +47,11 @@ class TableKind:
 
 def _number(value_si: float | None, unit: str) -> float | None:
     """An SI value in the unit its reading is shown in, without float noise."""
-    from workpack.model.package import UNIT_SCALE
+    from workpack.numbers import unit_scale
 
     if value_si is None:
         return None
-    return float(f"{value_si / UNIT_SCALE.get(unit, 1.0):.12g}")
+    return float(f"{value_si / unit_scale(unit):.12g}")
 
 
 def _superseded_by(records: Sequence[Record]) -> dict[int, int]:

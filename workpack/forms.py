@@ -19,8 +19,8 @@ from workpack.model.package import (
     Reading,
     Step,
     WorkPackage,
-    in_unit,
 )
+from workpack.numbers import format_quantity
 
 
 def _quoted(text: str) -> str:
@@ -30,9 +30,9 @@ def _quoted(text: str) -> str:
 def _expectation(reading: Reading) -> str:
     parts = []
     if reading.expected is not None:
-        parts.append(f"expect {in_unit(reading.expected, reading.unit)}")
+        parts.append(f"expect {format_quantity(reading.expected, reading.unit)}")
         if reading.tolerance:
-            parts[-1] += f" ± {in_unit(reading.tolerance, reading.unit)}"
+            parts[-1] += f" ± {format_quantity(reading.tolerance, reading.unit)}"
     if reading.limit is not None:
         parts.append(reading.limit.describe(reading.unit))
     return "; ".join(parts) or "record as found"

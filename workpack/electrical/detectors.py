@@ -37,6 +37,7 @@ from workpack.electrical.ground_inverse import (
     theta_to_ratio,
 )
 from workpack.electrical.threephase import PhaseSequence
+from workpack.numbers import format_number, format_quantity
 
 LAMP_STATES = ("dark", "dim", "normal", "bright")
 _SYNONYMS = {"off": "dark", "out": "dark", "unlit": "dark", "low": "dim", "high": "bright"}
@@ -158,7 +159,7 @@ def _resistance_text(ratio: float, per_ratio: float | None) -> str:
     """A 3ωC0·Rf value in ohms when C0 is known, else as the ratio."""
     if per_ratio is not None:
         return f"about {_ohm_text(ratio * per_ratio)}"
-    return f"3ωC0·Rf {ratio:.3g}"
+    return f"3ωC0·Rf {format_number(ratio)}"
 
 
 def _range_text(low: float, high: float) -> str:
@@ -404,24 +405,24 @@ def assess_insulation_monitor(
     if reading_ohm <= alarm_setting_ohm:
         severity = MonitorSeverity.ALARM
         note = (
-            f"insulation {reading_ohm / 1e3:.3g} kΩ is at or below the alarm setting "
-            f"{alarm_setting_ohm / 1e3:.3g} kΩ: a ground is present; the monitor does not "
-            "tell the phase or the circuit"
+            f"insulation {format_quantity(reading_ohm, 'kΩ')} is at or below the alarm "
+            f"setting {format_quantity(alarm_setting_ohm, 'kΩ')}: a ground is present; the "
+            "monitor does not tell the phase or the circuit"
         )
     elif reading_ohm <= prewarning:
         severity = MonitorSeverity.PREWARNING
         note = (
-            f"insulation {reading_ohm / 1e3:.3g} kΩ is within {prewarning_factor:g}× of the "
-            "alarm setting: insulation deteriorating"
+            f"insulation {format_quantity(reading_ohm, 'kΩ')} is within "
+            f"{prewarning_factor:g}× of the alarm setting: insulation deteriorating"
         )
     else:
         severity = MonitorSeverity.NORMAL
-        note = f"insulation {reading_ohm / 1e3:.3g} kΩ is above the prewarning level"
+        note = f"insulation {format_quantity(reading_ohm, 'kΩ')} is above the prewarning level"
     below = alarm_setting_ohm < guide
     if below:
         note += (
             f"; the alarm setting is below the response guide of "
-            f"{response_ohm_per_v:g} Ω/V × {system_voltage_v:g} V = {guide / 1e3:.3g} kΩ"
+            f"{response_ohm_per_v:g} Ω/V × {system_voltage_v:g} V = {format_quantity(guide, 'kΩ')}"
         )
     return MonitorAssessment(
         reading_ohm=reading_ohm,

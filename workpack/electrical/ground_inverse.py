@@ -50,6 +50,7 @@ import numpy as np
 import numpy.typing as npt
 
 from workpack.electrical.threephase import PhaseSequence, line_to_neutral
+from workpack.numbers import format_number, format_ohms
 
 FloatArray = npt.NDArray[np.float64]
 IntArray = npt.NDArray[np.int64]
@@ -618,15 +619,6 @@ def earth_point_fraction(ratio: float, phi: float = _HALF_PI) -> float:
     return math.sin(phi - theta) / math.sin(phi)
 
 
-def _fmt_ohm(value: float) -> str:
-    """Ohms for a person: Ω, kΩ or MΩ to three figures."""
-    if not math.isfinite(value):
-        return "∞"
-    if value >= 1e6:
-        return f"{value / 1e6:.3g} MΩ"
-    if value >= 1e3:
-        return f"{value / 1e3:.3g} kΩ"
-    return f"{value:.3g} Ω"
 
 
 def diagnose_ground(
@@ -706,7 +698,7 @@ def diagnose_ground(
         )
         if interval is not None and omega_c is not None:
             notes.append(
-                f"Any single ground present is above about {_fmt_ohm(interval[0] / omega_c)}: "
+                f"Any single ground present is above about {format_ohms(interval[0] / omega_c)}: "
                 "below the resolution of these meters; an insulation monitor sees further."
             )
     else:
@@ -721,12 +713,13 @@ def diagnose_ground(
             grounded = best_phase
             text = f"Single ground on {grounded}"
             if omega_c is not None:
-                text += f" through about {_fmt_ohm(ratio / omega_c)}"
+                text += f" through about {format_ohms(ratio / omega_c)}"
             notes.append(text + f"; neutral shifted {abs(g):.0f} V.")
             if lowest != grounded:
                 crossover = lag_crossover_ratio(phi)
-                where = (f"above about {_fmt_ohm(crossover / omega_c)}"
-                         if omega_c is not None else f"with 3ωC0·Rf above {crossover:.3g}")
+                where = (f"above about {format_ohms(crossover / omega_c)}"
+                         if omega_c is not None
+                         else f"with 3ωC0·Rf above {format_number(crossover)}")
                 notes.append(
                     f"The lowest reading ({lowest}) is NOT the grounded phase: {where} "
                     "the phase lagging the grounded one reads lowest."
@@ -796,7 +789,7 @@ def diagnose_ground(
 
     if burden_ohm is not None:
         notes.append(
-            f"Detector burden {_fmt_ohm(burden_ohm)} per phase to earth taken into the model "
+            f"Detector burden {format_ohms(burden_ohm)} per phase to earth taken into the model "
             f"with C0: the fault locus is an arc at {math.degrees(phi):.0f}° instead of 90°."
         )
     resistance = None if ratio is None else to_ohm(ratio)

@@ -29,6 +29,7 @@ from workpack.electrical.standards import (
     WindingMinimum,
 )
 from workpack.errors import did_you_mean
+from workpack.numbers import format_quantity
 
 # Which code set a kind of equipment is normally tested to; a plant may choose another.
 DEFAULT_CODE_SET_BY_KIND: dict[str, str] = {
@@ -580,8 +581,8 @@ def insulation_trend(
     if latest < minimum_ohm:
         return verdict(
             TrendStatus.BELOW_MINIMUM,
-            f"latest corrected value {latest / 1e6:.3g} MΩ is below the minimum "
-            f"{minimum_ohm / 1e6:.3g} MΩ",
+            f"latest corrected value {format_quantity(latest, 'MΩ')} is below the minimum "
+            f"{format_quantity(minimum_ohm, 'MΩ')}",
         )
     if len(values) < 2:
         return verdict(TrendStatus.INSUFFICIENT, "one reading: no trend yet")

@@ -15,6 +15,8 @@ from typing import Literal
 
 from pydantic import BaseModel, ConfigDict, Field
 
+from workpack.numbers import format_quantity
+
 
 class Plain(BaseModel):
     model_config = ConfigDict(extra="forbid", frozen=True)
@@ -37,15 +39,6 @@ class Caution(Plain):
     id: str | None = None  # the caution library entry it came from, if any
 
 
-# Units a reading is shown in, and their size in SI.
-UNIT_SCALE = {"kΩ": 1e3, "MΩ": 1e6, "kVA": 1e3}
-
-
-def in_unit(value_si: float, unit: str) -> str:
-    """An SI value in the unit a reading is shown in, three significant figures."""
-    return f"{value_si / UNIT_SCALE.get(unit, 1.0):.3g} {unit}".strip()
-
-
 class Limit(Plain):
     """What a reading must be. Bounds in SI units; either may be open."""
 
@@ -58,11 +51,12 @@ class Limit(Plain):
     def describe(self, unit: str) -> str:
         """'at least 5 MΩ after correction to 40 °C', in the reading's unit."""
         if self.low is not None and self.high is not None:
-            text = f"between {in_unit(self.low, unit)} and {in_unit(self.high, unit)}"
+            text = (f"between {format_quantity(self.low, unit)} and "
+                    f"{format_quantity(self.high, unit)}")
         elif self.low is not None:
-            text = f"at least {in_unit(self.low, unit)}"
+            text = f"at least {format_quantity(self.low, unit)}"
         elif self.high is not None:
-            text = f"at most {in_unit(self.high, unit)}"
+            text = f"at most {format_quantity(self.high, unit)}"
         else:
             text = "any value"
         if self.temperature_corrected_to_c is not None:

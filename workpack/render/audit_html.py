@@ -32,8 +32,8 @@ from workpack.audit import (
     is_bare_number,
 )
 from workpack.model.package import Limit
+from workpack.numbers import format_number, format_quantity
 from workpack.render.closeout import utc_text
-from workpack.render.pdf import format_number, format_quantity
 
 __all__ = [
     "ChartText",

@@ -52,7 +52,6 @@ import copy
 import datetime as dt
 import functools
 import io
-import math
 from collections.abc import Callable, Iterable, Sequence
 from importlib import resources
 from typing import Any, ClassVar, Literal
@@ -89,6 +88,7 @@ from workpack.model.package import (
     Step,
     WorkPackage,
 )
+from workpack.numbers import format_number, format_quantity, format_volts
 from workpack.render.figures import (
     fit_sketch,
     phasor_drawing,
@@ -167,33 +167,6 @@ def split_field_name(name: str) -> tuple[str, ...]:
 
 
 # --- numbers ----------------------------------------------------------------------------
-
-_SCALE = {"kΩ": 1e3, "MΩ": 1e6, "kVA": 1e3}  # SI value / scale = value in the unit
-
-
-def format_number(value: float) -> str:
-    """Three significant figures without an exponent: 254.03 → "254", 25.403 → "25.4",
-    0.0012345 → "0.00123"; whole numbers of four or more digits stay as given (6600)."""
-    if value == 0 or not math.isfinite(value):
-        return "0" if value == 0 else str(value)
-    if abs(value) >= 1000 and float(value).is_integer():
-        return str(int(value))
-    decimals = 2 - math.floor(math.log10(abs(value)))
-    rounded = round(value, decimals)
-    if decimals <= 0:
-        return str(int(rounded))
-    return f"{rounded:.{decimals}f}".rstrip("0").rstrip(".")
-
-
-def format_quantity(value_si: float, unit: str) -> str:
-    """An SI value shown in ``unit``: (5e6, "MΩ") → "5 MΩ", (254.03, "V") → "254 V"."""
-    number = format_number(value_si / _SCALE.get(unit, 1.0))
-    return f"{number} {unit}" if unit else number
-
-
-def volts(value: float | None) -> str:
-    return "voltage not known" if value is None else format_quantity(value, "V")
-
 
 def limit_text(limit: Limit, unit: str) -> str:
     if limit.low is not None and limit.high is not None:
@@ -798,7 +771,7 @@ class PackagePdf(PdfDocument):
             a = p.approach
             cell, bold = self.style["cell"], self.style["cell_bold"]
             rows = [
-                [Paragraph(f"Approach boundaries (table entered at {volts(a.entered_at_v)})",
+                [Paragraph(f"Approach boundaries (table entered at {format_volts(a.entered_at_v)})",
                            bold), ""],
                 [Paragraph("Limited approach, exposed movable conductor", cell),
                  Paragraph(words(a.limited_movable), bold)],
@@ -821,9 +794,9 @@ class PackagePdf(PdfDocument):
         ph = self.package.phasor
         if ph is None:
             return []
-        readings = ", ".join(f"{label} {volts(ph.readings_v[label])}"
+        readings = ", ".join(f"{label} {format_volts(ph.readings_v[label])}"
                              for label in ph.sequence if label in ph.readings_v)
-        notes = [f"Source {volts(ph.line_voltage_v)} line to line, sequence "
+        notes = [f"Source {format_volts(ph.line_voltage_v)} line to line, sequence "
                  f"{'-'.join(ph.sequence)}.", f"Measured to earth: {readings}."]
         if ph.grounded_phase:
             notes.append(f"Grounded phase: {ph.grounded_phase}.")
@@ -850,7 +823,7 @@ class PackagePdf(PdfDocument):
         phasor: list[Flowable] = []
         if p.phasor is not None:
             phasor = [Paragraph("Phasor diagram", self.style["sub"]),
-                      phasor_drawing(p.phasor, phasor_width, FONT, FONT_BOLD, volts)]
+                      phasor_drawing(p.phasor, phasor_width, FONT, FONT_BOLD, format_volts)]
         sketch: list[Flowable] = []
         if p.sketch is not None:
             widths = (half, half) if side_by_side else (half, self.width)
@@ -923,7 +896,7 @@ class PackagePdf(PdfDocument):
         rows = [
             [Paragraph(str(point.order), self.style["step_no"]),
              Paragraph(device, cell), Paragraph(cuts, cell),
-             Paragraph(volts(point.voltage_v), bold),
+             Paragraph(format_volts(point.voltage_v), bold),
              FieldBox(field_name(*scope, "lock", point.device, "number"),
                       f"{point.device}: lock number", height=h),
              FieldBox(field_name(*scope, "tag", point.device, "number"),
@@ -988,7 +961,7 @@ class PackagePdf(PdfDocument):
     def proving_dead_table(self, index: int, point: ProvingDead,
                            scope: tuple[str, ...] = ()) -> list[Flowable]:
         head = Paragraph(f"<b>Point {index}: {words(point.where)}</b>, voltage class "
-                         f"{volts(point.voltage_v)}. Expect 0 V on every pair.",
+                         f"{format_volts(point.voltage_v)}. Expect 0 V on every pair.",
                          self.style["body"])
         out: list[Flowable] = [head, Spacer(1, 1.5 * mm)]
         per_row = 6

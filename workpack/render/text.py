@@ -5,14 +5,10 @@ from __future__ import annotations
 from workpack.diagnose import DayDiagnosis, ReadingSummary
 from workpack.evaluate import Evaluation
 from workpack.isolation import IsolationPlan
-from workpack.model.package import in_unit
+from workpack.numbers import format_ohms, format_quantity, format_volts
 from workpack.plan import DayPlan
 from workpack.search import FaultSearch
 from workpack.summary import PlantSummary
-
-
-def volts(value: float | None) -> str:
-    return "unknown voltage" if value is None else f"{value:g} V"
 
 
 def isolation_plan(plan: IsolationPlan, item_label: str) -> str:
@@ -33,7 +29,7 @@ def isolation_plan(plan: IsolationPlan, item_label: str) -> str:
             lines.append(f"     set and lock: {point.how}")
             lines.append(f"     {point.reason}")
         else:
-            lines.append(f"     cuts: {point.reason}; {volts(point.voltage)} side")
+            lines.append(f"     cuts: {point.reason}; {format_volts(point.voltage)} side")
     if plan.also_open:
         lines.append("Also open and tag (not lockable): " + ", ".join(plan.also_open))
     if plan.stored_energy:
@@ -45,7 +41,7 @@ def isolation_plan(plan: IsolationPlan, item_label: str) -> str:
                  "and after):")
     for check in plan.verify:
         lines.append(f"  - {check.where}: {check.conductors} "
-                     f"(system voltage {volts(check.voltage)}); expect 0 V")
+                     f"(system voltage {format_volts(check.voltage)}); expect 0 V")
     lines.append("")
     lines.append("Local codes, the employer's safety rules and licensed practice prevail "
                  "over this plan.")
@@ -61,24 +57,20 @@ def plant_summary(summary: PlantSummary) -> str:
         detectors = ", ".join(island.detectors) or (
             "none needed (solidly grounded: a ground trips)" if island.earthing == "solid"
             else "NONE")
-        lines.append(f"{island.id}: {volts(island.voltage)} {island.earthing or 'unknown earthing'}"
+        earthing = island.earthing or "unknown earthing"
+        lines.append(f"{island.id}: {format_volts(island.voltage)} {earthing}"
                      f", {island.item_count} items, detector: {detectors}")
         if island.capacitance_per_phase is not None:
-            lines.append(f"    capacitance to earth ≈ {island.capacitance_per_phase * 1e6:.3g} µF "
+            capacitance = format_quantity(island.capacitance_per_phase, "µF")
+            current = format_quantity(island.charging_current or 0.0, "A")
+            lines.append(f"    capacitance to earth ≈ {capacitance} "
                          f"per phase (from {island.capacitance_basis}); charging current "
-                         f"in a solid ground ≈ {island.charging_current:.3g} A")
+                         f"in a solid ground ≈ {current}")
         if island.joinable_by:
             lines.append(f"    joined to others when closed: {', '.join(island.joinable_by)}")
     for warning in summary.warnings:
         lines.append(f"WARNING: {warning}")
     return "\n".join(lines) + "\n"
-
-
-def _ohms(value: float) -> str:
-    for scale, unit in ((1e9, "GΩ"), (1e6, "MΩ"), (1e3, "kΩ")):
-        if abs(value) >= scale:
-            return f"{value / scale:.3g} {unit}"
-    return f"{value:.3g} Ω"
 
 
 def quick_diagnosis(summary: ReadingSummary) -> str:
@@ -92,11 +84,11 @@ def quick_diagnosis(summary: ReadingSummary) -> str:
         lines.append("Phases that fit: " + ", ".join(result.candidate_phases))
     if summary.fault_resistance_ohm is not None:
         interval = summary.fault_resistance_interval_ohm
-        span = f" ({_ohms(interval[0])} to {_ohms(interval[1])})" if interval else ""
-        lines.append(f"Fault resistance: {_ohms(summary.fault_resistance_ohm)}{span}")
+        span = f" ({format_ohms(interval[0])} to {format_ohms(interval[1])})" if interval else ""
+        lines.append(f"Fault resistance: {format_ohms(summary.fault_resistance_ohm)}{span}")
     lines.append(f"Neutral shift: {summary.neutral_shift_v:.0f} V")
     if summary.fault_current_a is not None:
-        lines.append(f"Ground current: {summary.fault_current_a:.3g} A")
+        lines.append(f"Ground current: {format_quantity(summary.fault_current_a, 'A')}")
     lines.append(f"Consistent with a single ground: {'yes' if result.consistent else 'NO'}")
     lines.extend(f"{word}: {text}" for word, text in summary.cautions)
     lines.extend(f"  - {note}" for note in result.notes)
@@ -122,7 +114,7 @@ def day_diagnosis(day: DayDiagnosis) -> str:
         lines.append(f"    {diagnosis.summary}")
         if diagnosis.capacitance_per_phase_f is not None:
             lines.append(f"    capacitance to earth used: "
-                         f"{diagnosis.capacitance_per_phase_f * 1e6:.3g} µF per phase "
+                         f"{format_quantity(diagnosis.capacitance_per_phase_f, 'µF')} per phase "
                          f"({diagnosis.capacitance_basis})")
         lines.extend(f"    - {note}" for note in diagnosis.notes)
         lines.extend(f"    {word}: {text}" for word, text in diagnosis.cautions)
@@ -174,7 +166,7 @@ def fault_search(search: FaultSearch) -> str:
             at = f" at {section.reference_c:g} °C" if section.reference_c is not None else ""
             what = section.label if section.circuit else section.element
             lines.append(f"  {final.feeder} → {what}: {volts} DC, minimum "
-                         f"{_ohms(section.minimum_ohm)}{at} ({section.basis})")
+                         f"{format_ohms(section.minimum_ohm)}{at} ({section.basis})")
     lines.append("\nWeights (rules/search-weights.yaml):")
     lines.extend(f"  {line}" for line in search.weights_used)
     lines.append("\nLocal codes, the employer's safety rules and licensed practice prevail.")
@@ -204,7 +196,7 @@ def evaluation_text(evaluation: Evaluation) -> str:
     lines = [f"{evaluation.package_id} ({evaluation.item}): {evaluation.verdict.upper()}"]
     for reading in evaluation.readings:
         shown = ("not recorded" if reading.measured_si is None
-                 else in_unit(reading.measured_si, reading.unit))
+                 else format_quantity(reading.measured_si, reading.unit))
         mark = {"pass": "ok  ", "fail": "FAIL", "not recorded": "--  ",
                 "recorded": "rec "}[reading.outcome]
         lines.append(f"  {mark} {reading.id} {reading.what}: {shown}"
