@@ -79,9 +79,9 @@ def test_the_schemas_are_package_data() -> None:
 
 @pytest.mark.parametrize(("argv", "message"), [
     (["schema"], "schema: name one file (plant, findings, results, rules, cautions, "
-                 "search-weights, asset-map) or give --all\n"),
+                 "search-weights, asset-map, crew) or give --all\n"),
     (["schema", "plant", "--all", "--out", "x"], "schema: name one file (plant, findings, "
-     "results, rules, cautions, search-weights, asset-map) or give --all\n"),
+     "results, rules, cautions, search-weights, asset-map, crew) or give --all\n"),
     (["schema", "--all"], "schema --all writes one file per schema: give --out DIR\n"),
 ])
 def test_schema_usage_mistakes_are_one_line(argv: list[str], message: str, capsys) -> None:
@@ -152,7 +152,8 @@ def test_the_walk_finds_the_properties_it_should() -> None:
                      ("rules", "/$defs/StepRule.reconnect"),
                      ("search-weights", "/$defs/YearsFactor.years"),
                      ("results", "/$defs/LockRecord.applied_by"),
-                     ("asset-map", "/$defs/ColumnSpec.unit")]:
+                     ("asset-map", "/$defs/ColumnSpec.unit"),
+                     ("crew", "/$defs/SigningKey.revoked_at")]:
         assert expected in found
     assert len(found) > 200
 
@@ -309,6 +310,8 @@ def schema_name_of(path: Path) -> str:
             path.name, "rules")
     if path.name.endswith("-findings.yaml"):
         return "findings"
+    if path.name.endswith("-crew.yaml"):
+        return "crew"
     return "asset-map" if path.name == "asset-map.yaml" else "plant"
 
 

@@ -673,6 +673,111 @@ def _store_options(parser: argparse.ArgumentParser) -> None:
                                         "to use")
 
 
+# --- the crew register and signing keys: `workpack crew`, `workpack key` ---------------------
+
+
+def _now() -> Any:
+    import datetime as dt
+
+    return dt.datetime.now().astimezone()  # aware, in the machine's zone: its local day
+
+
+def _cmd_crew_check(args: argparse.Namespace) -> int:
+    from workpack.crew import summarize_register
+    from workpack.crew_shell import load_crew, parse_time
+    from workpack.render.crew_text import crew_summary
+
+    register, _ = load_crew(Path(args.register))
+    at = parse_time("--at", args.at, _now)
+    people = summarize_register(register, at)
+    sys.stdout.write(_to_json({"crew": register.crew.model_dump(mode="json"), "at": at,
+                               "people": people}) if args.json
+                     else crew_summary(register, people, at))
+    return 0
+
+
+def _passphrase() -> bytes:
+    from workpack.crew_shell import read_passphrase
+
+    return read_passphrase(confirm=True)
+
+
+def _cmd_key_create(args: argparse.Namespace) -> int:
+    from workpack.crew_shell import create_key, parse_time
+
+    at = parse_time("--from", args.valid_from, _now)
+    sys.stdout.write(create_key(Path(args.register), args.person, Path(args.out),
+                                key_id=args.key_id, at=at, passphrase=_passphrase))
+    return 0
+
+
+def _cmd_key_rotate(args: argparse.Namespace) -> int:
+    from workpack.crew_shell import parse_time, rotate_key
+
+    at = parse_time("--at", args.at, _now)
+    sys.stdout.write(rotate_key(Path(args.register), args.person, Path(args.out),
+                                key_id=args.key_id, at=at, reason=args.reason,
+                                passphrase=_passphrase))
+    return 0
+
+
+def _cmd_key_revoke(args: argparse.Namespace) -> int:
+    from workpack.crew_shell import parse_time, revoke_key
+
+    at = parse_time("--at", args.at, _now)
+    sys.stdout.write(revoke_key(Path(args.register), args.key, at=at, reason=args.reason))
+    return 0
+
+
+def _add_crew_commands(commands: Any) -> None:
+    """`workpack crew check` and `workpack key create|rotate|revoke`."""
+    crew = commands.add_parser("crew", help="the crew register: who may do, supervise and "
+                                            "sign the work")
+    crew_actions = crew.add_subparsers(dest="crew_action", required=True, metavar="ACTION")
+    check = crew_actions.add_parser("check", help="validate a crew register and summarise it")
+    check.add_argument("register", metavar="CREW.yaml", help="crew register (YAML)")
+    check.add_argument("--at", metavar="TIME", help="summarise as of this time, with its "
+                                                    "zone (default: now)")
+    check.add_argument("--json", action="store_true", help="print JSON")
+    check.set_defaults(run=_cmd_crew_check)
+
+    key = commands.add_parser(
+        "key", help="signing keys: create, rotate, revoke (prints the register lines to add)",
+        description="Signing keys of the crew. The private key goes to a file protected by "
+                    "a passphrase (from WORKPACK_KEY_PASSPHRASE, or asked on the terminal; "
+                    "never an option). The register is edited by hand: these commands print "
+                    "the lines to add and where.")
+    key_actions = key.add_subparsers(dest="key_action", required=True, metavar="ACTION")
+    create = key_actions.add_parser("create", help="a new key pair for a person")
+    rotate = key_actions.add_parser("rotate", help="a new key pair for a person; their keys "
+                                                   "in use are revoked from the same time")
+    for action in (create, rotate):
+        action.add_argument("--register", required=True, metavar="CREW.yaml",
+                            help="crew register (YAML)")
+        action.add_argument("--person", required=True, metavar="ID", help="the person's id")
+        action.add_argument("--out", required=True, metavar="KEYFILE",
+                            help="private key file to write (never over an existing file)")
+        action.add_argument("--key-id", metavar="ID",
+                            help="the new key's id (default: PERSON-K<n>)")
+    create.add_argument("--from", dest="valid_from", metavar="TIME",
+                        help="valid from this time, with its zone (default: now)")
+    create.set_defaults(run=_cmd_key_create)
+    rotate.add_argument("--at", metavar="TIME", help="time of the change, with its zone "
+                                                     "(default: now)")
+    rotate.add_argument("--reason", help="why the old keys are revoked (default: replaced "
+                                         "by the new key)")
+    rotate.set_defaults(run=_cmd_key_rotate)
+    revoke = key_actions.add_parser("revoke", help="revoke a key from a time; signatures "
+                                                   "made before stay valid")
+    revoke.add_argument("--register", required=True, metavar="CREW.yaml",
+                        help="crew register (YAML)")
+    revoke.add_argument("--key", required=True, metavar="KEYID", help="the key's id")
+    revoke.add_argument("--at", metavar="TIME", help="revoked from this time, with its zone "
+                                                     "(default: now)")
+    revoke.add_argument("--reason", required=True, help="why, e.g. 'key file lost'")
+    revoke.set_defaults(run=_cmd_key_revoke)
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="workpack",
@@ -880,6 +985,8 @@ def build_parser() -> argparse.ArgumentParser:
                         help="write NAME.schema.json files into DIR (atomically) instead of "
                              "printing")
     schema.set_defaults(run=_cmd_schema)
+
+    _add_crew_commands(commands)
     return parser
 
 

@@ -28,6 +28,8 @@ INPUT_FILES: dict[str, tuple[str, str]] = {
                        "search weights (rules/search-weights.yaml)"),
     "asset-map": ("workpack.model.assetmap:AssetMap",
                   "asset map (how an asset list becomes a plant inventory)"),
+    "crew": ("workpack.model.crew:CrewRegister",
+             "crew register (plants/*-crew.yaml): people, qualifications, signing keys"),
 }
 
 # Draft 7: the YAML language server editors use validates draft 7 and below (its README:
