@@ -38,6 +38,24 @@ def _aware_time(schema: dict[str, Any]) -> None:
                          r"(\.[0-9]+)?)?([Zz]|[+-][0-9]{2}:?[0-9]{2})$")
 
 
+def zoned_time(value: Any) -> Any:
+    """Before validation: a time without its zone (as YAML reads 2026-01-05T08:00:00) or a
+    bare date is refused in words that show the fix."""
+    if isinstance(value, str):
+        try:
+            value = dt.datetime.fromisoformat(value)
+        except ValueError:
+            return value  # pydantic's own message names what is wrong with the text
+    if isinstance(value, dt.datetime) and (value.tzinfo is None or value.utcoffset() is None):
+        shown = value.isoformat(timespec="seconds")
+        raise ValueError(f"{shown} has no time zone: write {shown}Z (UTC) or with its offset, "
+                         f"e.g. {shown}+01:00")
+    if isinstance(value, dt.date) and not isinstance(value, dt.datetime):
+        raise ValueError(f"{value} is a date: give the time and zone too, e.g. "
+                         f"{value}T00:00:00Z")
+    return value
+
+
 def decode_base64(text: str, size: int, what: str) -> bytes:
     """Standard base64 (RFC 4648 section 4, with padding) of exactly ``size`` bytes."""
     try:
@@ -153,6 +171,8 @@ class SigningKey(Strict):
     revoked_reason: str | None = Field(
         default=None, min_length=1, description="why it was revoked (given with revoked_at)",
         examples=["replaced by LCS-0107-K2"])
+
+    _zoned = field_validator("valid_from", "revoked_at", mode="before")(zoned_time)
 
     @field_validator("public_key")
     @classmethod

@@ -13,7 +13,7 @@ from typing import Literal
 
 from pydantic import AwareDatetime, Field, field_validator
 
-from workpack.model.crew import SIGNATURE_BYTES, decode_base64
+from workpack.model.crew import SIGNATURE_BYTES, decode_base64, zoned_time
 from workpack.model.plant import ID_RULE, Id, Strict
 
 
@@ -34,6 +34,8 @@ class Signature(Strict):
                     "zone", examples=["2026-12-02T16:30:00Z"])
     value: str = Field(description="the 64-byte signature in base64 (RFC 4648 section 4)",
                        examples=["W3Jlc3Qgb2YgYSBzaWduYXR1cmVd" + "A" * 58 + "=="])
+
+    _zoned = field_validator("signed_at", mode="before")(zoned_time)
 
     @field_validator("signed_at")
     @classmethod
