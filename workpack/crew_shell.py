@@ -105,8 +105,9 @@ def parse_time(option: str, text: str | None, now: Callable[[], dt.datetime]) ->
         raise UsageError(f"{option} {text}: expected a date and time with its zone, e.g. "
                          "2026-12-02T16:30Z or 2026-12-02T16:30+01:00") from None
     if when.tzinfo is None:
-        raise UsageError(f"{option} {text}: give the time zone too, e.g. {text}Z (UTC) or "
-                         f"{text}+01:00: key times are compared across time zones")
+        shown = when.isoformat(timespec="minutes")
+        raise UsageError(f"{option} {text}: give the time zone too, e.g. {shown}Z (UTC) or "
+                         f"{shown}+01:00: key times are compared across time zones")
     return when.replace(microsecond=0)
 
 
