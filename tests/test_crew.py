@@ -19,6 +19,7 @@ from workpack.crew import (
     key_valid_at,
     may_supervise,
     qualified,
+    serves,
     signer_problems,
 )
 from workpack.crew_shell import load_crew
@@ -41,6 +42,8 @@ def test_the_demo_registers_load_and_pass_every_check() -> None:
     assert [p.id for p in vessel.people] == ["LCS-0098", "LCS-0107", "LCS-0112", "LCS-0131",
                                              "LCS-0140", "LCS-0064"]
     assert len(site.people) == 4
+    assert serves(vessel, "MV Skerry Lantern") and not serves(vessel, "MV Other")
+    assert serves(register(person("P-1", "A. One")), "any plant at all")
 
 
 def test_crew_check_summarises_who_holds_what_and_which_key_signs(capsys) -> None:

@@ -75,6 +75,11 @@ def may_supervise(person: Person, volts: float, at: dt.datetime | dt.date) -> bo
     return qualified(person, Requirement(kind=Competence.supervisor, volts=volts), at)
 
 
+def serves(register: CrewRegister, plant: str) -> bool:
+    """True when the register is for ``plant`` (by its inventory's name), or for any plant."""
+    return not register.crew.plants or plant in register.crew.plants
+
+
 def signer_problems(register: CrewRegister, technician: str | None, supervisor: str | None,
                     needs: Iterable[Requirement], volts: float,
                     at: dt.datetime | dt.date, supervisor_needed: bool = True) -> list[str]:

@@ -627,7 +627,8 @@ def _pdf_field_values(path: Path) -> dict[str, str | None]:
 def _pdf_reason(error: Exception) -> str:
     from pypdf.errors import DependencyError, FileNotDecryptedError, LimitReachedError
 
-    if isinstance(error, DependencyError | FileNotDecryptedError):
+    if isinstance(error, DependencyError | FileNotDecryptedError) or (
+            isinstance(error, NotImplementedError) and "encryption" in str(error)):
         return ("the PDF is encrypted in a way workpack cannot open; save an unprotected "
                 "copy of the filled package")
     if isinstance(error, LimitReachedError) or "Limit reached" in str(error):

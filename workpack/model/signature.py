@@ -33,7 +33,8 @@ class Signature(Strict):
         description="when it was signed, as the signer's clock said, whole seconds with a "
                     "zone", examples=["2026-12-02T16:30:00Z"])
     value: str = Field(description="the 64-byte signature in base64 (RFC 4648 section 4)",
-                       examples=["W3Jlc3Qgb2YgYSBzaWduYXR1cmVd" + "A" * 58 + "=="])
+                       examples=["J3LwrtFNENqtg2Eab2TTG0kNkanz5Yd/oUX2BmEb6DHNiIuhP6O6ahSVVpy2a4rsf6bO"
+                                 "+MIR7pvoQf2AFMUTBA=="])
 
     _zoned = field_validator("signed_at", mode="before")(zoned_time)
 
