@@ -33,10 +33,14 @@ from workpack.signing import (
     SigningError,
     Verdict,
     canonical_bytes,
+    content_digest,
     public_key_text,
     sign_content,
+    sign_digest,
     sign_message,
+    statement,
     verify_content,
+    verify_digest,
     verify_message,
 )
 
@@ -218,6 +222,37 @@ def test_a_signature_verifies_and_names_its_signer() -> None:
     assert check.verdict is Verdict.valid and check.ok
     assert check.message == "signed by S. Quayle (P-7) as technician at 2026-03-02T16:30:00Z"
     assert check.person is not None and check.person.id == "P-7"
+
+
+def test_the_signed_statement_is_frozen() -> None:
+    """Our own values, not published ones: records signed today must verify in every later
+    version, so the statement's bytes and one signature over them are pinned here. The
+    content digest is checked independently (hashlib over the canonical text written out)."""
+    content = {"verdict": "passed", "plant": "MV Skerry Lantern", "package": "WP-20261202-01"}
+    written_out = b'{"package":"WP-20261202-01","plant":"MV Skerry Lantern","verdict":"passed"}'
+    digest = hashlib.sha256(written_out).hexdigest()
+    assert content_digest(content) == digest
+    assert canonical_bytes(statement(digest, signed_as="technician", person="LCS-0107",
+                                     key="LCS-0107-K1", signed_at=SIGNED_AT)) == (
+        b'{"algorithm":"ed25519","content_sha256":"' + digest.encode() + b'","key":'
+        b'"LCS-0107-K1","person":"LCS-0107","signed_as":"technician","signed_at":'
+        b'"2026-03-02T16:30:00Z","workpack_signature":1}')
+    rfc_test_1 = Ed25519PrivateKey.from_private_bytes(bytes.fromhex(
+        RFC8032_VECTORS["TEST 1"][0]))
+    signature = sign_content(rfc_test_1, content, signed_as="technician", person="LCS-0107",
+                             key="LCS-0107-K1", signed_at=at("2026-12-02T16:30:00Z"))
+    assert signature.value == ("eIyLHlLlQaD56XIE2yu6SMH0Zi6vpuaIBAqhrvVDJssWfO7W/hRXzpPJMvHevZ"
+                               "/Jorx/rdl36xo5F+Eu2NCnAg==")
+
+
+def test_one_digest_serves_every_signature_over_a_content() -> None:
+    digest = content_digest(CONTENT)
+    by_digest = sign_digest(QUAYLE_KEY, digest, signed_as="technician", person="P-7",
+                            key="P-7-K1", signed_at=SIGNED_AT)
+    assert by_digest == quayle_signs(CONTENT)
+    assert verify_digest(CREW, digest, by_digest).ok
+    assert verify_digest(CREW, content_digest({**CONTENT, "verdict": "failed"}), by_digest
+                         ).verdict is Verdict.bad_signature
 
 
 def test_signing_is_deterministic_and_the_record_round_trips_as_json() -> None:

@@ -6,15 +6,18 @@ What is signed
     Not the content alone but a *statement* (``statement``)::
 
         {"workpack_signature": 1, "signed_as": ..., "person": ..., "key": ...,
-         "algorithm": "ed25519", "signed_at": "2026-12-02T16:30:00Z", "content": {...}}
+         "algorithm": "ed25519", "signed_at": "2026-12-02T16:30:00Z",
+         "content_sha256": SHA-256 of the content's canonical JSON, 64 hex digits}
 
-    serialised by the JSON Canonicalization Scheme (RFC 8785, the ``rfc8785`` package):
-    members sorted by their UTF-16 code units, no white space, numbers as ECMAScript prints
-    them. So the same content gives the same bytes however its keys were ordered or its
-    JSON was spaced, and a signature binds the content to its signer, key, purpose and
-    time: copied onto other content, moved to another person, re-labelled from technician
-    to supervisor or backdated, it no longer verifies. Content must be I-JSON (RFC 7493):
-    text keys, integers within ±(2**53 - 1), finite numbers.
+    both the content and the statement serialised by the JSON Canonicalization Scheme
+    (RFC 8785, the ``rfc8785`` package): members sorted by their UTF-16 code units, no
+    white space, numbers as ECMAScript prints them. So the same content gives the same bytes
+    however its keys were ordered or its JSON was spaced, and a signature binds the content
+    to its signer, key, purpose and time: copied onto other content, moved to another
+    person, re-labelled from technician to supervisor or backdated, it no longer verifies.
+    Content must be I-JSON (RFC 7493): text keys, integers within ±(2**53 - 1), finite
+    numbers. The content enters by its digest so that the several signatures over one
+    record canonicalise it once (``content_digest``; the ``*_digest`` functions take it).
 
 Ed25519 (RFC 8032) is deterministic: one key and one message give one signature.
 """
@@ -23,6 +26,7 @@ from __future__ import annotations
 
 import base64
 import datetime as dt
+import hashlib
 from collections.abc import Mapping
 from dataclasses import dataclass
 from enum import StrEnum
@@ -89,26 +93,39 @@ def verify_message(public_key: bytes, message: bytes, signature: bytes) -> bool:
 # --- statements: content bound to signer, key, purpose and time -----------------------------
 
 
-def statement(content: Mapping[str, Any], *, signed_as: str, person: str, key: str,
+def content_digest(content: Mapping[str, Any]) -> str:
+    """SHA-256 (hex) of ``content``'s RFC 8785 canonical JSON: what a statement names."""
+    return hashlib.sha256(canonical_bytes(dict(content))).hexdigest()
+
+
+def statement(digest: str, *, signed_as: str, person: str, key: str,
               signed_at: dt.datetime) -> dict[str, Any]:
-    """What a signature covers (see the module's docstring)."""
+    """What a signature covers (see the module's docstring); ``digest`` is the content's."""
     return {"workpack_signature": STATEMENT_VERSION, "signed_as": signed_as, "person": person,
             "key": key, "algorithm": ALGORITHM, "signed_at": utc_text(signed_at),
-            "content": dict(content)}
+            "content_sha256": digest}
+
+
+def sign_digest(private_key: Ed25519PrivateKey, digest: str, *, signed_as: str, person: str,
+                key: str, signed_at: dt.datetime) -> Signature:
+    """``person``'s signature, as ``signed_as`` with their key ``key``, of the content whose
+    ``content_digest`` is ``digest``.
+
+    ``signed_at`` (aware) is kept to the whole second. Whether the key may sign then is the
+    register's business: ``verify_digest`` checks it; the shell checks it before signing.
+    """
+    at = signed_at.astimezone(dt.UTC).replace(microsecond=0)
+    message = canonical_bytes(statement(digest, signed_as=signed_as, person=person, key=key,
+                                        signed_at=at))
+    value = base64.b64encode(sign_message(private_key, message)).decode("ascii")
+    return Signature(signed_as=signed_as, person=person, key=key, signed_at=at, value=value)
 
 
 def sign_content(private_key: Ed25519PrivateKey, content: Mapping[str, Any], *,
                  signed_as: str, person: str, key: str, signed_at: dt.datetime) -> Signature:
-    """``person``'s signature of ``content`` as ``signed_as`` with their key ``key``.
-
-    ``signed_at`` (aware) is kept to the whole second. Whether the key may sign then is the
-    register's business: ``verify_content`` checks it; the shell checks it before signing.
-    """
-    at = signed_at.astimezone(dt.UTC).replace(microsecond=0)
-    message = canonical_bytes(statement(content, signed_as=signed_as, person=person, key=key,
-                                        signed_at=at))
-    value = base64.b64encode(sign_message(private_key, message)).decode("ascii")
-    return Signature(signed_as=signed_as, person=person, key=key, signed_at=at, value=value)
+    """``person``'s signature of ``content`` (JSON data) as ``signed_as`` with ``key``."""
+    return sign_digest(private_key, content_digest(content), signed_as=signed_as,
+                       person=person, key=key, signed_at=signed_at)
 
 
 class Verdict(StrEnum):
@@ -156,6 +173,13 @@ def verify_content(register: CrewRegister, content: Mapping[str, Any],
     ``person`` and ``signed_as``, where given, are who must have signed and as what (a
     record's technician must sign as technician, not lend the supervisor's signature).
     """
+    return verify_digest(register, content_digest(content), signature, person=person,
+                         signed_as=signed_as)
+
+
+def verify_digest(register: CrewRegister, digest: str, signature: Signature | None, *,
+                  person: str | None = None, signed_as: str | None = None) -> SignatureCheck:
+    """``verify_content`` for the content whose ``content_digest`` is ``digest``."""
     if signature is None:
         who = f" by {person}" if person else ""
         what = f" as {signed_as}" if signed_as else ""
@@ -176,7 +200,7 @@ def verify_content(register: CrewRegister, content: Mapping[str, Any],
                               holder)
     found = register.key(signature.key)
     assert found is not None  # key_valid_at found it
-    message = canonical_bytes(statement(content, signed_as=signature.signed_as,
+    message = canonical_bytes(statement(digest, signed_as=signature.signed_as,
                                         person=signature.person, key=signature.key,
                                         signed_at=signature.signed_at))
     if not verify_message(found[1].public_bytes(), message, signature.signature_bytes()):
