@@ -23,9 +23,11 @@ from samplepackage import PAIRS, sample_package
 
 from workpack.audit import AuditReport, build_audit
 from workpack.electrical import TrendStatus
-from workpack.evaluate import Evaluation, evaluate, record_payload
+from workpack.evaluate import evaluate
+from workpack.model.evaluation import Evaluation
 from workpack.model.package import Limit, Step, WorkPackage
 from workpack.model.results import LockRecord, MeasuredValue, Results, StepDone
+from workpack.records import record_payload
 from workpack.render.audit_html import render_audit_html
 from workpack.render.audit_pdf import render_audit_pdf
 from workpack.render.pdf import MIN_TEXT_PT
@@ -474,9 +476,12 @@ def test_steps_without_readings_make_no_trend(tmp_path: Path, standards: dict) -
     assert "No insulation-resistance readings" in render_audit_html(report)
 
 
-def test_the_audit_core_reads_no_files() -> None:
-    """workpack/audit.py imports no file, database or PDF module and opens nothing."""
-    tree = ast.parse((ROOT / "workpack" / "audit.py").read_text(encoding="utf-8"))
+@pytest.mark.parametrize("module", sorted((ROOT / "workpack" / "audit").glob("*.py")),
+                         ids=lambda path: path.name)
+def test_the_audit_core_reads_no_files(module: Path) -> None:
+    """No module of workpack/audit imports a file, database, PDF or template module, and
+    none opens anything."""
+    tree = ast.parse(module.read_text(encoding="utf-8"))
     imported = {alias.name for node in ast.walk(tree) if isinstance(node, ast.Import)
                 for alias in node.names}
     imported |= {node.module for node in ast.walk(tree)

@@ -30,10 +30,10 @@ from reportlab.platypus import (
     TableStyle,
 )
 
-from workpack.audit import OUTCOME_WORDS, entered_text, is_bare_number, results_from_payload
-from workpack.evaluate import Evaluation, ReadingVerdict
+from workpack.model.evaluation import Evaluation, ReadingVerdict
 from workpack.model.package import WorkPackage
 from workpack.model.results import Results
+from workpack.records import OUTCOME_WORDS, entered_text, is_bare_number, read_payload, utc_text
 from workpack.render.figures import shortened
 from workpack.render.pdf import (
     FONT,
@@ -57,11 +57,6 @@ VERDICT_WORDS = {"passed": "PASSED", "failed": "FAILED", "incomplete": "INCOMPLE
 SHAPES = {"pass": "tick", "fail": "cross", "not recorded": "bar", "recorded": "dot",
           "passed": "tick", "failed": "cross", "incomplete": "bar",
           "completed": "tick", "open": "ring", "overdue": "alert"}
-
-
-def utc_text(when: dt.datetime) -> str:
-    """A stored timestamp for a reader: "2026-12-02 16:00 UTC"."""
-    return f"{when.astimezone(dt.UTC):%Y-%m-%d %H:%M} UTC"
 
 
 class Mark(Flowable):
@@ -250,7 +245,7 @@ class CloseoutPdf(PackagePdf):
             raise ValueError(f"record {record.sequence} answers {record.package_id!r}, not "
                              f"the package given ({package.id!r})")
         if results is None and record is not None:
-            results = results_from_payload(record.results)
+            results = read_payload(record).results
         self.evaluation = evaluation
         self.record = record
         self.results = results
