@@ -44,7 +44,7 @@ from workpack.audit.report import (
 from workpack.audit.trends import insulation_trends
 from workpack.electrical.standards import CodeSet
 from workpack.model.evaluation import ReadingVerdict
-from workpack.model.package import Reading, WorkPackage
+from workpack.model.package import WorkPackage
 from workpack.model.results import LockRecord, Results
 from workpack.records import (
     ReadBack,
@@ -141,10 +141,7 @@ def _package_audit(package: WorkPackage, refs: list[RecordRef], read: ReadBack[R
                             package.item, status, None, tuple(refs), (), (), None, None, None)
     latest = next(r for r in refs if r.sequence == read.record.sequence)
     results, evaluation = read.results, read.evaluation
-    lines: tuple[ReadingLine, ...] = ()
-    if evaluation is not None:
-        asked = {r.id: r for r in package.readings()}
-        lines = tuple(_reading_line(v, results, asked.get(v.id)) for v in evaluation.readings)
+    lines = tuple(_reading_line(v, results) for v in evaluation.readings) if evaluation else ()
     return PackageAudit(
         package.id, package.plant, package.date, package.title, package.item, status, latest,
         tuple(refs), lines, evaluation.deviations if evaluation else (),
@@ -153,21 +150,12 @@ def _package_audit(package: WorkPackage, refs: list[RecordRef], read: ReadBack[R
         completed_on=results.completed_on if results else None, problem=read.problem)
 
 
-def _reading_line(verdict: ReadingVerdict, results: Results | None,
-                  reading: Reading | None) -> ReadingLine:
+def _reading_line(verdict: ReadingVerdict, results: Results | None) -> ReadingLine:
     measured = results.readings.get(verdict.id) if results is not None else None
-    # the evaluation corrects only where the limit names a code set (see evaluate._judge)
-    limit = reading.limit if reading is not None else None
-    corrected = (verdict.corrected_to_c if limit is not None and limit.code_set
-                 and verdict.compared_si is not None else None)
-    return ReadingLine(
-        reading_id=verdict.id, what=verdict.what, unit=verdict.unit,
-        entered=entered_text(measured.value) if measured is not None else None,
-        entered_temperature=entered_text(measured.temperature) if measured is not None
-        else None,
-        measured_si=verdict.measured_si, temperature_c=verdict.temperature_c,
-        compared_si=verdict.compared_si, corrected_to_c=corrected, low=verdict.low,
-        high=verdict.high, basis=verdict.basis, outcome=verdict.outcome, note=verdict.note)
+    return ReadingLine(**verdict.model_dump(),
+                       entered=entered_text(measured.value) if measured else None,
+                       entered_temperature=entered_text(measured.temperature) if measured
+                       else None)
 
 
 def _open_isolations(pid: str, plant: str | None, package: WorkPackage | None,

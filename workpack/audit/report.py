@@ -10,7 +10,7 @@ from dataclasses import dataclass
 from typing import Literal
 
 from workpack.electrical import TrendJudgement
-from workpack.model.evaluation import Deviation, Outcome
+from workpack.model.evaluation import Deviation, Outcome, ReadingVerdict
 
 Status = Literal["completed", "failed", "open", "overdue"]
 STATUSES: tuple[Status, ...] = ("completed", "failed", "open", "overdue")
@@ -66,39 +66,12 @@ class RecordRef:
         return self.superseded_by is not None
 
 
-@dataclass(frozen=True)
-class ReadingLine:
-    """One reading of a job: as entered, as compared, against its limit."""
+class ReadingLine(ReadingVerdict):
+    """One reading of a job as its record holds it: the evaluation's verdict, and the
+    value and temperature exactly as written on the results (None where left blank)."""
 
-    reading_id: str
-    what: str
-    unit: str
-    entered: str | None  # the value exactly as written on the results; None if blank
+    entered: str | None
     entered_temperature: str | None
-    measured_si: float | None
-    temperature_c: float | None
-    compared_si: float | None  # the value held against the limit (corrected where asked)
-    corrected_to_c: float | None  # the reference temperature, where a correction applied
-    low: float | None
-    high: float | None
-    basis: str
-    outcome: Outcome
-    note: str
-
-    @property
-    def broke(self) -> Literal["minimum", "maximum"] | None:
-        """Which bound a failing reading broke."""
-        if self.outcome != "fail" or self.compared_si is None:
-            return None
-        if self.low is not None and self.compared_si < self.low:
-            return "minimum"
-        if self.high is not None and self.compared_si > self.high:
-            return "maximum"
-        return None
-
-    @property
-    def broken_limit_si(self) -> float | None:
-        return {"minimum": self.low, "maximum": self.high, None: None}[self.broke]
 
 
 @dataclass(frozen=True)

@@ -74,12 +74,9 @@ def insulation_trends(packages: Mapping[str, WorkPackage],
                 left_out[reading.element].append(
                     f"{pid} {reading.id} ({taken_on.isoformat()}): {why}")
                 continue
-            limit = reading.limit
-            corrected = bool(limit and limit.code_set and limit.temperature_corrected_to_c
-                             is not None)
             points.append(_Taken(TrendPoint(
                 taken_on, verdict.compared_si, verdict.measured_si, verdict.temperature_c,
-                corrected, verdict.outcome, pid, reading.id, reading.what,
+                verdict.corrected, verdict.outcome, pid, reading.id, reading.what,
                 read.record.sequence, lowest_of_test=False), reading))
         by_element: dict[str, list[_Taken]] = defaultdict(list)
         for t in points:

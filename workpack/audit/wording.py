@@ -192,7 +192,8 @@ def limit_shown(line: ReadingLine) -> str:
     if line.low is None and line.high is None:
         return "no limit"
     return Limit(low=line.low, high=line.high, basis=line.basis,
-                 temperature_corrected_to_c=line.corrected_to_c).describe(line.unit)
+                 temperature_corrected_to_c=line.corrected_to_c if line.corrected else None
+                 ).describe(line.unit)
 
 
 def compared_shown(line: ReadingLine) -> str:
@@ -200,7 +201,7 @@ def compared_shown(line: ReadingLine) -> str:
     entered" where no correction applied (three figures would only round the entry)."""
     if line.compared_si is None:
         return "—"
-    if line.corrected_to_c is None:
+    if not line.corrected or line.corrected_to_c is None:
         return "as entered"
     return (f"{format_quantity(line.compared_si, line.unit)} at "
             f"{format_quantity(line.corrected_to_c, '°C')}")

@@ -38,6 +38,28 @@ class ReadingVerdict(Plain):
     judged: bool = True  # False: recorded against its limit but not deciding the verdict
     code_set: str | None = None  # the tables that corrected it for temperature
 
+    @property
+    def corrected(self) -> bool:
+        """``compared_si`` is the measured value corrected to ``corrected_to_c``: the limit
+        named the tables to correct with, and the reading could be corrected."""
+        return (self.corrected_to_c is not None and self.code_set is not None
+                and self.compared_si is not None)
+
+    @property
+    def broke(self) -> Literal["minimum", "maximum"] | None:
+        """Which bound a failing reading broke."""
+        if self.outcome != "fail" or self.compared_si is None:
+            return None
+        if self.low is not None and self.compared_si < self.low:
+            return "minimum"
+        if self.high is not None and self.compared_si > self.high:
+            return "maximum"
+        return None
+
+    @property
+    def broken_limit_si(self) -> float | None:
+        return {"minimum": self.low, "maximum": self.high, None: None}[self.broke]
+
 
 class Deviation(Plain):
     """Something the package asked for that the results do not show."""

@@ -216,7 +216,7 @@ class AuditPdf(PdfDocument):
                 rows.append([[self.para(p.package_id),
                               self.para(f"record #{p.latest.sequence if p.latest else ''}",
                                         "small")],
-                             f"{r.reading_id} {r.what}", entered, compared_shown(r),
+                             f"{r.id} {r.what}", entered, compared_shown(r),
                              [self.mark("fail", "FAIL"), self.para(broken_shown(r))],
                              self.para(r.basis, "small")])
         if not rows:
@@ -238,7 +238,7 @@ class AuditPdf(PdfDocument):
             result: list[Flowable] = [self.mark(r.outcome, OUTCOME_WORDS[r.outcome])]
             if r.note:
                 result.append(self.para(r.note, "small"))
-            rows.append([f"{r.reading_id} {r.what}", entered_shown(r.entered, r.unit),
+            rows.append([f"{r.id} {r.what}", entered_shown(r.entered, r.unit),
                          temperature_shown(r.entered_temperature), compared_shown(r),
                          [self.para(limit_shown(r)), self.para(r.basis, "small")], result])
         flagged = [n for n, r in enumerate(p.readings) if r.outcome == "fail"]

@@ -250,7 +250,6 @@ class CloseoutPdf(PackagePdf):
         self.record = record
         self.results = results
         self.verdicts = {v.id: v for v in evaluation.readings}
-        self.limits = {r.id: r.limit for r in package.readings()}
         self.document_title = f"Close-out: {package.title}"
         self.created = (record.recorded_at.astimezone(dt.UTC).date() if record is not None
                         else results.completed_on if results is not None
@@ -467,9 +466,8 @@ class CloseoutPdf(PackagePdf):
             text = None
         cell: list[Flowable] = [self._filled_box(box, text), Spacer(1, 1.2 * mm),
                                 Mark(SHAPES[verdict.outcome], OUTCOME_WORDS[verdict.outcome])]
-        limit = self.limits.get(verdict.id)
-        if (verdict.compared_si is not None and verdict.corrected_to_c is not None
-                and limit is not None and limit.code_set):  # corrected: see evaluate._judge
+        if (verdict.corrected and verdict.compared_si is not None
+                and verdict.corrected_to_c is not None):
             cell.append(Paragraph(
                 f"corrected {words(format_quantity(verdict.compared_si, verdict.unit))} at "
                 f"{words(format_quantity(verdict.corrected_to_c, '°C'))}", self.style["small"]))
