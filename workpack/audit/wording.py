@@ -9,6 +9,7 @@ functions word one value; ``judgement_text`` and ``legend`` word an insulation t
 from __future__ import annotations
 
 import math
+from typing import NamedTuple
 
 from workpack.audit.report import (
     AuditFilter,
@@ -25,6 +26,7 @@ from workpack.records import is_bare_number, utc_text
 
 __all__ = [
     "STATUS_WORDS",
+    "JudgementText",
     "broken_shown",
     "compared_shown",
     "effect_shown",
@@ -151,11 +153,16 @@ def legend(trend: IrTrend) -> str:
                                else "no minimum given")
 
 
-def judgement_text(trend: IrTrend) -> tuple[str, str]:
-    """The trend's verdict line and the thresholds it was judged by."""
+class JudgementText(NamedTuple):
+    head: str  # the verdict: "Trend: FALLING. …"
+    rule: str  # the thresholds it was judged by
+
+
+def judgement_text(trend: IrTrend) -> JudgementText:
+    """The trend's verdict line and the thresholds it was judged by ("" without one)."""
     j = trend.judgement
     if j is None:
-        return "", ""
+        return JudgementText("", "")
     head = f"Trend: {j.status.value.upper()}. {j.note}."
     if j.rate_per_year is not None and j.rate_per_year > -1.0:
         if abs(j.rate_per_year) <= 0.5:
@@ -169,7 +176,7 @@ def judgement_text(trend: IrTrend) -> tuple[str, str]:
     rule = (f"Judged on the lowest reading of each day against {minimum}; thresholds: a "
             f"fall of more than {j.drop_threshold:.0%} from the best earlier value, or the "
             f"minimum reached within {format_number(j.horizon_months)} months ({j.citation}).")
-    return head, rule
+    return JudgementText(head, rule)
 
 
 # --- words for values --------------------------------------------------------------------

@@ -85,8 +85,8 @@ def chart_drawing(chart: TrendChart, font: str = FONT, bold: str = FONT_BOLD,
     turned = Group(text(0, 0, chart.y_label, "middle"))
     turned.transform = (0, 1, -1, 0, size * 1.1, y((chart.top + chart.bottom) / 2))
     d.add(turned)
-    if chart.minimum is not None:
-        d.add(Line(chart.left, y(chart.minimum[0]), chart.right, y(chart.minimum[0]),
+    if chart.minimum_y is not None:
+        d.add(Line(chart.left, y(chart.minimum_y), chart.right, y(chart.minimum_y),
                    strokeColor=colors.black, strokeWidth=1.3, strokeDashArray=[6, 3]))
     if len(chart.line) > 1:
         d.add(PolyLine([c for x, yy in chart.line for c in (x, y(yy))],

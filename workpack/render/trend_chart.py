@@ -9,15 +9,20 @@ from __future__ import annotations
 import datetime as dt
 import math
 from dataclasses import dataclass
-from typing import Literal
+from typing import Literal, NamedTuple
 
 from workpack.audit.report import IrTrend
 from workpack.audit.wording import minimum_shown
 from workpack.numbers import format_quantity
 
-__all__ = ["ChartMark", "ChartText", "TrendChart", "points_text", "trend_chart"]
+__all__ = ["ChartMark", "ChartText", "Tick", "TrendChart", "points_text", "trend_chart"]
 
-Point = tuple[float, float]
+Point = tuple[float, float]  # x, y
+
+
+class Tick(NamedTuple):
+    at: float  # x on the date axis, y on the value axis
+    label: str
 Shape = Literal["circle", "square"]
 
 
@@ -50,12 +55,12 @@ class TrendChart:
     top: float
     right: float
     bottom: float
-    y_ticks: tuple[tuple[float, str], ...]
-    x_ticks: tuple[tuple[float, str], ...]
+    y_ticks: tuple[Tick, ...]
+    x_ticks: tuple[Tick, ...]
     line: tuple[Point, ...]
     line_labels: tuple[ChartText, ...]
     marks: tuple[ChartMark, ...]
-    minimum: tuple[float, str, str] | None  # y, "minimum 5 MΩ", its source
+    minimum_y: float | None  # the dashed line of the minimum, where one is known
     minimum_label: ChartText | None
     y_label: str
     x_label: str
@@ -87,18 +92,18 @@ def trend_chart(trend: IrTrend, width: float = 640.0, height: float = 300.0,
             return (left + right) / 2
         return left + pad + (day - first).days / span * (right - left - 2 * pad)
 
-    y_ticks = tuple((y_of(10.0 ** k), format_quantity(10.0 ** k, trend.unit))
+    y_ticks = tuple(Tick(y_of(10.0 ** k), format_quantity(10.0 ** k, trend.unit))
                     for k in range(low, high + 1))
     days = sorted({p.taken_on for p in trend.points})
     room = 7.5 * size  # an ISO date and some air
-    x_ticks: list[tuple[float, str]] = []
+    x_ticks: list[Tick] = []
     for day in days:
         x = x_of(day)
-        if x_ticks and x - x_ticks[-1][0] < room:
+        if x_ticks and x - x_ticks[-1].at < room:
             if day != days[-1]:
                 continue
             x_ticks.pop()  # the last test is always labelled
-        x_ticks.append((x, day.isoformat()))
+        x_ticks.append(Tick(x, day.isoformat()))
     line = tuple((x_of(p.taken_on), y_of(p.compared_si), p) for p in trend.line)
     labels = []
     for i, (x, y, p) in enumerate(line):
@@ -114,22 +119,21 @@ def trend_chart(trend: IrTrend, width: float = 640.0, height: float = 300.0,
                             f"{p.taken_on.isoformat()} {p.package_id} {p.reading_id}: "
                             f"{format_quantity(p.compared_si, trend.unit)}")
                   for p in trend.points)
-    minimum = minimum_label = None
+    my = minimum_label = None
     minimum_text = minimum_shown(trend)
     if trend.minimum_si is not None and minimum_text is not None:
         my = y_of(trend.minimum_si)
-        minimum = (my, minimum_text, trend.minimum_basis)
         # below the dashed line at the left, where early (healthy) readings rarely are;
         # above it when the line runs along the bottom of the plot
         below = my + 1.3 * size
         minimum_label = ChartText(left + 0.5 * size,
                                   below if below < bottom - 0.3 * size else my - 0.5 * size,
-                                  f"{minimum[1]}: {minimum[2]}", "start")
+                                  f"{minimum_text}: {trend.minimum_basis}", "start")
     reference = (f" at {format_quantity(trend.corrected_to_c, '°C')}"
                  if trend.corrected_to_c is not None else "")
     return TrendChart(
         width, height, size, left, top, right, bottom, y_ticks, tuple(x_ticks),
-        tuple((x, y) for x, y, _ in line), tuple(labels), marks, minimum, minimum_label,
+        tuple((x, y) for x, y, _ in line), tuple(labels), marks, my, minimum_label,
         y_label=f"IR{reference} ({trend.unit}, log scale)", x_label="date of test")
 
 
