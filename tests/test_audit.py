@@ -490,3 +490,17 @@ def test_the_audit_core_reads_no_files(module: Path) -> None:
     assert not {name for name in imported if name.split(".")[0] in forbidden}
     assert not any(isinstance(node, ast.Call) and getattr(node.func, "id", None) == "open"
                    for node in ast.walk(tree))
+
+
+def test_importing_the_audit_and_the_record_format_loads_no_database_pdf_or_template() -> None:
+    """What is really loaded, not what the import lines say: ``workpack.store`` loads its
+    backends (sqlite3) only when one is used."""
+    import subprocess
+    import sys
+
+    code = ("import sys, workpack.audit, workpack.audit.wording, workpack.records, "
+            "workpack.history; print(sorted(m for m in ('sqlite3', 'psycopg', 'reportlab', "
+            "'pypdf', 'jinja2') if m in sys.modules))")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                          check=True)
+    assert done.stdout.strip() == "[]"

@@ -53,7 +53,7 @@ from workpack.records import (
     read_back,
     superseded_by,
 )
-from workpack.store import package_sha256
+from workpack.store._chain import package_sha256
 
 if TYPE_CHECKING:  # types only: the audit reads what the shell has read
     from workpack.store import Record, Verification
