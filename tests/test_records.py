@@ -33,6 +33,7 @@ from workpack.records import (
     RecordPayload,
     latest_effective,
     read_back,
+    read_for_planning,
     read_payload,
     record_payload,
     superseded_by,
@@ -168,6 +169,20 @@ def test_an_unreadable_payload_says_why_in_one_line(written, text: str, why: str
     read = read_back(Stored(text))  # never raises: says why instead
     assert (read.payload, read.evaluation, read.results, read.problem) == (None, None, None,
                                                                            why)
+
+
+@pytest.mark.parametrize("path", OLD_PAYLOADS, ids=lambda p: p.stem)
+def test_what_planning_reads_is_what_the_whole_payload_says(path: Path) -> None:
+    """The planner's quicker view of a payload (it reads every record, every day) gives
+    the same evaluation, day and ground as reading the whole payload."""
+    stored, _ = old_payload(path)
+    whole, view = read_payload(stored), read_for_planning(stored)
+    assert view is not None and view.payload_version == whole.payload_version == 1
+    assert view.evaluation == whole.evaluation
+    assert (view.results.completed_on, view.results.ground_found_at) == \
+        (whole.results.completed_on, whole.results.ground_found_at)
+    newer = {**json.loads(stored.results_json), "payload_version": PAYLOAD_VERSION + 1}
+    assert read_for_planning(Stored(canonical_json(newer))) is None
 
 
 def test_history_leaves_out_a_record_it_cannot_read(written) -> None:

@@ -18,7 +18,7 @@ from dataclasses import dataclass, field
 from workpack.electrical import DatedReading, TrendJudgement, insulation_trend
 from workpack.electrical.standards import CodeSet
 from workpack.model.evaluation import RESISTANCE_UNITS
-from workpack.records import StoredRecord, latest_effective, read_back
+from workpack.records import StoredRecord, latest_effective, read_for_planning
 
 
 @dataclass(frozen=True)
@@ -59,7 +59,7 @@ def history_from_records(records: Iterable[StoredRecord], default_code_set: str)
     grounds: dict[str, int] = {}
     gathered: dict[str, _Gathered] = {}
     for record in sorted(latest_effective(records).values(), key=lambda r: r.sequence):
-        payload = read_back(record).payload
+        payload = read_for_planning(record)
         if payload is None:
             continue
         found = payload.results.ground_found_at

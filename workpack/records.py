@@ -16,7 +16,12 @@ The payload
     Version 1, written before payloads carried their version, is the same without
     ``payload_version``; it reads unchanged (tests/fixtures/records-v1 holds such
     payloads). A payload of a later version is refused, saying that a newer workpack
-    wrote it. A new version adds a branch to ``RecordPayload._upgrade`` and a fixture.
+    wrote it. A new version adds a branch to ``_Versioned._upgrade`` and a fixture.
+
+    ``read_payload`` reads a record's whole payload; ``read_for_planning`` only what the
+    planner's history needs (``PlanningView``), about a third quicker, since planning
+    reads every record of the plant every day; ``read_back`` never raises and says why a
+    payload could not be read.
 
 The latest effective record
     A correction is a new record whose ``supersedes`` names the record it corrects;
@@ -39,10 +44,16 @@ from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any, Generic, Protocol, TypeVar
 
-from pydantic import ValidationError, ValidationInfo, field_validator, model_validator
+from pydantic import (
+    BaseModel,
+    ConfigDict,
+    ValidationError,
+    ValidationInfo,
+    field_validator,
+    model_validator,
+)
 
 from workpack.model.evaluation import Evaluation, Outcome
-from workpack.model.package import Plain
 from workpack.model.results import Results
 
 __all__ = [
@@ -50,6 +61,7 @@ __all__ = [
     "PAYLOAD_VERSION",
     "Chained",
     "PayloadError",
+    "PlanningView",
     "ReadBack",
     "RecordPayload",
     "StoredRecord",
@@ -57,6 +69,7 @@ __all__ = [
     "is_bare_number",
     "latest_effective",
     "read_back",
+    "read_for_planning",
     "read_payload",
     "record_payload",
     "superseded_by",
@@ -70,12 +83,10 @@ class PayloadError(ValueError):
     """A record's payload that cannot be read back; the message says why."""
 
 
-class RecordPayload(Plain):
-    """What the store keeps for one recorded job (see the module docstring)."""
+class _Versioned(BaseModel):
+    """A payload's version, and what it takes to read an older one."""
 
     payload_version: int
-    results: Results
-    evaluation: Evaluation
 
     @model_validator(mode="before")
     @classmethod
@@ -96,6 +107,33 @@ class RecordPayload(Plain):
         if version < 1:
             raise ValueError(f"payload version {version} was never written")
         return version
+
+
+class RecordPayload(_Versioned):
+    """What the store keeps for one recorded job (see the module docstring)."""
+
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+    results: Results
+    evaluation: Evaluation
+
+
+class _ResultsPlanned(BaseModel):
+    model_config = ConfigDict(extra="ignore", frozen=True)
+
+    completed_on: dt.date | None = None
+    ground_found_at: str | None = None
+
+
+class PlanningView(_Versioned):
+    """The part of a payload the planner's history reads (``read_for_planning``): the
+    evaluation, and of the results only the day and the ground found. The rest is passed
+    over unread, because planning reads every record of the plant each day."""
+
+    model_config = ConfigDict(extra="ignore", frozen=True)
+
+    results: _ResultsPlanned
+    evaluation: Evaluation
 
 
 _STORED = "stored payload"  # the validation context of a payload read from the store
@@ -135,9 +173,24 @@ class StoredRecord(Chained, Protocol):
 
 def read_payload(record: StoredRecord) -> RecordPayload:
     """The payload of ``record``; PayloadError saying why when it cannot be read."""
+    return _read(record, RecordPayload)
+
+
+def read_for_planning(record: StoredRecord) -> PlanningView | None:
+    """What planning reads of ``record``; None when it cannot be read (the audit and the
+    records table say why)."""
     try:
-        return RecordPayload.model_validate_json(record.results_json,
-                                                 context={_STORED: True})
+        return _read(record, PlanningView)
+    except PayloadError:
+        return None
+
+
+V = TypeVar("V", bound=_Versioned)
+
+
+def _read(record: StoredRecord, view: type[V]) -> V:
+    try:
+        return view.model_validate_json(record.results_json, context={_STORED: True})
     except ValidationError as error:
         raise PayloadError(_why(error)) from None
 
