@@ -9,7 +9,8 @@ PACKAGE = Path(__file__).resolve().parent.parent / "workpack"
 CORE = ["topology.py", "isolation.py", "checks.py", "summary.py", "model", "diagnose.py",
         "search_core.py", "search.py", "rules.py", "calculations.py", "plan.py", "forms.py",
         "restoration.py",
-        "evaluate.py", "history.py", "audit.py", "store/_chain.py", "crew.py", "signing.py"]
+        "evaluate.py", "records.py", "history.py", "audit", "store/_chain.py", "crew.py",
+        "signing.py"]
 FORBIDDEN = {"os", "pathlib", "io", "shutil", "sqlite3", "yaml", "reportlab", "subprocess",
              "socket", "tempfile", "workpack.loading", "workpack.cli", "workpack.yamlsource"}
 

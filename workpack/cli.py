@@ -375,9 +375,10 @@ def _store_plant(args: argparse.Namespace) -> str | None:
 def _cmd_record(args: argparse.Namespace) -> int:
     import datetime as dt
 
-    from workpack.evaluate import evaluate, record_payload
+    from workpack.evaluate import evaluate
     from workpack.loading import load_results
     from workpack.output import write_all
+    from workpack.records import record_payload
     from workpack.render.text import evaluation_text
     from workpack.store import open_store
 
@@ -412,7 +413,7 @@ def _cmd_record(args: argparse.Namespace) -> int:
         import yaml
 
         text = yaml.safe_dump({"date": package.date.isoformat(),
-                               "findings": list(evaluation.followups)},
+                               "findings": [f.model_dump() for f in evaluation.followups]},
                               sort_keys=False, allow_unicode=True)
         out = Path(args.followups)
         write_all(out.parent, {out.name: text.encode()})
@@ -504,8 +505,8 @@ def _cmd_audit(args: argparse.Namespace) -> int:
 
 
 def _cmd_closeout(args: argparse.Namespace) -> int:
-    from workpack.audit import evaluation_from_payload
     from workpack.output import write_all
+    from workpack.records import PayloadError, read_payload
     from workpack.render.closeout import render_closeout
     from workpack.store import open_store
 
@@ -522,12 +523,13 @@ def _cmd_closeout(args: argparse.Namespace) -> int:
         raise UsageError(f"{args.package}: this package differs from the one record "
                          f"{record.sequence} answers (hash); use the package as issued")
     try:
-        evaluation = evaluation_from_payload(record.results)
-    except (ValueError, TypeError, KeyError) as error:
+        payload = read_payload(record)
+    except PayloadError as error:
         raise UsageError(f"record {record.sequence} of {package.id} in {_default_db(args)}: "
                          f"{error}; it cannot be closed out (record the results again with "
                          f"--supersedes {record.sequence})") from None
-    pdf = render_closeout(package, evaluation, record, page_size=args.page_size)
+    pdf = render_closeout(package, payload.evaluation, record, results=payload.results,
+                          page_size=args.page_size)
     out = Path(args.out)
     write_all(out.parent, {out.name: pdf})
     sys.stdout.write(f"record {record.sequence} of {package.id} ({record.verdict}) "

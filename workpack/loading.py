@@ -557,8 +557,7 @@ def load_results(path: Path, package: WorkPackage, package_hash: str) -> Results
     else:
         data, marks = parse_yaml(read_text(path), str(path))
     results = validate(Results, data, marks, "results file")
-    mismatches = [Mismatch(where, message)
-                  for where, message in check_results(package, results, package_hash)]
+    mismatches = list(check_results(package, results, package_hash))
     if mismatches:
         raise InputError(_located(marks, mismatches))
     return results

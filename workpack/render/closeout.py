@@ -30,10 +30,10 @@ from reportlab.platypus import (
     TableStyle,
 )
 
-from workpack.audit import OUTCOME_WORDS, entered_text, is_bare_number, results_from_payload
-from workpack.evaluate import Evaluation, ReadingVerdict
+from workpack.model.evaluation import Evaluation, ReadingVerdict
 from workpack.model.package import WorkPackage
 from workpack.model.results import Results
+from workpack.records import OUTCOME_WORDS, entered_text, is_bare_number, read_payload, utc_text
 from workpack.render.figures import shortened
 from workpack.render.pdf import (
     FONT,
@@ -57,11 +57,6 @@ VERDICT_WORDS = {"passed": "PASSED", "failed": "FAILED", "incomplete": "INCOMPLE
 SHAPES = {"pass": "tick", "fail": "cross", "not recorded": "bar", "recorded": "dot",
           "passed": "tick", "failed": "cross", "incomplete": "bar",
           "completed": "tick", "open": "ring", "overdue": "alert"}
-
-
-def utc_text(when: dt.datetime) -> str:
-    """A stored timestamp for a reader: "2026-12-02 16:00 UTC"."""
-    return f"{when.astimezone(dt.UTC):%Y-%m-%d %H:%M} UTC"
 
 
 class Mark(Flowable):
@@ -250,12 +245,11 @@ class CloseoutPdf(PackagePdf):
             raise ValueError(f"record {record.sequence} answers {record.package_id!r}, not "
                              f"the package given ({package.id!r})")
         if results is None and record is not None:
-            results = results_from_payload(record.results)
+            results = read_payload(record).results
         self.evaluation = evaluation
         self.record = record
         self.results = results
         self.verdicts = {v.id: v for v in evaluation.readings}
-        self.limits = {r.id: r.limit for r in package.readings()}
         self.document_title = f"Close-out: {package.title}"
         self.created = (record.recorded_at.astimezone(dt.UTC).date() if record is not None
                         else results.completed_on if results is not None
@@ -472,9 +466,8 @@ class CloseoutPdf(PackagePdf):
             text = None
         cell: list[Flowable] = [self._filled_box(box, text), Spacer(1, 1.2 * mm),
                                 Mark(SHAPES[verdict.outcome], OUTCOME_WORDS[verdict.outcome])]
-        limit = self.limits.get(verdict.id)
-        if (verdict.compared_si is not None and verdict.corrected_to_c is not None
-                and limit is not None and limit.code_set):  # corrected: see evaluate._judge
+        if (verdict.corrected and verdict.compared_si is not None
+                and verdict.corrected_to_c is not None):
             cell.append(Paragraph(
                 f"corrected {words(format_quantity(verdict.compared_si, verdict.unit))} at "
                 f"{words(format_quantity(verdict.corrected_to_c, '°C'))}", self.style["small"]))
