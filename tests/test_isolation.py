@@ -576,3 +576,50 @@ def test_open_transition_removes_a_false_danger() -> None:
     assert not joined.complete and unprotected(joined) == {"U1"}
     separate = plan_isolation(load(text.replace("TRANSITION", ", transition: open")), "LP")
     assert separate.complete and separate.devices == ("CB-G1",)
+
+
+# --- the one search for every device's far side ------------------------------------------------
+
+
+def test_one_search_answers_as_each_device_walk_would() -> None:
+    """``_far_sides`` (one search for all devices at once) finds, for each device, the
+    sources its own walk finds (``_far_side``), for any start states and blocked nodes,
+    passed changeovers included. Where it declines (``None``) the planner walks that
+    device alone."""
+    import random
+
+    from workpack.isolation import _far_side, _far_sides
+
+    answered = 0
+    for seed in range(60):
+        rng = random.Random(seed)
+        topology = Topology(random_plant(seed, size=60))
+        nodes = sorted(topology.closable_adjacency)
+        changeovers = sorted(topology.one_input_at_a_time)
+        devices = [n for n in nodes if isinstance(topology.elements[element_of(n)], Device)]
+        starts = {}
+        for device in rng.sample(devices, min(len(devices), rng.randint(1, 12))):
+            starts[device] = (device, rng.choice([None, None, *changeovers[:3]]))
+        blocked = set(starts) | set(rng.sample(nodes, len(nodes) // rng.randint(4, 12)))
+        blocked |= {p for _, p in starts.values() if p is not None}
+        for device, sources in _far_sides(topology, starts, blocked).items():
+            if sources is not None:
+                answered += 1
+                alone = _far_side(topology, starts[device], blocked - {device})
+                assert sources == alone.sources, (seed, device)
+    assert answered > 300
+
+
+@pytest.mark.parametrize("seed", range(30))
+def test_one_search_stands_in_for_every_walk_of_a_plan(seed: int) -> None:
+    """For every item of a plant, the devices the planner's walk stops at: the one search
+    answers for each of them (it never has to hand one back) as its own walk would."""
+    from workpack.isolation import _far_side, _far_sides, _walk_from_item
+
+    topology = Topology(random_plant(seed, size=120))
+    for item_id in sorted(topology.elements):
+        near = _walk_from_item(topology, item_id)
+        blocked = near.blocked
+        for device, sources in _far_sides(topology, near.frontier, blocked).items():
+            alone = _far_side(topology, near.frontier[device], blocked - {device})
+            assert sources == alone.sources, (item_id, device)

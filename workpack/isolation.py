@@ -22,6 +22,7 @@ else could still close onto the dead side. Pure: no file access.
 from __future__ import annotations
 
 from collections import deque
+from collections.abc import Callable
 from dataclasses import dataclass, replace
 
 from workpack.model.plant import (
@@ -110,34 +111,10 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
     if item_id not in topology.elements:
         raise KeyError(item_id)
     item = topology.elements[item_id]
-    neighbours = topology.energy_neighbours(item_id)
-    starts = topology.work_nodes(item_id)
-    # Breadth-first, sorted: the nearest device on each path is found first and
-    # the result never depends on set order.
-    parent: dict[State, State | None] = {(node, None): None for node in sorted(starts)}
-    queue = deque(parent)
-    frontier: dict[str, State] = {}
-    unprotected: dict[str, State] = {}
-    passed_unlockable: set[str] = set()
-    while queue:
-        state = queue.popleft()
-        for reached in topology.onward(*state, neighbours(state[0])):
-            if reached in parent:
-                continue
-            parent[reached] = state
-            node = reached[0]
-            element = topology.elements[element_of(node)]
-            if isinstance(element, Device) and element.id != item_id:
-                if element.can_lock:
-                    frontier.setdefault(node, reached)
-                    continue
-                passed_unlockable.add(element.id)
-            if isinstance(element, Source):
-                unprotected.setdefault(node, reached)
-                continue
-            queue.append(reached)
-
-    region = {node for node, _ in parent if node not in frontier}
+    near = _walk_from_item(topology, item_id)
+    parent, frontier, unprotected = near.parent, near.frontier, near.unprotected
+    passed_unlockable = near.passed_unlockable
+    region = near.region
     normal_path = {element_of(node) for path in topology.normal_supply_paths(item_id)
                    for node in path}
     # A device is needed when a source reaches its far side without crossing the
@@ -150,18 +127,34 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
     blocked = region | set(frontier)
     normal_paths = topology.normal_supply_paths(item_id)
 
-    def far_side(device: str, state: State) -> _FarSide:
-        if device in normal_path:
-            # The normal supply itself, when its way up to the device is clear, shows
-            # the device needed without a walk.
-            for path in normal_paths:
-                if device in path:
-                    upstream = path[:path.index(device)]
-                    if not blocked.intersection(upstream):
-                        return _FarSide(sources=(path[0],), path=(device, *reversed(upstream)))
-        return _far_side(topology, state, blocked - {device}, first_only=device in normal_path)
+    def normal_supply_clear(device: str) -> _FarSide | None:
+        # The normal supply itself, when its way up to the device is clear, shows
+        # the device needed without a walk.
+        for path in normal_paths:
+            if device in path:
+                upstream = path[:path.index(device)]
+                if not blocked.intersection(upstream):
+                    return _FarSide(sources=(path[0],), path=(device, *reversed(upstream)))
+        return None
 
-    walked = {d: far_side(d, state) for d, state in frontier.items()}
+    walked: dict[str, _FarSide] = {}
+    for candidate in frontier:
+        if candidate in normal_path and (clear := normal_supply_clear(candidate)) is not None:
+            walked[candidate] = clear
+    searched = {d: state for d, state in frontier.items() if d not in walked}
+    auxiliary = set(topology.auxiliary_feeds(item_id))
+    for candidate, sources in _far_sides(topology, searched, blocked).items():
+        state = searched[candidate]
+        if sources is None:  # the one search cannot stand in for this device's own walk
+            walked[candidate] = _far_side(topology, state, blocked - {candidate},
+                                          first_only=candidate in normal_path)
+        elif sources and candidate not in normal_path and candidate not in auxiliary:
+            # The reason names the nearest source's path: the device's own walk, which
+            # stops at the first source it meets.
+            nearest = _far_side(topology, state, blocked - {candidate}, first_only=True)
+            walked[candidate] = _FarSide(sources=sources, path=nearest.path)
+        else:
+            walked[candidate] = _FarSide(sources=sources, path=None)
     chosen = sorted(d for d, far in walked.items() if far.sources)
 
     def path_to(state: State) -> tuple[str, ...]:
@@ -251,6 +244,56 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
     )
 
 
+@dataclass(frozen=True)
+class _ItemSide:
+    """The walk out from the item to the nearest lockable device on every path."""
+
+    parent: dict[State, State | None]  # every state reached → the state it came from
+    frontier: dict[str, State]  # nearest lockable devices → the state reaching them
+    unprotected: dict[str, State]  # sources reached with no lockable device on the way
+    passed_unlockable: set[str]  # devices passed that cannot be locked
+
+    @property
+    def region(self) -> set[str]:
+        """The item's side: every node reached but the devices that stop the walk."""
+        return {node for node, _ in self.parent if node not in self.frontier}
+
+    @property
+    def blocked(self) -> set[str]:
+        """What no walk beyond a frontier device may cross."""
+        return self.region | set(self.frontier)
+
+
+def _walk_from_item(topology: Topology, item_id: str) -> _ItemSide:
+    neighbours = topology.energy_neighbours(item_id)
+    starts = topology.work_nodes(item_id)
+    # Breadth-first, sorted: the nearest device on each path is found first and
+    # the result never depends on set order.
+    parent: dict[State, State | None] = {(node, None): None for node in sorted(starts)}
+    queue = deque(parent)
+    frontier: dict[str, State] = {}
+    unprotected: dict[str, State] = {}
+    passed_unlockable: set[str] = set()
+    while queue:
+        state = queue.popleft()
+        for reached in topology.onward(*state, neighbours(state[0])):
+            if reached in parent:
+                continue
+            parent[reached] = state
+            node = reached[0]
+            element = topology.elements[element_of(node)]
+            if isinstance(element, Device) and element.id != item_id:
+                if element.can_lock:
+                    frontier.setdefault(node, reached)
+                    continue
+                passed_unlockable.add(element.id)
+            if isinstance(element, Source):
+                unprotected.setdefault(node, reached)
+                continue
+            queue.append(reached)
+    return _ItemSide(parent, frontier, unprotected, passed_unlockable)
+
+
 def _source(topology: Topology, node: str) -> Source:
     source = topology.elements[element_of(node)]
     assert isinstance(source, Source)
@@ -332,6 +375,185 @@ def _far_side(topology: Topology, start: State, blocked: set[str],
             step = parent[step]
         path = tuple(reversed(chain))
     return _FarSide(sources=tuple(sorted(set(found))), path=path)
+
+
+def _far_sides(topology: Topology, starts: dict[str, State],
+               blocked: set[str]) -> dict[str, tuple[str, ...] | None]:
+    """Every source that reaches each device's far side: one search for all devices.
+
+    The answer for a device is what ``_far_side`` from its ``start`` state, with
+    ``blocked`` less the device itself, would find; the devices are in ``blocked``.
+    A walk state is (node, open-transition changeover entered from an input), as in
+    ``Topology.onward``. Steps between states with neither node such a changeover go
+    both ways, so those states fall into groups (labelled once, by a flood) that
+    reach the same sources; the steps into and out of the changeovers, and out of
+    the devices, join the groups one way. The sources of a device are those of every
+    group it reaches: collected over the strongly connected parts of that small graph
+    of groups, sinks first. Linear in the part of the plant the devices reach,
+    however many devices there are.
+
+    ``None`` for a device that a walk could enter again in another state (its own
+    walk does not treat it as blocked): the caller walks that one on its own.
+    """
+    adjacency = topology.closable_adjacency
+    switches = topology.one_input_at_a_time
+    source_nodes = topology.source_nodes
+    order = sorted(source_nodes)
+    bit = {node: 1 << index for index, node in enumerate(order)}
+    label: dict[str | None, dict[str, int]] = {}  # changeover entered → node → its group
+    joined: list[list[int]] = []  # group → groups one step on
+    reached: list[int] = []  # group → sources one step on, as bits
+    pending: list[tuple[int, State]] = []  # (group, a state one step on from it)
+    suspect: set[str] = set()
+
+    def reenters(device: str, state: State) -> None:
+        """A step into a device in another state than it starts in: only harmless when
+        nothing lies beyond that state."""
+        if state != starts[device] and topology.onward(
+                *state, (n for n in adjacency[device] if n not in blocked)):
+            suspect.add(device)
+
+    def group(outward: list[State]) -> int:
+        joined.append([])
+        reached.append(0)
+        index = len(joined) - 1
+        pending.extend((index, state) for state in outward)
+        return index
+
+    def onward(state: State) -> list[State]:
+        found = []
+        for step in topology.onward(*state, adjacency[state[0]]):
+            if step[0] in blocked:
+                if step[0] in starts:
+                    reenters(step[0], step)
+            else:
+                found.append(step)
+        return found
+
+    begins = {device: group(onward(state)) for device, state in starts.items()}
+    while pending:
+        from_group, state = pending.pop()
+        node, passed = state
+        if node in source_nodes:
+            reached[from_group] |= bit[node]
+            continue
+        layer = label.setdefault(passed, {})
+        target = layer.get(node)
+        if target is None:
+            target = group([])
+            layer[node] = target
+            if node in switches:  # an open-transition changeover: a group of its own
+                pending.extend((target, step) for step in onward(state))
+            else:
+                _flood(state, target, layer, pending, reached, bit, blocked, starts,
+                       reenters, adjacency, switches, source_nodes)
+        joined[from_group].append(target)
+    totals = _reachable_bits(joined, reached, list(begins.values()))
+    return {device: None if device in suspect else _named(totals[index], order)
+            for device, index in begins.items()}
+
+
+def _named(bits: int, order: list[str]) -> tuple[str, ...]:
+    """The sources whose bits are set, in ``order``."""
+    names = []
+    while bits:
+        lowest = bits & -bits
+        names.append(order[lowest.bit_length() - 1])
+        bits ^= lowest
+    return tuple(names)
+
+
+def _flood(start: State, target: int, layer: dict[str, int],
+           pending: list[tuple[int, State]], reached: list[int], bit: dict[str, int],
+           blocked: set[str], starts: dict[str, State],
+           reenters: Callable[[str, State], None], adjacency: dict[str, tuple[str, ...]],
+           switches: dict[str, frozenset[str]], source_nodes: frozenset[str]) -> None:
+    """Label every state joined to ``start`` by steps that go both ways (neither end
+    an open-transition changeover); note the sources and the one-way steps on."""
+    passed = start[1]  # unchanged inside a group: only a changeover changes it
+    queue = [start[0]]
+    found = 0
+    while queue:
+        node = queue.pop()
+        for neighbour in adjacency[node]:
+            if neighbour == passed:
+                continue
+            if neighbour in blocked:
+                if neighbour in starts:
+                    inputs = switches.get(neighbour)
+                    reenters(neighbour, (neighbour, neighbour if inputs and node in inputs
+                                         else passed))
+                continue
+            if neighbour in source_nodes:
+                found |= bit[neighbour]
+                continue
+            inputs = switches.get(neighbour)
+            if inputs is not None:
+                pending.append((target, (neighbour, neighbour if node in inputs else passed)))
+                continue
+            if neighbour not in layer:
+                layer[neighbour] = target
+                queue.append(neighbour)
+    reached[target] |= found
+
+
+def _reachable_bits(joined: list[list[int]], own: list[int], roots: list[int]) -> list[int]:
+    """For each group reachable from ``roots``: the bits of every group it reaches.
+
+    Tarjan's strongly connected components, iterative; a component is finished
+    after every component it reaches, so its bits are complete when it closes.
+    """
+    count = len(joined)
+    index = [-1] * count
+    low = [0] * count
+    on_stack = [False] * count
+    total = [0] * count
+    stack: list[int] = []
+    counter = 0
+    for root in roots:
+        if index[root] >= 0:
+            continue
+        work = [(root, 0)]
+        index[root] = low[root] = counter
+        counter += 1
+        stack.append(root)
+        on_stack[root] = True
+        while work:
+            node, position = work[-1]
+            successors = joined[node]
+            if position < len(successors):
+                work[-1] = (node, position + 1)
+                nxt = successors[position]
+                if index[nxt] < 0:
+                    index[nxt] = low[nxt] = counter
+                    counter += 1
+                    stack.append(nxt)
+                    on_stack[nxt] = True
+                    work.append((nxt, 0))
+                elif on_stack[nxt]:
+                    low[node] = min(low[node], index[nxt])
+                continue
+            work.pop()
+            if work:
+                parent = work[-1][0]
+                low[parent] = min(low[parent], low[node])
+            if low[node] == index[node]:
+                members = []
+                while True:
+                    member = stack.pop()
+                    on_stack[member] = False
+                    members.append(member)
+                    if member == node:
+                        break
+                bits = 0
+                for member in members:
+                    bits |= own[member]
+                    for nxt in joined[member]:
+                        if not on_stack[nxt]:
+                            bits |= total[nxt]
+                for member in members:
+                    total[member] = bits
+    return total
 
 
 def _start_point(topology: Topology, source_id: str) -> IsolationPoint:
