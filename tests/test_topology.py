@@ -72,3 +72,25 @@ def test_standby_generator_board_is_not_kept_live(demo_site: Topology) -> None:
     """GSB is fed only by DG1, which stands by until the utility fails."""
     assert "MSB" in demo_site.kept_live and "GSB" not in demo_site.kept_live
     assert "VSB" not in demo_site.kept_live_without(["CB-VSB"])
+
+
+def test_joinable_by_is_the_definition_written_out() -> None:
+    """``summary.joinable_by`` (one pass over the devices) names, for every island, the
+    normally open devices in it or next to it that touch another island: checked here
+    against that definition asked island by island, on random plants."""
+    from plantgen import random_plant
+
+    from workpack.summary import joinable_by
+
+    for seed in range(25):
+        topology = Topology(random_plant(seed, size=120))
+        found = joinable_by(topology)
+        for island in topology.normal_islands:
+            members = set(island.nodes)
+            expected = sorted(
+                device for device in topology.normally_open
+                if any(topology.island_of(n).id != island.id
+                       for n in topology.graph.neighbors(device))
+                and (device in members or members & set(topology.graph.neighbors(device))))
+            assert found.get(island.id, []) == expected, (seed, island.id)
+        assert any(found.values())
