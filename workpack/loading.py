@@ -13,6 +13,7 @@ from typing import Any, TypeVar
 from pydantic import BaseModel, ValidationError
 
 from workpack.checks import Mismatch, check_findings, run_checks
+from workpack.collector import collector_paused
 from workpack.errors import InputError, Problem, did_you_mean
 from workpack.model.findings import Findings
 from workpack.model.package import WorkPackage
@@ -138,6 +139,7 @@ def _located(marks: Marks, mismatches: list[Mismatch]) -> list[Problem]:
     return problems
 
 
+@collector_paused()
 def load_plant_text(text: str, file: str) -> tuple[Plant, Topology]:
     """Parse, validate and check a plant; raise InputError listing every problem."""
     data, marks = parse_yaml(text, file)
