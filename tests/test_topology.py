@@ -94,3 +94,22 @@ def test_joinable_by_is_the_definition_written_out() -> None:
                 and (device in members or members & set(topology.graph.neighbors(device))))
             assert found.get(island.id, []) == expected, (seed, island.id)
         assert any(found.values())
+
+
+def test_stays_live_asks_what_kept_live_without_answers() -> None:
+    """``stays_live`` (a walk from the node to the nearest source that runs by itself) and
+    ``kept_live_without`` (a walk from every such source) agree on every node, with
+    random sets of devices open, on random plants."""
+    import random
+
+    from plantgen import random_plant
+
+    for seed in range(20):
+        rng = random.Random(seed)
+        topology = Topology(random_plant(seed, size=90))
+        devices = sorted(d.id for d in topology.plant.devices)
+        for _ in range(5):
+            opened = set(rng.sample(devices, rng.randint(0, len(devices) // 3)))
+            live = topology.kept_live_without(opened)
+            for node in topology.graph:
+                assert topology.stays_live(node, opened) == (node in live), (seed, node)

@@ -22,7 +22,6 @@ else could still close onto the dead side. Pure: no file access.
 from __future__ import annotations
 
 from collections import deque
-from collections.abc import Callable
 from dataclasses import dataclass, replace
 
 from workpack.model.plant import (
@@ -115,8 +114,8 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
     parent, frontier, unprotected = near.parent, near.frontier, near.unprotected
     passed_unlockable = near.passed_unlockable
     region = near.region
-    normal_path = {element_of(node) for path in topology.normal_supply_paths(item_id)
-                   for node in path}
+    normal_paths = topology.normal_supply_paths(item_id)
+    normal_path = {element_of(node) for path in normal_paths for node in path}
     # A device is needed when a source reaches its far side without crossing the
     # item's side or another frontier device: closing it alone would put that
     # source onto the item. Dropping a device whose far side is dead never makes
@@ -125,7 +124,6 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
     # On the normal supply the first source found is enough; the rest of what such
     # a device keeps off is the normal supply through it.
     blocked = region | set(frontier)
-    normal_paths = topology.normal_supply_paths(item_id)
 
     def normal_supply_clear(device: str) -> _FarSide | None:
         # The normal supply itself, when its way up to the device is clear, shows
@@ -384,13 +382,17 @@ def _far_sides(topology: Topology, starts: dict[str, State],
     The answer for a device is what ``_far_side`` from its ``start`` state, with
     ``blocked`` less the device itself, would find; the devices are in ``blocked``.
     A walk state is (node, open-transition changeover entered from an input), as in
-    ``Topology.onward``. Steps between states with neither node such a changeover go
-    both ways, so those states fall into groups (labelled once, by a flood) that
-    reach the same sources; the steps into and out of the changeovers, and out of
-    the devices, join the groups one way. The sources of a device are those of every
-    group it reaches: collected over the strongly connected parts of that small graph
-    of groups, sinks first. Linear in the part of the plant the devices reach,
-    however many devices there are.
+    ``Topology.onward``. Steps between nodes that are neither sources nor such
+    changeovers go both ways and keep the state's changeover, so the states of one
+    piece of ``Topology.closable_parts`` (cut again by the blocked nodes) with one
+    changeover form a group that reaches the same sources. The steps into and out of
+    the changeovers, and out of the devices, join the groups one way; the sources of
+    a device are those of every group it reaches, collected over the strongly
+    connected parts of that small graph of groups, sinks first.
+
+    The pieces come from ``_Pieces``: of each part the blocked nodes cut, every piece
+    but one is walked and the one left is known as the rest of the part, so the
+    search costs about what the blocked nodes cut off, not the plant.
 
     ``None`` for a device that a walk could enter again in another state (its own
     walk does not treat it as blocked): the caller walks that one on its own.
@@ -398,9 +400,11 @@ def _far_sides(topology: Topology, starts: dict[str, State],
     adjacency = topology.closable_adjacency
     switches = topology.one_input_at_a_time
     source_nodes = topology.source_nodes
-    order = sorted(source_nodes)
-    bit = {node: 1 << index for index, node in enumerate(order)}
-    label: dict[str | None, dict[str, int]] = {}  # changeover entered → node → its group
+    order = topology.closable_parts.source_order
+    bit = topology.closable_parts.source_bit
+    pieces = _Pieces(topology, blocked, bit, starts)
+    label: dict[tuple[int, str | None], int] = {}  # (piece, changeover entered) → group
+    changeover_groups: dict[State, int] = {}
     joined: list[list[int]] = []  # group → groups one step on
     reached: list[int] = []  # group → sources one step on, as bits
     pending: list[tuple[int, State]] = []  # (group, a state one step on from it)
@@ -413,47 +417,211 @@ def _far_sides(topology: Topology, starts: dict[str, State],
                 *state, (n for n in adjacency[device] if n not in blocked)):
             suspect.add(device)
 
-    def group(outward: list[State]) -> int:
+    def group() -> int:
         joined.append([])
         reached.append(0)
-        index = len(joined) - 1
-        pending.extend((index, state) for state in outward)
-        return index
+        return len(joined) - 1
 
-    def onward(state: State) -> list[State]:
-        found = []
+    def onward(index: int, state: State) -> None:
         for step in topology.onward(*state, adjacency[state[0]]):
             if step[0] in blocked:
                 if step[0] in starts:
                     reenters(step[0], step)
             else:
-                found.append(step)
-        return found
+                pending.append((index, step))
 
-    begins = {device: group(onward(state)) for device, state in starts.items()}
+    begins = {}
+    for device, state in starts.items():
+        begins[device] = group()
+        onward(begins[device], state)
     while pending:
         from_group, state = pending.pop()
         node, passed = state
         if node in source_nodes:
             reached[from_group] |= bit[node]
             continue
-        layer = label.setdefault(passed, {})
-        target = layer.get(node)
-        if target is None:
-            target = group([])
-            layer[node] = target
-            if node in switches:  # an open-transition changeover: a group of its own
-                pending.extend((target, step) for step in onward(state))
-            else:
-                _flood(state, target, layer, pending, reached, bit, blocked, starts,
-                       reenters, adjacency, switches, source_nodes)
+        if node in switches:  # an open-transition changeover: a group of its own
+            target = changeover_groups.get(state)
+            if target is None:
+                target = changeover_groups[state] = group()
+                onward(target, state)
+        else:
+            piece = pieces.of(node)
+            target = label.get((piece, passed))
+            if target is None:
+                target = label[(piece, passed)] = group()
+                sources, steps, touching = pieces.contents(piece)
+                reached[target] |= sources
+                for member, switch in steps:
+                    if switch == passed:
+                        continue
+                    step = (switch, switch if member in switches[switch] else passed)
+                    if switch in blocked:
+                        if switch in starts:
+                            reenters(switch, step)
+                    else:
+                        pending.append((target, step))
+                for device in touching:
+                    reenters(device, (device, passed))
         joined[from_group].append(target)
     totals = _reachable_bits(joined, reached, list(begins.values()))
     return {device: None if device in suspect else _named(totals[index], order)
             for device, index in begins.items()}
 
 
-def _named(bits: int, order: list[str]) -> tuple[str, ...]:
+class _Pieces:
+    """The parts of ``Topology.closable_parts`` cut again by the blocked nodes.
+
+    A part holding no blocked node is one piece, known in advance. A part holding
+    some falls into pieces, each next to a blocked node: they are walked from
+    there all at once, a step each in turn, joining walks that meet, until one
+    walk at most is left unfinished; that one is the rest of the part, known as
+    the part less what was walked and blocked. So the work is about the size of
+    what the blocked nodes cut off, not of the plant.
+
+    A piece's contents: the sources next to it (bits; blocked ones left out), the
+    steps from its members to open-transition changeovers, and the start devices
+    next to it (blocked, but a walk from one may step back into it).
+    """
+
+    def __init__(self, topology: Topology, blocked: set[str], bit: dict[str, int],
+                 starts: dict[str, State]) -> None:
+        self.parts = topology.closable_parts
+        self.adjacency = topology.closable_adjacency
+        self.source_nodes = topology.source_nodes
+        self.blocked = blocked
+        self.bit = bit
+        self.starts = starts
+        self.blocked_sources = 0
+        for node in blocked & topology.source_nodes:
+            self.blocked_sources |= bit[node]
+        count = len(self.parts.sources)
+        self.walked: dict[str, int] = {}  # node in a walked piece → piece (count and up)
+        self.found: dict[int, tuple[int, list[tuple[str, str]], list[str]]] = {}
+        self.rests: dict[int, tuple[int, list[tuple[str, str]], list[str]]] = {}
+        cut: dict[int, list[str]] = {}
+        for node in sorted(blocked):
+            part = self.parts.part_of.get(node)
+            if part is not None:
+                cut.setdefault(part, []).append(node)
+        self.next_piece = count
+        for part, inside in cut.items():
+            self._cut(part, inside)
+
+    def of(self, node: str) -> int:
+        """The piece of a node that is neither blocked, a source nor a changeover."""
+        piece = self.walked.get(node)
+        return self.parts.part_of[node] if piece is None else piece
+
+    def contents(self, piece: int) -> tuple[int, list[tuple[str, str]], list[str]]:
+        if piece in self.found:
+            return self.found[piece]
+        if piece in self.rests:
+            return self.rests[piece]
+        return (self.parts.source_bits[piece] & ~self.blocked_sources,
+                list(self.parts.changeovers[piece]), [])
+
+    def _cut(self, part: int, inside: list[str]) -> None:
+        """Walk the pieces next to the blocked nodes ``inside`` the part, a step each in
+        turn, until at most one walk is unfinished."""
+        part_of, adjacency, blocked = self.parts.part_of, self.adjacency, self.blocked
+        owner: dict[str, int] = {}  # node → the walk that reached it first
+        merged: dict[int, int] = {}  # walk → the walk it joined
+        queues: dict[int, deque[str]] = {}
+        members: dict[int, list[str]] = {}
+
+        def root(walk: int) -> int:
+            while walk in merged:
+                walk = merged[walk]
+            return walk
+
+        for node in inside:
+            for neighbour in adjacency[node]:
+                if neighbour in part_of and neighbour not in blocked and (
+                        neighbour not in owner):
+                    walk = len(queues)
+                    owner[neighbour] = walk
+                    queues[walk] = deque([neighbour])
+                    members[walk] = [neighbour]
+        active = list(queues)
+        finished: list[int] = []
+        while len(active) > 1:
+            still: list[int] = []
+            for walk in active:
+                if walk in merged:
+                    continue
+                queue = queues[walk]
+                if not queue:
+                    finished.append(walk)
+                    continue
+                node = queue.popleft()
+                for neighbour in adjacency[node]:
+                    if neighbour not in part_of or neighbour in blocked:
+                        continue
+                    other = owner.get(neighbour)
+                    if other is None:
+                        owner[neighbour] = walk
+                        queue.append(neighbour)
+                        members[walk].append(neighbour)
+                    elif (other := root(other)) != walk:
+                        # two walks met: one piece; the other walk goes on as part of this
+                        merged[other] = walk
+                        queue.extend(queues.pop(other))
+                        members[walk].extend(members.pop(other))
+                still.append(walk)
+            active = [walk for walk in still if walk not in merged]
+        for walk in finished:
+            self._found(self.next_piece, members[walk])
+            self.next_piece += 1
+        if active:
+            self._rest(part, inside, [members[w] for w in finished])
+
+    def _touching(self, node: str, sources: int, steps: list[tuple[str, str]],
+                  touching: list[str]) -> int:
+        """Note what lies next to a member of a piece; its source bits."""
+        for neighbour in self.adjacency[node]:
+            if neighbour in self.source_nodes:
+                if neighbour not in self.blocked:
+                    sources |= self.bit[neighbour]
+            elif neighbour not in self.parts.part_of:  # a changeover, blocked or not
+                steps.append((node, neighbour))
+            elif neighbour in self.blocked and neighbour in self.starts:
+                touching.append(neighbour)
+        return sources
+
+    def _found(self, piece: int, nodes: list[str]) -> None:
+        sources = 0
+        steps: list[tuple[str, str]] = []
+        touching: list[str] = []
+        for node in nodes:
+            self.walked[node] = piece
+            sources = self._touching(node, sources, steps, touching)
+        self.found[piece] = (sources, steps, touching)
+
+    def _rest(self, part: int, inside: list[str], walked: list[list[str]]) -> None:
+        """The unfinished walk's piece: the part less the blocked and walked nodes."""
+        less: dict[str, int] = {}  # source → members next to it that are not in the rest
+        gone = set(inside)
+        for nodes in walked:
+            gone.update(nodes)
+        for node in gone:
+            for neighbour in self.adjacency[node]:
+                if neighbour in self.source_nodes:
+                    less[neighbour] = less.get(neighbour, 0) + 1
+        counts = self.parts.sources[part]
+        sources = self.parts.source_bits[part]
+        for node, count in less.items():
+            if count >= counts[node]:  # every member next to it is blocked or walked
+                sources &= ~self.bit[node]
+        steps = [(member, switch) for member, switch in self.parts.changeovers[part]
+                 if member not in gone]
+        touching = sorted({node for node in inside if node in self.starts and any(
+            neighbour in self.parts.part_of and neighbour not in gone
+            for neighbour in self.adjacency[node])})
+        self.rests[part] = (sources & ~self.blocked_sources, steps, touching)
+
+
+def _named(bits: int, order: tuple[str, ...]) -> tuple[str, ...]:
     """The sources whose bits are set, in ``order``."""
     names = []
     while bits:
@@ -461,40 +629,6 @@ def _named(bits: int, order: list[str]) -> tuple[str, ...]:
         names.append(order[lowest.bit_length() - 1])
         bits ^= lowest
     return tuple(names)
-
-
-def _flood(start: State, target: int, layer: dict[str, int],
-           pending: list[tuple[int, State]], reached: list[int], bit: dict[str, int],
-           blocked: set[str], starts: dict[str, State],
-           reenters: Callable[[str, State], None], adjacency: dict[str, tuple[str, ...]],
-           switches: dict[str, frozenset[str]], source_nodes: frozenset[str]) -> None:
-    """Label every state joined to ``start`` by steps that go both ways (neither end
-    an open-transition changeover); note the sources and the one-way steps on."""
-    passed = start[1]  # unchanged inside a group: only a changeover changes it
-    queue = [start[0]]
-    found = 0
-    while queue:
-        node = queue.pop()
-        for neighbour in adjacency[node]:
-            if neighbour == passed:
-                continue
-            if neighbour in blocked:
-                if neighbour in starts:
-                    inputs = switches.get(neighbour)
-                    reenters(neighbour, (neighbour, neighbour if inputs and node in inputs
-                                         else passed))
-                continue
-            if neighbour in source_nodes:
-                found |= bit[neighbour]
-                continue
-            inputs = switches.get(neighbour)
-            if inputs is not None:
-                pending.append((target, (neighbour, neighbour if node in inputs else passed)))
-                continue
-            if neighbour not in layer:
-                layer[neighbour] = target
-                queue.append(neighbour)
-    reached[target] |= found
 
 
 def _reachable_bits(joined: list[list[int]], own: list[int], roots: list[int]) -> list[int]:
@@ -635,7 +769,6 @@ def _self_starting(topology: Topology, item_id: str, chosen: list[str],
     darkens the board it starts for: it will start during the work.
     """
     hazards: list[Hazard] = []
-    darkened: frozenset[str] | None = None  # what this isolation leaves dead, when asked
     cut_by: dict[str, list[str]] = {}
     for device in chosen:
         for reached in beyond[device].sources:
@@ -654,9 +787,10 @@ def _self_starting(topology: Topology, item_id: str, chosen: list[str],
                                "block its start at its own controls as its maker's "
                                "instructions say, before anything is switched off"))
             elif source.start_block is None or source.start_block.id not in step_of:
-                if darkened is None:
-                    darkened = topology.kept_live - topology.kept_live_without(chosen)
-                dark = sorted(_boards_of(topology, source_id) & darkened)
+                opened = set(chosen)
+                dark = sorted(board for board in _boards_of(topology, source_id)
+                              if board in topology.kept_live
+                              and not topology.stays_live(board, opened))
                 if dark:
                     hazards.append(Hazard(
                         "WARNING", f"{source_id} ({kind}) starts by itself when "
