@@ -61,7 +61,26 @@ def secondary(transformer_id: str) -> str:
 
 def element_of(node: str) -> str:
     """The element id behind a graph node."""
-    return node.split(":", 1)[0]
+    # most nodes are their element: no new string for them (asked millions of times)
+    return node if ":" not in node else node.split(":", 1)[0]
+
+
+_NO_DATA: dict[str, object] = {}  # shared by every node and edge of a conducting view
+
+
+class _ConductingView(nx.Graph):  # type: ignore[misc]
+    """A switching state's graph: structure only, made from its adjacency at once.
+
+    Its nodes and edges share one empty data dict instead of one each (views are
+    frozen, nothing is ever written to it): a large plant holds several views at
+    once. The adjacency is handed in whole, in the order ``add_edges_from`` would
+    have made it, instead of edge by edge through networkx's checks.
+    """
+
+    def __init__(self, nodes: Iterable[str], adjacency: dict[str, dict[str, object]]):
+        super().__init__()
+        self._node = dict.fromkeys(nodes, _NO_DATA)
+        self._adj = adjacency
 
 
 @dataclass(frozen=True)
@@ -171,15 +190,18 @@ class Topology:
                     changeovers_closed: bool) -> nx.Graph:
         # A materialized graph: filtered views call back into Python per edge,
         # and the planner walks these graphs many times.
-        graph = nx.Graph()
-        graph.add_nodes_from(self.graph)
-        graph.add_edges_from(
-            (u, v) for u, v, data in self.graph.edges(data=True)
-            if data["kind"] in kinds
-            and (changeovers_closed or data["kind"] != CHANGEOVER)
-            and data.get("supply") not in opened
-        )
-        return nx.freeze(graph)
+        adjacency: dict[str, dict[str, object]] = {node: {} for node in self.graph}
+        for u, v, kind, supply in self._edge_list:
+            if kind in kinds and (changeovers_closed or kind != CHANGEOVER) and (
+                    supply not in opened):
+                adjacency[u][v] = adjacency[v][u] = _NO_DATA
+        return nx.freeze(_ConductingView(self.graph, adjacency))
+
+    @cached_property
+    def _edge_list(self) -> list[tuple[str, str, str, str | None]]:
+        """Every edge of the graph in its order: (u, v, kind, supply node)."""
+        return [(u, v, data["kind"], data.get("supply"))
+                for u, v, data in self.graph.edges(data=True)]
 
     def normal_view(self, kinds: frozenset[str] = GALVANIC) -> nx.Graph:
         """The graph as it conducts in the normal switching state."""
@@ -205,8 +227,8 @@ class Topology:
     def closable_adjacency(self) -> dict[str, tuple[str, ...]]:
         """Node → its neighbours in ``closable_view(POWER)``, in the graph's sorted build
         order (plain tuples: the walks of the planner read them millions of times)."""
-        view = self.closable_view(POWER)
-        return {node: tuple(view.adj[node]) for node in view}
+        return {node: tuple(neighbours)
+                for node, neighbours in self.closable_view(POWER).adjacency()}
 
     @cached_property
     def closable_parts(self) -> ClosableParts:
@@ -298,7 +320,7 @@ class Topology:
 
     def kept_live_without(self, opened: Iterable[str]) -> frozenset[str]:
         """``kept_live`` with the devices ``opened`` open as well."""
-        view = self.normal_view(POWER)
+        adjacency = self.normal_adjacency
         cut = set(opened)
         starts = [s.id for s in self.plant.sources if not s.starts_automatically]
         seen = set(starts)
@@ -307,7 +329,7 @@ class Topology:
             node = stack.pop()
             if node in cut:
                 continue  # an open device stays live on its supply side, feeds nothing on
-            for neighbour in view.neighbors(node):
+            for neighbour in adjacency[node]:
                 if neighbour not in seen:
                     seen.add(neighbour)
                     stack.append(neighbour)
@@ -316,8 +338,8 @@ class Topology:
     @cached_property
     def normal_adjacency(self) -> dict[str, tuple[str, ...]]:
         """Node → its neighbours in ``normal_view(POWER)`` (plain tuples, for walks)."""
-        view = self.normal_view(POWER)
-        return {node: tuple(view.adj[node]) for node in view}
+        return {node: tuple(neighbours)
+                for node, neighbours in self.normal_view(POWER).adjacency()}
 
     def stays_live(self, node: str, opened: Collection[str]) -> bool:
         """``node`` is in ``kept_live_without(opened)``, asked from the node's side: the
