@@ -40,25 +40,27 @@ class PlantSummary:
 def island_capacitance(plant: Plant, topology: Topology,
                        island: Island) -> tuple[float | None, str]:
     """Per-phase capacitance to earth of an island, F, and what the figure rests on."""
-    cables = [topology.elements[n] for n in island.nodes
-              if isinstance(topology.elements.get(n), Cable)]
-    loads = [topology.elements[n] for n in island.nodes
-             if isinstance(topology.elements.get(n), Load)]
+    cables: list[Cable] = []
+    loads: list[Load] = []
+    for node in island.nodes:  # one pass; each list keeps the island's order
+        element = topology.elements.get(node)
+        if isinstance(element, Cable):
+            cables.append(element)
+        elif isinstance(element, Load):
+            loads.append(element)
     by_type: dict[str, float] = {}  # cable type → F/m; the first of an id counts
     for cable_type in plant.cable_types:
         by_type.setdefault(cable_type.id, cable_type.capacitance_to_earth)
     total = 0.0
     known = 0
     for cable in cables:
-        assert isinstance(cable, Cable)
         per_m = cable.capacitance_to_earth
         if per_m is None and cable.cable_type is not None:
             per_m = by_type.get(cable.cable_type)
         if per_m is not None:
             total += per_m * cable.length
             known += 1
-    lumped = [load.equipment_capacitance for load in loads
-              if isinstance(load, Load) and load.equipment_capacitance]
+    lumped = [load.equipment_capacitance for load in loads if load.equipment_capacitance]
     total += sum(lumped)
     if not known and not lumped:
         return None, "no cable or equipment capacitance data"
