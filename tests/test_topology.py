@@ -113,3 +113,29 @@ def test_stays_live_asks_what_kept_live_without_answers() -> None:
             live = topology.kept_live_without(opened)
             for node in topology.graph:
                 assert topology.stays_live(node, opened) == (node in live), (seed, node)
+
+
+def test_closable_parts_are_the_components_between_sources_and_changeovers() -> None:
+    """``closable_parts``: the closable power graph less its sources and open-transition
+    changeovers falls into connected components (networkx's own); each part is one, and
+    names the sources and changeovers next to it."""
+    import networkx as nx
+    from plantgen import random_plant
+
+    from workpack.topology import POWER
+
+    for seed in range(25):
+        topology = Topology(random_plant(seed, size=120))
+        view = topology.closable_view(POWER)
+        cut = topology.source_nodes | set(topology.one_input_at_a_time)
+        parts = topology.closable_parts
+        components = list(nx.connected_components(view.subgraph(set(view) - cut)))
+        assert len(components) == len(parts.sources)
+        for component in components:
+            [part] = {parts.part_of[node] for node in component}
+            next_to = {n for node in component for n in view.neighbors(node)} - component
+            assert set(parts.sources[part]) == next_to & topology.source_nodes
+            assert {c for _, c in parts.changeovers[part]} == next_to - topology.source_nodes
+            assert parts.source_bits[part] == sum(parts.source_bit[s]
+                                                  for s in parts.sources[part])
+        assert any(parts.changeovers)
