@@ -77,10 +77,12 @@ class _ConductingView(nx.Graph):  # type: ignore[misc]
     have made it, instead of edge by edge through networkx's checks.
     """
 
-    def __init__(self, nodes: Iterable[str], adjacency: dict[str, dict[str, object]]):
-        super().__init__()
-        self._node = dict.fromkeys(nodes, _NO_DATA)
-        self._adj = adjacency
+    def __init__(self, nodes: Iterable[str] = (),
+                 adjacency: dict[str, dict[str, object]] | None = None) -> None:
+        super().__init__()  # networkx makes an empty one of these for subgraphs and copies
+        if adjacency is not None:
+            self._node = dict.fromkeys(nodes, _NO_DATA)
+            self._adj = adjacency
 
 
 @dataclass(frozen=True)
