@@ -349,9 +349,9 @@ def _far_side(topology: Topology, start: State, blocked: set[str],
             or isinstance(topology.elements[element_of(node)], Bus)
         ):
             continue
-        # The step of Topology.onward, written out: this loop is the planner's hot spot
-        # (millions of steps a day on a large plant); the property tests in
-        # tests/test_isolation.py hold both walks to an independent model.
+        # The step of Topology.onward, written out: every chosen device walks here for
+        # its nearest source; the property tests in tests/test_isolation.py hold this
+        # walk, the one search (_far_sides) and the planner to an independent model.
         passed = state[1]
         blocked_inputs = switches.get(node) if passed == node else None
         for neighbour in adjacency[node]:
