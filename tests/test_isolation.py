@@ -623,3 +623,15 @@ def test_one_search_stands_in_for_every_walk_of_a_plan(seed: int) -> None:
         for device, sources in _far_sides(topology, near.frontier, blocked).items():
             alone = _far_side(topology, near.frontier[device], blocked - {device})
             assert sources == alone.sources, (item_id, device)
+
+
+@pytest.mark.parametrize("seed", range(15))
+def test_locked_devices_are_the_plans_devices(seed: int) -> None:
+    """``locked_devices`` (the devices alone, for callers that ask many times) names
+    exactly the devices the full plan locks, for every item of a plant."""
+    from workpack.isolation import locked_devices
+
+    topology = Topology(random_plant(seed, size=90))
+    for item_id in sorted(topology.elements):
+        assert locked_devices(topology, item_id) == set(
+            plan_isolation(topology, item_id).devices), item_id

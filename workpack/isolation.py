@@ -23,6 +23,7 @@ from __future__ import annotations
 
 from collections import deque
 from dataclasses import dataclass, replace
+from functools import cached_property
 
 from workpack.model.plant import (
     Bus,
@@ -116,43 +117,17 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
     region = near.region
     normal_paths = topology.normal_supply_paths(item_id)
     normal_path = {element_of(node) for path in normal_paths for node in path}
-    # A device is needed when a source reaches its far side without crossing the
-    # item's side or another frontier device: closing it alone would put that
-    # source onto the item. Dropping a device whose far side is dead never makes
-    # another device's far side live (it only joins dead parts together), so each
-    # is checked against the whole frontier, and what it keeps off stays the same.
-    # On the normal supply the first source found is enough; the rest of what such
-    # a device keeps off is the normal supply through it.
-    blocked = region | set(frontier)
-
-    def normal_supply_clear(device: str) -> _FarSide | None:
-        # The normal supply itself, when its way up to the device is clear, shows
-        # the device needed without a walk.
-        for path in normal_paths:
-            if device in path:
-                upstream = path[:path.index(device)]
-                if not blocked.intersection(upstream):
-                    return _FarSide(sources=(path[0],), path=(device, *reversed(upstream)))
-        return None
-
-    walked: dict[str, _FarSide] = {}
-    for candidate in frontier:
-        if candidate in normal_path and (clear := normal_supply_clear(candidate)) is not None:
-            walked[candidate] = clear
-    searched = {d: state for d, state in frontier.items() if d not in walked}
+    walked = _far_sides_of(topology, item_id, near)
     auxiliary = set(topology.auxiliary_feeds(item_id))
-    for candidate, sources in _far_sides(topology, searched, blocked).items():
-        state = searched[candidate]
-        if sources is None:  # the one search cannot stand in for this device's own walk
-            walked[candidate] = _far_side(topology, state, blocked - {candidate},
-                                          first_only=candidate in normal_path)
-        elif sources and candidate not in normal_path and candidate not in auxiliary:
+    blocked = region | set(frontier)
+    for candidate, far in walked.items():
+        if far.sources and far.path is None and candidate not in normal_path and (
+                candidate not in auxiliary):
             # The reason names the nearest source's path: the device's own walk, which
             # stops at the first source it meets.
-            nearest = _far_side(topology, state, blocked - {candidate}, first_only=True)
-            walked[candidate] = _FarSide(sources=sources, path=nearest.path)
-        else:
-            walked[candidate] = _FarSide(sources=sources, path=None)
+            nearest = _far_side(topology, frontier[candidate], blocked - {candidate},
+                                first_only=True)
+            walked[candidate] = _FarSide(sources=far.sources, path=nearest.path)
     chosen = sorted(d for d, far in walked.items() if far.sources)
 
     def path_to(state: State) -> tuple[str, ...]:
@@ -251,12 +226,12 @@ class _ItemSide:
     unprotected: dict[str, State]  # sources reached with no lockable device on the way
     passed_unlockable: set[str]  # devices passed that cannot be locked
 
-    @property
+    @cached_property
     def region(self) -> set[str]:
         """The item's side: every node reached but the devices that stop the walk."""
         return {node for node, _ in self.parent if node not in self.frontier}
 
-    @property
+    @cached_property
     def blocked(self) -> set[str]:
         """What no walk beyond a frontier device may cross."""
         return self.region | set(self.frontier)
@@ -290,6 +265,58 @@ def _walk_from_item(topology: Topology, item_id: str) -> _ItemSide:
                 continue
             queue.append(reached)
     return _ItemSide(parent, frontier, unprotected, passed_unlockable)
+
+
+def locked_devices(topology: Topology, item_id: str) -> frozenset[str]:
+    """The devices ``plan_isolation`` locks open for the item (``plan.devices``), without
+    the rest of the plan: no order, reasons, blocks or hazards. For a caller that needs
+    only which devices, many times (the final tests of a ground search)."""
+    if item_id not in topology.elements:
+        raise KeyError(item_id)
+    walked = _far_sides_of(topology, item_id, _walk_from_item(topology, item_id))
+    return frozenset(device for device, far in walked.items() if far.sources)
+
+
+def _far_sides_of(topology: Topology, item_id: str, near: _ItemSide) -> dict[str, _FarSide]:
+    """What reaches the far side of each device the walk from the item stopped at.
+
+    A device is needed when a source reaches its far side without crossing the
+    item's side or another frontier device: closing it alone would put that
+    source onto the item. Dropping a device whose far side is dead never makes
+    another device's far side live (it only joins dead parts together), so each
+    is checked against the whole frontier, and what it keeps off stays the same.
+    On the normal supply the first source found is enough; the rest of what such
+    a device keeps off is the normal supply through it. The paths are left out
+    (None) unless found on the way.
+    """
+    frontier = near.frontier
+    blocked = near.blocked
+    normal_paths = topology.normal_supply_paths(item_id)
+    normal_path = {element_of(node) for path in normal_paths for node in path}
+
+    def normal_supply_clear(device: str) -> _FarSide | None:
+        # The normal supply itself, when its way up to the device is clear, shows
+        # the device needed without a walk.
+        for path in normal_paths:
+            if device in path:
+                upstream = path[:path.index(device)]
+                if not blocked.intersection(upstream):
+                    return _FarSide(sources=(path[0],), path=(device, *reversed(upstream)))
+        return None
+
+    walked: dict[str, _FarSide] = {}
+    for candidate in frontier:
+        if candidate in normal_path and (clear := normal_supply_clear(candidate)) is not None:
+            walked[candidate] = clear
+    searched = {d: state for d, state in frontier.items() if d not in walked}
+    for candidate, sources in _far_sides(topology, searched, blocked).items():
+        if sources is None:  # the one search cannot stand in for this device's own walk
+            walked[candidate] = _far_side(topology, searched[candidate],
+                                          blocked - {candidate},
+                                          first_only=candidate in normal_path)
+        else:
+            walked[candidate] = _FarSide(sources=sources, path=None)
+    return walked
 
 
 def _source(topology: Topology, node: str) -> Source:
