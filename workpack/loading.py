@@ -21,6 +21,7 @@ from workpack.checks import (
     check_unique_ids,
     run_checks,
 )
+from workpack.collector import collector_paused
 from workpack.errors import InputError, Problem, did_you_mean
 from workpack.model.findings import Findings
 from workpack.model.package import WorkPackage
@@ -252,6 +253,7 @@ def _references_despite_schema(data: Any, schema: list[Problem]) -> list[Mismatc
     return [m for m in found if not _below(format_path(m.path), schema)]
 
 
+@collector_paused()
 def load_plant_text(text: str, file: str) -> tuple[Plant, Topology]:
     """Parse, validate and check a plant; raise InputError listing every problem.
 
