@@ -25,6 +25,8 @@ from typing import Any
 from workpack.calculations import CALCULATIONS, CalcContext, CalcError
 from workpack.diagnose import DayDiagnosis, Diagnosis, diagnose_day, downstream_loads
 from workpack.electrical import (
+    GroundHazard,
+    HazardNote,
     TrendStatus,
     VoltageToEarth,
     approach_boundary,
@@ -33,7 +35,7 @@ from workpack.electrical import (
 )
 from workpack.electrical.standards import CodeSet
 from workpack.history import History
-from workpack.isolation import IsolationPlan, plan_isolation
+from workpack.isolation import HazardKind, IsolationPlan, plan_isolation
 from workpack.model.findings import Findings, Severity
 from workpack.model.package import (
     ApproachBoundaries,
@@ -151,7 +153,7 @@ class SystemState:
     ground_phases: tuple[str, ...] = ()
     grounded: bool = False
     highest_phase_to_earth_v: float | None = None
-    cautions: tuple[tuple[str, str], ...] = ()
+    cautions: tuple[HazardNote, ...] = ()
     phasor: Phasor | None = None
     findings: tuple[str, ...] = ()
 
@@ -732,8 +734,7 @@ class _PackageBuilder:
                 found = self._caution_if(rule, entry.id, context, facts)
                 if found is not None:
                     cautions.append(found)
-        cautions += [Caution(signal_word=SignalWord(h.severity), text=h.text)
-                     for h in plan.hazards]
+        cautions += [Caution(signal_word=h.signal_word, text=h.text) for h in plan.hazards]
         cautions += [c for step in steps for c in step.cautions]
         return FinalTest(
             id=final_id, feeder=final.feeder, title=f"Final tests {final_id}: {circuit}",
@@ -770,12 +771,12 @@ class _PackageBuilder:
                 if caution is not None:
                     found.append(caution)
         state = self.states.get(context["system"]["id"], SystemState())
-        for word, text in state.cautions:
-            if "second ground" not in text.lower():  # the library's caution says it for all
-                found.append(Caution(signal_word=SignalWord(word), text=text))
+        found += [Caution(signal_word=note.signal_word, text=note.text)
+                  for note in state.cautions
+                  # the library's second-ground caution says it for every grounded system
+                  if note.kind is not GroundHazard.second_ground]
         if isolation is not None:
-            for hazard in isolation.hazards:
-                found.append(Caution(signal_word=SignalWord(hazard.severity), text=hazard.text))
+            found += [Caution(signal_word=h.signal_word, text=h.text) for h in isolation.hazards]
         for step in steps:
             found.extend(step.cautions)
         return _merge_cautions((), found)
@@ -894,8 +895,7 @@ def _gaps(plan: IsolationPlan | None) -> tuple[str, ...]:
     """Paths no lock can cut: printed as DANGER beside the isolation."""
     if plan is None:
         return ()
-    return tuple(h.text for h in plan.hazards
-                 if h.severity == "DANGER" and h.text.startswith("no lockable"))
+    return tuple(h.text for h in plan.hazards if h.kind is HazardKind.no_lock)
 
 
 _WORD_ORDER = {SignalWord.danger: 0, SignalWord.warning: 1, SignalWord.caution: 2,

@@ -14,7 +14,7 @@ from workpack.summary import PlantSummary
 def isolation_plan(plan: IsolationPlan, item_label: str) -> str:
     lines = [f"Isolation of {item_label}", ""]
     for hazard in plan.hazards:
-        lines.append(f"{hazard.severity}: {hazard.text}")
+        lines.append(f"{hazard.signal_word.value}: {hazard.text}")
     if plan.hazards:
         lines.append("")
     lines.append("Open, lock and tag, in this order:")
@@ -90,7 +90,7 @@ def quick_diagnosis(summary: ReadingSummary) -> str:
     if summary.fault_current_a is not None:
         lines.append(f"Ground current: {format_quantity(summary.fault_current_a, 'A')}")
     lines.append(f"Consistent with a single ground: {'yes' if result.consistent else 'NO'}")
-    lines.extend(f"{word}: {text}" for word, text in summary.cautions)
+    lines.extend(f"{note.signal_word.value}: {note.text}" for note in summary.cautions)
     lines.extend(f"  - {note}" for note in result.notes)
     if result.next_steps:
         lines.append("Next:")
@@ -117,7 +117,8 @@ def day_diagnosis(day: DayDiagnosis) -> str:
                          f"{format_quantity(diagnosis.capacitance_per_phase_f, 'µF')} per phase "
                          f"({diagnosis.capacitance_basis})")
         lines.extend(f"    - {note}" for note in diagnosis.notes)
-        lines.extend(f"    {word}: {text}" for word, text in diagnosis.cautions)
+        lines.extend(f"    {note.signal_word.value}: {note.text}"
+                     for note in diagnosis.cautions)
         lines.extend(f"    next: {step}" for step in diagnosis.next_steps)
     lines.append("")
     lines.append("Local codes, the employer's safety rules and licensed practice prevail.")
