@@ -216,7 +216,9 @@ class _TreeBuilder:
         for load in topology.plant.loads:
             for index, auxiliary in enumerate(load.auxiliaries):
                 self.auxiliaries_fed.setdefault(auxiliary.from_, []).append((load, index))
-        self.total = sum(self.weight(e)[0] for e in self.members)
+        # summed in a fixed order: a set's order changes from run to run, and so would
+        # the last bits of every prior
+        self.total = sum(self.weight(e)[0] for e in sorted(self.members))
 
     # --- likelihood ---------------------------------------------------------------------
 
