@@ -8,7 +8,13 @@ import math
 import pytest
 from conftest import ROOT
 
-from workpack.loading import load_findings, load_findings_text, load_ruleset, load_weights
+from workpack.loading import (
+    load_findings,
+    load_findings_text,
+    load_plant_text,
+    load_ruleset,
+    load_weights,
+)
 from workpack.model.package import SignalWord, WorkPackage
 from workpack.plan import DayPlan, plan_day
 from workpack.topology import Topology
@@ -242,3 +248,25 @@ def test_printed_bounds_are_the_judged_bounds(demo: DayPlan) -> None:
                 assert bound is not None and float(f"{bound:.3g}") == bound
             assert limit.low >= reading.expected - reading.tolerance - 1e-9
             assert limit.high <= reading.expected + reading.tolerance + 1e-9
+
+
+def test_a_search_step_says_the_ground_moves_with_a_load_transferred_onto_the_same_system(
+        ruleset, standards, weights) -> None:
+    """Issue 11.3: the package words its search steps with the same sentences as
+    ``locate``, so it carries the caveat too: a vital load moved to an alternate supply
+    on the same system takes its own ground along, and the indication stays."""
+    text = (ROOT / "plants" / "demo-site.yaml").read_text(encoding="utf-8").replace(
+        "{id: CB-GSB-VSB, kind: circuit_breaker, from: GSB,",
+        "{id: CB-GSB-VSB, kind: circuit_breaker, from: MSB,")
+    _, topology = load_plant_text(text, "site-one-system.yaml")
+    findings = load_findings_text(
+        "date: 2026-12-01\nfindings:\n  - {kind: insulation_monitor, at: 2026-12-01T09:00, "
+        "by: A. Tester, where: IMD-MSB, reading: 12 kΩ}\n", "findings.yaml", topology)
+    search = package(day_plan(topology, findings, ruleset, standards, weights),
+                     "monitor-alarm")
+    [step] = [s for s in search.steps if s.kind == "search" and "Open CB-VSB" in s.text]
+    assert "First transfer DP-1, FP-1 to the alternate supply." in step.text
+    clears = next(line for line in step.text.splitlines() if line.startswith("If it clears"))
+    for load in ("DP-1", "FP-1"):
+        assert (f"if the ground is in {load} itself it moves with the transfer, since its "
+                "alternate supply is on this system: the indication will not clear") in clears

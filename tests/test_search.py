@@ -15,6 +15,7 @@ from workpack.cli import main
 from workpack.loading import load_weights
 from workpack.model.plant import Vitality
 from workpack.search import FaultSearch, plan_fault_search
+from workpack.search_wording import BoardNumbering, step_words
 from workpack.topology import Topology
 
 WEIGHTS = ROOT / "rules" / "search-weights.yaml"
@@ -82,8 +83,9 @@ def test_demo_vessel_starts_on_deck_machinery_and_says_why(demo_vessel, weights,
     assert first.open_devices == ("CB-MCC2",)
     facts = next(c for c in result.candidates if c.id == "CB-MCC2")
     assert any("weather_exposed" in reason for reason in facts.reasons)
-    assert "GD-MSB lamps equal" in first.if_clears
-    assert "as found: A 348 V, B 236 V, C 209 V" in first.if_not_clear
+    words = step_words(result, first, BoardNumbering())
+    assert "GD-MSB lamps equal" in words.if_clears
+    assert "as found: A 348 V, B 236 V, C 209 V" in words.if_stays
     assert result.healthy_phase_to_earth_v == pytest.approx(254.03, abs=0.01)  # 440/√3
 
 

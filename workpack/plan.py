@@ -80,13 +80,24 @@ from workpack.restoration import (
 )
 from workpack.rules import Compiled, CompiledRule, CompiledStep, RuleError, RuleSet
 from workpack.search import (
-    NOT_FOUND,
     FinalTests,
     SectionTest,
     final_test_isolation,
     plan_fault_search,
 )
-from workpack.search_core import Branch
+from workpack.search_wording import (
+    PackageNumbering,
+    board_heading,
+    circuit_below,
+    disconnect_electronics,
+    final_tests_condition,
+    final_tests_title,
+    ground_found_gate,
+    indication_back,
+    section_reading,
+    section_test,
+    step_words,
+)
 from workpack.topology import Topology, element_of
 
 # --- the context rules see -------------------------------------------------------------------
@@ -615,44 +626,18 @@ class _PackageBuilder:
         search = plan_fault_search(self.topology, job.item, self.weights, self.standards,
                                    self.day, past_grounds=self.past_grounds,
                                    as_found_v=as_found, exclude=self.tripped)
-        number = {(s.level, s.number): first + n for n, s in enumerate(search.steps)}
-        level_start: dict[str, int] = {}
-        for (level, _), package_number in sorted(number.items(), key=lambda kv: kv[1]):
-            level_start.setdefault(level, package_number)
-        final_id = {final.feeder: f"F{n}" for n, final in enumerate(search.final_tests, 1)}
+        numbering = PackageNumbering(search, first)
         levels = [s.level for s in search.steps]
-
-        def branch(level: str, target: Branch) -> str:
-            if target.kind == "step":
-                return f"close what was opened; go to step {number[(level, target.step)]}"
-            if target.kind == "found" and target.candidate_id in level_start:
-                return (f"the ground is below {target.candidate_id}: close it; search its own "
-                        f"circuits from step {level_start[target.candidate_id]}")
-            if target.kind == "found":
-                return (f"the ground is below {target.candidate_id}: close what this step "
-                        f"opened, then do final tests {final_id[target.candidate_id]} "
-                        f"(below {target.candidate_id}): they isolate, prove dead and test "
-                        "that circuit")
-            return NOT_FOUND
-
         added: list[Step] = []
         for step in search.steps:
-            opened = ", ".join(f"{d} ({w})" if w else d
-                               for d, w in zip(step.open_devices, step.where, strict=True))
-            lines = [f"Search on {step.level} ({levels.count(step.level)} steps on this "
-                     "board):"]
-            if step.transfer_first:
-                lines.append(f"First transfer {', '.join(step.transfer_first)} to the "
-                             "alternate supply.")
-            if step.permission_for:
-                lines.append(f"Get permission first: {', '.join(step.permission_for)} is "
-                             "vital and has no alternate supply.")
-            lines.append(f"Open {opened}; watch the detector for about a minute.")
-            lines.append(f"If it clears ({step.cleared}): {branch(step.level, step.on_clear)}.")
-            lines.append(f"If it stays {step.unchanged}: {branch(step.level, step.on_stay)}.")
+            words = step_words(search, step, numbering)
+            lines = [board_heading(step.level, levels.count(step.level)),
+                     *(text for text in (words.transfer, words.permission) if text),
+                     words.open, words.if_clears, words.if_stays]
             added.append(Step(number=first + len(added), text="\n".join(lines),
                               check_only=True, optional=True, kind="search"))
-        finals = tuple(self._final_test(rule, job.context, final, final_id[final.feeder])
+        finals = tuple(self._final_test(rule, job.context, final,
+                                        numbering.final_ids[final.feeder])
                        for final in search.final_tests)
         switched = tuple(sorted({d for s in search.steps for d in s.open_devices}))
         return tuple(added), finals, switched
@@ -663,32 +648,19 @@ class _PackageBuilder:
         plan = final_test_isolation(self.topology, final, self._isolation_of)
         points = _isolation_points(plan)
         proving = _proving_dead(self.plant, plan)
-        circuit = f"the circuit below {final.feeder}"
+        circuit = circuit_below(final.feeder)
         vital = self._vital_loads(points, [s.element for s in final.sections])
         testable = _testable(self.topology, final)
         skipped = sorted({s.element for s in final.sections if s not in testable})
         drafts: list[tuple[_Draft, str]] = []
         if skipped:
-            names = ", ".join(skipped)
-            drafts.append((_Draft(Step(
-                number=0, check_only=True,
-                text=f"Disconnect {names} (electronics) at its terminals, leads marked, so "
-                     "the test voltage cannot reach it: it is not insulation-tested.",
-                reconnect=f"Reconnect {names} as marked when it was disconnected; tighten "
-                          "and check each lead.")), final.feeder))
+            disconnect, reconnect = disconnect_electronics(skipped)
+            drafts.append((_Draft(Step(number=0, check_only=True, text=disconnect,
+                                       reconnect=reconnect)), final.feeder))
         for section in testable:
-            low, high = section.test_voltage_v
-            dc = f"{low:g} V" if low == high else f"{low:g}–{high:g} V"
-            if section.circuit:
-                what = f"{section.label} to earth at {dc} DC (conductors joined)"
-                text = (f"Test the {section.label} at its terminals in the terminal box of "
-                        f"{section.element} (every supply into that box is locked above): "
-                        "its conductors joined, to earth.")
-            else:
-                what = f"{section.element} to earth at {dc} DC"
-                text = f"Test {section.label}: each conductor to earth."
             reading = Reading(
-                id="", what=what, unit="MΩ" if section.minimum_ohm >= 1e6 else "kΩ",
+                id="", what=section_reading(section),
+                unit="MΩ" if section.minimum_ohm >= 1e6 else "kΩ",
                 limit=Limit(low=section.minimum_ohm, basis=section.basis,
                             temperature_corrected_to_c=section.reference_c,
                             code_set=section.code_set if section.reference_c is not None
@@ -696,16 +668,14 @@ class _PackageBuilder:
                 needs_temperature=section.reference_c is not None,
                 element=None if section.circuit else section.element,
                 test_voltage_v=section.test_voltage_v[1])
-            drafts.append((_Draft(Step(number=0, text=text, readings=(reading,)),
+            drafts.append((_Draft(Step(number=0, text=section_test(section),
+                                       readings=(reading,)),
                                   ("disconnect-electronics", "insulation-test-board",
                                    "stored-charge")), section.element))
         transformer = any(isinstance(self.topology.elements[s.element], Transformer)
                           for s in final.sections if not s.circuit)
-        check = Step(number=0, check_only=True, kind="check", text=(
-            f"Watch the detector for about a minute: if the indication comes back, the ground "
-            f"is in {circuit} after all, in a part these tests do not reach: open "
-            f"{final.feeder} again, tag it and report; the search's restoration keeps it "
-            "open."))
+        check = Step(number=0, check_only=True, kind="check",
+                     text=indication_back(final.feeder))
         facts = _facts(points, proving, [d.step for d, _ in drafts], transformer, False)
         built = [Step(number=0, text=take_out_of_service(circuit, vital),
                       kind="take_out_of_service", check_only=True, before_isolation=True)]
@@ -719,12 +689,7 @@ class _PackageBuilder:
             normal_devices=self._normal_devices({s.element for s in final.sections}),
             reconnects=[(s.number, s.reconnect) for s in steps if s.reconnect],
             vital_loads=vital,
-            gate=(f"If a section read below its minimum, the ground is in {circuit}: it "
-                  "stays isolated for its repair. Then do not restore: leave every lock and "
-                  f"tag of these final tests on, hang a tag at {final.feeder} saying 'ground "
-                  "found: do not close', write the section under 'ground found at' and why "
-                  "under 'locks left on', and skip the rest of this restoration. Otherwise "
-                  "restore as follows."),
+            gate=ground_found_gate(final.feeder),
             rule_steps={IN_SERVICE: [check]},
             return_text=return_to_service(circuit, vital)))
         restoration = number_steps(restoring, f"{final_id}.X")
@@ -737,9 +702,8 @@ class _PackageBuilder:
         cautions += [Caution(signal_word=h.signal_word, text=h.text) for h in plan.hazards]
         cautions += [c for step in steps for c in step.cautions]
         return FinalTest(
-            id=final_id, feeder=final.feeder, title=f"Final tests {final_id}: {circuit}",
-            condition=(f"Only when the search ends at {final.feeder} (a search step sends you "
-                       "here); otherwise skip these final tests."),
+            id=final_id, feeder=final.feeder, title=final_tests_title(final_id, final.feeder),
+            condition=final_tests_condition(final.feeder),
             isolation=points, isolation_gaps=_gaps(plan), stored_energy=plan.stored_energy,
             cautions=_merge_cautions((), cautions), proving_dead=proving,
             steps=steps, restoration=restoration,

@@ -8,6 +8,7 @@ from workpack.isolation import IsolationPlan
 from workpack.numbers import format_ohms, format_quantity, format_volts
 from workpack.plan import DayPlan
 from workpack.search import FaultSearch
+from workpack.search_wording import BoardNumbering, final_test_line, step_words
 from workpack.summary import PlantSummary
 
 
@@ -136,38 +137,22 @@ def fault_search(search: FaultSearch) -> str:
     for note in search.notes:
         lines.append(f"NOTE: {note}")
     level = None
+    numbering = BoardNumbering()
     for step in search.steps:
         if step.level != level:
             level = step.level
             lines.append(f"\n== Level {level} ==")
-        opened = ", ".join(f"{d} ({w})" if w else d
-                           for d, w in zip(step.open_devices, step.where, strict=True))
-        lines.append(f"{step.number}. Open {opened}  [{step.minutes:.0f} min]")
-        if step.transfer_first:
-            lines.append(f"   First transfer to the alternate supply: "
-                         f"{', '.join(step.transfer_first)}")
-        if step.permission_for:
-            lines.append(f"   PERMISSION needed: {', '.join(step.permission_for)} is vital "
-                         "and has no alternate supply")
-        if step.dead_loads:
-            shown = ", ".join(step.dead_loads[:8])
-            more = f" and {len(step.dead_loads) - 8} more" if len(step.dead_loads) > 8 else ""
-            lines.append(f"   Goes dead for about a minute: {shown}{more}")
-        lines.append(f"   {step.if_clears}")
-        lines.append(f"   {step.if_not_clear}")
+        words = step_words(search, step, numbering)
+        lines.append(f"{step.number}. {words.open}  [{step.minutes:.0f} min]")
+        lines.extend(f"   {text}" for text in (words.transfer, words.permission, words.dead,
+                                              words.if_clears, words.if_stays) if text)
     lines.append("\nWhy this order (chance the ground is downstream, cost to open it):")
     for facts in sorted(search.candidates, key=lambda c: (-c.prior, c.id)):
         reasons = "; ".join(facts.reasons[:4]) or "no raised factor"
         lines.append(f"  {facts.id}: {facts.prior:.1%}, {facts.cost_minutes:g} min — {reasons}")
     lines.append("\nFinal tests when a circuit is found (isolate it first):")
-    for final in search.final_tests:
-        for section in final.sections:
-            low, high = section.test_voltage_v
-            volts = f"{low:g} V" if low == high else f"{low:g}–{high:g} V"
-            at = f" at {section.reference_c:g} °C" if section.reference_c is not None else ""
-            what = section.label if section.circuit else section.element
-            lines.append(f"  {final.feeder} → {what}: {volts} DC, minimum "
-                         f"{format_ohms(section.minimum_ohm)}{at} ({section.basis})")
+    lines.extend(f"  {final_test_line(final, section)}"
+                 for final in search.final_tests for section in final.sections)
     lines.append("\nWeights (rules/search-weights.yaml):")
     lines.extend(f"  {line}" for line in search.weights_used)
     lines.append("\nLocal codes, the employer's safety rules and licensed practice prevail.")
