@@ -55,10 +55,10 @@ def main(size: int = 5000, count: int = 200) -> None:
     ruleset = load_ruleset(ROOT / "rules")
     weights = load_weights(ROOT / "rules" / "search-weights.yaml")
     standards = {name: load_code_set(name) for name in available_code_sets()}
-    plan_day(plant, topology, findings, dt.date(2026, 12, 2), ruleset, standards, weights,
+    plan_day(topology, findings, dt.date(2026, 12, 2), ruleset, standards, weights,
              40.0)  # warm caches (graph views, table loads) as a second run would have them
     started = time.perf_counter()
-    result = plan_day(plant, topology, findings, dt.date(2026, 12, 2), ruleset, standards,
+    result = plan_day(topology, findings, dt.date(2026, 12, 2), ruleset, standards,
                       weights, 40.0)
     elapsed = time.perf_counter() - started
     peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024

@@ -34,7 +34,7 @@ def weights():
 
 def day_plan(topology: Topology, findings, ruleset, standards, weights,
              crew_hours: float = 200.0) -> DayPlan:
-    return plan_day(topology.plant, topology, findings, DAY, ruleset, standards, weights,
+    return plan_day(topology, findings, DAY, ruleset, standards, weights,
                     crew_hours)
 
 
@@ -270,3 +270,47 @@ def test_a_search_step_says_the_ground_moves_with_a_load_transferred_onto_the_sa
     for load in ("DP-1", "FP-1"):
         assert (f"if the ground is in {load} itself it moves with the transfer, since its "
                 "alternate supply is on this system: the indication will not clear") in clears
+
+
+MERGED = """\
+date: 2026-12-01
+findings:
+  - {kind: lamps, at: 2026-12-01T06:50, by: T. Marrow, where: GD-MSB,
+     lamps: {A: bright, B: dim, C: normal}}
+  - {kind: phase_voltages, at: 2026-12-01T07:05, by: T. Marrow, where: GD-ESB,
+     volts: {A: 348 V, B: 236 V, C: 209 V}, intermittent: true}
+  - {kind: defect, at: 2026-12-01T13:20, by: T. Marrow, where: DK-SO, severity: high,
+     text: deck socket outlet cover cracked}
+  - {kind: defect, at: 2026-12-01T14:05, by: S. Quayle, where: DK-SO, severity: urgent,
+     text: water standing inside the enclosure}
+  - {kind: breaker_tripped, at: 2026-12-01T11:00, by: S. Quayle, where: CB-CR1,
+     indication: overcurrent}
+  - {kind: breaker_tripped, at: 2026-12-01T15:30, by: S. Quayle, where: CB-CR1,
+     indication: earth fault}
+  - {kind: transformer_unit, at: 2026-12-01T10:15, by: S. Quayle, where: T1, unit: AB,
+     state: overheating}
+  - {kind: transformer_unit, at: 2026-12-01T10:20, by: S. Quayle, where: T1, unit: BC,
+     state: noisy}
+"""
+
+
+def test_every_finding_of_a_merged_job_reaches_its_package(demo_vessel, ruleset, standards,
+                                                           weights) -> None:
+    """Review of issue 11: two findings that make one job (a rule's one_per) kept only the
+    first finding's context, so the second defect's text appeared nowhere in the package,
+    and a graver second finding did not raise the priority."""
+    findings = load_findings_text(MERGED, "findings.yaml", demo_vessel)
+    plan = day_plan(demo_vessel, findings, ruleset, standards, weights)
+    texts = {p.origin.rule: "\n".join([p.title, *(s.text for s in p.steps)])
+             for p in plan.packages}
+    defect = package(plan, "water-ingress-defect", "DK-SO")
+    assert defect.origin.findings == ("F3", "F4")
+    assert ("Reported: deck socket outlet cover cracked; water standing inside the "
+            "enclosure.") in texts["water-ingress-defect"]
+    assert defect.priority_reason.startswith("urgent: ")
+    assert "(overcurrent) (earth fault)" in texts["tripped-breaker"]
+    assert "unit AB overheating, BC noisy" in texts["unit-running-hot"]
+    # The search answers a lamp check and an intermittent (arcing) ground: urgent, so
+    # priority 1 by the rule ("1 if diagnosis.severity == 'urgent'"), whichever came first.
+    search = package(plan, "locate-ground")
+    assert search.origin.findings == ("F1", "F2") and search.priority == 1

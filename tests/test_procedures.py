@@ -67,7 +67,7 @@ def days(standards) -> list[tuple[int, bool, Topology, DayPlan]]:
             problems, topology = run_checks(plant)
             assert not problems and topology is not None, problems
             findings = Findings.model_validate(findings_data)
-            day = plan_day(plant, topology, findings, DAY, ruleset, standards, weights, 1e4)
+            day = plan_day(topology, findings, DAY, ruleset, standards, weights, 1e4)
             out.append((seed, ground, topology, day))
     return out
 

@@ -8,7 +8,7 @@ from imports import forbidden_in
 PACKAGE = Path(__file__).resolve().parent.parent / "workpack"
 CORE = ["topology.py", "isolation.py", "checks.py", "summary.py", "model", "diagnose.py",
         "search_core.py", "search.py", "search_wording.py", "rules.py", "calculations.py",
-        "plan.py", "forms.py", "restoration.py",
+        "plan", "forms.py", "restoration.py",
         "evaluate.py", "history.py", "audit.py", "store/_chain.py"]
 FORBIDDEN = {"os", "pathlib", "io", "shutil", "sqlite3", "yaml", "reportlab", "subprocess",
              "socket", "tempfile", "workpack.loading", "workpack.cli", "workpack.yamlsource"}
