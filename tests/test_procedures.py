@@ -589,3 +589,23 @@ def _pdf_bytes(data: bytes):
     import io
 
     return io.BytesIO(data)
+
+
+def test_every_blank_of_a_package_is_made_by_one_method(days) -> None:
+    """Issue 11.6: the close-out record fills the package's blanks by overriding the one
+    method that makes them, so that method must make every form field of the PDF (the
+    final tests' included) and nothing else."""
+    from pypdf import PdfReader
+
+    from workpack.render.pdf import Blank, Cell, PackagePdf
+
+    made: list[str] = []
+
+    class Recording(PackagePdf):
+        def blank(self, blank: Blank) -> Cell:
+            made.append(blank.name)
+            return super().blank(blank)
+
+    work, _ = _search_with_final(days)
+    fields = PdfReader(_pdf_bytes(Recording(work).render())).get_fields() or {}
+    assert made and sorted(made) == sorted(fields)
