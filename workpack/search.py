@@ -19,6 +19,7 @@ from __future__ import annotations
 import datetime as dt
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, replace
+from typing import NamedTuple
 
 from workpack.diagnose import downstream_loads, insulation_tests
 from workpack.electrical import dc_test_voltage, line_to_neutral, minimum_insulation_resistance
@@ -181,24 +182,56 @@ def search_place(topology: Topology, place: str) -> str | None:
 
 def system_of(topology: Topology, place: str) -> str:
     """Id of the normal-state system holding a detector, bus or element."""
-    return _board(topology, place)[0].id
+    return _board(topology, place).island.id
 
 
-def _board(topology: Topology, place: str) -> tuple[Island, str]:
+class _Start(NamedTuple):
+    """Where a search starts: the system, and the board within it."""
+
+    island: Island
+    board: str
+
+
+def _board(topology: Topology, place: str) -> _Start:
     """The system and the board where the search starts, from a detector, bus or item."""
     for island in topology.normal_islands:
         for bus_id in island.buses:
             bus = topology.elements[bus_id]
             if isinstance(bus, Bus) and bus.detector and bus.detector.id == place:
-                return island, bus_id
+                return _Start(island, bus_id)
     if place in topology.elements:
         island = topology.island_of(topology.node_in(place))
         element = topology.elements[place]
-        return island, place if isinstance(element, Bus) else (island.buses or (place,))[0]
+        return _Start(island, place if isinstance(element, Bus)
+                      else (island.buses or (place,))[0])
     for island in topology.normal_islands:
         if island.id == place:
-            return island, island.buses[0]
+            return _Start(island, island.buses[0])
     raise KeyError(place)
+
+
+class Likelihood(NamedTuple):
+    """An element's likelihood weight and the factors that shaped it, each with its
+    basis."""
+
+    weight: float
+    reasons: tuple[str, ...]
+
+
+class VitalLoads(NamedTuple):
+    """What opening a device takes out: every load, and the vital ones split by whether
+    they can be moved to an alternate supply first."""
+
+    dead: list[Load]
+    with_alternate: list[Load]
+    without: list[Load]
+
+
+class _Auxiliary(NamedTuple):
+    """A heater or control circuit inside ``load``: its place in the load's list."""
+
+    load: Load
+    position: int
 
 
 class _TreeBuilder:
@@ -218,30 +251,31 @@ class _TreeBuilder:
         self.leaves: set[str] = set()
         self.notes: list[str] = []
         self.children_of: dict[str, list[str]] = {}
-        self._weight_cache: dict[str, tuple[float, tuple[str, ...]]] = {}
+        self._weight_cache: dict[str, Likelihood] = {}
         # feeding device → (load, index of its auxiliary) for heaters and control supplies
-        self.auxiliaries_fed: dict[str, list[tuple[Load, int]]] = {}
+        self.auxiliaries_fed: dict[str, list[_Auxiliary]] = {}
         for load in topology.plant.loads:
             for index, auxiliary in enumerate(load.auxiliaries):
-                self.auxiliaries_fed.setdefault(auxiliary.from_, []).append((load, index))
+                self.auxiliaries_fed.setdefault(auxiliary.from_, []).append(
+                    _Auxiliary(load, index))
         # summed in a fixed order: a set's order changes from run to run, and so would
         # the last bits of every prior
-        self.total = sum(self.weight(e)[0] for e in sorted(self.members))
+        self.total = sum(self.weight(e).weight for e in sorted(self.members))
 
     # --- likelihood ---------------------------------------------------------------------
 
-    def weight(self, element_id: str) -> tuple[float, tuple[str, ...]]:
+    def weight(self, element_id: str) -> Likelihood:
         """Likelihood weight of one element and the factors that shaped it."""
         if element_id in self._weight_cache:
             return self._weight_cache[element_id]
         element = self.topology.elements[element_id]
-        result: tuple[float, tuple[str, ...]] = (0.0, ())
+        result = Likelihood(0.0, ())
         if isinstance(element, Load | Cable | Bus | Transformer):
             result = self._element_weight(element)
         self._weight_cache[element_id] = result
         return result
 
-    def _element_weight(self, element: Element) -> tuple[float, tuple[str, ...]]:
+    def _element_weight(self, element: Element) -> Likelihood:
         likelihood = self.weights.likelihood
         value = 1.0
         reasons: list[str] = []
@@ -275,7 +309,7 @@ class _TreeBuilder:
             history = likelihood.history.per_past_ground.factor ** grounds
             value *= history
             reasons.append(f"{element.id} grounded {grounds}× before ×{history:g}")
-        return value, tuple(reasons)
+        return Likelihood(value, tuple(reasons))
 
     # --- tree -------------------------------------------------------------------------------
 
@@ -305,10 +339,9 @@ class _TreeBuilder:
         return result
 
     def _would_drop_two_vital(self, device_id: str) -> bool:
-        _, _, without = self._vital_split(device_id)
-        return len(without) >= 2
+        return len(self._vital_split(device_id).without) >= 2
 
-    def _vital_split(self, device_id: str) -> tuple[list[Load], list[Load], list[Load]]:
+    def _vital_split(self, device_id: str) -> VitalLoads:
         """Dead loads, vital ones with an alternate, vital ones without."""
         dead = downstream_loads(self.topology, device_id)
         below = set(self.topology.below(device_id))
@@ -320,7 +353,7 @@ class _TreeBuilder:
                 with_alternate.append(load)
             else:
                 without.append(load)
-        return dead, with_alternate, without
+        return VitalLoads(dead, with_alternate, without)
 
     def _alternate_outside(self, load: Load, below: set[str]) -> str | None:
         """A transfer switch feeding ``load`` whose alternate is not under the opened device."""
@@ -339,8 +372,8 @@ class _TreeBuilder:
         interrupt = sum(getattr(cost.interrupt, load.vitality.value).minutes
                         for load in dead if load not in with_alternate)
         below = self.downstream(device_id)
-        weight = self.weight(device_id)[0] + sum(self.weight(e)[0] for e in below)
-        reasons = tuple(r for e in [device_id, *below] for r in self.weight(e)[1])
+        weight = self.weight(device_id).weight + sum(self.weight(e).weight for e in below)
+        reasons = tuple(r for e in [device_id, *below] for r in self.weight(e).reasons)
         children = self.first_feeders(device_id)
         self.children_of[device_id] = children
         if not children:

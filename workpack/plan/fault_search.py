@@ -6,7 +6,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, NamedTuple
 
 from workpack.model.package import FinalTest, Limit, Reading, Step
 from workpack.model.plant import LoadKind, Transformer
@@ -82,6 +82,14 @@ def search_section(inputs: DayInputs, job: Job, cautions: CautionWriter,
     return SearchSection(tuple(steps), finals, switches)
 
 
+class _OnElement(NamedTuple):
+    """A final test's step and the element it is made on (what its cautions see as the
+    item)."""
+
+    draft: DraftStep
+    element: str
+
+
 def _testable(topology: Topology, final: FinalTests) -> list[SectionTest]:
     """Sections an insulation test may be applied to: not electronics."""
     return [s for s in final.sections
@@ -111,22 +119,23 @@ def _final_test(inputs: DayInputs, cautions: CautionWriter, context: Mapping[str
     vital = vital_loads_of(topology, points, [s.element for s in final.sections])
     testable = _testable(topology, final)
     skipped = sorted({s.element for s in final.sections if s not in testable})
-    drafts: list[tuple[DraftStep, str]] = []  # each with the element it is made on
+    drafts: list[_OnElement] = []
     if skipped:
         disconnect, reconnect = disconnect_electronics(skipped)
-        drafts.append((DraftStep(Step(number=0, check_only=True, text=disconnect,
-                                      reconnect=reconnect)), final.feeder))
-    drafts += [(DraftStep(Step(number=0, text=section_test(section),
-                               readings=(_section_reading(section),)),
-                          ("disconnect-electronics", "insulation-test-board", "stored-charge")),
-                section.element) for section in testable]
+        drafts.append(_OnElement(DraftStep(Step(number=0, check_only=True, text=disconnect,
+                                                reconnect=reconnect)), final.feeder))
+    drafts += [_OnElement(DraftStep(Step(number=0, text=section_test(section),
+                                         readings=(_section_reading(section),)),
+                                    ("disconnect-electronics", "insulation-test-board",
+                                     "stored-charge")), section.element)
+               for section in testable]
     transformer = any(isinstance(topology.elements[s.element], Transformer)
                       for s in final.sections if not s.circuit)
-    facts = package_facts(points, proving, [d.step for d, _ in drafts], transformer, False)
+    facts = package_facts(points, proving, [d.draft.step for d in drafts], transformer, False)
     built = [Step(number=0, text=take_out_of_service(circuit, vital),
                   kind="take_out_of_service", check_only=True, before_isolation=True)]
-    built += [cautions.on_step(draft, with_item(context, topology, topology.elements[element]),
-                               facts) for draft, element in drafts]
+    built += [cautions.on_step(d.draft, with_item(context, topology, topology.elements[d.element]),
+                               facts) for d in drafts]
     steps = number_steps(built, f"{final_id}.S")
     check = Step(number=0, check_only=True, kind="check", text=indication_back(final.feeder))
     restoration = number_steps(restoration_steps(Restoring(

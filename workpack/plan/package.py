@@ -10,6 +10,7 @@ rule's context is only handed to the rule's own texts. Pure.
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
+from dataclasses import replace
 from typing import Any
 
 from workpack.calculations import CALCULATIONS, CalcContext, CalcError
@@ -79,7 +80,7 @@ def build_package(inputs: DayInputs, job: Job) -> WorkPackage:
         search = search_section(inputs, job, cautions, len(steps) + 1)
         steps += search.steps
         final_tests, switches = search.final_tests, search.switches
-    checks = [(d.stage, cautions.on_step(d, context, facts)) for d in after]
+    checks = [replace(d, step=cautions.on_step(d, context, facts)) for d in after]
     restoration = number_steps(_restoration(
         inputs, job.item, points if isolation is not None else None, vital, steps, checks),
         "X")
@@ -166,7 +167,7 @@ def _draft(inputs: DayInputs, rule: CompiledRule, step: CompiledStep,
 
 def _restoration(inputs: DayInputs, item_id: str, points: Sequence[IsolationPoint] | None,
                  vital: Sequence[str], steps: Sequence[Step],
-                 checks: Sequence[tuple[str, Step]]) -> list[Step]:
+                 checks: Sequence[DraftStep]) -> list[Step]:
     """The package's restoration: written from its isolation (see ``restoration``), the
     rule's checks placed by their stage; without an isolation, what the steps
     disconnected is reconnected, then the rule's steps in their order."""
@@ -174,12 +175,12 @@ def _restoration(inputs: DayInputs, item_id: str, points: Sequence[IsolationPoin
     if points is None:
         return [*(Step(number=0, text=text, kind="reconnect", undoes=number,
                        check_only=True) for number, text in reversed(reconnects)),
-                *(step for _, step in checks)]
+                *(check.step for check in checks)]
     topology = inputs.topology
     label = topology.elements[item_id].label
     by_stage: dict[str, list[Step]] = {}
-    for stage, step in checks:
-        by_stage.setdefault(stage, []).append(step)
+    for check in checks:
+        by_stage.setdefault(check.stage, []).append(check.step)
     normal = normal_devices(topology, [item_id])
     return restoration_steps(Restoring(
         item_label=label, points=points, normal_devices=normal,
