@@ -108,15 +108,26 @@ class PackageNumbering:
 
 @dataclass(frozen=True)
 class StepWords:
-    """One search step in words. ``transfer``, ``permission`` and ``dead`` are empty
-    where the step needs none."""
+    """One search step in words, in parts a layout can put in paragraphs or in the
+    columns of a table. ``transfer``, ``permission`` and ``dead`` are empty where the step
+    needs none."""
 
     transfer: str  # what to move to its alternate supply first
     permission: str  # whose permission is needed first
     open: str  # what to open, and to watch the detector
     dead: str  # what goes dead for the minute
-    if_clears: str
-    if_stays: str
+    cleared: str  # what the detectors show once the ground is no longer connected
+    unchanged: str  # and while it still is
+    on_clear: str  # where to go when it clears (and why it may not, after a transfer)
+    on_stay: str  # where to go when it stays
+
+    @property
+    def if_clears(self) -> str:
+        return f"If it clears ({self.cleared}): {self.on_clear}."
+
+    @property
+    def if_stays(self) -> str:
+        return f"If it stays {self.unchanged}: {self.on_stay}."
 
 
 def step_words(search: FaultSearch, step: SearchStep, numbering: Numbering) -> StepWords:
@@ -137,10 +148,9 @@ def step_words(search: FaultSearch, step: SearchStep, numbering: Numbering) -> S
                     "has no alternate supply." if step.permission_for else ""),
         open=f"Open {opened}; {WATCH}.",
         dead=f"Goes dead for about a minute: {shown}{more}." if step.dead_loads else "",
-        if_clears=(f"If it clears ({search.cleared}): "
-                   f"{_outcome(step.level, step.on_clear, searched, numbering)}{moves}."),
-        if_stays=(f"If it stays {unchanged_indication(search.as_found_v)}: "
-                  f"{_outcome(step.level, step.on_stay, searched, numbering)}."),
+        cleared=search.cleared, unchanged=unchanged_indication(search.as_found_v),
+        on_clear=_outcome(step.level, step.on_clear, searched, numbering) + moves,
+        on_stay=_outcome(step.level, step.on_stay, searched, numbering),
     )
 
 
