@@ -21,6 +21,7 @@ from workpack.history import History
 from workpack.model.findings import Finding, Findings
 from workpack.model.plant import Element, Plant, Routine, RoutineTest
 from workpack.plan.context import (
+    ELEMENT_KINDS,
     evaluate,
     evaluate_text,
     finding_rule_context,
@@ -143,9 +144,9 @@ def match_jobs(topology: Topology, findings: Findings, diagnosis: DayDiagnosis,
     for offer in offers:
         context = offer.context(topology, offer.element,
                                 system_at(topology, offer.element, states), day)
+        kind = ELEMENT_KINDS[type(topology.elements[offer.element])]
         for rule in ruleset.rules:
-            if not offer.wants(rule) or (rule.items and context["item"]["element"]
-                                         not in rule.items):
+            if not offer.wants(rule) or (rule.items and kind not in rule.items):
                 continue
             if not evaluate(rule, rule.when, context):
                 continue
