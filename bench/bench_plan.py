@@ -53,7 +53,7 @@ def plan_once(plant, findings_text: str):  # type: ignore[no-untyped-def]
     weights = load_weights(RULES / "search-weights.yaml")
     standards = {name: load_code_set(name) for name in available_code_sets()}
     findings = load_findings_text(findings_text, "findings.yaml", topology)
-    result = plan_day(plant, topology, findings, DAY, ruleset, standards, weights, 40.0)
+    result = plan_day(topology, findings, DAY, ruleset, standards, weights, 40.0)
     return result, topology, findings
 
 

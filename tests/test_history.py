@@ -81,7 +81,7 @@ def test_past_grounds_move_a_circuit_up_the_search_in_the_package(
     weights = load_weights(ROOT / "rules" / "search-weights.yaml")
 
     def first_search_step(history) -> str:
-        plan = plan_day(demo_vessel.plant, demo_vessel, findings, DAY, ruleset, standards,
+        plan = plan_day(demo_vessel, findings, DAY, ruleset, standards,
                         weights, 100.0, history=history)
         search = next(p for p in plan.packages if p.origin.rule == "locate-ground")
         return next(s.text for s in search.steps if s.text.startswith("Search on MSB"))

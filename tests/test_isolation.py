@@ -12,8 +12,9 @@ from hypothesis import strategies as st
 from plantgen import random_plant
 
 from workpack.checks import run_checks
-from workpack.isolation import IsolationPlan, plan_isolation
+from workpack.isolation import HazardKind, IsolationPlan, plan_isolation
 from workpack.loading import load_plant_text
+from workpack.model.package import SignalWord
 from workpack.model.plant import Bus, Cable, Device, DeviceKind, Load, Source, Transformer
 from workpack.topology import POWER, Topology, element_of
 
@@ -282,7 +283,8 @@ def test_undeclared_start_block_is_still_a_step_with_a_warning() -> None:
     assert [p.device for p in plan.points] == ["EG:start", "CB-EG", "CB-BF", "CB-ESB"]
     assert "maker's instructions" in (plan.points[0].how or "")
     [warning] = [h for h in plan.hazards if "EG (emergency_generator)" in h.text]
-    assert warning.severity == "WARNING"
+    assert warning.signal_word is SignalWord.warning
+    assert warning.kind is HazardKind.starts_by_itself
     assert "names no start block" in warning.text and "in step 1" in warning.text
 
 
@@ -361,7 +363,7 @@ def test_load_side_of_an_open_transition_changeover_still_gets_both_inputs() -> 
     itself) is locked first, and the changeover's missing transfer block is a warning."""
     plan = plan_isolation(changeover(", transition: open"), "NAV")
     assert plan.devices == ("CB-U1", "CB-NAV")
-    assert any(h.severity == "WARNING" and "TS changes over by itself" in h.text
+    assert any(h.kind is HazardKind.changes_over_by_itself and "TS changes over by itself" in h.text
                and "before step 2" in h.text for h in plan.hazards)
 
 
@@ -483,7 +485,8 @@ loads:
     plan = plan_isolation(topology, "M1")
     assert plan.devices == ()
     assert not plan.complete
-    assert [h.severity for h in plan.hazards if "no lockable device" in h.text] == ["DANGER"]
+    [gap] = [h for h in plan.hazards if h.kind is HazardKind.no_lock]
+    assert gap.signal_word is SignalWord.danger and "no lockable device" in gap.text
     assert set(plan.also_open) == {"F-G1", "F-M"}
 
 
@@ -560,7 +563,8 @@ def test_a_self_starting_generator_as_the_item_is_stopped_and_blocked(
     """Its breaker first (off load), then its start block; the DANGER names the step."""
     plan = plan_isolation(demo_vessel, "EDG")
     assert [p.device for p in plan.points] == ["CB-EDG", "EDG-START"]
-    assert any(h.severity == "DANGER" and "its start is blocked in step 2" in h.text
+    assert any(h.signal_word is SignalWord.danger and h.kind is HazardKind.source_itself
+               and "its start is blocked in step 2" in h.text
                for h in plan.hazards)
 
 

@@ -7,8 +7,8 @@ from imports import forbidden_in
 
 PACKAGE = Path(__file__).resolve().parent.parent / "workpack"
 CORE = ["topology.py", "isolation.py", "checks.py", "summary.py", "model", "diagnose.py",
-        "search_core.py", "search.py", "rules.py", "calculations.py", "plan.py", "forms.py",
-        "restoration.py",
+        "search_core.py", "search.py", "search_wording.py", "rules.py", "calculations.py",
+        "plan", "forms.py", "restoration.py",
         "evaluate.py", "records.py", "history.py", "audit", "store/_chain.py", "crew.py",
         "signing.py"]
 FORBIDDEN = {"os", "pathlib", "io", "shutil", "sqlite3", "yaml", "reportlab", "subprocess",

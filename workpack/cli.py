@@ -229,7 +229,7 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     weights = load_weights(rules / "search-weights.yaml")
     history = _history(args, plant)
     progress = _Progress("planning") if sys.stderr.isatty() else None
-    result = plan_day(plant, topology, findings, day, ruleset, _standards(), weights,
+    result = plan_day(topology, findings, day, ruleset, _standards(), weights,
                       args.crew_hours, history=history, progress=progress)
     files: dict[str, bytes] = {}
     rendering = _Progress("rendering") if sys.stderr.isatty() else None

@@ -23,8 +23,10 @@ from __future__ import annotations
 
 from collections import deque
 from dataclasses import dataclass, replace
+from enum import StrEnum
 from functools import cached_property
 
+from workpack.model.package import SignalWord
 from workpack.model.plant import (
     Bus,
     Cable,
@@ -80,9 +82,21 @@ class VerifyPoint:
     wires: int = 3
 
 
+class HazardKind(StrEnum):
+    """What an isolation cannot do by locks alone, and so must print beside them."""
+
+    no_lock = "no_lock"  # a path to a source with no lockable device on it
+    source_outside = "source_outside"  # the item is a source fed from outside the plant
+    source_itself = "source_itself"  # the item is a source: stop it and block its start
+    starts_by_itself = "starts_by_itself"  # a generator that starts on a blackout
+    stays_live = "stays_live"  # a battery or UPS: its own terminals are never dead
+    changes_over_by_itself = "changes_over_by_itself"  # no transfer block named
+
+
 @dataclass(frozen=True)
 class Hazard:
-    severity: str  # DANGER / WARNING / CAUTION
+    signal_word: SignalWord
+    kind: HazardKind
     text: str
 
 
@@ -103,7 +117,7 @@ class IsolationPlan:
     @property
     def complete(self) -> bool:
         """True when every path from every source is cut by a locked device."""
-        return not any(h.severity == "DANGER" for h in self.hazards)
+        return not any(h.signal_word is SignalWord.danger for h in self.hazards)
 
 
 START_BLOCK, TRANSFER_BLOCK = "start_block", "transfer_block"
@@ -204,16 +218,19 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
     hazards.extend(_unblocked_changeovers(topology, region, chosen, normal_path, step_of))
     if isinstance(item, Source):
         if item.kind in (SourceKind.shore_connection, SourceKind.utility):
-            hazards.append(Hazard("DANGER", f"{item_id} is itself a source fed from outside: "
-                                            "have it isolated and locked at its far end (ashore "
-                                            "or by the utility) before work"))
+            hazards.append(Hazard(SignalWord.danger, HazardKind.source_outside,
+                                  f"{item_id} is itself a source fed from outside: have it "
+                                  "isolated and locked at its far end (ashore or by the "
+                                  "utility) before work"))
         elif (own := next((p.order for p in points if p.blocks == item_id), None)):
-            hazards.append(Hazard("DANGER", f"{item_id} is itself a source: it must be stopped, "
-                                            f"and its start is blocked in step {own}; do not "
-                                            "rely on its breakers alone"))
+            hazards.append(Hazard(SignalWord.danger, HazardKind.source_itself,
+                                  f"{item_id} is itself a source: it must be stopped, and its "
+                                  f"start is blocked in step {own}; do not rely on its "
+                                  "breakers alone"))
         else:
-            hazards.append(Hazard("DANGER", f"{item_id} is itself a source: block its start "
-                                            "and lock it out at its own controls as well"))
+            hazards.append(Hazard(SignalWord.danger, HazardKind.source_itself,
+                                  f"{item_id} is itself a source: block its start and lock "
+                                  "it out at its own controls as well"))
     dead = region - {n for n in region if isinstance(topology.elements[element_of(n)], Source)}
     return IsolationPlan(
         item=item_id,
@@ -817,10 +834,11 @@ def _self_starting(topology: Topology, item_id: str, chosen: list[str],
             own = step_of.get(f"{source_id}:start")
             if own is not None:
                 hazards.append(Hazard(
-                    "WARNING", f"{source_id} ({kind}) starts by itself on loss of supply and "
-                               f"the inventory names no start block for it: in step {own} "
-                               "block its start at its own controls as its maker's "
-                               "instructions say, before anything is switched off"))
+                    SignalWord.warning, HazardKind.starts_by_itself,
+                    f"{source_id} ({kind}) starts by itself on loss of supply and the "
+                    f"inventory names no start block for it: in step {own} block its start "
+                    "at its own controls as its maker's instructions say, before anything "
+                    "is switched off"))
             elif source.start_block is None or source.start_block.id not in step_of:
                 opened = set(chosen)
                 dark = sorted(board for board in _boards_of(topology, source_id)
@@ -828,13 +846,14 @@ def _self_starting(topology: Topology, item_id: str, chosen: list[str],
                               and not topology.stays_live(board, opened))
                 if dark:
                     hazards.append(Hazard(
-                        "WARNING", f"{source_id} ({kind}) starts by itself when "
-                                   f"{', '.join(dark)} goes dead in this isolation: "
-                                   f"{locks} it off {item_id}"))
+                        SignalWord.warning, HazardKind.starts_by_itself,
+                        f"{source_id} ({kind}) starts by itself when {', '.join(dark)} "
+                        f"goes dead in this isolation: {locks} it off {item_id}"))
         if source.kind in (SourceKind.battery, SourceKind.ups):
             hazards.append(Hazard(
-                "WARNING", f"{source_id} ({kind}) stays live with every breaker open: its own "
-                           f"terminals are never dead; {locks} it off {item_id}"))
+                SignalWord.warning, HazardKind.stays_live,
+                f"{source_id} ({kind}) stays live with every breaker open: its own "
+                f"terminals are never dead; {locks} it off {item_id}"))
     return hazards
 
 
@@ -870,9 +889,10 @@ def _unblocked_changeovers(topology: Topology, region: set[str], chosen: list[st
         first_normal = min((step_of[d] for d in chosen if d in normal_path), default=None)
         before = f" before step {first_normal}" if first_normal else ""
         hazards.append(Hazard(
-            "WARNING", f"{switch.id} changes over by itself and the inventory names no "
-                       f"transfer block for it: set it to manual (no automatic transfer) at "
-                       f"its own controls as its maker's instructions say{before}"))
+            SignalWord.warning, HazardKind.changes_over_by_itself,
+            f"{switch.id} changes over by itself and the inventory names no transfer block "
+            f"for it: set it to manual (no automatic transfer) at its own controls as its "
+            f"maker's instructions say{before}"))
     return hazards
 
 
@@ -957,6 +977,7 @@ def _no_lock_hazard(topology: Topology, item_id: str, source: str,
     element = topology.elements[source]
     assert isinstance(element, Source)
     route = " → ".join((*via, source))
-    return Hazard("DANGER", f"no lockable device between {item_id} and source {source} "
-                            f"({element.kind.value}) on the path {route}: this path cannot be "
-                            "locked out here; isolate at the source or do not start the work")
+    return Hazard(SignalWord.danger, HazardKind.no_lock,
+                  f"no lockable device between {item_id} and source {source} "
+                  f"({element.kind.value}) on the path {route}: this path cannot be locked "
+                  "out here; isolate at the source or do not start the work")

@@ -36,19 +36,19 @@ from workpack.audit.wording import (
     temperature_shown,
     texts,
 )
+from workpack.numbers import format_quantity
 from workpack.records import OUTCOME_WORDS
 from workpack.render.closeout import SHAPES, Mark
 from workpack.render.pdf import (
-    _GRID,
-    _HEAD_ROW,
     FONT,
     FONT_BOLD,
+    GRID,
+    HEAD_ROW,
     MIN_TEXT_PT,
     KeepTogether,
     PageSize,
     PdfDocument,
     Table,
-    format_quantity,
     words,
 )
 from workpack.render.trend_chart import TrendChart, trend_chart
@@ -147,7 +147,7 @@ class AuditPdf(PdfDocument):
         body = [[self.para(c) if isinstance(c, str) else c for c in row] for row in rows]
         table = Table([[self.para(h, "head") for h in head], *body],
                       colWidths=self.cols(*widths_mm), repeatRows=1, repeat_when_cut=(0,))
-        style: list[tuple[Any, ...]] = [*_GRID, *_HEAD_ROW]
+        style: list[tuple[Any, ...]] = [*GRID, *HEAD_ROW]
         for i in flagged:
             style += [("LINEABOVE", (0, i + 1), (-1, i + 1), 2.2, colors.black),
                       ("LINEBELOW", (0, i + 1), (-1, i + 1), 2.2, colors.black)]
@@ -189,7 +189,7 @@ class AuditPdf(PdfDocument):
         tally = Table([[self.mark(s, STATUS_WORDS[s]) for s in counts],
                        [self.para(str(n), "bold") for n in counts.values()]],
                       colWidths=self.cols(*[1] * len(counts)))
-        tally.setStyle(TableStyle([*_GRID, *_HEAD_ROW]))
+        tally.setStyle(TableStyle([*GRID, *HEAD_ROW]))
         out: list[Flowable] = [self.section(self.texts["section_status"]), tally,
                                Spacer(1, 1.5 * mm), self.para(self.texts["status_rules"],
                                                               "small"), Spacer(1, 2 * mm)]
