@@ -6,7 +6,7 @@ import zlib
 from pathlib import Path
 
 from pypdf import PdfReader, PdfWriter
-from pypdf.generic import DictionaryObject, NameObject, NumberObject, TextStringObject
+from pypdf.generic import NameObject, TextStringObject
 
 
 def renamed_field(package_pdf: Path, out: Path, old: str, new: str, value: str = "x") -> Path:
@@ -29,22 +29,18 @@ def password_protected(package_pdf: Path, out: Path) -> Path:
     return out
 
 
-def aes_encrypted(package_pdf: Path, out: Path) -> Path:
-    """A PDF whose /Encrypt entry names AES (AESV2): reading it needs a cryptography
-    library. Built with RC4 keys (valid for revision 4 too) and then relabelled, so no
-    AES library is needed to make it."""
+def public_key_encrypted(package_pdf: Path, out: Path) -> Path:
+    """A PDF whose /Encrypt entry names the public-key security handler (/Adobe.PubSec,
+    ISO 32000-1 section 7.6.4): only the standard (password) handler can be opened, with or
+    without a cryptography library installed. (An AES-labelled file made with RC4 keys no
+    longer serves: with the cryptography library present, the reader decrypts it, to
+    nonsense.)"""
     writer = PdfWriter(clone_from=PdfReader(package_pdf))
     writer.encrypt(user_password="", owner_password="owner", algorithm="RC4-128")
     entry = writer._encrypt_entry
     assert entry is not None
-    entry[NameObject("/V")] = NumberObject(4)
-    entry[NameObject("/R")] = NumberObject(4)
-    entry[NameObject("/CF")] = DictionaryObject({NameObject("/StdCF"): DictionaryObject({
-        NameObject("/CFM"): NameObject("/AESV2"), NameObject("/Length"): NumberObject(16),
-        NameObject("/AuthEvent"): NameObject("/DocOpen")})})
-    entry[NameObject("/StmF")] = NameObject("/StdCF")
-    entry[NameObject("/StrF")] = NameObject("/StdCF")
-    writer._encryption = None  # objects in clear; the /Encrypt entry still says AES
+    entry[NameObject("/Filter")] = NameObject("/Adobe.PubSec")
+    writer._encryption = None  # objects in clear; the /Encrypt entry names the handler
     writer.write(out)
     return out
 

@@ -23,9 +23,11 @@ from samplepackage import PAIRS, sample_package
 
 from workpack.audit import AuditReport, build_audit
 from workpack.electrical import TrendStatus
-from workpack.evaluate import Evaluation, evaluate, record_payload
+from workpack.evaluate import evaluate
+from workpack.model.evaluation import Evaluation
 from workpack.model.package import Limit, Step, WorkPackage
 from workpack.model.results import LockRecord, MeasuredValue, Results, StepDone
+from workpack.records import record_payload
 from workpack.render.audit_html import render_audit_html
 from workpack.render.audit_pdf import render_audit_pdf
 from workpack.render.pdf import MIN_TEXT_PT
@@ -193,7 +195,7 @@ def test_a_superseded_record_is_listed_but_not_counted(report: AuditReport) -> N
     assert [(r.sequence, r.superseded_by) for r in p2.records] == [(2, 4), (4, None)]
     assert p2.latest.sequence == 4 and p2.status == "completed"
     assert [r.sequence for r in report.superseded] == [2]
-    assert {r.reading_id: r.entered for r in p2.readings}["S2.R1"] == "60 MΩ"
+    assert {r.id: r.entered for r in p2.readings}["S2.R1"] == "60 MΩ"
     assert not p2.failing
     wl1 = report.trends[0]
     assert {p.record_sequence for p in wl1.points if p.package_id == P2.id} == {4}
@@ -209,7 +211,7 @@ def test_the_html_marks_the_superseded_record(html: str) -> None:
 def test_readings_are_shown_exactly_as_entered(report: AuditReport, html: str,
                                                pdf: bytes) -> None:
     """Bare numbers get the unit printed beside their box; text keeps its own unit."""
-    p3 = {r.reading_id: r for r in by_id(report)[P3.id].readings}
+    p3 = {r.id: r for r in by_id(report)[P3.id].readings}
     assert [p3[f"S2.R{i}"].entered for i in (1, 2, 3)] == ["12", "40", "30"]
     assert [p3[f"X1.R{i}"].entered for i in (1, 2, 3)] == ["253", "254 V", "252.5"]
     assert p3["S2.R1"].entered_temperature == "25"
@@ -222,7 +224,7 @@ def test_readings_are_shown_exactly_as_entered(report: AuditReport, html: str,
 
 def test_corrected_values_come_from_the_record(report: AuditReport) -> None:
     """The value held against the limit is the IEEE 43 correction of the entry."""
-    p3 = {r.reading_id: r for r in by_id(report)[P3.id].readings}
+    p3 = {r.id: r for r in by_id(report)[P3.id].readings}
     assert p3["S2.R1"].compared_si == pytest.approx(ir40(12, 25))
     assert p3["S2.R1"].corrected_to_c == 40.0
     assert p3["X1.R1"].corrected_to_c is None  # no correction asked for a voltage
@@ -231,7 +233,7 @@ def test_corrected_values_come_from_the_record(report: AuditReport) -> None:
 def test_a_failing_reading_is_flagged_with_the_limit_it_broke(report: AuditReport, html: str,
                                                               pdf: bytes) -> None:
     failing = by_id(report)[P3.id].failing
-    assert [r.reading_id for r in failing] == ["S2.R1"]
+    assert [r.id for r in failing] == ["S2.R1"]
     assert failing[0].broke == "minimum"
     assert failing[0].broken_limit_si == 5e6
     assert "IEEE Std 43 (2013), 12.3" in failing[0].basis
@@ -474,9 +476,12 @@ def test_steps_without_readings_make_no_trend(tmp_path: Path, standards: dict) -
     assert "No insulation-resistance readings" in render_audit_html(report)
 
 
-def test_the_audit_core_reads_no_files() -> None:
-    """workpack/audit.py imports no file, database or PDF module and opens nothing."""
-    tree = ast.parse((ROOT / "workpack" / "audit.py").read_text(encoding="utf-8"))
+@pytest.mark.parametrize("module", sorted((ROOT / "workpack" / "audit").glob("*.py")),
+                         ids=lambda path: path.name)
+def test_the_audit_core_reads_no_files(module: Path) -> None:
+    """No module of workpack/audit imports a file, database, PDF or template module, and
+    none opens anything."""
+    tree = ast.parse(module.read_text(encoding="utf-8"))
     imported = {alias.name for node in ast.walk(tree) if isinstance(node, ast.Import)
                 for alias in node.names}
     imported |= {node.module for node in ast.walk(tree)
@@ -485,3 +490,17 @@ def test_the_audit_core_reads_no_files() -> None:
     assert not {name for name in imported if name.split(".")[0] in forbidden}
     assert not any(isinstance(node, ast.Call) and getattr(node.func, "id", None) == "open"
                    for node in ast.walk(tree))
+
+
+def test_importing_the_audit_and_the_record_format_loads_no_database_pdf_or_template() -> None:
+    """What is really loaded, not what the import lines say: ``workpack.store`` loads its
+    backends (sqlite3) only when one is used."""
+    import subprocess
+    import sys
+
+    code = ("import sys, workpack.audit, workpack.audit.wording, workpack.records, "
+            "workpack.history; print(sorted(m for m in ('sqlite3', 'psycopg', 'reportlab', "
+            "'pypdf', 'jinja2') if m in sys.modules))")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                          check=True)
+    assert done.stdout.strip() == "[]"

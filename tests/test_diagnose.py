@@ -16,9 +16,16 @@ from workpack.diagnose import (
     insulation_tests,
     island_burden,
 )
-from workpack.electrical import GroundStatus, MeterTolerance, diagnose_ground, single_ground
+from workpack.electrical import (
+    GroundHazard,
+    GroundStatus,
+    MeterTolerance,
+    diagnose_ground,
+    single_ground,
+)
 from workpack.loading import load_findings, load_findings_text
 from workpack.model.findings import Severity
+from workpack.model.package import SignalWord
 from workpack.summary import island_capacitance
 from workpack.topology import Topology
 
@@ -65,7 +72,8 @@ def test_demo_day_finds_the_resistive_ground_on_b_not_the_lowest_phase_c(
     assert low <= made_with <= high
     assert voltages.detail.burden_ohm == pytest.approx(200e3)
     assert voltages.severity is Severity.high
-    assert any(word == "DANGER" and "second ground" in text for word, text in voltages.cautions)
+    [second] = [n for n in voltages.cautions if n.kind is GroundHazard.second_ground]
+    assert second.signal_word is SignalWord.danger and "second ground" in second.text
 
 
 def test_bolted_grounds_on_two_phases_of_one_system_are_urgent(

@@ -127,7 +127,7 @@ def _plan(topology: Topology, findings_path, standards: dict):
 
     findings = (load_findings(findings_path, topology) if findings_path is not None
                 else Findings(date=dt.date(2026, 12, 1)))
-    return plan_day(topology.plant, topology, findings, dt.date(2026, 12, 2),
+    return plan_day(topology, findings, dt.date(2026, 12, 2),
                     load_ruleset(ROOT / "rules"), standards,
                     load_weights(ROOT / "rules" / "search-weights.yaml"), 200.0)
 

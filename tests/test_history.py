@@ -9,7 +9,10 @@ from conftest import ROOT
 
 from workpack.history import history_from_records
 from workpack.loading import load_findings, load_ruleset, load_weights
+from workpack.model.evaluation import Evaluation, ReadingVerdict
+from workpack.model.results import Results
 from workpack.plan import due_routines, plan_day
+from workpack.records import record_payload
 from workpack.store import open_store
 
 DAY = dt.date(2026, 12, 2)
@@ -17,13 +20,19 @@ HASH = "0" * 64
 
 
 def ir_payload(element: str, ohms: float, day: str, *, found: str | None = None) -> dict:
-    reading = {"id": "S1.R1", "what": f"{element} phase A to earth", "unit": "MΩ",
-               "measured_si": ohms, "temperature_c": 40.0, "compared_si": ohms,
-               "corrected_to_c": 40.0, "low": 5e6, "high": None, "basis": "IEEE Std 43",
-               "outcome": "pass", "note": "", "element": element, "judged": True,
-               "code_set": "ieee43-2013"}
-    return {"results": {"completed_on": day, "ground_found_at": found},
-            "evaluation": {"readings": [reading]}}
+    """A record's payload, written as ``record`` writes it, holding one insulation reading
+    of ``element`` (already at 40 °C) taken on ``day``, and the ground found, if any."""
+    reading = ReadingVerdict(
+        id="S1.R1", what=f"{element} phase A to earth", unit="MΩ", measured_si=ohms,
+        temperature_c=40.0, compared_si=ohms, corrected_to_c=40.0, low=5e6, high=None,
+        basis="IEEE Std 43", outcome="pass", element=element, code_set="ieee43-2013")
+    taken = dt.date.fromisoformat(day)
+    evaluation = Evaluation(
+        package_id="WP-test", plant="MV Skerry Lantern", item=element, date=taken,
+        verdict="passed", readings=(reading,), deviations=(), locks_not_removed=(),
+        completed_by="x", supervisor="y", ground_found_at=found, followups=())
+    return record_payload(Results(package="WP-test", completed_on=taken,
+                                  ground_found_at=found), evaluation)
 
 
 def store_with(tmp_path, payloads: list[tuple[str, dict, int | None]]):
@@ -72,7 +81,7 @@ def test_past_grounds_move_a_circuit_up_the_search_in_the_package(
     weights = load_weights(ROOT / "rules" / "search-weights.yaml")
 
     def first_search_step(history) -> str:
-        plan = plan_day(demo_vessel.plant, demo_vessel, findings, DAY, ruleset, standards,
+        plan = plan_day(demo_vessel, findings, DAY, ruleset, standards,
                         weights, 100.0, history=history)
         search = next(p for p in plan.packages if p.origin.rule == "locate-ground")
         return next(s.text for s in search.steps if s.text.startswith("Search on MSB"))

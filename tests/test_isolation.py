@@ -12,8 +12,9 @@ from hypothesis import strategies as st
 from plantgen import random_plant
 
 from workpack.checks import run_checks
-from workpack.isolation import IsolationPlan, plan_isolation
+from workpack.isolation import HazardKind, IsolationPlan, plan_isolation
 from workpack.loading import load_plant_text
+from workpack.model.package import SignalWord
 from workpack.model.plant import Bus, Cable, Device, DeviceKind, Load, Source, Transformer
 from workpack.topology import POWER, Topology, element_of
 
@@ -282,7 +283,8 @@ def test_undeclared_start_block_is_still_a_step_with_a_warning() -> None:
     assert [p.device for p in plan.points] == ["EG:start", "CB-EG", "CB-BF", "CB-ESB"]
     assert "maker's instructions" in (plan.points[0].how or "")
     [warning] = [h for h in plan.hazards if "EG (emergency_generator)" in h.text]
-    assert warning.severity == "WARNING"
+    assert warning.signal_word is SignalWord.warning
+    assert warning.kind is HazardKind.starts_by_itself
     assert "names no start block" in warning.text and "in step 1" in warning.text
 
 
@@ -361,7 +363,7 @@ def test_load_side_of_an_open_transition_changeover_still_gets_both_inputs() -> 
     itself) is locked first, and the changeover's missing transfer block is a warning."""
     plan = plan_isolation(changeover(", transition: open"), "NAV")
     assert plan.devices == ("CB-U1", "CB-NAV")
-    assert any(h.severity == "WARNING" and "TS changes over by itself" in h.text
+    assert any(h.kind is HazardKind.changes_over_by_itself and "TS changes over by itself" in h.text
                and "before step 2" in h.text for h in plan.hazards)
 
 
@@ -483,7 +485,8 @@ loads:
     plan = plan_isolation(topology, "M1")
     assert plan.devices == ()
     assert not plan.complete
-    assert [h.severity for h in plan.hazards if "no lockable device" in h.text] == ["DANGER"]
+    [gap] = [h for h in plan.hazards if h.kind is HazardKind.no_lock]
+    assert gap.signal_word is SignalWord.danger and "no lockable device" in gap.text
     assert set(plan.also_open) == {"F-G1", "F-M"}
 
 
@@ -560,7 +563,8 @@ def test_a_self_starting_generator_as_the_item_is_stopped_and_blocked(
     """Its breaker first (off load), then its start block; the DANGER names the step."""
     plan = plan_isolation(demo_vessel, "EDG")
     assert [p.device for p in plan.points] == ["CB-EDG", "EDG-START"]
-    assert any(h.severity == "DANGER" and "its start is blocked in step 2" in h.text
+    assert any(h.signal_word is SignalWord.danger and h.kind is HazardKind.source_itself
+               and "its start is blocked in step 2" in h.text
                for h in plan.hazards)
 
 
@@ -611,3 +615,62 @@ def test_one_isolation_of_two_places_still_blocks_first_for_each(
     assert {p.device for p in merged.points} == {p.device for plan in plans for p in plan.points}
     for own in plans:
         check_blocked_first(topology, as_seen_from(merged, own))
+
+
+# --- the one search for every device's far side ------------------------------------------------
+
+
+def test_one_search_answers_as_each_device_walk_would() -> None:
+    """``_far_sides`` (one search for all devices at once) finds, for each device, the
+    sources its own walk finds (``_far_side``), for any start states and blocked nodes,
+    passed changeovers included. Where it declines (``None``) the planner walks that
+    device alone."""
+    import random
+
+    from workpack.isolation import _far_side, _far_sides
+
+    answered = 0
+    for seed in range(60):
+        rng = random.Random(seed)
+        topology = Topology(random_plant(seed, size=60))
+        nodes = sorted(topology.closable_adjacency)
+        changeovers = sorted(topology.one_input_at_a_time)
+        devices = [n for n in nodes if isinstance(topology.elements[element_of(n)], Device)]
+        starts = {}
+        for device in rng.sample(devices, min(len(devices), rng.randint(1, 12))):
+            starts[device] = (device, rng.choice([None, None, *changeovers[:3]]))
+        blocked = set(starts) | set(rng.sample(nodes, len(nodes) // rng.randint(4, 12)))
+        blocked |= {p for _, p in starts.values() if p is not None}
+        for device, sources in _far_sides(topology, starts, blocked).items():
+            if sources is not None:
+                answered += 1
+                alone = _far_side(topology, starts[device], blocked - {device})
+                assert sources == alone.sources, (seed, device)
+    assert answered > 300
+
+
+@pytest.mark.parametrize("seed", range(30))
+def test_one_search_stands_in_for_every_walk_of_a_plan(seed: int) -> None:
+    """For every item of a plant, the devices the planner's walk stops at: the one search
+    answers for each of them (it never has to hand one back) as its own walk would."""
+    from workpack.isolation import _far_side, _far_sides, _walk_from_item
+
+    topology = Topology(random_plant(seed, size=120))
+    for item_id in sorted(topology.elements):
+        near = _walk_from_item(topology, item_id)
+        blocked = near.blocked
+        for device, sources in _far_sides(topology, near.frontier, blocked).items():
+            alone = _far_side(topology, near.frontier[device], blocked - {device})
+            assert sources == alone.sources, (item_id, device)
+
+
+@pytest.mark.parametrize("seed", range(15))
+def test_locked_devices_are_the_plans_devices(seed: int) -> None:
+    """``locked_devices`` (the devices alone, for callers that ask many times) names
+    exactly the devices the full plan locks, for every item of a plant."""
+    from workpack.isolation import locked_devices
+
+    topology = Topology(random_plant(seed, size=90))
+    for item_id in sorted(topology.elements):
+        assert locked_devices(topology, item_id) == set(
+            plan_isolation(topology, item_id).devices), item_id

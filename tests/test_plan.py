@@ -8,7 +8,13 @@ import math
 import pytest
 from conftest import ROOT
 
-from workpack.loading import load_findings, load_findings_text, load_ruleset, load_weights
+from workpack.loading import (
+    load_findings,
+    load_findings_text,
+    load_plant_text,
+    load_ruleset,
+    load_weights,
+)
 from workpack.model.package import SignalWord, WorkPackage
 from workpack.plan import DayPlan, plan_day
 from workpack.topology import Topology
@@ -28,7 +34,7 @@ def weights():
 
 def day_plan(topology: Topology, findings, ruleset, standards, weights,
              crew_hours: float = 200.0) -> DayPlan:
-    return plan_day(topology.plant, topology, findings, DAY, ruleset, standards, weights,
+    return plan_day(topology, findings, DAY, ruleset, standards, weights,
                     crew_hours)
 
 
@@ -242,3 +248,69 @@ def test_printed_bounds_are_the_judged_bounds(demo: DayPlan) -> None:
                 assert bound is not None and float(f"{bound:.3g}") == bound
             assert limit.low >= reading.expected - reading.tolerance - 1e-9
             assert limit.high <= reading.expected + reading.tolerance + 1e-9
+
+
+def test_a_search_step_says_the_ground_moves_with_a_load_transferred_onto_the_same_system(
+        ruleset, standards, weights) -> None:
+    """Issue 11.3: the package words its search steps with the same sentences as
+    ``locate``, so it carries the caveat too: a vital load moved to an alternate supply
+    on the same system takes its own ground along, and the indication stays."""
+    text = (ROOT / "plants" / "demo-site.yaml").read_text(encoding="utf-8").replace(
+        "{id: CB-GSB-VSB, kind: circuit_breaker, from: GSB,",
+        "{id: CB-GSB-VSB, kind: circuit_breaker, from: MSB,")
+    _, topology = load_plant_text(text, "site-one-system.yaml")
+    findings = load_findings_text(
+        "date: 2026-12-01\nfindings:\n  - {kind: insulation_monitor, at: 2026-12-01T09:00, "
+        "by: A. Tester, where: IMD-MSB, reading: 12 kΩ}\n", "findings.yaml", topology)
+    search = package(day_plan(topology, findings, ruleset, standards, weights),
+                     "monitor-alarm")
+    [step] = [s for s in search.steps if s.kind == "search" and "Open CB-VSB" in s.text]
+    assert "First transfer DP-1, FP-1 to the alternate supply." in step.text
+    clears = next(line for line in step.text.splitlines() if line.startswith("If it clears"))
+    for load in ("DP-1", "FP-1"):
+        assert (f"if the ground is in {load} itself it moves with the transfer, since its "
+                "alternate supply is on this system: the indication will not clear") in clears
+
+
+MERGED = """\
+date: 2026-12-01
+findings:
+  - {kind: lamps, at: 2026-12-01T06:50, by: T. Marrow, where: GD-MSB,
+     lamps: {A: bright, B: dim, C: normal}}
+  - {kind: phase_voltages, at: 2026-12-01T07:05, by: T. Marrow, where: GD-ESB,
+     volts: {A: 348 V, B: 236 V, C: 209 V}, intermittent: true}
+  - {kind: defect, at: 2026-12-01T13:20, by: T. Marrow, where: DK-SO, severity: high,
+     text: deck socket outlet cover cracked}
+  - {kind: defect, at: 2026-12-01T14:05, by: S. Quayle, where: DK-SO, severity: urgent,
+     text: water standing inside the enclosure}
+  - {kind: breaker_tripped, at: 2026-12-01T11:00, by: S. Quayle, where: CB-CR1,
+     indication: overcurrent}
+  - {kind: breaker_tripped, at: 2026-12-01T15:30, by: S. Quayle, where: CB-CR1,
+     indication: earth fault}
+  - {kind: transformer_unit, at: 2026-12-01T10:15, by: S. Quayle, where: T1, unit: AB,
+     state: overheating}
+  - {kind: transformer_unit, at: 2026-12-01T10:20, by: S. Quayle, where: T1, unit: BC,
+     state: noisy}
+"""
+
+
+def test_every_finding_of_a_merged_job_reaches_its_package(demo_vessel, ruleset, standards,
+                                                           weights) -> None:
+    """Review of issue 11: two findings that make one job (a rule's one_per) kept only the
+    first finding's context, so the second defect's text appeared nowhere in the package,
+    and a graver second finding did not raise the priority."""
+    findings = load_findings_text(MERGED, "findings.yaml", demo_vessel)
+    plan = day_plan(demo_vessel, findings, ruleset, standards, weights)
+    texts = {p.origin.rule: "\n".join([p.title, *(s.text for s in p.steps)])
+             for p in plan.packages}
+    defect = package(plan, "water-ingress-defect", "DK-SO")
+    assert defect.origin.findings == ("F3", "F4")
+    assert ("Reported: deck socket outlet cover cracked; water standing inside the "
+            "enclosure.") in texts["water-ingress-defect"]
+    assert defect.priority_reason.startswith("urgent: ")
+    assert "(overcurrent) (earth fault)" in texts["tripped-breaker"]
+    assert "unit AB overheating, BC noisy" in texts["unit-running-hot"]
+    # The search answers a lamp check and an intermittent (arcing) ground: urgent, so
+    # priority 1 by the rule ("1 if diagnosis.severity == 'urgent'"), whichever came first.
+    search = package(plan, "locate-ground")
+    assert search.origin.findings == ("F1", "F2") and search.priority == 1

@@ -67,7 +67,7 @@ def days(standards) -> list[tuple[int, bool, Topology, DayPlan]]:
             problems, topology = run_checks(plant)
             assert not problems and topology is not None, problems
             findings = Findings.model_validate(findings_data)
-            day = plan_day(plant, topology, findings, DAY, ruleset, standards, weights, 1e4)
+            day = plan_day(topology, findings, DAY, ruleset, standards, weights, 1e4)
             out.append((seed, ground, topology, day))
     return out
 
@@ -589,3 +589,23 @@ def _pdf_bytes(data: bytes):
     import io
 
     return io.BytesIO(data)
+
+
+def test_every_blank_of_a_package_is_made_by_one_method(days) -> None:
+    """Issue 11.6: the close-out record fills the package's blanks by overriding the one
+    method that makes them, so that method must make every form field of the PDF (the
+    final tests' included) and nothing else."""
+    from pypdf import PdfReader
+
+    from workpack.render.pdf import Blank, Cell, PackagePdf
+
+    made: list[str] = []
+
+    class Recording(PackagePdf):
+        def blank(self, blank: Blank) -> Cell:
+            made.append(blank.name)
+            return super().blank(blank)
+
+    work, _ = _search_with_final(days)
+    fields = PdfReader(_pdf_bytes(Recording(work).render())).get_fields() or {}
+    assert made and sorted(made) == sorted(fields)

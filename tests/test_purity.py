@@ -20,9 +20,10 @@ ROOT = Path(__file__).resolve().parent.parent
 CORE = [
     "workpack.topology", "workpack.isolation", "workpack.checks", "workpack.summary",
     "workpack.model", "workpack.diagnose", "workpack.search_core", "workpack.search",
-    "workpack.rules", "workpack.calculations", "workpack.plan", "workpack.forms",
-    "workpack.restoration", "workpack.evaluate", "workpack.history", "workpack.audit",
-    "workpack.store._chain",
+    "workpack.search_wording", "workpack.rules", "workpack.calculations", "workpack.plan",
+    "workpack.forms", "workpack.restoration", "workpack.evaluate", "workpack.records",
+    "workpack.history", "workpack.audit", "workpack.store._chain", "workpack.crew",
+    "workpack.signing",
 ]
 FORBIDDEN = {"os", "pathlib", "io", "shutil", "sqlite3", "yaml", "reportlab", "subprocess",
              "socket", "tempfile", "workpack.loading", "workpack.cli", "workpack.yamlsource"}

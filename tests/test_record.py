@@ -11,6 +11,7 @@ from conftest import ROOT
 from pypdf import PdfReader, PdfWriter
 
 from workpack.cli import main
+from workpack.records import read_payload
 from workpack.render.pdf import field_name
 from workpack.store import open_store
 
@@ -82,11 +83,12 @@ def test_yaml_round_trip_records_a_passed_job(packages, tmp_path, capsys) -> Non
     with open_store(db, create=False) as store:
         record = store.get(1)
         assert record.verdict == "passed"
-        readings = {r["id"]: r for r in record.results["evaluation"]["readings"]}
+        payload = read_payload(record)
+        readings = {r.id: r for r in payload.evaluation.readings}
         # IEEE 43 halving rule: 40 MΩ at 30 °C is 20 MΩ at 40 °C.
         dry = numbers(package)["dry"]
-        assert readings[f"{dry}.R1"]["compared_si"] == pytest.approx(20e6)
-        assert record.results["results"]["readings"][f"{dry}.R1"]["value"] == "40 MΩ"
+        assert readings[f"{dry}.R1"].compared_si == pytest.approx(20e6)
+        assert payload.results.readings[f"{dry}.R1"].value == "40 MΩ"
     assert main(["verify", "--db", str(db)]) == 0
 
 
@@ -159,9 +161,10 @@ def test_filled_pdf_gives_the_same_record_as_the_yaml_sheet(packages, tmp_path) 
         writer.write(handle)
     assert main(["record", str(package), str(filled), "--db", str(pdf_db), "--at", AT]) == 0
     with open_store(yaml_db, create=False) as a, open_store(pdf_db, create=False) as b:
-        from_yaml, from_pdf = a.get(1).results["evaluation"], b.get(1).results["evaluation"]
-    assert from_pdf["verdict"] == from_yaml["verdict"] == "passed"
-    assert from_pdf["readings"] == from_yaml["readings"]
+        from_yaml, from_pdf = (read_payload(a.get(1)).evaluation,
+                               read_payload(b.get(1)).evaluation)
+    assert from_pdf.verdict == from_yaml.verdict == "passed"
+    assert from_pdf.readings == from_yaml.readings
 
 
 @pytest.mark.parametrize(("change", "expected"), [

@@ -48,7 +48,7 @@ def refused(package: Path, results: Path, tmp_path: Path, capsys) -> str:
 
 
 @pytest.mark.parametrize(("build", "fragment"), [
-    (hostile_pdfs.aes_encrypted, "the PDF is encrypted in a way workpack cannot open"),
+    (hostile_pdfs.public_key_encrypted, "the PDF is encrypted in a way workpack cannot open"),
     (hostile_pdfs.password_protected, "the PDF is password-protected"),
 ])
 def test_an_encrypted_pdf_is_refused_clearly(packages, tmp_path, capsys, build,

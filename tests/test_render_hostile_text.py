@@ -18,8 +18,9 @@ from test_audit import filled, ir_package, noon
 from test_render_long_text import text_past_the_edge
 
 from workpack.audit import build_audit
-from workpack.evaluate import evaluate, record_payload
+from workpack.evaluate import evaluate
 from workpack.model.package import Caution, SignalWord, WorkPackage
+from workpack.records import record_payload
 from workpack.render.audit_html import render_audit_html
 from workpack.render.audit_pdf import render_audit_pdf
 from workpack.render.closeout import render_closeout

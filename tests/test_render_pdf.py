@@ -28,12 +28,11 @@ from workpack.model.package import (
     Step,
     WorkPackage,
 )
+from workpack.numbers import format_number, format_quantity
 from workpack.render.daysheet import render_day_sheet
 from workpack.render.pdf import (
     MIN_TEXT_PT,
     field_name,
-    format_number,
-    format_quantity,
     render_package,
     split_field_name,
 )

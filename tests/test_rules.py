@@ -152,3 +152,31 @@ def test_a_caution_that_speaks_of_an_isolation_must_need_one(tmp_path: Path) -> 
     assert "caution transformer-backfeed: its text says 'isolation', which is true only " \
            "where the package is isolated: add 'isolated' to its needs" in message
     assert "add 'proves_dead' to its needs" in message
+
+
+@pytest.mark.parametrize("source", [
+    "{{ findings | join('; ', attribute='text') }}",
+    "{% for one in findings %}{{ one.text }}{% if not loop.last %}, {% endif %}{% endfor %}",
+    "{{ findings | length }}",
+])
+def test_every_finding_of_a_job_may_be_named(source: str) -> None:
+    """A job can answer several findings (two defects on one item): ``findings`` lists
+    them all, and the lint knows what each of them has."""
+    assert lint_source(source, "template", SCHEMA) == []
+
+
+@pytest.mark.parametrize(("source", "message"), [
+    ("{{ findings.text }}", "'findings' is a list: loop over it"),
+    ("{{ findings | join('; ', attribute='txt') }}",
+     "unknown attribute 'findings[].txt' (did you mean 'text'"),
+    ("{% for one in findings %}{{ one.unti }}{% endfor %}",
+     "unknown attribute 'one.unti' (did you mean 'unit'"),
+])
+def test_a_misused_list_of_findings_is_named_at_load_time(source: str, message: str) -> None:
+    problems = lint_source(source, "template", SCHEMA)
+    assert len(problems) == 1 and problems[0].startswith(message), problems
+
+
+def test_a_routine_rule_has_no_findings_to_name() -> None:
+    problems = lint_source("{{ findings | length }}", "template", context_schema(False, True))
+    assert problems and problems[0].startswith("unknown name 'findings'")

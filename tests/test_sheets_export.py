@@ -21,11 +21,12 @@ from openpyxl import load_workbook
 from samplepackage import PAIRS, sample_package
 
 from workpack.cli import main
-from workpack.evaluate import evaluate, record_payload
+from workpack.evaluate import evaluate
 from workpack.exports import TABLE_KINDS, ExportInputs, build_tables
 from workpack.loading import load_plant
 from workpack.model.package import Limit, WorkPackage
 from workpack.model.results import LockRecord, MeasuredValue, Results, StepDone
+from workpack.records import record_payload
 from workpack.store import open_store, package_sha256
 
 SITE = ROOT / "plants" / "demo-site.yaml"

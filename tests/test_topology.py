@@ -72,3 +72,72 @@ def test_standby_generator_board_is_not_kept_live(demo_site: Topology) -> None:
     """GSB is fed only by DG1, which stands by until the utility fails."""
     assert "MSB" in demo_site.kept_live and "GSB" not in demo_site.kept_live
     assert "VSB" not in demo_site.kept_live_without(["CB-VSB"])
+
+
+def test_joinable_by_is_the_definition_written_out() -> None:
+    """``summary.joinable_by`` (one pass over the devices) names, for every island, the
+    normally open devices in it or next to it that touch another island: checked here
+    against that definition asked island by island, on random plants."""
+    from plantgen import random_plant
+
+    from workpack.summary import joinable_by
+
+    for seed in range(25):
+        topology = Topology(random_plant(seed, size=120))
+        found = joinable_by(topology)
+        for island in topology.normal_islands:
+            members = set(island.nodes)
+            expected = sorted(
+                device for device in topology.normally_open
+                if any(topology.island_of(n).id != island.id
+                       for n in topology.graph.neighbors(device))
+                and (device in members or members & set(topology.graph.neighbors(device))))
+            assert found.get(island.id, []) == expected, (seed, island.id)
+        assert any(found.values())
+
+
+def test_stays_live_asks_what_kept_live_without_answers() -> None:
+    """``stays_live`` (a walk from the node to the nearest source that runs by itself) and
+    ``kept_live_without`` (a walk from every such source) agree on every node, with
+    random sets of devices open, on random plants."""
+    import random
+
+    from plantgen import random_plant
+
+    for seed in range(20):
+        rng = random.Random(seed)
+        topology = Topology(random_plant(seed, size=90))
+        devices = sorted(d.id for d in topology.plant.devices)
+        for _ in range(5):
+            opened = set(rng.sample(devices, rng.randint(0, len(devices) // 3)))
+            live = topology.kept_live_without(opened)
+            for node in topology.graph:
+                assert topology.stays_live(node, opened) == (node in live), (seed, node)
+
+
+def test_closable_parts_are_the_components_between_sources_and_changeovers() -> None:
+    """``closable_parts``: the closable power graph less its sources and open-transition
+    changeovers falls into connected components (networkx's own); each part is one, and
+    names the sources and changeovers next to it."""
+    import networkx as nx
+    from plantgen import random_plant
+
+    from workpack.topology import POWER
+
+    cut_at_changeovers = 0
+    for seed in range(25):
+        topology = Topology(random_plant(seed, size=120))
+        view = topology.closable_view(POWER)
+        cut = topology.source_nodes | set(topology.one_input_at_a_time)
+        parts = topology.closable_parts
+        components = list(nx.connected_components(view.subgraph(set(view) - cut)))
+        assert len(components) == len(parts.sources)
+        for component in components:
+            [part] = {parts.part_of[node] for node in component}
+            next_to = {n for node in component for n in view.neighbors(node)} - component
+            assert set(parts.sources[part]) == next_to & topology.source_nodes
+            assert {c for _, c in parts.changeovers[part]} == next_to - topology.source_nodes
+            assert parts.source_bits[part] == sum(parts.source_bit[s]
+                                                  for s in parts.sources[part])
+        cut_at_changeovers += any(parts.changeovers)
+    assert cut_at_changeovers >= 5

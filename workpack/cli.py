@@ -16,8 +16,6 @@ from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any, NamedTuple, TypeVar
 
-from pydantic import BaseModel
-
 from workpack.errors import UsageError, WorkpackError, did_you_mean
 from workpack.shipped import asset_map, rules_folder
 
@@ -285,7 +283,7 @@ def _cmd_plan(args: argparse.Namespace) -> int:
         with reading(out):
             replaces(out)
     progress = _Progress("planning") if sys.stderr.isatty() else None
-    result = plan_day(plant, topology, findings, day, ruleset, _standards(), weights,
+    result = plan_day(topology, findings, day, ruleset, _standards(), weights,
                       args.crew_hours, history=history, progress=progress)
     files: dict[str, bytes] = {}
     rendering = _Progress("rendering") if sys.stderr.isatty() else None
@@ -411,9 +409,10 @@ def _store_plant(args: argparse.Namespace) -> str | None:
 
 
 def _cmd_record(args: argparse.Namespace) -> int:
-    from workpack.evaluate import evaluate, record_payload
+    from workpack.evaluate import evaluate
     from workpack.loading import load_results
     from workpack.output import write_all
+    from workpack.records import record_payload
     from workpack.render.text import evaluation_text
     from workpack.store import open_store
 
@@ -442,7 +441,7 @@ def _cmd_record(args: argparse.Namespace) -> int:
         import yaml
 
         text = yaml.safe_dump({"date": package.date.isoformat(),
-                               "findings": list(evaluation.followups)},
+                               "findings": [f.model_dump() for f in evaluation.followups]},
                               sort_keys=False, allow_unicode=True)
         out = Path(args.followups)
         write_all(out.parent, {out.name: text.encode()})
@@ -520,8 +519,8 @@ def _cmd_audit(args: argparse.Namespace) -> int:
 
 
 def _cmd_closeout(args: argparse.Namespace) -> int:
-    from workpack.audit import evaluation_from_payload
     from workpack.output import write_all
+    from workpack.records import PayloadError, read_payload
     from workpack.render.closeout import render_closeout
     from workpack.store import open_store
 
@@ -538,12 +537,13 @@ def _cmd_closeout(args: argparse.Namespace) -> int:
         raise UsageError(f"{args.package}: this package differs from the one record "
                          f"{record.sequence} answers (hash); use the package as issued")
     try:
-        evaluation = evaluation_from_payload(record.results)
-    except (ValueError, TypeError, KeyError) as error:
+        payload = read_payload(record)
+    except PayloadError as error:
         raise UsageError(f"record {record.sequence} of {package.id} in {_default_db(args)}: "
                          f"{error}; it cannot be closed out (record the results again with "
                          f"--supersedes {record.sequence})") from None
-    pdf = render_closeout(package, evaluation, record, page_size=args.page_size)
+    pdf = render_closeout(package, payload.evaluation, record, results=payload.results,
+                          page_size=args.page_size)
     out = Path(args.out)
     write_all(out.parent, {out.name: pdf})
     sys.stdout.write(f"record {record.sequence} of {package.id} ({record.verdict}) "
@@ -552,17 +552,22 @@ def _cmd_closeout(args: argparse.Namespace) -> int:
 
 
 def _cmd_schema(args: argparse.Namespace) -> int:
-    from workpack.model.assetmap import AssetMap
-    from workpack.model.findings import Findings
-    from workpack.model.plant import Plant
-    from workpack.model.results import Results
+    from workpack.model.schemas import INPUT_FILES, file_name, schema_text
+    from workpack.output import write_all
 
-    models: dict[str, type[BaseModel]] = {"plant": Plant, "findings": Findings,
-                                          "results": Results, "asset-map": AssetMap}
-    model = models[args.what]
-    schema = model.model_json_schema(by_alias=True)
-    schema["title"] = f"workpack {args.what} file"
-    sys.stdout.write(json.dumps(schema, indent=2, sort_keys=True, ensure_ascii=False) + "\n")
+    if args.all == (args.what is not None):
+        raise UsageError("schema: name one file (" + ", ".join(INPUT_FILES) + ") or give "
+                         "--all")
+    if args.out is None:
+        if args.all:
+            raise UsageError("schema --all writes one file per schema: give --out DIR")
+        sys.stdout.write(schema_text(args.what))
+        return 0
+    names = list(INPUT_FILES) if args.all else [args.what]
+    out = Path(args.out)
+    write_all(out, {file_name(name): schema_text(name).encode("utf-8") for name in names})
+    for name in names:
+        sys.stdout.write(f"{out / file_name(name)}\n")
     return 0
 
 
@@ -676,6 +681,111 @@ def _store_options(parser: argparse.ArgumentParser) -> None:
                                         "(PLANT.records.sqlite) is used; with a postgresql:// "
                                         "--db, the plant (its name, or its file) whose chain "
                                         "to use")
+
+
+# --- the crew register and signing keys: `workpack crew`, `workpack key` ---------------------
+
+
+def _now() -> Any:
+    import datetime as dt
+
+    return dt.datetime.now().astimezone()  # aware, in the machine's zone: its local day
+
+
+def _cmd_crew_check(args: argparse.Namespace) -> int:
+    from workpack.crew import summarize_register
+    from workpack.crew_shell import load_crew, parse_time
+    from workpack.render.crew_text import crew_summary
+
+    register, _ = load_crew(Path(args.register))
+    at = parse_time("--at", args.at, _now)
+    people = summarize_register(register, at)
+    sys.stdout.write(_to_json({"crew": register.crew.model_dump(mode="json"), "at": at,
+                               "people": people}) if args.json
+                     else crew_summary(register, people, at))
+    return 0
+
+
+def _passphrase() -> bytes:
+    from workpack.crew_shell import read_passphrase
+
+    return read_passphrase(confirm=True)
+
+
+def _cmd_key_create(args: argparse.Namespace) -> int:
+    from workpack.crew_shell import create_key, parse_time
+
+    at = parse_time("--from", args.valid_from, _now)
+    sys.stdout.write(create_key(Path(args.register), args.person, Path(args.out),
+                                key_id=args.key_id, at=at, passphrase=_passphrase))
+    return 0
+
+
+def _cmd_key_rotate(args: argparse.Namespace) -> int:
+    from workpack.crew_shell import parse_time, rotate_key
+
+    at = parse_time("--at", args.at, _now)
+    sys.stdout.write(rotate_key(Path(args.register), args.person, Path(args.out),
+                                key_id=args.key_id, at=at, reason=args.reason,
+                                passphrase=_passphrase))
+    return 0
+
+
+def _cmd_key_revoke(args: argparse.Namespace) -> int:
+    from workpack.crew_shell import parse_time, revoke_key
+
+    at = parse_time("--at", args.at, _now)
+    sys.stdout.write(revoke_key(Path(args.register), args.key, at=at, reason=args.reason))
+    return 0
+
+
+def _add_crew_commands(commands: Any) -> None:
+    """`workpack crew check` and `workpack key create|rotate|revoke`."""
+    crew = commands.add_parser("crew", help="the crew register: who may do, supervise and "
+                                            "sign the work")
+    crew_actions = crew.add_subparsers(dest="crew_action", required=True, metavar="ACTION")
+    check = crew_actions.add_parser("check", help="validate a crew register and summarise it")
+    check.add_argument("register", metavar="CREW.yaml", help="crew register (YAML)")
+    check.add_argument("--at", metavar="TIME", help="summarise as of this time, with its "
+                                                    "zone (default: now)")
+    check.add_argument("--json", action="store_true", help="print JSON")
+    check.set_defaults(run=_cmd_crew_check)
+
+    key = commands.add_parser(
+        "key", help="signing keys: create, rotate, revoke (prints the register lines to add)",
+        description="Signing keys of the crew. The private key goes to a file protected by "
+                    "a passphrase (from WORKPACK_KEY_PASSPHRASE, or asked on the terminal; "
+                    "never an option). The register is edited by hand: these commands print "
+                    "the lines to add and where.")
+    key_actions = key.add_subparsers(dest="key_action", required=True, metavar="ACTION")
+    create = key_actions.add_parser("create", help="a new key pair for a person")
+    rotate = key_actions.add_parser("rotate", help="a new key pair for a person; their keys "
+                                                   "in use are revoked from the same time")
+    for action in (create, rotate):
+        action.add_argument("--register", required=True, metavar="CREW.yaml",
+                            help="crew register (YAML)")
+        action.add_argument("--person", required=True, metavar="ID", help="the person's id")
+        action.add_argument("--out", required=True, metavar="KEYFILE",
+                            help="private key file to write (never over an existing file)")
+        action.add_argument("--key-id", metavar="ID",
+                            help="the new key's id (default: PERSON-K<n>)")
+    create.add_argument("--from", dest="valid_from", metavar="TIME",
+                        help="valid from this time, with its zone (default: now)")
+    create.set_defaults(run=_cmd_key_create)
+    rotate.add_argument("--at", metavar="TIME", help="time of the change, with its zone "
+                                                     "(default: now)")
+    rotate.add_argument("--reason", help="why the old keys are revoked (default: replaced "
+                                         "by the new key)")
+    rotate.set_defaults(run=_cmd_key_rotate)
+    revoke = key_actions.add_parser("revoke", help="revoke a key from a time; signatures "
+                                                   "made before stay valid")
+    revoke.add_argument("--register", required=True, metavar="CREW.yaml",
+                        help="crew register (YAML)")
+    revoke.add_argument("--key", required=True, metavar="KEYID", help="the key's id")
+    revoke.add_argument("--at", metavar="TIME", help="revoked from this time, with its zone "
+                                                     "(default: now)")
+    revoke.add_argument("--reason", required=True, help="why, e.g. 'key file lost'")
+    revoke.set_defaults(run=_cmd_key_revoke)
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -883,10 +993,23 @@ def build_parser() -> argparse.ArgumentParser:
                              "or a folder (a CSV file per table)")
     export.set_defaults(run=_cmd_export)
 
-    schema = commands.add_parser("schema", help="print the JSON Schema of an input file")
-    schema.add_argument("what", choices=["plant", "findings", "results", "asset-map"],
-                        help="which file")
+    from workpack.model.schemas import INPUT_FILES
+
+    schema = commands.add_parser(
+        "schema", help="the JSON Schema of an input file, for editors and validators",
+        description="Print the JSON Schema of one kind of input file, or write them all. "
+                    "The same schemas ship in workpack/data/schemas/; the demo YAML files "
+                    "point editors at them on their first line.")
+    schema.add_argument("what", nargs="?", choices=list(INPUT_FILES),
+                        help="which file: " + "; ".join(f"{name}: {what}" for name, (_, what)
+                                                        in INPUT_FILES.items()))
+    schema.add_argument("--all", action="store_true", help="every schema (needs --out)")
+    schema.add_argument("--out", metavar="DIR",
+                        help="write NAME.schema.json files into DIR (atomically) instead of "
+                             "printing")
     schema.set_defaults(run=_cmd_schema)
+
+    _add_crew_commands(commands)
     return parser
 
 

@@ -20,6 +20,7 @@ from typing import Any
 from workpack.electrical import (
     GroundDiagnosis,
     GroundHazards,
+    HazardNote,
     LampDiagnosis,
     MeterTolerance,
     MinimumIr,
@@ -105,7 +106,7 @@ class Diagnosis:
     summary: str
     notes: tuple[str, ...] = ()
     next_steps: tuple[str, ...] = ()
-    cautions: tuple[tuple[str, str], ...] = ()  # (signal word, text)
+    cautions: tuple[HazardNote, ...] = ()
     ground: Ground | None = None
     capacitance_per_phase_f: float | None = None
     capacitance_basis: str = ""
@@ -312,7 +313,7 @@ def _phase_voltages(plant: Plant, topology: Topology, island: Island, finding: P
         **base, severity=severity, summary=summary,
         notes=(*result.notes, *_burden_notes(burden, capacitance)),
         next_steps=result.next_steps,
-        cautions=tuple((n.signal_word, n.text) for n in hazards.notes), ground=ground,
+        cautions=hazards.notes, ground=ground,
         capacitance_per_phase_f=capacitance, capacitance_basis=basis, detail=result,
         hazards=hazards,
     )
@@ -763,14 +764,14 @@ class ReadingSummary:
     candidate_phases: tuple[str, ...]
     lowest_reading_phase: str
     best_fit: GroundDiagnosis
-    cautions: tuple[tuple[str, str], ...] = ()  # (signal word, text) for what stands now
+    cautions: tuple[HazardNote, ...] = ()  # for what stands now
 
 
 def summarize_readings(result: GroundDiagnosis,
                        hazards: GroundHazards | None = None) -> ReadingSummary:
     known = result.grounded_phase is not None
     return ReadingSummary(
-        cautions=tuple((n.signal_word, n.text) for n in hazards.notes) if hazards else (),
+        cautions=hazards.notes if hazards else (),
         status=result.status.value, consistent=result.consistent,
         grounded_phase=result.grounded_phase,
         fault_resistance_ohm=result.fault_resistance_ohm if known else None,

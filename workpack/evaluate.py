@@ -12,20 +12,23 @@ from __future__ import annotations
 
 import datetime as dt
 import math
-from collections.abc import Iterator, Mapping, Sequence
-from dataclasses import dataclass
-from typing import Any, Literal
+from collections.abc import Iterator, Mapping
+from dataclasses import dataclass, field
+from typing import Any
 
+from workpack.checks import Mismatch
 from workpack.electrical import correct_to_reference
 from workpack.electrical.standards import CodeSet
 from workpack.errors import did_you_mean
-from workpack.model.package import (
-    IsolationPoint,
-    ProvingDead,
-    Reading,
-    Step,
-    WorkPackage,
+from workpack.model.evaluation import (
+    RESISTANCE_UNITS,
+    Deviation,
+    Evaluation,
+    FollowUp,
+    ReadingVerdict,
+    Verdict,
 )
+from workpack.model.package import FinalTest, Reading, Step, WorkPackage
 from workpack.model.results import FinalTestResults, Results
 from workpack.numbers import format_quantity, unit_scale
 from workpack.units import UnitProblem, plausible, to_si
@@ -38,129 +41,83 @@ UNIT_KIND = {"V": "voltage", "A": "current", "Ω": "resistance", "kΩ": "resista
              "MΩ": "resistance", "kVA": "apparent_power", "kW": "real_power",
              "Hz": "frequency", "s": "time", "°C": "temperature"}
 
-Verdict = Literal["passed", "failed", "incomplete"]
-Path = tuple[str | int, ...]
-
-
-@dataclass(frozen=True)
-class ReadingVerdict:
-    id: str
-    what: str
-    unit: str
-    measured_si: float | None
-    temperature_c: float | None
-    compared_si: float | None  # after temperature correction, where the limit asks for it
-    corrected_to_c: float | None
-    low: float | None
-    high: float | None
-    basis: str
-    outcome: Literal["pass", "fail", "not recorded", "recorded"]
-    note: str = ""
-    element: str | None = None  # the element measured (insulation readings)
-    judged: bool = True  # False: recorded against its limit but not deciding the verdict
-    code_set: str | None = None  # the tables that corrected it for temperature
-
-
-@dataclass(frozen=True)
-class Deviation:
-    kind: str  # reading, step, lock, dead, tester, signature
-    ref: str
-    text: str
-    fails: bool  # True: the job failed; False: the job is incomplete
-
-
-@dataclass(frozen=True)
-class Evaluation:
-    package_id: str
-    plant: str
-    item: str
-    date: dt.date
-    verdict: Verdict
-    readings: tuple[ReadingVerdict, ...]
-    deviations: tuple[Deviation, ...]
-    locks_not_removed: tuple[str, ...]
-    completed_by: str | None
-    supervisor: str | None
-    ground_found_at: str | None
-    followups: tuple[dict[str, Any], ...]  # findings for tomorrow, as a findings file holds them
-    locks_left_on: tuple[str, ...] = ()  # "DEVICE: why", kept on by the restoration's gate
+FieldPath = tuple[str | int, ...]  # a place in the results file: keys and indexes
 
 
 # --- checking the results against the package (errors a person made while filling in) ------
 
 
 def check_results(package: WorkPackage, results: Results,
-                  package_sha256: str | None = None) -> Iterator[tuple[Path, str]]:
-    """Every place the results do not fit the package: (field path, message)."""
+                  package_sha256: str | None = None) -> Iterator[Mismatch]:
+    """Every place the results do not fit the package, as a field path and a message."""
     if results.package != package.id:
-        yield ("package",), (f"these results answer {results.package!r}, not the package "
-                             f"given ({package.id!r})")
+        yield Mismatch(("package",), f"these results answer {results.package!r}, not the "
+                                     f"package given ({package.id!r})")
         return
     if package_sha256 and results.package_sha256 and results.package_sha256 != package_sha256:
-        yield ("package_sha256",), ("the package was changed after these results were "
-                                    "started: its hash differs; fill in a fresh template")
+        yield Mismatch(("package_sha256",), "the package was changed after these results "
+                                            "were started: its hash differs; fill in a "
+                                            "fresh template")
     readings = {r.id: r for r in package.readings()}
     for reading_id, measured in results.readings.items():
         if reading_id not in readings:
-            yield ("readings", reading_id), (f"no reading {reading_id!r} in {package.id}"
-                                             f"{did_you_mean(reading_id, readings)}")
+            yield Mismatch(("readings", reading_id), f"no reading {reading_id!r} in "
+                           f"{package.id}{did_you_mean(reading_id, readings)}")
             continue
         reading = readings[reading_id]
         if measured.value is not None:
             try:
                 measured_value(reading, measured.value)
             except UnitProblem as problem:
-                yield ("readings", reading_id, "value"), str(problem)
+                yield Mismatch(("readings", reading_id, "value"), str(problem))
         if measured.temperature is not None:
             try:
                 plausible(to_si(measured.temperature, "temperature"), "temperature")
             except UnitProblem as problem:
-                yield ("readings", reading_id, "temperature"), str(problem)
-    yield from _check_scope((), package.id, package.isolation, package.proving_dead,
-                            package.steps, package.restoration, results)
+                yield Mismatch(("readings", reading_id, "temperature"), str(problem))
+    yield from _check_scope((), package.id, package, results)
     finals = {final.id: final for final in package.final_tests}
     for final_id, record in results.final_tests.items():
         final = finals.get(final_id)
         if final is None:
-            yield ("final_tests", final_id), (f"{package.id} has no final test {final_id!r}"
-                                              f"{did_you_mean(final_id, finals)}")
+            yield Mismatch(("final_tests", final_id), f"{package.id} has no final test "
+                           f"{final_id!r}{did_you_mean(final_id, finals)}")
             continue
-        yield from _check_scope(("final_tests", final_id), f"{package.id} {final_id}",
-                                final.isolation, final.proving_dead, final.steps,
-                                final.restoration, record)
+        yield from _check_scope(("final_tests", final_id), f"{package.id} {final_id}", final,
+                                record)
 
 
-def _check_scope(base: Path, name: str, isolation: Sequence[IsolationPoint],
-                 proving_dead: Sequence[ProvingDead], steps: Sequence[Step],
-                 restoration: Sequence[Step],
-                 record: Results | FinalTestResults) -> Iterator[tuple[Path, str]]:
-    devices = {point.device for point in isolation}
+def _check_scope(base: FieldPath, name: str, scope: WorkPackage | FinalTest,
+                 record: Results | FinalTestResults) -> Iterator[Mismatch]:
+    """The results of one isolation: the package's own, or one final test's."""
+    proving_dead = scope.proving_dead
+    devices = {point.device for point in scope.isolation}
     for device in record.isolation:
         if device not in devices:
-            yield (*base, "isolation", device), (f"{device!r} is not an isolation point of "
-                                                 f"{name}{did_you_mean(device, devices)}")
+            yield Mismatch((*base, "isolation", device), f"{device!r} is not an isolation "
+                           f"point of {name}{did_you_mean(device, devices)}")
     for index, pairs in record.proving_dead.items():
         if not 1 <= index <= len(proving_dead):
-            yield (*base, "proving_dead", index), (f"{name} has {len(proving_dead)} "
-                                                   "proving-dead points, numbered from 1")
+            yield Mismatch((*base, "proving_dead", index), f"{name} has {len(proving_dead)} "
+                           "proving-dead points, numbered from 1")
             continue
         known = proving_dead[index - 1].pairs
         for pair, value in pairs.items():
             if pair not in known:
-                yield (*base, "proving_dead", index, pair), (f"no pair {pair!r} here"
-                                                             f"{did_you_mean(pair, known)}")
+                yield Mismatch((*base, "proving_dead", index, pair),
+                               f"no pair {pair!r} here{did_you_mean(pair, known)}")
             elif value is not None and str(value).strip():
                 try:
                     plausible(to_si(value, "voltage"), "voltage")
                 except UnitProblem as problem:
-                    yield (*base, "proving_dead", index, pair), str(problem)
-    for section, numbered, what in (("steps", steps, "step"),
-                                    ("restoration", restoration, "restoration step")):
+                    yield Mismatch((*base, "proving_dead", index, pair), str(problem))
+    for section, numbered, what in (("steps", scope.steps, "step"),
+                                    ("restoration", scope.restoration, "restoration step")):
         numbers = {step.number for step in numbered}
         for number in getattr(record, section):
             if number not in numbers:
-                yield (*base, section, number), (f"{name} has no {what} {number} (it has 1 "
-                                                 f"to {max(numbers, default=0)})")
+                yield Mismatch((*base, section, number), f"{name} has no {what} {number} (it "
+                               f"has 1 to {max(numbers, default=0)})")
 
 
 def measured_value(reading: Reading, value: float | str) -> float:
@@ -231,35 +188,32 @@ def evaluate(package: WorkPackage, results: Results,
         if judged.id not in deciding:
             continue  # recorded against its limit, but the job is not judged by it
         if judged.outcome == "fail":
-            deviations.append(Deviation("reading", judged.id, f"{judged.id} {judged.what}: "
-                                        f"{judged.note}", fails=True))
+            deviations.append(Deviation(kind="reading", ref=judged.id, text=f"{judged.id} "
+                                        f"{judged.what}: {judged.note}", fails=True))
         elif judged.outcome == "not recorded" and judged.id not in optional:
             why = f" ({judged.note})" if judged.note else ""
-            deviations.append(Deviation("reading", judged.id, f"{judged.id} {judged.what}: "
-                                        f"not recorded{why}", fails=False))
-    not_removed: list[str] = []
-    left_on: list[str] = []
-    deviations += _scope_deviations("", package.isolation, package.proving_dead,
-                                    package.steps, package.restoration, results, found,
-                                    not_removed, left_on)
-    for final in taken:
-        deviations += _scope_deviations(
-            f"{final.id}:", final.isolation, final.proving_dead, final.steps,
-            final.restoration, results.final_tests.get(final.id) or FinalTestResults(),
-            found, not_removed, left_on)
+            deviations.append(Deviation(kind="reading", ref=judged.id, text=f"{judged.id} "
+                                        f"{judged.what}: not recorded{why}", fails=False))
+    scopes = [_check_isolation("", package, results, found)]
+    scopes += [_check_isolation(f"{final.id}:", final,
+                                results.final_tests.get(final.id) or FinalTestResults(), found)
+               for final in taken]
+    deviations += [d for scope in scopes for d in scope.deviations]
     for who, signed in (("technician", results.completed_by),
                         ("supervisor", results.supervisor)):
         if not signed:
-            deviations.append(Deviation("signature", who, f"no {who} signature", fails=False))
+            deviations.append(Deviation(kind="signature", ref=who,
+                                        text=f"no {who} signature", fails=False))
     verdict: Verdict = ("failed" if any(d.fails for d in deviations)
                         else "incomplete" if deviations else "passed")
     return Evaluation(
         package_id=package.id, plant=package.plant, item=package.item, date=package.date,
         verdict=verdict, readings=verdicts, deviations=tuple(deviations),
-        locks_not_removed=tuple(not_removed), completed_by=results.completed_by,
-        supervisor=results.supervisor, ground_found_at=results.ground_found_at,
+        locks_not_removed=tuple(ref for scope in scopes for ref in scope.not_removed),
+        completed_by=results.completed_by, supervisor=results.supervisor,
+        ground_found_at=results.ground_found_at,
         followups=tuple(_followups(package, results, verdicts)),
-        locks_left_on=tuple(left_on))
+        locks_left_on=tuple(kept for scope in scopes for kept in scope.left_on))
 
 
 def _outcome_applies(step: Step, found: bool) -> bool:
@@ -267,18 +221,26 @@ def _outcome_applies(step: Step, found: bool) -> bool:
     return step.search_outcome is None or (step.search_outcome == "found") == found
 
 
-def _scope_deviations(prefix: str, isolation: Sequence[IsolationPoint],
-                      proving_dead: Sequence[ProvingDead], steps: Sequence[Step],
-                      restoration: Sequence[Step], record: Results | FinalTestResults,
-                      found: bool, not_removed: list[str],
-                      left_on: list[str]) -> list[Deviation]:
+@dataclass
+class _IsolationCheck:
+    """What one isolation's results show (see ``_check_isolation``)."""
+
+    deviations: list[Deviation] = field(default_factory=list)
+    not_removed: list[str] = field(default_factory=list)  # "CB-7", "F2:CB-7"
+    left_on: list[str] = field(default_factory=list)  # "CB-7: why", kept on by the gate
+
+    def add(self, kind: str, ref: str, text: str, *, fails: bool) -> None:
+        self.deviations.append(Deviation(kind=kind, ref=ref, text=text, fails=fails))
+
+
+def _check_isolation(prefix: str, scope: WorkPackage | FinalTest,
+                     record: Results | FinalTestResults, found: bool) -> _IsolationCheck:
     """Steps, locks, proving dead and tester of one isolation: the package's own
-    (``prefix`` "") or one final test's ("F2:"). Locks not removed are added to
-    ``not_removed`` ("F2:CB-7" in a final test); those the restoration's gate kept on
-    for a reason to ``left_on`` as well."""
-    deviations: list[Deviation] = []
-    kept = record.locks_left_on if any(s.kind == "gate" for s in restoration) else None
-    for section, numbered in (("steps", steps), ("restoration", restoration)):
+    (``prefix`` "") or one final test's ("F2:"), with the locks never removed and those
+    the restoration's gate kept on for a reason."""
+    out = _IsolationCheck()
+    kept = record.locks_left_on if any(s.kind == "gate" for s in scope.restoration) else None
+    for section, numbered in (("steps", scope.steps), ("restoration", scope.restoration)):
         done = getattr(record, section)
         for step in numbered:
             if step.optional or (section == "restoration" and (
@@ -286,47 +248,42 @@ def _scope_deviations(prefix: str, isolation: Sequence[IsolationPoint],
                 continue  # a branch not taken, or a restoration the gate withheld
             if not (step.number in done and done[step.number].done):
                 name = f"{prefix}{'step' if section == 'steps' else 'restoration step'}"
-                deviations.append(Deviation(name.replace(":", " "), f"{prefix}{step.number}",
-                                            f"{name.replace(':', ' ')} {step.number} not "
-                                            "ticked as done", fails=False))
-    for point in isolation:
+                out.add(name.replace(":", " "), f"{prefix}{step.number}",
+                        f"{name.replace(':', ' ')} {step.number} not ticked as done",
+                        fails=False)
+    for point in scope.isolation:
         ref = f"{prefix}{point.device}"
         lock = record.isolation.get(point.device)
         if lock is None or not (lock.lock and lock.applied_by):
-            deviations.append(Deviation("lock", ref, f"{ref}: no lock recorded as applied",
-                                        fails=False))
+            out.add("lock", ref, f"{ref}: no lock recorded as applied", fails=False)
             continue
         if not lock.removed_by:
-            not_removed.append(ref)
+            out.not_removed.append(ref)
             if kept:
-                left_on.append(f"{ref}: {kept}")
+                out.left_on.append(f"{ref}: {kept}")
                 continue
-            deviations.append(Deviation(
-                "lock", ref, f"{ref}: lock {lock.lock} applied by {lock.applied_by} was "
-                "never recorded as removed", fails=True))
+            out.add("lock", ref, f"{ref}: lock {lock.lock} applied by {lock.applied_by} was "
+                    "never recorded as removed", fails=True)
         elif _person(lock.removed_by) != _person(lock.applied_by):
-            deviations.append(Deviation(
-                "lock", ref, f"{ref}: lock {lock.lock} applied by {lock.applied_by} was "
-                f"removed by {lock.removed_by}: each lock is removed by whoever applied it "
-                "(record the employer's procedure for removal by another in the remarks)",
-                fails=False))
-    for index, dead in enumerate(proving_dead, start=1):
+            out.add("lock", ref, f"{ref}: lock {lock.lock} applied by {lock.applied_by} was "
+                    f"removed by {lock.removed_by}: each lock is removed by whoever applied it "
+                    "(record the employer's procedure for removal by another in the remarks)",
+                    fails=False)
+    for index, dead in enumerate(scope.proving_dead, start=1):
         measured = record.proving_dead.get(index, {})
         for pair in dead.pairs:
             value = measured.get(pair)
             ref = f"{prefix}{index}:{pair}"
             if value is None or not str(value).strip():
-                deviations.append(Deviation("dead", ref, f"{prefix}{dead.where} {pair}: "
-                                            "absence of voltage not recorded", fails=False))
+                out.add("dead", ref, f"{prefix}{dead.where} {pair}: absence of voltage not "
+                        "recorded", fails=False)
             elif to_si(value, "voltage") > DEAD_BELOW_V:
-                deviations.append(Deviation(
-                    "dead", ref, f"{prefix}{dead.where} {pair}: "
-                    f"{to_si(value, 'voltage'):g} V measured: NOT dead", fails=True))
-    if proving_dead and not (record.tester_proven_before and record.tester_proven_after):
-        deviations.append(Deviation("tester", f"{prefix}tester", f"{prefix}tester not "
-                                    "recorded as proven on a known live source both before "
-                                    "and after", fails=False))
-    return deviations
+                out.add("dead", ref, f"{prefix}{dead.where} {pair}: "
+                        f"{to_si(value, 'voltage'):g} V measured: NOT dead", fails=True)
+    if scope.proving_dead and not (record.tester_proven_before and record.tester_proven_after):
+        out.add("tester", f"{prefix}tester", f"{prefix}tester not recorded as proven on a "
+                "known live source both before and after", fails=False)
+    return out
 
 
 def _person(name: str) -> str:
@@ -394,7 +351,7 @@ def _judge(reading: Reading, results: Results,
 
 
 def _followups(package: WorkPackage, results: Results,
-               verdicts: tuple[ReadingVerdict, ...]) -> list[dict[str, Any]]:
+               verdicts: tuple[ReadingVerdict, ...]) -> list[FollowUp]:
     """A failing insulation reading is a finding for tomorrow's plan, once per element."""
     readings = {r.id: r for r in package.readings()}
     seen: set[str] = set()
@@ -404,40 +361,20 @@ def _followups(package: WorkPackage, results: Results,
         if verdict.outcome != "fail" or not reading.acceptance or reading.element is None \
                 or reading.element in seen:
             continue
-        if reading.unit not in ("MΩ", "kΩ", "Ω") or verdict.measured_si is None:
+        if reading.unit not in RESISTANCE_UNITS or verdict.measured_si is None:
             continue
         seen.add(reading.element)
-        found.append({
-            "kind": "insulation_resistance",
-            "at": dt.datetime.combine(results.completed_on or package.date,
-                                      dt.time(0, 0)).isoformat(timespec="minutes"),
-            "by": results.completed_by or "unknown",
-            "where": reading.element,
-            "test_voltage": f"{reading.test_voltage_v:g} V" if reading.test_voltage_v
+        found.append(FollowUp(
+            kind="insulation_resistance",
+            at=dt.datetime.combine(results.completed_on or package.date,
+                                   dt.time(0, 0)).isoformat(timespec="minutes"),
+            by=results.completed_by or "unknown",
+            where=reading.element,
+            test_voltage=f"{reading.test_voltage_v:g} V" if reading.test_voltage_v
             else "500 V",
-            "reading": f"{verdict.measured_si:g} ohm",
-            "temperature": f"{verdict.temperature_c:g} degC"
+            reading=f"{verdict.measured_si:g} ohm",
+            temperature=f"{verdict.temperature_c:g} degC"
             if verdict.temperature_c is not None else "20 degC",
-            "note": f"from {package.id} ({verdict.id}): {verdict.note}",
-        })
+            note=f"from {package.id} ({verdict.id}): {verdict.note}",
+        ))
     return found
-
-
-
-
-def record_payload(results: Results, evaluation: Evaluation) -> dict[str, Any]:
-    """What the records store keeps for one recorded job: the results exactly as entered
-    and their evaluation, both as plain JSON data."""
-    from dataclasses import asdict
-
-    def plain(value: Any) -> Any:
-        if isinstance(value, dict):
-            return {str(k): plain(v) for k, v in value.items()}
-        if isinstance(value, list | tuple):
-            return [plain(v) for v in value]
-        if isinstance(value, dt.date):
-            return value.isoformat()
-        return value
-
-    return {"results": results.model_dump(mode="json"),
-            "evaluation": plain(asdict(evaluation))}

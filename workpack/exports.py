@@ -54,14 +54,6 @@ def _number(value_si: float | None, unit: str) -> float | None:
     return float(f"{value_si / unit_scale(unit):.12g}")
 
 
-def _superseded_by(records: Sequence[Record]) -> dict[int, int]:
-    later: dict[int, int] = {}
-    for record in sorted(records, key=lambda r: r.sequence):
-        if record.supersedes is not None:
-            later[record.supersedes] = record.sequence
-    return later
-
-
 RECORD_COLUMNS = ("record", "package", "plant", "item", "package_date", "verdict",
                   "recorded_by", "recorded_at", "completed_by", "supervisor", "supersedes",
                   "superseded_by", "ground_found_at", "deviations", "unreadable")
@@ -69,27 +61,23 @@ RECORD_COLUMNS = ("record", "package", "plant", "item", "package_date", "verdict
 
 def records_table(inputs: ExportInputs) -> list[Table]:
     """One row per record, in record order; a correction names what it supersedes."""
-    from workpack.audit import evaluation_from_payload
+    from workpack.records import read_back, superseded_by
 
     assert inputs.records is not None
-    later = _superseded_by(inputs.records)
+    later = superseded_by(inputs.records)
     rows: list[tuple[CellValue, ...]] = []
     for record in sorted(inputs.records, key=lambda r: r.sequence):
-        problems = []
-        plant = item = date = completed_by = supervisor = found = None
-        deviations = ""
-        try:
-            evaluation = evaluation_from_payload(record.results)
-            plant, item, date = evaluation.plant, evaluation.item, evaluation.date
-            completed_by, supervisor = evaluation.completed_by, evaluation.supervisor
-            found = evaluation.ground_found_at
-            deviations = "; ".join(d.text for d in evaluation.deviations)
-        except (TypeError, ValueError) as error:
-            problems.append(str(error))
+        read = read_back(record)
+        e = read.evaluation
+        evaluated: tuple[CellValue, ...] = (
+            (e.plant, e.item, e.date, e.completed_by, e.supervisor, e.ground_found_at,
+             "; ".join(d.text for d in e.deviations) or None) if e is not None
+            else (None,) * 7)
+        plant, item, date, completed_by, supervisor, found, deviations = evaluated
         rows.append((record.sequence, record.package_id, plant, item, date, record.verdict,
                      record.recorded_by, record.recorded_at.isoformat(), completed_by,
                      supervisor, record.supersedes, later.get(record.sequence), found,
-                     deviations or None, "; ".join(problems) or None))
+                     deviations, read.problem))
     return [Table("records", RECORD_COLUMNS, tuple(rows))]
 
 
@@ -100,19 +88,15 @@ READING_COLUMNS = ("record", "package", "item", "reading", "what", "element", "e
 
 def readings_table(inputs: ExportInputs) -> list[Table]:
     """Every reading of every record as evaluated: entered, in its unit, its limits."""
-    from workpack.audit import entered_text, evaluation_from_payload, results_from_payload
+    from workpack.records import entered_text, read_back
 
     assert inputs.records is not None
     rows: list[tuple[CellValue, ...]] = []
     for record in sorted(inputs.records, key=lambda r: r.sequence):
-        try:
-            evaluation = evaluation_from_payload(record.results)
-        except (TypeError, ValueError):
+        payload = read_back(record).payload
+        if payload is None:
             continue  # the records table says the record cannot be read
-        try:
-            entered = results_from_payload(record.results).readings
-        except ValueError:
-            entered = {}
+        evaluation, entered = payload.evaluation, payload.results.readings
         for verdict in evaluation.readings:
             given = entered.get(verdict.id)
             rows.append((record.sequence, record.package_id, evaluation.item, verdict.id,

@@ -23,7 +23,10 @@ from __future__ import annotations
 
 from collections import deque
 from dataclasses import dataclass, replace
+from enum import StrEnum
+from functools import cached_property
 
+from workpack.model.package import SignalWord
 from workpack.model.plant import (
     Bus,
     Cable,
@@ -79,9 +82,21 @@ class VerifyPoint:
     wires: int = 3
 
 
+class HazardKind(StrEnum):
+    """What an isolation cannot do by locks alone, and so must print beside them."""
+
+    no_lock = "no_lock"  # a path to a source with no lockable device on it
+    source_outside = "source_outside"  # the item is a source fed from outside the plant
+    source_itself = "source_itself"  # the item is a source: stop it and block its start
+    starts_by_itself = "starts_by_itself"  # a generator that starts on a blackout
+    stays_live = "stays_live"  # a battery or UPS: its own terminals are never dead
+    changes_over_by_itself = "changes_over_by_itself"  # no transfer block named
+
+
 @dataclass(frozen=True)
 class Hazard:
-    severity: str  # DANGER / WARNING / CAUTION
+    signal_word: SignalWord
+    kind: HazardKind
     text: str
 
 
@@ -102,7 +117,7 @@ class IsolationPlan:
     @property
     def complete(self) -> bool:
         """True when every path from every source is cut by a locked device."""
-        return not any(h.severity == "DANGER" for h in self.hazards)
+        return not any(h.signal_word is SignalWord.danger for h in self.hazards)
 
 
 START_BLOCK, TRANSFER_BLOCK = "start_block", "transfer_block"
@@ -115,58 +130,23 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
     if item_id not in topology.elements:
         raise KeyError(item_id)
     item = topology.elements[item_id]
-    neighbours = topology.energy_neighbours(item_id)
-    starts = topology.work_nodes(item_id)
-    # Breadth-first, sorted: the nearest device on each path is found first and
-    # the result never depends on set order.
-    parent: dict[State, State | None] = {(node, None): None for node in sorted(starts)}
-    queue = deque(parent)
-    frontier: dict[str, State] = {}
-    unprotected: dict[str, State] = {}
-    passed_unlockable: set[str] = set()
-    while queue:
-        state = queue.popleft()
-        for reached in topology.onward(*state, neighbours(state[0])):
-            if reached in parent:
-                continue
-            parent[reached] = state
-            node = reached[0]
-            element = topology.elements[element_of(node)]
-            if isinstance(element, Device) and element.id != item_id:
-                if element.can_lock:
-                    frontier.setdefault(node, reached)
-                    continue
-                passed_unlockable.add(element.id)
-            if isinstance(element, Source):
-                unprotected.setdefault(node, reached)
-                continue
-            queue.append(reached)
-
-    region = {node for node, _ in parent if node not in frontier}
-    normal_path = {element_of(node) for path in topology.normal_supply_paths(item_id)
-                   for node in path}
-    # A device is needed when a source reaches its far side without crossing the
-    # item's side or another frontier device: closing it alone would put that
-    # source onto the item. Dropping a device whose far side is dead never makes
-    # another device's far side live (it only joins dead parts together), so each
-    # is checked against the whole frontier, and what it keeps off stays the same.
-    # On the normal supply the first source found is enough; the rest of what such
-    # a device keeps off is the normal supply through it.
-    blocked = region | set(frontier)
+    near = _walk_from_item(topology, item_id)
+    parent, frontier, unprotected = near.parent, near.frontier, near.unprotected
+    passed_unlockable = near.passed_unlockable
+    region = near.region
     normal_paths = topology.normal_supply_paths(item_id)
-
-    def far_side(device: str, state: State) -> _FarSide:
-        if device in normal_path:
-            # The normal supply itself, when its way up to the device is clear, shows
-            # the device needed without a walk.
-            for path in normal_paths:
-                if device in path:
-                    upstream = path[:path.index(device)]
-                    if not blocked.intersection(upstream):
-                        return _FarSide(sources=(path[0],), path=(device, *reversed(upstream)))
-        return _far_side(topology, state, blocked - {device}, first_only=device in normal_path)
-
-    walked = {d: far_side(d, state) for d, state in frontier.items()}
+    normal_path = {element_of(node) for path in normal_paths for node in path}
+    walked = _far_sides_of(topology, item_id, near)
+    auxiliary = set(topology.auxiliary_feeds(item_id))
+    blocked = region | set(frontier)
+    for candidate, far in walked.items():
+        if far.sources and far.path is None and candidate not in normal_path and (
+                candidate not in auxiliary):
+            # The reason names the nearest source's path: the device's own walk, which
+            # stops at the first source it meets.
+            nearest = _far_side(topology, frontier[candidate], blocked - {candidate},
+                                first_only=True)
+            walked[candidate] = _FarSide(sources=far.sources, path=nearest.path)
     chosen = sorted(d for d, far in walked.items() if far.sources)
 
     def path_to(state: State) -> tuple[str, ...]:
@@ -238,16 +218,19 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
     hazards.extend(_unblocked_changeovers(topology, region, chosen, normal_path, step_of))
     if isinstance(item, Source):
         if item.kind in (SourceKind.shore_connection, SourceKind.utility):
-            hazards.append(Hazard("DANGER", f"{item_id} is itself a source fed from outside: "
-                                            "have it isolated and locked at its far end (ashore "
-                                            "or by the utility) before work"))
+            hazards.append(Hazard(SignalWord.danger, HazardKind.source_outside,
+                                  f"{item_id} is itself a source fed from outside: have it "
+                                  "isolated and locked at its far end (ashore or by the "
+                                  "utility) before work"))
         elif (own := next((p.order for p in points if p.blocks == item_id), None)):
-            hazards.append(Hazard("DANGER", f"{item_id} is itself a source: it must be stopped, "
-                                            f"and its start is blocked in step {own}; do not "
-                                            "rely on its breakers alone"))
+            hazards.append(Hazard(SignalWord.danger, HazardKind.source_itself,
+                                  f"{item_id} is itself a source: it must be stopped, and its "
+                                  f"start is blocked in step {own}; do not rely on its "
+                                  "breakers alone"))
         else:
-            hazards.append(Hazard("DANGER", f"{item_id} is itself a source: block its start "
-                                            "and lock it out at its own controls as well"))
+            hazards.append(Hazard(SignalWord.danger, HazardKind.source_itself,
+                                  f"{item_id} is itself a source: block its start and lock "
+                                  "it out at its own controls as well"))
     dead = region - {n for n in region if isinstance(topology.elements[element_of(n)], Source)}
     return IsolationPlan(
         item=item_id,
@@ -257,6 +240,108 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
         hazards=tuple(hazards),
         also_open=tuple(sorted(passed_unlockable & {element_of(n) for n in region})),
     )
+
+
+@dataclass(frozen=True)
+class _ItemSide:
+    """The walk out from the item to the nearest lockable device on every path."""
+
+    parent: dict[State, State | None]  # every state reached → the state it came from
+    frontier: dict[str, State]  # nearest lockable devices → the state reaching them
+    unprotected: dict[str, State]  # sources reached with no lockable device on the way
+    passed_unlockable: set[str]  # devices passed that cannot be locked
+
+    @cached_property
+    def region(self) -> set[str]:
+        """The item's side: every node reached but the devices that stop the walk."""
+        return {node for node, _ in self.parent if node not in self.frontier}
+
+    @cached_property
+    def blocked(self) -> set[str]:
+        """What no walk beyond a frontier device may cross."""
+        return self.region | set(self.frontier)
+
+
+def _walk_from_item(topology: Topology, item_id: str) -> _ItemSide:
+    neighbours = topology.energy_neighbours(item_id)
+    starts = topology.work_nodes(item_id)
+    # Breadth-first, sorted: the nearest device on each path is found first and
+    # the result never depends on set order.
+    parent: dict[State, State | None] = {(node, None): None for node in sorted(starts)}
+    queue = deque(parent)
+    frontier: dict[str, State] = {}
+    unprotected: dict[str, State] = {}
+    passed_unlockable: set[str] = set()
+    while queue:
+        state = queue.popleft()
+        for reached in topology.onward(*state, neighbours(state[0])):
+            if reached in parent:
+                continue
+            parent[reached] = state
+            node = reached[0]
+            element = topology.elements[element_of(node)]
+            if isinstance(element, Device) and element.id != item_id:
+                if element.can_lock:
+                    frontier.setdefault(node, reached)
+                    continue
+                passed_unlockable.add(element.id)
+            if isinstance(element, Source):
+                unprotected.setdefault(node, reached)
+                continue
+            queue.append(reached)
+    return _ItemSide(parent, frontier, unprotected, passed_unlockable)
+
+
+def locked_devices(topology: Topology, item_id: str) -> frozenset[str]:
+    """The devices ``plan_isolation`` locks open for the item (``plan.devices``), without
+    the rest of the plan: no order, reasons, blocks or hazards. For a caller that needs
+    only which devices, many times (the final tests of a ground search)."""
+    if item_id not in topology.elements:
+        raise KeyError(item_id)
+    walked = _far_sides_of(topology, item_id, _walk_from_item(topology, item_id))
+    return frozenset(device for device, far in walked.items() if far.sources)
+
+
+def _far_sides_of(topology: Topology, item_id: str, near: _ItemSide) -> dict[str, _FarSide]:
+    """What reaches the far side of each device the walk from the item stopped at.
+
+    A device is needed when a source reaches its far side without crossing the
+    item's side or another frontier device: closing it alone would put that
+    source onto the item. Dropping a device whose far side is dead never makes
+    another device's far side live (it only joins dead parts together), so each
+    is checked against the whole frontier, and what it keeps off stays the same.
+    On the normal supply the first source found is enough; the rest of what such
+    a device keeps off is the normal supply through it. The paths are left out
+    (None) unless found on the way.
+    """
+    frontier = near.frontier
+    blocked = near.blocked
+    normal_paths = topology.normal_supply_paths(item_id)
+    normal_path = {element_of(node) for path in normal_paths for node in path}
+
+    def normal_supply_clear(device: str) -> _FarSide | None:
+        # The normal supply itself, when its way up to the device is clear, shows
+        # the device needed without a walk.
+        for path in normal_paths:
+            if device in path:
+                upstream = path[:path.index(device)]
+                if not blocked.intersection(upstream):
+                    return _FarSide(sources=(path[0],), path=(device, *reversed(upstream)))
+        return None
+
+    walked: dict[str, _FarSide] = {}
+    for candidate in frontier:
+        if candidate in normal_path and (clear := normal_supply_clear(candidate)) is not None:
+            walked[candidate] = clear
+    searched = {d: state for d, state in frontier.items() if d not in walked}
+    for candidate, sources in _far_sides(topology, searched, blocked).items():
+        if sources is None:  # the one search cannot stand in for this device's own walk
+            walked[candidate] = _far_side(topology, searched[candidate],
+                                          blocked - {candidate},
+                                          first_only=candidate in normal_path)
+        else:
+            walked[candidate] = _FarSide(sources=sources, path=None)
+    return walked
 
 
 def _source(topology: Topology, node: str) -> Source:
@@ -316,9 +401,9 @@ def _far_side(topology: Topology, start: State, blocked: set[str],
             or isinstance(topology.elements[element_of(node)], Bus)
         ):
             continue
-        # The step of Topology.onward, written out: this loop is the planner's hot spot
-        # (millions of steps a day on a large plant); the property tests in
-        # tests/test_isolation.py hold both walks to an independent model.
+        # The step of Topology.onward, written out: every chosen device walks here for
+        # its nearest source; the property tests in tests/test_isolation.py hold this
+        # walk, the one search (_far_sides) and the planner to an independent model.
         passed = state[1]
         blocked_inputs = switches.get(node) if passed == node else None
         for neighbour in adjacency[node]:
@@ -340,6 +425,321 @@ def _far_side(topology: Topology, start: State, blocked: set[str],
             step = parent[step]
         path = tuple(reversed(chain))
     return _FarSide(sources=tuple(sorted(set(found))), path=path)
+
+
+def _far_sides(topology: Topology, starts: dict[str, State],
+               blocked: set[str]) -> dict[str, tuple[str, ...] | None]:
+    """Every source that reaches each device's far side: one search for all devices.
+
+    The answer for a device is what ``_far_side`` from its ``start`` state, with
+    ``blocked`` less the device itself, would find; the devices are in ``blocked``.
+    A walk state is (node, open-transition changeover entered from an input), as in
+    ``Topology.onward``. Steps between nodes that are neither sources nor such
+    changeovers go both ways and keep the state's changeover, so the states of one
+    piece of ``Topology.closable_parts`` (cut again by the blocked nodes) with one
+    changeover form a group that reaches the same sources. The steps into and out of
+    the changeovers, and out of the devices, join the groups one way; the sources of
+    a device are those of every group it reaches, collected over the strongly
+    connected parts of that small graph of groups, sinks first.
+
+    The pieces come from ``_Pieces``: of each part the blocked nodes cut, every piece
+    but one is walked and the one left is known as the rest of the part, so the
+    search costs about what the blocked nodes cut off, not the plant.
+
+    ``None`` for a device that a walk could enter again in another state (its own
+    walk does not treat it as blocked): the caller walks that one on its own.
+    """
+    adjacency = topology.closable_adjacency
+    switches = topology.one_input_at_a_time
+    source_nodes = topology.source_nodes
+    order = topology.closable_parts.source_order
+    bit = topology.closable_parts.source_bit
+    pieces = _Pieces(topology, blocked, bit, starts)
+    label: dict[tuple[int, str | None], int] = {}  # (piece, changeover entered) → group
+    changeover_groups: dict[State, int] = {}
+    joined: list[list[int]] = []  # group → groups one step on
+    reached: list[int] = []  # group → sources one step on, as bits
+    pending: list[tuple[int, State]] = []  # (group, a state one step on from it)
+    suspect: set[str] = set()
+
+    def reenters(device: str, state: State) -> None:
+        """A step into a device in another state than it starts in: only harmless when
+        nothing lies beyond that state."""
+        if state != starts[device] and topology.onward(
+                *state, (n for n in adjacency[device] if n not in blocked)):
+            suspect.add(device)
+
+    def group() -> int:
+        joined.append([])
+        reached.append(0)
+        return len(joined) - 1
+
+    def onward(index: int, state: State) -> None:
+        for step in topology.onward(*state, adjacency[state[0]]):
+            if step[0] in blocked:
+                if step[0] in starts:
+                    reenters(step[0], step)
+            else:
+                pending.append((index, step))
+
+    begins = {}
+    for device, state in starts.items():
+        begins[device] = group()
+        onward(begins[device], state)
+    while pending:
+        from_group, state = pending.pop()
+        node, passed = state
+        if node in source_nodes:
+            reached[from_group] |= bit[node]
+            continue
+        if node in switches:  # an open-transition changeover: a group of its own
+            target = changeover_groups.get(state)
+            if target is None:
+                target = changeover_groups[state] = group()
+                onward(target, state)
+        else:
+            piece = pieces.of(node)
+            target = label.get((piece, passed))
+            if target is None:
+                target = label[(piece, passed)] = group()
+                sources, steps, touching = pieces.contents(piece)
+                reached[target] |= sources
+                for member, switch in steps:
+                    if switch == passed:
+                        continue
+                    step = (switch, switch if member in switches[switch] else passed)
+                    if switch in blocked:
+                        if switch in starts:
+                            reenters(switch, step)
+                    else:
+                        pending.append((target, step))
+                for device in touching:
+                    reenters(device, (device, passed))
+        joined[from_group].append(target)
+    totals = _reachable_bits(joined, reached, list(begins.values()))
+    return {device: None if device in suspect else _named(totals[index], order)
+            for device, index in begins.items()}
+
+
+class _Pieces:
+    """The parts of ``Topology.closable_parts`` cut again by the blocked nodes.
+
+    A part holding no blocked node is one piece, known in advance. A part holding
+    some falls into pieces, each next to a blocked node: they are walked from
+    there all at once, a step each in turn, joining walks that meet, until one
+    walk at most is left unfinished; that one is the rest of the part, known as
+    the part less what was walked and blocked. So the work is about the size of
+    what the blocked nodes cut off, not of the plant.
+
+    A piece's contents: the sources next to it (bits; blocked ones left out), the
+    steps from its members to open-transition changeovers, and the start devices
+    next to it (blocked, but a walk from one may step back into it).
+    """
+
+    def __init__(self, topology: Topology, blocked: set[str], bit: dict[str, int],
+                 starts: dict[str, State]) -> None:
+        self.parts = topology.closable_parts
+        self.adjacency = topology.closable_adjacency
+        self.source_nodes = topology.source_nodes
+        self.blocked = blocked
+        self.bit = bit
+        self.starts = starts
+        self.blocked_sources = 0
+        for node in blocked & topology.source_nodes:
+            self.blocked_sources |= bit[node]
+        count = len(self.parts.sources)
+        self.walked: dict[str, int] = {}  # node in a walked piece → piece (count and up)
+        self.found: dict[int, tuple[int, list[tuple[str, str]], list[str]]] = {}
+        self.rests: dict[int, tuple[int, list[tuple[str, str]], list[str]]] = {}
+        cut: dict[int, list[str]] = {}
+        for node in sorted(blocked):
+            part = self.parts.part_of.get(node)
+            if part is not None:
+                cut.setdefault(part, []).append(node)
+        self.next_piece = count
+        for part, inside in cut.items():
+            self._cut(part, inside)
+
+    def of(self, node: str) -> int:
+        """The piece of a node that is neither blocked, a source nor a changeover."""
+        piece = self.walked.get(node)
+        return self.parts.part_of[node] if piece is None else piece
+
+    def contents(self, piece: int) -> tuple[int, list[tuple[str, str]], list[str]]:
+        if piece in self.found:
+            return self.found[piece]
+        if piece in self.rests:
+            return self.rests[piece]
+        return (self.parts.source_bits[piece] & ~self.blocked_sources,
+                list(self.parts.changeovers[piece]), [])
+
+    def _cut(self, part: int, inside: list[str]) -> None:
+        """Walk the pieces next to the blocked nodes ``inside`` the part, a step each in
+        turn, until at most one walk is unfinished."""
+        part_of, adjacency, blocked = self.parts.part_of, self.adjacency, self.blocked
+        owner: dict[str, int] = {}  # node → the walk that reached it first
+        merged: dict[int, int] = {}  # walk → the walk it joined
+        queues: dict[int, deque[str]] = {}
+        members: dict[int, list[str]] = {}
+
+        def root(walk: int) -> int:
+            while walk in merged:
+                walk = merged[walk]
+            return walk
+
+        for node in inside:
+            for neighbour in adjacency[node]:
+                if neighbour in part_of and neighbour not in blocked and (
+                        neighbour not in owner):
+                    walk = len(queues)
+                    owner[neighbour] = walk
+                    queues[walk] = deque([neighbour])
+                    members[walk] = [neighbour]
+        active = list(queues)
+        finished: list[int] = []
+        while len(active) > 1:
+            still: list[int] = []
+            for walk in active:
+                if walk in merged:
+                    continue
+                queue = queues[walk]
+                if not queue:
+                    finished.append(walk)
+                    continue
+                node = queue.popleft()
+                for neighbour in adjacency[node]:
+                    if neighbour not in part_of or neighbour in blocked:
+                        continue
+                    other = owner.get(neighbour)
+                    if other is None:
+                        owner[neighbour] = walk
+                        queue.append(neighbour)
+                        members[walk].append(neighbour)
+                    elif (other := root(other)) != walk:
+                        # two walks met: one piece; the other walk goes on as part of this
+                        merged[other] = walk
+                        queue.extend(queues.pop(other))
+                        members[walk].extend(members.pop(other))
+                still.append(walk)
+            active = [walk for walk in still if walk not in merged]
+        for walk in finished:
+            self._found(self.next_piece, members[walk])
+            self.next_piece += 1
+        if active:
+            self._rest(part, inside, [members[w] for w in finished])
+
+    def _touching(self, node: str, sources: int, steps: list[tuple[str, str]],
+                  touching: list[str]) -> int:
+        """Note what lies next to a member of a piece; its source bits."""
+        for neighbour in self.adjacency[node]:
+            if neighbour in self.source_nodes:
+                if neighbour not in self.blocked:
+                    sources |= self.bit[neighbour]
+            elif neighbour not in self.parts.part_of:  # a changeover, blocked or not
+                steps.append((node, neighbour))
+            elif neighbour in self.blocked and neighbour in self.starts:
+                touching.append(neighbour)
+        return sources
+
+    def _found(self, piece: int, nodes: list[str]) -> None:
+        sources = 0
+        steps: list[tuple[str, str]] = []
+        touching: list[str] = []
+        for node in nodes:
+            self.walked[node] = piece
+            sources = self._touching(node, sources, steps, touching)
+        self.found[piece] = (sources, steps, touching)
+
+    def _rest(self, part: int, inside: list[str], walked: list[list[str]]) -> None:
+        """The unfinished walk's piece: the part less the blocked and walked nodes."""
+        less: dict[str, int] = {}  # source → members next to it that are not in the rest
+        gone = set(inside)
+        for nodes in walked:
+            gone.update(nodes)
+        for node in gone:
+            for neighbour in self.adjacency[node]:
+                if neighbour in self.source_nodes:
+                    less[neighbour] = less.get(neighbour, 0) + 1
+        counts = self.parts.sources[part]
+        sources = self.parts.source_bits[part]
+        for node, count in less.items():
+            if count >= counts[node]:  # every member next to it is blocked or walked
+                sources &= ~self.bit[node]
+        steps = [(member, switch) for member, switch in self.parts.changeovers[part]
+                 if member not in gone]
+        touching = sorted({node for node in inside if node in self.starts and any(
+            neighbour in self.parts.part_of and neighbour not in gone
+            for neighbour in self.adjacency[node])})
+        self.rests[part] = (sources & ~self.blocked_sources, steps, touching)
+
+
+def _named(bits: int, order: tuple[str, ...]) -> tuple[str, ...]:
+    """The sources whose bits are set, in ``order``."""
+    names = []
+    while bits:
+        lowest = bits & -bits
+        names.append(order[lowest.bit_length() - 1])
+        bits ^= lowest
+    return tuple(names)
+
+
+def _reachable_bits(joined: list[list[int]], own: list[int], roots: list[int]) -> list[int]:
+    """For each group reachable from ``roots``: the bits of every group it reaches.
+
+    Tarjan's strongly connected components, iterative; a component is finished
+    after every component it reaches, so its bits are complete when it closes.
+    """
+    count = len(joined)
+    index = [-1] * count
+    low = [0] * count
+    on_stack = [False] * count
+    total = [0] * count
+    stack: list[int] = []
+    counter = 0
+    for root in roots:
+        if index[root] >= 0:
+            continue
+        work = [(root, 0)]
+        index[root] = low[root] = counter
+        counter += 1
+        stack.append(root)
+        on_stack[root] = True
+        while work:
+            node, position = work[-1]
+            successors = joined[node]
+            if position < len(successors):
+                work[-1] = (node, position + 1)
+                nxt = successors[position]
+                if index[nxt] < 0:
+                    index[nxt] = low[nxt] = counter
+                    counter += 1
+                    stack.append(nxt)
+                    on_stack[nxt] = True
+                    work.append((nxt, 0))
+                elif on_stack[nxt]:
+                    low[node] = min(low[node], index[nxt])
+                continue
+            work.pop()
+            if work:
+                parent = work[-1][0]
+                low[parent] = min(low[parent], low[node])
+            if low[node] == index[node]:
+                members = []
+                while True:
+                    member = stack.pop()
+                    on_stack[member] = False
+                    members.append(member)
+                    if member == node:
+                        break
+                bits = 0
+                for member in members:
+                    bits |= own[member]
+                    for nxt in joined[member]:
+                        if not on_stack[nxt]:
+                            bits |= total[nxt]
+                for member in members:
+                    total[member] = bits
+    return total
 
 
 def _start_point(topology: Topology, source_id: str) -> IsolationPoint:
@@ -421,7 +821,6 @@ def _self_starting(topology: Topology, item_id: str, chosen: list[str],
     darkens the board it starts for: it will start during the work.
     """
     hazards: list[Hazard] = []
-    darkened: frozenset[str] | None = None  # what this isolation leaves dead, when asked
     cut_by: dict[str, list[str]] = {}
     for device in chosen:
         for reached in beyond[device].sources:
@@ -435,23 +834,26 @@ def _self_starting(topology: Topology, item_id: str, chosen: list[str],
             own = step_of.get(f"{source_id}:start")
             if own is not None:
                 hazards.append(Hazard(
-                    "WARNING", f"{source_id} ({kind}) starts by itself on loss of supply and "
-                               f"the inventory names no start block for it: in step {own} "
-                               "block its start at its own controls as its maker's "
-                               "instructions say, before anything is switched off"))
+                    SignalWord.warning, HazardKind.starts_by_itself,
+                    f"{source_id} ({kind}) starts by itself on loss of supply and the "
+                    f"inventory names no start block for it: in step {own} block its start "
+                    "at its own controls as its maker's instructions say, before anything "
+                    "is switched off"))
             elif source.start_block is None or source.start_block.id not in step_of:
-                if darkened is None:
-                    darkened = topology.kept_live - topology.kept_live_without(chosen)
-                dark = sorted(_boards_of(topology, source_id) & darkened)
+                opened = set(chosen)
+                dark = sorted(board for board in _boards_of(topology, source_id)
+                              if board in topology.kept_live
+                              and not topology.stays_live(board, opened))
                 if dark:
                     hazards.append(Hazard(
-                        "WARNING", f"{source_id} ({kind}) starts by itself when "
-                                   f"{', '.join(dark)} goes dead in this isolation: "
-                                   f"{locks} it off {item_id}"))
+                        SignalWord.warning, HazardKind.starts_by_itself,
+                        f"{source_id} ({kind}) starts by itself when {', '.join(dark)} "
+                        f"goes dead in this isolation: {locks} it off {item_id}"))
         if source.kind in (SourceKind.battery, SourceKind.ups):
             hazards.append(Hazard(
-                "WARNING", f"{source_id} ({kind}) stays live with every breaker open: its own "
-                           f"terminals are never dead; {locks} it off {item_id}"))
+                SignalWord.warning, HazardKind.stays_live,
+                f"{source_id} ({kind}) stays live with every breaker open: its own "
+                f"terminals are never dead; {locks} it off {item_id}"))
     return hazards
 
 
@@ -487,9 +889,10 @@ def _unblocked_changeovers(topology: Topology, region: set[str], chosen: list[st
         first_normal = min((step_of[d] for d in chosen if d in normal_path), default=None)
         before = f" before step {first_normal}" if first_normal else ""
         hazards.append(Hazard(
-            "WARNING", f"{switch.id} changes over by itself and the inventory names no "
-                       f"transfer block for it: set it to manual (no automatic transfer) at "
-                       f"its own controls as its maker's instructions say{before}"))
+            SignalWord.warning, HazardKind.changes_over_by_itself,
+            f"{switch.id} changes over by itself and the inventory names no transfer block "
+            f"for it: set it to manual (no automatic transfer) at its own controls as its "
+            f"maker's instructions say{before}"))
     return hazards
 
 
@@ -574,6 +977,7 @@ def _no_lock_hazard(topology: Topology, item_id: str, source: str,
     element = topology.elements[source]
     assert isinstance(element, Source)
     route = " → ".join((*via, source))
-    return Hazard("DANGER", f"no lockable device between {item_id} and source {source} "
-                            f"({element.kind.value}) on the path {route}: this path cannot be "
-                            "locked out here; isolate at the source or do not start the work")
+    return Hazard(SignalWord.danger, HazardKind.no_lock,
+                  f"no lockable device between {item_id} and source {source} "
+                  f"({element.kind.value}) on the path {route}: this path cannot be locked "
+                  "out here; isolate at the source or do not start the work")

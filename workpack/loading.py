@@ -21,6 +21,7 @@ from workpack.checks import (
     check_unique_ids,
     run_checks,
 )
+from workpack.collector import collector_paused
 from workpack.errors import InputError, Problem, did_you_mean
 from workpack.model.findings import Findings
 from workpack.model.package import WorkPackage
@@ -252,6 +253,7 @@ def _references_despite_schema(data: Any, schema: list[Problem]) -> list[Mismatc
     return [m for m in found if not _below(format_path(m.path), schema)]
 
 
+@collector_paused()
 def load_plant_text(text: str, file: str) -> tuple[Plant, Topology]:
     """Parse, validate and check a plant; raise InputError listing every problem.
 
@@ -553,8 +555,7 @@ def load_results(path: Path, package: WorkPackage, package_hash: str) -> Results
     else:
         data, marks = parse_yaml(read_text(path), str(path))
     results = validate(Results, data, marks, "results file")
-    mismatches = [Mismatch(where, message)
-                  for where, message in check_results(package, results, package_hash)]
+    mismatches = list(check_results(package, results, package_hash))
     if mismatches:
         raise InputError(_located(marks, mismatches))
     return results
@@ -623,7 +624,8 @@ def _pdf_field_values(path: Path) -> dict[str, str | None]:
 def _pdf_reason(error: Exception) -> str:
     from pypdf.errors import DependencyError, FileNotDecryptedError, LimitReachedError
 
-    if isinstance(error, DependencyError | FileNotDecryptedError):
+    if isinstance(error, DependencyError | FileNotDecryptedError) or (
+            isinstance(error, NotImplementedError) and "encryption" in str(error)):
         return ("the PDF is encrypted in a way workpack cannot open; save an unprotected "
                 "copy of the filled package")
     if isinstance(error, LimitReachedError) or "Limit reached" in str(error):

@@ -25,7 +25,7 @@ from jinja2.exceptions import SecurityError, UndefinedError
 from jinja2.sandbox import ImmutableSandboxedEnvironment
 
 from workpack.errors import InputError, Problem, WorkpackError, did_you_mean
-from workpack.model.package import SignalWord
+from workpack.model.package import SearchOutcome, SignalWord
 from workpack.model.rules import CautionLibrary, Rule, RuleFile, StepRule
 
 ALLOWED_FILTERS = ("abs", "default", "first", "float", "format", "int", "join", "last",
@@ -46,7 +46,15 @@ REFUSED_NODES: dict[type[nodes.Node], str] = {
     nodes.AssignBlock: "block assignments are not allowed in a rule (use {% set x = … %})",
 }
 
-Schema = Mapping[str, Any]  # name → nested schema, or None for a plain value
+@dataclass(frozen=True)
+class ListOf:
+    """A name that holds a list, each item described by ``item`` (a nested schema): loop
+    over it, or take an attribute of every item with a filter's ``attribute=``."""
+
+    item: Mapping[str, Any]
+
+
+Schema = Mapping[str, Any]  # name → nested schema, ListOf(schema), or None for a plain value
 
 
 class RuleError(WorkpackError):
@@ -363,14 +371,24 @@ def _as_template(source: str, mode: str) -> str:
 
 
 def _unknown_names(tree: nodes.Template, schema: Schema) -> Iterator[str]:
+    scope = dict(schema)
     local = {n.name for n in tree.find_all(nodes.Name) if n.ctx in ("store", "param")}
+    for loop in tree.find_all(nodes.For):
+        local.add("loop")  # Jinja's own loop variable (loop.index, loop.last)
+        over = _attribute_path(loop.iter)
+        listed = _schema_at(over, schema) if over is not None else None
+        if isinstance(listed, ListOf) and isinstance(loop.target, nodes.Name):
+            scope[loop.target.name] = listed.item  # its items' attributes are checked
+            local.discard(loop.target.name)
     for node in tree.find_all((nodes.Getattr, nodes.Name)):
         path = _attribute_path(node)
         if path is None or path[0] in local:
             continue
         if isinstance(node, nodes.Name) and node.ctx != "load":
             continue
-        yield from _check_path(path, schema)
+        yield from _check_path(path, scope)
+    for node in tree.find_all(nodes.Filter):
+        yield from _check_attribute_argument(node, scope)
 
 
 def _attribute_path(node: nodes.Node) -> list[str] | None:
@@ -384,11 +402,27 @@ def _attribute_path(node: nodes.Node) -> list[str] | None:
     return None
 
 
+def _schema_at(path: list[str], schema: Schema) -> Any:
+    """What ``path`` names in ``schema``; None when it is unknown or a plain value."""
+    level: Any = schema
+    try:
+        for part in path:
+            level = level[part]
+    except (KeyError, TypeError):  # past a plain value or a list: nothing to say
+        return None
+    return level
+
+
 def _check_path(path: list[str], schema: Schema) -> Iterator[str]:
     level: Any = schema
     for depth, part in enumerate(path):
         if level is None:
             return  # a plain value: what lies below is its own business (and calls are off)
+        if isinstance(level, ListOf):
+            name = ".".join(path[:depth])
+            yield (f"{name!r} is a list: loop over it ({{% for one in {name} %}}) or join "
+                   f"an attribute of each ({name} | join('; ', attribute='{part}'))")
+            return
         if part not in level:
             what = "name" if depth == 0 else "attribute"
             hint = did_you_mean(part, level) or (
@@ -397,6 +431,21 @@ def _check_path(path: list[str], schema: Schema) -> Iterator[str]:
             yield f"unknown {what} {'.'.join(path[: depth + 1])!r}{hint}"
             return
         level = level[part]
+
+
+def _check_attribute_argument(node: nodes.Filter, schema: Schema) -> Iterator[str]:
+    """``findings | join('; ', attribute='text')``: the attribute each item must have."""
+    over = _attribute_path(node.node) if node.node is not None else None
+    listed = _schema_at(over, schema) if over is not None else None
+    if not isinstance(listed, ListOf):
+        return
+    given = [k.value for k in node.kwargs if k.key == "attribute"]
+    if node.name == "join" and len(node.args) > 1:
+        given.append(node.args[1])
+    each = ".".join(over or ()) + "[]"  # named so in the message: "findings[].text"
+    for value in given:
+        if isinstance(value, nodes.Const) and isinstance(value.value, str):
+            yield from _check_path([each, *value.value.split(".")], {each: listed.item})
 
 
 def compile_source(source: str, mode: Literal["expression", "template"]) -> Compiled:
@@ -413,16 +462,25 @@ def compile_source(source: str, mode: Literal["expression", "template"]) -> Comp
 
 
 @dataclass(frozen=True)
+class CompiledReading:
+    """A step's call of a named calculation."""
+
+    calc: str
+    params: Mapping[str, Compiled]
+    judge: bool  # False: recorded against its limits, not what the job is judged by
+
+
+@dataclass(frozen=True)
 class CompiledStep:
     text: Compiled
     when: Compiled | None
-    readings: tuple[tuple[str, dict[str, Compiled], bool], ...]  # calc, params, judge
+    readings: tuple[CompiledReading, ...]
     cautions: tuple[str, ...]
     check_only: bool
     reconnect: Compiled | None = None
     before_isolation: bool = False
     stage: str = "in_service"
-    search_outcome: str | None = None
+    search_outcome: SearchOutcome | None = None
 
 
 @dataclass(frozen=True)
@@ -688,9 +746,10 @@ def _compile_step(step: StepRule) -> CompiledStep:
     return CompiledStep(
         text=compile_source(step.text, "template"),
         when=compile_source(step.when, "expression") if step.when else None,
-        readings=tuple((reading.calc, {name: compile_source(source, "template")
-                                       for name, source in reading.params.items()},
-                        reading.judge)
+        readings=tuple(CompiledReading(reading.calc,
+                                       {name: compile_source(source, "template")
+                                        for name, source in reading.params.items()},
+                                       reading.judge)
                        for reading in step.readings),
         cautions=step.cautions, check_only=step.check_only,
         reconnect=compile_source(step.reconnect, "template") if step.reconnect else None,

@@ -8,9 +8,10 @@ deck machinery, heaters, long or old cables, recent work, past grounds:
 factors from rules/search-weights.yaml, each with its basis); the cost from
 what goes dead (by vitality), the transfer of a vital load to its alternate
 supply first, or the permission a vital load without one needs. The order
-comes from ``search_core``; this module only builds its input and words its
-output. A feeder that would drop two vital loads with no alternate at once is
-never opened whole: its own circuits are tried instead. Pure: no file access.
+comes from ``search_core``; this module builds its input and gathers its output,
+and ``search_wording`` words it. A feeder that would drop two vital loads with no
+alternate at once is never opened whole: its own circuits are tried instead. Pure:
+no file access.
 """
 
 from __future__ import annotations
@@ -18,6 +19,7 @@ from __future__ import annotations
 import datetime as dt
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, replace
+from typing import NamedTuple
 
 from workpack.diagnose import downstream_loads, insulation_tests
 from workpack.electrical import dc_test_voltage, line_to_neutral, minimum_insulation_resistance
@@ -36,6 +38,12 @@ from workpack.model.plant import (
 )
 from workpack.model.weights import SearchWeights
 from workpack.search_core import Branch, Candidate, LevelPlan, SearchPlan, plan_search
+from workpack.search_wording import (
+    already_open_note,
+    cleared_indication,
+    not_opened_note,
+    weights_used,
+)
 from workpack.topology import Island, Topology, element_of
 
 # Devices a search may open for a minute; a fuse is drawn (and put back) the same way.
@@ -62,20 +70,20 @@ class CandidateFacts:
 
 @dataclass(frozen=True)
 class SearchStep:
+    """One step of a board's search: open, watch the detector, go where the outcome
+    leads (``search_wording.step_words`` words it)."""
+
     level: str
-    number: int
+    number: int  # from 1 on each board
     open_devices: tuple[str, ...]
     where: tuple[str, ...]  # location of each opened device
     transfer_first: tuple[str, ...]
     permission_for: tuple[str, ...]
     dead_loads: tuple[str, ...]
+    moves_ground_with_it: tuple[str, ...]  # transferred loads whose alternate is this system
     minutes: float
     probability: float  # of reaching this step, given its level is searched
-    if_clears: str  # worded with this search's own step numbers
-    if_not_clear: str
-    cleared: str  # what the detector shows when the ground is no longer connected
-    unchanged: str  # and when it still is
-    on_clear: Branch  # where each outcome leads, for those who number steps their own way
+    on_clear: Branch  # where each outcome leads
     on_stay: Branch
 
 
@@ -115,7 +123,8 @@ class FaultSearch:
     detectors: tuple[str, ...]
     system_voltage_v: float
     healthy_phase_to_earth_v: float  # V_LL/√3: what a cleared indication reads
-    as_found_v: Mapping[str, float] | None
+    cleared: str  # what the detectors show once the ground is no longer connected
+    as_found_v: Mapping[str, float] | None  # what they show while it still is
     steps: tuple[SearchStep, ...]
     candidates: tuple[CandidateFacts, ...]
     levels: tuple[LevelPlan, ...]
@@ -149,17 +158,17 @@ def plan_fault_search(
     voltage = island.voltage or 0.0
     healthy = line_to_neutral(voltage)
     facts = tuple(builder.facts[c] for c in sorted(builder.facts))
-    steps = tuple(step for level in plan.levels
-                  for step in _word_steps(level, builder, healthy, as_found_v))
+    steps = tuple(step for level in plan.levels for step in _steps(level, builder))
     final = tuple(_final_tests(topology, builder, leaf, standards)
                   for leaf in sorted(builder.leaves))
     return FaultSearch(
         island=island.id, board=board, detectors=tuple(d.id for d in island.detectors),
-        system_voltage_v=voltage, healthy_phase_to_earth_v=healthy, as_found_v=as_found_v,
+        system_voltage_v=voltage, healthy_phase_to_earth_v=healthy,
+        cleared=cleared_indication(island, healthy), as_found_v=as_found_v,
         steps=steps, candidates=facts, levels=plan.levels,
         expected_minutes=plan.expected_cost, lower_bound_minutes=plan.lower_bound,
         gap=plan.gap, final_tests=final, notes=tuple(builder.notes),
-        weights_used=_weights_used(weights),
+        weights_used=weights_used(weights),
     )
 
 
@@ -174,7 +183,7 @@ def search_place(topology: Topology, place: str) -> str | None:
 
 def system_of(topology: Topology, place: str) -> str:
     """Id of the normal-state system holding a detector, bus or element."""
-    return _board(topology, place)[0].id
+    return _board(topology, place).island.id
 
 
 def search_refused(topology: Topology, place: str) -> str | None:
@@ -182,7 +191,7 @@ def search_refused(topology: Topology, place: str) -> str | None:
 
     On a solidly grounded system a ground trips its protection: there is no standing
     indication to search for."""
-    island = _board(topology, place)[0]
+    island = _board(topology, place).island
     if island.earthing is not None and island.earthing.value == "solid":
         return (f"the {island.id} system is solidly grounded: a ground there trips its "
                 "protection; there is no standing indication to search for")
@@ -201,21 +210,53 @@ def as_found_voltages(topology: Topology, findings: Findings,
     return latest
 
 
-def _board(topology: Topology, place: str) -> tuple[Island, str]:
+class _Start(NamedTuple):
+    """Where a search starts: the system, and the board within it."""
+
+    island: Island
+    board: str
+
+
+def _board(topology: Topology, place: str) -> _Start:
     """The system and the board where the search starts, from a detector, bus or item."""
     for island in topology.normal_islands:
         for bus_id in island.buses:
             bus = topology.elements[bus_id]
             if isinstance(bus, Bus) and bus.detector and bus.detector.id == place:
-                return island, bus_id
+                return _Start(island, bus_id)
     if place in topology.elements:
         island = topology.island_of(topology.node_in(place))
         element = topology.elements[place]
-        return island, place if isinstance(element, Bus) else (island.buses or (place,))[0]
+        return _Start(island, place if isinstance(element, Bus)
+                      else (island.buses or (place,))[0])
     for island in topology.normal_islands:
         if island.id == place:
-            return island, island.buses[0]
+            return _Start(island, island.buses[0])
     raise KeyError(place)
+
+
+class Likelihood(NamedTuple):
+    """An element's likelihood weight and the factors that shaped it, each with its
+    basis."""
+
+    weight: float
+    reasons: tuple[str, ...]
+
+
+class VitalLoads(NamedTuple):
+    """What opening a device takes out: every load, and the vital ones split by whether
+    they can be moved to an alternate supply first."""
+
+    dead: list[Load]
+    with_alternate: list[Load]
+    without: list[Load]
+
+
+class _Auxiliary(NamedTuple):
+    """A heater or control circuit inside ``load``: its place in the load's list."""
+
+    load: Load
+    position: int
 
 
 class _TreeBuilder:
@@ -235,28 +276,31 @@ class _TreeBuilder:
         self.leaves: set[str] = set()
         self.notes: list[str] = []
         self.children_of: dict[str, list[str]] = {}
-        self._weight_cache: dict[str, tuple[float, tuple[str, ...]]] = {}
+        self._weight_cache: dict[str, Likelihood] = {}
         # feeding device → (load, index of its auxiliary) for heaters and control supplies
-        self.auxiliaries_fed: dict[str, list[tuple[Load, int]]] = {}
+        self.auxiliaries_fed: dict[str, list[_Auxiliary]] = {}
         for load in topology.plant.loads:
             for index, auxiliary in enumerate(load.auxiliaries):
-                self.auxiliaries_fed.setdefault(auxiliary.from_, []).append((load, index))
-        self.total = sum(self.weight(e)[0] for e in self.members)
+                self.auxiliaries_fed.setdefault(auxiliary.from_, []).append(
+                    _Auxiliary(load, index))
+        # summed in a fixed order: a set's order changes from run to run, and so would
+        # the last bits of every prior
+        self.total = sum(self.weight(e).weight for e in sorted(self.members))
 
     # --- likelihood ---------------------------------------------------------------------
 
-    def weight(self, element_id: str) -> tuple[float, tuple[str, ...]]:
+    def weight(self, element_id: str) -> Likelihood:
         """Likelihood weight of one element and the factors that shaped it."""
         if element_id in self._weight_cache:
             return self._weight_cache[element_id]
         element = self.topology.elements[element_id]
-        result: tuple[float, tuple[str, ...]] = (0.0, ())
+        result = Likelihood(0.0, ())
         if isinstance(element, Load | Cable | Bus | Transformer):
             result = self._element_weight(element)
         self._weight_cache[element_id] = result
         return result
 
-    def _element_weight(self, element: Element) -> tuple[float, tuple[str, ...]]:
+    def _element_weight(self, element: Element) -> Likelihood:
         likelihood = self.weights.likelihood
         value = 1.0
         reasons: list[str] = []
@@ -290,7 +334,7 @@ class _TreeBuilder:
             history = likelihood.history.per_past_ground.factor ** grounds
             value *= history
             reasons.append(f"{element.id} grounded {grounds}× before ×{history:g}")
-        return value, tuple(reasons)
+        return Likelihood(value, tuple(reasons))
 
     # --- tree -------------------------------------------------------------------------------
 
@@ -305,19 +349,13 @@ class _TreeBuilder:
             if child not in self.members or child in self.topology.normally_open:
                 continue  # another system, or a tie that carries nothing now
             if child in self.exclude:
-                self.notes.append(f"{child} is already open (tripped or locked by another "
-                                  "job): what it feeds cannot carry this indication")
+                self.notes.append(already_open_note(child))
                 continue
             element = self.topology.elements[child]
             if isinstance(element, Device) and element.kind in OPENABLE:
                 if self._would_drop_two_vital(child):
                     inside = self.first_feeders(child)
-                    self.notes.append(
-                        f"{child} is not opened: it would drop two or more vital loads that "
-                        "have no alternate supply; "
-                        + ("its own circuits are tried instead" if inside else
-                           "what it feeds on this system is left to an isolation test at a "
-                           "planned time"))
+                    self.notes.append(not_opened_note(child, bool(inside)))
                     result.extend(inside)
                 else:
                     result.append(child)
@@ -326,10 +364,9 @@ class _TreeBuilder:
         return result
 
     def _would_drop_two_vital(self, device_id: str) -> bool:
-        _, _, without = self._vital_split(device_id)
-        return len(without) >= 2
+        return len(self._vital_split(device_id).without) >= 2
 
-    def _vital_split(self, device_id: str) -> tuple[list[Load], list[Load], list[Load]]:
+    def _vital_split(self, device_id: str) -> VitalLoads:
         """Dead loads, vital ones with an alternate, vital ones without."""
         dead = downstream_loads(self.topology, device_id)
         below = set(self.topology.below(device_id))
@@ -341,7 +378,7 @@ class _TreeBuilder:
                 with_alternate.append(load)
             else:
                 without.append(load)
-        return dead, with_alternate, without
+        return VitalLoads(dead, with_alternate, without)
 
     def _alternate_outside(self, load: Load, below: set[str]) -> str | None:
         """A transfer switch feeding ``load`` whose alternate is not under the opened device."""
@@ -360,8 +397,8 @@ class _TreeBuilder:
         interrupt = sum(getattr(cost.interrupt, load.vitality.value).minutes
                         for load in dead if load not in with_alternate)
         below = self.downstream(device_id)
-        weight = self.weight(device_id)[0] + sum(self.weight(e)[0] for e in below)
-        reasons = tuple(r for e in [device_id, *below] for r in self.weight(e)[1])
+        weight = self.weight(device_id).weight + sum(self.weight(e).weight for e in below)
+        reasons = tuple(r for e in [device_id, *below] for r in self.weight(e).reasons)
         children = self.first_feeders(device_id)
         self.children_of[device_id] = children
         if not children:
@@ -400,31 +437,7 @@ class _TreeBuilder:
                          children=tuple(self.candidate(child) for child in children))
 
 
-def cleared_indication(island: Island, healthy_v: float) -> str:
-    """What the system's own detectors show once the ground is no longer connected."""
-    shows = []
-    for detector in island.detectors:
-        if detector.kind.value == "lamps":
-            shows.append(f"{detector.id} lamps equal")
-        elif detector.kind.value == "voltmeters":
-            shows.append(f"{detector.id} each phase about {healthy_v:.0f} V to earth "
-                         "(V_LL/√3)")
-        elif detector.alarm is not None:
-            shows.append(f"{detector.id} reading back above its alarm setting "
-                         f"({detector.alarm / 1e3:g} kΩ; allow the monitor its response time)")
-    if not shows:
-        shows.append(f"each phase about {healthy_v:.0f} V to earth (V_LL/√3)")
-    return "the indication clears: " + "; ".join(shows)
-
-
-def _word_steps(level: LevelPlan, builder: _TreeBuilder, healthy_v: float,
-                as_found: Mapping[str, float] | None) -> list[SearchStep]:
-    cleared = cleared_indication(builder.island, healthy_v)
-    if as_found:
-        unchanged = "the indication stays (as found: " + ", ".join(
-            f"{phase} {value:.0f} V" for phase, value in sorted(as_found.items())) + ")"
-    else:
-        unchanged = "the indication stays (as found)"
+def _steps(level: LevelPlan, builder: _TreeBuilder) -> list[SearchStep]:
     steps = []
     for step in level.steps:
         facts = [builder.facts[d] for d in step.open_ids]
@@ -437,35 +450,12 @@ def _word_steps(level: LevelPlan, builder: _TreeBuilder, healthy_v: float,
             if step.permission_id else (),
             dead_loads=tuple(sorted({load for f in facts for load in f.dead_loads}
                                     - {load for f in facts for load in f.transfer_loads})),
+            moves_ground_with_it=tuple(load for f in facts for load in f.moves_ground_with_it)
+            if step.transfer_id else (),
             minutes=step.cost, probability=step.probability,
-            if_clears=f"If {cleared}: {_branch_text(step.if_clears, builder)}"
-            + "".join(f" (if the ground is in {load} itself it moves with the transfer, "
-                      "since its alternate supply is on this system: the indication will not "
-                      "clear)" for f in facts for load in f.moves_ground_with_it),
-            if_not_clear=f"If {unchanged}: {_branch_text(step.if_not_clear, builder)}",
-            cleared=cleared.removeprefix("the indication clears: "),
-            unchanged=unchanged.removeprefix("the indication stays "),
             on_clear=step.if_clears, on_stay=step.if_not_clear,
         ))
     return steps
-
-
-NOT_FOUND = ("not found at this level: the ground is on this board's own busbars or "
-             "incoming cables, or the indication is false: prove the detector, then test the "
-             "board isolated")
-
-
-def _branch_text(branch: Branch, builder: _TreeBuilder) -> str:
-    if branch.kind == "step":
-        return f"close what was opened and go on with step {branch.step} of this board"
-    if branch.kind == "found":
-        target = branch.candidate_id
-        if builder.children_of.get(target):
-            return (f"the ground is downstream of {target}; close it and search its own "
-                    f"circuits (the {target} level)")
-        return (f"the ground is downstream of {target}; isolate that circuit and test its "
-                "sections for insulation resistance (final tests)")
-    return NOT_FOUND
 
 
 def _final_tests(topology: Topology, builder: _TreeBuilder, leaf: str,
@@ -499,9 +489,13 @@ def _final_tests(topology: Topology, builder: _TreeBuilder, leaf: str,
         if circuit_v is None:
             continue
         kind = auxiliary.kind.value.replace("_", " ")
-        sections.append(_section(load.id, f"{kind} circuit inside {load.label}",
-                                 installations, circuit_v, None, "",
-                                 circuit=auxiliary.kind.value))
+        test_v = dc_test_voltage(installations, circuit_v)
+        minimum = minimum_insulation_resistance(installations, circuit_v)
+        sections.append(SectionTest(
+            element=load.id, label=f"{kind} circuit inside {load.label}",
+            code_set=installations.name, test_voltage_v=(test_v.min_v, test_v.max_v),
+            minimum_ohm=minimum.minimum_ohm, reference_c=minimum.reference_c,
+            basis=f"{test_v.citation}; {minimum.citation}", circuit=auxiliary.kind.value))
     places = tuple(sorted({s.element for s in sections})) or (leaf,)
     return FinalTests(feeder=leaf, sections=tuple(sections), places=places)
 
@@ -512,19 +506,6 @@ def final_test_isolation(topology: Topology, final: FinalTests,
     """What to lock for ``final``'s tests: every supply of every place they are made in.
     ``plan`` is ``isolation.plan_isolation`` or a caching stand-in for it."""
     return merged_isolation(topology, [plan(topology, place) for place in final.places])
-
-
-def _section(element_id: str, label: str, code_set: CodeSet, voltage: float,
-             winding: str | None, assumption: str, circuit: str | None = None) -> SectionTest:
-    test = dc_test_voltage(code_set, voltage)
-    minimum = minimum_insulation_resistance(code_set, voltage, winding=winding)
-    return SectionTest(
-        element=element_id, label=label, code_set=code_set.name,
-        test_voltage_v=(test.min_v, test.max_v), minimum_ohm=minimum.minimum_ohm,
-        reference_c=minimum.reference_c,
-        basis=f"{test.citation}; {minimum.citation}" + (f"; {assumption}" if assumption
-                                                        else ""),
-        circuit=circuit)
 
 
 def merged_isolation(topology: Topology, plans: Sequence[IsolationPlan]) -> IsolationPlan:
@@ -562,18 +543,3 @@ def merged_isolation(topology: Topology, plans: Sequence[IsolationPlan]) -> Isol
         hazards=tuple(dict.fromkeys(h for plan in plans for h in plan.hazards)),
         also_open=tuple(sorted({d for plan in plans for d in plan.also_open})),
     )
-
-
-def _weights_used(weights: SearchWeights) -> tuple[str, ...]:
-    likelihood, cost = weights.likelihood, weights.cost
-    lines = [f"{name.value}: ×{f.factor:g} ({f.basis})"
-             for name, f in sorted(likelihood.environment.items())]
-    lines += [f"{name.value} loads: ×{f.factor:g} ({f.basis})"
-              for name, f in sorted(likelihood.load_kind.items())]
-    lines.append(f"cable: +{likelihood.cable.per_100_m.factor:g} per 100 m "
-                 f"({likelihood.cable.per_100_m.basis})")
-    lines.append(f"observe: {cost.observe.minutes:g} min ({cost.observe.basis})")
-    lines.append(f"transfer a vital load: {cost.transfer.minutes:g} min "
-                 f"({cost.transfer.basis})")
-    lines.append(f"permission: {cost.permission.minutes:g} min ({cost.permission.basis})")
-    return tuple(lines)

@@ -37,33 +37,30 @@ class PlantSummary:
     warnings: tuple[str, ...]
 
 
-def cable_capacitance_per_m(plant: Plant, cable: Cable) -> float | None:
-    """Capacitance of one conductor to earth per metre, F/m, from the cable or its type."""
-    if cable.capacitance_to_earth is not None:
-        return cable.capacitance_to_earth
-    for cable_type in plant.cable_types:
-        if cable_type.id == cable.cable_type:
-            return cable_type.capacitance_to_earth
-    return None
-
-
 def island_capacitance(plant: Plant, topology: Topology,
                        island: Island) -> tuple[float | None, str]:
     """Per-phase capacitance to earth of an island, F, and what the figure rests on."""
-    cables = [topology.elements[n] for n in island.nodes
-              if isinstance(topology.elements.get(n), Cable)]
-    loads = [topology.elements[n] for n in island.nodes
-             if isinstance(topology.elements.get(n), Load)]
+    cables: list[Cable] = []
+    loads: list[Load] = []
+    for node in island.nodes:  # one pass; each list keeps the island's order
+        element = topology.elements.get(node)
+        if isinstance(element, Cable):
+            cables.append(element)
+        elif isinstance(element, Load):
+            loads.append(element)
+    by_type: dict[str, float] = {}  # cable type → F/m; the first of an id counts
+    for cable_type in plant.cable_types:
+        by_type.setdefault(cable_type.id, cable_type.capacitance_to_earth)
     total = 0.0
     known = 0
     for cable in cables:
-        assert isinstance(cable, Cable)
-        per_m = cable_capacitance_per_m(plant, cable)
+        per_m = cable.capacitance_to_earth
+        if per_m is None and cable.cable_type is not None:
+            per_m = by_type.get(cable.cable_type)
         if per_m is not None:
             total += per_m * cable.length
             known += 1
-    lumped = [load.equipment_capacitance for load in loads
-              if isinstance(load, Load) and load.equipment_capacitance]
+    lumped = [load.equipment_capacitance for load in loads if load.equipment_capacitance]
     total += sum(lumped)
     if not known and not lumped:
         return None, "no cable or equipment capacitance data"
@@ -73,20 +70,31 @@ def island_capacitance(plant: Plant, topology: Topology,
     return total, basis
 
 
+def joinable_by(topology: Topology) -> dict[str, list[str]]:
+    """Island id → the normally open devices that would join it to another island.
+
+    A device counts for every island it sits in or touches, when anything it
+    touches lies in another island. One pass over the devices and their
+    neighbours: linear in the plant.
+    """
+    joiners: dict[str, list[str]] = {}
+    for device in sorted(topology.normally_open):
+        around = [topology.island_of(n).id for n in topology.graph.neighbors(device)]
+        for island_id in dict.fromkeys([topology.island_of(device).id, *around]):
+            if any(other != island_id for other in around):
+                joiners.setdefault(island_id, []).append(device)
+    return joiners
+
+
 def summarize(plant: Plant, topology: Topology) -> PlantSummary:
     islands = []
+    joiners_of = joinable_by(topology)
     for island in topology.normal_islands:
         capacitance, basis = island_capacitance(plant, topology, island)
         current = None
         if capacitance is not None and island.voltage is not None:
             current = charging_current(island.voltage, plant.plant.frequency, capacitance)
-        joiners = sorted(
-            device for device in topology.normally_open
-            if any(topology.island_of(n).id != island.id
-                   for n in topology.graph.neighbors(device))
-            and (device in island.nodes or any(
-                n in island.nodes for n in topology.graph.neighbors(device)))
-        )
+        joiners = joiners_of.get(island.id, [])
         islands.append(IslandSummary(
             id=island.id, voltage=island.voltage,
             earthing=island.earthing.value if island.earthing else None,

@@ -22,7 +22,7 @@ no file access.
 
 from __future__ import annotations
 
-from collections.abc import Callable, Iterable, Iterator
+from collections.abc import Callable, Collection, Iterable, Iterator
 from dataclasses import dataclass
 from functools import cached_property
 from itertools import islice
@@ -61,7 +61,28 @@ def secondary(transformer_id: str) -> str:
 
 def element_of(node: str) -> str:
     """The element id behind a graph node."""
-    return node.split(":", 1)[0]
+    # most nodes are their element: no new string for them (asked millions of times)
+    return node if ":" not in node else node.split(":", 1)[0]
+
+
+_NO_DATA: dict[str, object] = {}  # shared by every node and edge of a conducting view
+
+
+class _ConductingView(nx.Graph):  # type: ignore[misc]
+    """A switching state's graph: structure only, made from its adjacency at once.
+
+    Its nodes and edges share one empty data dict instead of one each (views are
+    frozen, nothing is ever written to it): a large plant holds several views at
+    once. The adjacency is handed in whole, in the order ``add_edges_from`` would
+    have made it, instead of edge by edge through networkx's checks.
+    """
+
+    def __init__(self, nodes: Iterable[str] = (),
+                 adjacency: dict[str, dict[str, object]] | None = None) -> None:
+        super().__init__()  # networkx makes an empty one of these for subgraphs and copies
+        if adjacency is not None:
+            self._node = dict.fromkeys(nodes, _NO_DATA)
+            self._adj = adjacency
 
 
 @dataclass(frozen=True)
@@ -83,6 +104,19 @@ class Island:
         return tuple(sorted({element_of(n) for n in self.nodes}))
 
 
+@dataclass(frozen=True)
+class ClosableParts:
+    """The closable power graph cut at sources and open-transition changeovers
+    (``Topology.closable_parts``)."""
+
+    part_of: dict[str, int]  # node (neither a source nor such a changeover) → its part
+    sources: tuple[dict[str, int], ...]  # part → source next to it → members next to it
+    changeovers: tuple[tuple[tuple[str, str], ...], ...]  # part → (member, changeover next)
+    source_order: tuple[str, ...]  # every source, sorted: bit i of a set of sources is this
+    source_bit: dict[str, int]  # source → its bit
+    source_bits: tuple[int, ...]  # part → the sources next to it, as bits
+
+
 class Topology:
     """Graph queries over one plant. Build once, ask many times."""
 
@@ -92,6 +126,7 @@ class Topology:
         self.graph = nx.Graph()
         self._closable: dict[frozenset[str], nx.Graph] = {}
         self._normal: dict[frozenset[str], nx.Graph] = {}
+        self._supply_paths: dict[str, tuple[tuple[str, ...], ...]] = {}  # asked again and again
         self._build()
 
     # --- construction ---------------------------------------------------------------------
@@ -157,15 +192,18 @@ class Topology:
                     changeovers_closed: bool) -> nx.Graph:
         # A materialized graph: filtered views call back into Python per edge,
         # and the planner walks these graphs many times.
-        graph = nx.Graph()
-        graph.add_nodes_from(self.graph)
-        graph.add_edges_from(
-            (u, v) for u, v, data in self.graph.edges(data=True)
-            if data["kind"] in kinds
-            and (changeovers_closed or data["kind"] != CHANGEOVER)
-            and data.get("supply") not in opened
-        )
-        return nx.freeze(graph)
+        adjacency: dict[str, dict[str, object]] = {node: {} for node in self.graph}
+        for u, v, kind, supply in self._edge_list:
+            if kind in kinds and (changeovers_closed or kind != CHANGEOVER) and (
+                    supply not in opened):
+                adjacency[u][v] = adjacency[v][u] = _NO_DATA
+        return nx.freeze(_ConductingView(self.graph, adjacency))
+
+    @cached_property
+    def _edge_list(self) -> list[tuple[str, str, str, str | None]]:
+        """Every edge of the graph in its order: (u, v, kind, supply node)."""
+        return [(u, v, data["kind"], data.get("supply"))
+                for u, v, data in self.graph.edges(data=True)]
 
     def normal_view(self, kinds: frozenset[str] = GALVANIC) -> nx.Graph:
         """The graph as it conducts in the normal switching state."""
@@ -191,8 +229,46 @@ class Topology:
     def closable_adjacency(self) -> dict[str, tuple[str, ...]]:
         """Node → its neighbours in ``closable_view(POWER)``, in the graph's sorted build
         order (plain tuples: the walks of the planner read them millions of times)."""
-        view = self.closable_view(POWER)
-        return {node: tuple(view.adj[node]) for node in view}
+        return {node: tuple(neighbours)
+                for node, neighbours in self.closable_view(POWER).adjacency()}
+
+    @cached_property
+    def closable_parts(self) -> ClosableParts:
+        """``closable_view(POWER)`` cut at its sources and open-transition changeovers.
+
+        Every other node is in one part: the nodes joined to it without passing a
+        source or such a changeover. Within a part a walk steps both ways whatever
+        changeover it last entered, so the part reaches what any of its nodes reaches.
+        """
+        adjacency = self.closable_adjacency
+        cut = self.source_nodes | self.one_input_at_a_time.keys()
+        part_of: dict[str, int] = {}
+        sources: list[dict[str, int]] = []
+        changeovers: list[tuple[tuple[str, str], ...]] = []
+        for start in adjacency:
+            if start in cut or start in part_of:
+                continue
+            number = len(sources)
+            part_of[start] = number
+            touching: dict[str, int] = {}
+            steps: list[tuple[str, str]] = []
+            stack = [start]
+            while stack:
+                node = stack.pop()
+                for neighbour in adjacency[node]:
+                    if neighbour in self.source_nodes:
+                        touching[neighbour] = touching.get(neighbour, 0) + 1
+                    elif neighbour in cut:
+                        steps.append((node, neighbour))
+                    elif neighbour not in part_of:
+                        part_of[neighbour] = number
+                        stack.append(neighbour)
+            sources.append(touching)
+            changeovers.append(tuple(steps))
+        order = tuple(sorted(self.source_nodes))
+        bit = {node: 1 << index for index, node in enumerate(order)}
+        bits = tuple(sum(bit[node] for node in touching) for touching in sources)
+        return ClosableParts(part_of, tuple(sources), tuple(changeovers), order, bit, bits)
 
     def onward(self, node: str, passed: str | None,
                neighbours: Iterable[str]) -> list[tuple[str, str | None]]:
@@ -246,7 +322,7 @@ class Topology:
 
     def kept_live_without(self, opened: Iterable[str]) -> frozenset[str]:
         """``kept_live`` with the devices ``opened`` open as well."""
-        view = self.normal_view(POWER)
+        adjacency = self.normal_adjacency
         cut = set(opened)
         starts = [s.id for s in self.plant.sources if not s.starts_automatically]
         seen = set(starts)
@@ -255,11 +331,38 @@ class Topology:
             node = stack.pop()
             if node in cut:
                 continue  # an open device stays live on its supply side, feeds nothing on
-            for neighbour in view.neighbors(node):
+            for neighbour in adjacency[node]:
                 if neighbour not in seen:
                     seen.add(neighbour)
                     stack.append(neighbour)
         return frozenset(seen)
+
+    @cached_property
+    def normal_adjacency(self) -> dict[str, tuple[str, ...]]:
+        """Node → its neighbours in ``normal_view(POWER)`` (plain tuples, for walks)."""
+        return {node: tuple(neighbours)
+                for node, neighbours in self.normal_view(POWER).adjacency()}
+
+    def stays_live(self, node: str, opened: Collection[str]) -> bool:
+        """``node`` is in ``kept_live_without(opened)``, asked from the node's side: the
+        walk ends at the first source that runs without starting by itself, so it
+        costs what lies around the node, not the plant."""
+        adjacency = self.normal_adjacency
+        sources = {s.id for s in self.plant.sources if not s.starts_automatically}
+        if node in sources:
+            return True
+        seen = {node}
+        stack = [node]  # the node itself is asked about, open or not: walk on from it
+        while stack:
+            here = stack.pop()
+            for neighbour in adjacency[here]:
+                if neighbour in sources:
+                    return True
+                if neighbour not in seen:
+                    seen.add(neighbour)
+                    if neighbour not in opened:  # open: live on its supply side, no further
+                        stack.append(neighbour)
+        return False
 
     def below(self, element_id: str) -> list[str]:
         """Every element that loses supply when ``element_id`` opens (normal state,
@@ -371,6 +474,12 @@ class Topology:
         Follows ``from`` upward through normally closed devices and the normal
         side of transfer switches, through transformers to their primary.
         """
+        known = self._supply_paths.get(element_id)
+        if known is None:
+            known = self._supply_paths[element_id] = tuple(self._normal_supply_paths(element_id))
+        return list(known)
+
+    def _normal_supply_paths(self, element_id: str) -> list[tuple[str, ...]]:
         start = self.node_in(element_id)
         paths: list[tuple[str, ...]] = []
         stack: list[tuple[str, tuple[str, ...]]] = [(start, (start,))]

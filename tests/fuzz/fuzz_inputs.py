@@ -334,7 +334,7 @@ def mutate_pdf(seeds: Seeds, rng: random.Random, scratch: Path) -> tuple[bytes, 
     from pypdf.generic import NameObject, TextStringObject
 
     operation = rng.choice(["value", "value", "name", "name", "truncate", "flip", "garbage",
-                            "encrypt", "aes", "bomb", "startxref", "no-fields", "empty"])
+                            "encrypt", "public-key", "bomb", "startxref", "no-fields", "empty"])
     filled = scratch / "filled.pdf"
     filled.write_bytes(seeds.filled_pdf)
     out = scratch / "mutated.pdf"
@@ -368,8 +368,8 @@ def mutate_pdf(seeds: Seeds, rng: random.Random, scratch: Path) -> tuple[bytes, 
         return data[:cut] + os.urandom(rng.choice([1, 64, 4096])) + data[cut:], "pdf garbage"
     if operation == "encrypt":
         return hostile_pdfs.password_protected(filled, out).read_bytes(), "pdf password"
-    if operation == "aes":
-        return hostile_pdfs.aes_encrypted(filled, out).read_bytes(), "pdf AES"
+    if operation == "public-key":
+        return hostile_pdfs.public_key_encrypted(filled, out).read_bytes(), "pdf public-key"
     if operation == "bomb":
         return hostile_pdfs.decompression_bomb(out, 100 * 1024 * 1024).read_bytes(), "pdf bomb"
     if operation == "startxref":

@@ -43,6 +43,7 @@ from workpack.electrical.ground_inverse import (
 )
 from workpack.electrical.hazards import (
     LEADING_PHASE_MAX_PER_UNIT,
+    GroundHazard,
     GroundHazards,
     HazardNote,
     VoltageToEarth,
@@ -108,6 +109,7 @@ __all__ = [
     "DatedReading",
     "Fault",
     "GroundDiagnosis",
+    "GroundHazard",
     "GroundHazards",
     "GroundSolution",
     "GroundStatus",

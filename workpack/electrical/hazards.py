@@ -9,9 +9,11 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass
+from enum import StrEnum
 
 from workpack.electrical.standards import ApproachBoundary, CodeSet
 from workpack.electrical.threephase import line_to_neutral
+from workpack.model.package import SignalWord
 
 # A healthy phase leading a resistive ground can reach (1+√7)/2 · V_LN at 3ωC0·Rf ≈ 0.373.
 # Derived from the single-fault locus (KCL at the earth node); no published statement found.
@@ -84,11 +86,22 @@ def worst_voltage_to_earth(
         insulated=insulated, single_ground_v=bound)
 
 
+class GroundHazard(StrEnum):
+    """What a note about a ground warns of."""
+
+    ground_indicated = "ground_indicated"  # a phase has moved: treat all as up to worst_v
+    second_ground = "second_ground"  # a ground on another phase is a short through earth
+    above_line_voltage = "above_line_voltage"  # a phase stands above line voltage to earth
+    intermittent = "intermittent"  # an arcing ground's transient overvoltages
+
+
 @dataclass(frozen=True)
 class HazardNote:
-    """One caution, worded for a printed package: a signal word and plain text."""
+    """One caution, worded for a printed package: a signal word, what it warns of, and
+    plain text."""
 
-    signal_word: str  # "DANGER", "WARNING" or "CAUTION"
+    signal_word: SignalWord
+    kind: GroundHazard
     text: str
 
 
@@ -142,7 +155,7 @@ def ground_hazards(
     if shifted:
         notes.append(
             HazardNote(
-                "WARNING",
+                SignalWord.warning, GroundHazard.ground_indicated,
                 f"A ground is indicated: phase {phase} stands at {highest:.0f} V to earth "
                 f"(normal {v_ln:.0f} V). A partial ground can go solid, and a resistive one "
                 f"can lift a phase to about {MAX_SINGLE_GROUND_PU:.2f} × {v_ln:.0f} V = "
@@ -152,7 +165,7 @@ def ground_hazards(
         )
         notes.append(
             HazardNote(
-                "DANGER",
+                SignalWord.danger, GroundHazard.second_ground,
                 "A second ground on another phase of this system is a phase-to-phase short "
                 "through earth: heavy current, breakers may trip, arcing.",
             )
@@ -160,7 +173,7 @@ def ground_hazards(
     if highest > line_voltage_v:
         notes.append(
             HazardNote(
-                "WARNING",
+                SignalWord.warning, GroundHazard.above_line_voltage,
                 f"Phase {phase} is above line voltage to earth ({highest:.0f} V > "
                 f"{line_voltage_v:.0f} V): a resistive ground lifts the leading phase up "
                 f"to {LEADING_PHASE_MAX_PER_UNIT:.3f} × V_LN (derived).",
@@ -179,7 +192,7 @@ def ground_hazards(
                 f"example; insulation usually fails at {failure.low:g}–{failure.high:g} "
                 "per unit.)"
             )
-        notes.append(HazardNote("DANGER", text))
+        notes.append(HazardNote(SignalWord.danger, GroundHazard.intermittent, text))
     return GroundHazards(
         line_voltage_v=line_voltage_v,
         normal_phase_to_earth_v=v_ln,

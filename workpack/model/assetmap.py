@@ -80,7 +80,9 @@ class SheetMap(Strict):
                     "owner_column", examples=["loads"])
     sections_by: SectionsBy | None = Field(
         default=None, description="instead of section: a column whose value picks each "
-                                  "row's section")
+                                  "row's section",
+        examples=[{"column": "Type", "values": {
+            "Breaker": {"section": "devices", "defaults": {"kind": "circuit_breaker"}}}}])
     owner_column: str = Field(
         default="element", min_length=1,
         description="for a per-element list: header of the column naming the element",
@@ -131,7 +133,10 @@ class AssetMap(Strict):
                     "or a per-element list (routine, auxiliaries…) that no entry of sheets "
                     "names, its headers being field names; the layout `workpack export "
                     "--what assets` writes, new fields and lists included", examples=[True])
-    sheets: tuple[SheetMap, ...] = Field(default=(), description="the sheets read, in order")
+    sheets: tuple[SheetMap, ...] = Field(
+        default=(), description="the sheets read, in order",
+        examples=[[{"sheet": "Loads", "section": "loads",
+                    "columns": {"id": "Tag", "rated_kw": {"column": "Power", "unit": "kW"}}}]])
 
     @model_validator(mode="after")
     def _something_to_read(self) -> AssetMap:

@@ -23,7 +23,9 @@ class Plain(BaseModel):
 
 
 class SignalWord(StrEnum):
-    """Signal words as the open safety-sign standards use them."""
+    """Signal words as the open safety-sign standards use them: DANGER (will kill or
+    seriously injure), WARNING (could kill or seriously injure), CAUTION (minor injury or
+    damage), NOTICE (practice, no injury)."""
 
     danger = "DANGER"
     warning = "WARNING"

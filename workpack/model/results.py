@@ -21,39 +21,78 @@ def _blank_is_none(value: Any) -> Any:
 
 
 class LockRecord(Strict):
-    lock: str | None = None
-    tag: str | None = None
-    applied_by: str | None = None
-    applied_at: str | None = None
-    removed_by: str | None = None
-    removed_at: str | None = None
+    """One isolation point's lock and tag: who put them on and took them off, and when."""
+
+    lock: str | None = Field(default=None, description="the lock's number or mark",
+                             examples=["L-07"])
+    tag: str | None = Field(default=None, description="the tag's number", examples=["T-112"])
+    applied_by: str | None = Field(default=None, description="who applied lock and tag",
+                                   examples=["S. Quayle"])
+    applied_at: str | None = Field(default=None, description="when, as written on the sheet "
+                                   "(date and time)", examples=["2026-12-02 08:15"])
+    removed_by: str | None = Field(default=None, description="who removed them (the one who "
+                                   "applied them)", examples=["S. Quayle"])
+    removed_at: str | None = Field(default=None, description="when, as written on the sheet "
+                                   "(date and time)", examples=["2026-12-02 11:40"])
 
     _blanks = field_validator("*", mode="before")(_blank_is_none)
 
 
 class MeasuredValue(Strict):
-    value: float | str | None = None
-    temperature: float | str | None = None
+    """One reading as written: its value and, where the limit asks for it, the temperature."""
+
+    value: float | str | None = Field(
+        default=None, description="the reading: a bare number in the unit printed beside its "
+                                  "box (MΩ, V, kVA…), or a number with its unit; blank: not "
+                                  "recorded", examples=[850, "12 MΩ", "0.5 V"])
+    temperature: float | str | None = Field(
+        default=None, description="temperature of the equipment when read, in °C (a bare "
+                                  "number) or with its unit, for readings corrected to a "
+                                  "reference temperature", examples=[28, "28 °C"])
 
     _blanks = field_validator("*", mode="before")(_blank_is_none)
 
 
 class StepDone(Strict):
-    done: bool = False
+    """A step's tick box."""
+
+    done: bool = Field(default=False, description="true when the step was done",
+                       examples=[True])
+
+
+TESTER_BEFORE = ("the voltage tester was proven on a known live source before proving dead "
+                 "(true or false)")
+TESTER_AFTER = "and proven again after proving dead (true or false)"
+ISOLATION = ("isolation point (the device id printed in the package) → its lock and tag "
+             "record")
+ISOLATION_EXAMPLE = {"CB-AC1": {"lock": "L-07", "tag": "T-112", "applied_by": "S. Quayle",
+                                "applied_at": "2026-12-02 08:15"}}
+PROVING_DEAD = ("proving-dead check number (from 1, as printed) → conductor pair (e.g. 'A-B', "
+                "'A-E') → volts measured (expected 0 V)")
+PROVING_DEAD_EXAMPLE = {"1": {"A-B": 0, "B-C": 0, "C-A": 0, "A-E": 0, "B-E": 0, "C-E": 0}}
 
 
 class FinalTestResults(Strict):
-    """What was done in one final test of a search (see ``WorkPackage.final_tests``)."""
+    """What was done in one final test of a search: the isolation, proving dead and tests
+    of the circuit the search ended at."""
 
-    tester_proven_before: bool = False
-    tester_proven_after: bool = False
-    isolation: dict[str, LockRecord] = Field(default_factory=dict)
-    proving_dead: dict[int, dict[str, float | str | None]] = Field(default_factory=dict)
-    steps: dict[int, StepDone] = Field(default_factory=dict)
-    restoration: dict[int, StepDone] = Field(default_factory=dict)
+    tester_proven_before: bool = Field(default=False, description=TESTER_BEFORE,
+                                       examples=[True])
+    tester_proven_after: bool = Field(default=False, description=TESTER_AFTER,
+                                      examples=[True])
+    isolation: dict[str, LockRecord] = Field(default_factory=dict, description=ISOLATION,
+                                             examples=[ISOLATION_EXAMPLE])
+    proving_dead: dict[int, dict[str, float | str | None]] = Field(
+        default_factory=dict, description=PROVING_DEAD, examples=[PROVING_DEAD_EXAMPLE])
+    steps: dict[int, StepDone] = Field(default_factory=dict, description="step number (as "
+                                       "printed) → done", examples=[{"1": {"done": True}}])
+    restoration: dict[int, StepDone] = Field(default_factory=dict, description="restoration "
+                                             "step number (as printed) → done",
+                                             examples=[{"1": {"done": True}}])
     locks_left_on: str | None = Field(
         default=None, description="why this test's locks stay on (the ground is in this "
-                                  "circuit: it stays isolated for its repair)")
+                                  "circuit: it stays isolated for its repair)",
+        examples=["ground found on the windlass motor: stays isolated for repair"])
 
     _blanks = field_validator("locks_left_on", mode="before")(_blank_is_none)
 
@@ -68,29 +107,53 @@ class FinalTestResults(Strict):
 
 
 class Results(Strict):
-    package: str = Field(min_length=1, description="the work package id these results answer")
+    """The filled-in results of one work package, from the sheet `workpack results-template`
+    writes or from the package PDF's form fields. A blank is an answer: not recorded."""
+
+    package: str = Field(min_length=1, description="the work package id these results answer",
+                         examples=["WP-20261202-01"])
     package_sha256: str | None = Field(
         default=None, pattern=r"^[0-9a-f]{64}$",
-        description="hash of the package JSON as issued; refuses results for a changed package")
-    completed_by: str | None = None
-    supervisor: str | None = None
-    completed_on: dt.date | None = None
-    tester_proven_before: bool = False
-    tester_proven_after: bool = False
-    isolation: dict[str, LockRecord] = Field(default_factory=dict)
+        description="hash of the package JSON as issued (64 hex digits, filled in by the "
+                    "template); refuses results for a changed package",
+        examples=["1ed3f1a32c8c7be05b1eaaeb5db31c914352e5153848d6d314e804437122e418"])
+    completed_by: str | None = Field(default=None, description="the technician who did the "
+                                     "work", examples=["S. Quayle (ETO)"])
+    supervisor: str | None = Field(default=None, description="the supervisor who checked it",
+                                   examples=["R. Penhallow (C/E)"])
+    completed_on: dt.date | None = Field(default=None, description="the day the work was "
+                                         "completed, YYYY-MM-DD", examples=["2026-12-02"])
+    tester_proven_before: bool = Field(default=False, description=TESTER_BEFORE,
+                                       examples=[True])
+    tester_proven_after: bool = Field(default=False, description=TESTER_AFTER,
+                                      examples=[True])
+    isolation: dict[str, LockRecord] = Field(default_factory=dict, description=ISOLATION,
+                                             examples=[ISOLATION_EXAMPLE])
     proving_dead: dict[int, dict[str, float | str | None]] = Field(
-        default_factory=dict, description="index (from 1) → pair → volts measured")
-    steps: dict[int, StepDone] = Field(default_factory=dict)
-    readings: dict[str, MeasuredValue] = Field(default_factory=dict)
-    restoration: dict[int, StepDone] = Field(default_factory=dict)
+        default_factory=dict, description=PROVING_DEAD, examples=[PROVING_DEAD_EXAMPLE])
+    steps: dict[int, StepDone] = Field(default_factory=dict, description="step number (as "
+                                       "printed) → done", examples=[{"1": {"done": True}}])
+    readings: dict[str, MeasuredValue] = Field(
+        default_factory=dict, description="reading id as printed (e.g. S6.R1) → the value "
+                                          "measured", examples=[{"S6.R1": {"value": "850 MΩ",
+                                                                           "temperature": 28}}])
+    restoration: dict[int, StepDone] = Field(default_factory=dict, description="restoration "
+                                             "step number (as printed) → done",
+                                             examples=[{"1": {"done": True}}])
     ground_found_at: str | None = Field(
-        default=None, description="element where a searched ground was found, if any")
+        default=None, description="element where a searched ground was found, if any",
+        examples=["AC-1"])
     locks_left_on: str | None = Field(
         default=None, description="why the locks stay on (the acceptance was not met: the "
-                                  "item stays out of service)")
+                                  "item stays out of service)",
+        examples=["still below its minimum after the dry-out: to be rewound"])
     final_tests: dict[str, FinalTestResults] = Field(
-        default_factory=dict, description="final test id (F1, …) → what was done in it")
-    remarks: str | None = None
+        default_factory=dict, description="final test id (F1, …) → what was done in it; only "
+                                          "those the search ended at",
+        examples=[{"F1": {"tester_proven_before": True, "tester_proven_after": True,
+                          "steps": {"1": {"done": True}}}}])
+    remarks: str | None = Field(default=None, description="anything else, in words",
+                                examples=["terminal box gasket renewed"])
 
     _blanks = field_validator("completed_by", "supervisor", "remarks", "ground_found_at",
                               "locks_left_on", mode="before")(_blank_is_none)

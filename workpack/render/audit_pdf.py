@@ -1,10 +1,10 @@
 """The audit report as a PDF: ``render_audit_pdf(report, page_size) -> bytes``.
 
-The same content as the HTML report (``render.audit_html`` gives the words and the chart
-layout, so the two never say different things), laid out on the shared ``PdfDocument``
-frame: "Page x of y", DejaVu fonts, nothing under 9 pt, the creation date taken from the
-report's ``as_of``, so the same report gives the same bytes. Trend charts are reportlab
-drawings.
+The same content as the HTML report (``audit.wording`` gives the words and
+``render.trend_chart`` the chart layout, so the two never say different things), laid out
+on the shared ``PdfDocument`` frame: "Page x of y", DejaVu fonts, nothing under 9 pt, the
+creation date taken from the report's ``as_of``, so the same report gives the same bytes.
+Trend charts are reportlab drawings.
 """
 
 from __future__ import annotations
@@ -18,36 +18,40 @@ from reportlab.lib.units import mm
 from reportlab.pdfbase.pdfmetrics import stringWidth
 from reportlab.platypus import Flowable, Paragraph, Spacer, TableStyle
 
-from workpack.audit import OUTCOME_WORDS, STATUS_WORDS, AuditReport, IrTrend, PackageAudit
-from workpack.render.audit_html import (
-    TrendChart,
+from workpack.audit.report import AuditReport, IrTrend, PackageAudit
+from workpack.audit.wording import (
+    STATUS_WORDS,
     broken_shown,
     compared_shown,
+    effect_shown,
     entered_shown,
     judgement_text,
     legend,
     limit_shown,
+    problem_shown,
+    readings_heading,
     record_history,
     record_shown,
     signed_shown,
     temperature_shown,
     texts,
-    trend_chart,
 )
+from workpack.numbers import format_quantity
+from workpack.records import OUTCOME_WORDS
 from workpack.render.closeout import SHAPES, Mark
 from workpack.render.pdf import (
-    _GRID,
-    _HEAD_ROW,
     FONT,
     FONT_BOLD,
+    GRID,
+    HEAD_ROW,
     MIN_TEXT_PT,
     KeepTogether,
     PageSize,
     PdfDocument,
     Table,
-    format_quantity,
     words,
 )
+from workpack.render.trend_chart import TrendChart, trend_chart
 
 __all__ = ["AuditPdf", "chart_drawing", "render_audit_pdf"]
 
@@ -81,8 +85,8 @@ def chart_drawing(chart: TrendChart, font: str = FONT, bold: str = FONT_BOLD,
     turned = Group(text(0, 0, chart.y_label, "middle"))
     turned.transform = (0, 1, -1, 0, size * 1.1, y((chart.top + chart.bottom) / 2))
     d.add(turned)
-    if chart.minimum is not None:
-        d.add(Line(chart.left, y(chart.minimum[0]), chart.right, y(chart.minimum[0]),
+    if chart.minimum_y is not None:
+        d.add(Line(chart.left, y(chart.minimum_y), chart.right, y(chart.minimum_y),
                    strokeColor=colors.black, strokeWidth=1.3, strokeDashArray=[6, 3]))
     if len(chart.line) > 1:
         d.add(PolyLine([c for x, yy in chart.line for c in (x, y(yy))],
@@ -116,7 +120,7 @@ class AuditPdf(PdfDocument):
         self.report = report
         self.texts = texts(report)
         self.document_id = f"Audit as of {report.filter.as_of.isoformat()}"
-        self.document_title = f"Audit of work package records as of {report.filter.as_of}"
+        self.document_title = f"{self.texts['title']} as of {report.filter.as_of}"
         self.created = report.filter.as_of
         # the package column as wide as the widest id, so no id breaks across lines
         ids = [p.package_id for p in report.packages] + [r.package_id for r in report.unmatched]
@@ -143,7 +147,7 @@ class AuditPdf(PdfDocument):
         body = [[self.para(c) if isinstance(c, str) else c for c in row] for row in rows]
         table = Table([[self.para(h, "head") for h in head], *body],
                       colWidths=self.cols(*widths_mm), repeatRows=1, repeat_when_cut=(0,))
-        style: list[tuple[Any, ...]] = [*_GRID, *_HEAD_ROW]
+        style: list[tuple[Any, ...]] = [*GRID, *HEAD_ROW]
         for i in flagged:
             style += [("LINEABOVE", (0, i + 1), (-1, i + 1), 2.2, colors.black),
                       ("LINEBELOW", (0, i + 1), (-1, i + 1), 2.2, colors.black)]
@@ -157,17 +161,14 @@ class AuditPdf(PdfDocument):
     def integrity_box(self) -> Table:
         i = self.report.integrity
         if i.intact:
-            head: Flowable = self.mark("passed", "RECORDS INTACT")
+            head: Flowable = self.mark("passed", self.texts["intact"])
             extra: list[str] = []
         elif i.ok:
-            head = self.mark("overdue", "CHAIN INTACT, GUARDS MISSING")
-            extra = ["The hash chain still verifies, but the store's append-only guards were "
-                     "removed or changed outside workpack. Keep a copy of the file as it is "
-                     "and find out who edited it."]
+            head = self.mark("overdue", self.texts["guards_missing"])
+            extra = [self.texts["guards_missing_advice"]]
         else:
-            head = Mark("cross", "RECORDS ALTERED: VERIFICATION FAILED", 15.0)
-            extra = ["Everything below is read from the store as it now is. It cannot be "
-                     "relied on until the break is explained."]
+            head = Mark("cross", self.texts["altered"], 15.0)
+            extra = [self.texts["altered_advice"]]
         facts = f"Records in the store: {i.count}."
         if i.head_sequence is not None:
             facts += f" Last record: #{i.head_sequence}, chain hash {i.head_sha256}."
@@ -188,12 +189,12 @@ class AuditPdf(PdfDocument):
         tally = Table([[self.mark(s, STATUS_WORDS[s]) for s in counts],
                        [self.para(str(n), "bold") for n in counts.values()]],
                       colWidths=self.cols(*[1] * len(counts)))
-        tally.setStyle(TableStyle([*_GRID, *_HEAD_ROW]))
-        out: list[Flowable] = [self.section("Packages and their status"), tally,
+        tally.setStyle(TableStyle([*GRID, *HEAD_ROW]))
+        out: list[Flowable] = [self.section(self.texts["section_status"]), tally,
                                Spacer(1, 1.5 * mm), self.para(self.texts["status_rules"],
                                                               "small"), Spacer(1, 2 * mm)]
         if not r.packages:
-            return [*out, self.para("No package issued in this range.", "body")]
+            return [*out, self.para(self.texts["none_packages"], "body")]
         rows: list[list[Cell]] = [
             [self.para(p.package_id, "cell_bold"), p.date.isoformat(), p.item, p.title,
              self.mark(p.status, STATUS_WORDS[p.status]),
@@ -205,7 +206,7 @@ class AuditPdf(PdfDocument):
         return out
 
     def failing_block(self) -> list[Flowable]:
-        out: list[Flowable] = [self.section("Failing readings")]
+        out: list[Flowable] = [self.section(self.texts["section_failing"])]
         rows: list[list[Cell]] = []
         for p in self.report.packages:
             for r in p.failing:
@@ -215,34 +216,29 @@ class AuditPdf(PdfDocument):
                 rows.append([[self.para(p.package_id),
                               self.para(f"record #{p.latest.sequence if p.latest else ''}",
                                         "small")],
-                             f"{r.reading_id} {r.what}", entered, compared_shown(r),
+                             f"{r.id} {r.what}", entered, compared_shown(r),
                              [self.mark("fail", "FAIL"), self.para(broken_shown(r))],
                              self.para(r.basis, "small")])
         if not rows:
-            return [*out, self.para("No reading in the latest records broke its limit.",
-                                    "body")]
+            return [*out, self.para(self.texts["none_failing"], "body")]
         return [*out, self.grid(("Package", "Reading", "As entered", "Compared",
                                  "Limit broken", "Source of the limit"), rows,
                                 (self.id_mm, 30, 26, 26, 30, 70 - self.id_mm),
                                 range(len(rows)))]
 
     def readings_table(self, p: PackageAudit) -> list[Flowable]:
-        assert p.latest is not None
-        title = Paragraph(words(f"{p.package_id}: {p.item}, record #{p.latest.sequence}"),
-                          self.style["sub"])
-        signed = signed_shown(p) + (f", completed on {p.completed_on.isoformat()}"
-                                    if p.completed_on else "")
-        lead: list[Flowable] = [title, self.para(signed + ".", "small"), Spacer(1, 1 * mm)]
+        title = Paragraph(words(readings_heading(p)), self.style["sub"])
+        lead: list[Flowable] = [title, self.para(signed_shown(p), "small"), Spacer(1, 1 * mm)]
         if p.problem:
-            lead.append(self.para(f"The record could not be read in full: {p.problem}", "bold"))
+            lead.append(self.para(problem_shown(p), "bold"))
         if not p.readings:
-            return [KeepTogether([*lead, self.para("No readings in this package.", "body")])]
+            return [KeepTogether([*lead, self.para(self.texts["none_readings"], "body")])]
         rows: list[list[Cell]] = []
         for r in p.readings:
             result: list[Flowable] = [self.mark(r.outcome, OUTCOME_WORDS[r.outcome])]
             if r.note:
                 result.append(self.para(r.note, "small"))
-            rows.append([f"{r.reading_id} {r.what}", entered_shown(r.entered, r.unit),
+            rows.append([f"{r.id} {r.what}", entered_shown(r.entered, r.unit),
                          temperature_shown(r.entered_temperature), compared_shown(r),
                          [self.para(limit_shown(r)), self.para(r.basis, "small")], result])
         flagged = [n for n, r in enumerate(p.readings) if r.outcome == "fail"]
@@ -251,37 +247,37 @@ class AuditPdf(PdfDocument):
         return [KeepTogether([*lead, table])]
 
     def readings_block(self) -> list[Flowable]:
-        out: list[Flowable] = [self.section("Readings against their limits"),
+        out: list[Flowable] = [self.section(self.texts["section_readings"]),
                                self.para(self.texts["readings_intro"], "small")]
         recorded = [p for p in self.report.packages if p.latest is not None]
         if not recorded:
-            return [*out, self.para("No package in this range has a record yet.", "body")]
+            return [*out, self.para(self.texts["none_recorded"], "body")]
         for p in recorded:
             out += self.readings_table(p)
         return out
 
     def deviations_block(self) -> list[Flowable]:
-        out: list[Flowable] = [self.section("Deviations")]
+        out: list[Flowable] = [self.section(self.texts["section_deviations"])]
         found = [(p, d) for p in self.report.packages for d in p.deviations]
         if not found:
-            return [*out, self.para("No deviations in the latest records.", "body")]
+            return [*out, self.para(self.texts["none_deviations"], "body")]
         rows: list[list[Cell]] = [
             [p.package_id, d.kind, d.text,
-             self.mark("fail", "FAILS THE JOB") if d.fails else Mark("bar", "INCOMPLETE")]
+             self.mark("fail" if d.fails else "not recorded", effect_shown(d.fails))]
             for p, d in found]
         flagged = [n for n, (_, d) in enumerate(found) if d.fails]
         return [*out, self.grid(("Package", "Kind", "Deviation", "Effect"), rows,
                                 (self.id_mm, 16, 126 - self.id_mm, 40), flagged)]
 
     def isolations_block(self) -> list[Flowable]:
-        out: list[Flowable] = [self.section("Isolations not restored"),
+        out: list[Flowable] = [self.section(self.texts["section_isolations"]),
                                self.para(self.texts["isolations_intro"], "small"),
                                Spacer(1, 1.5 * mm)]
         left_on = self.report.open_isolations
         if not left_on:
             return [*out, Table([[self.mark("passed", "NONE"),
-                                  self.para(": every lock recorded as applied is recorded as "
-                                            "removed.", "body")]], hAlign="LEFT")]
+                                  self.para(f": {self.texts['none_isolations']}", "body")]],
+                                hAlign="LEFT")]
         rows: list[list[Cell]] = [
             [self.mark("failed", i.device), i.package_id, i.item, i.lock or "—", i.tag or "—",
              i.applied_by or "—", i.applied_at or "—", record_shown(i.record)]
@@ -295,7 +291,7 @@ class AuditPdf(PdfDocument):
         if trend.points:
             chart = trend_chart(trend, self.width, 70 * mm, MIN_TEXT_PT)
             parts += [chart_drawing(chart), Spacer(1, 1 * mm),
-                      self.para(legend(chart), "small")]
+                      self.para(legend(trend), "small")]
         head, rule = judgement_text(trend)
         if head:
             parts += [Spacer(1, 1.5 * mm), self.para(head, "bold"), self.para(rule, "small")]
@@ -311,7 +307,7 @@ class AuditPdf(PdfDocument):
                     p.taken_on.isoformat(),
                     [self.para(p.package_id), self.para(f"record #{p.record_sequence}",
                                                         "small")],
-                    f"{p.reading_id} {p.what}" + (" (lowest of the test)"
+                    f"{p.reading_id} {p.what}" + (f" {self.texts['lowest_of_test']}"
                                                   if p.lowest_of_test else ""),
                     format_quantity(p.measured_si, trend.unit),
                     format_quantity(p.temperature_c, "°C") if p.temperature_c is not None
@@ -324,11 +320,10 @@ class AuditPdf(PdfDocument):
         return out
 
     def trends_block(self) -> list[Flowable]:
-        out: list[Flowable] = [self.section("Insulation resistance by item"),
+        out: list[Flowable] = [self.section(self.texts["section_trends"]),
                                self.para(self.texts["trends_intro"], "small")]
         if not self.report.trends:
-            return [*out, self.para("No insulation-resistance readings of an item in this "
-                                    "range.", "body")]
+            return [*out, self.para(self.texts["none_trends"], "body")]
         for trend in self.report.trends:
             out += self.trend_block(trend)
         return out
@@ -337,13 +332,13 @@ class AuditPdf(PdfDocument):
         out: list[Flowable] = []
         superseded = self.report.superseded
         if superseded:
-            out += [self.section("Records superseded by a correction"),
+            out += [self.section(self.texts["section_superseded"]),
                     self.grid(("Record", "Package", "Verdict then", "Superseded by"),
                               [[record_shown(r), r.package_id, r.verdict,
                                 f"#{r.superseded_by}"] for r in superseded],
                               (70, self.id_mm, 34, 78 - self.id_mm))]
         if self.report.unmatched:
-            out += [self.section("Records of packages not given to this audit"),
+            out += [self.section(self.texts["section_unmatched"]),
                     self.para(self.texts["unmatched_intro"], "small"), Spacer(1, 1.5 * mm),
                     self.grid(("Package", "Latest record", "Verdict"),
                               [[r.package_id, record_shown(r), r.verdict]
@@ -351,8 +346,8 @@ class AuditPdf(PdfDocument):
         return out
 
     def story(self) -> list[Flowable]:
-        return [Paragraph("Audit of work package records", self.style["title"]),
-                self.para(self.report.filter.describe() + ".", "body"), Spacer(1, 3 * mm),
+        return [Paragraph(self.texts["title"], self.style["title"]),
+                self.para(self.texts["filter"] + ".", "body"), Spacer(1, 3 * mm),
                 self.integrity_box(), *self.status_block(), *self.failing_block(),
                 *self.readings_block(), *self.deviations_block(), *self.isolations_block(),
                 *self.trends_block(), *self.records_block()]

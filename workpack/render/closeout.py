@@ -1,9 +1,10 @@
 """The closed-out record: ``render_closeout(package, evaluation, record) -> bytes`` (PDF).
 
 The package as it was issued, laid out by ``PackagePdf`` itself, with every blank
-filled in from the results: each form field of the package (see ``render.pdf`` for the
-naming scheme) is swapped for what was written in it, so the closed-out record and the
-issued package can never disagree about layout or content. On top: the verdict in a
+filled in from the results: ``PackagePdf.blank``, which makes each blank of the package
+(see ``render.pdf.fields`` for the naming scheme), is overridden to show what was
+written in it, so the closed-out record and the issued package can never disagree about
+layout or content. On top: the verdict in a
 framed box, the record's facts and the deviations. Each reading carries its outcome as a
 shape and a word (✓ in a circle PASS, ✗ in a square FAIL, a bar NOT RECORDED), its
 corrected value where the limit asked for one, and the evaluation's note under its table.
@@ -30,22 +31,21 @@ from reportlab.platypus import (
     TableStyle,
 )
 
-from workpack.audit import OUTCOME_WORDS, entered_text, is_bare_number, results_from_payload
-from workpack.evaluate import Evaluation, ReadingVerdict
-from workpack.model.package import WorkPackage
+from workpack.model.evaluation import Evaluation, ReadingVerdict
+from workpack.model.package import Reading, WorkPackage
 from workpack.model.results import Results
+from workpack.numbers import format_quantity
+from workpack.records import OUTCOME_WORDS, entered_text, is_bare_number, read_payload, utc_text
 from workpack.render.figures import shortened
 from workpack.render.pdf import (
     FONT,
     FONT_BOLD,
-    CheckBox,
-    FieldBox,
-    KeepTogether,
+    Blank,
+    Cell,
     PackagePdf,
     PageSize,
     Table,
-    format_quantity,
-    split_field_name,
+    box_width,
     words,
 )
 from workpack.store import Record, package_sha256
@@ -57,11 +57,6 @@ VERDICT_WORDS = {"passed": "PASSED", "failed": "FAILED", "incomplete": "INCOMPLE
 SHAPES = {"pass": "tick", "fail": "cross", "not recorded": "bar", "recorded": "dot",
           "passed": "tick", "failed": "cross", "incomplete": "bar",
           "completed": "tick", "open": "ring", "overdue": "alert"}
-
-
-def utc_text(when: dt.datetime) -> str:
-    """A stored timestamp for a reader: "2026-12-02 16:00 UTC"."""
-    return f"{when.astimezone(dt.UTC):%Y-%m-%d %H:%M} UTC"
 
 
 class Mark(Flowable):
@@ -163,8 +158,7 @@ class FilledBox(Flowable):
         self.height = height
 
     def _box_width(self) -> float:
-        suffix_w = stringWidth(self.suffix, FONT, 10) + 1.5 * mm if self.suffix else 0.0
-        return max(self.width - suffix_w, 8 * mm)
+        return box_width(self.width, self.suffix)
 
     def wrap(self, availWidth: float, availHeight: float) -> tuple[float, float]:
         self.width = self.fixed_width if self.fixed_width is not None else availWidth
@@ -250,17 +244,15 @@ class CloseoutPdf(PackagePdf):
             raise ValueError(f"record {record.sequence} answers {record.package_id!r}, not "
                              f"the package given ({package.id!r})")
         if results is None and record is not None:
-            results = results_from_payload(record.results)
+            results = read_payload(record).results
         self.evaluation = evaluation
         self.record = record
         self.results = results
         self.verdicts = {v.id: v for v in evaluation.readings}
-        self.limits = {r.id: r.limit for r in package.readings()}
         self.document_title = f"Close-out: {package.title}"
         self.created = (record.recorded_at.astimezone(dt.UTC).date() if record is not None
                         else results.completed_on if results is not None
                         and results.completed_on is not None else package.date)
-        self._notes: list[ReadingVerdict] = []
 
     def header_right(self) -> str:
         return f"{self.package.plant} · {self.package.date.isoformat()} · CLOSE-OUT RECORD"
@@ -352,38 +344,25 @@ class CloseoutPdf(PackagePdf):
             Paragraph(words(f"Close-out record: {self.package.title}"), self.style["title"]),
             self.verdict_box(), Spacer(1, 3 * mm), *self.record_block(),
             *self.deviations_block(), self.section("The package as filled in")]
-        return [*head, *self._filled_list(package_story)]
+        return [*head, *package_story]
 
     # -- filling the package's blanks
-    def _filled_list(self, flowables: Sequence[Any]) -> list[Any]:
-        out: list[Any] = []
-        for item in flowables:
-            self._notes = []
-            out.append(self._filled(item))
-            notes = [v for v in self._notes if v.note]
-            if notes:
-                out += [Paragraph(f"<b>{words(v.id)}</b>: {words(v.note)}",
-                                  self.style["small"]) for v in notes]
-                out.append(Spacer(1, 1.5 * mm))
-        return out
+    def blank(self, blank: Blank) -> Cell:
+        """The blank as it was filled in: a ticked or empty square, the entry in its box,
+        or a reading with its outcome."""
+        parts = tuple(str(part) for part in blank.parts)
+        if blank.tick:
+            return TickedBox(self._ticked(parts), self.blank_height(blank))
+        if parts[0] == "reading":
+            return self._reading_cell(blank, self.verdicts.get(parts[1]))
+        text, strong = self._written(parts)
+        return self._filled_box(blank, text, strong=strong)
 
-    def _filled(self, item: Any) -> Any:
-        # reportlab keeps a table's cells in ``_cellvalues`` and a KeepTogether's flowables
-        # in ``_content`` and has no public setter; both are filled in place before layout.
-        if isinstance(item, FieldBox):
-            return self._entry(item)
-        if isinstance(item, CheckBox):
-            return TickedBox(self._ticked(split_field_name(item.name)), item.size)
-        if isinstance(item, list | tuple):
-            return [self._filled(x) for x in item]
-        if isinstance(item, Table):
-            item._cellvalues = [[self._filled(cell) for cell in row]
-                                for row in item._cellvalues]
-        elif isinstance(item, KeepTogether):
-            notes = self._notes
-            item._content = self._filled_list(item._content)
-            self._notes = notes
-        return item
+    def reading_notes(self, readings: Sequence[Reading]) -> list[Flowable]:
+        """The evaluation's note on each reading that has one, under its table."""
+        notes = [v for v in (self.verdicts.get(r.id) for r in readings) if v and v.note]
+        return [Paragraph(f"<b>{words(v.id)}</b>: {words(v.note)}", self.style["small"])
+                for v in notes]
 
     def _ticked(self, parts: tuple[str, ...]) -> bool:
         r: Any = self.results
@@ -399,22 +378,13 @@ class CloseoutPdf(PackagePdf):
         step = done.get(int(parts[1]))
         return bool(step and step.done)
 
-    def _entry(self, box: FieldBox) -> Any:
-        parts = split_field_name(box.name)
-        if parts[0] == "reading":
-            return self._reading_cell(box, self.verdicts.get(parts[1]))
-        text, strong = self._written(parts)
-        return self._filled_box(box, text, strong=strong)
-
-    def _filled_box(self, box: FieldBox, text: str | None, strong: bool = False,
-                    suffix: str | None = None) -> FilledBox:
+    def _filled_box(self, blank: Blank, text: str | None, strong: bool = False) -> FilledBox:
         shown = "—" if text is None or not text.strip() else text
-        suffix = box.suffix if suffix is None else suffix
-        if text is None or not is_bare_number(shown):
-            suffix = ""  # "12 MΩ" carries its unit; a blank needs none
+        # "12 MΩ" carries its unit; an empty blank needs none
+        suffix = blank.suffix if text is not None and is_bare_number(shown) else ""
         markup = f"<b>{words(shown)}</b>" if strong else words(shown)
-        return FilledBox(Paragraph(markup, self.style["cell"]), suffix, box.box_height,
-                         box.fixed_width, top=box.multiline)
+        return FilledBox(Paragraph(markup, self.style["cell"]), suffix,
+                         self.blank_height(blank), blank.width, top=blank.multiline)
 
     def _written(self, parts: tuple[str, ...]) -> tuple[str | None, bool]:
         """What was written in the blank named by ``parts``; and whether to stress it."""
@@ -459,10 +429,9 @@ class CloseoutPdf(PackagePdf):
             return (getattr(lock, parts[2]) if lock else None), False
         return None, False
 
-    def _reading_cell(self, box: FieldBox, verdict: ReadingVerdict | None) -> list[Flowable]:
+    def _reading_cell(self, blank: Blank, verdict: ReadingVerdict | None) -> list[Flowable]:
         if verdict is None:
-            return [self._filled_box(box, None)]
-        self._notes.append(verdict)
+            return [self._filled_box(blank, None)]
         measured = self.results.readings.get(verdict.id) if self.results else None
         if measured is not None:
             text = entered_text(measured.value)
@@ -470,11 +439,10 @@ class CloseoutPdf(PackagePdf):
             text = format_quantity(verdict.measured_si, verdict.unit)
         else:
             text = None
-        cell: list[Flowable] = [self._filled_box(box, text), Spacer(1, 1.2 * mm),
+        cell: list[Flowable] = [self._filled_box(blank, text), Spacer(1, 1.2 * mm),
                                 Mark(SHAPES[verdict.outcome], OUTCOME_WORDS[verdict.outcome])]
-        limit = self.limits.get(verdict.id)
-        if (verdict.compared_si is not None and verdict.corrected_to_c is not None
-                and limit is not None and limit.code_set):  # corrected: see evaluate._judge
+        if (verdict.corrected and verdict.compared_si is not None
+                and verdict.corrected_to_c is not None):
             cell.append(Paragraph(
                 f"corrected {words(format_quantity(verdict.compared_si, verdict.unit))} at "
                 f"{words(format_quantity(verdict.corrected_to_c, '°C'))}", self.style["small"]))

@@ -18,6 +18,7 @@ from reportlab.pdfbase.pdfmetrics import stringWidth
 from reportlab.platypus import Flowable, Paragraph, Spacer, TableStyle
 
 from workpack.model.package import SignalWord, WorkPackage
+from workpack.numbers import format_number
 from workpack.render.pdf import (
     FONT,
     FONT_BOLD,
@@ -25,7 +26,6 @@ from workpack.render.pdf import (
     PageSize,
     PdfDocument,
     Table,
-    format_number,
     words,
 )
 

@@ -8,13 +8,14 @@ from workpack.isolation import IsolationPlan
 from workpack.numbers import format_ohms, format_quantity, format_volts
 from workpack.plan import DayPlan
 from workpack.search import FaultSearch
+from workpack.search_wording import BoardNumbering, final_test_line, step_words
 from workpack.summary import PlantSummary
 
 
 def isolation_plan(plan: IsolationPlan, item_label: str) -> str:
     lines = [f"Isolation of {item_label}", ""]
     for hazard in plan.hazards:
-        lines.append(f"{hazard.severity}: {hazard.text}")
+        lines.append(f"{hazard.signal_word.value}: {hazard.text}")
     if plan.hazards:
         lines.append("")
     lines.append("Open, lock and tag, in this order:")
@@ -90,7 +91,7 @@ def quick_diagnosis(summary: ReadingSummary) -> str:
     if summary.fault_current_a is not None:
         lines.append(f"Ground current: {format_quantity(summary.fault_current_a, 'A')}")
     lines.append(f"Consistent with a single ground: {'yes' if result.consistent else 'NO'}")
-    lines.extend(f"{word}: {text}" for word, text in summary.cautions)
+    lines.extend(f"{note.signal_word.value}: {note.text}" for note in summary.cautions)
     lines.extend(f"  - {note}" for note in result.notes)
     if result.next_steps:
         lines.append("Next:")
@@ -117,7 +118,8 @@ def day_diagnosis(day: DayDiagnosis) -> str:
                          f"{format_quantity(diagnosis.capacitance_per_phase_f, 'µF')} per phase "
                          f"({diagnosis.capacitance_basis})")
         lines.extend(f"    - {note}" for note in diagnosis.notes)
-        lines.extend(f"    {word}: {text}" for word, text in diagnosis.cautions)
+        lines.extend(f"    {note.signal_word.value}: {note.text}"
+                     for note in diagnosis.cautions)
         lines.extend(f"    next: {step}" for step in diagnosis.next_steps)
     lines.append("")
     lines.append("Local codes, the employer's safety rules and licensed practice prevail.")
@@ -135,38 +137,22 @@ def fault_search(search: FaultSearch) -> str:
     for note in search.notes:
         lines.append(f"NOTE: {note}")
     level = None
+    numbering = BoardNumbering()
     for step in search.steps:
         if step.level != level:
             level = step.level
             lines.append(f"\n== Level {level} ==")
-        opened = ", ".join(f"{d} ({w})" if w else d
-                           for d, w in zip(step.open_devices, step.where, strict=True))
-        lines.append(f"{step.number}. Open {opened}  [{step.minutes:.0f} min]")
-        if step.transfer_first:
-            lines.append(f"   First transfer to the alternate supply: "
-                         f"{', '.join(step.transfer_first)}")
-        if step.permission_for:
-            lines.append(f"   PERMISSION needed: {', '.join(step.permission_for)} is vital "
-                         "and has no alternate supply")
-        if step.dead_loads:
-            shown = ", ".join(step.dead_loads[:8])
-            more = f" and {len(step.dead_loads) - 8} more" if len(step.dead_loads) > 8 else ""
-            lines.append(f"   Goes dead for about a minute: {shown}{more}")
-        lines.append(f"   {step.if_clears}")
-        lines.append(f"   {step.if_not_clear}")
+        words = step_words(search, step, numbering)
+        lines.append(f"{step.number}. {words.open}  [{step.minutes:.0f} min]")
+        lines.extend(f"   {text}" for text in (words.transfer, words.permission, words.dead,
+                                              words.if_clears, words.if_stays) if text)
     lines.append("\nWhy this order (chance the ground is downstream, cost to open it):")
     for facts in sorted(search.candidates, key=lambda c: (-c.prior, c.id)):
         reasons = "; ".join(facts.reasons[:4]) or "no raised factor"
         lines.append(f"  {facts.id}: {facts.prior:.1%}, {facts.cost_minutes:g} min — {reasons}")
     lines.append("\nFinal tests when a circuit is found (isolate it first):")
-    for final in search.final_tests:
-        for section in final.sections:
-            low, high = section.test_voltage_v
-            volts = f"{low:g} V" if low == high else f"{low:g}–{high:g} V"
-            at = f" at {section.reference_c:g} °C" if section.reference_c is not None else ""
-            what = section.label if section.circuit else section.element
-            lines.append(f"  {final.feeder} → {what}: {volts} DC, minimum "
-                         f"{format_ohms(section.minimum_ohm)}{at} ({section.basis})")
+    lines.extend(f"  {final_test_line(final, section)}"
+                 for final in search.final_tests for section in final.sections)
     lines.append("\nWeights (rules/search-weights.yaml):")
     lines.extend(f"  {line}" for line in search.weights_used)
     lines.append("\nLocal codes, the employer's safety rules and licensed practice prevail.")

@@ -42,10 +42,23 @@ from workpack.store._chain import (
     package_sha256,
     plant_genesis,
 )
-from workpack.store._open import is_server_url, open_store, set_up_store
 
 if TYPE_CHECKING:
+    from workpack.store._open import is_server_url, open_store, set_up_store
     from workpack.store._sqlite import SQLiteStore
+
+# The backends load on first use, so the pure parts (the record, the chain, the errors)
+# can be imported without loading sqlite3: the audit hashes packages with package_sha256.
+_BACKENDS = {"SQLiteStore": "_sqlite", "is_server_url": "_open", "open_store": "_open",
+             "set_up_store": "_open"}
+
+
+def __getattr__(name: str) -> Any:
+    if name in _BACKENDS:
+        from importlib import import_module
+
+        return getattr(import_module(f"workpack.store.{_BACKENDS[name]}"), name)
+    raise AttributeError(f"module 'workpack.store' has no attribute {name!r}")
 
 __all__ = [
     "ChainBreak",
@@ -68,13 +81,3 @@ __all__ = [
     "plant_genesis",
     "set_up_store",
 ]
-
-
-def __getattr__(name: str) -> Any:
-    """``SQLiteStore`` on first use: importing the package (for the pure chain, as the
-    audit does) must not load sqlite3."""
-    if name == "SQLiteStore":
-        from workpack.store._sqlite import SQLiteStore
-
-        return SQLiteStore
-    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")

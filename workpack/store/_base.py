@@ -9,8 +9,8 @@ from __future__ import annotations
 import datetime as dt
 import json
 import re
-from collections.abc import Iterator, Mapping
-from dataclasses import dataclass
+from collections.abc import Callable, Iterator, Mapping, Sequence
+from dataclasses import dataclass, fields
 from types import TracebackType
 from typing import Any, Protocol, Self, runtime_checkable
 from urllib.parse import urlsplit
@@ -159,7 +159,11 @@ class RecordStore(Protocol):
         ...
 
     def latest(self, package_id: str) -> Record | None:
-        """The newest record of the package that no later record supersedes."""
+        """The package's latest effective record: the newest that no record supersedes.
+
+        ``workpack.records.latest_effective`` is the definition; a backend answers in its
+        own query, held to that definition by tests/test_records.py.
+        """
         ...
 
     def latest_per_package(self) -> dict[str, Record]:
@@ -231,6 +235,15 @@ def prepare(location: str, *, package_id: str, package_sha256: str,
                      format_timestamp(recorded_at), supersedes, verdict)
 
 
+def last_correction(sequence: int, correction_of: Callable[[int], int | None]) -> int | None:
+    """The end of the line of corrections to ``sequence`` (None if it has none), given
+    ``correction_of(n)``: the record whose ``supersedes`` is n, if any."""
+    end = None
+    while (found := correction_of(sequence)) is not None:
+        end = sequence = found
+    return end
+
+
 def check_supersedes(location: str, new: NewRecord, target: StoredRow | None,
                      superseded_by: int | None, last: int) -> None:
     """RecordRefusedError unless ``new.supersedes`` may be corrected by ``new``.
@@ -255,3 +268,51 @@ def check_supersedes(location: str, new: NewRecord, target: StoredRow | None,
         raise RecordRefusedError(f"{location}: supersedes {n}: record {n} is already "
                                  f"superseded (its latest correction is record "
                                  f"{superseded_by}); supersede {superseded_by} instead")
+
+
+# --- reading and lifetime, alike in every backend ----------------------------------------
+
+BATCH = 500  # rows per read while iterating
+# The columns of a stored record, in ``StoredRow``'s order (its fields, as SELECT lists them).
+STORED_COLUMNS = ", ".join(field.name for field in fields(StoredRow))
+
+
+def record_filters(mark: str, *, package_id: str | None, since: dt.datetime | None,
+                   until: dt.datetime | None) -> tuple[str, list[Any]]:
+    """The conditions ``records()`` adds (" AND package_id = ?…", with ``mark`` as the
+    backend's placeholder) and their values."""
+    where, params = "", []
+    for sql, value in (("package_id =", package_id),
+                       ("recorded_at >=", since), ("recorded_at <", until)):
+        if value is not None:
+            where += f" AND {sql} {mark}"
+            params.append(format_timestamp(value) if isinstance(value, dt.datetime)
+                          else value)
+    return where, params
+
+
+def in_batches(fetch: Callable[[int], Sequence[Sequence[Any]]]) -> Iterator[StoredRow]:
+    """Rows in sequence order, ``fetch(after)`` giving the next ``BATCH`` rows numbered
+    above ``after``: no read stays open between the caller's steps, so appends may
+    interleave with the iteration."""
+    after = 0
+    while True:
+        batch = fetch(after)
+        yield from (StoredRow(*found) for found in batch)
+        if len(batch) < BATCH:
+            return
+        after = batch[-1][0]
+
+
+class ClosedOnExit:
+    """A store used as a context manager is closed on leaving it."""
+
+    def close(self) -> None:
+        raise NotImplementedError
+
+    def __enter__(self) -> Self:
+        return self
+
+    def __exit__(self, exc_type: type[BaseException] | None, exc: BaseException | None,
+                 tb: TracebackType | None) -> None:
+        self.close()

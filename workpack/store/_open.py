@@ -8,6 +8,7 @@ from typing import Any
 
 from workpack.errors import did_you_mean
 from workpack.store._base import RecordStore, StoreURLError, redact
+from workpack.store._sqlite import SQLiteStore
 
 _SCHEMES = ("sqlite", "postgresql")
 
@@ -30,8 +31,6 @@ def open_store(location: str | os.PathLike[str], *, plant: str | None = None,
     ``create=False`` refuses a location (or a plant) with no records store yet, which is
     what an audit wants.
     """
-    from workpack.store._sqlite import SQLiteStore  # sqlite3 only when a store opens
-
     if not isinstance(location, str):
         return SQLiteStore(location, plant=plant, create=create, busy_timeout_s=busy_timeout_s)
     scheme, sep, rest = location.partition("://")

@@ -37,20 +37,25 @@ from __future__ import annotations
 import contextlib
 import datetime as dt
 from collections.abc import Callable, Iterator, Mapping, Sequence
-from types import TracebackType
-from typing import Any, Self
+from typing import Any
 
 import psycopg
 from psycopg import errors, sql
 
 from workpack.errors import did_you_mean
 from workpack.store._base import (
+    BATCH,
+    STORED_COLUMNS,
+    ClosedOnExit,
     NoSuchRecordError,
     NotAStoreError,
     Record,
     StoreError,
     check_supersedes,
+    in_batches,
+    last_correction,
     prepare,
+    record_filters,
     redact,
 )
 from workpack.store._chain import (
@@ -58,7 +63,6 @@ from workpack.store._chain import (
     ChainHead,
     StoredRow,
     Verification,
-    format_timestamp,
     next_row,
     plant_genesis,
     verify_rows,
@@ -68,9 +72,7 @@ SCHEMA_VERSION = 1  # workpack.store_info 'schema_version'
 LOCK_CLASS = 0x77706B72  # first key of every advisory lock this store takes ("wpkr")
 AUDITOR_ROLE = "workpack_auditor"
 CREW_ROLE = "workpack_crew"
-_BATCH = 500  # rows per read while iterating
-_COLUMNS = ("sequence, package_id, package_sha256, results_json, results_sha256, recorded_by, "
-            "recorded_at, supersedes, verdict, prev_sha256, chain_sha256")
+_COLUMNS = STORED_COLUMNS
 
 # --- the schema ----------------------------------------------------------------------
 # Function bodies are compared on verify (prosrc): a guard of the same name that does
@@ -270,7 +272,7 @@ def _first_line(exc: BaseException) -> str:
     return text.splitlines()[0]
 
 
-class PostgresStore:
+class PostgresStore(ClosedOnExit):
     """One plant's chain in a PostgreSQL records store (see the module docstring).
 
     ``plant`` names the chain; without it, the store's only plant is taken if it holds
@@ -411,7 +413,8 @@ class PostgresStore:
             prev = self._last_row(plant)
             if new.supersedes is not None:
                 check_supersedes(self.location, new, self._row(plant, new.supersedes),
-                                 self._last_correction(plant, new.supersedes),
+                                 last_correction(new.supersedes,
+                                                 lambda n: self._correction_of(plant, n)),
                                  prev.sequence if prev is not None else 0)
             row = next_row(prev, package_id=new.package_id,
                            package_sha256=new.package_sha256, results_json=new.results_json,
@@ -438,16 +441,11 @@ class PostgresStore:
                                    (plant, sequence)).fetchone()
         return StoredRow(*found) if found is not None else None
 
-    def _last_correction(self, plant: str, sequence: int) -> int | None:
-        """The end of the line of corrections to ``sequence``; None if it has none."""
-        end = None
-        while True:
-            found = self._conn.execute("SELECT sequence FROM workpack.records "
-                                       "WHERE plant = %s AND supersedes = %s",
-                                       (plant, sequence)).fetchone()
-            if found is None:
-                return end
-            end = sequence = found[0]
+    def _correction_of(self, plant: str, sequence: int) -> int | None:
+        found = self._conn.execute("SELECT sequence FROM workpack.records "
+                                   "WHERE plant = %s AND supersedes = %s",
+                                   (plant, sequence)).fetchone()
+        return found[0] if found is not None else None
 
     # --- reading -----------------------------------------------------------------------
 
@@ -465,30 +463,16 @@ class PostgresStore:
 
     def records(self, *, package_id: str | None = None, since: dt.datetime | None = None,
                 until: dt.datetime | None = None) -> Iterator[Record]:
-        # Short batches keyed on the sequence number: no read stays open between the
-        # caller's steps.
         plant = self.plant
-        where, params = ["plant = %s", "sequence > %s"], []
-        if package_id is not None:
-            where.append("package_id = %s")
-            params.append(package_id)
-        if since is not None:
-            where.append("recorded_at >= %s")
-            params.append(format_timestamp(since))
-        if until is not None:
-            where.append("recorded_at < %s")
-            params.append(format_timestamp(until))
-        query = (f"SELECT {_COLUMNS} FROM workpack.records WHERE {' AND '.join(where)} "
-                 f"ORDER BY sequence LIMIT {_BATCH}")
-        after = 0
-        while True:
+        where, params = record_filters("%s", package_id=package_id, since=since, until=until)
+        query = (f"SELECT {_COLUMNS} FROM workpack.records WHERE plant = %s AND "
+                 f"sequence > %s{where} ORDER BY sequence LIMIT {BATCH}")
+
+        def fetch(after: int) -> list[Any]:
             with self._translate("reading"):
-                batch = self._conn.execute(query, (plant, after, *params)).fetchall()
-            for found in batch:
-                yield Record.from_row(StoredRow(*found), self.location, plant)
-            if len(batch) < _BATCH:
-                return
-            after = batch[-1][0]
+                return self._conn.execute(query, (plant, after, *params)).fetchall()
+        for row in in_batches(fetch):
+            yield Record.from_row(row, self.location, plant)
 
     _EFFECTIVE = ("FROM workpack.records AS r WHERE r.plant = %s AND NOT EXISTS (SELECT 1 "
                   "FROM workpack.records AS c WHERE c.plant = r.plant AND "
@@ -560,13 +544,6 @@ class PostgresStore:
 
     def close(self) -> None:
         self._conn.close()
-
-    def __enter__(self) -> Self:
-        return self
-
-    def __exit__(self, exc_type: type[BaseException] | None, exc: BaseException | None,
-                 tb: TracebackType | None) -> None:
-        self.close()
 
     def __repr__(self) -> str:
         return f"PostgresStore({self.location!r})"

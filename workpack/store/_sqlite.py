@@ -26,23 +26,27 @@ import os
 import sqlite3
 from collections.abc import Iterator, Mapping
 from pathlib import Path
-from types import TracebackType
-from typing import Any, Self
+from typing import Any
 
 from workpack.store._base import (
+    BATCH,
+    STORED_COLUMNS,
+    ClosedOnExit,
     NoSuchRecordError,
     NotAStoreError,
     Record,
     StoreError,
     check_supersedes,
+    in_batches,
+    last_correction,
     prepare,
+    record_filters,
 )
 from workpack.store._chain import (
     GENESIS,
     ChainHead,
     StoredRow,
     Verification,
-    format_timestamp,
     next_row,
     plant_genesis,
     verify_rows,
@@ -50,10 +54,8 @@ from workpack.store._chain import (
 
 APPLICATION_ID = 0x77706B72  # "wpkr" in the SQLite header: marks a workpack records store
 SCHEMA_VERSION = 2  # PRAGMA user_version; 1 (no store_plant table) is still read and written
-_BATCH = 500  # rows per read while iterating
 
-_COLUMNS = ("sequence, package_id, package_sha256, results_json, results_sha256, recorded_by, "
-            "recorded_at, supersedes, verdict, prev_sha256, chain_sha256")
+_COLUMNS = STORED_COLUMNS
 
 _TABLE = """CREATE TABLE records (
     sequence        INTEGER PRIMARY KEY AUTOINCREMENT CHECK (sequence >= 1),
@@ -124,7 +126,7 @@ _GUARDS_V2 = {
 _GUARDS = {1: _GUARDS_V1, 2: _GUARDS_V2}
 
 
-class SQLiteStore:
+class SQLiteStore(ClosedOnExit):
     """A records store in one SQLite file (see the module docstring for the guarantees).
 
     ``create=False`` refuses a path where no store exists yet, so an audit of a mistyped
@@ -310,7 +312,7 @@ class SQLiteStore:
                 prev = StoredRow(*last) if last is not None else None
                 if new.supersedes is not None:
                     check_supersedes(self._location, new, self._row(new.supersedes),
-                                     self._last_correction(new.supersedes),
+                                     last_correction(new.supersedes, self._correction_of),
                                      prev.sequence if prev is not None else 0)
                 row = next_row(prev, package_id=new.package_id,
                                package_sha256=new.package_sha256,
@@ -330,15 +332,10 @@ class SQLiteStore:
                                    (sequence,)).fetchone()
         return StoredRow(*found) if found is not None else None
 
-    def _last_correction(self, sequence: int) -> int | None:
-        """The end of the line of corrections to ``sequence``; None if it has none."""
-        end = None
-        while True:
-            found = self._conn.execute("SELECT sequence FROM records WHERE supersedes = ?",
-                                       (sequence,)).fetchone()
-            if found is None:
-                return end
-            end = sequence = found[0]
+    def _correction_of(self, sequence: int) -> int | None:
+        found = self._conn.execute("SELECT sequence FROM records WHERE supersedes = ?",
+                                   (sequence,)).fetchone()
+        return found[0] if found is not None else None
 
     # --- reading -----------------------------------------------------------------------
 
@@ -354,29 +351,15 @@ class SQLiteStore:
 
     def records(self, *, package_id: str | None = None, since: dt.datetime | None = None,
                 until: dt.datetime | None = None) -> Iterator[Record]:
-        # Read in short batches keyed on the sequence number, so no read stays open
-        # between the caller's steps and appends may interleave with the iteration.
-        where, params = ["sequence > ?"], []
-        if package_id is not None:
-            where.append("package_id = ?")
-            params.append(package_id)
-        if since is not None:
-            where.append("recorded_at >= ?")
-            params.append(format_timestamp(since))
-        if until is not None:
-            where.append("recorded_at < ?")
-            params.append(format_timestamp(until))
-        query = (f"SELECT {_COLUMNS} FROM records WHERE {' AND '.join(where)} "
-                 f"ORDER BY sequence LIMIT {_BATCH}")
-        after = 0
-        while True:
+        where, params = record_filters("?", package_id=package_id, since=since, until=until)
+        query = (f"SELECT {_COLUMNS} FROM records WHERE sequence > ?{where} "
+                 f"ORDER BY sequence LIMIT {BATCH}")
+
+        def fetch(after: int) -> list[Any]:
             with self._translate("reading"):
-                batch = self._conn.execute(query, (after, *params)).fetchall()
-            for found in batch:
-                yield Record.from_row(StoredRow(*found), self._location, self._plant)
-            if len(batch) < _BATCH:
-                return
-            after = batch[-1][0]
+                return self._conn.execute(query, (after, *params)).fetchall()
+        for row in in_batches(fetch):
+            yield Record.from_row(row, self._location, self._plant)
 
     def latest(self, package_id: str) -> Record | None:
         with self._translate("reading"):
@@ -406,7 +389,7 @@ class SQLiteStore:
 
     def _stored_rows(self) -> Iterator[StoredRow]:
         cursor = self._conn.execute(f"SELECT {_COLUMNS} FROM records ORDER BY sequence")
-        while batch := cursor.fetchmany(_BATCH):
+        while batch := cursor.fetchmany(BATCH):
             yield from (StoredRow(*found) for found in batch)
 
     def verify(self, *, anchor: ChainHead | None = None) -> Verification:
@@ -432,13 +415,6 @@ class SQLiteStore:
 
     def close(self) -> None:
         self._conn.close()
-
-    def __enter__(self) -> Self:
-        return self
-
-    def __exit__(self, exc_type: type[BaseException] | None, exc: BaseException | None,
-                 tb: TracebackType | None) -> None:
-        self.close()
 
     def __repr__(self) -> str:
         return f"SQLiteStore({self._location!r})"

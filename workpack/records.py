@@ -1,0 +1,303 @@
+"""The record format: what the records store keeps for a recorded job, how it is read
+back, and which record of a package is in effect. Pure: the shell reads the store.
+
+Everything that writes or reads a record's payload goes through this module (``record``
+writes it; the close-out, the audit, the planner's history and the office tables read
+it), so the format has one owner and one version number.
+
+The payload
+    The store keeps, for each record, the canonical JSON of a ``RecordPayload``
+    (``Record.results_json``; the store itself neither knows nor checks its shape)::
+
+        {"payload_version": 2,
+         "results":    the results exactly as entered (model.results.Results),
+         "evaluation": what they showed (model.evaluation.Evaluation)}
+
+    Version 1, written before payloads carried their version, is the same without
+    ``payload_version``; it reads unchanged (tests/fixtures/records-v1 holds such
+    payloads). A payload of a later version is refused, saying that a newer workpack
+    wrote it. A new version adds a branch to ``_Versioned._upgrade`` and a fixture.
+
+    ``read_payload`` reads a record's whole payload; ``read_for_planning`` only what the
+    planner's history needs (``PlanningView``), about a third quicker, since planning
+    reads every record of the plant every day; ``read_back`` never raises and says why a
+    payload could not be read.
+
+The latest effective record
+    A correction is a new record whose ``supersedes`` names the record it corrects;
+    the corrected record is *superseded*, and nothing is taken from it. A package's
+    *latest effective* record is its record with the highest sequence number that no
+    record supersedes (``latest_effective``). The stores answer the same question in
+    SQL (``RecordStore.latest``, ``latest_per_package``) for speed; tests/test_records.py
+    holds both backends to this definition on random chains of corrections.
+
+What a record holds, as a reader sees it
+    ``OUTCOME_WORDS`` (a reading's outcome), ``entered_text`` (a value as written on the
+    sheet), ``is_bare_number`` and ``utc_text`` (a record's time) are shared by the
+    close-out, the audit and the office tables.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass
+from typing import Any, Generic, Protocol, TypeVar
+
+from pydantic import (
+    BaseModel,
+    ConfigDict,
+    ValidationError,
+    ValidationInfo,
+    field_validator,
+    model_validator,
+)
+
+from workpack.model.evaluation import Evaluation, Outcome
+from workpack.model.results import Results
+
+__all__ = [
+    "OUTCOME_WORDS",
+    "PAYLOAD_VERSION",
+    "Chained",
+    "PayloadError",
+    "PlanningView",
+    "ReadBack",
+    "RecordPayload",
+    "StoredRecord",
+    "entered_text",
+    "is_bare_number",
+    "latest_effective",
+    "read_back",
+    "read_for_planning",
+    "read_payload",
+    "record_payload",
+    "superseded_by",
+    "utc_text",
+]
+
+PAYLOAD_VERSION = 2
+
+
+class PayloadError(ValueError):
+    """A record's payload that cannot be read back; the message says why."""
+
+
+class _Versioned(BaseModel):
+    """A payload's version, and what it takes to read an older one."""
+
+    payload_version: int
+
+    @model_validator(mode="before")
+    @classmethod
+    def _upgrade(cls, data: Any, info: ValidationInfo) -> Any:
+        """A stored payload of an older version in today's shape (version 1 lacks only
+        its version). Only when reading the store: a new payload states its version."""
+        stored = bool(info.context and info.context.get(_STORED))
+        if stored and isinstance(data, Mapping) and "payload_version" not in data:
+            return {**data, "payload_version": 1}
+        return data
+
+    @field_validator("payload_version")
+    @classmethod
+    def _known(cls, version: int) -> int:
+        if version > PAYLOAD_VERSION:
+            raise ValueError(f"written by a newer workpack (payload version {version}; this "
+                             f"one reads up to {PAYLOAD_VERSION}); upgrade workpack")
+        if version < 1:
+            raise ValueError(f"payload version {version} was never written")
+        return version
+
+
+class RecordPayload(_Versioned):
+    """What the store keeps for one recorded job (see the module docstring)."""
+
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+    results: Results
+    evaluation: Evaluation
+
+
+class _ResultsPlanned(BaseModel):
+    model_config = ConfigDict(extra="ignore", frozen=True)
+
+    completed_on: dt.date | None = None
+    ground_found_at: str | None = None
+
+
+class PlanningView(_Versioned):
+    """The part of a payload the planner's history reads (``read_for_planning``): the
+    evaluation, and of the results only the day and the ground found. The rest is passed
+    over unread, because planning reads every record of the plant each day."""
+
+    model_config = ConfigDict(extra="ignore", frozen=True)
+
+    results: _ResultsPlanned
+    evaluation: Evaluation
+
+
+_STORED = "stored payload"  # the validation context of a payload read from the store
+
+
+def record_payload(results: Results, evaluation: Evaluation) -> dict[str, Any]:
+    """The payload of a new record, as the plain JSON data ``RecordStore.append`` takes."""
+    return RecordPayload(payload_version=PAYLOAD_VERSION, results=results,
+                         evaluation=evaluation).model_dump(mode="json")
+
+
+# --- reading a stored record ------------------------------------------------------------
+
+
+class Chained(Protocol):
+    """What ``latest_effective`` needs of a record (``store.Record`` has it)."""
+
+    @property
+    def sequence(self) -> int: ...
+
+    @property
+    def package_id(self) -> str: ...
+
+    @property
+    def supersedes(self) -> int | None: ...
+
+
+class StoredRecord(Chained, Protocol):
+    """A record as the store gives it back (``store.Record``)."""
+
+    @property
+    def results_json(self) -> str: ...
+
+    @property
+    def recorded_at(self) -> dt.datetime: ...
+
+
+def read_payload(record: StoredRecord) -> RecordPayload:
+    """The payload of ``record``; PayloadError saying why when it cannot be read."""
+    return _read(record, RecordPayload)
+
+
+def read_for_planning(record: StoredRecord) -> PlanningView | None:
+    """What planning reads of ``record``; None when it cannot be read (the audit and the
+    records table say why)."""
+    try:
+        return _read(record, PlanningView)
+    except PayloadError:
+        return None
+
+
+V = TypeVar("V", bound=_Versioned)
+
+
+def _read(record: StoredRecord, view: type[V]) -> V:
+    try:
+        return view.model_validate_json(record.results_json, context={_STORED: True})
+    except ValidationError as error:
+        raise PayloadError(_why(error)) from None
+
+
+def _why(error: ValidationError) -> str:
+    """One line for the first thing wrong, in the order a reader needs it."""
+    problems = error.errors(include_url=False)
+    for problem in problems:
+        if problem["type"] == "json_invalid":
+            return "the record's payload is not JSON"
+        if problem["loc"] == ():
+            return "the record's payload is not a mapping"
+        if problem["loc"] == ("payload_version",) and problem["type"] == "value_error":
+            return f"the record's payload was {problem.get('ctx', {}).get('error')}"
+    for part in ("evaluation", "results"):
+        if any(p["loc"] == (part,) and p["type"] == "missing" for p in problems):
+            return f"the record holds no {part}"
+    first = problems[0]
+    where = ".".join(str(step) for step in first["loc"])
+    return f"the record's {where} does not read back: {first['msg']}"
+
+
+R = TypeVar("R", bound=StoredRecord)
+
+
+@dataclass(frozen=True)
+class ReadBack(Generic[R]):
+    """A stored record with its payload read back, or the reason it could not be."""
+
+    record: R
+    payload: RecordPayload | None
+    problem: str | None  # why ``payload`` is None
+
+    @property
+    def evaluation(self) -> Evaluation | None:
+        return self.payload.evaluation if self.payload is not None else None
+
+    @property
+    def results(self) -> Results | None:
+        return self.payload.results if self.payload is not None else None
+
+
+def read_back(record: R) -> ReadBack[R]:
+    """``record`` with its payload, never raising: an unreadable one says why."""
+    try:
+        return ReadBack(record, read_payload(record), None)
+    except PayloadError as problem:
+        return ReadBack(record, None, str(problem))
+
+
+# --- which record is in effect ------------------------------------------------------------
+
+C = TypeVar("C", bound=Chained)
+
+
+def superseded_by(records: Iterable[Chained]) -> dict[int, int]:
+    """Record number → the number of the record that supersedes it (its correction)."""
+    return {record.supersedes: record.sequence for record in records
+            if record.supersedes is not None}
+
+
+def latest_effective(records: Iterable[C]) -> dict[str, C]:
+    """Package id → its latest effective record, in package id order.
+
+    The definition of the module docstring; the stores' SQL is tested against it.
+    """
+    chosen = list(records)
+    superseded = superseded_by(chosen)
+    latest: dict[str, C] = {}
+    for record in chosen:
+        if record.sequence in superseded:
+            continue
+        held = latest.get(record.package_id)
+        if held is None or record.sequence > held.sequence:
+            latest[record.package_id] = record
+    return dict(sorted(latest.items()))
+
+
+# --- what a record holds, as a reader sees it -----------------------------------------------
+
+# The words every rendering prints beside its symbols: an outcome is never colour alone.
+OUTCOME_WORDS: dict[Outcome, str] = {"pass": "PASS", "fail": "FAIL",
+                                     "not recorded": "NOT RECORDED", "recorded": "RECORDED"}
+
+
+def entered_text(value: float | str | None) -> str | None:
+    """A value as it was written: text unchanged, a number without a spurious ".0"."""
+    if value is None:
+        return None
+    if isinstance(value, bool):
+        return str(value).lower()
+    if isinstance(value, int):
+        return str(value)
+    if isinstance(value, float):
+        return str(int(value)) if value.is_integer() and abs(value) < 1e15 else repr(value)
+    return str(value)
+
+
+def is_bare_number(text: str) -> bool:
+    """Whether an entry is a number alone (so it is in the unit printed beside its box)."""
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
+def utc_text(when: dt.datetime) -> str:
+    """A stored timestamp for a reader: "2026-12-02 16:00 UTC"."""
+    return f"{when.astimezone(dt.UTC):%Y-%m-%d %H:%M} UTC"

@@ -1,0 +1,135 @@
+"""reportlab's table and keep-together that never stop a document, and package text made
+safe for reportlab's paragraph markup."""
+
+from __future__ import annotations
+
+import copy
+from collections.abc import Sequence
+from typing import Any
+from xml.sax.saxutils import escape
+
+from reportlab.platypus import Flowable
+from reportlab.platypus import KeepTogether as PlatypusKeepTogether
+from reportlab.platypus import Table as PlatypusTable
+
+
+def listed(ids: Sequence[str], at_most: int, whole_list_in: str) -> str:
+    """Ids joined by commas; past ``at_most`` the rest are counted and the reader is sent
+    to where the whole list is (a rounds log can give one package ten thousand findings)."""
+    if len(ids) <= at_most:
+        return ", ".join(ids)
+    return (", ".join(ids[:at_most]) + f" and {len(ids) - at_most:,} more "
+            f"(all {len(ids):,} are listed in {whole_list_in})")
+
+
+def words(text: str) -> str:
+    """Package text made safe for reportlab's paragraph markup; line breaks kept."""
+    return escape(text).replace("\n", "<br/>")
+
+
+# --- tables that never fail to fit -----------------------------------------------------
+
+class Table(PlatypusTable):
+    """reportlab's table that can also split inside a row, so a cell of any length flows
+    on to the next page instead of stopping the document with a ``LayoutError``.
+
+    Rows stay whole wherever they can: a row is cut only when nothing stands above the
+    table on its page (moving it on would not help) or when the row is taller than a whole
+    page (then it starts filling the page it is on). The header rows (``repeatRows``) are
+    repeated on every page the table reaches; the cells of the columns in
+    ``repeat_when_cut`` (labels, signal words, ids) are repeated beside each part of a
+    cut row, so a page that starts inside a row still says what the row is. Use it for
+    every table in a document.
+    """
+
+    def __init__(self, data: Any, *args: Any, repeat_when_cut: Sequence[int] = (),
+                 **kwargs: Any) -> None:
+        kwargs.setdefault("splitInRow", 1)  # the smallest part of a row that may be cut (pt)
+        super().__init__(data, *args, **kwargs)
+        self.repeat_when_cut = tuple(repeat_when_cut)
+
+    def split(self, availWidth: float, availHeight: float) -> list[Flowable]:
+        parts = self._parts(availWidth, availHeight)
+        for part in parts:  # reportlab makes the parts without our settings
+            if isinstance(part, Table):
+                part.repeat_when_cut = self.repeat_when_cut
+        return parts
+
+    def _parts(self, availWidth: float, availHeight: float) -> list[Flowable]:
+        self._calc(availWidth, availHeight)
+        heights = list(self._rowHeights)
+        headers = sum(heights[:self._repeat_count()])
+        reached, stop = 0.0, len(heights)  # stop: the first row that does not fit here
+        for index, height in enumerate(heights):
+            reached += height
+            if reached > availHeight:
+                stop = index
+                break
+        frame = getattr(self, "_frame", None)  # set by the frame; absent inside a cell
+        never_fits = (stop < len(heights) and frame is not None
+                      and headers + heights[stop] > frame._aH)
+        if never_fits:  # fill this page with the start of that row
+            return self._cut_inside_row(availHeight, stop) or list(
+                self._splitRows(availHeight, doInRowSplit=0))
+        whole_rows = list(self._splitRows(availHeight, doInRowSplit=0))
+        if whole_rows or (frame is not None and not frame._atTop) or stop >= len(heights):
+            return whole_rows  # an empty list moves the table to a fresh page
+        return self._cut_inside_row(availHeight, stop)
+
+    def _cut_inside_row(self, availHeight: float, row: int) -> list[Flowable]:
+        # a row taller than a page is read from its top: centring it would leave its
+        # parts floating (and reportlab's cut of a centred row loses track of its height)
+        self._cellStyles[row] = [style.copy() for style in self._cellStyles[row]]
+        for style in self._cellStyles[row]:
+            style.valign = "TOP"
+        labels = {column: self._cellvalues[row][column] for column in self.repeat_when_cut}
+        parts = self._splitRows(availHeight, doInRowSplit=1)
+        if len(parts) == 2 and not any(_has_content(cell) for cell in parts[0]._cellvalues[-1]):
+            return []  # nothing of the cut row would go on this page: no progress
+        if len(parts) == 2:
+            parts[1]._repeat_labels(parts[1]._repeat_count(), labels)
+        return list(parts)
+
+    def _repeat_labels(self, row: int, labels: dict[int, Any]) -> None:
+        """Put ``labels`` (column -> cell) into the empty cells of ``row``, made tall
+        enough for them."""
+        for column, value in labels.items():
+            if _has_content(self._cellvalues[row][column]) or not _has_content(value):
+                continue
+            cell = [copy.copy(part) for part in value] if isinstance(value, list | tuple) \
+                else copy.copy(value)
+            self._cellvalues[row][column] = cell
+            if isinstance(cell, list):
+                style = self._cellStyles[row][column]
+                needed = (self._listCellGeom(cell, self._colWidths[column], style)[1]
+                          + style.topPadding + style.bottomPadding)
+                if self._argH is not None and self._argH[row] is not None \
+                        and needed > self._argH[row]:
+                    self._argH[row] = needed
+
+    def _repeat_count(self) -> int:
+        rows = self.repeatRows
+        return rows if isinstance(rows, int) else max(rows, default=-1) + 1
+
+
+class KeepTogether(PlatypusKeepTogether):
+    """reportlab's group kept on one page; a group taller than a whole page cannot be, so it
+    starts where it is when a third of the page is left, rather than leaving that third
+    blank. Also used for the groups reportlab makes of a heading and what follows it."""
+
+    def split(self, aW: float, aH: float) -> list[Flowable]:
+        if getattr(self, "_wrapInfo", None) != (aW, aH):
+            self.wrap(aW, aH)
+        frame = getattr(self, "_frame", None)
+        if frame is not None and self._H > frame._aH and aH >= frame._aH / 3:
+            return list(self._content)
+        return list(super().split(aW, aH))
+
+
+def _has_content(cell: Any) -> bool:
+    if isinstance(cell, str):
+        return bool(cell)
+    if isinstance(cell, list | tuple):
+        return any(_has_content(part) for part in cell)
+    return cell is not None
+

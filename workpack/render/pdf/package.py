@@ -1,0 +1,597 @@
+"""The printed work package: ``render_package(package) -> bytes`` (a PDF with form
+fields, named as ``render.pdf.fields`` says).
+
+Layout only: every number arrives computed in the package (SI) and is shown in the
+reading's ``unit`` to three significant figures. Same package, same bytes: reportlab's
+invariant mode, the creation date taken from the package date, no random ids. Every
+blank the technician fills in is made by ``PackagePdf.blank``, which the close-out
+record overrides to show what was written in it.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from typing import Any, ClassVar, Literal, TypeAlias
+
+from reportlab.lib import colors
+from reportlab.lib.units import mm
+from reportlab.platypus import Flowable, Paragraph, Spacer, TableStyle
+
+from workpack.model.package import (
+    Caution,
+    FinalTest,
+    IsolationPoint,
+    ProvingDead,
+    Reading,
+    SignalWord,
+    Step,
+    WorkPackage,
+)
+from workpack.numbers import format_number, format_quantity, format_volts
+from workpack.render.figures import (
+    fit_sketch,
+    phasor_drawing,
+    sketch_legend,
+    sketch_width_needed,
+)
+from workpack.render.pdf.document import GRID, HEAD_ROW, PageSize, PdfDocument
+from workpack.render.pdf.fields import Blank, CheckBox, FieldBox
+from workpack.render.pdf.flowables import KeepTogether, Table, listed, words
+from workpack.render.pdf.fonts import FONT, FONT_BOLD
+from workpack.render.pdf.readings import expected_text, limit_text
+
+# What a table cell holds: a flowable, or several one under the other.
+Cell: TypeAlias = "Flowable | list[Flowable]"
+
+
+# --- the package ------------------------------------------------------------------------
+
+class PackagePdf(PdfDocument):
+    """One work package, in the order the job is done: what and why, hazards, figures,
+    isolation, proving dead, steps, acceptance, restoration, sign-off."""
+
+    field_height_mm: ClassVar[float] = 8.5
+    tick_mm: ClassVar[float] = 6.5
+    figure_gap_mm: ClassVar[float] = 4.0
+    sketch_reserve_mm: ClassVar[float] = 55.0  # headings and notes around the sketch
+    listed_at_most: ClassVar[int] = 30  # ids in one cell; the rest are counted
+
+    def __init__(self, package: WorkPackage, page_size: PageSize = "A4") -> None:
+        super().__init__(page_size)
+        self.package = package
+        self.document_id = package.id
+        self.document_title = package.title
+        self.created = package.date
+        self._section_no = 0
+
+    def header_right(self) -> str:
+        return f"{self.package.plant} · {self.package.date.isoformat()}"
+
+    def footer_note(self) -> str:
+        return self.package.notice
+
+    def blank(self, blank: Blank) -> Cell:
+        """Every blank of the package is made here: a form field over a box to write in,
+        or over a square to tick. The close-out record shows what was written instead."""
+        if blank.tick:
+            return CheckBox(blank.name, blank.tooltip, size=self.blank_height(blank))
+        return FieldBox(blank.name, blank.tooltip, height=self.blank_height(blank),
+                        width=blank.width, suffix=blank.suffix, multiline=blank.multiline,
+                        max_length=blank.max_length)
+
+    def blank_height(self, blank: Blank) -> float:
+        """A blank's height (a tick box's side) in points."""
+        if blank.height is not None:
+            return blank.height
+        return (self.tick_mm if blank.tick else self.field_height_mm) * mm
+
+    def numbered(self, title: str) -> Paragraph:
+        self._section_no += 1
+        return self.section(f"{self._section_no}  {title}")
+
+    def story(self) -> list[Flowable]:
+        self._section_no = 0
+        parts: list[Flowable] = [Paragraph(words(self.package.title), self.style["title"])]
+        parts += self.job_block()
+        parts += self.hazard_block()
+        parts += self.figures()
+        before = [s for s in self.package.steps if s.before_isolation]
+        parts += self.steps_block(before, "Before the isolation", "step")
+        parts += self.isolation_block()
+        parts += self.proving_dead_block()
+        parts += self.steps_block([s for s in self.package.steps if not s.before_isolation],
+                                  "Work steps", "step")
+        for final in self.package.final_tests:
+            parts += self.final_test_block(final)
+        parts += self.acceptance_block()
+        parts += self.steps_block(self.package.restoration, "Restoration", "restore")
+        parts += self.sign_off_block()
+        return parts
+
+    # -- final tests of a search: each a complete isolation of its own
+    def final_test_block(self, final: FinalTest) -> list[Flowable]:
+        scope = ("final", final.id)
+        lead: list[Flowable] = [
+            self.numbered(final.title),
+            Paragraph(f"<b>{words(final.condition)}</b>", self.style["body"]),
+            Spacer(1, 1.5 * mm)]
+        out: list[Flowable] = [KeepTogether([*lead, *self.cautions(final.cautions[:1])])]
+        out += self.cautions(final.cautions[1:])
+        before = [s for s in final.steps if s.before_isolation]
+        out += [KeepTogether(self.step_parts(step, "step", scope)) for step in before]
+        out += self.isolation_table(final.isolation, final.isolation_gaps, final.stored_energy,
+                                    scope, self.sub(f"{final.id} isolation: open, lock and tag "
+                                                    "in this order"), final.restoration)
+        out += self.proving_dead_points(final.proving_dead, scope,
+                                        self.sub(f"{final.id} prove dead at the point of work"))
+        rest = [s for s in final.steps if not s.before_isolation]
+        out += self.step_group(rest, self.sub(f"{final.id} tests"), "step", scope)
+        out += self.step_group(final.restoration, self.sub(f"{final.id} restoration"),
+                               "restore", scope)
+        return out
+
+    def sub(self, title: str) -> Paragraph:
+        return Paragraph(words(title), self.style["sub"])
+
+    # -- what and why
+    def job_block(self) -> list[Flowable]:
+        p = self.package
+        cell, label = self.style["cell"], self.style["cell_bold"]
+
+        def pair(name: str, value: str) -> list[Paragraph]:
+            return [Paragraph(words(name), label), Paragraph(words(value), cell)]
+
+        origin = [f"rule {p.origin.rule}"]
+        if p.origin.findings:
+            origin.append("findings " + listed(p.origin.findings, self.listed_at_most,
+                                               f"the package's file {p.id}.json"))
+        if p.origin.routine:
+            origin.append(f"routine {p.origin.routine}")
+        rows = [
+            pair("Package", p.id) + pair("Date", p.date.isoformat()),
+            pair("Plant", p.plant) + pair("Priority",
+                                          f"{p.priority} (1 = most urgent): {p.priority_reason}"),
+            pair("Item", p.item_label) + pair("System", p.system or "not given"),
+            pair("Duration", f"{format_number(p.duration_h)} h") + pair("Crew", str(p.crew)),
+            pair("Job kind", p.job_kind.replace("_", " "))
+            + pair("Permits", ", ".join(p.permits) or "none listed"),
+            pair("Origin", "; ".join(origin)) + ["", ""],
+        ]
+        table = Table(rows, colWidths=self.cols(24, 67, 24, 67), repeat_when_cut=(0, 2))
+        table.setStyle(TableStyle([*GRID, ("SPAN", (1, 5), (3, 5)),
+                                   ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
+        return [self.numbered("The job"), table]
+
+    # -- hazards
+    def caution_box(self, caution: Caution) -> Table:
+        """Signal word in a box whose border tells the words apart without colour:
+        DANGER double rule and reversed word, WARNING heavy rule, CAUTION dashed rule,
+        NOTICE thin rule."""
+        word = caution.signal_word
+        reversed_word = word is SignalWord.danger
+        word_cell = Paragraph(word.value, self.style["signal_white" if reversed_word
+                                                     else "signal"])
+        table = Table([[word_cell, Paragraph(words(caution.text), self.style["cell"])]],
+                      colWidths=self.cols(30, 152), repeat_when_cut=(0,))
+        style: list[tuple[Any, ...]] = [
+            ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
+            ("TOPPADDING", (0, 0), (-1, -1), 2 * mm),
+            ("BOTTOMPADDING", (0, 0), (-1, -1), 2 * mm),
+            ("LEFTPADDING", (0, 0), (-1, -1), 2.5 * mm),
+        ]
+        if word is SignalWord.danger:
+            style += [("BACKGROUND", (0, 0), (0, 0), colors.black),
+                      ("BOX", (0, 0), (-1, -1), 1.2, colors.black, None, None, None, 2, 1.6),
+                      ("LINEAFTER", (0, 0), (0, 0), 1.2, colors.black)]
+        elif word is SignalWord.warning:
+            style += [("BOX", (0, 0), (-1, -1), 2.6, colors.black),
+                      ("LINEAFTER", (0, 0), (0, 0), 2.6, colors.black)]
+        elif word is SignalWord.caution:
+            style += [("BOX", (0, 0), (-1, -1), 1.3, colors.black, None, (4, 2.5)),
+                      ("LINEAFTER", (0, 0), (0, 0), 1.3, colors.black, None, (4, 2.5))]
+        else:
+            style += [("BOX", (0, 0), (-1, -1), 0.6, colors.black),
+                      ("LINEAFTER", (0, 0), (0, 0), 0.6, colors.black)]
+        table.setStyle(TableStyle(style))
+        return table
+
+    def cautions(self, cautions: Sequence[Caution]) -> list[Flowable]:
+        out: list[Flowable] = []
+        for caution in cautions:
+            out += [self.caution_box(caution), Spacer(1, 1.8 * mm)]
+        return out
+
+    def hazard_block(self) -> list[Flowable]:
+        p = self.package
+        out: list[Flowable] = [self.numbered("Hazards and protection")]
+        out += self.cautions(p.cautions)
+        if p.hazard_facts:
+            out.append(Paragraph("Facts about this system", self.style["sub"]))
+            out += self.bullets(p.hazard_facts)
+        if p.approach is not None:
+            a = p.approach
+            cell, bold = self.style["cell"], self.style["cell_bold"]
+            rows = [
+                [Paragraph(f"Approach boundaries (table entered at {format_volts(a.entered_at_v)})",
+                           bold), ""],
+                [Paragraph("Limited approach, exposed movable conductor", cell),
+                 Paragraph(words(a.limited_movable), bold)],
+                [Paragraph("Limited approach, exposed fixed circuit part", cell),
+                 Paragraph(words(a.limited_fixed), bold)],
+                [Paragraph("Restricted approach", cell), Paragraph(words(a.restricted), bold)],
+                [Paragraph("Source", cell), Paragraph(words(a.source), cell)],
+            ]
+            table = Table(rows, colWidths=self.cols(110, 72))
+            table.setStyle(TableStyle([*GRID, *HEAD_ROW, ("SPAN", (0, 0), (1, 0))]))
+            out += [Spacer(1, 2 * mm), KeepTogether([table])]
+        if p.ppe:
+            out.append(Paragraph("Personal protective equipment", self.style["sub"]))
+            out += self.bullets(p.ppe)
+        out += [Spacer(1, 3 * mm), self.notice_box(p.notice)]
+        return out
+
+    # -- figures
+    def phasor_notes(self) -> list[Paragraph]:
+        ph = self.package.phasor
+        if ph is None:
+            return []
+        readings = ", ".join(f"{label} {format_volts(ph.readings_v[label])}"
+                             for label in ph.sequence if label in ph.readings_v)
+        notes = [f"Source {format_volts(ph.line_voltage_v)} line to line, sequence "
+                 f"{'-'.join(ph.sequence)}.", f"Measured to earth: {readings}."]
+        if ph.grounded_phase:
+            notes.append(f"Grounded phase: {ph.grounded_phase}.")
+        if ph.earth_point_v is None:
+            notes.append("Earth point not located: no lines drawn from it.")
+        else:
+            notes.append("Heavy lines from E (earth) to each phase: its voltage to earth. "
+                         "N: the source neutral.")
+        return [Paragraph(words(n), self.style["small"]) for n in notes]
+
+    def figures(self) -> list[Flowable]:
+        """Phasor diagram and sketch side by side when the sketch fits half the width;
+        otherwise the phasor diagram with its notes beside it, the sketch below."""
+        p = self.package
+        if p.phasor is None and p.sketch is None:
+            return []
+        gap = self.figure_gap_mm * mm
+        half = (self.width - gap) / 2
+        sketch_needs = (sketch_width_needed(p.sketch, FONT, FONT_BOLD)
+                        if p.sketch is not None else 0.0)
+        side_by_side = p.phasor is not None and p.sketch is not None and sketch_needs <= half
+        phasor_width = half if side_by_side else min(half, 90 * mm)
+        heading = self.numbered("Figures")
+        phasor: list[Flowable] = []
+        if p.phasor is not None:
+            phasor = [Paragraph("Phasor diagram", self.style["sub"]),
+                      phasor_drawing(p.phasor, phasor_width, FONT, FONT_BOLD, format_volts)]
+        sketch: list[Flowable] = []
+        if p.sketch is not None:
+            widths = (half, half) if side_by_side else (half, self.width)
+            # room for the figure headings and the notes under the drawing
+            fitted = fit_sketch(p.sketch, widths, self.height - self.sketch_reserve_mm * mm,
+                                FONT, FONT_BOLD)
+            sketch = [Paragraph("One-line sketch", self.style["sub"]), fitted.drawing,
+                      Spacer(1, 1 * mm),
+                      *[Paragraph(words(n), self.style["small"])
+                        for n in (*sketch_legend(), *fitted.notes)]]
+        if side_by_side:
+            table = Table([[[*phasor, Spacer(1, 1 * mm), *self.phasor_notes()], sketch]],
+                          colWidths=[half + gap, half], hAlign="LEFT")
+        elif phasor:
+            table = Table([[phasor, [Spacer(1, 9 * mm), *self.phasor_notes()]]],
+                          colWidths=[phasor_width + gap, self.width - phasor_width - gap],
+                          hAlign="LEFT")
+        else:
+            return [KeepTogether([heading, *sketch])]
+        table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"),
+                                   ("LEFTPADDING", (0, 0), (-1, -1), 0),
+                                   ("RIGHTPADDING", (0, 0), (-1, -1), 0),
+                                   ("RIGHTPADDING", (0, 0), (0, 0), gap)]))
+        out: list[Flowable] = [KeepTogether([heading, table])]
+        if sketch and not side_by_side:
+            out.append(KeepTogether(sketch))
+        return out
+
+    # -- isolation
+    def isolation_rows(self, point: IsolationPoint, scope: tuple[str, ...] = (),
+                       removal_step: int | None = None) -> Table:
+        """One isolation point: lock and tag numbers, who applied them and when; who
+        removed them too, unless the restoration has a step of its own for that."""
+        cell, bold = self.style["cell"], self.style["cell_bold"]
+        device = f"<b>{words(point.device)}</b><br/>{words(point.device_kind.replace('_', ' '))}"
+        if point.location:
+            device += f"<br/>{words(point.location)}"
+        if point.already_open:
+            device += "<br/><b>Normally open: lock it open</b>"
+        cuts = words(point.cuts)
+        if point.how:
+            cuts = f"<b>Set and lock:</b> {words(point.how)}<br/>{cuts}"
+
+        def box(kind: str, what: str, part: str) -> Cell:
+            return self.blank(Blank((*scope, kind, point.device, part),
+                                    f"{point.device}: {what}"))
+
+        widths = self.cols(10, 50, 52, 20, 25, 25)
+        head = self.style["head"]
+        applied = [Paragraph("Locked by", head), box("lock", "applied by", "applied_by"),
+                   Paragraph("time", head), box("lock", "applied at", "applied_at")]
+        if removal_step is None:
+            blanks = Table([[*applied, Paragraph("Removed by", head),
+                             box("lock", "removed by", "removed_by"),
+                             Paragraph("time", head),
+                             box("lock", "removed at", "removed_at")]],
+                           colWidths=self._within(sum(widths[1:]) - 3.2 * mm,
+                                                  24, 32, 11, 19, 26, 32, 11, 19))
+        else:
+            blanks = Table([[*applied, Paragraph("Removed in the restoration, step "
+                                                 f"{removal_step}", head)]],
+                           colWidths=self._within(sum(widths[1:]) - 3.2 * mm,
+                                                  24, 44, 11, 30, 65))
+        blanks.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
+                                    ("LEFTPADDING", (0, 0), (-1, -1), 0),
+                                    ("RIGHTPADDING", (0, 0), (-1, -1), 1.5 * mm),
+                                    ("TOPPADDING", (0, 0), (-1, -1), 0),
+                                    ("BOTTOMPADDING", (0, 0), (-1, -1), 0)]))
+        rows = [
+            [Paragraph(str(point.order), self.style["step_no"]),
+             Paragraph(device, cell), Paragraph(cuts, cell),
+             Paragraph(format_volts(point.voltage_v), bold),
+             box("lock", "lock number", "number"), box("tag", "tag number", "number")],
+            ["", blanks, "", "", "", ""],
+        ]
+        table = Table(rows, colWidths=widths)
+        table.setStyle(TableStyle([*GRID, ("SPAN", (1, 1), (5, 1)),
+                                   ("SPAN", (0, 0), (0, 1)),
+                                   ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
+        return table
+
+    def isolation_block(self) -> list[Flowable]:
+        p = self.package
+        return self.isolation_table(p.isolation, p.isolation_gaps, p.stored_energy, (),
+                                    self.numbered("Isolation: open, lock and tag in this "
+                                                  "order"), p.restoration)
+
+    def isolation_table(self, isolation: Sequence[IsolationPoint], gaps: Sequence[str],
+                        stored_energy: Sequence[str], scope: tuple[str, ...],
+                        heading: Flowable, restoration: Sequence[Step]) -> list[Flowable]:
+        out: list[Flowable] = [heading]
+        removed_in = {d: s.number for s in restoration if s.kind == "remove_lock"
+                      for d in s.devices}
+        if isolation:
+            head = Table([[Paragraph(t, self.style["head"]) for t in
+                           ("#", "Device, kind, place", "What it cuts or stops", "Voltage",
+                            "Lock no.", "Tag no.")]],
+                         colWidths=self.cols(10, 50, 52, 20, 25, 25))
+            head.setStyle(TableStyle([*GRID, *HEAD_ROW,
+                                      ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
+            rows = [self.isolation_rows(point, scope, removed_in.get(point.device))
+                    for point in sorted(isolation, key=lambda point: point.order)]
+            # a heading never ends a page alone: reportlab's keepWithNext does not reach
+            # into a KeepTogether, so the heading goes inside it
+            out = [KeepTogether([*out, head, rows[0]]), *rows[1:]]
+        else:
+            out.append(Paragraph("No isolation points are listed in this package.",
+                                 self.style["bold"]))
+        if gaps:
+            out.append(Paragraph("Supplies no lock can cut", self.style["sub"]))
+            out += self.cautions([Caution(signal_word=SignalWord.danger, text=gap)
+                                  for gap in gaps])
+        if stored_energy:
+            out.append(Paragraph("Stored energy", self.style["sub"]))
+            out += self.bullets(stored_energy)
+        return out
+
+    # -- proving dead
+    def tester_check(self, when: Literal["before", "after"],
+                     scope: tuple[str, ...] = ()) -> Table:
+        text = ("Tester proven on a known live source <b>before</b> the test"
+                if when == "before" else
+                "Tester proven again on the known live source <b>after</b> the test")
+        table = Table([[self.blank(Blank((*scope, "tester", when), f"tester proven {when}",
+                                         tick=True)),
+                        Paragraph(text, self.style["body"])]],
+                      colWidths=[10 * mm, self.width - 10 * mm], hAlign="LEFT")
+        table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
+                                   ("LEFTPADDING", (0, 0), (-1, -1), 0)]))
+        return table
+
+    def proving_dead_table(self, index: int, point: ProvingDead,
+                           scope: tuple[str, ...] = ()) -> list[Flowable]:
+        head = Paragraph(f"<b>Point {index}: {words(point.where)}</b>, voltage class "
+                         f"{format_volts(point.voltage_v)}. Expect 0 V on every pair.",
+                         self.style["body"])
+        out: list[Flowable] = [head, Spacer(1, 1.5 * mm)]
+        per_row = 6
+        for start in range(0, len(point.pairs), per_row):
+            chunk = point.pairs[start:start + per_row]
+            pad = [""] * (per_row - len(chunk))
+            rows: list[list[Any]] = [
+                [Paragraph("Pair", self.style["head"])]
+                + [Paragraph(words(pair), self.style["cell_bold"]) for pair in chunk] + pad,
+                [Paragraph("Expected", self.style["cell"])]
+                + [Paragraph("0 V", self.style["cell"]) for _ in chunk] + pad,
+                [Paragraph("Measured", self.style["cell"])]
+                + [self.blank(Blank((*scope, "dead", index, pair),
+                                    f"point {index}, {pair}: volts", suffix="V"))
+                   for pair in chunk] + pad,
+            ]
+            table = Table(rows, colWidths=self.cols(26, *[26] * per_row), hAlign="LEFT")
+            style = [*GRID, ("BACKGROUND", (0, 0), (len(chunk), 0),
+                                colors.Color(0.85, 0.85, 0.85)),
+                     ("VALIGN", (0, 2), (0, 2), "MIDDLE")]
+            if pad:
+                style.append(("GRID", (len(chunk) + 1, 0), (-1, -1), 0, colors.white))
+            table.setStyle(TableStyle(style))
+            out += [table, Spacer(1, 2 * mm)]
+        return out
+
+    def proving_dead_block(self) -> list[Flowable]:
+        return self.proving_dead_points(self.package.proving_dead, (),
+                                        self.numbered("Prove dead at the point of work"))
+
+    def proving_dead_points(self, proving_dead: Sequence[ProvingDead],
+                            scope: tuple[str, ...], heading: Flowable) -> list[Flowable]:
+        out: list[Flowable] = [heading]
+        if not proving_dead:
+            out.append(Paragraph("No absence-of-voltage test is listed in this package.",
+                                 self.style["bold"]))
+            return out
+        # the tester check stays with the first point, the second one with the last
+        points = [self.proving_dead_table(index, point, scope)
+                  for index, point in enumerate(proving_dead, start=1)]
+        points[0] = [self.tester_check("before", scope), Spacer(1, 2 * mm), *points[0]]
+        points[-1] = [*points[-1], self.tester_check("after", scope)]
+        out[0:1] = [KeepTogether([out[0], *points[0]])]
+        out += [KeepTogether(group) for group in points[1:]]
+        return out
+
+    # -- steps and readings
+    def reading_rows(self, readings: Sequence[Reading]) -> Table:
+        cell, small = self.style["cell"], self.style["small"]
+        with_temperature = any(r.needs_temperature for r in readings)
+        heads = ["Reading", "Expected", "Limit and its source", "Measured"]
+        if with_temperature:
+            heads.append("Temp.")
+        rows: list[list[Any]] = [[Paragraph(t, self.style["head"]) for t in heads]]
+        for r in readings:
+            expected: list[Flowable] = [Paragraph(words(expected_text(r)), cell)]
+            if r.basis:
+                expected.append(Paragraph(words(r.basis), small))
+            limit: list[Flowable] = []
+            if r.limit is not None:
+                limit.append(Paragraph(f"<b>{words(limit_text(r.limit, r.unit))}</b>", cell))
+                if r.limit.temperature_corrected_to_c is not None:
+                    limit.append(Paragraph(
+                        "temperature corrected to "
+                        f"{format_quantity(r.limit.temperature_corrected_to_c, '°C')}", cell))
+                limit.append(Paragraph(words(r.limit.basis), small))
+                if not r.acceptance:
+                    limit.append(Paragraph("<b>As found: recorded, not judged.</b>", cell))
+            else:
+                limit.append(Paragraph("—", cell))
+            temperature: Flowable | str = ""
+            if r.needs_temperature:
+                temperature = self.blank(Blank(("temperature", r.id),
+                                               f"{r.id}: temperature, °C", suffix="°C"))
+            row: list[Any] = [
+                Paragraph(f"<b>{words(r.id)}</b> {words(r.what)}", cell),
+                expected, limit,
+                self.blank(Blank(("reading", r.id), f"{r.id}: {r.what}, {r.unit}",
+                                 suffix=r.unit)),
+            ]
+            rows.append([*row, temperature] if with_temperature else row)
+        widths = (self.cols(42, 32, 50, 33, 25) if with_temperature
+                  else self.cols(46, 38, 64, 34))
+        table = Table(rows, colWidths=widths, repeatRows=1)
+        table.setStyle(TableStyle([*GRID, *HEAD_ROW]))
+        return table
+
+    def step_parts(self, step: Step, kind: str,
+                   scope: tuple[str, ...] = ()) -> list[Flowable]:
+        box = self.blank(Blank(
+            (*scope, kind, step.number, "done"),
+            f"{'restoration ' if kind == 'restore' else ''}step {step.number} done", tick=True))
+        text = words(step.text)
+        if step.search_outcome is not None:
+            outcome = "not found" if step.search_outcome == "not_found" else "found"
+            text = f"<b>Only if the ground was {outcome}:</b> {text}"
+        line = Table([[box, Paragraph(str(step.number), self.style["step_no"]),
+                       Paragraph(text, self.style["body"])]],
+                     colWidths=self.cols(10, 12, 160))
+        line.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"),
+                                  ("LEFTPADDING", (0, 0), (-1, -1), 0),
+                                  ("TOPPADDING", (0, 0), (-1, -1), 0.5 * mm),
+                                  ("LINEABOVE", (0, 0), (-1, 0), 0.7, colors.black)]))
+        parts: list[Flowable] = [Spacer(1, 1.5 * mm), line]
+        if step.kind == "remove_lock" and step.devices:
+            parts += [Spacer(1, 1.5 * mm), self.removal_blanks(step.devices[0], scope)]
+        if step.kind == "gate":
+            parts += [Spacer(1, 1.5 * mm), self.labelled_box(
+                "Locks left on because", (*scope, "locks_left_on"),
+                "why every lock stays on")]
+        if step.cautions:
+            parts.append(Spacer(1, 1.5 * mm))
+            parts += self.cautions(step.cautions)
+        if step.readings:
+            parts += [Spacer(1, 1.5 * mm), self.reading_rows(step.readings),
+                      *self.reading_notes(step.readings)]
+        parts.append(Spacer(1, 2 * mm))
+        return parts
+
+    def reading_notes(self, readings: Sequence[Reading]) -> list[Flowable]:
+        """What goes under a step's readings: nothing on the issued package."""
+        return []
+
+    def steps_block(self, steps: Sequence[Step], title: str, kind: str) -> list[Flowable]:
+        if not steps:
+            return []
+        return self.step_group(steps, self.numbered(title), kind, ())
+
+    def step_group(self, steps: Sequence[Step], heading: Flowable, kind: str,
+                   scope: tuple[str, ...]) -> list[Flowable]:
+        if not steps:
+            return []
+        first, *rest = steps
+        lead = [heading,
+                Paragraph("Tick each box when the step is done; write each reading in its "
+                          "box, in the unit shown.", self.style["small"])]
+        out: list[Flowable] = [KeepTogether([*lead, *self.step_parts(first, kind, scope)])]
+        out += [KeepTogether(self.step_parts(step, kind, scope)) for step in rest]
+        return out
+
+    def removal_blanks(self, device: str, scope: tuple[str, ...]) -> Table:
+        """Who removed the lock and tag of ``device``, and when: filled in at the step."""
+        head = self.style["head"]
+        row = [Paragraph("Removed by", head),
+               self.blank(Blank((*scope, "lock", device, "removed_by"),
+                                f"{device}: removed by")),
+               Paragraph("time", head),
+               self.blank(Blank((*scope, "lock", device, "removed_at"),
+                                f"{device}: removed at"))]
+        table = Table([row], colWidths=self.cols(22, 40, 10, 28), hAlign="RIGHT")
+        table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
+                                   ("LEFTPADDING", (0, 0), (-1, -1), 0),
+                                   ("RIGHTPADDING", (0, 0), (-1, -1), 1.5 * mm)]))
+        return table
+
+    def labelled_box(self, label: str, parts: tuple[str | int, ...], tooltip: str) -> Table:
+        table = Table([[Paragraph(words(label), self.style["head"]),
+                        self.blank(Blank(parts, tooltip))]],
+                      colWidths=self.cols(42, 118), hAlign="RIGHT")
+        table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
+                                   ("LEFTPADDING", (0, 0), (-1, -1), 0)]))
+        return table
+
+    def acceptance_block(self) -> list[Flowable]:
+        if not self.package.acceptance:
+            return []
+        return [self.numbered("Acceptance criteria"), *self.bullets(self.package.acceptance)]
+
+    # -- sign-off
+    def sign_off_block(self) -> list[Flowable]:
+        label = self.style["cell_bold"]
+        rows = [
+            [Paragraph("Technician (name, signature)", label),
+             self.blank(Blank(("sign", "technician"), "technician"))],
+            [Paragraph("Supervisor (name, signature)", label),
+             self.blank(Blank(("sign", "supervisor"), "supervisor"))],
+            [Paragraph("Date", label),
+             self.blank(Blank(("sign", "date"), "date", width=50 * mm))],
+            *([[Paragraph("Ground found at (element id)", label),
+                self.blank(Blank(("ground_found_at",), "ground found at"))]]
+              if self.package.job_kind in ("locate_ground", "clear_second_ground") else []),
+            [Paragraph("Remarks", label),
+             self.blank(Blank(("remarks",), "remarks", height=30 * mm, multiline=True,
+                              max_length=2000))],
+        ]
+        table = Table(rows, colWidths=self.cols(50, 132), repeat_when_cut=(0,))
+        table.setStyle(TableStyle([*GRID, ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
+                                   ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
+        return [KeepTogether([self.numbered("Sign-off"), table])]
+
+
+def render_package(package: WorkPackage, page_size: PageSize = "A4") -> bytes:
+    """The package as a PDF with form fields (see the module docstring for their names)."""
+    return PackagePdf(package, page_size).render()
+
