@@ -58,8 +58,8 @@ for library in preload:
 baseline = set(sys.modules)
 already = sorted(name for name in baseline if hits(name))
 if already:
-    sys.exit(f"the allowed libraries {preload} load {already} themselves: the check "
-             "cannot see what the modules add")
+    sys.exit(f"the modules loaded before the checks ({preload}) load {already} "
+             "themselves")
 results = {}
 for module in modules:
     read, write = os.pipe()
