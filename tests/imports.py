@@ -36,7 +36,8 @@ def forbidden_in(path: Path, forbidden: set[str]) -> set[str]:
 LOADS_NOTHING_OF = {
     "sqlite3", "_sqlite3", "psycopg", "psycopg2", "reportlab", "pypdf", "openpyxl", "yaml",
     "_yaml", "workpack.cli", "workpack.loading", "workpack.output", "workpack.yamlsource",
-    "workpack.render", "workpack.sheets", "workpack.store._sqlite", "workpack.store._postgres",
+    "workpack.render", "workpack.sheets", "workpack.crew_shell", "workpack.store._sqlite",
+    "workpack.store._postgres",
 }
 # Libraries the core uses, imported once before each module is checked (see loaded_by).
 ALLOWED_LIBRARIES = ("pydantic", "networkx", "numpy", "jinja2")
