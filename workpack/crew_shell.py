@@ -32,11 +32,11 @@ from cryptography.hazmat.primitives.serialization import (
     load_pem_private_key,
 )
 
-from workpack.checks import Mismatch
 from workpack.crew import KeyRefusal, check_register, key_valid_at, utc_text
-from workpack.errors import InputError, Problem, UsageError, WorkpackError, did_you_mean
-from workpack.loading import read_text, validate
+from workpack.errors import InputError, UsageError, WorkpackError, did_you_mean
+from workpack.loading import located, read_text, validate
 from workpack.model.crew import CrewRegister, Person, SigningKey
+from workpack.output import fsync_folder
 from workpack.signing import (
     keys_to_revoke_on_rotation,
     new_key_entry,
@@ -59,23 +59,13 @@ class KeyFileError(WorkpackError):
 # --- the register ------------------------------------------------------------------------------
 
 
-def _located(marks: Marks, mismatches: list[Mismatch]) -> list[Problem]:
-    problems = []
-    for mismatch in mismatches:
-        message = mismatch.message
-        if mismatch.related is not None:
-            message += f" (first given on line {marks.locate(mismatch.related)[0]})"
-        problems.append(marks.problem(mismatch.path, message))
-    return problems
-
-
 def load_crew_text(text: str, file: str) -> tuple[CrewRegister, Marks]:
     """Parse, validate and check a crew register; InputError lists every problem."""
     data, marks = parse_yaml(text, file)
     register = validate(CrewRegister, data, marks, "crew register")
     found = check_register(register)
     if found:
-        raise InputError(_located(marks, found))
+        raise InputError(located(marks, found))
     return register, marks
 
 
@@ -167,25 +157,12 @@ def write_key_file(path: Path, data: bytes) -> None:
         except FileExistsError:
             raise KeyFileError(f"{path}: a file appeared there while the key was written; "
                                "nothing written") from None
-        _sync_folder(folder)
+        fsync_folder(folder)
     except OSError as error:
         raise KeyFileError(f"{path}: cannot write the key file "
                            f"({error.strerror or error})") from None
     finally:
         temporary.unlink(missing_ok=True)
-
-
-def _sync_folder(folder: Path) -> None:
-    try:
-        handle = os.open(folder, os.O_RDONLY)
-    except OSError:
-        return
-    try:
-        os.fsync(handle)
-    except OSError:
-        pass
-    finally:
-        os.close(handle)
 
 
 def read_key_file(path: Path, passphrase: bytes) -> Ed25519PrivateKey:

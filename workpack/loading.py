@@ -177,7 +177,8 @@ def _message(detail: Any) -> str:
     return message
 
 
-def _located(marks: Marks, mismatches: list[Mismatch]) -> list[Problem]:
+def located(marks: Marks, mismatches: list[Mismatch]) -> list[Problem]:
+    """Each check's mismatch with its file place (and the place it repeats, if any)."""
     problems = []
     for mismatch in mismatches:
         message = mismatch.message
@@ -266,11 +267,11 @@ def load_plant_text(text: str, file: str) -> tuple[Plant, Topology]:
         plant = validate(Plant, data, marks, "plant inventory")
     except InputError as error:
         schema = list(error.problems)
-        raise InputError([*schema, *_located(marks, _references_despite_schema(data, schema))]
+        raise InputError([*schema, *located(marks, _references_despite_schema(data, schema))]
                          ) from None
     findings, topology = run_checks(plant)
     if findings:
-        raise InputError(_located(marks, findings))
+        raise InputError(located(marks, findings))
     assert topology is not None
     return plant, topology
 
@@ -289,11 +290,11 @@ def load_findings_text(text: str, file: str, topology: Topology) -> Findings:
         findings = validate(Findings, data, marks, "findings file")
     except InputError as error:
         schema = list(error.problems)
-        raise InputError([*schema, *_located(marks, _places_despite_schema(data, schema,
+        raise InputError([*schema, *located(marks, _places_despite_schema(data, schema,
                                                                            topology))]) from None
     mismatches = list(check_findings(findings, topology))
     if mismatches:
-        raise InputError(_located(marks, mismatches))
+        raise InputError(located(marks, mismatches))
     return findings
 
 
@@ -557,7 +558,7 @@ def load_results(path: Path, package: WorkPackage, package_hash: str) -> Results
     results = validate(Results, data, marks, "results file")
     mismatches = list(check_results(package, results, package_hash))
     if mismatches:
-        raise InputError(_located(marks, mismatches))
+        raise InputError(located(marks, mismatches))
     return results
 
 

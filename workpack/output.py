@@ -54,7 +54,8 @@ def _locked(folder: Path, exclusive: bool) -> Iterator[bool]:
         os.close(handle)  # closing releases the lock
 
 
-def _fsync_folder(folder: Path) -> None:
+def fsync_folder(folder: Path) -> None:
+    """Make a folder's entries durable (a rename or a new file in it)."""
     try:
         handle = os.open(folder, os.O_RDONLY)
     except OSError:
@@ -90,9 +91,9 @@ def _finish(folder: Path, locked: bool) -> None:
         for name in removes:
             if name not in moves:
                 (folder / name).unlink(missing_ok=True)
-        _fsync_folder(folder)
+        fsync_folder(folder)
         journal.unlink()
-        _fsync_folder(folder)
+        fsync_folder(folder)
         shutil.rmtree(staging, ignore_errors=True)
     if not locked:
         return
@@ -173,4 +174,4 @@ def _commit(folder: Path, staging: Path, moves: list[str], removes: list[str]) -
         handle.flush()
         os.fsync(handle.fileno())
     os.replace(temporary, folder / JOURNAL)
-    _fsync_folder(folder)
+    fsync_folder(folder)
