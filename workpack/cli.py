@@ -16,6 +16,7 @@ from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any, NamedTuple, TypeVar
 
+from workpack import __version__
 from workpack.errors import UsageError, WorkpackError, did_you_mean
 from workpack.shipped import asset_map, rules_folder
 
@@ -206,8 +207,8 @@ def _cmd_diagnose(args: argparse.Namespace) -> int:
 
 
 def _quick_diagnose(args: argparse.Namespace) -> int:
-    from workpack.diagnose import diagnose_readings
-    from workpack.render.text import quick_diagnosis
+    from workpack.quick_diagnose import diagnose_readings  # not workpack.diagnose: see there
+    from workpack.render.quick_text import quick_diagnosis
 
     if args.volts is None:
         raise UsageError("diagnose: quick mode needs --volts and three --reading options")
@@ -795,6 +796,7 @@ def build_parser() -> argparse.ArgumentParser:
                     "three-phase systems. Local codes, the employer's rules and licensed "
                     "practice prevail over anything it prints.",
     )
+    parser.add_argument("--version", action="version", version=f"workpack {__version__}")
     commands = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
 
     check = commands.add_parser("check", help="validate a plant and summarize its systems")
