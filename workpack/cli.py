@@ -309,7 +309,7 @@ def _history(args: argparse.Namespace, plant: Any) -> Any:
     db = _default_db(args)
     server = is_server_url(db)  # an office store holds many plants: read this one's chain
     if not server and not Path(db).exists():
-        if args.db:
+        if _typed(args, "db"):  # named elsewhere (environment, workpack.toml): none yet
             raise UsageError(f"--db {args.db}: no such records store")
         return History()
     with open_store(db, plant=plant.plant.name if server else None, create=False) as store:
@@ -447,7 +447,7 @@ def _cmd_record(args: argparse.Namespace) -> int:
         out = Path(args.followups)
         write_all(out.parent, {out.name: text.encode()})
         sys.stdout.write(f"{len(evaluation.followups)} follow-up finding(s) written to {out}\n")
-    return 0
+    return 0 if evaluation.verdict == "passed" else 1  # recorded either way; 1: found wanting
 
 
 def _cmd_verify(args: argparse.Namespace) -> int:
@@ -866,10 +866,9 @@ def build_parser() -> argparse.ArgumentParser:
     plan.add_argument("--date", type=_option("--date", _day),
                       help="the day planned for (YYYY-MM-DD); default: the day after the "
                            "findings' date")
-    plan.add_argument("--crew-hours", type=_option("--crew-hours", _hours), default=16.0,
-                      metavar="H",
+    plan.add_argument("--crew-hours", type=_option("--crew-hours", _hours), metavar="H",
                       help="person-hours available (default 16: two people, a day)")
-    plan.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
+    plan.add_argument("--page-size", choices=["A4", "Letter"], help="paper (default A4)")
     plan.add_argument("--rules", default=str(rules_folder()), metavar="DIR",
                       help="rules folder (default: the shipped rules/)")
     plan.add_argument("--db", help="records store whose history informs the plan (default: "
@@ -916,7 +915,7 @@ def build_parser() -> argparse.ArgumentParser:
                        help="the day open packages become overdue (default: --to, else today)")
     audit.add_argument("--code-set", default="ieee43-2013",
                        help="tables for insulation trends whose readings name none")
-    audit.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
+    audit.add_argument("--page-size", choices=["A4", "Letter"], help="paper (default A4)")
     audit.add_argument("--out", required=True, metavar="DIR", help="folder for the report")
     audit.set_defaults(run=_cmd_audit)
 
@@ -926,7 +925,7 @@ def build_parser() -> argparse.ArgumentParser:
     _store_options(closeout)
     closeout.add_argument("--record", type=int, metavar="N",
                           help="record number (default: the package's latest)")
-    closeout.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
+    closeout.add_argument("--page-size", choices=["A4", "Letter"], help="paper (default A4)")
     closeout.add_argument("--out", required=True, metavar="FILE", help="PDF to write")
     closeout.set_defaults(run=_cmd_closeout)
 
@@ -1012,13 +1011,51 @@ def build_parser() -> argparse.ArgumentParser:
     schema.set_defaults(run=_cmd_schema)
 
     _add_crew_commands(commands)
+    _explain_conventions(parser)
     return parser
 
 
+EXIT_STATUS = ("exit status: 0 done (and, where something is judged, found sound); "
+               "1 judged and found wanting (a job recorded as failed or incomplete, a records "
+               "chain broken); 2 bad input or options (one line per problem, file:line:col "
+               "where there is a file; nothing written).")
+
+
+def _explain_conventions(parser: argparse.ArgumentParser) -> None:
+    """Every command's --help ends with where settings come from and the exit statuses,
+    commands added later included: this walks the parsers rather than listing them."""
+    from workpack.settings import PRECEDENCE
+
+    parser.epilog = "\n\n".join(p for p in (parser.epilog, PRECEDENCE, EXIT_STATUS) if p)
+    parser.formatter_class = _Formatter
+    for action in parser._actions:
+        if isinstance(action, argparse._SubParsersAction):
+            for sub in dict.fromkeys(action.choices.values()):
+                _explain_conventions(sub)
+
+
+class _Formatter(argparse.HelpFormatter):
+    """Wraps the description and epilog as paragraphs (blank lines kept between them)."""
+
+    def _fill_text(self, text: str, width: int, indent: str) -> str:
+        return "\n\n".join(super(_Formatter, self)._fill_text(part, width, indent)
+                           for part in text.split("\n\n"))
+
+
+def _typed(args: argparse.Namespace, setting: str) -> bool:
+    """Whether ``setting`` was given on the command line (not from elsewhere)."""
+    from workpack.settings import COMMAND_LINE
+
+    return bool(getattr(args, "setting_sources", {}).get(setting) == COMMAND_LINE)
+
+
 def main(argv: Sequence[str] | None = None) -> int:
+    from workpack.settings import resolve
+
     parser = build_parser()
     try:
         args = parser.parse_args(argv)  # a bad option value is a UsageError (see _option)
+        resolve(args)  # --db, --page-size, --crew-hours left out: environment, workpack.toml
         return int(args.run(args))
     except WorkpackError as error:
         sys.stderr.write(error.format_message() + "\n")
