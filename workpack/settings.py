@@ -121,8 +121,8 @@ def read_config(path: Path) -> dict[str, tuple[Any, str]]:
 
 def _place(text: str, key: str) -> tuple[int, int]:
     """Line and column of ``key =`` in a TOML text (tomllib gives no places)."""
-    pattern = re.compile(rf"^(\s*)[\"']?{re.escape(key)}[\"']?\s*=", re.MULTILINE)
-    found = pattern.search(text) or re.search(rf"^\s*\[+\s*{re.escape(key)}\b", text,
+    pattern = re.compile(rf"^([ \t]*)[\"']?{re.escape(key)}[\"']?\s*=", re.MULTILINE)
+    found = pattern.search(text) or re.search(rf"^[ \t]*\[+\s*{re.escape(key)}\b", text,
                                               re.MULTILINE)
     if not found:
         return 0, 0
