@@ -18,6 +18,7 @@ from typing import Any, NamedTuple, TypeVar
 
 from workpack import __version__
 from workpack.errors import UsageError, WorkpackError, did_you_mean
+from workpack.progress import Progress
 from workpack.shipped import asset_map, rules_folder
 
 
@@ -285,15 +286,14 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     if out.is_dir():  # refuse before the work, not after it; write_all asks again, locked
         with reading(out):
             replaces(out)
-    progress = _Progress("planning") if sys.stderr.isatty() else None
-    result = plan_day(topology, findings, day, ruleset, _standards(), weights,
-                      args.crew_hours, history=history, progress=progress)
+    with Progress("planning") as planning:
+        result = plan_day(topology, findings, day, ruleset, _standards(), weights,
+                          args.crew_hours, history=history, progress=planning)
     files: dict[str, bytes] = {}
-    rendering = _Progress("rendering") if sys.stderr.isatty() else None
-    for done, package in enumerate(result.packages, start=1):
-        files[f"{package.id}.pdf"] = render_package(package, args.page_size)
-        files[f"{package.id}.json"] = (package.model_dump_json(indent=2) + "\n").encode()
-        if rendering:
+    with Progress("rendering", total=len(result.packages)) as rendering:
+        for done, package in enumerate(result.packages, start=1):
+            files[f"{package.id}.pdf"] = render_package(package, args.page_size)
+            files[f"{package.id}.json"] = (package.model_dump_json(indent=2) + "\n").encode()
             rendering(done, len(result.packages))
     files[f"day-{day.isoformat()}.pdf"] = render_day_sheet(
         result.plant, day, result.packages, result.scheduled, result.deferred,
@@ -371,18 +371,6 @@ def _earlier_plan(day: Any, plant: str, db: str) -> Any:
         return names
 
     return earlier
-
-
-class _Progress:
-    """A one-line progress count on the terminal (stderr), nothing when piped."""
-
-    def __init__(self, what: str):
-        self.what = what
-
-    def __call__(self, done: int, total: int) -> None:
-        end = "\n" if done == total else ""
-        sys.stderr.write(f"\r{self.what} {done}/{total}{end}")
-        sys.stderr.flush()
 
 
 def _cmd_results_template(args: argparse.Namespace) -> int:
@@ -554,16 +542,22 @@ def _cmd_audit(args: argparse.Namespace) -> int:
     from workpack.store import open_store
 
     as_of = args.as_of or args.until or dt.date.today()
-    packages = _read_packages(args.packages)
-    with open_store(_default_db(args), plant=_store_plant(args), create=False) as store:
-        records = list(store.records())
-        verification = store.verify()
-    report = build_audit(records, packages, verification, since=args.since, until=args.until,
-                         plant=args.plant_name, as_of=as_of, standards=_standards(),
-                         default_code_set=args.code_set)
-    written = write_all(Path(args.out), {
-        "audit.html": render_audit_html(report).encode(),
-        "audit.pdf": render_audit_pdf(report, args.page_size)})
+    with Progress("audit", total=5) as progress:
+        progress.stage("reading packages")
+        packages = _read_packages(args.packages)
+        progress.stage("verifying records")
+        with open_store(_default_db(args), plant=_store_plant(args), create=False) as store:
+            records = list(store.records())
+            verification = store.verify()
+        progress.stage("judging")
+        report = build_audit(records, packages, verification, since=args.since,
+                             until=args.until, plant=args.plant_name, as_of=as_of,
+                             standards=_standards(), default_code_set=args.code_set)
+        progress.stage("HTML")
+        html = render_audit_html(report).encode()
+        progress.stage("PDF")
+        pdf = render_audit_pdf(report, args.page_size)
+    written = write_all(Path(args.out), {"audit.html": html, "audit.pdf": pdf})
     if args.json:
         from workpack.reports import AuditReport
 
@@ -692,7 +686,9 @@ def _cmd_import_assets(args: argparse.Namespace) -> int:
     from workpack.sheets import import_assets
 
     out = Path(args.out)
-    plant, text = import_assets([Path(p) for p in args.inputs], Path(args.map), str(out))
+    with Progress("import", total=3) as progress:
+        plant, text = import_assets([Path(p) for p in args.inputs], Path(args.map), str(out),
+                                    stage=progress.stage)
     write_all(out.parent, {out.name: text.encode()})
     if args.json:
         from workpack.reports import ImportReport
