@@ -229,6 +229,10 @@ def test_broken_chain_is_exit_1_with_json_saying_so(demo_plan, tmp_path, capsys)
     verify = valid("verify", printed_json(["verify", "--db", str(db), "--json"], capsys,
                                           status=1))
     assert not verify["ok"] and verify["chains"][0]["first_break"]["sequence"] == 1
+    audit = valid("audit", printed_json(["audit", "--db", str(db), "--packages", str(packages),
+                                         "--as-of", "2026-12-03", "--out",
+                                         str(tmp_path / "audit"), "--json"], capsys, status=1))
+    assert not audit["chain"]["ok"]
 
 
 # --- settings: command line > environment > workpack.toml beside the plant > user's > default
