@@ -96,9 +96,17 @@ def test_the_shipped_output_schemas_are_those_the_types_give(command) -> None:
     jsonschema.Draft202012Validator.check_schema(json.loads(shipped_text))
 
 
-def test_the_output_types_are_found() -> None:
+def test_the_output_schemas_are_package_data_and_nothing_else_is_there() -> None:
+    """An installed workpack carries them; a stale file of a removed command is not left."""
+    from fnmatch import fnmatch
+
+    config = tomllib.loads((ROOT / "pyproject.toml").read_text(encoding="utf-8"))
+    patterns = config["tool"]["setuptools"]["package-data"]["workpack"]
     for command in OUTPUTS:
-        assert output_type(command) is not None
+        relative = f"data/output-schemas/{file_name(command)}"
+        assert any(fnmatch(relative, pattern) for pattern in patterns), relative
+    folder = shipped("output-schemas")
+    assert sorted(p.name for p in folder.iterdir()) == sorted(map(file_name, OUTPUTS))
 
 
 def printed_json(arguments: list[str], capsys, status: int = 0) -> Any:
