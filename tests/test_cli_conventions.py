@@ -15,7 +15,7 @@ import pytest
 
 from workpack import __version__
 from workpack.cli import build_parser, main
-from workpack.output_schemas import OUTPUTS, file_name, output_type, schema_text
+from workpack.output_schemas import OUTPUTS, file_name, schema_text
 from workpack.settings import resolve
 from workpack.shipped import shipped
 
