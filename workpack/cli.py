@@ -446,7 +446,9 @@ def _cmd_record(args: argparse.Namespace) -> int:
                               recorded_by=recorded_by, recorded_at=at,
                               verdict=evaluation.verdict, supersedes=args.supersedes)
         where = store.location  # a URL's password left out
-    report = [evaluation_text(evaluation), f"recorded as record {record.sequence} in {where}\n"]
+    if not args.json:  # said at once: the record is stored whatever happens next
+        sys.stdout.write(evaluation_text(evaluation)
+                         + f"recorded as record {record.sequence} in {where}\n")
     followups = None
     if args.followups and evaluation.followups:
         import yaml
@@ -457,14 +459,15 @@ def _cmd_record(args: argparse.Namespace) -> int:
         out = Path(args.followups)
         write_all(out.parent, {out.name: text.encode()})
         followups = str(out)
-        report.append(f"{len(evaluation.followups)} follow-up finding(s) written to {out}\n")
+        if not args.json:
+            sys.stdout.write(f"{len(evaluation.followups)} follow-up finding(s) written to "
+                             f"{out}\n")
     if args.json:
         from workpack.reports import RecordReport
 
-        report = [_to_json(RecordReport(package=package.id, sequence=record.sequence,
-                                        store=where, verdict=evaluation.verdict,
-                                        evaluation=evaluation, followups=followups))]
-    sys.stdout.write("".join(report))
+        sys.stdout.write(_to_json(RecordReport(package=package.id, sequence=record.sequence,
+                                               store=where, verdict=evaluation.verdict,
+                                               evaluation=evaluation, followups=followups)))
     return 0 if evaluation.verdict == "passed" else 1  # recorded either way; 1: found wanting
 
 
