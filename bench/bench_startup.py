@@ -15,6 +15,7 @@ from __future__ import annotations
 import argparse
 import os
 import re
+import resource
 import statistics
 import subprocess
 import sys
@@ -43,29 +44,42 @@ def _command(arguments: list[str]) -> list[str]:
 
 def wall(command: list[str], runs: int) -> tuple[float, subprocess.CompletedProcess[str]]:
     """Median wall seconds of ``runs`` fresh processes, and the last one's result."""
-    times = []
+    seconds, _, result = timed(command, runs)
+    return seconds, result
+
+
+def timed(command: list[str],
+          runs: int) -> tuple[float, float, subprocess.CompletedProcess[str]]:
+    """Median wall and CPU (user + system) seconds of ``runs`` fresh processes, and the
+    last one's result. CPU time shows what a busy machine hides in the wall time."""
+    times, cpu = [], []
     result = None
     environment = {**os.environ, "PYTHONDONTWRITEBYTECODE": "1"}
     for _ in range(runs):
+        before = resource.getrusage(resource.RUSAGE_CHILDREN)
         started = time.perf_counter()
         result = subprocess.run(command, capture_output=True, text=True, cwd=ROOT,
                                 env=environment, check=False)
         times.append(time.perf_counter() - started)
+        after = resource.getrusage(resource.RUSAGE_CHILDREN)
+        cpu.append(after.ru_utime - before.ru_utime + after.ru_stime - before.ru_stime)
     assert result is not None
-    return statistics.median(times), result
+    return statistics.median(times), statistics.median(cpu), result
 
 
 def measure(runs: int = 7) -> tuple[list[str], list[str]]:
     """Lines to print, and the targets missed or outputs wrong."""
     lines: list[str] = []
     missed: list[str] = []
-    floor, _ = wall([PYTHON, "-c", "pass"], runs)
-    lines.append(f"{'python -c pass':>22}: {floor:5.2f} s wall (median of {runs})")
+    floor, floor_cpu, _ = timed([PYTHON, "-c", "pass"], runs)
+    lines.append(f"{'python -c pass':>22}: {floor:5.2f} s wall, {floor_cpu:5.2f} s CPU "
+                 f"(median of {runs})")
     for label, arguments, words, target in COMMANDS:
-        seconds, result = wall(_command(arguments), runs)
+        seconds, cpu, result = timed(_command(arguments), runs)
         ok = result.returncode == 0 and all(w in result.stdout for w in words)
-        lines.append(f"{label:>22}: {seconds:5.2f} s wall, {seconds / floor:4.1f}× bare "
-                     f"python (target < {target:g} s){'' if ok else '  WRONG OUTPUT'}")
+        lines.append(f"{label:>22}: {seconds:5.2f} s wall, {cpu:5.2f} s CPU, "
+                     f"{seconds / floor:4.1f}× bare python (target < {target:g} s wall)"
+                     f"{'' if ok else '  WRONG OUTPUT'}")
         if not ok:
             missed.append(f"{label}: exit {result.returncode}, output "
                           f"{(result.stdout + result.stderr)[:200]!r}")
