@@ -109,7 +109,7 @@ def locate_at_scale(weights: Any, standards: Any) -> list[str]:
 
 def counted(topology: Topology, walks: Counter[tuple[str, str]]) -> None:
     """Count ``topology``'s subtree and supply-path walks by element (this object only)."""
-    below, paths = topology.below, topology._normal_supply_paths
+    below, paths = topology._walk_below, topology._normal_supply_paths
 
     def counted_below(element_id: str) -> list[str]:
         walks["subtree", element_id] += 1
@@ -119,7 +119,7 @@ def counted(topology: Topology, walks: Counter[tuple[str, str]]) -> None:
         walks["paths", element_id] += 1
         return paths(element_id)
 
-    topology.below = counted_below  # type: ignore[method-assign]
+    topology._walk_below = counted_below  # type: ignore[method-assign]
     topology._normal_supply_paths = counted_paths  # type: ignore[method-assign]
 
 

@@ -182,7 +182,7 @@ def test_each_subtree_and_supply_path_is_walked_once_per_search(
     subtrees: list[str] = []
     paths: list[str] = []
     tree_walks: list[str] = []
-    below, supply_paths = Topology.below, Topology._normal_supply_paths
+    below, supply_paths = Topology._walk_below, Topology._normal_supply_paths
 
     def counted_below(self: Topology, element_id: str) -> list[str]:
         subtrees.append(element_id)
@@ -196,7 +196,7 @@ def test_each_subtree_and_supply_path_is_walked_once_per_search(
         tree_walks.append(root.id)
         return walk(root)
 
-    monkeypatch.setattr(Topology, "below", counted_below)
+    monkeypatch.setattr(Topology, "_walk_below", counted_below)
     monkeypatch.setattr(Topology, "_normal_supply_paths", counted_paths)
     monkeypatch.setattr("workpack.search_core._walk", counted_walk)
     result = search(topology, "GD-MAIN", weights, standards)

@@ -19,6 +19,7 @@ from __future__ import annotations
 import datetime as dt
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, replace
+from functools import cached_property
 from typing import NamedTuple
 
 from workpack.diagnose import insulation_tests
@@ -134,6 +135,11 @@ class FaultSearch:
     final_tests: tuple[FinalTests, ...]
     notes: tuple[str, ...]
     weights_used: tuple[str, ...]  # every factor and cost with its basis, for the plan
+
+    @cached_property
+    def searched_boards(self) -> frozenset[str]:
+        """The boards with steps of their own: asked once for every step worded."""
+        return frozenset(step.level for step in self.steps)
 
 
 def plan_fault_search(

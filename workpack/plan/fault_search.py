@@ -4,6 +4,7 @@ isolation of its own. ``search`` decides, ``search_wording`` words. Pure."""
 
 from __future__ import annotations
 
+from collections import Counter
 from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any, NamedTuple
@@ -66,11 +67,11 @@ def search_section(inputs: DayInputs, job: Job, cautions: CautionWriter,
                                as_found_v=phasor.readings_v if phasor else None,
                                exclude=inputs.tripped)
     numbering = PackageNumbering(search, first)
-    levels = [s.level for s in search.steps]
+    on_board = Counter(s.level for s in search.steps)  # steps per board, counted once
     steps: list[Step] = []
     for step in search.steps:
         words = step_words(search, step, numbering)
-        lines = [board_heading(step.level, levels.count(step.level)),
+        lines = [board_heading(step.level, on_board[step.level]),
                  *(text for text in (words.transfer, words.permission) if text),
                  words.open, words.if_clears, words.if_stays]
         steps.append(Step(number=first + len(steps), text="\n".join(lines), check_only=True,
