@@ -66,5 +66,5 @@ def test_every_package_of_a_generated_plant_renders(tmp_path: Path, capsys: Any,
         assert any("boards in a row that only pass the supply on" in n for n in notes)
     if (shape, size) == ("parallel", 30):  # thirty generators: as one box, or some drawn
         assert any("30 supplies side by side" in n for n in notes)
-        assert any(n.startswith("Drawn: ") and "of the 30 isolation points" in n
+        assert any(n.startswith("Drawn: ") and "of the 30 ways in through" in n
                    for n in notes)
