@@ -15,6 +15,7 @@ the type, but by drawing less and saying so under it, so a plant of any size pla
 from __future__ import annotations
 
 import cmath
+import functools
 import math
 import re
 from collections.abc import Callable, Sequence
@@ -152,7 +153,9 @@ def phasor_drawing(phasor: Phasor, width: float, font: str, bold: str,
 # what was left out.
 
 
+@functools.lru_cache(maxsize=8)
 def _measure(font: str, bold: str) -> Callable[[str, bool], float]:
+    @functools.lru_cache(maxsize=4096)
     def measure(text: str, heavy: bool) -> float:
         return float(stringWidth(text, bold if heavy else font, FIGURE_TEXT_PT))
     return measure
@@ -166,10 +169,12 @@ class FittedSketch:
     """A sketch drawing that fits its space, and the notes that say what it leaves out."""
 
     def __init__(self, drawing: Drawing, notes: Sequence[str],
-                 layout: SketchLayout | None = None) -> None:
+                 layout: SketchLayout | None = None,
+                 stands_for: dict[str, str] | None = None) -> None:
         self.drawing = drawing
         self.notes = tuple(notes)
         self.layout = layout  # its geometry, for the checks
+        self.stands_for = stands_for or {}  # node id -> the dashed box drawn for it
 
 
 def sketch_width_needed(sketch: Sketch, font: str, bold: str) -> float:
@@ -219,9 +224,10 @@ def _shorten_labels(sketch: Sketch, room: float, font: str, bold: str) -> Sketch
     return sketch.model_copy(update={"nodes": tuple(nodes)})
 
 
-def _elide_runs(sketch: Sketch) -> tuple[Sketch, int]:
+def _elide_runs(sketch: Sketch, stands_for: dict[str, str]) -> tuple[Sketch, int]:
     """Runs of two or more boards that only pass the supply on (one supply, one load,
-    nothing locked) drawn as one dashed box; returns the sketch and the boards elided."""
+    nothing locked) drawn as one dashed box; returns the sketch and the boards elided,
+    and notes in ``stands_for`` which box stands for each."""
     supplies, loads = _neighbours(sketch)
     through = {node.id for node in sketch.nodes
                if node.kind == "bus" and not node.isolate
@@ -244,6 +250,7 @@ def _elide_runs(sketch: Sketch) -> tuple[Sketch, int]:
         return sketch, 0
     nodes = [stand_in[node.id] if node.id in stand_in else node for node in sketch.nodes
              if node.id not in member_of or node.id in stand_in]
+    stands_for.update({member: stand_in[first].id for member, first in member_of.items()})
 
     def renamed(node_id: str) -> str:
         return stand_in[member_of[node_id]].id if node_id in member_of else node_id
@@ -254,9 +261,11 @@ def _elide_runs(sketch: Sketch) -> tuple[Sketch, int]:
     return Sketch(nodes=tuple(nodes), edges=edges), len(member_of)
 
 
-def _merge_parallel_supplies(sketch: Sketch) -> tuple[Sketch, int]:
+def _merge_parallel_supplies(sketch: Sketch,
+                             stands_for: dict[str, str]) -> tuple[Sketch, int]:
     """Three or more supplies side by side (nothing feeds them, none is locked, they feed
-    the same points) drawn as one dashed box; returns the sketch and the supplies merged."""
+    the same points) drawn as one dashed box; returns the sketch and the supplies merged,
+    and notes in ``stands_for`` which box stands for each."""
     supplies, loads = _neighbours(sketch)
     groups: dict[tuple[str, ...], list[str]] = {}
     for node in sketch.nodes:
@@ -273,6 +282,7 @@ def _merge_parallel_supplies(sketch: Sketch) -> tuple[Sketch, int]:
     if not stand_in:
         return sketch, 0
     nodes = list(dict.fromkeys(stand_in.get(node.id, node) for node in sketch.nodes))
+    stands_for.update({member: box.id for member, box in stand_in.items()})
     edges = tuple(dict.fromkeys((stand_in[a].id if a in stand_in else a, b)
                                 for a, b in sketch.edges))
     return Sketch(nodes=tuple(nodes), edges=edges), len(stand_in)
@@ -363,9 +373,12 @@ def fit_sketch(sketch: Sketch, width: tuple[float, float], max_height: float, fo
         layout = layout_sketch(candidate, max(narrowest, needed), measure)
         return layout if layout is not None and layout.height <= max_height else None
 
+    stands_for: dict[str, str] = {}
+
     def summarised(candidate: Sketch) -> tuple[Sketch, int, int]:
-        merged, boards = _elide_runs(candidate)
-        merged, parallel = _merge_parallel_supplies(merged)
+        stands_for.clear()
+        merged, boards = _elide_runs(candidate, stands_for)
+        merged, parallel = _merge_parallel_supplies(merged, stands_for)
         return _shorten_labels(merged, widest, font, bold), boards, parallel
 
     def finished(candidate: Sketch, layout: SketchLayout, boards: int, parallel: int,
@@ -379,7 +392,8 @@ def fit_sketch(sketch: Sketch, width: tuple[float, float], max_height: float, fo
         if kinds:
             notes.insert(0, f"A dashed box, named by its first and last, stands for "
                             f"{' and '.join(kinds)}.")
-        return FittedSketch(draw_layout(layout, font, bold), notes, layout)
+        return FittedSketch(draw_layout(layout, font, bold), notes, layout,
+                            dict(stands_for) if boards or parallel else {})
 
     whole = _shorten_labels(sketch, widest, font, bold)
     if (layout := attempt(whole)) is not None:
