@@ -28,6 +28,7 @@ from reportlab.pdfbase.pdfmetrics import stringWidth
 from workpack.electrical import PhaseSequence, source_phasors
 from workpack.model.package import Phasor, Sketch, SketchNode, SketchRoute
 from workpack.render.sketch_layout import (
+    ITEM_FRAME,
     LINE,
     MARGIN,
     PAD,
@@ -162,7 +163,7 @@ def _measure(font: str, bold: str) -> Callable[[str, bool], float]:
 
 
 LOCK_ROOM = 20.0  # a padlock, in points
-MIN_SKETCH_HEIGHT = 2 * MARGIN + 2 * PAD + LINE + 3.0  # the item alone
+MIN_SKETCH_HEIGHT = 2 * MARGIN + 2 * PAD + LINE + 2 * ITEM_FRAME  # the item alone
 
 
 class FittedSketch:
@@ -500,7 +501,7 @@ def _draw_node(drawing: Drawing, placed: PlacedNode, height: float, font: str,
 
 def sketch_legend() -> Sequence[str]:
     """Words that explain the sketch's marks, for a caption under it."""
-    return ("Lines run from each supply toward the item (double frame), the way energy "
-            "could reach it; heavy frame: bus.",
+    return ("Supply above, load below: every way energy could reach the item (double "
+            "frame); heavy frame: bus; a line up the right edge feeds back to a board above.",
             "Open contact with a padlock, and LOCK: an isolation point of this package; "
             "N.O.: normally open; step n: the search step that first opens it.")

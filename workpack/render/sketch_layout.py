@@ -45,6 +45,7 @@ STACK_INDENT = 12.0
 STACK_GAP = 4.0
 STACK_PAD = 2.5  # above and below the one line of a stacked box
 SLOT_W = 4.0  # a line's slot through a layer it crosses
+ITEM_FRAME = 2.0  # the item's inner frame, inside its outer one
 ASCENT, DESCENT = 0.78, 0.24  # of the face, in ems: a text's rectangle
 
 SPREAD = ("bus", "item", "elided")  # many lines, each at its own point of the edge
@@ -201,7 +202,9 @@ class _Builder:
         if node.kind in SPREAD:
             width = max(width, 2 * PORT_PAD + max(ports - 1, 0) * PORT_GAP)
         pad = STACK_PAD if stacked else PAD
-        height = len(lines) * LINE + 2 * pad + (3.0 if node.kind == "item" else 0.0)
+        height = len(lines) * LINE + 2 * pad
+        if node.kind == "item":  # room for the inner frame
+            width, height = width + 2 * ITEM_FRAME, height + 2 * ITEM_FRAME
         return width, height
 
     def lock_width(self) -> float:
