@@ -9,7 +9,10 @@ invented data, no check values).
 
 from __future__ import annotations
 
+import os
 import re
+import subprocess
+import sys
 from collections.abc import Iterator
 from pathlib import Path
 from typing import Any
@@ -304,3 +307,32 @@ def test_a_lock_between_two_boards_is_never_stacked_out_of_its_line() -> None:
     assert lock.conductor_x is not None and lock.lock_x is not None
     assert ends == [(lock.conductor_x, lock.rect.y0)]
     assert lock.rect.x0 < lock.conductor_x < lock.lock_x < lock.rect.x1
+
+
+DIGEST = """
+import hashlib, sys
+from pathlib import Path
+from workpack.isolation import plan_isolation
+from workpack.loading import load_plant
+from workpack.plan.sketch import package_sketch
+from workpack.render.figures import fit_sketch
+from workpack.render.pdf import FONT, FONT_BOLD, register_fonts
+register_fonts()
+topology = load_plant(Path(sys.argv[1]))[1]
+text = ""
+for item in ("T1", "WL-1", "MSB"):
+    sketch = package_sketch(topology, item, plan_isolation(topology, item))
+    text += repr(sketch) + repr(fit_sketch(sketch, (250.0, 515.0), 400.0, FONT, FONT_BOLD).layout)
+print(hashlib.sha256(text.encode()).hexdigest())
+"""
+
+
+def test_sketches_do_not_depend_on_hash_seeds() -> None:
+    digests = set()
+    for seed in ("1", "2"):
+        env = {**os.environ, "PYTHONHASHSEED": seed}
+        run = subprocess.run([sys.executable, "-c", DIGEST,
+                              str(ROOT / "plants" / "demo-vessel.yaml")],
+                             env=env, capture_output=True, text=True, check=True)
+        digests.add(run.stdout.strip())
+    assert len(digests) == 1

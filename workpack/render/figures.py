@@ -368,7 +368,7 @@ def fit_sketch(sketch: Sketch, width: tuple[float, float], max_height: float, fo
     measure = _measure(font, bold)
 
     def attempt(candidate: Sketch) -> SketchLayout | None:
-        needed = width_needed(candidate, measure)
+        needed = width_needed(candidate, measure, widest)
         if needed > widest + 0.01:
             return None
         layout = layout_sketch(candidate, max(narrowest, needed), measure)

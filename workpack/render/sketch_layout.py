@@ -213,20 +213,28 @@ class _Builder:
 
 def layout_sketch(sketch: Sketch, width: float | None, measure: Measure) -> SketchLayout | None:
     """The sketch laid out ``width`` points wide (None: as wide as it needs); None when a
-    layer does not fit that width."""
-    return _Layout(_Builder(sketch, measure), width).run()
+    layer does not fit that width. Stacks go side by side on the bottom layer where that
+    fits (a shorter picture), else each right under its board."""
+    builder = _Builder(sketch, measure)
+    return _Layout(builder, width, True).run() or _Layout(builder, width, False).run()
 
 
-def width_needed(sketch: Sketch, measure: Measure) -> float:
-    layout = layout_sketch(sketch, None, measure)
-    assert layout is not None
-    return layout.width
+def width_needed(sketch: Sketch, measure: Measure, room: float | None = None) -> float:
+    """The width ``layout_sketch`` lays the sketch out in: stacks on the bottom layer
+    where that needs at most ``room`` points, else the least width it can do."""
+    builder = _Builder(sketch, measure)
+    widths = [layout.width for sink in (True, False)
+              if (layout := _Layout(builder, None, sink).run()) is not None]
+    if room is not None and widths[0] <= room + 0.01:
+        return widths[0]
+    return min(widths)
 
 
 class _Layout:
-    def __init__(self, builder: _Builder, width: float | None) -> None:
+    def __init__(self, builder: _Builder, width: float | None, sink_stacks: bool) -> None:
         self.b = builder
         self.width = width
+        self.sink_stacks = sink_stacks
 
     def run(self) -> SketchLayout | None:
         b = self.b
@@ -322,6 +330,11 @@ class _Layout:
         for unit in reversed(topo):
             if succ[unit]:
                 layer[unit] = max(layer[unit], min(layer[n] for n in succ[unit]) - 1)
+        if self.sink_stacks:
+            bottom = max(layer.values(), default=0)
+            for unit_id, unit in self.units.items():
+                if unit.kind == "stack":
+                    layer[unit_id] = bottom
         self.layer = layer
         self.succ, self.pred = succ, pred
 
