@@ -332,8 +332,8 @@ class _Layout:
                 layer[unit] = max(layer[unit], min(layer[n] for n in succ[unit]) - 1)
         if self.sink_stacks:
             bottom = max(layer.values(), default=0)
-            for unit_id, unit in self.units.items():
-                if unit.kind == "stack":
+            for unit_id, placed in self.units.items():
+                if placed.kind == "stack":
                     layer[unit_id] = bottom
         self.layer = layer
         self.succ, self.pred = succ, pred
