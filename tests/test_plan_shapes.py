@@ -29,6 +29,12 @@ def planned(tmp_path: Path, shape: str, size: int) -> Path:
     else:
         plant = shaped_plant_data(shape, size)
         findings = findings_data(plant)
+    return plan_files(tmp_path, plant, findings)
+
+
+def plan_files(tmp_path: Path, plant: dict[str, Any], findings: dict[str, Any]) -> Path:
+    """Writes the plant and findings as YAML into ``tmp_path``, plans them through the
+    command line, and returns the output folder."""
     (tmp_path / "plant.yaml").write_text(yaml.safe_dump(plant, sort_keys=False))
     (tmp_path / "findings.yaml").write_text(yaml.safe_dump(findings, sort_keys=False,
                                                            allow_unicode=True))

@@ -18,10 +18,9 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-import yaml
 from plantgen import findings_data, random_findings_data, random_plant_data, shaped_plant_data
+from test_plan_shapes import plan_files
 
-from workpack.cli import main
 from workpack.loading import load_plant
 from workpack.model.package import Sketch, SketchNode, SketchRoute, WorkPackage
 from workpack.render.figures import FittedSketch, fit_sketch
@@ -46,12 +45,7 @@ def packages(folder: Path) -> list[WorkPackage]:
 
 
 def planned(tmp_path: Path, plant: dict[str, Any], findings: dict[str, Any]) -> Path:
-    (tmp_path / "plant.yaml").write_text(yaml.safe_dump(plant, sort_keys=False))
-    (tmp_path / "findings.yaml").write_text(yaml.safe_dump(findings, sort_keys=False,
-                                                           allow_unicode=True))
-    out = tmp_path / "out"
-    assert main(["plan", str(tmp_path / "plant.yaml"), str(tmp_path / "findings.yaml"),
-                 "--out", str(out), "--crew-hours", "40"]) == 0
+    plan_files(tmp_path, plant, findings)
     return tmp_path
 
 

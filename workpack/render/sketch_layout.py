@@ -344,33 +344,27 @@ class _Layout:
         b = self.b
         self.chains: list[_Chain] = []
         for a, c in self.forward:
-            units = [a]
-            for depth in range(self.layer[a] + 1, self.layer[c]):
-                slot = f"slot:{a}>{c}:{depth}"
-                self.units[slot] = _Unit(slot, "slot", SLOT_W, 0.0,
-                                         self.units[a].order + 0.5)
-                self.layer[slot] = depth
-                units.append(slot)
-            units.append(c)
-            start = a
-            end = c
-            self.chains.append(_Chain(f"{start}>{end}", units, start, end))
+            self.chains.append(_Chain(f"{a}>{c}", self.through_slots(a, c), a, c))
         for a, c in b.edges:
             if (a, c) not in b.back:
                 continue
             ua, uc = self.unit_of[a], self.unit_of[c]
             if self.layer[uc] > self.layer[ua]:
-                units = [ua]
-                for depth in range(self.layer[ua] + 1, self.layer[uc]):
-                    slot = f"slot:{ua}>{uc}:{depth}"
-                    self.units[slot] = _Unit(slot, "slot", SLOT_W, 0.0,
-                                             self.units[ua].order + 0.5)
-                    self.layer[slot] = depth
-                    units.append(slot)
-                self.chains.append(_Chain(f"{a}>{c}", [*units, uc], a, c))
+                self.chains.append(_Chain(f"{a}>{c}", self.through_slots(ua, uc), a, c))
             else:
                 self.chains.append(_Chain(f"{a}>{c}", [ua, uc], a, c, back=True))
         self.depth = max(self.layer.values(), default=0) + 1
+
+    def through_slots(self, upper: str, lower: str) -> list[str]:
+        """The units a line from ``upper`` down to ``lower`` passes: a new slot in each
+        layer between them."""
+        units = [upper]
+        for depth in range(self.layer[upper] + 1, self.layer[lower]):
+            slot = f"slot:{upper}>{lower}:{depth}"
+            self.units[slot] = _Unit(slot, "slot", SLOT_W, 0.0, self.units[upper].order + 0.5)
+            self.layer[slot] = depth
+            units.append(slot)
+        return [*units, lower]
 
     # -- order within layers ----------------------------------------------------------
 
