@@ -55,6 +55,8 @@ class SearchSection:
     steps: tuple[Step, ...]  # numbered on from the package's work steps
     final_tests: tuple[FinalTest, ...]
     switches: tuple[str, ...]  # devices the search may open and reclose
+    board: str  # where the search starts
+    board_order: tuple[tuple[int, tuple[str, ...]], ...]  # the board's steps: number, opens
 
 
 def search_section(inputs: DayInputs, job: Job, cautions: CautionWriter,
@@ -80,7 +82,9 @@ def search_section(inputs: DayInputs, job: Job, cautions: CautionWriter,
                                numbering.final_ids[final.feeder])
                    for final in search.final_tests)
     switches = tuple(sorted({d for s in search.steps for d in s.open_devices}))
-    return SearchSection(tuple(steps), finals, switches)
+    board_order = tuple((first + index, step.open_devices)
+                        for index, step in enumerate(search.steps) if step.level == search.board)
+    return SearchSection(tuple(steps), finals, switches, search.board, board_order)
 
 
 class _OnElement(NamedTuple):
