@@ -31,8 +31,9 @@ from reportlab.platypus import (
     TableStyle,
 )
 
+from workpack.forms import CHOSEN, chosen_final_fields
 from workpack.model.evaluation import Evaluation, ReadingVerdict
-from workpack.model.package import Reading, WorkPackage
+from workpack.model.package import FinalTest, Reading, WorkPackage
 from workpack.model.results import Results
 from workpack.numbers import format_quantity
 from workpack.records import OUTCOME_WORDS, entered_text, is_bare_number, read_payload, utc_text
@@ -249,6 +250,7 @@ class CloseoutPdf(PackagePdf):
         self.record = record
         self.results = results
         self.verdicts = {v.id: v for v in evaluation.readings}
+        self.chosen = self._chosen_final()
         self.document_title = f"Close-out: {package.title}"
         self.created = (record.recorded_at.astimezone(dt.UTC).date() if record is not None
                         else results.completed_on if results is not None
@@ -351,6 +353,17 @@ class CloseoutPdf(PackagePdf):
         """The blank as it was filled in: a ticked or empty square, the entry in its box,
         or a reading with its outcome."""
         parts = tuple(str(part) for part in blank.parts)
+        if parts == ("final_at",):
+            return self._filled_box(blank, self.chosen.id if self.chosen else None,
+                                    strong=True)
+        if parts[:2] == ("final", CHOSEN):  # the one procedure: the circuit's own blanks
+            targets = self._chosen_targets(parts[2:])
+            if blank.tick:
+                return TickedBox(bool(targets) and all(self._ticked(t) for t in targets),
+                                 self.blank_height(blank))
+            if not targets:
+                return self._filled_box(blank, None)
+            parts = targets[0]
         if blank.tick:
             return TickedBox(self._ticked(parts), self.blank_height(blank))
         if parts[0] == "reading":
@@ -363,6 +376,27 @@ class CloseoutPdf(PackagePdf):
         notes = [v for v in (self.verdicts.get(r.id) for r in readings) if v and v.note]
         return [Paragraph(f"<b>{words(v.id)}</b>: {words(v.note)}", self.style["small"])
                 for v in notes]
+
+    def _chosen_final(self) -> FinalTest | None:
+        """The final tests this record filled in: the first with anything written."""
+        r = self.results
+        if r is None:
+            return None
+        recorded = {i for i, m in r.readings.items() if m.value is not None}
+        for final in self.package.final_tests:
+            record = r.final_tests.get(final.id)
+            ids = {x.id for s in (*final.steps, *final.restoration) for x in s.readings}
+            if (record is not None and record.anything_filled_in()) or ids & recorded:
+                return final
+        return None
+
+    def _chosen_targets(self, parts: tuple[str, ...]) -> list[tuple[str, ...]]:
+        """The chosen final test's own blanks that one blank of the procedure stands for."""
+        if self.chosen is None:
+            return []
+        targets = chosen_final_fields(self.chosen).get(parts, ())
+        return [t if t[0] in ("reading", "temperature") else ("final", self.chosen.id, *t)
+                for t in targets]
 
     def _ticked(self, parts: tuple[str, ...]) -> bool:
         r: Any = self.results
