@@ -170,24 +170,24 @@ def _outcome(level: str, branch: Branch, searched: set[str], numbering: Numberin
 
 def search_table_note(cleared: str, unchanged: str) -> str:
     """What the decision table's two outcome columns mean, said once above it."""
-    return (f"Tick each step when done. Clears: {cleared}. Stays: the detector shows the "
-            f"ground still there {unchanged}. Close what a step opened before you go on, "
-            "unless the row says to keep it open.")
+    return (f"Open what the row says and watch the detector for about a minute. Clears: "
+            f"{cleared}. Stays: the detector shows the ground still there {unchanged}. "
+            "Either way, close what the step opened before you go on. Tick each step when "
+            "done.")
 
 
 def goto_cell(goto: SearchGoto) -> str:
-    """One outcome of a search step, short enough for a table cell."""
+    """One outcome of a search step, short enough for a table cell (the note above the
+    table says to close what the step opened)."""
     moves = ""
     if " (if the ground is in" in goto.text:
         moves = goto.text[goto.text.index(" (if the ground is in"):]
     if goto.kind == "step" and goto.below:
-        return (f"Ground below {goto.below}: close it; search its circuits from step "
-                f"{goto.step}.{moves}")
+        return f"Below {goto.below}: go to step {goto.step} (its circuits).{moves}"
     if goto.kind == "step":
-        return f"Close what you opened; go to step {goto.step}.{moves}"
+        return f"Go to step {goto.step}.{moves}"
     if goto.kind == "final":
-        return (f"Ground below {goto.below}: close what you opened; do final tests "
-                f"{goto.final}.{moves}")
+        return f"Below {goto.below}: final tests {goto.final}.{moves}"
     return "Not found at this level (see under the table)."
 
 

@@ -43,7 +43,7 @@ from workpack.render.pdf.fields import Blank, CheckBox, FieldBox
 from workpack.render.pdf.flowables import KeepTogether, Table, listed, words
 from workpack.render.pdf.fonts import FONT, FONT_BOLD
 from workpack.render.pdf.readings import expected_text, limit_text
-from workpack.render.search_tree import tree_drawings, tree_legend
+from workpack.render.search_tree import search_tree, tree_legend
 from workpack.search_wording import (
     FINAL_PROCEDURE_TEXT,
     FINAL_TESTS_TITLE,
@@ -54,6 +54,13 @@ from workpack.search_wording import (
 
 # What a table cell holds: a flowable, or several one under the other.
 Cell: TypeAlias = "Flowable | list[Flowable]"
+
+
+# the dense tables (search, final tests): less padding, the smallest print size
+TIGHT = [("TOPPADDING", (0, 0), (-1, -1), 0.8 * mm),
+         ("BOTTOMPADDING", (0, 0), (-1, -1), 0.8 * mm),
+         ("LEFTPADDING", (0, 0), (-1, -1), 1 * mm),
+         ("RIGHTPADDING", (0, 0), (-1, -1), 1 * mm)]
 
 
 # --- the package ------------------------------------------------------------------------
@@ -152,24 +159,25 @@ class PackagePdf(PdfDocument):
         then the same search drawn as a tree."""
         first = steps[0].decision
         assert first is not None
-        cell, bold = self.style["cell"], self.style["cell_bold"]
+        cell, bold = self.style["small"], self.style["small_bold"]
         lead: list[Flowable] = [] if heading is None else [heading]
         lead += [self.sub(f"Search: steps {steps[0].number} to {steps[-1].number}"),
                  Paragraph(words(search_table_note(first.cleared, first.unchanged)),
                            self.style["small"])]
         rows: list[list[Any]] = [[
             "", Paragraph("Step", self.style["head"]),
-            Paragraph("Open, watch the detector about a minute", self.style["head"]),
+            Paragraph("Open", self.style["head"]),
             Paragraph("Clears: the ground is below what you opened", self.style["head"]),
             Paragraph("Stays", self.style["head"])]]
-        not_found = ""
+        not_found, board = "", ""
         for step in steps:
             d = step.decision
             assert d is not None
             opened: list[Flowable] = [Paragraph(f"<b>{words(', '.join(d.opens))}</b>", cell)]
             opened += [Paragraph(words(text), cell) for text in d.first]
-            if d.board != first.board or step is steps[0]:
+            if d.board != board:  # the board, where it changes
                 opened.insert(0, Paragraph(f"on {words(d.board)}:", self.style["small"]))
+                board = d.board
             outcomes = []
             for goto in (d.on_clear, d.on_stay):
                 outcomes.append(Paragraph(words(goto_cell(goto)), bold if goto.kind != "step"
@@ -180,21 +188,20 @@ class PackagePdf(PdfDocument):
                                           f"step {step.number} done", tick=True)),
                          Paragraph(str(step.number), self.style["step_no"]),
                          opened, *outcomes])
-        table = Table(rows, colWidths=self.cols(9, 13, 64, 52, 44), repeatRows=1,
+        table = Table(rows, colWidths=self.cols(9, 13, 82, 48, 30), repeatRows=1,
                       repeat_when_cut=(1,))
-        table.setStyle(TableStyle([*GRID, *HEAD_ROW]))
+        table.setStyle(TableStyle([*GRID, *HEAD_ROW, *TIGHT]))
         out: list[Flowable] = [KeepTogether([*lead, Spacer(1, 1 * mm)])]
         out.append(table)
         if not_found:
             out.append(Paragraph(f"<b>Not found at this level:</b> "
                                  f"{words(not_found[len('not found at this level: '):])}.",
                                  self.style["small"]))
-        drawings = tree_drawings(steps, self.width, self.height - 30 * mm, FONT, FONT_BOLD)
-        if drawings:
-            out.append(KeepTogether([self.sub("The search as a tree"), drawings[0],
-                                     Spacer(1, 1 * mm)]))
-            out += drawings[1:]
-            out += [Paragraph(words(n), self.style["small"]) for n in tree_legend()]
+        tree = search_tree(steps, self.width, FONT, FONT_BOLD)
+        if tree is not None:
+            legend = [Paragraph(words(n), self.style["small"]) for n in tree_legend()]
+            out += [KeepTogether([self.sub("The search as a tree"), *legend]),
+                    Spacer(1, 1.5 * mm), tree]
         return out
 
     # -- final tests of a search: one procedure, a table row for each circuit
@@ -244,8 +251,9 @@ class PackagePdf(PdfDocument):
         cell = small = self.style["small"]
         bold = self.style["small_bold"]
         sources: dict[str, int] = {}
+        spans: list[tuple[Any, ...]] = []
         rows: list[list[Any]] = [[Paragraph(t, self.style["head"]) for t in (
-            "Id", "Search ends at", "Lock and tag, in this order", "Prove dead at",
+            "Id: search ends at", "Lock and tag, in this order", "Prove dead at",
             "Tests, each to earth: minimum", "Energise")]]
         counted = Counter([*(p.voltage_v for f in finals for p in f.isolation),
                            *(d.voltage_v for f in finals for d in f.proving_dead)])
@@ -255,7 +263,8 @@ class PackagePdf(PdfDocument):
             return "" if value == usual else f", {format_volts(value)}"
 
         for final in finals:
-            ends: list[Flowable] = [Paragraph(f"<b>{words(final.feeder)}</b>", cell)]
+            ends: list[Flowable] = [Paragraph(f"<b>{words(final.id)}</b>: "
+                                              f"<b>{words(final.feeder)}</b>", cell)]
             if final.vital_loads:
                 ends.append(Paragraph("vital: " + words(", ".join(final.vital_loads)), bold))
             if final.disconnect:
@@ -266,34 +275,35 @@ class PackagePdf(PdfDocument):
                                + words(volts(p.voltage_v))
                                + (", already open" if p.already_open else ""), cell)
                      for p in sorted(final.isolation, key=lambda p: p.order)]
-            locks += [Paragraph("<b>DANGER, no lock can cut:</b> " + words(gap), cell)
-                      for gap in final.isolation_gaps]
-            locks += [Paragraph("stored energy: " + words(item), small)
-                      for item in final.stored_energy]
             dead = [Paragraph(f"{n} {words(p.where)}{words(volts(p.voltage_v))}", cell)
                     for n, p in enumerate(final.proving_dead, start=1)]
             tests = []
             readings = [r for s in (*final.steps, *final.restoration) for r in s.readings]
             for k, r in enumerate(readings, start=1):
                 limit = r.limit
-                text = f"T{k} {words(r.what)}"
+                text = f"T{k} {words(r.what.replace(' to earth at ', ' at '))}"
                 if limit is not None:
                     ref = sources.setdefault(limit.basis, len(sources) + 1)
                     at = (f" at {format_quantity(limit.temperature_corrected_to_c, '°C')}"
                           if limit.temperature_corrected_to_c is not None else "")
                     text += f": <b>{words(limit_text(limit, r.unit))}</b>{at} [{ref}]"
                 tests.append(Paragraph(text, cell))
-            energise = [Paragraph(words(_energise_words(s.text)), cell)
-                        for s in final.restoration if s.kind == "energise"]
-            rows.append([Paragraph(f"<b>{words(final.id)}</b>", cell), ends, locks, dead,
-                         tests, energise])
-        table = Table(rows, colWidths=self.cols(11, 24, 40, 38, 47, 22), repeatRows=1,
+            energise = [_energise_words(s.text) for s in final.restoration
+                        if s.kind == "energise"]
+            rows.append([ends, locks, dead, tests,
+                         Paragraph(words(energise[0]) if energise else "", cell)])
+            # what only some circuits have goes on a line of its own across the row
+            notes = [f"<b>DANGER, no lock can cut:</b> {words(gap)}"
+                     for gap in final.isolation_gaps]
+            notes += [f"<b>Stored energy:</b> {words(item)}" for item in final.stored_energy]
+            notes += [f"<b>After energising:</b> {words(text)}" for text in energise[1:]]
+            if notes:
+                rows.append([Paragraph(f"{words(final.id)} also:", cell),
+                             Paragraph("<br/>".join(notes), cell), "", "", ""])
+                spans.append(("SPAN", (1, len(rows) - 1), (-1, len(rows) - 1)))
+        table = Table(rows, colWidths=self.cols(26, 40, 40, 54, 22), repeatRows=1,
                       repeat_when_cut=(0,))
-        table.setStyle(TableStyle([*GRID, *HEAD_ROW,
-                                   ("TOPPADDING", (0, 0), (-1, -1), 0.8 * mm),
-                                   ("BOTTOMPADDING", (0, 0), (-1, -1), 0.8 * mm),
-                                   ("LEFTPADDING", (0, 0), (-1, -1), 1 * mm),
-                                   ("RIGHTPADDING", (0, 0), (-1, -1), 1 * mm)]))
+        table.setStyle(TableStyle([*GRID, *HEAD_ROW, *TIGHT, *spans]))
         notes = [Paragraph(f"[{n}] {words(basis)}", small)
                  for basis, n in sorted(sources.items(), key=lambda kv: kv[1])]
         lead = (f"Voltages are {format_volts(usual)} unless a row says otherwise. "
@@ -327,16 +337,37 @@ class PackagePdf(PdfDocument):
 
     def chosen_proving_dead(self, finals: Sequence[FinalTest],
                             scope: tuple[str, ...]) -> list[Flowable]:
-        count = max(len(f.proving_dead) for f in finals)
-        points = []
-        for index in range(1, count + 1):
-            pairs = tuple(dict.fromkeys(
+        """Proving dead at the circuit's places, numbered as its row lists them: one line
+        of boxes per place (more where it has more pairs), each box under its pair."""
+        per_row = 6
+        rows: list[list[Any]] = []
+        spans: list[tuple[Any, ...]] = []
+        for index in range(1, max(len(f.proving_dead) for f in finals) + 1):
+            pairs = list(dict.fromkeys(
                 pair for f in finals if len(f.proving_dead) >= index
                 for pair in f.proving_dead[index - 1].pairs))
-            points.append(ProvingDead(where=f"place {index} of the circuit's row",
-                                      voltage_v=None, pairs=pairs))
-        return self.proving_dead_points(points, scope, self.sub("Prove dead at the "
-                                                                "row's places"))
+            first_row = len(rows)
+            for start in range(0, len(pairs), per_row):
+                chunk = pairs[start:start + per_row]
+                cells: list[Any] = [
+                    [Paragraph(words(pair), self.style["small_bold"]),
+                     self.blank(Blank((*scope, "dead", index, pair),
+                                      f"place {index}, {pair}: volts", suffix="V"))]
+                    for pair in chunk]
+                rows.append([Paragraph(str(index), self.style["step_no"]) if start == 0
+                             else "", *cells, *[""] * (per_row - len(chunk))])
+            if len(rows) - first_row > 1:
+                spans.append(("SPAN", (0, first_row), (0, len(rows) - 1)))
+        table = Table(rows, colWidths=self.cols(10, *[28.6] * per_row), repeat_when_cut=(0,))
+        table.setStyle(TableStyle([*GRID, *spans, ("TOPPADDING", (0, 0), (-1, -1), 0.8 * mm),
+                                   ("BOTTOMPADDING", (0, 0), (-1, -1), 1.2 * mm)]))
+        return [KeepTogether([
+            self.sub("Prove dead at the row's places"),
+            Paragraph("Place n is the place numbered n in the circuit's row, at the voltage "
+                      "it gives. Expect 0 V on every pair; leave the pairs and places the "
+                      "circuit does not have empty.", self.style["small"]),
+            self.tester_check("before", scope), Spacer(1, 1 * mm), table, Spacer(1, 1 * mm),
+            self.tester_check("after", scope)])]
 
     def chosen_readings(self, finals: Sequence[FinalTest], scope: tuple[str, ...]) -> Table:
         per_final = [[r for s in (*f.steps, *f.restoration) for r in s.readings]
