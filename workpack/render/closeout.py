@@ -75,25 +75,44 @@ class Mark(Flowable):
         self.icon = size_pt * 1.25
         self.gap = size_pt * 0.45
         self.lines = [word]
+        self.below = False  # the word under the shape, not beside it (see wrap)
         self.width = self.icon + self.gap + stringWidth(word, FONT_BOLD, size_pt)
         self.height = self.icon
 
     def wrap(self, availWidth: float, availHeight: float) -> tuple[float, float]:
-        # a word wider than the cell (a long device id) goes on over several lines
-        room = max(availWidth - self.icon - self.gap, self.size_pt)
+        # wrapped at spaces beside the shape; where a word is too wide to stand beside it,
+        # the words go under the shape, whole; only a word wider than the cell itself (a
+        # long device id) is cut over several lines
+        def width(text: str) -> float:
+            return stringWidth(text, FONT_BOLD, self.size_pt)
+
+        beside = max(availWidth - self.icon - self.gap, self.size_pt)
+        widest = max((width(w) for w in self.word.split()), default=0.0)
+        self.below = widest > beside and widest <= availWidth
+        room = availWidth if self.below else beside
         self.lines = []
-        rest = self.word
+        if widest <= room:
+            for part in self.word.split():
+                if self.lines and width(f"{self.lines[-1]} {part}") <= room:
+                    self.lines[-1] += f" {part}"
+                else:
+                    self.lines.append(part)
+        rest = "" if self.lines else self.word
         while rest:
             fits = 1
-            while (fits < len(rest)
-                   and stringWidth(rest[:fits + 1], FONT_BOLD, self.size_pt) <= room):
+            while fits < len(rest) and width(rest[:fits + 1]) <= room:
                 fits += 1
             self.lines.append(rest[:fits])
             rest = rest[fits:]
         self.lines = self.lines or [""]
-        self.width = self.icon + self.gap + max(
-            stringWidth(line, FONT_BOLD, self.size_pt) for line in self.lines)
-        self.height = max(self.icon, len(self.lines) * self.size_pt * 1.2)
+        text_width = max(width(line) for line in self.lines)
+        leading = self.size_pt * 1.2
+        if self.below:
+            self.width = max(self.icon, text_width)
+            self.height = self.icon + 0.15 * self.size_pt + len(self.lines) * leading
+        else:
+            self.width = self.icon + self.gap + text_width
+            self.height = max(self.icon, len(self.lines) * leading)
         return self.width, self.height
 
     def draw(self) -> None:
@@ -136,6 +155,11 @@ class Mark(Flowable):
             canv.setFont(FONT_BOLD, self.size_pt * 0.9)
             canv.drawCentredString(c, s * 0.16, "!")
         canv.setFont(FONT_BOLD, self.size_pt)
+        if self.below:  # the words on lines of their own under the shape
+            for number, line in enumerate(self.lines):
+                canv.drawString(0, -self.size_pt * (1.05 + 1.2 * number), line)
+            canv.restoreState()
+            return
         first = (s - self.size_pt * 0.72) / 2
         for number, line in enumerate(self.lines):
             canv.drawString(self.icon + self.gap, first - number * self.size_pt * 1.2, line)

@@ -126,8 +126,8 @@ class SearchTree(Flowable):
         return self.width, self.rows * ROW_PT
 
     def split(self, available_width: float, available_height: float) -> list[Flowable]:
-        fits = int(available_height // ROW_PT)
-        if fits < 4 or fits >= self.rows:  # a sliver is no use: move on whole
+        fits = min(int(available_height // ROW_PT), self.rows - 4)  # no sliver left over
+        if fits < 4:  # nor one here: move on whole
             return []
         return [SearchTree(self.layout, self.width, self.font, self.bold, self.first, fits),
                 SearchTree(self.layout, self.width, self.font, self.bold, self.first + fits,

@@ -736,10 +736,16 @@ class PackagePdf(PdfDocument):
         if with_temperature:
             heads.append("Temp.")
         rows: list[list[Any]] = [[Paragraph(t, self.style["head"]) for t in heads]]
+        above: dict[str, str] = {}  # a source printed in the row above: not again
+
+        def source(column: str, text: str) -> str:
+            said, above[column] = above.get(column), text
+            return "source as above" if said == text else text
+
         for r in readings:
             expected: list[Flowable] = [Paragraph(words(expected_text(r)), cell)]
             if r.basis:
-                expected.append(Paragraph(words(r.basis), small))
+                expected.append(Paragraph(words(source("expected", r.basis)), small))
             limit: list[Flowable] = []
             if r.limit is not None:
                 limit.append(Paragraph(f"<b>{words(limit_text(r.limit, r.unit))}</b>", cell))
@@ -747,7 +753,7 @@ class PackagePdf(PdfDocument):
                     limit.append(Paragraph(
                         "temperature corrected to "
                         f"{format_quantity(r.limit.temperature_corrected_to_c, '°C')}", cell))
-                limit.append(Paragraph(words(r.limit.basis), small))
+                limit.append(Paragraph(words(source("limit", r.limit.basis)), small))
                 if not r.acceptance:
                     limit.append(Paragraph("<b>As found: recorded, not judged.</b>", cell))
             else:
