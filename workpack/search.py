@@ -534,7 +534,8 @@ def _final_tests(topology: Topology, builder: _TreeBuilder, leaf: str,
             element=load.id, label=f"{kind} circuit inside {load.label}",
             code_set=installations.name, test_voltage_v=(test_v.min_v, test_v.max_v),
             minimum_ohm=minimum.minimum_ohm, reference_c=minimum.reference_c,
-            basis=f"{test_v.citation}; {minimum.citation}", circuit=auxiliary.kind.value))
+            basis="; ".join(dict.fromkeys((str(test_v.citation), str(minimum.citation)))),
+            circuit=auxiliary.kind.value))
     places = tuple(sorted({s.element for s in sections})) or (leaf,)
     return FinalTests(feeder=leaf, sections=tuple(sections), places=places)
 

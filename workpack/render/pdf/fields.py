@@ -31,6 +31,13 @@ name                                  kind    what goes in it
 ``final:<id>:<any name above>``       …       the same blanks inside final test ``<id>``
                                               (``final:F2:lock:CB-7:number``); readings keep
                                               their own ids (``reading:F2%2ES2%2ER1``)
+``final:chosen:<any name above>``     …       the one printed final-test procedure, filled
+                                              for the circuit named in ``final_at``: lock,
+                                              tag and dead rows numbered as the circuit's
+                                              row lists them, ``reading:T<k>`` its k-th test;
+                                              ``forms.chosen_final_fields`` maps each to the
+                                              final test's own field
+``final_at``                          text    id of the final tests done (``F4``)
 ``sign:technician``                   text    technician
 ``sign:supervisor``                   text    supervisor
 ``sign:date``                         text    date of sign-off
