@@ -48,6 +48,7 @@ from workpack.restoration import (
     take_out_of_service,
 )
 from workpack.rules import CompiledRule, CompiledStep, RuleError
+from workpack.search_wording import FINAL_TESTS_ACCEPTANCE
 
 
 def build_package(inputs: DayInputs, job: Job) -> WorkPackage:
@@ -200,8 +201,10 @@ def _acceptance(rule: CompiledRule, context: Mapping[str, Any], steps: Sequence[
                 final_tests: Sequence[FinalTest] = ()) -> tuple[str, ...]:
     """The rule's criteria, then every judged reading against its limit and source."""
     lines = [evaluate_text(rule, text, context) for text in rule.acceptance]
-    final = [step for test in final_tests for step in (*test.steps, *test.restoration)]
-    for step in (*steps, *final, *restoration):
+    if any(r.limit is not None and r.acceptance for test in final_tests
+           for step in (*test.steps, *test.restoration) for r in step.readings):
+        lines.append(FINAL_TESTS_ACCEPTANCE)
+    for step in (*steps, *restoration):
         for reading in step.readings:
             if reading.limit is not None and reading.acceptance:
                 lines.append(f"{reading.id} {reading.what}: "
