@@ -6,9 +6,10 @@ to its loads); a line that spans layers runs through a reserved slot in each lay
 crosses, so it never passes a box. Order within a layer by the mean place of the
 neighbours (a few sweeps down and up), places by the same means with boxes pushed apart.
 Three or more feeders of one board that feed nothing further are stacked, one per line,
-on a trunk: on the bottom layer where the width allows, in columns where the height asks. Lines are orthogonal: down from a box, along a track of the
-channel between two layers, down into the next box; tracks are given so that no two
-conductors share a stretch. A line against the layering (a back-feed that closes a
+on a trunk: on the bottom layer where the width allows, in columns where the height
+asks. Lines are orthogonal: down from a box, along a track of the channel between two
+layers, down into the next box; tracks are given so that no two conductors share a
+stretch. A line against the layering (a back-feed that closes a
 loop) leaves its box downward, runs up a lane at the right margin and comes down into
 its load. A device's lock sits in its own box, beside its contact, so no line can
 cross it.
