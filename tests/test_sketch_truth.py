@@ -330,3 +330,24 @@ def test_sketches_do_not_depend_on_hash_seeds() -> None:
                              env=env, capture_output=True, text=True, check=True)
         digests.add(run.stdout.strip())
     assert len(digests) == 1
+
+
+def test_a_long_stack_of_feeders_is_set_in_columns_before_any_is_left_out() -> None:
+    """Sixty feeders of one board: one column would be taller than the room, so the
+    stack is set in columns, every feeder drawn with its step and nothing said missing."""
+    feeders = [SketchNode(id=f"CB-M{n}", label=f"CB-M{n}", kind="device", search_step=3 + n)
+               for n in range(1, 61)]
+    sketch = Sketch(nodes=(SketchNode(id="G1", label="G1", kind="source"),
+                           SketchNode(id="MAIN", label="MAIN 440 V", kind="item"), *feeders),
+                    edges=(("G1", "MAIN"), *(("MAIN", f.id) for f in feeders)),
+                    routes=(SketchRoute(kind="supply", nodes=("G1", "MAIN")),
+                            *(SketchRoute(kind="feeder", nodes=("MAIN", f.id))
+                              for f in feeders)))
+    fitted = fit_sketch(sketch, (250.0, 515.0), 560.0, FONT, FONT_BOLD)
+    assert fitted.layout is not None and geometry_faults(fitted) == []
+    assert fitted.notes == () and fitted.layout.height <= 560.0
+    lefts = {p.rect.x0 for p in fitted.layout.nodes if p.node.id in fitted.layout.stacked}
+    assert len(fitted.layout.stacked) == 60 and len(lefts) > 1  # in columns
+    tight = fit_sketch(sketch, (250.0, 250.0), 300.0, FONT, FONT_BOLD)
+    assert geometry_faults(tight) == [] and uncounted_routes(sketch, tight) == []
+    assert "feeders the search opens" in tight.notes[-1]

@@ -37,6 +37,7 @@ from workpack.render.sketch_layout import (
     PlacedNode,
     SketchLayout,
     layout_sketch,
+    longest_stack,
     width_needed,
 )
 
@@ -368,11 +369,20 @@ def fit_sketch(sketch: Sketch, width: tuple[float, float], max_height: float, fo
     measure = _measure(font, bold)
 
     def attempt(candidate: Sketch) -> SketchLayout | None:
-        needed = width_needed(candidate, measure, widest)
-        if needed > widest + 0.01:
-            return None
-        layout = layout_sketch(candidate, max(narrowest, needed), measure)
-        return layout if layout is not None and layout.height <= max_height else None
+        """The candidate's layout within the room, its stacks set in as few columns as
+        that takes; None when it does not fit."""
+        longest = longest_stack(candidate, measure)
+        for columns in range(1, max(1, min(longest, 12)) + 1):
+            per_column = -(-longest // columns) if longest else None
+            if columns > 1 and per_column == -(-longest // (columns - 1)):
+                continue  # the same stacks as one column fewer
+            needed = width_needed(candidate, measure, widest, per_column)
+            if needed > widest + 0.01:
+                return None  # more columns are only wider
+            layout = layout_sketch(candidate, max(narrowest, needed), measure, per_column)
+            if layout is not None and layout.height <= max_height:
+                return layout
+        return None
 
     stands_for: dict[str, str] = {}
 

@@ -5,10 +5,11 @@ Layers top to bottom, supply above load (longest path, then each node pulled dow
 to its loads); a line that spans layers runs through a reserved slot in each layer it
 crosses, so it never passes a box. Order within a layer by the mean place of the
 neighbours (a few sweeps down and up), places by the same means with boxes pushed apart.
-Three or more feeders of one board that feed nothing further are stacked under it, one
-per line, on a trunk. Lines are orthogonal: down from a box, along a track of the
-channel between two layers, down into the next box; tracks are given so that no two
-conductors share a stretch. A line against the layering (a back-feed that closes a
+Three or more feeders of one board that feed nothing further are stacked, one per line,
+on a trunk: on the bottom layer where the width allows, in columns where the height
+asks. Lines are orthogonal: down from a box, along a track of the channel between two
+layers, down into the next box; tracks are given so that no two conductors share a
+stretch. A line against the layering (a back-feed that closes a
 loop) leaves its box downward, runs up a lane at the right margin and comes down into
 its load. A device's lock sits in its own box, beside its contact, so no line can
 cross it.
@@ -43,6 +44,8 @@ PORT_GAP = 8.0
 STACK_MIN = 3
 STACK_INDENT = 12.0
 STACK_GAP = 4.0
+STACK_TOP = 9.0  # above the first leaves of a stack of several columns
+STACK_HEAD = 3.5  # the line along the top of such a stack, that joins its trunks
 STACK_PAD = 2.5  # above and below the one line of a stacked box
 SLOT_W = 4.0  # a line's slot through a layer it crosses
 ITEM_FRAME = 2.0  # the item's inner frame, inside its outer one
@@ -117,6 +120,8 @@ class _Unit:
     leaves: tuple[SketchNode, ...] = ()
     text_w: float = 0.0
     x0: float = 0.0
+    per_column: int = 0  # a stack: leaves in each of its columns
+    leaf_w: float = 0.0  # a stack: the width of each leaf
 
 
 @dataclass
@@ -211,30 +216,43 @@ class _Builder:
         return PADLOCK_AT + PADLOCK_W + PAD
 
 
-def layout_sketch(sketch: Sketch, width: float | None, measure: Measure) -> SketchLayout | None:
+def layout_sketch(sketch: Sketch, width: float | None, measure: Measure,
+                  per_column: int | None = None) -> SketchLayout | None:
     """The sketch laid out ``width`` points wide (None: as wide as it needs); None when a
     layer does not fit that width. Stacks go side by side on the bottom layer where that
-    fits (a shorter picture), else each right under its board."""
+    fits (a shorter picture), else each right under its board; with ``per_column``, a
+    stack of more leaves than that is set in columns."""
     builder = _Builder(sketch, measure)
-    return _Layout(builder, width, True).run() or _Layout(builder, width, False).run()
+    return (_Layout(builder, width, True, per_column).run()
+            or _Layout(builder, width, False, per_column).run())
 
 
-def width_needed(sketch: Sketch, measure: Measure, room: float | None = None) -> float:
+def width_needed(sketch: Sketch, measure: Measure, room: float | None = None,
+                 per_column: int | None = None) -> float:
     """The width ``layout_sketch`` lays the sketch out in: stacks on the bottom layer
     where that needs at most ``room`` points, else the least width it can do."""
     builder = _Builder(sketch, measure)
     widths = [layout.width for sink in (True, False)
-              if (layout := _Layout(builder, None, sink).run()) is not None]
+              if (layout := _Layout(builder, None, sink, per_column).run()) is not None]
     if room is not None and widths[0] <= room + 0.01:
         return widths[0]
     return min(widths)
 
 
+def longest_stack(sketch: Sketch, measure: Measure) -> int:
+    """Leaves in the sketch's longest stack (0: none)."""
+    layout = _Layout(_Builder(sketch, measure), None, False, None)
+    layout.make_units()
+    return max((len(u.leaves) for u in layout.units.values()), default=0)
+
+
 class _Layout:
-    def __init__(self, builder: _Builder, width: float | None, sink_stacks: bool) -> None:
+    def __init__(self, builder: _Builder, width: float | None, sink_stacks: bool,
+                 per_column: int | None) -> None:
         self.b = builder
         self.width = width
         self.sink_stacks = sink_stacks
+        self.per_column = per_column
 
     def run(self) -> SketchLayout | None:
         b = self.b
@@ -290,10 +308,15 @@ class _Layout:
             nodes = tuple(b.nodes[leaf] for leaf in leaves)
             sizes = [b.box_size(n, 1, stacked=True) for n in nodes]
             unit_id = f"stack:{parent}"
+            per_column = min(len(nodes), self.per_column or len(nodes))
+            columns = -(-len(nodes) // per_column)
+            leaf_w = max(w for w, _ in sizes)
             self.units[unit_id] = _Unit(  # leaves of one width, one under the other
-                unit_id, "stack", STACK_INDENT + max(w for w, _ in sizes),
-                STACK_GAP + sum(h + STACK_GAP for _, h in sizes),
-                min(b.rank[leaf] for leaf in leaves), leaves=nodes)
+                unit_id, "stack", columns * (STACK_INDENT + leaf_w) + (columns - 1) * GAP,
+                (STACK_TOP if columns > 1 else STACK_GAP)
+                + per_column * (sizes[0][1] + STACK_GAP),
+                min(b.rank[leaf] for leaf in leaves), leaves=nodes, per_column=per_column,
+                leaf_w=leaf_w)
             for leaf in leaves:
                 self.unit_of[leaf] = unit_id
 
@@ -577,13 +600,14 @@ class _Layout:
                 placed[unit.node.id] = self.place_box(
                     unit.node, unit.x0, top, unit.width, unit.height, unit.text_w, False)
                 continue
-            y = top + STACK_GAP
-            for leaf in unit.leaves:
+            first = top + (STACK_TOP if len(unit.leaves) > unit.per_column else STACK_GAP)
+            for index, leaf in enumerate(unit.leaves):
+                column, row = divmod(index, unit.per_column)
                 h = b.box_size(leaf, 1, stacked=True)[1]
                 text_w = b.text_width(leaf, stacked=True) + 2 * PAD
-                placed[leaf.id] = self.place_box(leaf, unit.x0 + STACK_INDENT, y,
-                                                 unit.width - STACK_INDENT, h, text_w, True)
-                y += h + STACK_GAP
+                left = unit.x0 + column * (STACK_INDENT + unit.leaf_w + GAP) + STACK_INDENT
+                placed[leaf.id] = self.place_box(leaf, left, first + row * (h + STACK_GAP),
+                                                 unit.leaf_w, h, text_w, True)
         return placed
 
     def place_box(self, node: SketchNode, x0: float, top: float, width: float,
@@ -651,10 +675,14 @@ class _Layout:
             if last.kind != "stack":
                 wires.append(Wire(chain.id, _simplify(points), chain.start, chain.end))
                 continue
+            head = points[-1][1] + STACK_HEAD  # joins the trunks of a stack's columns
             for leaf in last.leaves:
                 rect = placed[leaf.id].rect
                 middle = round((rect.y0 + rect.y1) / 2, 2)
-                leaf_points = [*points, (points[-1][0], middle), (rect.x0, middle)]
+                trunk = rect.x0 - STACK_INDENT / 2
+                turn = [] if abs(trunk - points[-1][0]) < 0.01 else [
+                    (points[-1][0], head), (trunk, head)]
+                leaf_points = [*points, *turn, (trunk, middle), (rect.x0, middle)]
                 wires.append(Wire(f"{chain.start}>{leaf.id}", _simplify(leaf_points),
                                   chain.start, leaf.id))
         return wires
