@@ -312,7 +312,8 @@ class PackagePdf(PdfDocument):
                 Paragraph(lead + "Numbers in square brackets: the source of that minimum, "
                           "listed under the table.", small), Spacer(1, 1 * mm),
                 table, Spacer(1, 1 * mm),
-                Paragraph("Sources of the minimums", self.style["head"]), *notes]
+                KeepTogether([Paragraph("Sources of the minimums", self.style["head"]),
+                              *notes])]
 
     def chosen_locks(self, count: int, scope: tuple[str, ...]) -> list[Flowable]:
         """Lock rows for the circuit's devices, numbered as its row lists them."""
