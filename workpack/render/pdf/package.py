@@ -186,9 +186,9 @@ class PackagePdf(PdfDocument):
                     not_found = goto.text
             rows.append([self.blank(Blank(("step", step.number, "done"),
                                           f"step {step.number} done", tick=True)),
-                         Paragraph(str(step.number), self.style["step_no"]),
+                         Paragraph(str(step.number), self.style["cell_bold"]),
                          opened, *outcomes])
-        table = Table(rows, colWidths=self.cols(9, 13, 82, 48, 30), repeatRows=1,
+        table = Table(rows, colWidths=self.cols(8, 12, 78, 56, 28), repeatRows=1,
                       repeat_when_cut=(1,))
         table.setStyle(TableStyle([*GRID, *HEAD_ROW, *TIGHT]))
         out: list[Flowable] = [KeepTogether([*lead, Spacer(1, 1 * mm)])]
