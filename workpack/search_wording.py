@@ -134,7 +134,7 @@ class StepWords:
 def step_words(search: FaultSearch, step: SearchStep, numbering: Numbering) -> StepWords:
     """The sentences of ``step`` of ``search``, its outcomes sent where ``numbering``
     says."""
-    searched = {s.level for s in search.steps}  # boards with steps of their own
+    searched = search.searched_boards
     opened = ", ".join(f"{d} ({w})" if w else d
                        for d, w in zip(step.open_devices, step.where, strict=True))
     moves = "".join(f" (if the ground is in {load} itself it moves with the transfer, since "
@@ -155,7 +155,8 @@ def step_words(search: FaultSearch, step: SearchStep, numbering: Numbering) -> S
     )
 
 
-def _outcome(level: str, branch: Branch, searched: set[str], numbering: Numbering) -> str:
+def _outcome(level: str, branch: Branch, searched: frozenset[str],
+             numbering: Numbering) -> str:
     if branch.kind == "step":
         return f"close what was opened; go to {numbering.step(level, branch.step)}"
     if branch.kind == "found" and branch.candidate_id in searched:

@@ -179,6 +179,24 @@ class SketchNode(Plain):
     label: str
     kind: str  # source, bus, device, transformer, cable, load, item
     isolate: bool = False  # an isolation point of this package
+    normally_open: bool = False  # a tie or alternate input, open in the normal state
+    detail: str = ""  # a second line: a transformer's vector group and voltages
+    search_step: int | None = None  # the package step that first opens it in a search
+
+
+SketchRouteKind = Literal["lock", "supply", "tie", "secondary", "feeder"]
+
+
+class SketchRoute(Plain):
+    """One way drawn in the sketch, as the ids of its nodes from its far end.
+
+    ``lock``: a source, through an isolation point, to the item; ``supply``: a normal
+    supply path; ``tie``: an alternate supply through a normally open point;
+    ``secondary``: a transformer item on to its secondary bus; ``feeder``: the searched
+    board down to a feeder the search opens."""
+
+    kind: SketchRouteKind
+    nodes: tuple[str, ...]
 
 
 class Sketch(Plain):
@@ -186,6 +204,9 @@ class Sketch(Plain):
 
     nodes: tuple[SketchNode, ...]
     edges: tuple[tuple[str, str], ...]  # (supply side, load side)
+    # Every way drawn, most important first: a sketch too big for its page draws the
+    # first routes that fit and says how many of each kind it leaves out.
+    routes: tuple[SketchRoute, ...] = ()
 
 
 class Phasor(Plain):

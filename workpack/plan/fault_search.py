@@ -4,6 +4,7 @@ isolation of its own. ``search`` decides, ``search_wording`` words. Pure."""
 
 from __future__ import annotations
 
+from collections import Counter
 from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any, NamedTuple
@@ -62,6 +63,8 @@ class SearchSection:
     steps: tuple[Step, ...]  # numbered on from the package's work steps
     final_tests: tuple[FinalTest, ...]
     switches: tuple[str, ...]  # devices the search may open and reclose
+    board: str  # where the search starts
+    board_order: tuple[tuple[int, tuple[str, ...]], ...]  # the board's steps: number, opens
 
 
 def search_section(inputs: DayInputs, job: Job, cautions: CautionWriter,
@@ -74,11 +77,11 @@ def search_section(inputs: DayInputs, job: Job, cautions: CautionWriter,
                                as_found_v=phasor.readings_v if phasor else None,
                                exclude=inputs.tripped)
     numbering = PackageNumbering(search, first)
-    levels = [s.level for s in search.steps]
+    on_board = Counter(s.level for s in search.steps)  # steps per board, counted once
     steps: list[Step] = []
     for step in search.steps:
         words = step_words(search, step, numbering)
-        lines = [board_heading(step.level, levels.count(step.level)),
+        lines = [board_heading(step.level, on_board[step.level]),
                  *(text for text in (words.transfer, words.permission) if text),
                  words.open, words.if_clears, words.if_stays]
         steps.append(Step(number=first + len(steps), text="\n".join(lines), check_only=True,
@@ -88,7 +91,9 @@ def search_section(inputs: DayInputs, job: Job, cautions: CautionWriter,
                                numbering.final_ids[final.feeder])
                    for final in search.final_tests)
     switches = tuple(sorted({d for s in search.steps for d in s.open_devices}))
-    return SearchSection(tuple(steps), finals, switches)
+    board_order = tuple((first + index, step.open_devices)
+                        for index, step in enumerate(search.steps) if step.level == search.board)
+    return SearchSection(tuple(steps), finals, switches, search.board, board_order)
 
 
 def _goto(search: FaultSearch, level: str, branch: Branch, numbering: PackageNumbering,

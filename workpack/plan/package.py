@@ -77,6 +77,7 @@ def build_package(inputs: DayInputs, job: Job) -> WorkPackage:
     steps = number_steps(work_steps, "S")
     final_tests: tuple[FinalTest, ...] = ()
     switches: tuple[str, ...] = ()
+    search = None
     if rule.search_plan:
         search = search_section(inputs, job, cautions, len(steps) + 1)
         steps += search.steps
@@ -122,7 +123,9 @@ def build_package(inputs: DayInputs, job: Job) -> WorkPackage:
         acceptance=_acceptance(rule, context, steps, restoration, final_tests),
         restoration=restoration,
         phasor=system.state.phasor if job.findings and system.state.grounded else None,
-        sketch=package_sketch(topology, job.item, isolation),
+        sketch=package_sketch(topology, job.item, isolation,
+                              search.board if search else None,
+                              search.board_order if search else ()),
         instrument_supply=supply or None, switches=switches,
     )
 
