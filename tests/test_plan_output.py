@@ -145,3 +145,23 @@ def test_planning_again_into_the_same_folder_leaves_no_stale_packages(output: Pa
     after = sorted(p.name for p in out.glob("WP-*"))
     assert len(after) < len(before)  # only the routine tests are left
     assert keep.read_text(encoding="utf-8") == "mine"  # other files are not touched
+
+
+def test_the_biggest_search_fits_the_switchboard(output: Path) -> None:
+    """Issue 14.1: the main board's ground search (28 circuits it can end at) was 88
+    pages, one full procedure per circuit. Now: a decision table, the tree, and one
+    final-test procedure with a row per circuit, each circuit and each search step still
+    named in it: 12 pages, and one more for the one-line sketch of the board's feeders
+    (issue 14.2)."""
+    packages = [json.loads(t.read_text(encoding="utf-8")) for t in output.glob("WP-*.json")]
+    biggest = max((p for p in packages if p["final_tests"]), key=lambda p: len(p["final_tests"]))
+    pages = page_texts(output / f"{biggest['id']}.pdf")
+    assert len(biggest["final_tests"]) >= 20 and len(pages) <= 13
+    flat = " ".join(" ".join(pages).split())
+    assert flat.count("DC test voltage, disconnect what it damages") == 1  # cautions once
+    for final in biggest["final_tests"]:
+        assert f"{final['id']}: {final['feeder']}" in flat
+    for step in biggest["steps"]:
+        if step["kind"] == "search":
+            assert step["decision"]["devices"][0] in flat
+    assert "licensed practice prevail" in flat and "Restoration of the circuit" in flat

@@ -186,9 +186,9 @@ class PackagePdf(PdfDocument):
                     not_found = goto.text
             rows.append([self.blank(Blank(("step", step.number, "done"),
                                           f"step {step.number} done", tick=True)),
-                         Paragraph(str(step.number), self.style["step_no"]),
+                         Paragraph(str(step.number), self.style["cell_bold"]),
                          opened, *outcomes])
-        table = Table(rows, colWidths=self.cols(9, 13, 82, 48, 30), repeatRows=1,
+        table = Table(rows, colWidths=self.cols(8, 12, 78, 56, 28), repeatRows=1,
                       repeat_when_cut=(1,))
         table.setStyle(TableStyle([*GRID, *HEAD_ROW, *TIGHT]))
         out: list[Flowable] = [KeepTogether([*lead, Spacer(1, 1 * mm)])]
@@ -238,10 +238,11 @@ class PackagePdf(PdfDocument):
         out += self.chosen_locks(max(len(f.isolation) for f in finals), scope)
         out += self.chosen_proving_dead(finals, scope)
         out += self.step_group([steps[("step", 2)], steps[("step", 3)]],
-                               self.sub("Tests"), "step", scope)
+                               self.sub("Tests"), "step", scope, hint=False)
         out.append(self.chosen_readings(finals, scope))
         out += self.step_group([steps[("restore", n)] for n in range(1, 8)],
-                               self.sub("Restoration of the circuit"), "restore", scope)
+                               self.sub("Restoration of the circuit"), "restore", scope,
+                               hint=False)
         return out
 
     def final_tests_table(self, finals: Sequence[FinalTest]) -> list[Flowable]:
@@ -312,7 +313,8 @@ class PackagePdf(PdfDocument):
                 Paragraph(lead + "Numbers in square brackets: the source of that minimum, "
                           "listed under the table.", small), Spacer(1, 1 * mm),
                 table, Spacer(1, 1 * mm),
-                Paragraph("Sources of the minimums", self.style["head"]), *notes]
+                KeepTogether([Paragraph("Sources of the minimums", self.style["head"]),
+                              *notes])]
 
     def chosen_locks(self, count: int, scope: tuple[str, ...]) -> list[Flowable]:
         """Lock rows for the circuit's devices, numbered as its row lists them."""
@@ -339,7 +341,7 @@ class PackagePdf(PdfDocument):
                             scope: tuple[str, ...]) -> list[Flowable]:
         """Proving dead at the circuit's places, numbered as its row lists them: one line
         of boxes per place (more where it has more pairs), each box under its pair."""
-        per_row = 6
+        per_row = 8  # a place's pairs on one line where they fit
         rows: list[list[Any]] = []
         spans: list[tuple[Any, ...]] = []
         for index in range(1, max(len(f.proving_dead) for f in finals) + 1):
@@ -358,7 +360,7 @@ class PackagePdf(PdfDocument):
                              else "", *cells, *[""] * (per_row - len(chunk))])
             if len(rows) - first_row > 1:
                 spans.append(("SPAN", (0, first_row), (0, len(rows) - 1)))
-        table = Table(rows, colWidths=self.cols(10, *[28.6] * per_row), repeat_when_cut=(0,))
+        table = Table(rows, colWidths=self.cols(10, *[21.5] * per_row), repeat_when_cut=(0,))
         table.setStyle(TableStyle([*GRID, *spans, ("TOPPADDING", (0, 0), (-1, -1), 0.8 * mm),
                                    ("BOTTOMPADDING", (0, 0), (-1, -1), 1.2 * mm)]))
         return [KeepTogether([
@@ -817,13 +819,14 @@ class PackagePdf(PdfDocument):
         return self.step_group(steps, self.numbered(title), kind, ())
 
     def step_group(self, steps: Sequence[Step], heading: Flowable, kind: str,
-                   scope: tuple[str, ...]) -> list[Flowable]:
+                   scope: tuple[str, ...], hint: bool = True) -> list[Flowable]:
         if not steps:
             return []
         first, *rest = steps
-        lead = [heading,
-                Paragraph("Tick each box when the step is done; write each reading in its "
-                          "box, in the unit shown.", self.style["small"])]
+        lead = [heading]
+        if hint:  # how to fill in, said once per section
+            lead.append(Paragraph("Tick each box when the step is done; write each reading "
+                                  "in its box, in the unit shown.", self.style["small"]))
         out: list[Flowable] = [KeepTogether([*lead, *self.step_parts(first, kind, scope)])]
         out += [KeepTogether(self.step_parts(step, kind, scope)) for step in rest]
         return out
