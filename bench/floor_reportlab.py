@@ -367,19 +367,77 @@ def story(package: Any) -> list[Flowable]:
                      section("Isolation: open, lock and tag in this order"))
     out += proving_dead(p.proving_dead, section("Prove dead at the point of work"))
     work = [t for t in p.steps if not t.before_isolation]
-    out += steps(work, section("Work steps") if work else None)
-    for final in p.final_tests:  # a ground search's ends: each a whole isolation
-        out += [section(final.title), Paragraph(f"<b>{final.condition}</b>", s["body"]),
-                *cautions(final.cautions)]
-        before = [t for t in final.steps if t.before_isolation]
-        out += steps(before, sub(f"{final.id} before the isolation") if before else None)
-        out += isolation(final.isolation, final.isolation_gaps, final.stored_energy,
-                         sub(f"{final.id} isolation: open, lock and tag in this order"))
-        out += proving_dead(final.proving_dead,
-                            sub(f"{final.id} prove dead at the point of work"))
-        rest = [t for t in final.steps if not t.before_isolation]
-        out += steps(rest, sub(f"{final.id} tests"))
-        out += steps(final.restoration, sub(f"{final.id} restoration"))
+    plain = [t for t in work if getattr(t, "decision", None) is None]
+    decided = [t for t in work if getattr(t, "decision", None) is not None]
+    out += steps(plain, section("Work steps") if work else None)
+    if decided:  # a ground search: a decision table and the search drawn as a tree
+        rows: list[list[Any]] = [["", *[Paragraph(t, s["head"]) for t in (
+            "Step", "Open", "Clears: the ground is below what you opened", "Stays")]]]
+        for t in decided:
+            d = t.decision
+            rows.append([Box(6.5 * mm, 6.5 * mm), Paragraph(str(t.number), s["number"]),
+                         [Paragraph(f"on {d.board}:", s["small"]),
+                          Paragraph(f"<b>{', '.join(d.opens)}</b>", s["small"]),
+                          *[Paragraph(x, s["small"]) for x in d.first]],
+                         Paragraph(d.on_clear.text, s["small"]),
+                         Paragraph(d.on_stay.text, s["small"])])
+        numbers = [t.number for t in decided]
+        edges = [(numbers.index(t.number), numbers.index(g.step)) for t in decided
+                 for g in (t.decision.on_clear, t.decision.on_stay)
+                 if g.kind == "step" and g.step in numbers]
+        out += [Paragraph(f"Search: steps {numbers[0]} to {numbers[-1]}", s["sub"]),
+                _table(rows, [9, 13, 82, 48, 30]), Paragraph("The search as a tree", s["sub"]),
+                _figure([f"step {n}" for n in numbers], [], WIDTH), Paragraph(
+                    f"{len(edges)} steps lead to another step.", s["small"])]
+    finals = list(p.final_tests)
+    if finals:  # one procedure for every circuit the search can end at, a row each
+        seen = {}
+        for final in finals:
+            for c in (*final.cautions, *(c for t in final.steps for c in t.cautions)):
+                seen.setdefault((c.signal_word.value, c.text), c)
+        out += [section("Final tests"), _table([[Paragraph("Final tests done on", s["head"]),
+                                                  Box(width=30 * mm)]], [60, 40]),
+                *cautions(list(seen.values()))]
+        rows = [[Paragraph(t, s["head"]) for t in (
+            "Id: search ends at", "Lock and tag, in this order", "Prove dead at",
+            "Tests, each to earth: minimum", "Energise")]]
+        for final in finals:
+            readings = [r for t in (*final.steps, *final.restoration) for r in t.readings]
+            rows.append([
+                [Paragraph(f"<b>{final.id}</b>: <b>{final.feeder}</b>", s["small"]),
+                 *([Paragraph("vital: " + ", ".join(final.vital_loads), s["small"])]
+                   if final.vital_loads else [])],
+                [Paragraph(f"{i.order} <b>{i.device}</b> ({i.location or ''})", s["small"])
+                 for i in final.isolation],
+                [Paragraph(f"{n} {d.where}", s["small"])
+                 for n, d in enumerate(final.proving_dead, 1)],
+                [Paragraph(f"T{k} {r.what}: <b>{r.limit.low if r.limit else ''} {r.unit}</b>",
+                           s["small"]) for k, r in enumerate(readings, 1)],
+                Paragraph(" ".join(t.text for t in final.restoration
+                                   if t.kind == "energise")[:200], s["small"])])
+        out.append(_table(rows, [26, 40, 40, 54, 22]))
+        bases = sorted({r.limit.basis for f in finals for t in (*f.steps, *f.restoration)
+                        for r in t.readings if r.limit})
+        out += [Paragraph(f"[{n}] {b}", s["small"]) for n, b in enumerate(bases, 1)]
+        locks = max(len(f.isolation) for f in finals)
+        out.append(_table([[Paragraph(t, s["head"]) for t in (
+            "#", "Lock no.", "Tag no.", "Locked by", "time", "Removed by", "time")]]
+            + [[Paragraph(str(n), s["number"]), *[Box() for _ in range(6)]]
+               for n in range(1, locks + 1)], [8, 24, 24, 38, 20, 38, 20]))
+        places = max(len(f.proving_dead) for f in finals)
+        dead_rows: list[list[Any]] = [
+            [Paragraph(str(n), s["number"]),
+             *[[Paragraph("A-B", s["bold"]), Box()] for _ in range(6)]]
+            for n in range(1, places + 1)]
+        out += [tester("before"), _table(dead_rows, [10, *[28.6] * 6]), tester("after")]
+        tests = max(len([r for t in (*f.steps, *f.restoration) for r in t.readings])
+                    for f in finals)
+        out.append(_table([[Paragraph(t, s["head"]) for t in ("Test of the row", "Measured",
+                                                               "Temperature")]]
+                          + [[Paragraph(f"<b>T{k}</b>", s["cell"]), Box(), Box()]
+                             for k in range(1, tests + 1)], [60, 61, 61]))
+        procedure = [t for f in finals[:1] for t in (*f.steps, *f.restoration)][:10]
+        out += steps(procedure, sub("The procedure"))
     if p.acceptance:
         out += [section("Acceptance criteria"),
                 *[Paragraph(a, s["bullet"], bulletText="•") for a in p.acceptance]]
