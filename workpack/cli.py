@@ -683,6 +683,147 @@ def _store_options(parser: argparse.ArgumentParser) -> None:
                                         "to use")
 
 
+# --- ship records ashore: `workpack sync export|import` -------------------------------------
+
+
+def _read_bundle_file(path: Path) -> Any:
+    from workpack.sync import BundleError, read_bundle
+
+    try:
+        data = path.read_bytes()
+    except FileNotFoundError:
+        raise BundleError(f"{path}: no such file") from None
+    except OSError as error:
+        raise BundleError(f"{path}: cannot read it ({error.strerror or error})") from None
+    return read_bundle(data, str(path))
+
+
+def _since(path: Path) -> tuple[str, Any]:
+    """The plant and chain head a ``--since`` file names: an earlier bundle's last record."""
+    bundle = _read_bundle_file(path)
+    return bundle.plant, bundle.through
+
+
+def _cmd_sync_export(args: argparse.Namespace) -> int:
+    from workpack.crew_shell import load_crew, open_signing_key
+    from workpack.output import write_all
+    from workpack.signing import sign_digest
+    from workpack.store import open_store, plant_genesis
+    from workpack.sync import SIGNED_AS, bundle_bytes, rows_after
+
+    register, _ = load_crew(Path(args.crew))
+    at = (args.at or _now()).replace(microsecond=0)
+    identity = open_signing_key(register, Path(args.sign_as), at)
+    with open_store(_default_db(args), plant=_store_plant(args), create=False) as store:
+        plant = store.plant or args.plant_name
+        if not plant:
+            raise UsageError(f"{store.location}: this store does not know its plant's name; "
+                             "give it with --plant-name")
+        after = None
+        if args.since:
+            since_plant, after = _since(Path(args.since))
+            if since_plant != plant:
+                raise UsageError(f"--since {args.since}: names plant {since_plant!r}, not "
+                                 f"{plant!r}, whose records {store.location} holds")
+        verification = store.verify(anchor=after)
+        if not verification.ok:
+            raise UsageError(f"nothing exported: {verification.message}")
+        genesis = plant_genesis(store.plant)
+        rows = rows_after(store.records(), after, genesis)
+        where = store.location
+
+    def sign(digest: str) -> Any:
+        return sign_digest(identity.private_key, digest, signed_as=SIGNED_AS,
+                           person=identity.person.id, key=identity.key.id, signed_at=at)
+
+    data = bundle_bytes(plant=plant, genesis=genesis, after=after, rows=rows,
+                        exported_at=at, sign=sign)
+    out = Path(args.out)
+    write_all(out.parent, {out.name: data})
+    first = after.sequence + 1 if after is not None else 1
+    what = (f"records {first} to {rows[-1].sequence}" if rows else
+            f"no records after record {first - 1}")
+    sys.stdout.write(f"{where}: {what} of plant {plant} written to {out} ({len(data):,} "
+                     f"bytes), signed by {identity.person.name} ({identity.person.id})\n")
+    return 0
+
+
+def _cmd_sync_import(args: argparse.Namespace) -> int:
+    from workpack.crew_shell import load_crew
+    from workpack.store import open_store
+    from workpack.sync import check_signature, import_order
+
+    register, _ = load_crew(Path(args.crew))
+    refused = 0
+
+    def refuse(name: str, why: str) -> None:
+        nonlocal refused
+        refused += 1
+        sys.stderr.write(f"{name}: refused, nothing imported from it: {why}\n")
+
+    readable = []
+    for name in args.bundles:  # each bundle read and its signature checked before any import
+        try:
+            bundle = _read_bundle_file(Path(name))
+        except WorkpackError as error:
+            refuse(name, error.format_message())
+            continue
+        check = check_signature(register, bundle)
+        if check.ok:
+            readable.append((bundle, name))
+        else:
+            refuse(name, f"its signature: {check.message}")
+    named = {id(bundle): name for bundle, name in readable}
+    for bundle in import_order(bundle for bundle, _ in readable):
+        name = named[id(bundle)]
+        try:
+            with open_store(args.db, plant=bundle.plant) as store:
+                done = store.import_rows(bundle.rows, after=bundle.after,
+                                         genesis=bundle.manifest.genesis)
+        except WorkpackError as error:
+            refuse(name, error.format_message())
+            continue
+        held = f", {done.already_held} held already" if done.already_held else ""
+        last = done.head.sequence if done.head is not None else 0
+        sys.stdout.write(f"{name}: {bundle.describe()}: {done.added} added{held}; the chain "
+                         f"of {done.plant} now ends at record {last}\n")
+    return 2 if refused else 0
+
+
+def _add_sync_commands(commands: Any) -> None:
+    sync = commands.add_parser(
+        "sync", help="ship a vessel's new records ashore as one signed file, and take them in",
+        description="A vessel keeps its own store and works offline; `sync export` writes "
+                    "its records after an earlier export into one signed file (mail, USB, "
+                    "satellite), `sync import` adds them to the office's store. The key's "
+                    "passphrase comes from WORKPACK_KEY_PASSPHRASE or the terminal.")
+    actions = sync.add_subparsers(dest="sync_action", required=True, metavar="ACTION")
+    export = actions.add_parser("export", help="a signed bundle of the records after --since")
+    _store_options(export)
+    export.add_argument("--since", metavar="BUNDLE",
+                        help="the last bundle sent: export the records after its last one "
+                             "(default: every record)")
+    export.add_argument("--out", required=True, metavar="BUNDLE", help="the file to write")
+    export.add_argument("--sign-as", required=True, metavar="KEYFILE",
+                        help="your private key file: the bundle is signed with it")
+    export.add_argument("--crew", required=True, metavar="CREW.yaml",
+                        help="the crew register holding your key")
+    export.add_argument("--plant-name", help="the plant's name, for a store made before "
+                                             "stores knew it")
+    export.add_argument("--at", type=_option("--at", _moment),
+                        help="the export's time (default: now; UTC unless a zone is given)")
+    export.set_defaults(run=_cmd_sync_export)
+    take = actions.add_parser("import", help="add bundles to a store; the same bundle twice "
+                                             "adds nothing")
+    take.add_argument("bundles", nargs="+", metavar="BUNDLE",
+                      help="bundle files, of any vessels, in any order")
+    take.add_argument("--db", required=True, help="the store to add to: a postgresql:// URL "
+                                                  "(or an SQLite file)")
+    take.add_argument("--crew", required=True, metavar="CREW.yaml",
+                      help="the crew register holding the exporters' public keys")
+    take.set_defaults(run=_cmd_sync_import)
+
+
 # --- the crew register and signing keys: `workpack crew`, `workpack key` ---------------------
 
 
@@ -1010,6 +1151,7 @@ def build_parser() -> argparse.ArgumentParser:
     schema.set_defaults(run=_cmd_schema)
 
     _add_crew_commands(commands)
+    _add_sync_commands(commands)
     return parser
 
 

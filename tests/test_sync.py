@@ -1,0 +1,365 @@
+"""`workpack sync export|import`: a vessel's new records in one signed file, taken into the
+office's store. Every test that imports runs into both backends: an SQLite file, and a
+plant of its own in a records store on the real PostgreSQL server the suite starts
+(tests/pgfixtures.py). People, plants and readings are invented.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import hashlib
+import itertools
+import json
+import shutil
+from pathlib import Path
+from typing import Any
+
+import pytest
+from cryptography.hazmat.primitives.asymmetric.ed25519 import Ed25519PrivateKey
+
+from workpack.cli import main
+from workpack.crew_shell import key_file_bytes, write_key_file
+from workpack.signing import public_key_text
+from workpack.store import RecordStore, open_store
+from workpack.sync import BundleError, read_bundle
+
+PASSPHRASE = "several words make a passphrase"
+T0 = dt.datetime(2026, 12, 2, 8, 0, tzinfo=dt.UTC)
+_plants = itertools.count(1)
+
+
+def private_key(seed: str) -> Ed25519PrivateKey:
+    return Ed25519PrivateKey.from_private_bytes(hashlib.sha256(seed.encode()).digest())
+
+
+EXPORTER = private_key("exporter")
+STRANGER = private_key("not in the register")
+REGISTER = f"""\
+crew:
+  name: test fleet
+  scheme: test scheme
+people:
+  - id: P-7
+    name: C. Seven
+    role: electrical_officer
+    hours_per_day: 8
+    keys:
+      - id: P-7-K1
+        public_key: "{public_key_text(EXPORTER)}"
+        valid_from: 2026-01-01T00:00:00Z
+"""
+
+
+@pytest.fixture
+def crew(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> dict[str, Path]:
+    """The crew register, the exporter's key file, and a stranger's key file."""
+    monkeypatch.setenv("WORKPACK_KEY_PASSPHRASE", PASSPHRASE)
+    register = tmp_path / "crew.yaml"
+    register.write_text(REGISTER, encoding="utf-8")
+    files = {"register": register, "key": tmp_path / "p7.key",
+             "stranger": tmp_path / "stranger.key"}
+    write_key_file(files["key"], key_file_bytes(EXPORTER, PASSPHRASE.encode()))
+    write_key_file(files["stranger"], key_file_bytes(STRANGER, PASSPHRASE.encode()))
+    return files
+
+
+@pytest.fixture(params=["sqlite", "postgresql"])
+def office(request: pytest.FixtureRequest, tmp_path: Path) -> str:
+    """The office's store: an SQLite file, or the shared PostgreSQL store (plants apart)."""
+    if request.param == "sqlite":
+        return str(tmp_path / "office.sqlite")
+    return str(request.getfixturevalue("pg_store_url"))
+
+
+@pytest.fixture
+def plant() -> str:
+    return f"MV Sync Test {next(_plants):04d}"
+
+
+def add(store: RecordStore, count: int, *, start: int = 0, note: str = "") -> None:
+    for i in range(start, start + count):
+        store.append(package_id=f"WP-{i // 3:03d}", package_sha256=f"{i % 16:x}" * 64,
+                     results={"readings": {"S2.R1": {"value_ohm": 1.5e8 + i}},
+                              "remarks": f"entry {i}{note}"},
+                     recorded_by="C. Seven", recorded_at=T0 + dt.timedelta(hours=i),
+                     verdict="pass")
+
+
+def run(argv: list[str], capsys: pytest.CaptureFixture[str]) -> tuple[int, str, str]:
+    code = main(argv)
+    captured = capsys.readouterr()
+    return code, captured.out, captured.err
+
+
+def export(vessel: Path, out: Path, crew: dict[str, Path], capsys: Any,
+           since: Path | None = None, key: str = "key") -> str:
+    argv = ["sync", "export", "--db", str(vessel), "--out", str(out), "--sign-as",
+            str(crew[key]), "--crew", str(crew["register"]), "--at", "2026-12-20T12:00Z"]
+    code, out_text, err = run(argv + (["--since", str(since)] if since else []), capsys)
+    assert (code, err) == (0, ""), err
+    return out_text
+
+
+def take(office: str, crew: dict[str, Path], capsys: Any, *bundles: Path
+         ) -> tuple[int, str, str]:
+    return run(["sync", "import", *map(str, bundles), "--db", office, "--crew",
+                str(crew["register"])], capsys)
+
+
+def rows(location: str, plant: str) -> list[tuple[int, str]]:
+    """The plant's records as (number, chain hash); none where it has none yet."""
+    with open_store(location, plant=plant) as store:
+        return [(r.sequence, r.chain_sha256) for r in store.records()]
+
+
+def verified(location: str, plant: str) -> str:
+    with open_store(location, plant=plant, create=False) as store:
+        result = store.verify()
+    assert result.ok and result.guards_intact, result.message
+    return result.message
+
+
+# --- export and import -----------------------------------------------------------------
+
+
+def test_a_bundle_brings_the_vessels_chain_ashore_unchanged(
+        tmp_path: Path, office: str, plant: str, crew: dict[str, Path], capsys) -> None:
+    """The office holds the same records under the same chain hashes, and verifies."""
+    vessel = tmp_path / "vessel.sqlite"
+    with open_store(vessel, plant=plant) as store:
+        add(store, 7)
+    said = export(vessel, tmp_path / "b1.wpb", crew, capsys)
+    assert said.startswith(f"{vessel}: records 1 to 7 of plant {plant} written to ")
+    assert said.rstrip().endswith("signed by C. Seven (P-7)")
+    code, out, err = take(office, crew, capsys, tmp_path / "b1.wpb")
+    assert (code, err) == (0, "")
+    assert out == (f"{tmp_path / 'b1.wpb'}: plant {plant}: records 1 to 7, exported "
+                   f"2026-12-20T12:00:00Z by P-7: 7 added; the chain of {plant} now ends "
+                   "at record 7\n")
+    assert rows(office, plant) == rows(str(vessel), plant)
+    assert "OK, 7 records" in verified(office, plant)
+
+
+def test_the_same_bundle_twice_adds_nothing(
+        tmp_path: Path, office: str, plant: str, crew: dict[str, Path], capsys) -> None:
+    vessel = tmp_path / "vessel.sqlite"
+    with open_store(vessel, plant=plant) as store:
+        add(store, 4)
+    export(vessel, tmp_path / "b1.wpb", crew, capsys)
+    assert take(office, crew, capsys, tmp_path / "b1.wpb")[0] == 0
+    before = rows(office, plant)
+    code, out, err = take(office, crew, capsys, tmp_path / "b1.wpb")
+    assert (code, err) == (0, "")
+    assert ": 0 added, 4 held already; " in out
+    assert rows(office, plant) == before
+
+
+def test_later_bundles_continue_and_a_gap_is_refused_naming_what_is_missing(
+        tmp_path: Path, office: str, plant: str, crew: dict[str, Path], capsys) -> None:
+    """The second export starts after the first; imported before it, it leaves a gap."""
+    vessel = tmp_path / "vessel.sqlite"
+    with open_store(vessel, plant=plant) as store:
+        add(store, 3)
+    export(vessel, tmp_path / "b1.wpb", crew, capsys)
+    with open_store(vessel, plant=plant) as store:
+        add(store, 4, start=3)
+    said = export(vessel, tmp_path / "b2.wpb", crew, capsys, since=tmp_path / "b1.wpb")
+    assert f": records 4 to 7 of plant {plant} written" in said
+    code, out, err = take(office, crew, capsys, tmp_path / "b2.wpb")
+    assert (code, out) == (2, "")
+    assert err.startswith(f"{tmp_path / 'b2.wpb'}: refused, nothing imported from it: ")
+    assert ("gap: the store holds no records yet, and these records begin after record 3: "
+            "records 1 to 3 have not arrived") in err
+    assert rows(office, plant) == []
+    code, out, err = take(office, crew, capsys, tmp_path / "b1.wpb")
+    code, out, err = take(office, crew, capsys, tmp_path / "b2.wpb")
+    assert (code, err) == (0, "")
+    assert rows(office, plant) == rows(str(vessel), plant)
+    verified(office, plant)
+
+
+def test_bundles_given_together_go_in_chain_order(
+        tmp_path: Path, office: str, plant: str, crew: dict[str, Path], capsys) -> None:
+    vessel = tmp_path / "vessel.sqlite"
+    with open_store(vessel, plant=plant) as store:
+        add(store, 2)
+    export(vessel, tmp_path / "b1.wpb", crew, capsys)
+    with open_store(vessel, plant=plant) as store:
+        add(store, 2, start=2)
+    export(vessel, tmp_path / "b2.wpb", crew, capsys, since=tmp_path / "b1.wpb")
+    code, out, err = take(office, crew, capsys, tmp_path / "b2.wpb", tmp_path / "b1.wpb")
+    assert (code, err) == (0, "")
+    assert [line.split(":")[0] for line in out.splitlines()] == [
+        str(tmp_path / "b1.wpb"), str(tmp_path / "b2.wpb")]
+    assert rows(office, plant) == rows(str(vessel), plant)
+
+
+def test_a_fork_is_refused_at_the_first_record_that_differs(
+        tmp_path: Path, office: str, plant: str, crew: dict[str, Path], capsys) -> None:
+    """Two copies of one vessel's store that went on differently: the second is refused."""
+    vessel, other = tmp_path / "vessel.sqlite", tmp_path / "copy.sqlite"
+    with open_store(vessel, plant=plant) as store:
+        add(store, 3)
+    export(vessel, tmp_path / "b1.wpb", crew, capsys)
+    shutil.copy(vessel, other)
+    with open_store(vessel, plant=plant) as store:
+        add(store, 2, start=3)
+    with open_store(other, plant=plant) as store:
+        add(store, 2, start=3, note=" (written on the copy)")
+    export(vessel, tmp_path / "b2.wpb", crew, capsys, since=tmp_path / "b1.wpb")
+    export(other, tmp_path / "fork.wpb", crew, capsys, since=tmp_path / "b1.wpb")
+    assert take(office, crew, capsys, tmp_path / "b1.wpb", tmp_path / "b2.wpb")[0] == 0
+    before = rows(office, plant)
+    code, out, err = take(office, crew, capsys, tmp_path / "fork.wpb")
+    assert (code, out) == (2, "")
+    assert ("fork at record 4: the store holds a different record 4 (the chain was "
+            "rewritten on one side)") in err
+    assert rows(office, plant) == before
+
+
+def test_bundles_of_several_vessels_in_any_order(
+        tmp_path: Path, pg_store_url: str, crew: dict[str, Path], capsys) -> None:
+    """PostgreSQL only: an SQLite file holds one plant. Each chain stays its own."""
+    bundles = []
+    names = [f"MV Sync Fleet {next(_plants):04d}" for _ in range(3)]
+    for n, name in enumerate(names):
+        vessel = tmp_path / f"vessel-{n}.sqlite"
+        with open_store(vessel, plant=name) as store:
+            add(store, 2 + n)
+        export(vessel, tmp_path / f"first-{n}.wpb", crew, capsys)
+        with open_store(vessel, plant=name) as store:
+            add(store, 2, start=2 + n)
+        export(vessel, tmp_path / f"second-{n}.wpb", crew, capsys,
+               since=tmp_path / f"first-{n}.wpb")
+        bundles += [tmp_path / f"first-{n}.wpb", tmp_path / f"second-{n}.wpb"]
+    for bundle in reversed(bundles):  # one at a time, each vessel's second first
+        take(pg_store_url, crew, capsys, bundle)
+    code, out, err = take(pg_store_url, crew, capsys, *reversed(bundles))
+    assert (code, err) == (0, "")
+    for n, name in enumerate(names):
+        assert rows(pg_store_url, name) == rows(str(tmp_path / f"vessel-{n}.sqlite"), name)
+        verified(pg_store_url, name)
+
+
+# --- signatures and damaged bundles ----------------------------------------------------
+
+
+@pytest.fixture
+def bundle(tmp_path: Path, plant: str, crew: dict[str, Path], capsys) -> Path:
+    vessel = tmp_path / "vessel.sqlite"
+    with open_store(vessel, plant=plant) as store:
+        add(store, 3)
+    export(vessel, tmp_path / "b1.wpb", crew, capsys)
+    return tmp_path / "b1.wpb"
+
+
+def edited_header(path: Path, change: Any) -> None:
+    lines = path.read_bytes().split(b"\n")
+    header = json.loads(lines[0])
+    change(header)
+    lines[0] = json.dumps(header, separators=(",", ":")).encode()
+    path.write_bytes(b"\n".join(lines))
+
+
+def test_a_bundle_whose_manifest_was_changed_fails_its_signature(
+        bundle: Path, office: str, plant: str, crew: dict[str, Path], capsys) -> None:
+    edited_header(bundle, lambda h: h["manifest"].update(exported_at="2026-12-21T12:00:00Z"))
+    code, out, err = take(office, crew, capsys, bundle)
+    assert (code, out) == (2, "")
+    assert err.startswith(f"{bundle}: refused, nothing imported from it: its signature: "
+                          "the signature of C. Seven (P-7) with key P-7-K1 does not match")
+
+
+def test_a_record_changed_and_rehashed_in_the_bundle_fails_its_signature(
+        bundle: Path, office: str, plant: str, crew: dict[str, Path], capsys) -> None:
+    """Changing a record and every hash after it still leaves the signed manifest wrong."""
+    lines = bundle.read_bytes().split(b"\n")
+    assert read_bundle(bundle.read_bytes(), "b").rows[1].verdict == "pass"
+    lines[2] = lines[2].replace(b'"verdict":"pass"', b'"verdict":"fail"')
+    edited = b"\n".join(lines)
+    bundle.write_bytes(edited)
+    with pytest.raises(BundleError, match="record lines do not match the hash in the manif"):
+        read_bundle(edited, "b")
+    # Now rehash as an editor with the project's own code would: the signature still fails.
+    from workpack.store._chain import chain_hash
+
+    header = json.loads(lines[0])
+    rows_ = [json.loads(line) for line in lines[1:-1]]
+    prev = rows_[0]["prev_sha256"]
+    for row in rows_:
+        row["prev_sha256"] = prev
+        row["chain_sha256"] = prev = chain_hash(
+            prev, row["sequence"], row["package_id"], row["package_sha256"],
+            row["results_sha256"], row["recorded_by"], row["recorded_at"], row["supersedes"],
+            row["verdict"])
+    body = b"".join(json.dumps(r, separators=(",", ":"), sort_keys=True).encode() + b"\n"
+                    for r in rows_)
+    header["manifest"]["records_sha256"] = hashlib.sha256(body).hexdigest()
+    header["manifest"]["through"]["chain_sha256"] = prev
+    bundle.write_bytes(json.dumps(header, separators=(",", ":")).encode() + b"\n" + body)
+    assert read_bundle(bundle.read_bytes(), "b").rows[1].verdict == "fail"  # holds together
+    code, out, err = take(office, crew, capsys, bundle)
+    assert (code, out) == (2, "")
+    assert "its signature: the signature of C. Seven (P-7) with key P-7-K1 does not match" \
+        in err
+    assert rows(office, plant) == []
+
+
+def test_a_bundle_signed_with_a_key_not_in_the_register_is_refused(
+        tmp_path: Path, office: str, plant: str, crew: dict[str, Path], capsys) -> None:
+    vessel = tmp_path / "vessel.sqlite"
+    with open_store(vessel, plant=plant) as store:
+        add(store, 2)
+    # The stranger's key cannot even sign an export: the register does not know it.
+    code, out, err = run(["sync", "export", "--db", str(vessel), "--out",
+                          str(tmp_path / "x.wpb"), "--sign-as", str(crew["stranger"]),
+                          "--crew", str(crew["register"])], capsys)
+    assert code == 2 and "this key is not in the crew register" in err
+    assert not (tmp_path / "x.wpb").exists()
+    # A bundle signed by a person the office's register does not hold is refused.
+    export(vessel, tmp_path / "b1.wpb", crew, capsys)
+    other = tmp_path / "office-crew.yaml"
+    other.write_text(REGISTER.replace(public_key_text(EXPORTER), public_key_text(STRANGER)),
+                     encoding="utf-8")
+    code, out, err = run(["sync", "import", str(tmp_path / "b1.wpb"), "--db", office,
+                          "--crew", str(other)], capsys)
+    assert (code, out) == (2, "")
+    assert "its signature: the signature of C. Seven (P-7) with key P-7-K1 does not match" \
+        in err
+
+
+@pytest.mark.parametrize(("damage", "message"), [
+    (lambda data: data[:-40], "the bundle is cut short"),
+    (lambda data: data[:data.rindex(b"\n", 0, -1) + 1],
+     "the manifest lists 3 records but 2 follow it"),
+    (lambda data: data.replace(b"entry 1", b"entry 9"),
+     "the record lines do not match the hash in the manifest"),
+    (lambda data: b"not json\n", ":1: not JSON"),
+    (lambda data: data.replace(b'"workpack_bundle":1', b'"workpack_bundle":"1"'),
+     ":1: manifest.workpack_bundle: Input should be a valid integer"),
+])
+def test_a_damaged_bundle_is_refused_in_one_line(bundle: Path, damage: Any,
+                                                  message: str) -> None:
+    with pytest.raises(BundleError, match=message):
+        read_bundle(damage(bundle.read_bytes()), str(bundle))
+
+
+def test_export_refuses_a_store_that_no_longer_holds_the_last_bundles_head(
+        tmp_path: Path, bundle: Path, plant: str, crew: dict[str, Path], capsys) -> None:
+    """A vessel store rebuilt since the last export would ship a fork: refused at source."""
+    rebuilt = tmp_path / "rebuilt.sqlite"
+    with open_store(rebuilt, plant=plant) as store:
+        add(store, 4, note=" (again)")
+    code, out, err = run(["sync", "export", "--db", str(rebuilt), "--out",
+                          str(tmp_path / "b2.wpb"), "--sign-as", str(crew["key"]),
+                          "--crew", str(crew["register"]), "--since", str(bundle)], capsys)
+    assert code == 2 and err.startswith("nothing exported: ")
+    assert "no longer ends in the anchor" in err
+    assert not (tmp_path / "b2.wpb").exists()
+
+
+def test_the_same_export_gives_the_same_bytes(tmp_path: Path, bundle: Path,
+                                              crew: dict[str, Path], capsys) -> None:
+    """Ed25519 is deterministic, the records are as stored, the time is the one given."""
+    export(tmp_path / "vessel.sqlite", tmp_path / "again.wpb", crew, capsys)
+    assert (tmp_path / "again.wpb").read_bytes() == bundle.read_bytes()
