@@ -544,11 +544,34 @@ def _cmd_closeout(args: argparse.Namespace) -> int:
                          f"--supersedes {record.sequence})") from None
     pdf = render_closeout(package, payload.evaluation, record, results=payload.results,
                           page_size=args.page_size)
+    signed = ""
+    if args.sign_as:
+        pdf, signed = _signed_closeout(args, pdf, package, record)
     out = Path(args.out)
     write_all(out.parent, {out.name: pdf})
     sys.stdout.write(f"record {record.sequence} of {package.id} ({record.verdict}) "
-                     f"written to {out}\n")
+                     f"written to {out}{signed}\n")
     return 0
+
+
+def _signed_closeout(args: argparse.Namespace, pdf: bytes, package: Any,
+                     record: Any) -> tuple[bytes, str]:
+    """The close-out with a PAdES signature by the key in --sign-as, and what to say."""
+    from workpack.crew_shell import load_crew, open_signing_key
+    from workpack.render.pdf_signature import sign_pdf, signer_certificate
+
+    if not args.crew:
+        raise UsageError("--sign-as: give the crew register holding the key too (--crew)")
+    register, _ = load_crew(Path(args.crew))
+    at = (args.at or _now()).replace(microsecond=0)
+    identity = open_signing_key(register, Path(args.sign_as), at)
+    certificate = signer_certificate(identity.private_key, identity.person, identity.key,
+                                     register.crew.name)
+    signed = sign_pdf(pdf, identity.private_key, certificate, signed_at=at,
+                      reason=f"close-out of record {record.sequence} of {package.id}: "
+                             f"{record.verdict}", location=package.plant)
+    return signed, (f", signed by {identity.person.name} ({identity.person.id}) with key "
+                    f"{identity.key.id}")
 
 
 def _cmd_schema(args: argparse.Namespace) -> int:
@@ -1067,6 +1090,14 @@ def build_parser() -> argparse.ArgumentParser:
                           help="record number (default: the package's latest)")
     closeout.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
     closeout.add_argument("--out", required=True, metavar="FILE", help="PDF to write")
+    closeout.add_argument("--sign-as", metavar="KEYFILE",
+                          help="sign the PDF (PAdES) with this private key file; its "
+                               "passphrase from WORKPACK_KEY_PASSPHRASE or the terminal")
+    closeout.add_argument("--crew", metavar="CREW.yaml",
+                          help="with --sign-as: the crew register holding the key")
+    closeout.add_argument("--at", type=_option("--at", _moment),
+                          help="with --sign-as: the signing time (default: now; UTC unless "
+                               "a zone is given)")
     closeout.set_defaults(run=_cmd_closeout)
 
     draw = commands.add_parser(
