@@ -276,7 +276,7 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     rules = Path(args.rules)
     ruleset = load_ruleset(rules)
     weights = load_weights(rules / "search-weights.yaml")
-    history = _history(args, plant)
+    history, head = _history(args, plant)
     out = Path(args.out)
     replaces = _earlier_plan(day, plant.plant.name, _default_db(args))
     if out.is_dir():  # refuse before the work, not after it; write_all asks again, locked
@@ -294,14 +294,16 @@ def _cmd_plan(args: argparse.Namespace) -> int:
             rendering(done, len(result.packages))
     files[f"day-{day.isoformat()}.pdf"] = render_day_sheet(
         result.plant, day, result.packages, result.scheduled, result.deferred,
-        [c.text for c in result.conflicts], result.crew_hours, args.page_size)
+        [c.text for c in result.conflicts], result.crew_hours, args.page_size,
+        chain_head=head)
     written = write_all(out, files, replaces=replaces)
     sys.stdout.write(day_plan(result) + f"\n{len(written)} files written to {written[0].parent}\n")
     return 0
 
 
-def _history(args: argparse.Namespace, plant: Any) -> Any:
-    """What the records store says, if there is one (``--db``, or beside the plant)."""
+def _history(args: argparse.Namespace, plant: Any) -> tuple[Any, Any]:
+    """What the records store says, if there is one (``--db``, or beside the plant), and
+    its chain's head (None without records), which the day sheet prints as an anchor."""
     from workpack.history import History, history_from_records
     from workpack.store import is_server_url, open_store
 
@@ -310,9 +312,10 @@ def _history(args: argparse.Namespace, plant: Any) -> Any:
     if not server and not Path(db).exists():
         if args.db:
             raise UsageError(f"--db {args.db}: no such records store")
-        return History()
+        return History(), None
     with open_store(db, plant=plant.plant.name if server else None, create=False) as store:
-        return history_from_records(store.records(), plant.plant.code_set.rotating_machines)
+        return (history_from_records(store.records(), plant.plant.code_set.rotating_machines),
+                store.head())
 
 
 def _earlier_plan(day: Any, plant: str, db: str) -> Any:
@@ -451,8 +454,13 @@ def _cmd_record(args: argparse.Namespace) -> int:
 
 def _cmd_verify(args: argparse.Namespace) -> int:
     from workpack.store import is_server_url, open_store
+    from workpack.trust_shell import anchor_plant, check_anchor, read_anchor
 
     db, plant = _default_db(args), _store_plant(args)
+    anchor = read_anchor(args.anchor) if args.anchor else None
+    register = _register(args)
+    if plant is None and anchor is not None and is_server_url(db):
+        plant = anchor_plant(anchor)  # an anchor says whose chain it is
     plants: list[str | None] = [plant]
     if plant is None and is_server_url(db):  # no plant named: every chain in the store
         with open_store(db, create=False) as store:
@@ -465,9 +473,45 @@ def _cmd_verify(args: argparse.Namespace) -> int:
     for name in plants:
         with open_store(db, plant=name, create=False) as store:
             result = store.verify()
+            findings = (check_anchor(store, anchor, f"--anchor {args.anchor}", register)
+                        if anchor is not None else [])
         sys.stdout.write(result.message + "\n")
         failed += not result.ok
+        for finding in findings:
+            sys.stdout.write(finding.line + "\n")
+            failed += not finding.ok
     return 0 if not failed else 1
+
+
+def _register(args: argparse.Namespace) -> Any:
+    """The crew register of --crew, loaded and checked; None without the option."""
+    if not getattr(args, "crew", None):
+        return None
+    from workpack.crew_shell import load_crew
+
+    return load_crew(Path(args.crew))[0]
+
+
+def _cmd_anchor(args: argparse.Namespace) -> int:
+    from workpack.crew_shell import parse_time
+    from workpack.output import write_all
+    from workpack.store import is_server_url, open_store
+    from workpack.trust_shell import anchor_of_store
+
+    db = _default_db(args)
+    if is_server_url(db) and not args.plant:
+        raise UsageError("--plant: an office store holds many plants; name the one whose "
+                         "chain to anchor")
+    at = parse_time("--at", args.at, _now)
+    with open_store(db, plant=_store_plant(args), create=False) as store:
+        text = anchor_of_store(store, register=_register(args), key_file=Path(args.key), at=at)
+    if args.out:
+        out = Path(args.out)
+        write_all(out.parent, {out.name: text.encode()})
+        sys.stdout.write(f"anchor written to {out}\n")
+    else:
+        sys.stdout.write(text)
+    return 0
 
 
 def _issued_package(path: Path) -> tuple[Any, str]:
@@ -1060,9 +1104,33 @@ def build_parser() -> argparse.ArgumentParser:
                         help="write follow-up findings (e.g. insulation below minimum) here")
     record.set_defaults(run=_cmd_record)
 
-    verify = commands.add_parser("verify", help="check the records store's hash chain")
+    verify = commands.add_parser(
+        "verify", help="check the records store's hash chain (and, given them, an anchor "
+                       "taken earlier)")
     _store_options(verify)
+    verify.add_argument("--anchor", metavar="FILE|COUNT:HEAD",
+                        help="an anchor file `workpack anchor` wrote, or the head a day sheet "
+                             "printed (COUNT:HEAD): fails when the store no longer holds it")
+    verify.add_argument("--crew", metavar="CREW.yaml",
+                        help="crew register: check who signed the anchor")
     verify.set_defaults(run=_cmd_verify)
+
+    anchor = commands.add_parser(
+        "anchor", help="a signed statement of the records chain's head, to keep elsewhere",
+        description="Prints (or writes) the plant, the number of records, the last chain "
+                    "hash and the time, signed with a key of the crew register (its "
+                    "passphrase from WORKPACK_KEY_PASSPHRASE, or asked on the terminal). "
+                    "Kept outside the store, it lets `workpack verify --anchor FILE` show "
+                    "later that the store still holds these records unchanged.")
+    _store_options(anchor)
+    anchor.add_argument("--crew", required=True, metavar="CREW.yaml",
+                        help="crew register holding the signer's key")
+    anchor.add_argument("--key", required=True, metavar="KEYFILE",
+                        help="the signer's private key file")
+    anchor.add_argument("--at", metavar="TIME",
+                        help="time of the anchor, with its zone (default: now)")
+    anchor.add_argument("--out", metavar="FILE", help="write it here (default: print)")
+    anchor.set_defaults(run=_cmd_anchor)
 
     audit = commands.add_parser(
         "audit", help="audit report (HTML and PDF) of the packages issued and their records")
