@@ -363,3 +363,50 @@ def test_the_same_export_gives_the_same_bytes(tmp_path: Path, bundle: Path,
     """Ed25519 is deterministic, the records are as stored, the time is the one given."""
     export(tmp_path / "vessel.sqlite", tmp_path / "again.wpb", crew, capsys)
     assert (tmp_path / "again.wpb").read_bytes() == bundle.read_bytes()
+
+
+def test_export_since_an_anchor_ships_the_records_after_it(
+        tmp_path: Path, office: str, plant: str, crew: dict[str, Path], capsys) -> None:
+    """The office took records 1-3 in the first bundle; the vessel anchored its chain
+    then (workpack anchor): the next export, since that anchor, continues the chain."""
+    vessel = tmp_path / "vessel.sqlite"
+    with open_store(vessel, plant=plant) as store:
+        add(store, 3)
+    export(vessel, tmp_path / "b1.wpb", crew, capsys)
+    code, _, err = run(["anchor", "--db", str(vessel), "--crew", str(crew["register"]),
+                        "--key", str(crew["key"]), "--at", "2026-12-20T12:00Z",
+                        "--out", str(tmp_path / "anchor.json")], capsys)
+    assert (code, err) == (0, "")
+    with open_store(vessel, plant=plant) as store:
+        add(store, 2, start=3)
+    said = export(vessel, tmp_path / "b2.wpb", crew, capsys, since=tmp_path / "anchor.json")
+    assert f": records 4 to 5 of plant {plant} written" in said
+    assert take(office, crew, capsys, tmp_path / "b1.wpb", tmp_path / "b2.wpb")[0] == 0
+    assert rows(office, plant) == rows(str(vessel), plant)
+    # A head typed from the day sheet does as well as the file.
+    with open_store(vessel, plant=plant) as store:
+        head = store.get(3).chain_sha256
+    export(vessel, tmp_path / "b2-typed.wpb", crew, capsys, since=Path(f"3:{head}"))
+    assert read_bundle((tmp_path / "b2-typed.wpb").read_bytes(), "b").rows == \
+        read_bundle((tmp_path / "b2.wpb").read_bytes(), "b").rows
+
+
+def test_export_since_an_anchor_the_store_no_longer_holds_is_refused(
+        tmp_path: Path, plant: str, crew: dict[str, Path], capsys) -> None:
+    vessel = tmp_path / "vessel.sqlite"
+    with open_store(vessel, plant=plant) as store:
+        add(store, 3)
+    assert run(["anchor", "--db", str(vessel), "--crew", str(crew["register"]), "--key",
+                str(crew["key"]), "--out", str(tmp_path / "anchor.json")], capsys)[0] == 0
+    rebuilt = tmp_path / "rebuilt.sqlite"
+    with open_store(rebuilt, plant=plant) as store:
+        add(store, 1)
+        add(store, 3, start=1, note=" (rewritten)")
+    code, out, err = run(["sync", "export", "--db", str(rebuilt), "--out",
+                          str(tmp_path / "b.wpb"), "--sign-as", str(crew["key"]), "--crew",
+                          str(crew["register"]), "--since", str(tmp_path / "anchor.json")],
+                         capsys)
+    assert (code, out) == (2, "")
+    assert err.startswith("nothing exported: ")
+    assert "record 2 differs from the anchor taken" in err
+    assert not (tmp_path / "b.wpb").exists()

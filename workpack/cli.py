@@ -765,10 +765,31 @@ def _read_bundle_file(path: Path) -> Any:
     return read_bundle(data, str(path))
 
 
-def _since(path: Path) -> tuple[str, Any]:
-    """The plant and chain head a ``--since`` file names: an earlier bundle's last record."""
-    bundle = _read_bundle_file(path)
-    return bundle.plant, bundle.through
+def _since(text: str, store: Any, register: Any) -> Any:
+    """``--since``: the last record the office holds already, as a ``ChainHead`` (None for
+    none): an earlier bundle's last record, or an anchor (its file, or COUNT:HEAD from a
+    day sheet) that the store must still contain."""
+    from workpack.anchors import anchor_head
+    from workpack.model.anchor import AnchorFile
+    from workpack.sync import check_signature
+    from workpack.trust_shell import check_anchor, read_anchor
+
+    path = Path(text)
+    if path.is_file() and path.read_bytes()[:12] == b'{"manifest":':
+        bundle = _read_bundle_file(path)
+        signed = check_signature(register, bundle)
+        if not signed.ok:
+            raise UsageError(f"--since {text}: its signature is refused: {signed.message}")
+        if bundle.plant != store.plant:
+            raise UsageError(f"--since {text}: a bundle of plant {bundle.plant!r}, not of "
+                             f"{store.plant!r}, whose records {store.location} holds")
+        return bundle.through if bundle.through.sequence else None
+    anchor = read_anchor(text)
+    failed = [finding.line for finding in check_anchor(store, anchor, f"--since {text}",
+                                                       register) if not finding.ok]
+    if failed:
+        raise UsageError("nothing exported: " + "; ".join(failed))
+    return anchor_head(anchor.anchor) if isinstance(anchor, AnchorFile) else anchor
 
 
 def _cmd_sync_export(args: argparse.Namespace) -> int:
@@ -786,12 +807,7 @@ def _cmd_sync_export(args: argparse.Namespace) -> int:
         if not plant:
             raise UsageError(f"{store.location}: this store does not know its plant's name; "
                              "give it with --plant-name")
-        after = None
-        if args.since:
-            since_plant, after = _since(Path(args.since))
-            if since_plant != plant:
-                raise UsageError(f"--since {args.since}: names plant {since_plant!r}, not "
-                                 f"{plant!r}, whose records {store.location} holds")
+        after = _since(args.since, store, register) if args.since else None
         verification = store.verify(anchor=after)
         if not verification.ok:
             raise UsageError(f"nothing exported: {verification.message}")
@@ -867,9 +883,11 @@ def _add_sync_commands(commands: Any) -> None:
     actions = sync.add_subparsers(dest="sync_action", required=True, metavar="ACTION")
     export = actions.add_parser("export", help="a signed bundle of the records after --since")
     _store_options(export)
-    export.add_argument("--since", metavar="BUNDLE",
-                        help="the last bundle sent: export the records after its last one "
-                             "(default: every record)")
+    export.add_argument("--since", metavar="ANCHOR",
+                        help="what the office holds already: an anchor file (workpack "
+                             "anchor), COUNT:HEAD as a day sheet prints it, or the last "
+                             "bundle sent; the records after it are exported (default: "
+                             "every record)")
     export.add_argument("--out", required=True, metavar="BUNDLE", help="the file to write")
     export.add_argument("--sign-as", required=True, metavar="KEYFILE",
                         help="your private key file: the bundle is signed with it")
