@@ -831,6 +831,20 @@ def _cmd_sync_export(args: argparse.Namespace) -> int:
     return 0
 
 
+def _bundle_header(path: Path) -> Any:
+    """A bundle file's manifest and signature, read without its records."""
+    from workpack.sync import BundleError, read_header
+
+    try:
+        with path.open("rb") as handle:
+            first = handle.readline()
+    except FileNotFoundError:
+        raise BundleError(f"{path}: no such file") from None
+    except OSError as error:
+        raise BundleError(f"{path}: cannot read it ({error.strerror or error})") from None
+    return read_header(first.removesuffix(b"\n"), str(path))
+
+
 def _cmd_sync_import(args: argparse.Namespace) -> int:
     from workpack.crew_shell import load_crew
     from workpack.store import open_store
@@ -844,22 +858,29 @@ def _cmd_sync_import(args: argparse.Namespace) -> int:
         refused += 1
         sys.stderr.write(f"{name}: refused, nothing imported from it: {why}\n")
 
-    readable = []
-    for name in args.bundles:  # each bundle read and its signature checked before any import
+    # Every bundle's header and signature first, to put them in chain order; each bundle
+    # is then read whole (and its signature checked again) only when its turn comes, so
+    # memory holds one bundle at a time.
+    headers = {}
+    for name in args.bundles:
         try:
-            bundle = _read_bundle_file(Path(name))
+            header = _bundle_header(Path(name))
         except WorkpackError as error:
             refuse(name, error.format_message())
             continue
-        check = check_signature(register, bundle)
+        check = check_signature(register, header)
         if check.ok:
-            readable.append((bundle, name))
+            headers[id(header[0])] = (name, header[0])
         else:
             refuse(name, f"its signature: {check.message}")
-    named = {id(bundle): name for bundle, name in readable}
-    for bundle in import_order(bundle for bundle, _ in readable):
-        name = named[id(bundle)]
+    for manifest in import_order(manifest for _, manifest in headers.values()):
+        name = headers[id(manifest)][0]
         try:
+            bundle = _read_bundle_file(Path(name))
+            check = check_signature(register, bundle)
+            if not check.ok or bundle.manifest != manifest:
+                raise UsageError(f"its signature: {check.message}" if not check.ok else
+                                 "the file changed while it was being imported")
             with open_store(args.db, plant=bundle.plant) as store:
                 done = store.import_rows(bundle.rows, after=bundle.after,
                                          genesis=bundle.manifest.genesis)

@@ -207,7 +207,25 @@ def read_bundle(data: bytes, source: str) -> Bundle:
         raise BundleError(f"{source}: the bundle is cut short (it does not end with a "
                           "complete line); fetch or copy it again")
     lines = data.split(b"\n")[:-1]
-    header = _json_object(source, 1, lines[0])
+    manifest, signature = read_header(lines[0], source)
+    body = lines[1:]
+    if len(body) != manifest.count:
+        raise BundleError(f"{source}: the manifest lists {manifest.count} records but "
+                          f"{len(body)} follow it; the bundle was cut or added to")
+    if hashlib.sha256(b"".join(line + b"\n" for line in body)).hexdigest() != \
+            manifest.records_sha256:
+        raise BundleError(f"{source}: the record lines do not match the hash in the "
+                          "manifest: changed since export")
+    rows = tuple(_read_row(source, number, line) for number, line in enumerate(body, 2))
+    _check_rows(source, manifest, rows)
+    return Bundle(manifest, signature, rows)
+
+
+def read_header(line: bytes, source: str) -> tuple[Manifest, Signature]:
+    """A bundle's first line: its manifest (checked to start its plant's chain rightly)
+    and signature, so bundles can be ordered and their signatures checked before the
+    records are read."""
+    header = _json_object(source, 1, line)
     if set(header) != {"manifest", "signature"}:
         raise BundleError(f"{source}:1: expected the manifest and its signature, found "
                           f"{', '.join(sorted(header)) or 'nothing'}; a bundle is what "
@@ -224,18 +242,8 @@ def read_bundle(data: bytes, source: str) -> Bundle:
         signature = Signature.model_validate(header["signature"])
     except ValidationError as error:
         raise _invalid(source, 1, "signature", error) from None
-    body = lines[1:]
-    if len(body) != manifest.count:
-        raise BundleError(f"{source}: the manifest lists {manifest.count} records but "
-                          f"{len(body)} follow it; the bundle was cut or added to")
-    if hashlib.sha256(b"".join(line + b"\n" for line in body)).hexdigest() != \
-            manifest.records_sha256:
-        raise BundleError(f"{source}: the record lines do not match the hash in the "
-                          "manifest: changed since export")
     _check_chain_start(source, manifest)
-    rows = tuple(_read_row(source, number, line) for number, line in enumerate(body, 2))
-    _check_rows(source, manifest, rows)
-    return Bundle(manifest, signature, rows)
+    return manifest, signature
 
 
 def _check_chain_start(source: str, manifest: Manifest) -> None:
@@ -277,14 +285,18 @@ def _check_rows(source: str, manifest: Manifest, rows: Sequence[StoredRow]) -> N
                           f"{sequence}, not at the head the manifest names")
 
 
-def check_signature(register: CrewRegister, bundle: Bundle) -> SignatureCheck:
-    """Whether the bundle's signature is a valid one of a person in ``register``."""
-    return verify_digest(register, content_digest(bundle.manifest.content()),
-                         bundle.signature, signed_as=SIGNED_AS)
+def check_signature(register: CrewRegister, signed: Bundle | tuple[Manifest, Signature]
+                    ) -> SignatureCheck:
+    """Whether a bundle's signature (the bundle, or its header) is a valid one of a person
+    in ``register``."""
+    manifest, signature = ((signed.manifest, signed.signature) if isinstance(signed, Bundle)
+                           else signed)
+    return verify_digest(register, content_digest(manifest.content()), signature,
+                         signed_as=SIGNED_AS)
 
 
-def import_order(bundles: Iterable[Bundle]) -> list[Bundle]:
-    """Bundles in the order to import them: each plant's by where they start, so several
-    bundles of one vessel given at once go in chain order whatever order they came in."""
-    return sorted(bundles, key=lambda b: (b.plant, b.manifest.after.sequence,
-                                          b.manifest.through.sequence))
+def import_order(manifests: Iterable[Manifest]) -> list[Manifest]:
+    """Bundles (by their manifests) in the order to import them: each plant's by where
+    they start, so several bundles of one vessel given at once go in chain order whatever
+    order they came in."""
+    return sorted(manifests, key=lambda m: (m.plant, m.after.sequence, m.through.sequence))
