@@ -410,3 +410,34 @@ def test_export_since_an_anchor_the_store_no_longer_holds_is_refused(
     assert err.startswith("nothing exported: ")
     assert "record 2 differs from the anchor taken" in err
     assert not (tmp_path / "b.wpb").exists()
+
+
+def test_a_crew_role_imports_its_own_plant_only_and_an_auditor_none(
+        tmp_path: Path, pg_server: Any, pg_fresh_url: str, crew: dict[str, Path],
+        capsys) -> None:
+    """The office may run imports as each vessel's crew role: row-level security keeps a
+    bundle of one plant out of another's role, and an auditor role writes nothing."""
+    from workpack.store import set_up_store
+
+    for role in ("crew_linnet", "office_reader"):
+        pg_server.create_login_role(role)
+    set_up_store(pg_fresh_url, crew=[("crew_linnet", "MV Linnet")], auditors=["office_reader"])
+    for name in ("MV Linnet", "MV Petrel"):
+        vessel = tmp_path / f"{name}.sqlite"
+        with open_store(vessel, plant=name) as store:
+            add(store, 2)
+        export(vessel, tmp_path / f"{name}.wpb", crew, capsys)
+
+    def as_role(role: str) -> str:
+        return pg_fresh_url.replace("workpack_admin@", f"{role}@", 1)
+
+    code, out, err = take(as_role("crew_linnet"), crew, capsys, tmp_path / "MV Linnet.wpb",
+                          tmp_path / "MV Petrel.wpb")
+    assert code == 2
+    assert out.startswith(f"{tmp_path / 'MV Linnet.wpb'}: plant MV Linnet: records 1 to 2")
+    assert err.startswith(f"{tmp_path / 'MV Petrel.wpb'}: refused, nothing imported from it:")
+    assert "this database role may not write the records of plant 'MV Petrel'" in err
+    code, out, err = take(as_role("office_reader"), crew, capsys, tmp_path / "MV Petrel.wpb")
+    assert code == 2 and "may not" in err
+    assert rows(pg_fresh_url, "MV Petrel") == []
+    assert len(rows(pg_fresh_url, "MV Linnet")) == 2
