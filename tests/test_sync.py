@@ -441,3 +441,35 @@ def test_a_crew_role_imports_its_own_plant_only_and_an_auditor_none(
     assert code == 2 and "may not" in err
     assert rows(pg_fresh_url, "MV Petrel") == []
     assert len(rows(pg_fresh_url, "MV Linnet")) == 2
+
+
+def rebuilt(data: bytes, change: Any) -> bytes:
+    """The bundle with ``change(records)`` applied and its record hash made to match, as a
+    careful forger would (the signature is left as it was)."""
+    lines = data.split(b"\n")[:-1]
+    records = [json.loads(line) for line in lines[1:]]
+    change(records)
+    body = b"".join(json.dumps(r, sort_keys=True, separators=(",", ":")).encode() + b"\n"
+                    for r in records)
+    header = json.loads(lines[0])
+    header["manifest"]["records_sha256"] = hashlib.sha256(body).hexdigest()
+    header["manifest"]["count"] = len(records)
+    return json.dumps(header, separators=(",", ":")).encode() + b"\n" + body
+
+
+@pytest.mark.parametrize(("change", "message"), [
+    (lambda rs: rs[1].update(recorded_by="someone else"),
+     ":3: record 2: a field no longer matches its chain hash"),
+    (lambda rs: rs[1].update(results_json=rs[1]["results_json"].replace("entry", "Entry")),
+     ":3: record 2: its results no longer match their SHA-256"),
+    (lambda rs: rs.__setitem__(slice(1, 3), [rs[2], rs[1]]),
+     ":3: record 3: expected record 2 here"),
+    (lambda rs: rs.pop(), "manifest.through: the records end at record 2, not at the head"),
+    (lambda rs: rs[0].update(prev_sha256="0" * 64), ":2: record 1: does not chain to record 0"),
+    (lambda rs: rs[0].update(sequence="1"), ":2: record.sequence: Input should be a valid "
+                                            "integer"),
+])
+def test_a_bundle_that_does_not_hold_together_is_refused_by_line(
+        bundle: Path, change: Any, message: str) -> None:
+    with pytest.raises(BundleError, match=message.replace("(", r"\(")):
+        read_bundle(rebuilt(bundle.read_bytes(), change), "b.wpb")
