@@ -167,3 +167,11 @@ people:
                  "--sign-as", str(stranger), "--crew", str(crew)]) == 2
     assert "this key is not in the crew register" in capsys.readouterr().err
     assert not refused.exists()
+
+
+def test_signing_options_without_a_key_are_refused(tmp_path: Path, capsys) -> None:
+    code = main(["closeout", str(tmp_path / "p.json"), "--db", str(tmp_path / "r.sqlite"),
+                 "--out", str(tmp_path / "c.pdf"), "--crew", str(tmp_path / "crew.yaml")])
+    assert code == 2
+    assert capsys.readouterr().err == ("--crew: only with --sign-as KEYFILE, to sign the "
+                                       "close-out\n")

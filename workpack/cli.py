@@ -568,6 +568,9 @@ def _cmd_closeout(args: argparse.Namespace) -> int:
     from workpack.render.closeout import render_closeout
     from workpack.store import open_store
 
+    if not args.sign_as and (args.crew or args.at):
+        raise UsageError(f"{'--crew' if args.crew else '--at'}: only with --sign-as KEYFILE, "
+                         "to sign the close-out")
     package, digest = _issued_package(Path(args.package))
     with open_store(_default_db(args), plant=_store_plant(args) or package.plant,
                     create=False) as store:
