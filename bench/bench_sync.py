@@ -118,13 +118,25 @@ def bundles_of(plant: str, rows: list[StoredRow], batch: int) -> list[bytes]:
     return out
 
 
-def quietly(argv: list[str]) -> tuple[float, str]:
+class Took(float):
+    """Seconds of wall-clock time, with this process's CPU seconds beside them (the
+    server's work is in the wall time only): on a shared machine the two tell apart what
+    workpack spent from what it waited for."""
+
+    cpu: float
+
+    def __str__(self) -> str:
+        return f"{float(self):7.2f} s (workpack's CPU {self.cpu:6.2f} s)"
+
+
+def quietly(argv: list[str]) -> tuple[Took, str]:
     """Run one workpack command in-process; its time and what it printed."""
     printed = io.StringIO()
-    start = time.perf_counter()
+    start, cpu = time.perf_counter(), time.process_time()
     with contextlib.redirect_stdout(printed):
         code = workpack(argv)
-    took = time.perf_counter() - start
+    took = Took(time.perf_counter() - start)
+    took.cpu = time.process_time() - cpu
     if code != 0:
         raise SystemExit(f"workpack {' '.join(argv[:2])} failed ({code}):\n"
                          f"{printed.getvalue()[-2000:]}")
@@ -170,14 +182,14 @@ def run(url: str, plants: int, per_plant: int, batch: int, folder: Path) -> None
 
     print(f"made    {total} records of {plants} plants in {len(files)} signed bundles "
           f"({size / 1e6:.1f} MB): {made_s:.1f} s (not timed below)")
-    print(f"import  {total:7d} records, {len(files)} bundles in a shuffled order, one "
-          f"process: {import_s:7.1f} s ({total / import_s:6.0f} records/s)")
-    print(f"import  the same bundles again (adds nothing):            {again_s:7.1f} s")
-    print(f"verify  one plant, {per_plant} records:                       "
-          f"{verify_one_s:7.2f} s")
-    print(f"verify  all {plants} plants, {total} records:               {verify_all_s:7.2f} s")
-    print(f"audit   one plant, {per_plant} records and packages (HTML and PDF): "
-          f"{audit_s:7.2f} s")
+    print(f"import  {total} records, {len(files)} bundles in a shuffled order, one process: "
+          f"{import_s} = {total / import_s:.0f} records/s")
+    print(f"import  the same bundles again (adds nothing): {again_s}")
+    print(f"verify  one plant, {per_plant} records: {verify_one_s}")
+    print(f"verify  all {plants} plants, {total} records: {verify_all_s}")
+    print(f"audit   one plant, {per_plant} records and packages (HTML and PDF): {audit_s}")
+    print(f"load average over the last 15 minutes: {os.getloadavg()[2]:.1f} "
+          f"on {os.cpu_count()} cores")
 
 
 def main() -> None:
