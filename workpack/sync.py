@@ -39,6 +39,7 @@ from workpack.errors import WorkpackError
 from workpack.model.crew import CrewRegister
 from workpack.model.signature import Signature
 from workpack.signing import SignatureCheck, canonical_bytes, content_digest, verify_digest
+from workpack.store._base import Record
 from workpack.store._chain import (
     GENESIS,
     ChainHead,
@@ -131,9 +132,10 @@ class Bundle:
 # --- writing -----------------------------------------------------------------------------
 
 
-def rows_after(records: Iterable[Any], after: ChainHead | None, genesis: str) -> list[StoredRow]:
-    """The stored rows of ``records`` (``workpack.store.Record``s of one plant, in order)
-    numbered above ``after``, each with the chain hash it follows."""
+def rows_after(records: Iterable[Record], after: ChainHead | None,
+               genesis: str) -> list[StoredRow]:
+    """The stored rows of ``records`` (one plant's, in order) numbered above ``after``,
+    each with the chain hash it follows."""
     start = after.sequence if after is not None else 0
     prev = genesis
     rows: list[StoredRow] = []
