@@ -454,11 +454,12 @@ def _cmd_record(args: argparse.Namespace) -> int:
 
 def _cmd_verify(args: argparse.Namespace) -> int:
     from workpack.store import is_server_url, open_store
-    from workpack.trust_shell import anchor_plant, check_anchor, read_anchor
+    from workpack.trust_shell import anchor_plant, check_anchor, check_verdicts, read_anchor
 
     db, plant = _default_db(args), _store_plant(args)
     anchor = read_anchor(args.anchor) if args.anchor else None
     register = _register(args)
+    packages = _read_packages(args.packages) if args.packages else None
     if plant is None and anchor is not None and is_server_url(db):
         plant = anchor_plant(anchor)  # an anchor says whose chain it is
     plants: list[str | None] = [plant]
@@ -475,6 +476,8 @@ def _cmd_verify(args: argparse.Namespace) -> int:
             result = store.verify()
             findings = (check_anchor(store, anchor, f"--anchor {args.anchor}", register)
                         if anchor is not None else [])
+            if packages is not None:
+                findings += check_verdicts(store, packages, _standards())
         sys.stdout.write(result.message + "\n")
         failed += not result.ok
         for finding in findings:
@@ -557,9 +560,10 @@ def _cmd_audit(args: argparse.Namespace) -> int:
     written = write_all(Path(args.out), {
         "audit.html": render_audit_html(report).encode(),
         "audit.pdf": render_audit_pdf(report, args.page_size)})
-    sys.stdout.write(f"{verification.message}\naudit written: "
+    problems = "".join(f"{problem}\n" for problem in report.integrity.verdict_problems)
+    sys.stdout.write(f"{verification.message}\n{problems}audit written: "
                      + ", ".join(str(p) for p in written) + "\n")
-    return 0 if verification.ok else 1
+    return 0 if verification.ok and report.integrity.verdicts_ok else 1
 
 
 def _cmd_closeout(args: argparse.Namespace) -> int:
@@ -949,6 +953,10 @@ def build_parser() -> argparse.ArgumentParser:
                              "printed (COUNT:HEAD): fails when the store no longer holds it")
     verify.add_argument("--crew", metavar="CREW.yaml",
                         help="crew register: check who signed the anchor")
+    verify.add_argument("--packages", action="append", metavar="DIR",
+                        help="folder of issued packages (JSON twins; repeat as needed): judge "
+                             "every record again from its results and its package, and fail "
+                             "where a stored verdict disagrees")
     verify.set_defaults(run=_cmd_verify)
 
     anchor = commands.add_parser(

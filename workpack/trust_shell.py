@@ -1,11 +1,13 @@
 """The shell of the records' trust checks: anchors taken and read, and what ``verify``
-checks beyond the chain (an anchor). Files, the store and the clock are read here; the
-judging is in the pure modules (``workpack.anchors``).
+checks beyond the chain (an anchor, the verdicts judged again). Files, the store and the
+clock are read here; the judging is in the pure modules (``workpack.anchors``,
+``workpack.rejudge``).
 """
 
 from __future__ import annotations
 
 import datetime as dt
+from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -17,9 +19,11 @@ from workpack.anchors import (
     sign_anchor,
     take_anchor,
 )
+from workpack.electrical.standards import CodeSet
 from workpack.errors import UsageError
 from workpack.model.anchor import AnchorFile
 from workpack.model.crew import CrewRegister
+from workpack.model.package import WorkPackage
 from workpack.store import ChainHead, RecordStore
 
 
@@ -86,3 +90,17 @@ def check_anchor(store: RecordStore, anchor: AnchorFile | ChainHead, shown: str,
                                   plant=store.plant)
     findings.append(Finding(compared.ok, f"{store.location}: {compared.message}"))
     return findings
+
+
+# --- verdicts judged again -------------------------------------------------------------------
+
+
+def check_verdicts(store: RecordStore, packages: Mapping[str, WorkPackage],
+                   standards: Mapping[str, CodeSet]) -> list[Finding]:
+    """Every record of ``store`` judged again against the issued ``packages``: one line
+    saying how many, then one per stored verdict that disagrees."""
+    from workpack.rejudge import rejudge
+
+    judged = rejudge(store.records(), packages, standards)
+    return [Finding(judged.ok, f"{store.location}: {judged.summary}"),
+            *[Finding(False, f"{store.location}: {d.message}") for d in judged.disagreements]]

@@ -40,11 +40,19 @@ class Integrity:
     count: int  # records in the store
     head_sequence: int | None
     head_sha256: str | None
+    # Every record judged again (``workpack.rejudge``): stored verdicts that disagree, or
+    # records that could not be judged though their package was given, one line each.
+    verdict_problems: tuple[str, ...] = ()
+    verdicts_said: str = ""  # one line: how many were judged again, and found
+
+    @property
+    def verdicts_ok(self) -> bool:
+        return not self.verdict_problems
 
     @property
     def intact(self) -> bool:
-        """Chain and guards both as written: anything else is shown prominently."""
-        return self.ok and self.guards_intact
+        """Chain, guards and verdicts all as written: anything else is shown prominently."""
+        return self.ok and self.guards_intact and self.verdicts_ok
 
 
 @dataclass(frozen=True)
