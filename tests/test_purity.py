@@ -24,6 +24,7 @@ CORE = [
     "workpack.forms", "workpack.restoration", "workpack.evaluate", "workpack.records",
     "workpack.history", "workpack.audit", "workpack.store._chain", "workpack.crew",
     "workpack.signing", "workpack.anchors", "workpack.rejudge",
+    "workpack.record_signatures",
 ]
 # Core modules nearly every other imports, loaded once before the checks to keep them
 # fast. Sound: the checker fails if these (with the libraries) load anything forbidden.

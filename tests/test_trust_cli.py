@@ -5,15 +5,19 @@ the triggers put back."""
 
 from __future__ import annotations
 
+import datetime as dt
+import json
 import shutil
 from pathlib import Path
 from typing import Any
 
 import pytest
 from test_record import filled_sheet, windlass
-from trustdata import rewrite_postgres, rewrite_sqlite
+from trustdata import KEYS, PASSPHRASE, key_file, rewrite_postgres, rewrite_sqlite, write_crew
 
 from workpack.cli import main
+from workpack.record_signatures import record_content, sign_record
+from workpack.store import open_store
 
 PLANT = "MV Skerry Lantern"
 
@@ -74,3 +78,122 @@ def test_a_failed_job_rewritten_as_passed_is_caught_by_verify_and_audit(
     assert "record 1 (WP-" in out[1]
     html = (tmp_path / "audit" / "audit.html").read_text(encoding="utf-8")
     assert "VERDICTS DO NOT STAND" in html and "RECORDS INTACT" not in html
+
+
+# --- signatures bound to people (issue 13.2) ---------------------------------------------
+
+
+@pytest.fixture
+def signing(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> dict[str, Path]:
+    monkeypatch.setenv("WORKPACK_KEY_PASSPHRASE", PASSPHRASE)
+    return {"crew": write_crew(tmp_path), **{short: key_file(tmp_path, short)
+                                            for short in ("quayle", "penhallow", "stranger")}}
+
+
+def record(store: dict[str, Any], package: Path, sheet: Path, at: str, capsys,
+           *more: str) -> tuple[int, list[str], str]:
+    return run(["record", str(package), str(sheet), "--db", store["db"], "--at", at, *more],
+               capsys)
+
+
+def signed_by(signing: dict[str, Path], technician: str = "quayle",
+              supervisor: str = "penhallow") -> list[str]:
+    return ["--crew", str(signing["crew"]), "--sign", f"technician={signing[technician]}",
+            "--sign", f"supervisor={signing[supervisor]}"]
+
+
+def test_a_record_signed_by_both_verifies_against_the_register(
+        store: dict[str, Any], issued: Path, tmp_path: Path, signing, capsys) -> None:
+    package = windlass(issued)
+    sheet = filled_sheet(package, tmp_path)
+    code, _, err = record(store, package, sheet, "2026-12-02T16:00Z", capsys,
+                          *signed_by(signing))
+    assert code == 0, err
+    with open_store(store["db"], plant=PLANT) as opened:
+        signatures = json.loads(opened.get(1).results_json)["signatures"]
+    assert [(s["signed_as"], s["person"], s["key"], s["signed_at"]) for s in signatures] == [
+        ("technician", "LCS-0107", "LCS-0107-K1", "2026-12-02T16:00:00Z"),
+        ("supervisor", "LCS-0098", "LCS-0098-K1", "2026-12-02T16:00:00Z")]
+    code, out, _ = run(["verify", "--db", store["db"], "--plant", PLANT, "--crew",
+                        str(signing["crew"])], capsys)
+    assert code == 0, out
+    assert out[1].endswith("1 record, all signed by the technician and the supervisor with "
+                           "valid keys")
+
+
+@pytest.mark.parametrize(("who", "words"), [
+    ({"technician": "stranger"}, "this key is not in the crew register"),
+    ({"supervisor": "quayle", "technician": "penhallow"},
+     "the key is R. Tamsin's (LCS-0098), but the results name S. Quayle (LCS-0107) as "
+     "technician"),
+])
+def test_a_record_is_not_signed_with_a_key_outside_the_register_or_anothers(
+        store: dict[str, Any], issued: Path, tmp_path: Path, signing, capsys,
+        who: dict[str, str], words: str) -> None:
+    package = windlass(issued)
+    sheet = filled_sheet(package, tmp_path)
+    capsys.readouterr()
+    code, out, err = record(store, package, sheet, "2026-12-02T16:00Z", capsys,
+                            *signed_by(signing, **who))
+    assert code == 2 and out == [] and err.count("\n") == 1
+    assert words in err
+    if store["kind"] == "sqlite":
+        assert not Path(store["db"]).exists()  # refused before the store was touched
+
+
+def test_a_revoked_key_signs_nothing_after_its_revocation(
+        store: dict[str, Any], issued: Path, tmp_path: Path, signing, capsys) -> None:
+    package = windlass(issued)
+    revoked = write_crew(tmp_path / "later", revoked={"penhallow": "2026-11-01T00:00:00Z"})
+    code, _, err = record(store, package, filled_sheet(package, tmp_path),
+                          "2026-12-02T16:00Z", capsys, "--crew", str(revoked), "--sign",
+                          f"technician={signing['quayle']}", "--sign",
+                          f"supervisor={signing['penhallow']}")
+    assert code == 2
+    assert "key LCS-0098-K1 of R. Tamsin (LCS-0098) was revoked at 2026-11-01T00:00:00Z" in err
+
+
+def test_verify_names_unsigned_revoked_unknown_and_copied_signatures(
+        store: dict[str, Any], issued: Path, tmp_path: Path, signing, capsys) -> None:
+    package = windlass(issued)
+    sheet = filled_sheet(package, tmp_path)
+    assert record(store, package, sheet, "2026-12-02T16:00Z", capsys,
+                  *signed_by(signing))[0] == 0                                    # 1: good
+    assert record(store, package, sheet, "2026-12-02T17:00Z", capsys,
+                  "--supersedes", "1")[0] == 0                                    # 2: unsigned
+    with open_store(store["db"], plant=PLANT) as opened:
+        first = opened.get(1)
+        copied = json.loads(first.results_json)  # 3: record 1's signatures, pasted
+        opened.append(package_id=first.package_id, package_sha256=first.package_sha256,
+                      results=copied, recorded_by=first.recorded_by,
+                      recorded_at=first.recorded_at + dt.timedelta(hours=2),
+                      verdict=first.verdict, supersedes=2)
+        # 4: signed by a key the register never held, under a name it knows
+        unsigned = {k: v for k, v in copied.items() if k != "signatures"}
+        at = first.recorded_at + dt.timedelta(hours=3)
+        content = record_content(package_id=first.package_id,
+                                 package_sha256=first.package_sha256,
+                                 recorded_by=first.recorded_by, recorded_at=at, supersedes=3,
+                                 verdict=first.verdict, payload=unsigned)
+        forged = sign_record(content, [("technician", KEYS["stranger"], "LCS-0107",
+                                        "LCS-0107-K9"),
+                                       ("supervisor", KEYS["penhallow"], "LCS-0098",
+                                        "LCS-0098-K1")], at)
+        opened.append(package_id=first.package_id, package_sha256=first.package_sha256,
+                      results={**unsigned, "signatures": [s.model_dump(mode="json")
+                                                          for s in forged]},
+                      recorded_by=first.recorded_by, recorded_at=at, verdict=first.verdict,
+                      supersedes=3)
+    # the technician's key found lost before record 1 was made: revoked from then on
+    later = write_crew(tmp_path / "later", revoked={"quayle": "2026-12-02T12:00:00Z"})
+    code, out, _ = run(["verify", "--db", store["db"], "--plant", PLANT, "--crew",
+                        str(later)], capsys)
+    assert code == 1
+    assert out[0].endswith("OK, 4 records, chain intact to " + out[0].rsplit(" ", 1)[1])
+    assert out[1].endswith("4 records, 4 refused (1 bad signature, 2 revoked, 1 unknown key, "
+                           "1 unsigned)")
+    assert "record 1 (WP-" in out[2] and "technician: revoked: key LCS-0107-K1 of S. Quayle " \
+        "(LCS-0107) was revoked at 2026-12-02T12:00:00Z" in out[2]
+    assert out[3].endswith("unsigned (no technician's or supervisor's signature)")
+    assert "record 3" in out[4] and "bad signature" in out[4]
+    assert "record 4" in out[5] and "technician: unknown key: no key 'LCS-0107-K9'" in out[5]

@@ -45,6 +45,7 @@ def crew_text(*, revoked: dict[str, str] | None = None) -> str:
 
 
 def write_crew(folder: Path, **options: Any) -> Path:
+    folder.mkdir(parents=True, exist_ok=True)
     path = folder / "crew.yaml"
     path.write_text(crew_text(**options), encoding="utf-8")
     return path

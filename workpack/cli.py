@@ -427,6 +427,11 @@ def _cmd_record(args: argparse.Namespace) -> int:
     evaluation = evaluate(package, results, _standards())
     at = args.at or dt.datetime.now(dt.UTC)
     recorded_by = args.by or results.completed_by or "unknown"
+    payload = _signed(args, record_payload(results, evaluation), package_id=package.id,
+                      package_sha256=digest, recorded_by=recorded_by, recorded_at=at,
+                      supersedes=args.supersedes, verdict=evaluation.verdict,
+                      named={"technician": results.completed_by,
+                             "supervisor": results.supervisor})
     with open_store(_default_db(args), plant=package.plant) as store:
         latest = store.latest(package.id)
         if latest is not None and args.supersedes is None:
@@ -434,8 +439,7 @@ def _cmd_record(args: argparse.Namespace) -> int:
                              f"to correct it, record again with --supersedes "
                              f"{latest.sequence}")
         record = store.append(package_id=package.id, package_sha256=digest,
-                              results=record_payload(results, evaluation),
-                              recorded_by=recorded_by, recorded_at=at,
+                              results=payload, recorded_by=recorded_by, recorded_at=at,
                               verdict=evaluation.verdict, supersedes=args.supersedes)
         where = store.location  # a URL's password left out
     sys.stdout.write(evaluation_text(evaluation)
@@ -452,9 +456,42 @@ def _cmd_record(args: argparse.Namespace) -> int:
     return 0
 
 
+def _signed(args: argparse.Namespace, payload: dict[str, Any], **record: Any) -> dict[str, Any]:
+    """The payload with the signatures of ``--sign ROLE=KEYFILE`` (none: unchanged)."""
+    if not args.sign:
+        return payload
+    from workpack.trust_shell import sign_payload
+
+    register = _register(args)
+    if register is None:
+        raise UsageError("--sign: give --crew, the register holding the signers' keys")
+    return sign_payload(register, args.sign, payload, now=dt.datetime.now(dt.UTC), **record)
+
+
+def _add_signing_options(record: argparse.ArgumentParser) -> None:
+    """`record --sign ROLE=KEYFILE` (and --crew, unless the register checks added it)."""
+    from workpack.trust_shell import role_key_file
+
+    if "--crew" not in record._option_string_actions:  # noqa: SLF001 (shared with checks)
+        record.add_argument("--crew", metavar="CREW.yaml",
+                            help="crew register: who may sign, with their public keys")
+    record.add_argument("--sign", action="append", metavar="ROLE=KEYFILE",
+                        type=_option("--sign", role_key_file),
+                        help="sign the record as technician or supervisor with this private "
+                             "key file (repeat for both); its passphrase from "
+                             "WORKPACK_KEY_PASSPHRASE_TECHNICIAN (or _SUPERVISOR), else "
+                             "WORKPACK_KEY_PASSPHRASE, else asked on the terminal")
+
+
 def _cmd_verify(args: argparse.Namespace) -> int:
     from workpack.store import is_server_url, open_store
-    from workpack.trust_shell import anchor_plant, check_anchor, check_verdicts, read_anchor
+    from workpack.trust_shell import (
+        anchor_plant,
+        check_anchor,
+        check_signatures,
+        check_verdicts,
+        read_anchor,
+    )
 
     db, plant = _default_db(args), _store_plant(args)
     anchor = read_anchor(args.anchor) if args.anchor else None
@@ -478,6 +515,8 @@ def _cmd_verify(args: argparse.Namespace) -> int:
                         if anchor is not None else [])
             if packages is not None:
                 findings += check_verdicts(store, packages, _standards())
+            if register is not None:
+                findings += check_signatures(store, register)
         sys.stdout.write(result.message + "\n")
         failed += not result.ok
         for finding in findings:
@@ -942,6 +981,7 @@ def build_parser() -> argparse.ArgumentParser:
                         help="this corrects record N (records are never changed)")
     record.add_argument("--followups", metavar="FILE",
                         help="write follow-up findings (e.g. insulation below minimum) here")
+    _add_signing_options(record)
     record.set_defaults(run=_cmd_record)
 
     verify = commands.add_parser(
@@ -952,7 +992,8 @@ def build_parser() -> argparse.ArgumentParser:
                         help="an anchor file `workpack anchor` wrote, or the head a day sheet "
                              "printed (COUNT:HEAD): fails when the store no longer holds it")
     verify.add_argument("--crew", metavar="CREW.yaml",
-                        help="crew register: check who signed the anchor")
+                        help="crew register: check every record's signatures (and the "
+                             "anchor's) against it")
     verify.add_argument("--packages", action="append", metavar="DIR",
                         help="folder of issued packages (JSON twins; repeat as needed): judge "
                              "every record again from its results and its package, and fail "
