@@ -197,3 +197,22 @@ def test_verify_names_unsigned_revoked_unknown_and_copied_signatures(
     assert out[3].endswith("unsigned (no technician's or supervisor's signature)")
     assert "record 3" in out[4] and "bad signature" in out[4]
     assert "record 4" in out[5] and "technician: unknown key: no key 'LCS-0107-K9'" in out[5]
+
+
+def test_a_signed_record_rewritten_with_the_whole_chain_loses_its_signatures(
+        store: dict[str, Any], issued: Path, tmp_path: Path, signing, capsys) -> None:
+    """The rewriter can rehash the chain but cannot sign as the crew: the verdict edited
+    breaks both signatures, the verdict judged again disagrees."""
+    package = windlass(issued)
+    sheet = filled_sheet(package, tmp_path, dry_out_mohm="0.5 MΩ")
+    assert record(store, package, sheet, "2026-12-02T16:00Z", capsys,
+                  *signed_by(signing))[0] == 0
+    rewrite(store, 1, {"verdict": "passed"})
+    code, out, _ = run(["verify", "--db", store["db"], "--plant", PLANT, "--crew",
+                        str(signing["crew"]), "--packages", str(issued)], capsys)
+    assert code == 1
+    assert "OK, 1 record" in out[0]
+    assert out[1].endswith("1 record, 1 disagree with what is stored")
+    assert any(line.endswith("1 record, 1 refused (1 bad signature)") for line in out), out
+    assert any("technician: bad signature" in line and "supervisor: bad signature" in line
+               for line in out), out
