@@ -132,6 +132,10 @@ def check_record(register: CrewRegister, record: Record) -> RecordSignatures:
         reason = (error.errors(include_url=False)[0]["msg"] if isinstance(error, ValidationError)
                   else str(error))
         return RecordSignatures(record.sequence, record.package_id, (), reason)
+    if not signatures:  # nothing to hash the content for
+        return RecordSignatures(record.sequence, record.package_id, tuple(
+            RoleCheck(role, SignatureCheck(Verdict.unsigned, f"not signed as {role}"))
+            for role in ROLES))
     digest = content_digest(record_content(
         package_id=record.package_id, package_sha256=record.package_sha256,
         recorded_by=record.recorded_by, recorded_at=record.recorded_at,
