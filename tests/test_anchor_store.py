@@ -93,10 +93,11 @@ def test_an_untouched_store_holds_its_anchor_and_more_records(filled: dict[str, 
                      recorded_at=T0 + dt.timedelta(hours=2), verdict="passed")
     code, lines = verify(filled, str(path), capsys, "--crew",
                          str(write_crew(filled["folder"])))
-    assert code == 0, lines
     assert "OK, 6 records" in lines[0]
     assert "signed by R. Tamsin (LCS-0098) as anchor" in lines[1]
     assert lines[2].endswith("its first 5 records are unchanged")
+    # --crew checks the records' own signatures too: these were written unsigned
+    assert code == 1 and lines[3].endswith("6 records, 6 refused (6 unsigned)")
 
 
 def test_a_whole_chain_rewrite_passes_the_chain_check_and_fails_the_anchor(

@@ -375,17 +375,22 @@ class _Progress:
 
 def _cmd_results_template(args: argparse.Namespace) -> int:
     from workpack.forms import results_template
-    from workpack.output import write_all
 
     package, digest = _issued_package(Path(args.package))
-    text = results_template(package, digest)
-    if args.out:
-        out = Path(args.out)
-        write_all(out.parent, {out.name: text.encode()})
-        sys.stdout.write(f"results sheet written to {out}\n")
-    else:
-        sys.stdout.write(text)
+    _print_or_write(results_template(package, digest), args.out, "results sheet")
     return 0
+
+
+def _print_or_write(text: str, out: str | None, what: str) -> None:
+    """``text`` printed, or written whole to the file ``out`` (saying so)."""
+    if out is None:
+        sys.stdout.write(text)
+        return
+    from workpack.output import write_all
+
+    path = Path(out)
+    write_all(path.parent, {path.name: text.encode()})
+    sys.stdout.write(f"{what} written to {path}\n")
 
 
 def _default_db(args: argparse.Namespace) -> str:
@@ -536,7 +541,6 @@ def _register(args: argparse.Namespace) -> Any:
 
 def _cmd_anchor(args: argparse.Namespace) -> int:
     from workpack.crew_shell import parse_time
-    from workpack.output import write_all
     from workpack.store import is_server_url, open_store
     from workpack.trust_shell import anchor_of_store
 
@@ -547,12 +551,7 @@ def _cmd_anchor(args: argparse.Namespace) -> int:
     at = parse_time("--at", args.at, _now)
     with open_store(db, plant=_store_plant(args), create=False) as store:
         text = anchor_of_store(store, register=_register(args), key_file=Path(args.key), at=at)
-    if args.out:
-        out = Path(args.out)
-        write_all(out.parent, {out.name: text.encode()})
-        sys.stdout.write(f"anchor written to {out}\n")
-    else:
-        sys.stdout.write(text)
+    _print_or_write(text, args.out, "anchor")
     return 0
 
 
