@@ -216,3 +216,26 @@ def test_a_signed_record_rewritten_with_the_whole_chain_loses_its_signatures(
     assert any(line.endswith("1 record, 1 refused (1 bad signature)") for line in out), out
     assert any("technician: bad signature" in line and "supervisor: bad signature" in line
                for line in out), out
+
+
+@pytest.mark.parametrize(("argv", "words"), [
+    (["--sign", "boss=x.key"], "--sign boss=x.key: 'boss': a record is signed as technician "
+                               "or supervisor"),
+    (["--sign", "technician"], "--sign technician: 'technician': expected ROLE=KEYFILE"),
+    (["--sign", "technician=x.key"], "--sign: give --crew, the register holding the signers' "
+                                     "keys"),
+])
+def test_signing_options_are_refused_in_one_line(issued: Path, tmp_path: Path, capsys,
+                                                 argv: list[str], words: str) -> None:
+    package = windlass(issued)
+    sheet = filled_sheet(package, tmp_path)
+    capsys.readouterr()
+    db = tmp_path / "records.sqlite"
+    code, out, err = run(["record", str(package), str(sheet), "--db", str(db), *argv], capsys)
+    assert (code, out) == (2, []) and err.count("\n") == 1 and words in err, err
+    assert not db.exists()
+
+
+def test_a_typed_head_needs_the_plant_in_an_office_store(pg_fresh_url: str, capsys) -> None:
+    code, _, err = run(["verify", "--db", pg_fresh_url, "--anchor", "3:" + "a" * 64], capsys)
+    assert code == 2 and "does not say its plant; name it with --plant" in err

@@ -503,7 +503,10 @@ def _cmd_verify(args: argparse.Namespace) -> int:
     register = _register(args)
     packages = _read_packages(args.packages) if args.packages else None
     if plant is None and anchor is not None and is_server_url(db):
-        plant = anchor_plant(anchor)  # an anchor says whose chain it is
+        plant = anchor_plant(anchor)  # an anchor file says whose chain it is; a head does not
+        if plant is None:
+            raise UsageError(f"--anchor {args.anchor}: a head typed from a day sheet does not "
+                             "say its plant; name it with --plant")
     plants: list[str | None] = [plant]
     if plant is None and is_server_url(db):  # no plant named: every chain in the store
         with open_store(db, create=False) as store:
