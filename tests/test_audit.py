@@ -559,3 +559,22 @@ def test_a_record_of_a_changed_package_cannot_be_judged_again_and_says_so(
     assert problem == (f"record 1 ({P1.id}) cannot be judged again: it answers another "
                        "version of the package (its package hash differs from the issued "
                        "package given)")
+
+
+def test_with_a_crew_register_unsigned_records_are_refused_at_the_top(
+        db: Path, standards: dict) -> None:
+    from crewdata import person, register
+
+    crew = register(person("LCS-0107", "S. Quayle"))
+    with open_store(db, create=False) as store:
+        report = build_audit(store.records(), PACKAGES, store.verify(), since=None,
+                             until=None, plant=PLANT, as_of=AS_OF, standards=standards,
+                             register=crew)
+    assert report.integrity.ok and report.integrity.verdicts_ok
+    assert not report.integrity.intact and len(report.integrity.signature_problems) == 6
+    assert report.integrity.signatures_said.endswith("6 records, 6 refused (6 unsigned)")
+    html = render_audit_html(report)
+    assert html.index("SIGNATURES REFUSED") < html.index("Packages and their status")
+    assert "record 1 (" in html and "unsigned (no technician" in html
+    text = pdf_text(render_audit_pdf(report))
+    assert text.index("SIGNATURES REFUSED") < text.index("Packages and their status")

@@ -119,6 +119,12 @@ def test_a_record_signed_by_both_verifies_against_the_register(
     assert code == 0, out
     assert out[1].endswith("1 record, all signed by the technician and the supervisor with "
                            "valid keys")
+    code, out, _ = run(["audit", "--db", store["db"], "--plant", PLANT, "--packages",
+                        str(issued), "--as-of", "2026-12-03", "--crew", str(signing["crew"]),
+                        "--out", str(tmp_path / "audit")], capsys)
+    assert code == 0, out
+    html = (tmp_path / "audit" / "audit.html").read_text(encoding="utf-8")
+    assert "RECORDS INTACT" in html and "all signed by the technician" in html
 
 
 @pytest.mark.parametrize(("who", "words"), [

@@ -597,14 +597,16 @@ def _cmd_audit(args: argparse.Namespace) -> int:
         verification = store.verify()
     report = build_audit(records, packages, verification, since=args.since, until=args.until,
                          plant=args.plant_name, as_of=as_of, standards=_standards(),
-                         default_code_set=args.code_set)
+                         default_code_set=args.code_set, register=_register(args))
     written = write_all(Path(args.out), {
         "audit.html": render_audit_html(report).encode(),
         "audit.pdf": render_audit_pdf(report, args.page_size)})
-    problems = "".join(f"{problem}\n" for problem in report.integrity.verdict_problems)
+    found = report.integrity
+    problems = "".join(f"{problem}\n"
+                       for problem in (*found.verdict_problems, *found.signature_problems))
     sys.stdout.write(f"{verification.message}\n{problems}audit written: "
                      + ", ".join(str(p) for p in written) + "\n")
-    return 0 if verification.ok and report.integrity.verdicts_ok else 1
+    return 0 if found.ok and found.verdicts_ok and found.signatures_ok else 1
 
 
 def _cmd_closeout(args: argparse.Namespace) -> int:
@@ -1034,6 +1036,8 @@ def build_parser() -> argparse.ArgumentParser:
     audit.add_argument("--code-set", default="ieee43-2013",
                        help="tables for insulation trends whose readings name none")
     audit.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
+    audit.add_argument("--crew", metavar="CREW.yaml",
+                       help="crew register: check every record's signatures against it")
     audit.add_argument("--out", required=True, metavar="DIR", help="folder for the report")
     audit.set_defaults(run=_cmd_audit)
 

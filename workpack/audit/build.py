@@ -21,6 +21,8 @@ Rules the report follows:
   a stored verdict that disagrees is an integrity failure at the top of the report, and
   the status, readings and deviations shown are those judged again (the stored evaluation
   only where the package was not given or the record could not be judged).
+- Given a crew register, every record's signatures are checked against it
+  (``workpack.record_signatures``); a record refused is an integrity failure too.
 - Readings are shown as entered (the text or number written on the sheet) beside the SI
   values the evaluation derived from them.
 - Isolations not restored are taken from every package's latest effective record (date
@@ -47,9 +49,11 @@ from workpack.audit.report import (
 )
 from workpack.audit.trends import insulation_trends
 from workpack.electrical.standards import CodeSet
+from workpack.model.crew import CrewRegister
 from workpack.model.evaluation import Evaluation, ReadingVerdict
 from workpack.model.package import WorkPackage
 from workpack.model.results import LockRecord, Results
+from workpack.record_signatures import SignatureReport, check_records
 from workpack.records import (
     ReadBack,
     entered_text,
@@ -68,8 +72,10 @@ def build_audit(records: Iterable[Record], packages: Mapping[str, WorkPackage],
                 verification: Verification, *, since: dt.date | None,
                 until: dt.date | None, plant: str | None, as_of: dt.date,
                 standards: Mapping[str, CodeSet],
-                default_code_set: str = "ieee43-2013") -> AuditReport:
-    """The audit of ``records`` against the issued ``packages`` (id → package).
+                default_code_set: str = "ieee43-2013",
+                register: CrewRegister | None = None) -> AuditReport:
+    """The audit of ``records`` against the issued ``packages`` (id → package); with a
+    crew ``register``, every record's signatures are checked against it too.
 
     ``default_code_set`` is the plant's code set for the trend judgement where a reading's
     limit names none (a plant's ``code_set.rotating_machines``); see the module docstring
@@ -122,18 +128,23 @@ def build_audit(records: Iterable[Record], packages: Mapping[str, WorkPackage],
 
     listed = {a.package_id for a in audits}
     trends = insulation_trends(packages, latest, listed, flt, standards, default_code_set)
-    return AuditReport(flt, _integrity(verification, judged), tuple(audits),
+    signed = check_records(register, stored) if register is not None else None
+    return AuditReport(flt, _integrity(verification, judged, signed), tuple(audits),
                        tuple(isolations), trends, tuple(unmatched))
 
 
-def _integrity(verification: Verification, judged: Rejudging) -> Integrity:
+def _integrity(verification: Verification, judged: Rejudging,
+               signed: SignatureReport | None) -> Integrity:
     head = verification.head
     return Integrity(ok=verification.ok, guards_intact=verification.guards_intact,
                      message=verification.message, count=verification.count,
                      head_sequence=head.sequence if head is not None else None,
                      head_sha256=head.chain_sha256 if head is not None else None,
                      verdict_problems=tuple(d.message for d in judged.disagreements),
-                     verdicts_said=judged.summary)
+                     verdicts_said=judged.summary,
+                     signature_problems=tuple(r.message for r in signed.failing)
+                     if signed is not None else (),
+                     signatures_said=signed.summary if signed is not None else "")
 
 
 def _package_audit(package: WorkPackage, refs: list[RecordRef], read: ReadBack[Record] | None,

@@ -44,15 +44,23 @@ class Integrity:
     # records that could not be judged though their package was given, one line each.
     verdict_problems: tuple[str, ...] = ()
     verdicts_said: str = ""  # one line: how many were judged again, and found
+    # Every record's signatures checked against a crew register, where one was given
+    # (``workpack.record_signatures``): the records refused, one line each.
+    signature_problems: tuple[str, ...] = ()
+    signatures_said: str = ""  # one line: how many were checked ("" when not checked)
 
     @property
     def verdicts_ok(self) -> bool:
         return not self.verdict_problems
 
     @property
+    def signatures_ok(self) -> bool:
+        return not self.signature_problems
+
+    @property
     def intact(self) -> bool:
-        """Chain, guards and verdicts all as written: anything else is shown prominently."""
-        return self.ok and self.guards_intact and self.verdicts_ok
+        """Chain, guards, verdicts and signatures as written: else shown prominently."""
+        return self.ok and self.guards_intact and self.verdicts_ok and self.signatures_ok
 
 
 @dataclass(frozen=True)

@@ -66,6 +66,11 @@ MISJUDGED_ADVICE = ("The hash chain verifies, but the records listed here do not
                     "(or could not be judged again): the records were rewritten or written "
                     "outside workpack, or a package was changed after issue. The statuses "
                     "below are those judged again; find out who wrote the stored ones.")
+UNSIGNED = "SIGNATURES REFUSED: CHECKED AGAINST THE CREW REGISTER"
+UNSIGNED_ADVICE = ("The records listed here are not signed by their technician and "
+                   "supervisor with keys the crew register held at the time: unsigned, "
+                   "signed with a key it does not know or had revoked, or changed since they "
+                   "were signed. Nobody can be held to what they say until this is explained.")
 ALTERED_ADVICE = ("Everything below is read from the store as it now is. It cannot be "
                   "relied on until the break is explained.")
 
@@ -135,7 +140,8 @@ def texts(report: AuditReport) -> dict[str, str]:
             "intact": INTACT, "guards_missing": GUARDS_MISSING,
             "guards_missing_advice": GUARDS_MISSING_ADVICE, "altered": ALTERED,
             "altered_advice": ALTERED_ADVICE, "misjudged": MISJUDGED,
-            "misjudged_advice": MISJUDGED_ADVICE,
+            "misjudged_advice": MISJUDGED_ADVICE, "unsigned": UNSIGNED,
+            "unsigned_advice": UNSIGNED_ADVICE,
             "status_rules": STATUS_RULES.format(as_of=f.as_of.isoformat()),
             "readings_intro": READINGS_INTRO,
             "isolations_intro": ISOLATIONS_INTRO.format(

@@ -169,19 +169,26 @@ class AuditPdf(PdfDocument):
         elif not i.verdicts_ok:
             head = Mark("cross", self.texts["misjudged"], 15.0)
             extra = [self.texts["misjudged_advice"]]
+        elif not i.signatures_ok:
+            head = Mark("cross", self.texts["unsigned"], 15.0)
+            extra = [self.texts["unsigned_advice"]]
         else:
             head = self.mark("overdue", self.texts["guards_missing"])
             extra = [self.texts["guards_missing_advice"]]
-        if i.ok and not i.guards_intact and not i.verdicts_ok:
+        if i.ok and not i.guards_intact and not (i.verdicts_ok and i.signatures_ok):
             extra.append(self.texts["guards_missing_advice"])
+        if i.ok and not i.verdicts_ok and not i.signatures_ok:
+            extra.append(self.texts["unsigned_advice"])
         facts = f"Records in the store: {i.count}."
         if i.head_sequence is not None:
             facts += f" Last record: #{i.head_sequence}, chain hash {i.head_sha256}."
-        if i.verdicts_said:
-            facts += f" {i.verdicts_said[:1].upper()}{i.verdicts_said[1:]}."
+        for said in (i.verdicts_said, i.signatures_said):
+            if said:
+                facts += f" {said[:1].upper()}{said[1:]}."
         cell = [head, Spacer(1, 1.5 * mm), self.para(i.message, "body"),
                 *[self.para(t, "bold") for t in extra],
-                *[self.para(problem, "body") for problem in i.verdict_problems],
+                *[self.para(problem, "body")
+                  for problem in (*i.verdict_problems, *i.signature_problems)],
                 self.para(facts, "small")]
         table = Table([[cell]], colWidths=[self.width])
         box: tuple[Any, ...] = (("BOX", (0, 0), (-1, -1), 1.5, colors.black) if i.intact else
