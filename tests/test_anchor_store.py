@@ -170,3 +170,15 @@ def test_the_day_sheet_prints_the_stores_head_to_keep(tmp_path: Path, capsys) ->
     assert "Recordschainanchor" in flat
     assert f"workpackverify--anchor{head}" in flat
     assert verify({"db": str(db), "plant": "MV Skerry Lantern"}, str(head), capsys)[0] == 0
+
+
+def test_an_anchor_file_chooses_its_plants_chain_in_an_office_store(
+        filled: dict[str, Any], capsys) -> None:
+    path = take(filled, capsys)
+    if filled["kind"] == "postgresql":  # another plant's chain beside it is not read
+        with open_store(filled["db"], plant="MV Other") as other:
+            other.append(package_id="WP-1", package_sha256="1" * 64, results={},
+                         recorded_by="x", recorded_at=T0, verdict="passed")
+    code, out, err = run(["verify", "--db", filled["db"], "--anchor", str(path)], capsys)
+    assert code == 0 and err == "", err
+    assert len(out.splitlines()) == 3 and "OK, 5 records" in out.splitlines()[0]
