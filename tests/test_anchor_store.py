@@ -93,10 +93,11 @@ def test_an_untouched_store_holds_its_anchor_and_more_records(filled: dict[str, 
                      recorded_at=T0 + dt.timedelta(hours=2), verdict="passed")
     code, lines = verify(filled, str(path), capsys, "--crew",
                          str(write_crew(filled["folder"])))
-    assert code == 0, lines
     assert "OK, 6 records" in lines[0]
     assert "signed by R. Tamsin (LCS-0098) as anchor" in lines[1]
     assert lines[2].endswith("its first 5 records are unchanged")
+    # --crew checks the records' own signatures too: these were written unsigned
+    assert code == 1 and lines[3].endswith("6 records, 6 refused (6 unsigned)")
 
 
 def test_a_whole_chain_rewrite_passes_the_chain_check_and_fails_the_anchor(
@@ -169,3 +170,15 @@ def test_the_day_sheet_prints_the_stores_head_to_keep(tmp_path: Path, capsys) ->
     assert "Recordschainanchor" in flat
     assert f"workpackverify--anchor{head}" in flat
     assert verify({"db": str(db), "plant": "MV Skerry Lantern"}, str(head), capsys)[0] == 0
+
+
+def test_an_anchor_file_chooses_its_plants_chain_in_an_office_store(
+        filled: dict[str, Any], capsys) -> None:
+    path = take(filled, capsys)
+    if filled["kind"] == "postgresql":  # another plant's chain beside it is not read
+        with open_store(filled["db"], plant="MV Other") as other:
+            other.append(package_id="WP-1", package_sha256="1" * 64, results={},
+                         recorded_by="x", recorded_at=T0, verdict="passed")
+    code, out, err = run(["verify", "--db", filled["db"], "--anchor", str(path)], capsys)
+    assert code == 0 and err == "", err
+    assert len(out.splitlines()) == 3 and "OK, 5 records" in out.splitlines()[0]

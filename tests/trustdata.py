@@ -13,7 +13,7 @@ from cryptography.hazmat.primitives.asymmetric.ed25519 import Ed25519PrivateKey
 from workpack.crew_shell import key_file_bytes, write_key_file
 from workpack.signing import public_key_text
 from workpack.store import plant_genesis
-from workpack.store._chain import chain_hash
+from workpack.store._chain import chain_hash, format_timestamp, sha256_hex
 
 PASSPHRASE = "a passphrase of several words"
 # Deterministic keys: the same test gives the same signatures.
@@ -45,6 +45,7 @@ def crew_text(*, revoked: dict[str, str] | None = None) -> str:
 
 
 def write_crew(folder: Path, **options: Any) -> Path:
+    folder.mkdir(parents=True, exist_ok=True)
     path = folder / "crew.yaml"
     path.write_text(crew_text(**options), encoding="utf-8")
     return path
@@ -61,27 +62,31 @@ def key_file(folder: Path, short: str) -> Path:
 
 _HASHED = ("sequence", "package_id", "package_sha256", "results_sha256", "recorded_by",
            "recorded_at", "supersedes", "verdict")
+# What a rewrite may change: the hashed fields and the results they hash.
+_WRITTEN = ("package_id", "package_sha256", "results_json", "results_sha256", "recorded_by",
+            "verdict", "prev_sha256", "chain_sha256")
 
 
 def _rehashed(rows: list[tuple[Any, ...]], plant: str, edit: dict[str, Any],
-              sequence: int) -> list[tuple[str, str, int, str]]:
-    """New (prev, chain, sequence, verdict) of every row, ``edit`` applied to ``sequence``."""
+              sequence: int) -> list[dict[str, Any]]:
+    """Every row's new fields, ``edit`` applied to record ``sequence`` and the whole chain
+    hashed again from the plant's genesis (``results_json`` in ``edit`` is hashed too)."""
     prev = plant_genesis(plant)
     out = []
     for row in rows:
-        fields = dict(zip(_HASHED, row, strict=True))
+        fields = dict(zip(("results_json", *_HASHED), row, strict=True))
         if fields["sequence"] == sequence:
             fields.update(edit)
+            fields["results_sha256"] = sha256_hex(fields["results_json"])
         text_at = fields["recorded_at"]
         if not isinstance(text_at, str):  # PostgreSQL hands back its own type
-            from workpack.store._chain import format_timestamp
             text_at = format_timestamp(text_at)
-        chain = chain_hash(prev, fields["sequence"], fields["package_id"],
-                           fields["package_sha256"], fields["results_sha256"],
-                           fields["recorded_by"], text_at, fields["supersedes"],
-                           fields["verdict"])
-        out.append((prev, chain, fields["sequence"], fields["verdict"]))
-        prev = chain
+        fields["prev_sha256"] = prev
+        fields["chain_sha256"] = prev = chain_hash(
+            prev, fields["sequence"], fields["package_id"], fields["package_sha256"],
+            fields["results_sha256"], fields["recorded_by"], text_at, fields["supersedes"],
+            fields["verdict"])
+        out.append(fields)
     return out
 
 
@@ -94,11 +99,12 @@ def rewrite_sqlite(path: Path, plant: str, sequence: int, edit: dict[str, Any]) 
         raw.execute("BEGIN")
         for name, _ in triggers:
             raw.execute(f"DROP TRIGGER {name}")
-        rows = raw.execute(f"SELECT {', '.join(_HASHED)} FROM records ORDER BY sequence"
-                           ).fetchall()
-        for prev, chain, number, verdict in _rehashed(rows, plant, edit, sequence):
-            raw.execute("UPDATE records SET prev_sha256 = ?, chain_sha256 = ?, verdict = ? "
-                        "WHERE sequence = ?", (prev, chain, verdict, number))
+        rows = raw.execute(f"SELECT results_json, {', '.join(_HASHED)} FROM records "
+                           "ORDER BY sequence").fetchall()
+        for fields in _rehashed(rows, plant, edit, sequence):
+            raw.execute(f"UPDATE records SET {', '.join(f'{c} = ?' for c in _WRITTEN)} "
+                        "WHERE sequence = ?",
+                        (*(fields[c] for c in _WRITTEN), fields["sequence"]))
         for _, sql in triggers:
             raw.execute(sql)
         raw.execute("COMMIT")
@@ -112,10 +118,12 @@ def rewrite_postgres(url: str, plant: str, sequence: int, edit: dict[str, Any]) 
 
     with psycopg.connect(url, autocommit=False) as conn:
         conn.execute("SET LOCAL session_replication_role = replica")
-        rows = conn.execute(f"SELECT {', '.join(_HASHED)} FROM workpack.records WHERE "
-                            "plant = %s ORDER BY sequence", (plant,)).fetchall()
-        for prev, chain, number, verdict in _rehashed(rows, plant, edit, sequence):
-            conn.execute("UPDATE workpack.records SET prev_sha256 = %s, chain_sha256 = %s, "
-                         "verdict = %s WHERE plant = %s AND sequence = %s",
-                         (prev, chain, verdict, plant, number))
+        rows = conn.execute(f"SELECT results_json, {', '.join(_HASHED)} FROM "
+                            "workpack.records WHERE plant = %s ORDER BY sequence",
+                            (plant,)).fetchall()
+        for fields in _rehashed(rows, plant, edit, sequence):
+            conn.execute(f"UPDATE workpack.records SET "
+                         f"{', '.join(f'{c} = %s' for c in _WRITTEN)} "
+                         "WHERE plant = %s AND sequence = %s",
+                         (*(fields[c] for c in _WRITTEN), plant, fields["sequence"]))
         conn.commit()

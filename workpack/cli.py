@@ -375,17 +375,22 @@ class _Progress:
 
 def _cmd_results_template(args: argparse.Namespace) -> int:
     from workpack.forms import results_template
-    from workpack.output import write_all
 
     package, digest = _issued_package(Path(args.package))
-    text = results_template(package, digest)
-    if args.out:
-        out = Path(args.out)
-        write_all(out.parent, {out.name: text.encode()})
-        sys.stdout.write(f"results sheet written to {out}\n")
-    else:
-        sys.stdout.write(text)
+    _print_or_write(results_template(package, digest), args.out, "results sheet")
     return 0
+
+
+def _print_or_write(text: str, out: str | None, what: str) -> None:
+    """``text`` printed, or written whole to the file ``out`` (saying so)."""
+    if out is None:
+        sys.stdout.write(text)
+        return
+    from workpack.output import write_all
+
+    path = Path(out)
+    write_all(path.parent, {path.name: text.encode()})
+    sys.stdout.write(f"{what} written to {path}\n")
 
 
 def _default_db(args: argparse.Namespace) -> str:
@@ -427,6 +432,11 @@ def _cmd_record(args: argparse.Namespace) -> int:
     evaluation = evaluate(package, results, _standards())
     at = args.at or dt.datetime.now(dt.UTC)
     recorded_by = args.by or results.completed_by or "unknown"
+    payload = _signed(args, record_payload(results, evaluation), package_id=package.id,
+                      package_sha256=digest, recorded_by=recorded_by, recorded_at=at,
+                      supersedes=args.supersedes, verdict=evaluation.verdict,
+                      named={"technician": results.completed_by,
+                             "supervisor": results.supervisor})
     with open_store(_default_db(args), plant=package.plant) as store:
         latest = store.latest(package.id)
         if latest is not None and args.supersedes is None:
@@ -434,8 +444,7 @@ def _cmd_record(args: argparse.Namespace) -> int:
                              f"to correct it, record again with --supersedes "
                              f"{latest.sequence}")
         record = store.append(package_id=package.id, package_sha256=digest,
-                              results=record_payload(results, evaluation),
-                              recorded_by=recorded_by, recorded_at=at,
+                              results=payload, recorded_by=recorded_by, recorded_at=at,
                               verdict=evaluation.verdict, supersedes=args.supersedes)
         where = store.location  # a URL's password left out
     sys.stdout.write(evaluation_text(evaluation)
@@ -452,15 +461,52 @@ def _cmd_record(args: argparse.Namespace) -> int:
     return 0
 
 
+def _signed(args: argparse.Namespace, payload: dict[str, Any], **record: Any) -> dict[str, Any]:
+    """The payload with the signatures of ``--sign ROLE=KEYFILE`` (none: unchanged)."""
+    if not args.sign:
+        return payload
+    from workpack.trust_shell import sign_payload
+
+    register = _register(args)
+    if register is None:
+        raise UsageError("--sign: give --crew, the register holding the signers' keys")
+    return sign_payload(register, args.sign, payload, now=dt.datetime.now(dt.UTC), **record)
+
+
+def _add_signing_options(record: argparse.ArgumentParser) -> None:
+    """`record --sign ROLE=KEYFILE` (and --crew, unless the register checks added it)."""
+    from workpack.trust_shell import role_key_file
+
+    if "--crew" not in record._option_string_actions:  # noqa: SLF001 (shared with checks)
+        record.add_argument("--crew", metavar="CREW.yaml",
+                            help="crew register: who may sign, with their public keys")
+    record.add_argument("--sign", action="append", metavar="ROLE=KEYFILE",
+                        type=_option("--sign", role_key_file),
+                        help="sign the record as technician or supervisor with this private "
+                             "key file (repeat for both); its passphrase from "
+                             "WORKPACK_KEY_PASSPHRASE_TECHNICIAN (or _SUPERVISOR), else "
+                             "WORKPACK_KEY_PASSPHRASE, else asked on the terminal")
+
+
 def _cmd_verify(args: argparse.Namespace) -> int:
     from workpack.store import is_server_url, open_store
-    from workpack.trust_shell import anchor_plant, check_anchor, read_anchor
+    from workpack.trust_shell import (
+        anchor_plant,
+        check_anchor,
+        check_signatures,
+        check_verdicts,
+        read_anchor,
+    )
 
     db, plant = _default_db(args), _store_plant(args)
     anchor = read_anchor(args.anchor) if args.anchor else None
     register = _register(args)
+    packages = _read_packages(args.packages) if args.packages else None
     if plant is None and anchor is not None and is_server_url(db):
-        plant = anchor_plant(anchor)  # an anchor says whose chain it is
+        plant = anchor_plant(anchor)  # an anchor file says whose chain it is; a head does not
+        if plant is None:
+            raise UsageError(f"--anchor {args.anchor}: a head typed from a day sheet does not "
+                             "say its plant; name it with --plant")
     plants: list[str | None] = [plant]
     if plant is None and is_server_url(db):  # no plant named: every chain in the store
         with open_store(db, create=False) as store:
@@ -475,6 +521,10 @@ def _cmd_verify(args: argparse.Namespace) -> int:
             result = store.verify()
             findings = (check_anchor(store, anchor, f"--anchor {args.anchor}", register)
                         if anchor is not None else [])
+            if packages is not None:
+                findings += check_verdicts(store, packages, _standards())
+            if register is not None:
+                findings += check_signatures(store, register)
         sys.stdout.write(result.message + "\n")
         failed += not result.ok
         for finding in findings:
@@ -494,7 +544,6 @@ def _register(args: argparse.Namespace) -> Any:
 
 def _cmd_anchor(args: argparse.Namespace) -> int:
     from workpack.crew_shell import parse_time
-    from workpack.output import write_all
     from workpack.store import is_server_url, open_store
     from workpack.trust_shell import anchor_of_store
 
@@ -505,12 +554,7 @@ def _cmd_anchor(args: argparse.Namespace) -> int:
     at = parse_time("--at", args.at, _now)
     with open_store(db, plant=_store_plant(args), create=False) as store:
         text = anchor_of_store(store, register=_register(args), key_file=Path(args.key), at=at)
-    if args.out:
-        out = Path(args.out)
-        write_all(out.parent, {out.name: text.encode()})
-        sys.stdout.write(f"anchor written to {out}\n")
-    else:
-        sys.stdout.write(text)
+    _print_or_write(text, args.out, "anchor")
     return 0
 
 
@@ -553,13 +597,16 @@ def _cmd_audit(args: argparse.Namespace) -> int:
         verification = store.verify()
     report = build_audit(records, packages, verification, since=args.since, until=args.until,
                          plant=args.plant_name, as_of=as_of, standards=_standards(),
-                         default_code_set=args.code_set)
+                         default_code_set=args.code_set, register=_register(args))
     written = write_all(Path(args.out), {
         "audit.html": render_audit_html(report).encode(),
         "audit.pdf": render_audit_pdf(report, args.page_size)})
-    sys.stdout.write(f"{verification.message}\naudit written: "
+    found = report.integrity
+    problems = "".join(f"{problem}\n"
+                       for problem in (*found.verdict_problems, *found.signature_problems))
+    sys.stdout.write(f"{verification.message}\n{problems}audit written: "
                      + ", ".join(str(p) for p in written) + "\n")
-    return 0 if verification.ok else 1
+    return 0 if found.ok and found.verdicts_ok and found.signatures_ok else 1
 
 
 def _cmd_closeout(args: argparse.Namespace) -> int:
@@ -1144,6 +1191,7 @@ def build_parser() -> argparse.ArgumentParser:
                         help="this corrects record N (records are never changed)")
     record.add_argument("--followups", metavar="FILE",
                         help="write follow-up findings (e.g. insulation below minimum) here")
+    _add_signing_options(record)
     record.set_defaults(run=_cmd_record)
 
     verify = commands.add_parser(
@@ -1154,7 +1202,12 @@ def build_parser() -> argparse.ArgumentParser:
                         help="an anchor file `workpack anchor` wrote, or the head a day sheet "
                              "printed (COUNT:HEAD): fails when the store no longer holds it")
     verify.add_argument("--crew", metavar="CREW.yaml",
-                        help="crew register: check who signed the anchor")
+                        help="crew register: check every record's signatures (and the "
+                             "anchor's) against it")
+    verify.add_argument("--packages", action="append", metavar="DIR",
+                        help="folder of issued packages (JSON twins; repeat as needed): judge "
+                             "every record again from its results and its package, and fail "
+                             "where a stored verdict disagrees")
     verify.set_defaults(run=_cmd_verify)
 
     anchor = commands.add_parser(
@@ -1189,6 +1242,8 @@ def build_parser() -> argparse.ArgumentParser:
     audit.add_argument("--code-set", default="ieee43-2013",
                        help="tables for insulation trends whose readings name none")
     audit.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
+    audit.add_argument("--crew", metavar="CREW.yaml",
+                       help="crew register: check every record's signatures against it")
     audit.add_argument("--out", required=True, metavar="DIR", help="folder for the report")
     audit.set_defaults(run=_cmd_audit)
 

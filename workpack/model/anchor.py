@@ -7,12 +7,11 @@ chain it saw, even against someone who rewrote the whole chain and its hashes.
 
 from __future__ import annotations
 
-import datetime as dt
 from typing import Annotated, Literal
 
 from pydantic import AwareDatetime, Field, StringConstraints, field_validator, model_validator
 
-from workpack.model.crew import zoned_time
+from workpack.model.crew import whole_seconds, zoned_time
 from workpack.model.plant import Strict
 from workpack.model.signature import Signature
 
@@ -45,13 +44,7 @@ class AnchorStatement(Strict):
                                 "empty when only the head was kept (e.g. typed from a sheet)")
 
     _zoned = field_validator("taken_at", mode="before")(zoned_time)
-
-    @field_validator("taken_at")
-    @classmethod
-    def _whole_seconds(cls, value: dt.datetime) -> dt.datetime:
-        if value.microsecond:
-            raise ValueError("taken_at is in whole seconds")
-        return value
+    _whole = field_validator("taken_at")(whole_seconds)
 
     @model_validator(mode="after")
     def _trail_covers_chain(self) -> AnchorStatement:
