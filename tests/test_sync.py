@@ -473,3 +473,47 @@ def test_a_bundle_that_does_not_hold_together_is_refused_by_line(
         bundle: Path, change: Any, message: str) -> None:
     with pytest.raises(BundleError, match=message.replace("(", r"\(")):
         read_bundle(rebuilt(bundle.read_bytes(), change), "b.wpb")
+
+
+def test_signed_records_judged_on_board_stand_the_same_ashore(
+        tmp_path: Path, office: str, demo_plan: Path, monkeypatch: pytest.MonkeyPatch,
+        request: pytest.FixtureRequest, capsys) -> None:
+    """The whole way: the demo windlass job recorded and signed by technician and
+    supervisor on board, shipped, imported; the office's verify and audit find the chain
+    intact, both signatures valid and the verdict the same when judged again."""
+    if office.startswith("postgresql"):  # the demo plant's name: a store of its own
+        office = request.getfixturevalue("pg_fresh_url")
+    from test_record import filled_sheet, windlass
+    from trustdata import PASSPHRASE as TRUST_PASSPHRASE
+    from trustdata import key_file, write_crew
+
+    monkeypatch.setenv("WORKPACK_KEY_PASSPHRASE", TRUST_PASSPHRASE)
+    issued = tmp_path / "issued"
+    shutil.copytree(demo_plan, issued)
+    register = write_crew(tmp_path / "crew")
+    quayle, tamsin = key_file(tmp_path, "quayle"), key_file(tmp_path, "penhallow")
+    package = windlass(issued)
+    vessel = tmp_path / "vessel.sqlite"
+    code, _, err = run(["record", str(package), str(filled_sheet(package, tmp_path)), "--db",
+                        str(vessel), "--at", "2026-12-02T16:00Z", "--crew", str(register),
+                        "--sign", f"technician={quayle}", "--sign", f"supervisor={tamsin}"],
+                       capsys)
+    assert code == 0, err
+    code, _, err = run(["sync", "export", "--db", str(vessel), "--out",
+                        str(tmp_path / "b.wpb"), "--sign-as", str(quayle), "--crew",
+                        str(register)], capsys)
+    assert code == 0, err
+    code, out, err = run(["sync", "import", str(tmp_path / "b.wpb"), "--db", office, "--crew",
+                          str(register)], capsys)
+    assert (code, err) == (0, ""), err
+    plant = "MV Skerry Lantern"
+    where = ["--db", office, "--plant", plant, "--crew", str(register)]
+    code, out, err = run(["verify", *where, "--packages", str(issued)], capsys)
+    assert code == 0, out + err
+    assert "OK, 1 record" in out
+    assert "all signed by the technician and the supervisor with valid keys" in out
+    assert "verdicts judged again from results and packages: 1 record, all agree" in out
+    code, out, err = run(["audit", *where, "--packages", str(issued), "--as-of",
+                          "2026-12-03", "--out", str(tmp_path / "audit")], capsys)
+    assert code == 0, out + err
+    assert "RECORDS INTACT" in (tmp_path / "audit" / "audit.html").read_text(encoding="utf-8")
