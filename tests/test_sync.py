@@ -107,8 +107,9 @@ def take(office: str, crew: dict[str, Path], capsys: Any, *bundles: Path
 
 
 def rows(location: str, plant: str) -> list[tuple[int, str]]:
-    """The plant's records as (number, chain hash); none where it has none yet."""
-    with open_store(location, plant=plant) as store:
+    """The plant's records as (number, chain hash); none where it has none yet ("": the
+    unnamed store's)."""
+    with open_store(location, plant=plant or None) as store:
         return [(r.sequence, r.chain_sha256) for r in store.records()]
 
 
@@ -517,3 +518,39 @@ def test_signed_records_judged_on_board_stand_the_same_ashore(
                           "2026-12-03", "--out", str(tmp_path / "audit")], capsys)
     assert code == 0, out + err
     assert "RECORDS INTACT" in (tmp_path / "audit" / "audit.html").read_text(encoding="utf-8")
+
+
+def test_a_store_made_before_stores_knew_their_plant_ships_under_a_name_given(
+        tmp_path: Path, office: str, crew: dict[str, Path], capsys) -> None:
+    """A schema-1 vessel file (its chain begun from the unnamed genesis) is exported with
+    --plant-name; PostgreSQL keeps such a chain as begun, and an SQLite file made for the
+    named plant refuses it as another chain."""
+    old = tmp_path / "old.sqlite"
+    shutil.copy(Path(__file__).parent / "fixtures" / "store-v1.sqlite", old)
+    code, _, err = run(["sync", "export", "--db", str(old), "--out", str(tmp_path / "o.wpb"),
+                        "--sign-as", str(crew["key"]), "--crew", str(crew["register"])],
+                       capsys)
+    assert code == 2 and "does not know its plant's name; give it with --plant-name" in err
+    plant = f"MV Old Store {next(_plants):04d}"
+    code, out, err = run(["sync", "export", "--db", str(old), "--out", str(tmp_path / "o.wpb"),
+                          "--sign-as", str(crew["key"]), "--crew", str(crew["register"]),
+                          "--plant-name", plant], capsys)
+    assert (code, err) == (0, "")
+    code, out, err = take(office, crew, capsys, tmp_path / "o.wpb")
+    if office.startswith("postgresql"):
+        assert (code, err) == (0, "")
+        assert rows(office, plant) == rows(str(old), "")
+        verified(office, plant)
+    else:
+        assert code == 2 and "fork at record 1: the records brought here begin a " \
+            "different chain" in err
+
+
+def test_plant_name_cannot_rename_a_named_store(tmp_path: Path, plant: str,
+                                                crew: dict[str, Path], capsys) -> None:
+    with open_store(tmp_path / "v.sqlite", plant=plant) as store:
+        add(store, 1)
+    code, _, err = run(["sync", "export", "--db", str(tmp_path / "v.sqlite"), "--out",
+                        str(tmp_path / "b.wpb"), "--sign-as", str(crew["key"]), "--crew",
+                        str(crew["register"]), "--plant-name", "MV Other"], capsys)
+    assert code == 2 and f"holds the records of plant {plant!r}" in err

@@ -853,6 +853,9 @@ def _cmd_sync_export(args: argparse.Namespace) -> int:
     at = (args.at or _now()).replace(microsecond=0)
     identity = open_signing_key(register, Path(args.sign_as), at)
     with open_store(_default_db(args), plant=_store_plant(args), create=False) as store:
+        if store.plant and args.plant_name and args.plant_name != store.plant:
+            raise UsageError(f"--plant-name {args.plant_name}: {store.location} holds the "
+                             f"records of plant {store.plant!r}")
         plant = store.plant or args.plant_name
         if not plant:
             raise UsageError(f"{store.location}: this store does not know its plant's name; "
