@@ -554,3 +554,37 @@ def test_plant_name_cannot_rename_a_named_store(tmp_path: Path, plant: str,
                         str(tmp_path / "b.wpb"), "--sign-as", str(crew["key"]), "--crew",
                         str(crew["register"]), "--plant-name", "MV Other"], capsys)
     assert code == 2 and f"holds the records of plant {plant!r}" in err
+
+
+def test_sync_json_reports_follow_their_shipped_schemas(
+        tmp_path: Path, plant: str, crew: dict[str, Path], capsys) -> None:
+    from test_cli_conventions import printed_json, valid
+
+    vessel = tmp_path / "vessel.sqlite"
+    with open_store(vessel, plant=plant) as store:
+        add(store, 3)
+    base = ["--sign-as", str(crew["key"]), "--crew", str(crew["register"]), "--json"]
+    first = valid("sync export", printed_json(["sync", "export", "--db", str(vessel),
+                                               "--out", str(tmp_path / "b1.wpb"), *base],
+                                              capsys))
+    assert (first["after"], first["through"], first["records"], first["signed_by"]) == \
+        (0, 3, 3, "P-7")
+    with open_store(vessel, plant=plant) as store:
+        add(store, 1, start=3)
+    second = valid("sync export", printed_json(
+        ["sync", "export", "--db", str(vessel), "--out", str(tmp_path / "b2.wpb"),
+         "--since", str(tmp_path / "b1.wpb"), *base], capsys))
+    assert (second["after"], second["through"], second["records"]) == (3, 4, 1)
+    office = str(tmp_path / "office.sqlite")
+    report = valid("sync import", printed_json(
+        ["sync", "import", str(tmp_path / "b2.wpb"), str(tmp_path / "missing.wpb"), "--db",
+         office, "--crew", str(crew["register"]), "--json"], capsys, status=2))
+    assert not report["ok"]
+    assert [(b["file"], b["imported"]) for b in report["bundles"]] == [
+        (str(tmp_path / "missing.wpb"), False), (str(tmp_path / "b2.wpb"), False)]
+    assert "gap" in report["bundles"][1]["refused"]
+    report = valid("sync import", printed_json(
+        ["sync", "import", str(tmp_path / "b2.wpb"), str(tmp_path / "b1.wpb"), "--db",
+         office, "--crew", str(crew["register"]), "--json"], capsys))
+    assert report["ok"] and [b["added"] for b in report["bundles"]] == [3, 1]
+    assert report["bundles"][1]["head"]["sequence"] == 4
