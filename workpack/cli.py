@@ -504,7 +504,11 @@ def _signed(args: argparse.Namespace, payload: dict[str, Any], **record: Any) ->
 
 def _add_signing_options(record: argparse.ArgumentParser) -> None:
     """`record --sign ROLE=KEYFILE` (and --crew, unless the register checks added it)."""
-    from workpack.trust_shell import role_key_file
+
+    def role_key_file(text: str) -> Any:  # the trust shell loads only when --sign is given
+        from workpack.trust_shell import role_key_file
+
+        return role_key_file(text)
 
     if "--crew" not in record._option_string_actions:  # noqa: SLF001 (shared with checks)
         record.add_argument("--crew", metavar="CREW.yaml",
