@@ -56,7 +56,7 @@ def test_a_failed_job_rewritten_as_passed_is_caught_by_verify_and_audit(
     sheet = filled_sheet(package, tmp_path, dry_out_mohm="0.5 MΩ")  # below its minimum
     code, out, err = run(["record", str(package), str(sheet), "--db", store["db"],
                           "--at", "2026-12-02T16:00Z"], capsys)
-    assert code == 0, err
+    assert code == 1, err  # recorded, and found wanting
     assert any("FAILED" in line for line in out), out
     where = ["--db", store["db"], "--plant", PLANT]
     code, out, _ = run(["verify", *where, "--packages", str(issued)], capsys)
@@ -212,7 +212,7 @@ def test_a_signed_record_rewritten_with_the_whole_chain_loses_its_signatures(
     package = windlass(issued)
     sheet = filled_sheet(package, tmp_path, dry_out_mohm="0.5 MΩ")
     assert record(store, package, sheet, "2026-12-02T16:00Z", capsys,
-                  *signed_by(signing))[0] == 0
+                  *signed_by(signing))[0] == 1  # recorded, and found wanting
     rewrite(store, 1, {"verdict": "passed"})
     code, out, _ = run(["verify", "--db", store["db"], "--plant", PLANT, "--crew",
                         str(signing["crew"]), "--packages", str(issued)], capsys)
