@@ -503,7 +503,11 @@ def _signed(args: argparse.Namespace, payload: dict[str, Any], **record: Any) ->
 
 def _add_signing_options(record: argparse.ArgumentParser) -> None:
     """`record --sign ROLE=KEYFILE` (and --crew, unless the register checks added it)."""
-    from workpack.trust_shell import role_key_file
+
+    def role_key_file(text: str) -> tuple[str, Path]:  # loaded on use: --help stays quick
+        from workpack.trust_shell import role_key_file as convert
+
+        return convert(text)
 
     if "--crew" not in record._option_string_actions:  # noqa: SLF001 (shared with checks)
         record.add_argument("--crew", metavar="CREW.yaml",
