@@ -64,8 +64,9 @@ MISJUDGED = "VERDICTS DO NOT STAND: JUDGED AGAIN FROM THE RESULTS"
 MISJUDGED_ADVICE = ("The hash chain verifies, but the records listed here do not give their "
                     "stored verdict when their own results are judged against their packages "
                     "(or could not be judged again): the records were rewritten or written "
-                    "outside workpack, or a package was changed after issue. The statuses "
-                    "below are those judged again; find out who wrote the stored ones.")
+                    "outside workpack, a package was changed after issue, or this workpack "
+                    "judges differently from the one that recorded them (see its release "
+                    "notes). The statuses below are those judged again; find out which.")
 UNSIGNED = "SIGNATURES REFUSED: CHECKED AGAINST THE CREW REGISTER"
 UNSIGNED_ADVICE = ("The records listed here are not signed by their technician and "
                    "supervisor with keys the crew register held at the time: unsigned, "
