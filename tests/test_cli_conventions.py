@@ -34,7 +34,7 @@ NO_JSON = {
     "key create": "prints the register lines to paste (YAML) and writes a key file",
     "key rotate": "prints the register lines to paste (YAML) and writes a key file",
     "key revoke": "prints the register lines to paste (YAML)",
-    "anchor": "prints the signed anchor, JSON already (or writes it to a file)",
+    "anchor": "prints the anchor file itself, which is JSON",
 }
 
 
@@ -331,7 +331,7 @@ def test_a_store_named_by_a_setting_need_not_exist_yet_but_one_typed_must(
     missing = str(tmp_path / "none.sqlite")
     args = parsed(plan_args(places), {"WORKPACK_DB": missing,
                                       "XDG_CONFIG_HOME": str(places["config"])})
-    assert args.db == missing and _history(args, plant) == (History(), None)
+    assert args.db == missing and _history(args, plant) == History()
     args = parsed(plan_args(places, "--db", missing), {})
     with pytest.raises(UsageError, match="no such records store"):
         _history(args, plant)

@@ -280,7 +280,7 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     rules = Path(args.rules)
     ruleset = load_ruleset(rules)
     weights = load_weights(rules / "search-weights.yaml")
-    history, head = _history(args, plant)
+    history = _history(args, plant)
     out = Path(args.out)
     replaces = _earlier_plan(day, plant.plant.name, _default_db(args))
     if out.is_dir():  # refuse before the work, not after it; write_all asks again, locked
@@ -298,7 +298,7 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     files[f"day-{day.isoformat()}.pdf"] = render_day_sheet(
         result.plant, day, result.packages, result.scheduled, result.deferred,
         [c.text for c in result.conflicts], result.crew_hours, args.page_size,
-        chain_head=head)
+        chain_head=_chain_head(args, plant))
     written = write_all(out, files, replaces=replaces)
     if args.json:
         from workpack.reports import PlannedPackage, PlanReport
@@ -316,9 +316,8 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     return 0
 
 
-def _history(args: argparse.Namespace, plant: Any) -> tuple[Any, Any]:
-    """What the records store says, if there is one (``--db``, or beside the plant), and
-    its chain's head (None without records), which the day sheet prints as an anchor."""
+def _history(args: argparse.Namespace, plant: Any) -> Any:
+    """What the records store says, if there is one (``--db``, or beside the plant)."""
     from workpack.history import History, history_from_records
     from workpack.store import is_server_url, open_store
 
@@ -327,10 +326,22 @@ def _history(args: argparse.Namespace, plant: Any) -> tuple[Any, Any]:
     if not server and not Path(db).exists():
         if _typed(args, "db"):  # named elsewhere (environment, workpack.toml): none yet
             raise UsageError(f"--db {args.db}: no such records store")
-        return History(), None
+        return History()
     with open_store(db, plant=plant.plant.name if server else None, create=False) as store:
-        return (history_from_records(store.records(), plant.plant.code_set.rotating_machines),
-                store.head())
+        return history_from_records(store.records(), plant.plant.code_set.rotating_machines)
+
+
+def _chain_head(args: argparse.Namespace, plant: Any) -> Any:
+    """The plan's records store's head (None without a store or records): the day sheet
+    prints it as an anchor to keep elsewhere. Read after ``_history`` found the store."""
+    from workpack.store import is_server_url, open_store
+
+    db = _default_db(args)
+    server = is_server_url(db)
+    if not server and not Path(db).exists():
+        return None
+    with open_store(db, plant=plant.plant.name if server else None, create=False) as store:
+        return store.head()
 
 
 def _earlier_plan(day: Any, plant: str, db: str) -> Any:
@@ -397,18 +408,6 @@ def _cmd_results_template(args: argparse.Namespace) -> int:
     else:
         sys.stdout.write(text)
     return 0
-
-
-def _print_or_write(text: str, out: str | None, what: str) -> None:
-    """``text`` printed, or written whole to the file ``out`` (saying so)."""
-    if out is None:
-        sys.stdout.write(text)
-        return
-    from workpack.output import write_all
-
-    path = Path(out)
-    write_all(path.parent, {path.name: text.encode()})
-    sys.stdout.write(f"{what} written to {path}\n")
 
 
 def _default_db(args: argparse.Namespace) -> str:
@@ -505,10 +504,10 @@ def _signed(args: argparse.Namespace, payload: dict[str, Any], **record: Any) ->
 def _add_signing_options(record: argparse.ArgumentParser) -> None:
     """`record --sign ROLE=KEYFILE` (and --crew, unless the register checks added it)."""
 
-    def role_key_file(text: str) -> Any:  # the trust shell loads only when --sign is given
-        from workpack.trust_shell import role_key_file
+    def role_key_file(text: str) -> tuple[str, Path]:  # loaded on use: --help stays quick
+        from workpack.trust_shell import role_key_file as convert
 
-        return role_key_file(text)
+        return convert(text)
 
     if "--crew" not in record._option_string_actions:  # noqa: SLF001 (shared with checks)
         record.add_argument("--crew", metavar="CREW.yaml",
@@ -553,26 +552,26 @@ def _cmd_verify(args: argparse.Namespace) -> int:
                     sys.stdout.write(f"{store.location}: OK, empty store (no plant's records "
                                      "yet)\n")
                 return 0
-    chains, found = [], []
+    chains = []
+    checks: list[Any] = []
     for name in plants:
         with open_store(db, plant=name, create=False) as store:
-            result = store.verify()
-            findings = (check_anchor(store, anchor, f"--anchor {args.anchor}", register)
-                        if anchor is not None else [])
+            chains.append(_chain_report(name, store.verify()))
+            if anchor is not None:
+                checks += check_anchor(store, anchor, f"--anchor {args.anchor}", register)
             if packages is not None:
-                findings += check_verdicts(store, packages, _standards())
+                checks += check_verdicts(store, packages, _standards())
             if register is not None:
-                findings += check_signatures(store, register)
-        chains.append(_chain_report(name, result))
-        found.append(findings)
-    ok = all(chain.ok for chain in chains) and all(f.ok for fs in found for f in fs)
+                checks += check_signatures(store, register)
+    ok = all(c.ok for c in chains) and all(c.ok for c in checks)
     if args.json:
         from workpack.reports import VerifyReport
 
-        sys.stdout.write(_to_json(VerifyReport(ok=ok, chains=tuple(chains))))
+        sys.stdout.write(_to_json(VerifyReport(ok=ok, chains=tuple(chains),
+                                               checks=tuple(checks))))
     else:
-        sys.stdout.write("".join(chain.message + "\n" + "".join(f.line + "\n" for f in fs)
-                                 for chain, fs in zip(chains, found, strict=True)))
+        sys.stdout.write("".join(chain.message + "\n" for chain in chains))
+        sys.stdout.write("".join(check.message + "\n" for check in checks))
     return 0 if ok else 1
 
 
@@ -607,7 +606,14 @@ def _cmd_anchor(args: argparse.Namespace) -> int:
     at = parse_time("--at", args.at, _now)
     with open_store(db, plant=_store_plant(args), create=False) as store:
         text = anchor_of_store(store, register=_register(args), key_file=Path(args.key), at=at)
-    _print_or_write(text, args.out, "anchor")
+    if args.out:
+        from workpack.output import write_all
+
+        out = Path(args.out)
+        write_all(out.parent, {out.name: text.encode()})
+        sys.stdout.write(f"anchor written to {out}\n")
+    else:
+        sys.stdout.write(text)
     return 0
 
 
@@ -662,19 +668,19 @@ def _cmd_audit(args: argparse.Namespace) -> int:
         pdf = render_audit_pdf(report, args.page_size)
     written = write_all(Path(args.out), {"audit.html": html, "audit.pdf": pdf})
     found = report.integrity
-    ok = found.ok and found.verdicts_ok and found.signatures_ok
+    problems = (*found.verdict_problems, *found.signature_problems)
     if args.json:
         from workpack.reports import AuditReport
 
         sys.stdout.write(_to_json(AuditReport(
             chain=_chain_report(_store_plant(args), verification), packages=len(packages),
-            records=len(records), files=tuple(str(p) for p in written))))
+            records=len(records), files=tuple(str(p) for p in written),
+            problems=problems)))
     else:
-        problems = "".join(f"{problem}\n" for problem in (*found.verdict_problems,
-                                                          *found.signature_problems))
-        sys.stdout.write(f"{verification.message}\n{problems}audit written: "
+        sys.stdout.write(f"{verification.message}\n"
+                         + "".join(f"{problem}\n" for problem in problems) + "audit written: "
                          + ", ".join(str(p) for p in written) + "\n")
-    return 0 if ok else 1
+    return 0 if verification.ok and not problems else 1
 
 
 def _cmd_closeout(args: argparse.Namespace) -> int:
@@ -950,7 +956,7 @@ def _since(text: str, store: Any, register: Any) -> Any:
                              f"{store.plant!r}, whose records {store.location} holds")
         return bundle.through if bundle.through.sequence else None
     anchor = read_anchor(text)
-    failed = [finding.line for finding in check_anchor(store, anchor, f"--since {text}",
+    failed = [finding.message for finding in check_anchor(store, anchor, f"--since {text}",
                                                        register) if not finding.ok]
     if failed:
         raise UsageError("nothing exported: " + "; ".join(failed))

@@ -78,21 +78,36 @@ class ChainReport:
 
 
 @dataclass(frozen=True)
+class CheckFinding:
+    """One check ``verify`` makes beyond the chain: an anchor (and who signed it), the
+    verdicts judged again, the records' signatures; one line each."""
+
+    ok: bool
+    message: str
+
+
+@dataclass(frozen=True)
 class VerifyReport:
-    """``verify``: every chain checked (exit 1 if any is broken)."""
+    """``verify``: every chain checked, and what --anchor, --packages and --crew asked
+    (exit 1 if any chain is broken or any check fails)."""
 
     ok: bool
     chains: tuple[ChainReport, ...]
+    checks: tuple[CheckFinding, ...] = ()
 
 
 @dataclass(frozen=True)
 class AuditReport:
-    """``audit``: the chain it read and the report files (exit 1 if the chain broke)."""
+    """``audit``: the chain it read and the report files (exit 1 if the chain broke, or a
+    verdict or signature does not stand)."""
 
     chain: ChainReport
     packages: int
     records: int
     files: tuple[str, ...]
+    # verdicts that disagree when judged again, and records whose signatures are refused
+    # (--crew), as the report lists them at its top (exit 1 if any)
+    problems: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)

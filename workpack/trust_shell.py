@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import datetime as dt
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -25,16 +24,8 @@ from workpack.errors import UsageError
 from workpack.model.anchor import AnchorFile
 from workpack.model.crew import CrewRegister
 from workpack.model.package import WorkPackage
+from workpack.reports import CheckFinding as Finding
 from workpack.store import ChainHead, RecordStore
-
-
-@dataclass(frozen=True)
-class Finding:
-    """One line ``verify`` prints beside the chain's verdict, and whether it is a failure."""
-
-    ok: bool
-    line: str
-
 
 # --- anchors -------------------------------------------------------------------------------
 
