@@ -924,16 +924,25 @@ def _store_options(parser: argparse.ArgumentParser) -> None:
 # --- ship records ashore: `workpack sync export|import` -------------------------------------
 
 
-def _read_bundle_file(path: Path) -> Any:
-    from workpack.sync import BundleError, read_bundle
+def _bundle_bytes(path: Path, *, first_line: bool = False) -> bytes:
+    """A bundle file's bytes (or its first line only); BundleError if it cannot be read."""
+    from workpack.sync import BundleError
 
     try:
-        data = path.read_bytes()
+        if first_line:
+            with path.open("rb") as handle:
+                return handle.readline().removesuffix(b"\n")
+        return path.read_bytes()
     except FileNotFoundError:
         raise BundleError(f"{path}: no such file") from None
     except OSError as error:
         raise BundleError(f"{path}: cannot read it ({error.strerror or error})") from None
-    return read_bundle(data, str(path))
+
+
+def _read_bundle_file(path: Path) -> Any:
+    from workpack.sync import read_bundle
+
+    return read_bundle(_bundle_bytes(path), str(path))
 
 
 def _since(text: str, store: Any, register: Any) -> Any:
@@ -1015,16 +1024,9 @@ def _cmd_sync_export(args: argparse.Namespace) -> int:
 
 def _bundle_header(path: Path) -> Any:
     """A bundle file's manifest and signature, read without its records."""
-    from workpack.sync import BundleError, read_header
+    from workpack.sync import read_header
 
-    try:
-        with path.open("rb") as handle:
-            first = handle.readline()
-    except FileNotFoundError:
-        raise BundleError(f"{path}: no such file") from None
-    except OSError as error:
-        raise BundleError(f"{path}: cannot read it ({error.strerror or error})") from None
-    return read_header(first.removesuffix(b"\n"), str(path))
+    return read_header(_bundle_bytes(path, first_line=True), str(path))
 
 
 def _cmd_sync_import(args: argparse.Namespace) -> int:
