@@ -8,7 +8,7 @@ BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 RUNTIME_STAMP := $(VENV)/.installed-runtime
 
-.PHONY: demo test coverage lint bench bench-scale bench-store-pg fuzz clean
+.PHONY: demo test coverage lint bench bench-scale bench-store-pg bench-sync fuzz clean
 
 $(RUNTIME_STAMP): pyproject.toml
 	$(PYTHON) -m venv $(VENV)
@@ -58,6 +58,11 @@ bench-scale: $(STAMP)
 # Needs a PostgreSQL server's programs (initdb, pg_ctl); takes a few minutes.
 bench-store-pg: $(STAMP)
 	$(BIN)/python bench/bench_store_pg.py
+
+# A fleet's records shipped ashore: 40 plants x 2,500 records in signed bundles imported
+# into PostgreSQL, then verify and audit (needs PostgreSQL's programs); a few minutes.
+bench-sync: $(STAMP)
+	$(BIN)/python bench/bench_sync.py
 
 # Structure-aware fuzzing of every input through the command line (tests/fuzz/).
 N ?= 2000

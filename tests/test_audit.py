@@ -506,3 +506,77 @@ def test_importing_the_audit_and_the_record_format_loads_no_database_pdf_or_temp
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                           check=True)
     assert done.stdout.strip() == "[]"
+
+
+# --- every verdict judged again (issue 13.1) ----------------------------------------------
+
+
+def test_every_record_is_judged_again_and_agrees(report: AuditReport) -> None:
+    assert report.integrity.intact and report.integrity.verdicts_ok
+    assert report.integrity.verdicts_said == ("verdicts judged again from results and "
+                                              "packages: 6 records, all agree")
+
+
+@pytest.mark.parametrize("payload_too", [False, True])
+def test_a_verdict_rewritten_with_the_whole_chain_is_caught_by_judging_again(
+        db: Path, tmp_path: Path, standards: dict, payload_too: bool) -> None:
+    """Record 3 (P3, failed: R1 below its limit) rewritten as passed, the chain rehashed and
+    the triggers put back: the chain verifies, judging again does not."""
+    import json
+
+    from trustdata import rewrite_sqlite
+
+    copy = tmp_path / "rewritten.sqlite"
+    shutil.copyfile(db, copy)
+    edit: dict[str, Any] = {"verdict": "passed"}
+    if payload_too:  # the stored evaluation says passed as well
+        with open_store(copy, create=False) as store:
+            payload = json.loads(store.get(3).results_json)
+        payload["evaluation"]["verdict"] = "passed"
+        payload["evaluation"]["deviations"] = []
+        edit["results_json"] = json.dumps(payload, sort_keys=True, separators=(",", ":"),
+                                          ensure_ascii=False)
+    rewrite_sqlite(copy, "", 3, edit)
+    rewritten = audit(copy, standards)
+    assert rewritten.integrity.ok and rewritten.integrity.guards_intact  # the chain is fine
+    assert not rewritten.integrity.intact
+    [problem] = rewritten.integrity.verdict_problems
+    stored = ("stored verdict 'passed'" if payload_too else
+              "stored verdicts 'passed' (chain) and 'failed' (evaluation)")
+    assert problem.startswith(f"record 3 ({P3.id}): {stored}, but its results judged "
+                              "against its package give 'failed' (S2.R1")
+    assert by_id(rewritten)[P3.id].status == "failed"  # judged again, not as stored
+    html = render_audit_html(rewritten)
+    assert html.index("VERDICTS DO NOT STAND") < html.index("Packages and their status")
+    assert "RECORDS INTACT" not in html and 'class="integrity broken"' in html
+    text = pdf_text(render_audit_pdf(rewritten))
+    assert text.index("VERDICTS DO NOT STAND") < text.index("Packages and their status")
+    assert "record 3 (" in text
+
+
+def test_a_record_of_a_changed_package_cannot_be_judged_again_and_says_so(
+        db: Path, standards: dict) -> None:
+    changed = {**PACKAGES, P1.id: P1.model_copy(update={"title": "Retitled after issue"})}
+    [problem] = audit(db, standards, packages=changed).integrity.verdict_problems
+    assert problem == (f"record 1 ({P1.id}) cannot be judged again: it answers another "
+                       "version of the package (its package hash differs from the issued "
+                       "package given)")
+
+
+def test_with_a_crew_register_unsigned_records_are_refused_at_the_top(
+        db: Path, standards: dict) -> None:
+    from crewdata import person, register
+
+    crew = register(person("LCS-0107", "S. Quayle"))
+    with open_store(db, create=False) as store:
+        report = build_audit(store.records(), PACKAGES, store.verify(), since=None,
+                             until=None, plant=PLANT, as_of=AS_OF, standards=standards,
+                             register=crew)
+    assert report.integrity.ok and report.integrity.verdicts_ok
+    assert not report.integrity.intact and len(report.integrity.signature_problems) == 6
+    assert report.integrity.signatures_said.endswith("6 records, 6 refused (6 unsigned)")
+    html = render_audit_html(report)
+    assert html.index("SIGNATURES REFUSED") < html.index("Packages and their status")
+    assert "record 1 (" in html and "unsigned (no technician" in html
+    text = pdf_text(render_audit_pdf(report))
+    assert text.index("SIGNATURES REFUSED") < text.index("Packages and their status")

@@ -34,6 +34,7 @@ NO_JSON = {
     "key create": "prints the register lines to paste (YAML) and writes a key file",
     "key rotate": "prints the register lines to paste (YAML) and writes a key file",
     "key revoke": "prints the register lines to paste (YAML)",
+    "anchor": "prints the anchor file itself, which is JSON",
 }
 
 

@@ -124,10 +124,11 @@ def written(standards: dict) -> tuple[Results, Evaluation, dict[str, Any]]:
 
 def test_a_new_payload_states_its_version_and_reads_back_whole(written) -> None:
     results, evaluation, data = written
-    assert data["payload_version"] == PAYLOAD_VERSION == 2
+    assert data["payload_version"] == PAYLOAD_VERSION == 3
+    assert "signatures" not in data  # unsigned: version 2's shape with its new number
     payload = read_payload(Stored(canonical_json(data)))
-    assert (payload.payload_version, payload.results, payload.evaluation) == \
-        (2, results, evaluation)
+    assert (payload.payload_version, payload.results, payload.evaluation,
+            payload.signatures) == (3, results, evaluation, ())
 
 
 def test_a_payload_without_its_version_is_not_made_by_accident(written) -> None:

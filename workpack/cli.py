@@ -297,7 +297,8 @@ def _cmd_plan(args: argparse.Namespace) -> int:
             rendering(done, len(result.packages))
     files[f"day-{day.isoformat()}.pdf"] = render_day_sheet(
         result.plant, day, result.packages, result.scheduled, result.deferred,
-        [c.text for c in result.conflicts], result.crew_hours, args.page_size)
+        [c.text for c in result.conflicts], result.crew_hours, args.page_size,
+        chain_head=_chain_head(args, plant))
     written = write_all(out, files, replaces=replaces)
     if args.json:
         from workpack.reports import PlannedPackage, PlanReport
@@ -328,6 +329,19 @@ def _history(args: argparse.Namespace, plant: Any) -> Any:
         return History()
     with open_store(db, plant=plant.plant.name if server else None, create=False) as store:
         return history_from_records(store.records(), plant.plant.code_set.rotating_machines)
+
+
+def _chain_head(args: argparse.Namespace, plant: Any) -> Any:
+    """The plan's records store's head (None without a store or records): the day sheet
+    prints it as an anchor to keep elsewhere. Read after ``_history`` found the store."""
+    from workpack.store import is_server_url, open_store
+
+    db = _default_db(args)
+    server = is_server_url(db)
+    if not server and not Path(db).exists():
+        return None
+    with open_store(db, plant=plant.plant.name if server else None, create=False) as store:
+        return store.head()
 
 
 def _earlier_plan(day: Any, plant: str, db: str) -> Any:
@@ -435,6 +449,11 @@ def _cmd_record(args: argparse.Namespace) -> int:
     evaluation = evaluate(package, results, _standards())
     at = args.at or dt.datetime.now(dt.UTC)
     recorded_by = args.by or results.completed_by or "unknown"
+    payload = _signed(args, record_payload(results, evaluation), package_id=package.id,
+                      package_sha256=digest, recorded_by=recorded_by, recorded_at=at,
+                      supersedes=args.supersedes, verdict=evaluation.verdict,
+                      named={"technician": results.completed_by,
+                             "supervisor": results.supervisor})
     with open_store(_default_db(args), plant=package.plant) as store:
         latest = store.latest(package.id)
         if latest is not None and args.supersedes is None:
@@ -442,8 +461,7 @@ def _cmd_record(args: argparse.Namespace) -> int:
                              f"to correct it, record again with --supersedes "
                              f"{latest.sequence}")
         record = store.append(package_id=package.id, package_sha256=digest,
-                              results=record_payload(results, evaluation),
-                              recorded_by=recorded_by, recorded_at=at,
+                              results=payload, recorded_by=recorded_by, recorded_at=at,
                               verdict=evaluation.verdict, supersedes=args.supersedes)
         where = store.location  # a URL's password left out
     if not args.json:  # said at once: the record is stored whatever happens next
@@ -471,10 +489,56 @@ def _cmd_record(args: argparse.Namespace) -> int:
     return 0 if evaluation.verdict == "passed" else 1  # recorded either way; 1: found wanting
 
 
+def _signed(args: argparse.Namespace, payload: dict[str, Any], **record: Any) -> dict[str, Any]:
+    """The payload with the signatures of ``--sign ROLE=KEYFILE`` (none: unchanged)."""
+    if not args.sign:
+        return payload
+    from workpack.trust_shell import sign_payload
+
+    register = _register(args)
+    if register is None:
+        raise UsageError("--sign: give --crew, the register holding the signers' keys")
+    return sign_payload(register, args.sign, payload, now=dt.datetime.now(dt.UTC), **record)
+
+
+def _add_signing_options(record: argparse.ArgumentParser) -> None:
+    """`record --sign ROLE=KEYFILE` (and --crew, unless the register checks added it)."""
+
+    def role_key_file(text: str) -> tuple[str, Path]:  # loaded on use: --help stays quick
+        from workpack.trust_shell import role_key_file as convert
+
+        return convert(text)
+
+    if "--crew" not in record._option_string_actions:  # noqa: SLF001 (shared with checks)
+        record.add_argument("--crew", metavar="CREW.yaml",
+                            help="crew register: who may sign, with their public keys")
+    record.add_argument("--sign", action="append", metavar="ROLE=KEYFILE",
+                        type=_option("--sign", role_key_file),
+                        help="sign the record as technician or supervisor with this private "
+                             "key file (repeat for both); its passphrase from "
+                             "WORKPACK_KEY_PASSPHRASE_TECHNICIAN (or _SUPERVISOR), else "
+                             "WORKPACK_KEY_PASSPHRASE, else asked on the terminal")
+
+
 def _cmd_verify(args: argparse.Namespace) -> int:
     from workpack.store import is_server_url, open_store
+    from workpack.trust_shell import (
+        anchor_plant,
+        check_anchor,
+        check_signatures,
+        check_verdicts,
+        read_anchor,
+    )
 
     db, plant = _default_db(args), _store_plant(args)
+    anchor = read_anchor(args.anchor) if args.anchor else None
+    register = _register(args)
+    packages = _read_packages(args.packages) if args.packages else None
+    if plant is None and anchor is not None and is_server_url(db):
+        plant = anchor_plant(anchor)  # an anchor file says whose chain it is; a head does not
+        if plant is None:
+            raise UsageError(f"--anchor {args.anchor}: a head typed from a day sheet does not "
+                             "say its plant; name it with --plant")
     plants: list[str | None] = [plant]
     if plant is None and is_server_url(db):  # no plant named: every chain in the store
         with open_store(db, create=False) as store:
@@ -489,17 +553,26 @@ def _cmd_verify(args: argparse.Namespace) -> int:
                                      "yet)\n")
                 return 0
     chains = []
+    checks: list[Any] = []
     for name in plants:
         with open_store(db, plant=name, create=False) as store:
             chains.append(_chain_report(name, store.verify()))
+            if anchor is not None:
+                checks += check_anchor(store, anchor, f"--anchor {args.anchor}", register)
+            if packages is not None:
+                checks += check_verdicts(store, packages, _standards())
+            if register is not None:
+                checks += check_signatures(store, register)
+    ok = all(c.ok for c in chains) and all(c.ok for c in checks)
     if args.json:
         from workpack.reports import VerifyReport
 
-        sys.stdout.write(_to_json(VerifyReport(ok=all(c.ok for c in chains),
-                                               chains=tuple(chains))))
+        sys.stdout.write(_to_json(VerifyReport(ok=ok, chains=tuple(chains),
+                                               checks=tuple(checks))))
     else:
         sys.stdout.write("".join(chain.message + "\n" for chain in chains))
-    return 0 if all(chain.ok for chain in chains) else 1
+        sys.stdout.write("".join(check.message + "\n" for check in checks))
+    return 0 if ok else 1
 
 
 def _chain_report(plant: str | None, verification: Any) -> Any:
@@ -510,6 +583,38 @@ def _chain_report(plant: str | None, verification: Any) -> Any:
                        first_break=verification.first_break,
                        guards_intact=verification.guards_intact,
                        message=verification.message)
+
+
+def _register(args: argparse.Namespace) -> Any:
+    """The crew register of --crew, loaded and checked; None without the option."""
+    if not getattr(args, "crew", None):
+        return None
+    from workpack.crew_shell import load_crew
+
+    return load_crew(Path(args.crew))[0]
+
+
+def _cmd_anchor(args: argparse.Namespace) -> int:
+    from workpack.crew_shell import parse_time
+    from workpack.store import is_server_url, open_store
+    from workpack.trust_shell import anchor_of_store
+
+    db = _default_db(args)
+    if is_server_url(db) and not args.plant:
+        raise UsageError("--plant: an office store holds many plants; name the one whose "
+                         "chain to anchor")
+    at = parse_time("--at", args.at, _now)
+    with open_store(db, plant=_store_plant(args), create=False) as store:
+        text = anchor_of_store(store, register=_register(args), key_file=Path(args.key), at=at)
+    if args.out:
+        from workpack.output import write_all
+
+        out = Path(args.out)
+        write_all(out.parent, {out.name: text.encode()})
+        sys.stdout.write(f"anchor written to {out}\n")
+    else:
+        sys.stdout.write(text)
+    return 0
 
 
 def _issued_package(path: Path) -> tuple[Any, str]:
@@ -555,22 +660,27 @@ def _cmd_audit(args: argparse.Namespace) -> int:
         progress.stage("judging")
         report = build_audit(records, packages, verification, since=args.since,
                              until=args.until, plant=args.plant_name, as_of=as_of,
-                             standards=_standards(), default_code_set=args.code_set)
+                             standards=_standards(), default_code_set=args.code_set,
+                             register=_register(args))
         progress.stage("HTML")
         html = render_audit_html(report).encode()
         progress.stage("PDF")
         pdf = render_audit_pdf(report, args.page_size)
     written = write_all(Path(args.out), {"audit.html": html, "audit.pdf": pdf})
+    found = report.integrity
+    problems = (*found.verdict_problems, *found.signature_problems)
     if args.json:
         from workpack.reports import AuditReport
 
         sys.stdout.write(_to_json(AuditReport(
             chain=_chain_report(_store_plant(args), verification), packages=len(packages),
-            records=len(records), files=tuple(str(p) for p in written))))
+            records=len(records), files=tuple(str(p) for p in written),
+            problems=problems)))
     else:
-        sys.stdout.write(f"{verification.message}\naudit written: "
+        sys.stdout.write(f"{verification.message}\n"
+                         + "".join(f"{problem}\n" for problem in problems) + "audit written: "
                          + ", ".join(str(p) for p in written) + "\n")
-    return 0 if verification.ok else 1
+    return 0 if verification.ok and not problems else 1
 
 
 def _cmd_closeout(args: argparse.Namespace) -> int:
@@ -579,6 +689,9 @@ def _cmd_closeout(args: argparse.Namespace) -> int:
     from workpack.render.closeout import render_closeout
     from workpack.store import open_store
 
+    if not args.sign_as and (args.crew or args.at):
+        raise UsageError(f"{'--crew' if args.crew else '--at'}: only with --sign-as KEYFILE, "
+                         "to sign the close-out")
     package, digest = _issued_package(Path(args.package))
     with open_store(_default_db(args), plant=_store_plant(args) or package.plant,
                     create=False) as store:
@@ -599,17 +712,42 @@ def _cmd_closeout(args: argparse.Namespace) -> int:
                          f"--supersedes {record.sequence})") from None
     pdf = render_closeout(package, payload.evaluation, record, results=payload.results,
                           page_size=args.page_size)
+    signed, signer = "", None
+    if args.sign_as:
+        pdf, signed, signer = _signed_closeout(args, pdf, package, record)
     out = Path(args.out)
     write_all(out.parent, {out.name: pdf})
     if args.json:
         from workpack.reports import CloseoutReport
 
         sys.stdout.write(_to_json(CloseoutReport(package=package.id, sequence=record.sequence,
-                                                 verdict=record.verdict, file=str(out))))
+                                                 verdict=record.verdict, file=str(out),
+                                                 signed_by=signer)))
         return 0
     sys.stdout.write(f"record {record.sequence} of {package.id} ({record.verdict}) "
-                     f"written to {out}\n")
+                     f"written to {out}{signed}\n")
     return 0
+
+
+def _signed_closeout(args: argparse.Namespace, pdf: bytes, package: Any,
+                     record: Any) -> tuple[bytes, str, str]:
+    """The close-out with a PAdES signature by the key in --sign-as, what to say, and the
+    signer's id."""
+    from workpack.crew_shell import load_crew, open_signing_key
+    from workpack.render.pdf_signature import sign_pdf, signer_certificate
+
+    if not args.crew:
+        raise UsageError("--sign-as: give the crew register holding the key too (--crew)")
+    register, _ = load_crew(Path(args.crew))
+    at = (args.at or _now()).replace(microsecond=0)
+    identity = open_signing_key(register, Path(args.sign_as), at)
+    certificate = signer_certificate(identity.private_key, identity.person, identity.key,
+                                     register.crew.name)
+    signed = sign_pdf(pdf, identity.private_key, certificate, signed_at=at,
+                      reason=f"close-out of record {record.sequence} of {package.id}: "
+                             f"{record.verdict}", location=package.plant)
+    return signed, (f", signed by {identity.person.name} ({identity.person.id}) with key "
+                    f"{identity.key.id}"), identity.person.id
 
 
 def _cmd_schema(args: argparse.Namespace) -> int:
@@ -781,6 +919,211 @@ def _store_options(parser: argparse.ArgumentParser) -> None:
                                         "(PLANT.records.sqlite) is used; with a postgresql:// "
                                         "--db, the plant (its name, or its file) whose chain "
                                         "to use")
+
+
+# --- ship records ashore: `workpack sync export|import` -------------------------------------
+
+
+def _bundle_bytes(path: Path, *, first_line: bool = False) -> bytes:
+    """A bundle file's bytes (or its first line only); BundleError if it cannot be read."""
+    from workpack.sync import BundleError
+
+    try:
+        if first_line:
+            with path.open("rb") as handle:
+                return handle.readline().removesuffix(b"\n")
+        return path.read_bytes()
+    except FileNotFoundError:
+        raise BundleError(f"{path}: no such file") from None
+    except OSError as error:
+        raise BundleError(f"{path}: cannot read it ({error.strerror or error})") from None
+
+
+def _read_bundle_file(path: Path) -> Any:
+    from workpack.sync import read_bundle
+
+    return read_bundle(_bundle_bytes(path), str(path))
+
+
+def _since(text: str, store: Any, register: Any) -> Any:
+    """``--since``: the last record the office holds already, as a ``ChainHead`` (None for
+    none): an earlier bundle's last record, or an anchor (its file, or COUNT:HEAD from a
+    day sheet) that the store must still contain."""
+    from workpack.anchors import anchor_head
+    from workpack.model.anchor import AnchorFile
+    from workpack.sync import check_signature
+    from workpack.trust_shell import check_anchor, read_anchor
+
+    path = Path(text)
+    if path.is_file() and path.read_bytes()[:12] == b'{"manifest":':
+        bundle = _read_bundle_file(path)
+        signed = check_signature(register, bundle)
+        if not signed.ok:
+            raise UsageError(f"--since {text}: its signature is refused: {signed.message}")
+        if bundle.plant != store.plant:
+            raise UsageError(f"--since {text}: a bundle of plant {bundle.plant!r}, not of "
+                             f"{store.plant!r}, whose records {store.location} holds")
+        return bundle.through if bundle.through.sequence else None
+    anchor = read_anchor(text)
+    failed = [finding.message for finding in check_anchor(store, anchor, f"--since {text}",
+                                                       register) if not finding.ok]
+    if failed:
+        raise UsageError("nothing exported: " + "; ".join(failed))
+    return anchor_head(anchor.anchor) if isinstance(anchor, AnchorFile) else anchor
+
+
+def _cmd_sync_export(args: argparse.Namespace) -> int:
+    from workpack.crew_shell import load_crew, open_signing_key
+    from workpack.output import write_all
+    from workpack.signing import sign_digest
+    from workpack.store import open_store, plant_genesis
+    from workpack.sync import SIGNED_AS, bundle_bytes, rows_after
+
+    register, _ = load_crew(Path(args.crew))
+    at = (args.at or _now()).replace(microsecond=0)
+    identity = open_signing_key(register, Path(args.sign_as), at)
+    with open_store(_default_db(args), plant=_store_plant(args), create=False) as store:
+        if store.plant and args.plant_name and args.plant_name != store.plant:
+            raise UsageError(f"--plant-name {args.plant_name}: {store.location} holds the "
+                             f"records of plant {store.plant!r}")
+        plant = store.plant or args.plant_name
+        if not plant:
+            raise UsageError(f"{store.location}: this store does not know its plant's name; "
+                             "give it with --plant-name")
+        after = _since(args.since, store, register) if args.since else None
+        verification = store.verify(anchor=after)
+        if not verification.ok:
+            raise UsageError(f"nothing exported: {verification.message}")
+        genesis = plant_genesis(store.plant)
+        rows = rows_after(store.records(), after, genesis)
+        where = store.location
+
+    def sign(digest: str) -> Any:
+        return sign_digest(identity.private_key, digest, signed_as=SIGNED_AS,
+                           person=identity.person.id, key=identity.key.id, signed_at=at)
+
+    data = bundle_bytes(plant=plant, genesis=genesis, after=after, rows=rows,
+                        exported_at=at, sign=sign)
+    out = Path(args.out)
+    write_all(out.parent, {out.name: data})
+    first = after.sequence + 1 if after is not None else 1
+    if args.json:
+        from workpack.reports import SyncExportReport
+
+        sys.stdout.write(_to_json(SyncExportReport(
+            plant=plant, store=where, after=first - 1,
+            through=rows[-1].sequence if rows else first - 1, records=len(rows),
+            signed_by=identity.person.id, file=str(out))))
+        return 0
+    what = (f"records {first} to {rows[-1].sequence}" if rows else
+            f"no records after record {first - 1}")
+    sys.stdout.write(f"{where}: {what} of plant {plant} written to {out} ({len(data):,} "
+                     f"bytes), signed by {identity.person.name} ({identity.person.id})\n")
+    return 0
+
+
+def _bundle_header(path: Path) -> Any:
+    """A bundle file's manifest and signature, read without its records."""
+    from workpack.sync import read_header
+
+    return read_header(_bundle_bytes(path, first_line=True), str(path))
+
+
+def _cmd_sync_import(args: argparse.Namespace) -> int:
+    from workpack.crew_shell import load_crew
+    from workpack.reports import BundleOutcome
+    from workpack.store import open_store
+    from workpack.sync import check_signature, import_order
+
+    register, _ = load_crew(Path(args.crew))
+    outcomes: list[BundleOutcome] = []
+
+    def refuse(name: str, why: str, plant: str | None = None) -> None:
+        outcomes.append(BundleOutcome(file=name, imported=False, plant=plant, added=0,
+                                      already_held=0, head=None, refused=why))
+        sys.stderr.write(f"{name}: refused, nothing imported from it: {why}\n")
+
+    # Every bundle's header and signature first, to put them in chain order; each bundle
+    # is then read whole (and its signature checked again) only when its turn comes, so
+    # memory holds one bundle at a time.
+    headers = {}
+    for name in args.bundles:
+        try:
+            header = _bundle_header(Path(name))
+        except WorkpackError as error:
+            refuse(name, error.format_message())
+            continue
+        check = check_signature(register, header)
+        if check.ok:
+            headers[id(header[0])] = (name, header[0])
+        else:
+            refuse(name, f"its signature: {check.message}", header[0].plant)
+    for manifest in import_order(manifest for _, manifest in headers.values()):
+        name = headers[id(manifest)][0]
+        try:
+            bundle = _read_bundle_file(Path(name))
+            check = check_signature(register, bundle)
+            if not check.ok or bundle.manifest != manifest:
+                raise UsageError(f"its signature: {check.message}" if not check.ok else
+                                 "the file changed while it was being imported")
+            with open_store(args.db, plant=bundle.plant) as store:
+                done = store.import_rows(bundle.rows, after=bundle.after,
+                                         genesis=bundle.manifest.genesis)
+        except WorkpackError as error:
+            refuse(name, error.format_message(), manifest.plant)
+            continue
+        outcomes.append(BundleOutcome(file=name, imported=True, plant=done.plant,
+                                      added=done.added, already_held=done.already_held,
+                                      head=done.head, refused=None))
+        if not args.json:
+            held = f", {done.already_held} held already" if done.already_held else ""
+            last = done.head.sequence if done.head is not None else 0
+            sys.stdout.write(f"{name}: {bundle.describe()}: {done.added} added{held}; the "
+                             f"chain of {done.plant} now ends at record {last}\n")
+    ok = all(outcome.imported for outcome in outcomes)
+    if args.json:
+        from workpack.reports import SyncImportReport
+
+        sys.stdout.write(_to_json(SyncImportReport(ok=ok, bundles=tuple(outcomes))))
+    return 0 if ok else 2
+
+
+def _add_sync_commands(commands: Any) -> None:
+    sync = commands.add_parser(
+        "sync", help="ship a vessel's new records ashore as one signed file, and take them in",
+        description="A vessel keeps its own store and works offline; `sync export` writes "
+                    "its records after an earlier export into one signed file (mail, USB, "
+                    "satellite), `sync import` adds them to the office's store. The key's "
+                    "passphrase comes from WORKPACK_KEY_PASSPHRASE or the terminal.")
+    actions = sync.add_subparsers(dest="sync_action", required=True, metavar="ACTION")
+    export = actions.add_parser("export", help="a signed bundle of the records after --since")
+    _store_options(export)
+    export.add_argument("--since", metavar="ANCHOR",
+                        help="what the office holds already: an anchor file (workpack "
+                             "anchor), COUNT:HEAD as a day sheet prints it, or the last "
+                             "bundle sent; the records after it are exported (default: "
+                             "every record)")
+    export.add_argument("--out", required=True, metavar="BUNDLE", help="the file to write")
+    export.add_argument("--sign-as", required=True, metavar="KEYFILE",
+                        help="your private key file: the bundle is signed with it")
+    export.add_argument("--crew", required=True, metavar="CREW.yaml",
+                        help="the crew register holding your key")
+    export.add_argument("--plant-name", help="the plant's name, for a store made before "
+                                             "stores knew it")
+    export.add_argument("--at", type=_option("--at", _moment),
+                        help="the export's time (default: now; UTC unless a zone is given)")
+    _json_option(export)
+    export.set_defaults(run=_cmd_sync_export)
+    take = actions.add_parser("import", help="add bundles to a store; the same bundle twice "
+                                             "adds nothing")
+    take.add_argument("bundles", nargs="+", metavar="BUNDLE",
+                      help="bundle files, of any vessels, in any order")
+    take.add_argument("--db", required=True, help="the store to add to: a postgresql:// URL "
+                                                  "(or an SQLite file)")
+    take.add_argument("--crew", required=True, metavar="CREW.yaml",
+                      help="the crew register holding the exporters' public keys")
+    _json_option(take)
+    take.set_defaults(run=_cmd_sync_import)
 
 
 # --- the crew register and signing keys: `workpack crew`, `workpack key` ---------------------
@@ -998,13 +1341,43 @@ def build_parser() -> argparse.ArgumentParser:
                         help="this corrects record N (records are never changed)")
     record.add_argument("--followups", metavar="FILE",
                         help="write follow-up findings (e.g. insulation below minimum) here")
+    _add_signing_options(record)
     _json_option(record)
     record.set_defaults(run=_cmd_record)
 
-    verify = commands.add_parser("verify", help="check the records store's hash chain")
+    verify = commands.add_parser(
+        "verify", help="check the records store's hash chain (and, given them, an anchor "
+                       "taken earlier)")
     _store_options(verify)
+    verify.add_argument("--anchor", metavar="FILE|COUNT:HEAD",
+                        help="an anchor file `workpack anchor` wrote, or the head a day sheet "
+                             "printed (COUNT:HEAD): fails when the store no longer holds it")
+    verify.add_argument("--crew", metavar="CREW.yaml",
+                        help="crew register: check every record's signatures (and the "
+                             "anchor's) against it")
+    verify.add_argument("--packages", action="append", metavar="DIR",
+                        help="folder of issued packages (JSON twins; repeat as needed): judge "
+                             "every record again from its results and its package, and fail "
+                             "where a stored verdict disagrees")
     _json_option(verify)
     verify.set_defaults(run=_cmd_verify)
+
+    anchor = commands.add_parser(
+        "anchor", help="a signed statement of the records chain's head, to keep elsewhere",
+        description="Prints (or writes) the plant, the number of records, the last chain "
+                    "hash and the time, signed with a key of the crew register (its "
+                    "passphrase from WORKPACK_KEY_PASSPHRASE, or asked on the terminal). "
+                    "Kept outside the store, it lets `workpack verify --anchor FILE` show "
+                    "later that the store still holds these records unchanged.")
+    _store_options(anchor)
+    anchor.add_argument("--crew", required=True, metavar="CREW.yaml",
+                        help="crew register holding the signer's key")
+    anchor.add_argument("--key", required=True, metavar="KEYFILE",
+                        help="the signer's private key file")
+    anchor.add_argument("--at", metavar="TIME",
+                        help="time of the anchor, with its zone (default: now)")
+    anchor.add_argument("--out", metavar="FILE", help="write it here (default: print)")
+    anchor.set_defaults(run=_cmd_anchor)
 
     audit = commands.add_parser(
         "audit", help="audit report (HTML and PDF) of the packages issued and their records")
@@ -1021,6 +1394,8 @@ def build_parser() -> argparse.ArgumentParser:
     audit.add_argument("--code-set", default="ieee43-2013",
                        help="tables for insulation trends whose readings name none")
     audit.add_argument("--page-size", choices=["A4", "Letter"], help="paper (default A4)")
+    audit.add_argument("--crew", metavar="CREW.yaml",
+                       help="crew register: check every record's signatures against it")
     audit.add_argument("--out", required=True, metavar="DIR", help="folder for the report")
     _json_option(audit)
     audit.set_defaults(run=_cmd_audit)
@@ -1033,6 +1408,14 @@ def build_parser() -> argparse.ArgumentParser:
                           help="record number (default: the package's latest)")
     closeout.add_argument("--page-size", choices=["A4", "Letter"], help="paper (default A4)")
     closeout.add_argument("--out", required=True, metavar="FILE", help="PDF to write")
+    closeout.add_argument("--sign-as", metavar="KEYFILE",
+                          help="sign the PDF (PAdES) with this private key file; its "
+                               "passphrase from WORKPACK_KEY_PASSPHRASE or the terminal")
+    closeout.add_argument("--crew", metavar="CREW.yaml",
+                          help="with --sign-as: the crew register holding the key")
+    closeout.add_argument("--at", type=_option("--at", _moment),
+                          help="with --sign-as: the signing time (default: now; UTC unless "
+                               "a zone is given)")
     _json_option(closeout)
     closeout.set_defaults(run=_cmd_closeout)
 
@@ -1122,6 +1505,7 @@ def build_parser() -> argparse.ArgumentParser:
     schema.set_defaults(run=_cmd_schema)
 
     _add_crew_commands(commands)
+    _add_sync_commands(commands)
     _explain_conventions(parser)
     return parser
 

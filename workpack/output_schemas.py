@@ -44,6 +44,8 @@ OUTPUTS: dict[str, str] = {
     "import-assets": "workpack.reports:ImportReport",
     "export": "workpack.reports:ExportReport",
     "crew check": "workpack.reports:CrewCheckReport",
+    "sync export": "workpack.reports:SyncExportReport",
+    "sync import": "workpack.reports:SyncImportReport",
 }
 DIALECT = "https://json-schema.org/draft/2020-12/schema"
 

@@ -9,14 +9,18 @@ The payload
     The store keeps, for each record, the canonical JSON of a ``RecordPayload``
     (``Record.results_json``; the store itself neither knows nor checks its shape)::
 
-        {"payload_version": 2,
+        {"payload_version": 3,
          "results":    the results exactly as entered (model.results.Results),
-         "evaluation": what they showed (model.evaluation.Evaluation)}
+         "evaluation": what they showed (model.evaluation.Evaluation),
+         "signatures": the technician's and supervisor's (model.signature.Signature),
+                       left out when the record is unsigned}
 
     Version 1, written before payloads carried their version, is the same without
     ``payload_version``; it reads unchanged (tests/fixtures/records-v1 holds such
     payloads). A payload of a later version is refused, saying that a newer workpack
-    wrote it. A new version adds a branch to ``_Versioned._upgrade`` and a fixture.
+    wrote it. Version 2 is version 3 without signatures (it reads unchanged). A new
+    version adds a branch to ``_Versioned._upgrade`` and a fixture. What the signatures
+    cover is ``workpack.record_signatures``.
 
     ``read_payload`` reads a record's whole payload; ``read_for_planning`` only what the
     planner's history needs (``PlanningView``), about a third quicker, since planning
@@ -55,6 +59,7 @@ from pydantic import (
 
 from workpack.model.evaluation import Evaluation, Outcome
 from workpack.model.results import Results
+from workpack.model.signature import Signature
 
 __all__ = [
     "OUTCOME_WORDS",
@@ -76,7 +81,7 @@ __all__ = [
     "utc_text",
 ]
 
-PAYLOAD_VERSION = 2
+PAYLOAD_VERSION = 3
 
 
 class PayloadError(ValueError):
@@ -116,6 +121,7 @@ class RecordPayload(_Versioned):
 
     results: Results
     evaluation: Evaluation
+    signatures: tuple[Signature, ...] = ()
 
 
 class _ResultsPlanned(BaseModel):
@@ -139,10 +145,14 @@ class PlanningView(_Versioned):
 _STORED = "stored payload"  # the validation context of a payload read from the store
 
 
-def record_payload(results: Results, evaluation: Evaluation) -> dict[str, Any]:
-    """The payload of a new record, as the plain JSON data ``RecordStore.append`` takes."""
+def record_payload(results: Results, evaluation: Evaluation,
+                   signatures: Iterable[Signature] = ()) -> dict[str, Any]:
+    """The payload of a new record, as the plain JSON data ``RecordStore.append`` takes
+    (``signatures`` left out when there are none)."""
+    signed = tuple(signatures)
     return RecordPayload(payload_version=PAYLOAD_VERSION, results=results,
-                         evaluation=evaluation).model_dump(mode="json")
+                         evaluation=evaluation, signatures=signed).model_dump(
+                             mode="json", exclude=set() if signed else {"signatures"})
 
 
 # --- reading a stored record ------------------------------------------------------------

@@ -78,21 +78,36 @@ class ChainReport:
 
 
 @dataclass(frozen=True)
+class CheckFinding:
+    """One check ``verify`` makes beyond the chain: an anchor (and who signed it), the
+    verdicts judged again, the records' signatures; one line each."""
+
+    ok: bool
+    message: str
+
+
+@dataclass(frozen=True)
 class VerifyReport:
-    """``verify``: every chain checked (exit 1 if any is broken)."""
+    """``verify``: every chain checked, and what --anchor, --packages and --crew asked
+    (exit 1 if any chain is broken or any check fails)."""
 
     ok: bool
     chains: tuple[ChainReport, ...]
+    checks: tuple[CheckFinding, ...] = ()
 
 
 @dataclass(frozen=True)
 class AuditReport:
-    """``audit``: the chain it read and the report files (exit 1 if the chain broke)."""
+    """``audit``: the chain it read and the report files (exit 1 if the chain broke, or a
+    verdict or signature does not stand)."""
 
     chain: ChainReport
     packages: int
     records: int
     files: tuple[str, ...]
+    # verdicts that disagree when judged again, and records whose signatures are refused
+    # (--crew), as the report lists them at its top (exit 1 if any)
+    problems: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -101,6 +116,41 @@ class CloseoutReport:
     sequence: int
     verdict: str
     file: str
+    signed_by: str | None = None  # the signer's id in the crew register (--sign-as)
+
+
+@dataclass(frozen=True)
+class SyncExportReport:
+    """``sync export``: the bundle written and the records it holds."""
+
+    plant: str
+    store: str
+    after: int  # the last record the office holds already (0: none)
+    through: int  # the bundle's last record (= after when it holds none)
+    records: int
+    signed_by: str  # the exporter's id in the crew register
+    file: str
+
+
+@dataclass(frozen=True)
+class BundleOutcome:
+    """One bundle given to ``sync import``: taken in, or refused and why."""
+
+    file: str
+    imported: bool
+    plant: str | None  # None where the bundle could not be read
+    added: int
+    already_held: int
+    head: ChainHead | None  # the plant's chain after the import
+    refused: str | None  # why it was refused, one line
+
+
+@dataclass(frozen=True)
+class SyncImportReport:
+    """``sync import``: every bundle, in the order handled (exit 2 if any was refused)."""
+
+    ok: bool
+    bundles: tuple[BundleOutcome, ...]
 
 
 @dataclass(frozen=True)

@@ -17,8 +17,14 @@ Rules the report follows:
 - Status: ``completed`` (latest effective verdict passed), ``failed`` (failed), ``open``
   (no record, or the latest is incomplete, and the package is dated ``as_of`` or later),
   ``overdue`` (the same, dated before ``as_of``).
+- Every record is judged again from its results and its package (``workpack.rejudge``):
+  a stored verdict that disagrees is an integrity failure at the top of the report, and
+  the status, readings and deviations shown are those judged again (the stored evaluation
+  only where the package was not given or the record could not be judged).
+- Given a crew register, every record's signatures are checked against it
+  (``workpack.record_signatures``); a record refused is an integrity failure too.
 - Readings are shown as entered (the text or number written on the sheet) beside the SI
-  values the evaluation in the record derived from them; nothing is recomputed.
+  values the evaluation derived from them.
 - Isolations not restored are taken from every package's latest effective record (date
   range not applied: a lock left on last month is still on), plant filter applied.
 - Insulation trends: see ``audit.trends``.
@@ -43,9 +49,11 @@ from workpack.audit.report import (
 )
 from workpack.audit.trends import insulation_trends
 from workpack.electrical.standards import CodeSet
-from workpack.model.evaluation import ReadingVerdict
+from workpack.model.crew import CrewRegister
+from workpack.model.evaluation import Evaluation, ReadingVerdict
 from workpack.model.package import WorkPackage
 from workpack.model.results import LockRecord, Results
+from workpack.record_signatures import SignatureReport, check_records
 from workpack.records import (
     ReadBack,
     entered_text,
@@ -53,6 +61,7 @@ from workpack.records import (
     read_back,
     superseded_by,
 )
+from workpack.rejudge import Rejudging, rejudge
 from workpack.store._chain import package_sha256
 
 if TYPE_CHECKING:  # types only: the audit reads what the shell has read
@@ -63,8 +72,10 @@ def build_audit(records: Iterable[Record], packages: Mapping[str, WorkPackage],
                 verification: Verification, *, since: dt.date | None,
                 until: dt.date | None, plant: str | None, as_of: dt.date,
                 standards: Mapping[str, CodeSet],
-                default_code_set: str = "ieee43-2013") -> AuditReport:
-    """The audit of ``records`` against the issued ``packages`` (id → package).
+                default_code_set: str = "ieee43-2013",
+                register: CrewRegister | None = None) -> AuditReport:
+    """The audit of ``records`` against the issued ``packages`` (id → package); with a
+    crew ``register``, every record's signatures are checked against it too.
 
     ``default_code_set`` is the plant's code set for the trend judgement where a reading's
     limit names none (a plant's ``code_set.rotating_machines``); see the module docstring
@@ -86,14 +97,17 @@ def build_audit(records: Iterable[Record], packages: Mapping[str, WorkPackage],
     for record in stored:
         by_package[record.package_id].append(record)
     latest = {pid: read_back(record) for pid, record in latest_effective(stored).items()}
+    judged = rejudge(stored, packages, standards, hashes)
 
     audits = []
     for pid in sorted(packages, key=lambda i: (packages[i].date, i)):
         package = packages[pid]
         if not flt.covers(package.date) or (plant is not None and package.plant != plant):
             continue
+        read = latest.get(pid)
+        again = judged.evaluations.get(read.record.sequence) if read is not None else None
         audits.append(_package_audit(package, [ref(r) for r in by_package.get(pid, [])],
-                                     latest.get(pid), as_of))
+                                     read, again, as_of))
 
     def plant_of(pid: str, read: ReadBack[Record]) -> str | None:
         if pid in packages:
@@ -114,22 +128,30 @@ def build_audit(records: Iterable[Record], packages: Mapping[str, WorkPackage],
 
     listed = {a.package_id for a in audits}
     trends = insulation_trends(packages, latest, listed, flt, standards, default_code_set)
-    return AuditReport(flt, _integrity(verification), tuple(audits), tuple(isolations),
-                       trends, tuple(unmatched))
+    signed = check_records(register, stored) if register is not None else None
+    return AuditReport(flt, _integrity(verification, judged, signed), tuple(audits),
+                       tuple(isolations), trends, tuple(unmatched))
 
 
-def _integrity(verification: Verification) -> Integrity:
+def _integrity(verification: Verification, judged: Rejudging,
+               signed: SignatureReport | None) -> Integrity:
     head = verification.head
     return Integrity(ok=verification.ok, guards_intact=verification.guards_intact,
                      message=verification.message, count=verification.count,
                      head_sequence=head.sequence if head is not None else None,
-                     head_sha256=head.chain_sha256 if head is not None else None)
+                     head_sha256=head.chain_sha256 if head is not None else None,
+                     verdict_problems=tuple(d.message for d in judged.disagreements),
+                     verdicts_said=judged.summary,
+                     signature_problems=tuple(r.message for r in signed.failing)
+                     if signed is not None else (),
+                     signatures_said=signed.summary if signed is not None else "")
 
 
 def _package_audit(package: WorkPackage, refs: list[RecordRef], read: ReadBack[Record] | None,
-                   as_of: dt.date) -> PackageAudit:
+                   again: Evaluation | None, as_of: dt.date) -> PackageAudit:
     status: Status
-    verdict = read.record.verdict if read is not None else None
+    verdict = (again.verdict if again is not None else
+               read.record.verdict if read is not None else None)
     if verdict == "passed":
         status = "completed"
     elif verdict == "failed":
@@ -140,7 +162,8 @@ def _package_audit(package: WorkPackage, refs: list[RecordRef], read: ReadBack[R
         return PackageAudit(package.id, package.plant, package.date, package.title,
                             package.item, status, None, tuple(refs), (), (), None, None, None)
     latest = next(r for r in refs if r.sequence == read.record.sequence)
-    results, evaluation = read.results, read.evaluation
+    results = read.results
+    evaluation = again if again is not None else read.evaluation
     lines = tuple(_reading_line(v, results) for v in evaluation.readings) if evaluation else ()
     return PackageAudit(
         package.id, package.plant, package.date, package.title, package.item, status, latest,

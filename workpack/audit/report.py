@@ -40,11 +40,27 @@ class Integrity:
     count: int  # records in the store
     head_sequence: int | None
     head_sha256: str | None
+    # Every record judged again (``workpack.rejudge``): stored verdicts that disagree, or
+    # records that could not be judged though their package was given, one line each.
+    verdict_problems: tuple[str, ...] = ()
+    verdicts_said: str = ""  # one line: how many were judged again, and found
+    # Every record's signatures checked against a crew register, where one was given
+    # (``workpack.record_signatures``): the records refused, one line each.
+    signature_problems: tuple[str, ...] = ()
+    signatures_said: str = ""  # one line: how many were checked ("" when not checked)
+
+    @property
+    def verdicts_ok(self) -> bool:
+        return not self.verdict_problems
+
+    @property
+    def signatures_ok(self) -> bool:
+        return not self.signature_problems
 
     @property
     def intact(self) -> bool:
-        """Chain and guards both as written: anything else is shown prominently."""
-        return self.ok and self.guards_intact
+        """Chain, guards, verdicts and signatures as written: else shown prominently."""
+        return self.ok and self.guards_intact and self.verdicts_ok and self.signatures_ok
 
 
 @dataclass(frozen=True)

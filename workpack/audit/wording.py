@@ -60,6 +60,18 @@ GUARDS_MISSING_ADVICE = ("The hash chain still verifies, but the store's append-
                          "were removed or changed outside workpack. Keep a copy of the file "
                          "as it is and find out who edited it.")
 ALTERED = "RECORDS ALTERED: VERIFICATION FAILED"
+MISJUDGED = "VERDICTS DO NOT STAND: JUDGED AGAIN FROM THE RESULTS"
+MISJUDGED_ADVICE = ("The hash chain verifies, but the records listed here do not give their "
+                    "stored verdict when their own results are judged against their packages "
+                    "(or could not be judged again): the records were rewritten or written "
+                    "outside workpack, a package was changed after issue, or this workpack "
+                    "judges differently from the one that recorded them (see its release "
+                    "notes). The statuses below are those judged again; find out which.")
+UNSIGNED = "SIGNATURES REFUSED: CHECKED AGAINST THE CREW REGISTER"
+UNSIGNED_ADVICE = ("The records listed here are not signed by their technician and "
+                   "supervisor with keys the crew register held at the time: unsigned, "
+                   "signed with a key it does not know or had revoked, or changed since they "
+                   "were signed. Nobody can be held to what they say until this is explained.")
 ALTERED_ADVICE = ("Everything below is read from the store as it now is. It cannot be "
                   "relied on until the break is explained.")
 
@@ -130,7 +142,9 @@ def texts(report: AuditReport) -> dict[str, str]:
     return {"title": TITLE, "filter": filter_shown(f),
             "intact": INTACT, "guards_missing": GUARDS_MISSING,
             "guards_missing_advice": GUARDS_MISSING_ADVICE, "altered": ALTERED,
-            "altered_advice": ALTERED_ADVICE,
+            "altered_advice": ALTERED_ADVICE, "misjudged": MISJUDGED,
+            "misjudged_advice": MISJUDGED_ADVICE, "unsigned": UNSIGNED,
+            "unsigned_advice": UNSIGNED_ADVICE,
             "status_rules": STATUS_RULES.format(as_of=f.as_of.isoformat()),
             "readings_intro": READINGS_INTRO,
             "isolations_intro": ISOLATIONS_INTRO.format(

@@ -56,6 +56,14 @@ def zoned_time(value: Any) -> Any:
     return value
 
 
+def whole_seconds(value: dt.datetime) -> dt.datetime:
+    """After validation: a signed time is kept to the second (what is signed is its text)."""
+    if value.microsecond:
+        raise ValueError(f"{value.isoformat()} has fractions of a second: signed times are "
+                         "in whole seconds")
+    return value
+
+
 def decode_base64(text: str, size: int, what: str) -> bytes:
     """Standard base64 (RFC 4648 section 4, with padding) of exactly ``size`` bytes."""
     try:

@@ -8,12 +8,11 @@ supervisor, or given an earlier time no longer verifies.
 
 from __future__ import annotations
 
-import datetime as dt
 from typing import Literal
 
 from pydantic import AwareDatetime, Field, field_validator
 
-from workpack.model.crew import SIGNATURE_BYTES, decode_base64, zoned_time
+from workpack.model.crew import SIGNATURE_BYTES, decode_base64, whole_seconds, zoned_time
 from workpack.model.plant import ID_RULE, Id, Strict
 
 
@@ -37,13 +36,7 @@ class Signature(Strict):
                                  "+MIR7pvoQf2AFMUTBA=="])
 
     _zoned = field_validator("signed_at", mode="before")(zoned_time)
-
-    @field_validator("signed_at")
-    @classmethod
-    def _whole_seconds(cls, value: dt.datetime) -> dt.datetime:
-        if value.microsecond:
-            raise ValueError("signed_at is in whole seconds")
-        return value
+    _whole = field_validator("signed_at")(whole_seconds)
 
     @field_validator("value")
     @classmethod

@@ -177,17 +177,33 @@ class AuditPdf(PdfDocument):
         if i.intact:
             head: Flowable = self.mark("passed", self.texts["intact"])
             extra: list[str] = []
-        elif i.ok:
-            head = self.mark("overdue", self.texts["guards_missing"])
-            extra = [self.texts["guards_missing_advice"]]
-        else:
+        elif not i.ok:
             head = Mark("cross", self.texts["altered"], 15.0)
             extra = [self.texts["altered_advice"]]
+        elif not i.verdicts_ok:
+            head = Mark("cross", self.texts["misjudged"], 15.0)
+            extra = [self.texts["misjudged_advice"]]
+        elif not i.signatures_ok:
+            head = Mark("cross", self.texts["unsigned"], 15.0)
+            extra = [self.texts["unsigned_advice"]]
+        else:
+            head = self.mark("overdue", self.texts["guards_missing"])
+            extra = [self.texts["guards_missing_advice"]]
+        if i.ok and not i.guards_intact and not (i.verdicts_ok and i.signatures_ok):
+            extra.append(self.texts["guards_missing_advice"])
+        if i.ok and not i.verdicts_ok and not i.signatures_ok:
+            extra.append(self.texts["unsigned_advice"])
         facts = f"Records in the store: {i.count}."
         if i.head_sequence is not None:
             facts += f" Last record: #{i.head_sequence}, chain hash {i.head_sha256}."
+        for said in (i.verdicts_said, i.signatures_said):
+            if said:
+                facts += f" {said[:1].upper()}{said[1:]}."
         cell = [head, Spacer(1, 1.5 * mm), self.para(i.message, "body"),
-                *[self.para(t, "bold") for t in extra], self.para(facts, "small")]
+                *[self.para(t, "bold") for t in extra],
+                *[self.para(problem, "body")
+                  for problem in (*i.verdict_problems, *i.signature_problems)],
+                self.para(facts, "small")]
         table = Table([[cell]], colWidths=[self.width])
         box: tuple[Any, ...] = (("BOX", (0, 0), (-1, -1), 1.5, colors.black) if i.intact else
                                 ("BOX", (0, 0), (-1, -1), 1.6, colors.black, None, None, None,

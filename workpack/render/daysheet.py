@@ -28,6 +28,7 @@ from workpack.render.pdf import (
     Table,
     words,
 )
+from workpack.store._chain import ChainHead
 
 __all__ = ["DaySheetPdf", "render_day_sheet"]
 
@@ -49,8 +50,9 @@ class DaySheetPdf(PdfDocument):
     def __init__(self, plant: str, date: dt.date, packages: Sequence[WorkPackage],
                  scheduled: Sequence[str], deferred: Sequence[str],
                  conflicts: Sequence[str], crew_hours: float,
-                 page_size: PageSize = "A4") -> None:
+                 page_size: PageSize = "A4", chain_head: ChainHead | None = None) -> None:
         super().__init__(page_size)
+        self.chain_head = chain_head
         by_id = {p.id: p for p in packages}
         unknown = [i for i in (*scheduled, *deferred) if i not in by_id]
         if unknown:
@@ -179,6 +181,9 @@ class DaySheetPdf(PdfDocument):
             out += [Paragraph(f"<b>{words(', '.join(ids))}</b>: {words(text)}",
                               self.style["bullet"], bulletText="•")
                     for text, ids in dangers.items()]
+        if self.chain_head is not None:
+            out.append(self.section("Records chain anchor"))
+            out.append(Paragraph(words(anchor_note(self.chain_head)), self.style["body"]))
         out += [Spacer(1, 4 * mm), KeepTogether([self.notice_box(NOTICE)])]
         return out
 
@@ -186,8 +191,18 @@ class DaySheetPdf(PdfDocument):
 def render_day_sheet(plant: str, date: dt.date, packages: Sequence[WorkPackage],
                      scheduled: Sequence[str], deferred: Sequence[str],
                      conflicts: Sequence[str], crew_hours: float,
-                     page_size: PageSize = "A4") -> bytes:
+                     page_size: PageSize = "A4", chain_head: ChainHead | None = None) -> bytes:
     """The day sheet as a PDF. ``scheduled`` and ``deferred`` are package ids in ranked
-    order; ``crew_hours`` is the crew-hours available that day (h)."""
+    order; ``crew_hours`` is the crew-hours available that day (h); ``chain_head`` is the
+    records store's head when planned, printed as an anchor to keep."""
     return DaySheetPdf(plant, date, packages, scheduled, deferred, conflicts, crew_hours,
-                       page_size).render()
+                       page_size, chain_head).render()
+
+
+def anchor_note(head: ChainHead) -> str:
+    """The day sheet's anchor: the head to copy into the log book or send ashore."""
+    noun = "record" if head.sequence == 1 else "records"
+    return (f"The records store held {head.sequence} {noun} when this sheet was made; "
+            f"the last chain hash is {head}. Copy it into the log book or send it ashore: "
+            f"`workpack verify --anchor {head}` shows later whether the store still holds "
+            "these records unchanged.")

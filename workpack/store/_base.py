@@ -50,6 +50,17 @@ class NoSuchRecordError(StoreError):
     """A record asked for by number is not in the store."""
 
 
+class ChainContinuationError(RecordRefusedError):
+    """Records brought from elsewhere that do not continue the plant's chain as stored:
+    ``kind`` is ``gap`` (records between are missing) or ``fork`` (the store holds other
+    records under the same numbers); ``sequence`` is the first record concerned."""
+
+    def __init__(self, message: str, kind: str, sequence: int):
+        super().__init__(message)
+        self.kind = kind
+        self.sequence = sequence
+
+
 def redact(url: str) -> str:
     """``url`` with any password (``user:pw@`` or ``?password=``) replaced by ``***``."""
     try:
@@ -178,6 +189,19 @@ class RecordStore(Protocol):
         """Recompute the whole chain; the first altered, removed or reordered record."""
         ...
 
+    def import_rows(self, rows: Sequence[StoredRow], *, after: ChainHead | None,
+                    genesis: str) -> Imported:
+        """Add records kept in another store of this plant (a vessel's), rows as stored.
+
+        ``rows`` are records ``after.sequence + 1`` onwards of a chain that began at
+        ``genesis``, checked by the caller to chain to each other. In one transaction:
+        rows the store already holds (same number, same chain hash) are skipped, so the
+        same rows twice add nothing; the rest are appended as they are.
+        ChainContinuationError, with nothing written, when they would leave a gap or
+        the store holds different records under their numbers (a fork).
+        """
+        ...
+
     def close(self) -> None: ...
 
     def __enter__(self) -> Self: ...
@@ -268,6 +292,53 @@ def check_supersedes(location: str, new: NewRecord, target: StoredRow | None,
         raise RecordRefusedError(f"{location}: supersedes {n}: record {n} is already "
                                  f"superseded (its latest correction is record "
                                  f"{superseded_by}); supersede {superseded_by} instead")
+
+
+@dataclass(frozen=True)
+class Imported:
+    """What ``import_rows`` did: records added, records the store held already, the head."""
+
+    plant: str
+    added: int
+    already_held: int
+    head: ChainHead | None
+
+
+def rows_to_add(location: str, *, after: ChainHead | None, rows: Sequence[StoredRow],
+                last: int, stored_chain: Mapping[int, str], stored_genesis: str | None,
+                genesis: str) -> list[StoredRow]:
+    """The rows of ``rows`` the store does not hold yet, or ChainContinuationError.
+
+    ``last`` is the store's last record number (0 if none), ``stored_chain`` the chain
+    hashes of its records numbered ``after.sequence`` to the last of ``rows``, and
+    ``stored_genesis`` the value its chain began from (None if it holds no records).
+    """
+    if stored_genesis is not None and stored_genesis != genesis:
+        raise ChainContinuationError(
+            f"{location}: fork at record 1: the records brought here begin a different "
+            "chain from the one stored (another plant's, or a store begun again)", "fork", 1)
+    start = after.sequence if after is not None else 0
+    if last < start:
+        held = f"holds records 1 to {last}" if last else "holds no records yet"
+        missing = f"record {last + 1}" if last + 1 == start else \
+            f"records {last + 1} to {start}"
+        raise ChainContinuationError(
+            f"{location}: gap: the store {held}, and these records begin after record "
+            f"{start}: {missing} have not arrived (bring the export that holds them first)",
+            "gap", last + 1)
+    if after is not None and start and stored_chain.get(start) != after.chain_sha256:
+        raise ChainContinuationError(
+            f"{location}: fork at record {start}: these records continue a record {start} "
+            "other than the one stored (the chain was rewritten on one side)", "fork", start)
+    for row in rows:
+        if row.sequence > last:
+            break
+        if stored_chain.get(row.sequence) != row.chain_sha256:
+            raise ChainContinuationError(
+                f"{location}: fork at record {row.sequence}: the store holds a different "
+                f"record {row.sequence} (the chain was rewritten on one side)", "fork",
+                row.sequence)
+    return [row for row in rows if row.sequence > last]
 
 
 # --- reading and lifetime, alike in every backend ----------------------------------------

@@ -47,6 +47,7 @@ from workpack.store._base import (
     BATCH,
     STORED_COLUMNS,
     ClosedOnExit,
+    Imported,
     NoSuchRecordError,
     NotAStoreError,
     Record,
@@ -57,6 +58,7 @@ from workpack.store._base import (
     prepare,
     record_filters,
     redact,
+    rows_to_add,
 )
 from workpack.store._chain import (
     GENESIS,
@@ -424,6 +426,35 @@ class PostgresStore(ClosedOnExit):
                       "(%s, %s, %s, %s, %s, %s, %s, %s, %s, %s, %s, %s)",
                       (plant, *row.as_tuple()))
         return Record.from_row(row, self.location, plant)
+
+    def import_rows(self, rows: Sequence[StoredRow], *, after: ChainHead | None,
+                    genesis: str) -> Imported:
+        plant = self.plant
+        start = after.sequence if after is not None else 0
+        end = rows[-1].sequence if rows else start
+        c = self._conn
+        with self._translate("importing records"), c.transaction():
+            c.execute("SELECT pg_advisory_xact_lock(%s::integer, hashtext(%s))",
+                      (LOCK_CLASS, plant))
+            stored_genesis = self._genesis(plant)
+            prev = self._last_row(plant)
+            last = prev.sequence if prev is not None else 0
+            stored = dict(c.execute("SELECT sequence, chain_sha256 FROM workpack.records "
+                                    "WHERE plant = %s AND sequence BETWEEN %s AND %s",
+                                    (plant, start, end)).fetchall())
+            new = rows_to_add(self.location, after=after, rows=rows, last=last,
+                              stored_chain=stored, stored_genesis=stored_genesis,
+                              genesis=genesis)
+            if stored_genesis is None and new:
+                c.execute("INSERT INTO workpack.plants (plant, genesis) VALUES (%s, %s)",
+                          (plant, genesis))
+            with c.cursor() as cursor:
+                cursor.executemany(f"INSERT INTO workpack.records (plant, {_COLUMNS}) VALUES "
+                                   "(%s, %s, %s, %s, %s, %s, %s, %s, %s, %s, %s, %s)",
+                                   [(plant, *row.as_tuple()) for row in new])
+            head = new[-1] if new else prev
+        return Imported(plant, len(new), len(rows) - len(new),
+                        ChainHead(head.sequence, head.chain_sha256) if head else None)
 
     def _genesis(self, plant: str) -> str | None:
         found = self._conn.execute("SELECT genesis FROM workpack.plants WHERE plant = %s",

@@ -24,7 +24,7 @@ import contextlib
 import datetime as dt
 import os
 import sqlite3
-from collections.abc import Iterator, Mapping
+from collections.abc import Iterator, Mapping, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -32,6 +32,7 @@ from workpack.store._base import (
     BATCH,
     STORED_COLUMNS,
     ClosedOnExit,
+    Imported,
     NoSuchRecordError,
     NotAStoreError,
     Record,
@@ -41,6 +42,7 @@ from workpack.store._base import (
     last_correction,
     prepare,
     record_filters,
+    rows_to_add,
 )
 from workpack.store._chain import (
     GENESIS,
@@ -326,6 +328,30 @@ class SQLiteStore(ClosedOnExit):
                 self._rollback()
                 raise
         return Record.from_row(row, self._location, self._plant)
+
+    def import_rows(self, rows: Sequence[StoredRow], *, after: ChainHead | None,
+                    genesis: str) -> Imported:
+        c = self._conn
+        start = after.sequence if after is not None else 0
+        end = rows[-1].sequence if rows else start
+        with self._translate("importing records"):
+            c.execute("BEGIN IMMEDIATE")
+            try:
+                last = c.execute("SELECT coalesce(max(sequence), 0) FROM records"
+                                 ).fetchone()[0]
+                stored = dict(c.execute("SELECT sequence, chain_sha256 FROM records WHERE "
+                                        "sequence BETWEEN ? AND ?", (start, end)).fetchall())
+                new = rows_to_add(self._location, after=after, rows=rows, last=last,
+                                  stored_chain=stored, stored_genesis=self._genesis,
+                                  genesis=genesis)
+                c.executemany(f"INSERT INTO records ({_COLUMNS}) VALUES "
+                              "(?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+                              [row.as_tuple() for row in new])
+                c.execute("COMMIT")
+            except BaseException:
+                self._rollback()
+                raise
+        return Imported(self._plant, len(new), len(rows) - len(new), self.head())
 
     def _row(self, sequence: int) -> StoredRow | None:
         found = self._conn.execute(f"SELECT {_COLUMNS} FROM records WHERE sequence = ?",
