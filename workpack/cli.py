@@ -295,6 +295,7 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     files[f"day-{day.isoformat()}.pdf"] = render_day_sheet(
         result.plant, day, result.packages, result.scheduled, result.deferred,
         [c.text for c in result.conflicts], result.crew_hours, args.page_size)
+    _refuse_other_days(out, day, result.packages)
     written = write_all(out, files, replaces=replaces)
     sys.stdout.write(day_plan(result) + f"\n{len(written)} files written to {written[0].parent}\n")
     return 0
@@ -323,7 +324,10 @@ def _earlier_plan(day: Any, plant: str, db: str) -> Any:
 
     from workpack.store import is_server_url, open_store, package_sha256
 
-    pattern = re.compile(rf"WP-{day:%Y%m%d}-\d{{2,}}\.(pdf|json)|day-{day.isoformat()}\.pdf")
+    # Any plant's: the day sheet's name is the day's alone, so one folder holds one plant's
+    # day. A job carried from an earlier day keeps the id it was first issued with.
+    pattern = re.compile(rf"WP-[A-Z0-9]{{2,8}}-\d{{8}}-\d{{2,}}\.(pdf|json)|"
+                         rf"day-{day.isoformat()}\.pdf")
 
     def earlier(folder: Path) -> list[str]:
         names = sorted(p.name for p in folder.iterdir() if p.is_file()
@@ -338,10 +342,16 @@ def _earlier_plan(day: Any, plant: str, db: str) -> Any:
             if twins[name] is None:
                 raise UsageError(f"{folder / name}: not a package this plan can replace "
                                  "(unreadable); move it away or plan into another folder")
-            if twins[name]["plant"] != plant:
+        # Another day's packages stay: only this day's set is replaced.
+        twins = {name: data for name, data in twins.items()
+                 if data.get("date") == day.isoformat()}
+        for name, data in twins.items():
+            if data["plant"] != plant:
                 raise UsageError(f"{folder}: holds the {day} packages of "
-                                 f"{twins[name]['plant']!r} ({name}); plan {plant!r} into "
+                                 f"{data['plant']!r} ({name}); plan {plant!r} into "
                                  "another folder")
+        names = [n for n in names if n.startswith("day-")
+                 or n.rsplit(".", 1)[0] + ".json" in twins]
         if twins and (is_server_url(db) or Path(db).exists()):
             with open_store(db, plant=plant, create=False) as store:
                 recorded = {(r.package_id, r.package_sha256): r.sequence
@@ -356,6 +366,23 @@ def _earlier_plan(day: Any, plant: str, db: str) -> Any:
         return names
 
     return earlier
+
+
+def _refuse_other_days(out: Path, day: Any, packages: Sequence[Any]) -> None:
+    """A job carried over keeps its id: its package of an earlier day, in the same folder,
+    has the same file name. Refuse rather than overwrite what was issued that day."""
+    for package in packages:
+        twin = out / f"{package.id}.json"
+        if not twin.is_file():
+            continue
+        try:
+            issued = json.loads(twin.read_text(encoding="utf-8")).get("date")
+        except (OSError, ValueError, AttributeError):
+            issued = None
+        if issued != day.isoformat():
+            raise UsageError(f"{twin}: package {package.id} as issued for {issued}; it is "
+                             f"carried into {day} under the same id. Plan each day into "
+                             "its own folder")
 
 
 class _Progress:

@@ -42,6 +42,7 @@ from workpack.store._chain import (
     package_sha256,
     plant_genesis,
 )
+from workpack.store._events import EVENT_KINDS, JobEvent, NewEvent
 
 if TYPE_CHECKING:
     from workpack.store._open import is_server_url, open_store, set_up_store
@@ -61,9 +62,12 @@ def __getattr__(name: str) -> Any:
     raise AttributeError(f"module 'workpack.store' has no attribute {name!r}")
 
 __all__ = [
+    "EVENT_KINDS",
     "ChainBreak",
     "ChainHead",
     "GENESIS",
+    "JobEvent",
+    "NewEvent",
     "NoSuchRecordError",
     "NotAStoreError",
     "Record",
