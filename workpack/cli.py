@@ -261,9 +261,10 @@ def _cmd_locate(args: argparse.Namespace) -> int:
 
 
 def _cmd_plan(args: argparse.Namespace) -> int:
+    from workpack.joblog import carry_forward, left_out, plan_events, with_carried
     from workpack.loading import load_findings, load_plant, load_ruleset, load_weights
     from workpack.output import reading, write_all
-    from workpack.plan import plan_day
+    from workpack.plan import Conflict, plan_day
     from workpack.render.daysheet import render_day_sheet
     from workpack.render.pdf import render_package
     from workpack.render.text import day_plan
@@ -276,15 +277,25 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     rules = Path(args.rules)
     ruleset = load_ruleset(rules)
     weights = load_weights(rules / "search-weights.yaml")
-    history = _history(args, plant)
+    history, jobs = _history(args, plant)
     out = Path(args.out)
     replaces = _earlier_plan(day, plant.plant.name, _default_db(args))
     if out.is_dir():  # refuse before the work, not after it; write_all asks again, locked
         with reading(out):
             replaces(out)
+    carry = carry_forward(jobs or {}, day)
+    notes: tuple[str, ...] = ()
+    if carry.findings:
+        places = set(topology.elements) | {b.detector.id for b in plant.buses if b.detector}
+        findings, notes = with_carried(findings, carry.findings, places)
     progress = _Progress("planning") if sys.stderr.isatty() else None
     result = plan_day(topology, findings, day, ruleset, _standards(), weights,
-                      args.crew_hours, history=history, progress=progress)
+                      args.crew_hours, history=history, progress=progress,
+                      carried=carry.carried)
+    notes += left_out(carry, result)
+    if notes:
+        result = dataclasses.replace(result, conflicts=(
+            *result.conflicts, *(Conflict((), note) for note in notes)))
     files: dict[str, bytes] = {}
     rendering = _Progress("rendering") if sys.stderr.isatty() else None
     for done, package in enumerate(result.packages, start=1):
@@ -297,23 +308,37 @@ def _cmd_plan(args: argparse.Namespace) -> int:
         [c.text for c in result.conflicts], result.crew_hours, args.page_size)
     _refuse_other_days(out, day, result.packages)
     written = write_all(out, files, replaces=replaces)
-    sys.stdout.write(day_plan(result) + f"\n{len(written)} files written to {written[0].parent}\n")
+    text = day_plan(result) + f"\n{len(written)} files written to {written[0].parent}\n"
+    if jobs is not None:
+        from workpack.store import open_store
+
+        events = plan_events(result, carry, findings, args.at or dt.datetime.now(dt.UTC),
+                             args.by)
+        with open_store(_default_db(args), plant=plant.plant.name) as store:
+            store.append_events(events)
+            text += f"{len(events)} job events recorded in {store.location}\n"
+    sys.stdout.write(text)
     return 0
 
 
-def _history(args: argparse.Namespace, plant: Any) -> Any:
-    """What the records store says, if there is one (``--db``, or beside the plant)."""
+def _history(args: argparse.Namespace, plant: Any) -> tuple[Any, dict[str, Any] | None]:
+    """What the records store says, if there is one (``--db``, or beside the plant): the
+    history for planning, and each job's state from its events (None: no store)."""
     from workpack.history import History, history_from_records
+    from workpack.joblog import fold
     from workpack.store import is_server_url, open_store
 
     db = _default_db(args)
     server = is_server_url(db)  # an office store holds many plants: read this one's chain
     if not server and not Path(db).exists():
         if args.db:
-            raise UsageError(f"--db {args.db}: no such records store")
-        return History()
+            raise UsageError(f"--db {args.db}: no such records store (create it with: "
+                             f"workpack store init {args.db} --plant '{plant.plant.name}')")
+        return History(), None
     with open_store(db, plant=plant.plant.name if server else None, create=False) as store:
-        return history_from_records(store.records(), plant.plant.code_set.rotating_machines)
+        history = history_from_records(store.records(),
+                                       plant.plant.code_set.rotating_machines)
+        return history, fold(store.events())
 
 
 def _earlier_plan(day: Any, plant: str, db: str) -> Any:
@@ -437,11 +462,12 @@ def _store_plant(args: argparse.Namespace) -> str | None:
 
 def _cmd_record(args: argparse.Namespace) -> int:
     from workpack.evaluate import evaluate
+    from workpack.joblog import fold, record_event, refusal
     from workpack.loading import load_results
     from workpack.output import write_all
     from workpack.records import record_payload
     from workpack.render.text import evaluation_text
-    from workpack.store import open_store
+    from workpack.store import NewEvent, open_store
 
     package, digest = _issued_package(Path(args.package))
     results = load_results(Path(args.results), package, digest)
@@ -451,19 +477,34 @@ def _cmd_record(args: argparse.Namespace) -> int:
     evaluation = evaluate(package, results, _standards())
     at = args.at or dt.datetime.now(dt.UTC)
     recorded_by = args.by or results.completed_by or "unknown"
+    kind, detail = record_event(package.id, results, evaluation)
     with open_store(_default_db(args), plant=package.plant) as store:
+        job = fold(store.events(package_id=package.id)).get(package.id)
         latest = store.latest(package.id)
-        if latest is not None and args.supersedes is None:
+        # A job carried into another day is issued again (another package hash): each
+        # day's record of it is a daily entry, not a correction.
+        daily_entry = (latest is not None and job is not None and job.open
+                       and latest.package_sha256 != digest)
+        if latest is not None and args.supersedes is None and not daily_entry:
             raise UsageError(f"{package.id} is already recorded (record {latest.sequence}); "
                              f"to correct it, record again with --supersedes "
                              f"{latest.sequence}")
+        why = refusal(job, kind, correction=args.supersedes is not None) if job else None
+        if why is not None:
+            raise UsageError(f"{package.id}: {why}")
         record = store.append(package_id=package.id, package_sha256=digest,
                               results=record_payload(results, evaluation),
                               recorded_by=recorded_by, recorded_at=at,
                               verdict=evaluation.verdict, supersedes=args.supersedes)
+        store.append_events([NewEvent(
+            package.id, job.job_key if job else f"package:{package.id}", kind,
+            results.completed_on or package.date, at, recorded_by,
+            {**detail, "record": record.sequence})])
         where = store.location  # a URL's password left out
+    state = ("suspended: locks stay on, the job goes on" if kind == "suspended"
+             else f"completed ({evaluation.verdict})")
     sys.stdout.write(evaluation_text(evaluation)
-                     + f"recorded as record {record.sequence} in {where}\n")
+                     + f"recorded as record {record.sequence} in {where}; job {state}\n")
     if args.followups and evaluation.followups:
         import yaml
 
@@ -473,6 +514,44 @@ def _cmd_record(args: argparse.Namespace) -> int:
         out = Path(args.followups)
         write_all(out.parent, {out.name: text.encode()})
         sys.stdout.write(f"{len(evaluation.followups)} follow-up finding(s) written to {out}\n")
+    return 0
+
+
+def _cmd_job(args: argparse.Namespace) -> int:
+    from workpack.joblog import fold, refusal
+    from workpack.store import NewEvent, open_store
+
+    if args.event == "cancelled" and not (args.note and args.note.strip()):
+        raise UsageError("--note: say why the job is cancelled")
+    at = args.at or dt.datetime.now(dt.UTC)
+    with open_store(_default_db(args), plant=_store_plant(args), create=False) as store:
+        job = fold(store.events(package_id=args.package)).get(args.package)
+        why = refusal(job, args.event)
+        if why is not None or job is None:
+            raise UsageError(f"{args.package}: {why}")
+        store.append_events([NewEvent(args.package, job.job_key, args.event, at.date(), at,
+                                      args.by, {"note": args.note} if args.note else {})])
+        where = store.location
+    sys.stdout.write(f"{args.package}: {args.event} by {args.by} at "
+                     f"{at:%Y-%m-%d %H:%M %Z}, recorded in {where}\n")
+    return 0
+
+
+def _cmd_status(args: argparse.Namespace) -> int:
+    from workpack.joblog import fold, status, status_text
+    from workpack.loading import load_plant
+    from workpack.store import is_server_url, open_store
+
+    plant, _ = load_plant(Path(args.plant))
+    db = _default_db(args)
+    server = is_server_url(db)
+    if not server and not Path(db).exists():
+        raise UsageError(f"{db}: no such records store; plan with --db first")
+    with open_store(db, plant=plant.plant.name if server else None, create=False) as store:
+        jobs = fold(store.events())
+    day = args.date or _now().date()
+    report = status(plant, jobs, day, args.days)
+    sys.stdout.write(_to_json(report) if args.json else status_text(report, args.days))
     return 0
 
 
@@ -897,9 +976,41 @@ def build_parser() -> argparse.ArgumentParser:
     plan.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
     plan.add_argument("--rules", default=str(rules_folder()), metavar="DIR",
                       help="rules folder (default: the shipped rules/)")
-    plan.add_argument("--db", help="records store whose history informs the plan (default: "
-                                   "PLANT.records.sqlite beside the plant, if it exists)")
+    plan.add_argument("--db", help="records store: its history informs the plan, its open "
+                                   "jobs and locks come first, and the plan's jobs are "
+                                   "recorded in it (default: PLANT.records.sqlite beside the "
+                                   "plant, if it exists)")
+    plan.add_argument("--by", default="workpack plan",
+                      help="who plans, recorded with the jobs' events (default: workpack plan)")
+    plan.add_argument("--at", type=_option("--at", _moment),
+                      help="when, for the jobs' events (ISO date and time; default: now)")
     plan.set_defaults(run=_cmd_plan)
+
+    status = commands.add_parser(
+        "status", help="the morning's view: open, suspended and carried-over jobs, locks on, "
+                       "routine tests overdue and due soon")
+    status.add_argument("plant", metavar="PLANT", help="plant inventory (YAML)")
+    status.add_argument("--db", help="records store (default: PLANT.records.sqlite beside "
+                                     "the plant)")
+    status.add_argument("--date", type=_option("--date", _day),
+                        help="as of this day (YYYY-MM-DD; default: today)")
+    status.add_argument("--days", type=_option("--days", _days), default=7, metavar="N",
+                        help="routine tests due within N days (default 7)")
+    status.add_argument("--json", action="store_true", help="print JSON")
+    status.set_defaults(run=_cmd_status)
+
+    job = commands.add_parser(
+        "job", help="write what happened to a job: issued, started, resumed or cancelled "
+                    "(record writes completed and suspended)")
+    job.add_argument("event", choices=["issued", "started", "resumed", "cancelled"],
+                     help="what happened")
+    job.add_argument("package", metavar="PACKAGE_ID", help="the package id")
+    _store_options(job)
+    job.add_argument("--by", required=True, help="who")
+    job.add_argument("--at", type=_option("--at", _moment),
+                     help="when (ISO date and time; default: now; UTC unless a zone is given)")
+    job.add_argument("--note", help="why, in words (a cancellation needs one)")
+    job.set_defaults(run=_cmd_job)
 
     template = commands.add_parser(
         "results-template", help="a YAML results sheet for one package, to fill in")

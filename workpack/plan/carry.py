@@ -47,6 +47,15 @@ def job_key(job: Job) -> str:
     return f"{rule.id}|{what}"
 
 
+def routine_of_key(key: str) -> tuple[str | None, str | None]:
+    """The routine test and its element a job key names, or (None, None)."""
+    _, found, rest = key.rpartition("|routine:")
+    if not found:
+        return None, None
+    test, _, element = rest.partition("@")
+    return test, element
+
+
 @dataclass(frozen=True)
 class IssuedIds:
     """What the store says was issued before: the open jobs' ids by job key, and every

@@ -1,0 +1,423 @@
+"""The week as the store's job events tell it: each job's state, what tomorrow's plan
+carries, and the morning's status. Pure: events arrive as data (``store.JobEvent``).
+
+A job's state is read from its events, never stored: the last event other than
+``carried_over`` (which only notes that the plan of a day took the job, or the findings
+it left, along). ``completed`` and ``cancelled`` end a job; its id is never given to
+another. A job recorded while its locks stay on is ``suspended``: it stays open, comes
+first in the next plan with the locks it holds, and every day's record of it is a daily
+entry of the same job (a dry-out over three days is one job with three entries).
+
+What the next plan takes from the events (``carry_forward``):
+
+- every open job keeps its id (by job key), and a job begun (started, suspended,
+  resumed) is ranked first; one planned before and not done returns above new routine
+  work;
+- an open job planned on an earlier day from findings of that day brings those
+  findings along, so the same rule makes the same job again;
+- a job completed as failed brings its findings along again, and any job's follow-up
+  findings (low insulation readings) become findings, once: the plan of the next day
+  marks them carried over;
+- a routine test recorded as passed moves its next due date (``routines_done``);
+- the locks still on are named, with whose, since when and for which job.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from collections.abc import Iterable, Mapping, Sequence, Set
+from dataclasses import dataclass, field, replace
+from typing import Any, Protocol
+
+from pydantic import TypeAdapter
+
+from workpack.model.evaluation import Evaluation
+from workpack.model.findings import Finding, Findings
+from workpack.model.plant import Plant
+from workpack.model.results import Results
+from workpack.plan.carry import (
+    Carried,
+    HeldLock,
+    IssuedIds,
+    finding_identity,
+    routine_of_key,
+)
+from workpack.plan.day import DayPlan
+from workpack.plan.jobs import last_done
+from workpack.store._events import NewEvent
+
+_FINDING: TypeAdapter[Finding] = TypeAdapter(Finding)
+
+FINISHED = frozenset({"completed", "cancelled"})
+BEGUN = frozenset({"started", "suspended", "resumed"})
+# Which events may follow a job's state (None: no event yet). carried_over and a
+# correcting "completed" are checked apart.
+_MAY_FOLLOW: dict[str, frozenset[str | None]] = {
+    "planned": frozenset({None, "planned", "issued", "started", "suspended", "resumed"}),
+    "issued": frozenset({"planned", "issued"}),
+    "started": frozenset({"planned", "issued"}),
+    "suspended": frozenset({"planned", "issued", "started", "suspended", "resumed"}),
+    "resumed": frozenset({"suspended"}),
+    "completed": frozenset({"planned", "issued", "started", "suspended", "resumed"}),
+    "cancelled": frozenset({"planned", "issued", "started", "suspended", "resumed"}),
+}
+
+
+class Event(Protocol):
+    """A job event as the store gives it back (``store.JobEvent``)."""
+
+    @property
+    def sequence(self) -> int: ...
+    @property
+    def package_id(self) -> str: ...
+    @property
+    def job_key(self) -> str: ...
+    @property
+    def kind(self) -> str: ...
+    @property
+    def day(self) -> dt.date: ...
+    @property
+    def at(self) -> dt.datetime: ...
+    @property
+    def by(self) -> str: ...
+    @property
+    def detail(self) -> Mapping[str, Any]: ...
+
+
+@dataclass(frozen=True)
+class JobState:
+    """One job as its events leave it."""
+
+    package_id: str
+    job_key: str
+    state: str  # the last event's kind other than carried_over
+    since: dt.datetime  # when that event happened
+    by: str  # who wrote it
+    first_day: dt.date  # the day it was first planned for
+    last_planned: dt.date  # the last day a plan took it
+    item: str = ""
+    rule: str = ""
+    title: str = ""
+    routine: str | None = None  # routine test, for a routine job
+    routine_element: str | None = None
+    findings: tuple[Mapping[str, Any], ...] = ()  # what its last plan was made from
+    verdict: str | None = None  # of the last record: passed, failed, incomplete
+    followups: tuple[Mapping[str, Any], ...] = ()  # of its last record
+    locks: tuple[HeldLock, ...] = ()  # on now (suspended, or resumed with them on)
+    entries: tuple[dt.date, ...] = ()  # days it has a record for (daily entries)
+    finished_on: dt.date | None = None  # the day a completion was for
+    carried_to: tuple[dt.date, ...] = ()  # days whose plan took it (or what it left)
+    scheduled: bool = True  # in its last plan: within the crew's hours
+
+    @property
+    def open(self) -> bool:
+        return self.state not in FINISHED
+
+
+def fold(events: Iterable[Event]) -> dict[str, JobState]:
+    """Each job's state after its events (in sequence order), by package id."""
+    jobs: dict[str, JobState] = {}
+    for event in sorted(events, key=lambda e: e.sequence):
+        detail = event.detail
+        job = jobs.get(event.package_id)
+        if job is None:
+            job = JobState(event.package_id, event.job_key, event.kind, event.at, event.by,
+                           event.day, event.day)
+        if event.kind == "carried_over":
+            jobs[event.package_id] = replace(job, carried_to=(*job.carried_to, event.day))
+            continue
+        job = replace(job, state=event.kind, since=event.at, by=event.by)
+        if event.kind == "planned":
+            job = replace(
+                job, last_planned=max(job.last_planned, event.day),
+                item=str(detail.get("item", job.item)), rule=str(detail.get("rule", job.rule)),
+                title=str(detail.get("title", job.title)), routine=detail.get("routine"),
+                routine_element=detail.get("routine_element"),
+                findings=tuple(detail.get("findings", ())),
+                scheduled=bool(detail.get("scheduled", True)))
+        elif event.kind in ("suspended", "completed"):
+            job = replace(job, verdict=detail.get("verdict"),
+                          followups=tuple(detail.get("followups", ())),
+                          entries=(*job.entries, event.day),
+                          locks=tuple(HeldLock(**lock) for lock in detail.get("locks", ())))
+            if event.kind == "completed":
+                job = replace(job, finished_on=event.day, locks=())
+        elif event.kind == "cancelled":
+            job = replace(job, finished_on=event.day, locks=())
+        jobs[event.package_id] = job
+    return dict(sorted(jobs.items()))
+
+
+def refusal(job: JobState | None, kind: str, *, correction: bool = False) -> str | None:
+    """Why ``kind`` may not follow the job's state, in words; None if it may."""
+    if kind == "carried_over":
+        return None
+    state = job.state if job is not None else None
+    if correction and kind == "completed" and state == "completed":
+        return None
+    if state in _MAY_FOLLOW.get(kind, frozenset()):
+        return None
+    if job is None:
+        return f"no job has that id in the store (it was never planned with --db); {kind} " \
+               "needs a planned job"
+    return f"{job.package_id} is {job.state.replace('_', ' ')} (since {job.since:%Y-%m-%d %H:%M} " \
+           f"UTC, by {job.by}); it cannot be {kind.replace('_', ' ')} now"
+
+
+# --- what a record says happened --------------------------------------------------------
+
+
+def held_locks(package_id: str, results: Results, evaluation: Evaluation) -> tuple[HeldLock,
+                                                                                    ...]:
+    """The locks a record leaves on: those kept on by the restoration's gate and those
+    not recorded as removed, with their lock numbers and who applied them when."""
+    why = results.locks_left_on or ""
+    left: dict[str, str] = {}
+    for entry in (*evaluation.locks_left_on, *evaluation.locks_not_removed):
+        device, _, reason = entry.partition(": ")
+        left.setdefault(device, reason or why)
+    locks = []
+    for device, reason in sorted(left.items()):
+        test, _, own = device.rpartition(":")
+        sheet = (results.final_tests[test].isolation if test in results.final_tests
+                 else results.isolation)
+        record = sheet.get(own if test else device)
+        locks.append(HeldLock(device=device, package_id=package_id,
+                              lock=record.lock if record else None,
+                              applied_by=record.applied_by if record else None,
+                              applied_at=record.applied_at if record else None, why=reason))
+    return tuple(locks)
+
+
+def record_event(package_id: str, results: Results,
+                 evaluation: Evaluation) -> tuple[str, dict[str, Any]]:
+    """The event a record makes and its detail: ``suspended`` while locks stay on or the
+    work is incomplete (the job goes on), else ``completed`` with its verdict."""
+    locks = held_locks(package_id, results, evaluation)
+    kind = "suspended" if locks or evaluation.verdict == "incomplete" else "completed"
+    detail: dict[str, Any] = {
+        "verdict": evaluation.verdict,
+        "locks": [lock.__dict__ for lock in locks],
+        "followups": [f.model_dump(mode="json") for f in evaluation.followups],
+    }
+    return kind, detail
+
+
+# --- the next plan ----------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class CarriedFinding:
+    """A finding the next plan takes from the store: from which job, as a findings file
+    would hold it."""
+
+    source: str  # the package id it comes from
+    finding: Mapping[str, Any]
+
+
+@dataclass(frozen=True)
+class CarryOver:
+    carried: Carried
+    findings: tuple[CarriedFinding, ...] = ()
+    sources: tuple[str, ...] = ()  # jobs whose findings or follow-ups the plan takes
+    open_jobs: Mapping[str, JobState] = field(default_factory=dict)  # by job key
+    keys: Mapping[str, str] = field(default_factory=dict)  # every job's key by package id
+
+
+def carry_forward(jobs: Mapping[str, JobState], day: dt.date) -> CarryOver:
+    """What the plan of ``day`` takes from the jobs (see the module docstring)."""
+    open_jobs = {job.job_key: job for job in jobs.values() if job.open}
+    findings: list[CarriedFinding] = []
+    sources: list[str] = []
+    for job in jobs.values():
+        if job.open:
+            if job.last_planned < day and (job.findings or job.followups):
+                findings += [CarriedFinding(job.package_id, f)
+                             for f in (*job.findings, *job.followups)]
+                sources.append(job.package_id)
+            continue
+        if job.finished_on is None or job.finished_on >= day or job.state != "completed":
+            continue
+        if any(to < day for to in job.carried_to):
+            continue  # an earlier day's plan took them already
+        taken = [*job.followups, *(job.findings if job.verdict == "failed" else ())]
+        if taken:
+            findings += [CarriedFinding(job.package_id, f) for f in taken]
+            sources.append(job.package_id)
+    done: dict[tuple[str, str], dt.date] = {}
+    for job in jobs.values():
+        if (job.state == "completed" and job.verdict == "passed" and job.routine
+                and job.routine_element and job.finished_on is not None):
+            where = (job.routine_element, job.routine)
+            done[where] = max(done.get(where, job.finished_on), job.finished_on)
+    carried = Carried(
+        issued=IssuedIds(open={key: job.package_id for key, job in open_jobs.items()},
+                         taken=frozenset(jobs)),
+        held=frozenset(key for key, job in open_jobs.items() if job.state in BEGUN),
+        returning=frozenset(key for key, job in open_jobs.items() if job.last_planned < day),
+        locks=tuple(lock for job in open_jobs.values() for lock in job.locks),
+        routines_done=done)
+    return CarryOver(carried, tuple(findings), tuple(sources), open_jobs,
+                     {job.package_id: job.job_key for job in jobs.values()})
+
+
+# --- the morning's status ---------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class RoutineDue:
+    element: str
+    test: str
+    due_on: dt.date
+    last_done: dt.date | None
+
+
+@dataclass(frozen=True)
+class Status:
+    """What a supervisor reads first thing, and hands over at a change of supervisor."""
+
+    plant: str
+    day: dt.date
+    open: tuple[JobState, ...]  # planned, issued, started or resumed
+    suspended: tuple[JobState, ...]
+    carried_over: tuple[JobState, ...]  # open since an earlier day
+    locks_on: tuple[HeldLock, ...]
+    overdue: tuple[RoutineDue, ...]  # due before ``day`` and not recorded as passed
+    due_soon: tuple[RoutineDue, ...]  # due from ``day`` to ``day`` + the days asked for
+
+
+def routine_dates(plant: Plant, done: Mapping[tuple[str, str], dt.date],
+                  day: dt.date) -> list[RoutineDue]:
+    """Every routine test's next due date: the later of the plant file's ``last_done``
+    and the last recorded pass, plus its interval (never done: due on ``day``)."""
+    due = []
+    for element in plant.elements():
+        for routine in element.routine:
+            last = last_done(routine, done.get((element.id, routine.test.value)))
+            due_on = last + dt.timedelta(days=routine.interval_days) if last else day
+            due.append(RoutineDue(element.id, routine.test.value, due_on, last))
+    return sorted(due, key=lambda d: (d.due_on, d.element, d.test))
+
+
+def status(plant: Plant, jobs: Mapping[str, JobState], day: dt.date,
+           days_ahead: int) -> Status:
+    carry = carry_forward(jobs, day)
+    open_jobs = sorted(carry.open_jobs.values(), key=lambda j: j.package_id)
+    dates = routine_dates(plant, carry.carried.routines_done, day)
+    horizon = day + dt.timedelta(days=days_ahead)
+    return Status(
+        plant=plant.plant.name, day=day,
+        open=tuple(j for j in open_jobs if j.state != "suspended"),
+        suspended=tuple(j for j in open_jobs if j.state == "suspended"),
+        carried_over=tuple(j for j in open_jobs if j.first_day < day),
+        locks_on=carry.carried.locks,
+        overdue=tuple(d for d in dates if d.due_on < day),
+        due_soon=tuple(d for d in dates if day <= d.due_on <= horizon))
+
+
+def status_text(report: Status, days_ahead: int) -> str:
+    def job_line(job: JobState) -> str:
+        since = f"since {job.first_day}" if job.first_day < report.day else "today"
+        return (f"  {job.package_id}  {job.state.replace('_', ' '):9}  {job.item}: "
+                f"{job.title} ({since}, last by {job.by})")
+
+    lines = [f"{report.plant}: status on {report.day}", ""]
+    sections: Sequence[tuple[str, Sequence[str]]] = (
+        ("Locks on now", [f"  {lock.describe()}" for lock in report.locks_on]),
+        ("Suspended", [job_line(j) for j in report.suspended]),
+        ("Open", [job_line(j) for j in report.open]),
+        ("Carried over from earlier days", [f"  {j.package_id}  {j.item}: first planned "
+                                            f"{j.first_day}" for j in report.carried_over]),
+        ("Routine tests overdue", [f"  {d.element} {d.test}: due {d.due_on}"
+                                   for d in report.overdue]),
+        (f"Routine tests due in the next {days_ahead} days",
+         [f"  {d.element} {d.test}: due {d.due_on}" for d in report.due_soon]),
+    )
+    for title, entries in sections:
+        lines.append(f"{title}: {len(entries) or 'none'}")
+        lines.extend(entries)
+    return "\n".join(lines) + "\n"
+
+
+# --- the plan's own events --------------------------------------------------------------
+
+
+def with_carried(findings: Findings, carried: Sequence[CarriedFinding],
+                 places: Set[str]) -> tuple[Findings, tuple[str, ...]]:
+    """The day's findings and those carried from the store, each once (by kind, place
+    and time); a carried finding gets the id ``<package>.<its id>``. Also, in words, any
+    carried finding whose place is no longer in the plant (left out)."""
+    seen = {finding_identity(f) for f in findings.findings}
+    added: list[Finding] = []
+    left_out = []
+    counts: dict[str, int] = {}
+    for each in carried:
+        counts[each.source] = counts.get(each.source, 0) + 1
+        data = {k: v for k, v in each.finding.items() if k != "id"}
+        own = str(each.finding.get("id") or f"U{counts[each.source]}")
+        own = own.removeprefix(f"{each.source}.")  # carried before: keep one prefix
+        if data.get("where") not in places:
+            left_out.append(f"{each.source}: its finding at {data.get('where')!r} is not in "
+                            "the plant any more; it was not carried into this plan")
+            continue
+        finding = _FINDING.validate_python({**data, "id": f"{each.source}.{own}"})
+        if finding_identity(finding) in seen:
+            continue
+        seen.add(finding_identity(finding))
+        added.append(finding)
+    merged = Findings(date=findings.date, findings=(*findings.findings, *added))
+    return merged, tuple(left_out)
+
+
+def plan_events(plan: DayPlan, carry: CarryOver, findings: Findings, at: dt.datetime,
+                by: str) -> list[NewEvent]:
+    """The events a plan writes: each package planned (an open job carried over first),
+    the jobs whose findings it took marked carried over, and the open jobs planned for
+    this day that a re-plan no longer makes cancelled."""
+    day = plan.date
+    by_id = {str(f.id): f for f in findings.findings}
+    events: list[NewEvent] = []
+    for package in plan.packages:
+        key = plan.keys[package.id]
+        job = carry.open_jobs.get(key)
+        if job is not None and job.last_planned < day:
+            events.append(NewEvent(package.id, key, "carried_over", day, at, by,
+                                   {"from_day": job.last_planned.isoformat()}))
+        test, element = routine_of_key(key)
+        events.append(NewEvent(package.id, key, "planned", day, at, by, {
+            "item": package.item, "rule": package.origin.rule, "title": package.title,
+            "priority": package.priority, "routine": test, "routine_element": element,
+            "scheduled": package.id in plan.scheduled,
+            "findings": [by_id[f].model_dump(mode="json", exclude_none=True)
+                         for f in package.origin.findings if f in by_id]}))
+    taken: dict[str, list[str]] = {}
+    for package in plan.packages:
+        for finding in package.origin.findings:
+            source = finding.rpartition(".")[0]
+            if source in carry.sources:
+                taken.setdefault(source, []).append(package.id)
+    made = set(plan.keys.values())
+    for source in carry.sources:
+        job = next((j for j in carry.open_jobs.values() if j.package_id == source), None)
+        if job is None:  # a finished job: its findings are now the plan's
+            events.append(NewEvent(source, _key_of(carry, source), "carried_over", day, at,
+                                   by, {"into": sorted(set(taken.get(source, [])))}))
+    for key, job in sorted(carry.open_jobs.items()):
+        if key not in made and job.state in ("planned", "issued"):
+            events.append(NewEvent(job.package_id, key, "cancelled", day, at, by, {
+                "reason": f"the plan of {day} no longer calls for it"}))
+    return events
+
+
+def _key_of(carry: CarryOver, package_id: str) -> str:
+    return carry.keys.get(package_id, package_id)
+
+
+def left_out(carry: CarryOver, plan: DayPlan) -> tuple[str, ...]:
+    """Begun jobs (locks on, or work started) the day's plan made no package for: the
+    supervisor settles them; the plan never cancels them."""
+    made = set(plan.keys.values())
+    return tuple(f"{job.package_id} ({job.item}) is {job.state} but today's plan made no "
+                 "package for it: settle it (resume, complete or cancel it)"
+                 for key, job in sorted(carry.open_jobs.items())
+                 if key not in made and job.state in BEGUN)
