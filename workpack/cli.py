@@ -310,13 +310,17 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     written = write_all(out, files, replaces=replaces)
     text = day_plan(result) + f"\n{len(written)} files written to {written[0].parent}\n"
     if jobs is not None:
-        from workpack.store import open_store
+        from workpack.store import ReadOnlyError, open_store
 
         events = plan_events(result, carry, findings, args.at or dt.datetime.now(dt.UTC),
                              args.by)
         with open_store(_default_db(args), plant=plant.plant.name) as store:
-            store.append_events(events)
-            text += f"{len(events)} job events recorded in {store.location}\n"
+            try:
+                store.append_events(events)
+                text += f"{len(events)} job events recorded in {store.location}\n"
+            except ReadOnlyError as exc:  # an office auditor may plan, not issue
+                text += (f"NOTE: the plan's jobs were not recorded ({exc}); their ids are "
+                         "not reserved: plan with a role that may write to issue them\n")
     sys.stdout.write(text)
     return 0
 
@@ -501,10 +505,10 @@ def _cmd_record(args: argparse.Namespace) -> int:
             results.completed_on or package.date, at, recorded_by,
             {**detail, "record": record.sequence})])
         where = store.location  # a URL's password left out
-    state = ("suspended: locks stay on, the job goes on" if kind == "suspended"
+    state = ("suspended: its locks stay on, the job goes on" if kind == "suspended"
              else f"completed ({evaluation.verdict})")
-    sys.stdout.write(evaluation_text(evaluation)
-                     + f"recorded as record {record.sequence} in {where}; job {state}\n")
+    sys.stdout.write(evaluation_text(evaluation) + f"job {package.id} {state}\n"
+                     + f"recorded as record {record.sequence} in {where}\n")
     if args.followups and evaluation.followups:
         import yaml
 

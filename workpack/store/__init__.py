@@ -13,6 +13,7 @@ The error tree (all ``WorkpackError``, exit status 2)::
     StoreError               the store cannot do what was asked; names the file or URL
      ├── NotAStoreError      the file is not a workpack records store (or a newer one)
      ├── StoreURLError       a URL this workpack cannot open (or no PostgreSQL driver)
+     ├── ReadOnlyError       this database role may read the store but not write it
      ├── RecordRefusedError  a new record refused before anything was written
      └── NoSuchRecordError   a record number not in the store
 
@@ -26,6 +27,7 @@ from typing import TYPE_CHECKING, Any
 from workpack.store._base import (
     NoSuchRecordError,
     NotAStoreError,
+    ReadOnlyError,
     Record,
     RecordRefusedError,
     RecordStore,
@@ -70,6 +72,7 @@ __all__ = [
     "NewEvent",
     "NoSuchRecordError",
     "NotAStoreError",
+    "ReadOnlyError",
     "Record",
     "RecordRefusedError",
     "RecordStore",

@@ -43,6 +43,10 @@ class StoreURLError(StoreError):
     """The store's location names a kind of store this workpack cannot open."""
 
 
+class ReadOnlyError(StoreError):
+    """The store may be read but not written by this database role."""
+
+
 class RecordRefusedError(StoreError):
     """A new record was refused before anything was written (bad reference or value)."""
 

@@ -49,6 +49,7 @@ from workpack.store._base import (
     ClosedOnExit,
     NoSuchRecordError,
     NotAStoreError,
+    ReadOnlyError,
     Record,
     RecordRefusedError,
     StoreError,
@@ -395,10 +396,10 @@ class PostgresStore(ClosedOnExit):
         where, message = self._where(), _first_line(exc)
         if isinstance(exc, errors.InsufficientPrivilege):
             if "row-level security" in message:
-                return StoreError(f"{where}: this database role may not write the records of "
+                return ReadOnlyError(f"{where}: this database role may not write the records of "
                                   f"plant {self._plant!r}: a crew role writes only the plants "
                                   "it was set up for")
-            return StoreError(f"{where}: this database role may not do that while {doing} "
+            return ReadOnlyError(f"{where}: this database role may not do that while {doing} "
                               f"(PostgreSQL: {message}); an auditor role only reads")
         if isinstance(exc, errors.LockNotAvailable):
             return StoreError(f"{where}: the plant's chain stayed locked by another writer for "
