@@ -108,6 +108,7 @@ class JobState:
     finished_on: dt.date | None = None  # the day a completion was for
     carried_to: tuple[dt.date, ...] = ()  # days whose plan took it (or what it left)
     scheduled: bool = True  # in its last plan: within the crew's hours
+    answers: tuple[str, ...] = ()  # jobs whose carried findings it was made from
 
     @property
     def open(self) -> bool:
@@ -134,7 +135,10 @@ def fold(events: Iterable[Event]) -> dict[str, JobState]:
                 title=str(detail.get("title", job.title)), routine=detail.get("routine"),
                 routine_element=detail.get("routine_element"),
                 findings=tuple(detail.get("findings", ())),
-                scheduled=bool(detail.get("scheduled", True)))
+                scheduled=bool(detail.get("scheduled", True)),
+                # every job it was ever made from (a re-plan lists only the day's)
+                answers=tuple(sorted((set(job.answers) | set(detail.get("answers", ())))
+                                     - {job.package_id})))
         elif event.kind in ("suspended", "completed"):
             job = replace(job, verdict=detail.get("verdict"),
                           followups=tuple(detail.get("followups", ())),
@@ -245,20 +249,43 @@ def carry_forward(jobs: Mapping[str, JobState], day: dt.date) -> CarryOver:
             findings += [CarriedFinding(job.package_id, f) for f in taken]
             sources.append(job.package_id)
     done: dict[tuple[str, str], dt.date] = {}
+    answered: set[tuple[str, str]] = set()
+
+    def passed(routine: tuple[str, str], on: dt.date) -> None:
+        done[routine] = max(done.get(routine, on), on)
+
     for job in jobs.values():
-        if (job.state == "completed" and job.verdict == "passed" and job.routine
-                and job.routine_element and job.finished_on is not None):
-            where = (job.routine_element, job.routine)
-            done[where] = max(done.get(where, job.finished_on), job.finished_on)
+        if job.state == "completed" and job.verdict == "passed" and job.finished_on:
+            if routine := _routine(job):
+                passed(routine, job.finished_on)
+        # A routine test that failed is answered by the job made from what it found
+        # (a dry-out, a repair): not planned again as a plain routine test meanwhile,
+        # and done on the day that job passes.
+        for source in (jobs[s] for s in job.answers if s in jobs):
+            if (routine := _routine(source)) is None:
+                continue
+            if job.open:
+                answered.add(routine)
+            elif job.state == "completed" and job.verdict == "passed" and job.finished_on:
+                passed(routine, job.finished_on)
+    answered |= {r for s in sources
+                 if not jobs[s].open and (r := _routine(jobs[s])) is not None}
+    # An item under a job begun and not finished (locked out, being worked on) gets no
+    # routine test of its own: that job's tests answer for it.
+    begun_items = {job.item for job in open_jobs.values() if job.state in BEGUN}
     carried = Carried(
         issued=IssuedIds(open={key: job.package_id for key, job in open_jobs.items()},
                          taken=frozenset(jobs)),
         held=frozenset(key for key, job in open_jobs.items() if job.state in BEGUN),
         returning=frozenset(key for key, job in open_jobs.items() if job.last_planned < day),
         locks=tuple(lock for job in open_jobs.values() for lock in job.locks),
-        routines_done=done)
+        routines_done=done, answered=frozenset(answered), busy_items=frozenset(begun_items))
     return CarryOver(carried, tuple(findings), tuple(sources), open_jobs,
                      {job.package_id: job.job_key for job in jobs.values()})
+
+
+def _routine(job: JobState) -> tuple[str, str] | None:
+    return (job.routine_element, job.routine) if job.routine and job.routine_element else None
 
 
 # --- the morning's status ---------------------------------------------------------------
@@ -376,6 +403,12 @@ def plan_events(plan: DayPlan, carry: CarryOver, findings: Findings, at: dt.date
     this day that a re-plan no longer makes cancelled."""
     day = plan.date
     by_id = {str(f.id): f for f in findings.findings}
+    taken: dict[str, list[str]] = {}  # source job → the packages made from its findings
+    for package in plan.packages:
+        for finding in package.origin.findings:
+            source = finding.rpartition(".")[0]
+            if source in carry.sources:
+                taken.setdefault(source, []).append(package.id)
     events: list[NewEvent] = []
     for package in plan.packages:
         key = plan.keys[package.id]
@@ -388,14 +421,9 @@ def plan_events(plan: DayPlan, carry: CarryOver, findings: Findings, at: dt.date
             "item": package.item, "rule": package.origin.rule, "title": package.title,
             "priority": package.priority, "routine": test, "routine_element": element,
             "scheduled": package.id in plan.scheduled,
+            "answers": sorted(s for s, ids in taken.items() if package.id in ids),
             "findings": [by_id[f].model_dump(mode="json", exclude_none=True)
                          for f in package.origin.findings if f in by_id]}))
-    taken: dict[str, list[str]] = {}
-    for package in plan.packages:
-        for finding in package.origin.findings:
-            source = finding.rpartition(".")[0]
-            if source in carry.sources:
-                taken.setdefault(source, []).append(package.id)
     made = set(plan.keys.values())
     for source in carry.sources:
         job = next((j for j in carry.open_jobs.values() if j.package_id == source), None)

@@ -126,6 +126,8 @@ class Carried:
     day and not done (deferred, or not reached): ranked above new routine work of their
     priority. ``routines_done``: (element, routine test) → the last day it passed, as
     recorded; a later date than the plant file's ``last_done`` moves the next due date.
+    ``answered`` and ``busy_items``: routine tests not planned today, because another
+    job answers for them (see ``workpack.joblog.carry_forward``).
     """
 
     issued: IssuedIds = field(default_factory=IssuedIds)
@@ -133,3 +135,6 @@ class Carried:
     returning: frozenset[str] = frozenset()
     locks: tuple[HeldLock, ...] = ()
     routines_done: Mapping[tuple[str, str], dt.date] = field(default_factory=dict)
+    answered: frozenset[tuple[str, str]] = frozenset()  # (element, test) not planned today:
+    # a job made from what the test found last time is open or being planned
+    busy_items: frozenset[str] = frozenset()  # items under a begun job: no routine test

@@ -64,8 +64,10 @@ def plan_day(topology: Topology, findings: Findings, day: dt.date, ruleset: Rule
     diagnosis = diagnose_day(plant, topology, findings, standards)
     states = system_states(topology, diagnosis)
     matched = match_jobs(topology, findings, diagnosis, states, day, ruleset,
-                         due_routines(plant, day, history, standards,
-                                      carried.routines_done))
+                         [due for due in due_routines(plant, day, history, standards,
+                                                      carried.routines_done)
+                          if due.element.id not in carried.busy_items
+                          and (due.element.id, due.routine.test.value) not in carried.answered])
     inputs = DayInputs(
         topology=topology, ruleset=ruleset, standards=standards, weights=weights, day=day,
         states=states, past_grounds=history.past_grounds,
