@@ -24,9 +24,10 @@ from typing import Any
 
 import pytest
 import yaml
+from weekdata import filled_results
 
 from workpack.cli import main
-from workpack.store import open_store, package_sha256
+from workpack.store import open_store
 
 ROOT = Path(__file__).resolve().parent.parent
 VESSEL = str(ROOT / "plants" / "demo-vessel.yaml")
@@ -42,51 +43,6 @@ LATE = """
     text: gland leaking onto the terminal box of the sea water pump
     severity: high
 """
-
-
-def results(package: Path, day: str, *, megohms: str = "500 MΩ",
-            locks_left_on: str | None = None) -> dict[str, Any]:
-    """A results sheet for ``package`` filled as a technician would: every lock on (and
-    off again unless ``locks_left_on``), dead proven, steps done, each insulation reading
-    ``megohms`` at 20 °C and any other reading inside its own limit."""
-    data = json.loads(package.read_text(encoding="utf-8"))
-    sheet: dict[str, Any] = {
-        "package": data["id"], "package_sha256": package_sha256(data),
-        "completed_by": TECH, "supervisor": CHIEF, "completed_on": day,
-        "tester_proven_before": True, "tester_proven_after": True,
-        "proving_dead": {n: {pair: 0 for pair in check["pairs"]}
-                         for n, check in enumerate(data["proving_dead"], start=1)},
-        "steps": {step["number"]: {"done": True} for step in data["steps"]}}
-    sheet["isolation"] = {}
-    for n, point in enumerate(data["isolation"], start=1):
-        lock = {"lock": f"L-{n:02d}", "tag": f"T-{n:02d}", "applied_by": TECH,
-                "applied_at": f"{day} 08:{n:02d}"}
-        if locks_left_on is None:
-            lock |= {"removed_by": TECH, "removed_at": f"{day} 15:{n:02d}"}
-        sheet["isolation"][point["device"]] = lock
-    steps = list(data["steps"])
-    if locks_left_on is None:
-        sheet["restoration"] = {s["number"]: {"done": True} for s in data["restoration"]}
-        steps += data["restoration"]
-    else:  # the gate: the acceptance is not met, the item stays isolated
-        sheet["locks_left_on"] = locks_left_on
-        sheet["restoration"] = {data["restoration"][0]["number"]: {"done": True}}
-    sheet["readings"] = {}
-    for reading in (r for step in steps for r in step["readings"]):
-        limit = reading.get("limit") or {}
-        if reading["unit"] in ("MΩ", "kΩ", "Ω"):
-            value: Any = megohms
-        elif reading.get("expected") is not None:
-            value = reading["expected"]
-        elif limit.get("low") is not None:
-            value = limit["low"] * 2
-        else:
-            value = 253
-        entry = {"value": value}
-        if reading.get("needs_temperature"):
-            entry["temperature"] = 20
-        sheet["readings"][reading["id"]] = entry
-    return sheet
 
 
 class Week:
@@ -119,7 +75,9 @@ class Week:
     def record(self, day_folder: str, package_id: str, on: str, **filled: Any) -> str:
         package = self.root / "out" / day_folder / f"{package_id}.json"
         sheet = self.root / f"{package_id}-{on}.yaml"
-        sheet.write_text(yaml.safe_dump(results(package, on, **filled), allow_unicode=True),
+        data = json.loads(package.read_text(encoding="utf-8"))
+        sheet.write_text(yaml.safe_dump(filled_results(data, on, by=TECH, supervisor=CHIEF,
+                                                       **filled), allow_unicode=True),
                          encoding="utf-8")
         return self.run("record", str(package), str(sheet), "--db", self.db,
                         "--at", f"{on}T16:00+00:00")
