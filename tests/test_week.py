@@ -234,8 +234,12 @@ def test_locks_still_on_are_shown_in_the_morning_and_carried_into_the_plan(week:
 
 def test_the_suspended_job_comes_first_the_next_day_under_its_own_id(week: Any) -> None:
     for day in ("day-2", "day-3"):
-        assert week[day]["order"][0] == week["ids"]["windlass"]
-        assert week[day]["order"][0] in week[day]["scheduled"]
+        windlass = week["ids"]["windlass"]
+        assert week[day]["order"][0] == windlass
+        assert windlass in week[day]["scheduled"]
+        locks_on = week[day]["packages"][windlass]["locks_on"]  # printed on the package
+        assert any(line.startswith(f"CB-WL1 is still locked for {windlass}")
+                   for line in locks_on)
 
 
 def test_a_dry_out_over_three_days_is_one_job_with_daily_entries(week: Any) -> None:

@@ -208,6 +208,8 @@ class WorkPackage(Plain):
     ppe: tuple[str, ...] = ()
     isolation: tuple[IsolationPoint, ...] = ()
     isolation_gaps: tuple[str, ...] = ()  # paths no lock can cut: DANGER, shown as such
+    locks_on: tuple[str, ...] = ()  # this job's locks still on from an earlier day (a job
+    # carried over while suspended): each where, whose, since when
     stored_energy: tuple[str, ...] = ()
     proving_dead: tuple[ProvingDead, ...] = ()
     steps: tuple[Step, ...] = ()

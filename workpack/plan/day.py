@@ -81,8 +81,10 @@ def plan_day(topology: Topology, findings: Findings, day: dt.date, ruleset: Rule
             progress(done, len(matched.jobs))
     drafts.sort(key=lambda draft: _rank(draft[1], draft[0], carried))
     ids = assign_ids(plant.plant.code, day, [key for key, _ in drafts], carried.issued)
-    packages = tuple(p.model_copy(update={"id": n}) for n, (_, p) in zip(ids, drafts,
-                                                                         strict=True))
+    packages = tuple(p.model_copy(update={
+        "id": n, "locks_on": tuple(held.describe() for held in carried.locks
+                                   if held.package_id == n)})
+        for n, (_, p) in zip(ids, drafts, strict=True))
     scheduled, deferred = _fit(packages, crew_hours)
     chosen = [p for p in packages if p.id in scheduled]
     conflicts = [*_not_fitted(packages, deferred, crew_hours),

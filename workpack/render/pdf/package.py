@@ -348,9 +348,15 @@ class PackagePdf(PdfDocument):
 
     def isolation_block(self) -> list[Flowable]:
         p = self.package
-        return self.isolation_table(p.isolation, p.isolation_gaps, p.stored_energy, (),
-                                    self.numbered("Isolation: open, lock and tag in this "
-                                                  "order"), p.restoration)
+        out = self.isolation_table(p.isolation, p.isolation_gaps, p.stored_energy, (),
+                                   self.numbered("Isolation: open, lock and tag in this "
+                                                 "order"), p.restoration)
+        if p.locks_on:  # a job carried over with its locks on
+            return [Paragraph("Locks of this job still on from an earlier day: at each, "
+                              "check that the lock and tag are in place and write their "
+                              "numbers below; do not take them off before the restoration "
+                              "says so", self.style["bold"]), *self.bullets(p.locks_on), *out]
+        return out
 
     def isolation_table(self, isolation: Sequence[IsolationPoint], gaps: Sequence[str],
                         stored_energy: Sequence[str], scope: tuple[str, ...],
