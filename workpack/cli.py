@@ -16,7 +16,7 @@ from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any, NamedTuple, TypeVar
 
-from workpack.errors import UsageError, WorkpackError, did_you_mean
+from workpack.errors import InputError, UsageError, WorkpackError, did_you_mean
 from workpack.shipped import asset_map, rules_folder
 
 
@@ -410,18 +410,26 @@ def _store_plant(args: argparse.Namespace) -> str | None:
 
 def _cmd_record(args: argparse.Namespace) -> int:
     from workpack.evaluate import evaluate
-    from workpack.loading import load_results
+    from workpack.loading import load_results_marked, located
+    from workpack.lockregister import check_record_locks, results_locks, stored_locks
     from workpack.output import write_all
+    from workpack.recordchecks import lock_mismatches
     from workpack.records import record_payload
     from workpack.render.text import evaluation_text
     from workpack.store import open_store
 
     package, digest = _issued_package(Path(args.package))
-    results = load_results(Path(args.results), package, digest)
+    results, marks = load_results_marked(Path(args.results), package, digest)
     if not results.anything_filled_in():
         raise UsageError(f"{args.results}: nothing is filled in; record a job once it has "
                          "been done")
-    evaluation = evaluate(package, results, _standards())
+    # Everything refused is refused before the store is opened or written: nothing half
+    # recorded, and no store created for a record that is not written.
+    problems, not_accepted = _register_problems(args, package, results)
+    problems += lock_mismatches(package, results, ())
+    if problems:
+        raise InputError(located(marks, problems))
+    evaluation = evaluate(package, results, _standards(), not_accepted)
     at = args.at or dt.datetime.now(dt.UTC)
     recorded_by = args.by or results.completed_by or "unknown"
     with open_store(_default_db(args), plant=package.plant) as store:
@@ -430,6 +438,12 @@ def _cmd_record(args: argparse.Namespace) -> int:
             raise UsageError(f"{package.id} is already recorded (record {latest.sequence}); "
                              f"to correct it, record again with --supersedes "
                              f"{latest.sequence}")
+        # The plant's lock register as the store has it, without the record this corrects.
+        earlier = stored_locks(r for r in store.records() if r.sequence != args.supersedes)
+        uses, boxes, _ = results_locks(results, package.plant, package.id)
+        clashes = check_record_locks(uses, boxes, earlier)
+        if clashes:
+            raise InputError(located(marks, clashes))
         record = store.append(package_id=package.id, package_sha256=digest,
                               results=record_payload(results, evaluation),
                               recorded_by=recorded_by, recorded_at=at,
@@ -446,6 +460,49 @@ def _cmd_record(args: argparse.Namespace) -> int:
         out = Path(args.followups)
         write_all(out.parent, {out.name: text.encode()})
         sys.stdout.write(f"{len(evaluation.followups)} follow-up finding(s) written to {out}\n")
+    return 0
+
+
+def _register_problems(args: argparse.Namespace, package: Any,
+                       results: Any) -> tuple[list[Any], dict[str, str]]:
+    """The record checked against the crew register (its signers) and the instrument
+    register (its readings), where given: the problems that refuse it, and the readings
+    recorded as not accepted (reading id → why)."""
+    problems: list[Any] = []
+    not_accepted: dict[str, str] = {}
+    if args.crew:
+        from workpack.competence import job_needs
+        from workpack.crew_shell import load_crew
+        from workpack.recordchecks import signer_mismatches
+
+        register, _ = load_crew(Path(args.crew))
+        problems += signer_mismatches(register, package, results, job_needs(package))
+    if args.instruments:
+        from workpack.recordchecks import instrument_check
+        from workpack.register_files import load_instruments
+
+        check = instrument_check(load_instruments(Path(args.instruments)), package, results)
+        problems += check.problems
+        not_accepted = check.not_accepted
+    return problems, not_accepted
+
+
+def _cmd_locks(args: argparse.Namespace) -> int:
+    from workpack.loading import load_plant
+    from workpack.lockregister import locks_on, stored_locks
+    from workpack.render.text import locks_text
+    from workpack.store import is_server_url, open_store
+
+    plant = load_plant(Path(args.plant))[0].plant.name
+    db = _default_db(args)
+    if not is_server_url(db) and not Path(db).exists():
+        raise UsageError(f"--db {db}: no such records store")
+    with open_store(db, plant=plant, create=False) as store:
+        uses = stored_locks(store.records())
+        where = store.location
+    on = [lock for lock in locks_on(uses) if lock.plant == plant]
+    sys.stdout.write(_to_json({"plant": plant, "store": where, "locks_on": on}) if args.json
+                     else locks_text(plant, where, on))
     return 0
 
 
@@ -894,7 +951,23 @@ def build_parser() -> argparse.ArgumentParser:
                         help="this corrects record N (records are never changed)")
     record.add_argument("--followups", metavar="FILE",
                         help="write follow-up findings (e.g. insulation below minimum) here")
+    record.add_argument("--crew", metavar="CREW.yaml",
+                        help="crew register: refuse the record unless its technician and "
+                             "supervisor are in it and qualified for the job")
+    record.add_argument("--instruments", metavar="INSTRUMENTS.yaml",
+                        help="instrument register: each reading names its instrument, in "
+                             "calibration on the day; a reading outside its range is not "
+                             "accepted")
     record.set_defaults(run=_cmd_record)
+
+    locks = commands.add_parser(
+        "locks", help="the lock register: every lock on now, where, whose, since when, for "
+                      "which job")
+    locks.add_argument("plant", metavar="PLANT", help="plant inventory (YAML)")
+    locks.add_argument("--db", help="records store: an SQLite file, or a postgresql:// URL "
+                                    "(default: PLANT.records.sqlite beside the plant)")
+    locks.add_argument("--json", action="store_true", help="print JSON")
+    locks.set_defaults(run=_cmd_locks)
 
     verify = commands.add_parser("verify", help="check the records store's hash chain")
     _store_options(verify)

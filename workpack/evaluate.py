@@ -163,10 +163,14 @@ def _measured_si(reading: Reading, value: float | str) -> float:
 # --- judging ---------------------------------------------------------------------------------
 
 
-def evaluate(package: WorkPackage, results: Results,
-             standards: Mapping[str, CodeSet]) -> Evaluation:
-    """Judge checked results (``check_results`` found nothing) against their package."""
-    verdicts = tuple(_judge(reading, results, standards) for reading in package.readings())
+def evaluate(package: WorkPackage, results: Results, standards: Mapping[str, CodeSet],
+             not_accepted: Mapping[str, str] | None = None) -> Evaluation:
+    """Judge checked results (``check_results`` found nothing) against their package.
+    ``not_accepted``: reading id → why its value cannot be accepted (an instrument's range,
+    ``recordchecks.instrument_check``); such a reading counts as not recorded, with why."""
+    refused = not_accepted or {}
+    verdicts = tuple(_judge(reading, results, standards, refused.get(reading.id))
+                     for reading in package.readings())
     deciding = {reading.id for reading in package.readings() if reading.acceptance}
     found = results.ground_found_at is not None
     # A branch of a search is done only if the search led there: unrecorded, it is no gap.
@@ -291,8 +295,8 @@ def _person(name: str) -> str:
     return " ".join(name.split()).casefold()
 
 
-def _judge(reading: Reading, results: Results,
-           standards: Mapping[str, CodeSet]) -> ReadingVerdict:
+def _judge(reading: Reading, results: Results, standards: Mapping[str, CodeSet],
+           refused: str | None = None) -> ReadingVerdict:
     measured = results.readings.get(reading.id)
     limit = reading.limit
     low = limit.low if limit else None
@@ -309,6 +313,10 @@ def _judge(reading: Reading, results: Results,
     value = measured_value(reading, measured.value)
     temperature = (to_si(measured.temperature, "temperature")
                    if measured.temperature is not None else None)
+    if refused is not None:
+        return ReadingVerdict(**base, measured_si=value, temperature_c=temperature,
+                              compared_si=None, outcome="not recorded",
+                              note=f"not accepted: {refused}")
     compared = value
     note = ""
     if corrected_to is not None and limit is not None and limit.code_set:

@@ -32,6 +32,8 @@ from dataclasses import dataclass
 from enum import StrEnum
 
 from workpack.checks import Mismatch, Path
+from workpack.model.results import FinalTestResults, LockTransfer, Results
+from workpack.records import StoredRecord, read_back, superseded_by
 
 
 class LockKind(StrEnum):
@@ -62,7 +64,7 @@ class LockUse:
     kind: LockKind
     place: str  # the device id (point lock) or the lock box's number (personal lock)
     holder: str  # who applied it
-    applied_at: dt.datetime
+    applied_at: dt.datetime | None  # None: an older record's time that is not a time
     removed_at: dt.datetime | None = None
     removed_by: str | None = None
     transfers: tuple[Transfer, ...] = ()
@@ -97,8 +99,8 @@ class LockOn:
     place: str
     holder: str  # who holds it now (after any transfers)
     applied_by: str
-    applied_at: dt.datetime
-    held_since: dt.datetime  # when the holder took it (applied_at, or the last transfer)
+    applied_at: dt.datetime | None  # None: not recorded as a time (an older record)
+    held_since: dt.datetime | None  # when the holder took it (applied_at, or the last transfer)
     box: str | None
 
 
@@ -127,12 +129,15 @@ def parse_lock_time(value: object) -> dt.datetime | str:
     return when
 
 
-def shown(when: dt.datetime) -> str:
+def shown(when: dt.datetime | None) -> str:
     """A lock time as printed: to the minute, with its zone where it has one."""
+    if when is None:
+        return "a time not recorded"
     return when.isoformat(sep=" ", timespec="minutes")
 
 
-def holder_at(use: LockUse, when: dt.datetime | None = None) -> tuple[str, dt.datetime]:
+def holder_at(use: LockUse,
+              when: dt.datetime | None = None) -> tuple[str, dt.datetime | None]:
     """Who holds ``use`` at ``when`` (None: after every recorded transfer), and since when."""
     holder, since = use.holder, use.applied_at
     for transfer in use.transfers:
@@ -154,7 +159,7 @@ def latest_states(uses: Iterable[LockUse]) -> list[LockUse]:
 
 
 def _is_on(use: LockUse, at: dt.datetime | None) -> bool:
-    if at is not None and instant(use.applied_at) > instant(at):
+    if at is not None and use.applied_at is not None and instant(use.applied_at) > instant(at):
         return False
     return use.removed_at is None or (at is not None and instant(use.removed_at) > instant(at))
 
@@ -176,10 +181,12 @@ def locks_on(uses: Iterable[LockUse], at: dt.datetime | None = None) -> list[Loc
 
 def _overlap(first: LockUse, second: LockUse) -> bool:
     """True when the two uses are on at some common time (removal is the end, exclusive)."""
+    def start(use: LockUse) -> dt.datetime:
+        return instant(use.applied_at) if use.applied_at is not None else dt.datetime.min
+
     def end(use: LockUse) -> dt.datetime:
         return instant(use.removed_at) if use.removed_at is not None else dt.datetime.max
-    return (instant(first.applied_at) < end(second)
-            and instant(second.applied_at) < end(first))
+    return start(first) < end(second) and start(second) < end(first)
 
 
 def _where(use: LockUse) -> str:
@@ -191,6 +198,8 @@ def _where(use: LockUse) -> str:
 def check_times(use: LockUse) -> list[Mismatch]:
     """Applied, each transfer and removed in order; each transfer from the holder then."""
     problems = []
+    if use.applied_at is None:
+        return []  # an older record's text: nothing to put in order
     last, last_what = use.applied_at, "applied"
     holder = use.holder
     for number, transfer in enumerate(use.transfers):
@@ -302,3 +311,109 @@ def _check_boxes(uses: Sequence[LockUse], boxes: Sequence[LockBox]) -> list[Mism
 
 def _known(named: dict[str, LockBox]) -> str:
     return f" ({', '.join(sorted(named))})" if named else " (it names none)"
+
+
+# --- from results and records -----------------------------------------------------------------
+
+
+@dataclass
+class _Reader:
+    """Turns one results' locks into ``LockUse``s; strict at record time (every time must
+    be a time), lenient for stored records (an older record's text becomes None)."""
+
+    plant: str
+    job: str
+    sequence: int
+    strict: bool
+    problems: list[Mismatch]
+
+    def time(self, text: str | None, where: Path) -> dt.datetime | None:
+        if text is None:
+            return None
+        when = parse_lock_time(text)
+        if isinstance(when, str):
+            if self.strict:
+                self.problems.append(Mismatch(where, when))
+            return None
+        return when
+
+    def transfers(self, given: Sequence[LockTransfer], where: Path) -> tuple[Transfer, ...]:
+        found = []
+        for index, transfer in enumerate(given):
+            at = self.time(transfer.at, (*where, "transfers", index, "at"))
+            if at is not None:
+                found.append(Transfer(transfer.from_holder, transfer.to_holder, at,
+                                      (*where, "transfers", index)))
+        return tuple(found)
+
+    def use(self, kind: LockKind, lock: str, place: str, applied_by: str | None,
+            applied_at: str | None, removed_by: str | None, removed_at: str | None,
+            transfers: Sequence[LockTransfer], box: str | None, where: Path) -> LockUse | None:
+        if self.strict:
+            for needed, given, field in (("applied_by", applied_by, "who applied it"),
+                                         ("applied_at", applied_at, "when it was applied")):
+                if given is None:
+                    self.problems.append(Mismatch((*where, needed), f"lock {lock}: give "
+                                                  f"{field} ({needed})"))
+            if (removed_by is None) != (removed_at is None):
+                missing = "removed_at" if removed_at is None else "removed_by"
+                self.problems.append(Mismatch((*where, missing), f"lock {lock}: a removal "
+                                              "names who removed it and when (removed_by "
+                                              "and removed_at)"))
+        applied = self.time(applied_at, (*where, "applied_at"))
+        removed = self.time(removed_at, (*where, "removed_at"))
+        moved = self.transfers(transfers, where)
+        if applied_by is None:
+            return None
+        return LockUse(self.plant, self.job, lock, kind, place, applied_by, applied,
+                       removed, removed_by, moved, box, self.sequence, where)
+
+
+def results_locks(results: Results, plant: str, job: str, *, sequence: int = 0,
+                  strict: bool = True) -> tuple[list[LockUse], list[LockBox], list[Mismatch]]:
+    """The locks and lock boxes one job's results state, and (``strict``) why some cannot
+    be read: a time that is not one, a lock without who or when."""
+    reader = _Reader(plant, job, sequence, strict, [])
+    uses: list[LockUse] = []
+    scopes: list[tuple[Path, Results | FinalTestResults]] = [((), results)]
+    scopes += [(("final_tests", final_id), final)
+               for final_id, final in results.final_tests.items()]
+    for base, scope in scopes:
+        for device, record in scope.isolation.items():
+            if record.lock is None:
+                continue
+            use = reader.use(LockKind.point, record.lock, device, record.applied_by,
+                             record.applied_at, record.removed_by, record.removed_at,
+                             record.transfers, record.box, (*base, "isolation", device))
+            if use is not None:
+                uses.append(use)
+    boxes = []
+    for number, box in results.lock_boxes.items():
+        where: Path = ("lock_boxes", number)
+        boxes.append(LockBox(plant, job, number, box.keys, where))
+        for lock, personal in box.personal_locks.items():
+            use = reader.use(LockKind.personal, lock, number, personal.applied_by,
+                             personal.applied_at, personal.removed_by, personal.removed_at,
+                             personal.transfers, None, (*where, "personal_locks", lock))
+            if use is not None:
+                uses.append(use)
+    return uses, boxes, reader.problems
+
+
+def stored_locks(records: Iterable[StoredRecord]) -> list[LockUse]:
+    """Every lock the effective records state (a superseded record states nothing); a
+    record whose payload cannot be read is left out (``workpack verify`` names it)."""
+    chain = list(records)
+    superseded = superseded_by(chain)
+    uses: list[LockUse] = []
+    for record in chain:
+        if record.sequence in superseded:
+            continue
+        back = read_back(record)
+        if back.payload is None:
+            continue
+        found, _, _ = results_locks(back.payload.results, back.payload.evaluation.plant,
+                                    record.package_id, sequence=record.sequence,
+                                    strict=False)
+        uses += found
+    return uses

@@ -15,6 +15,7 @@ from typing import Literal
 
 from pydantic import BaseModel, ConfigDict, Field
 
+from workpack.model.crew import Requirement
 from workpack.numbers import format_quantity
 
 
@@ -218,6 +219,8 @@ class WorkPackage(Plain):
     sketch: Sketch | None = None
     instrument_supply: str | None = None  # element whose supply a test instrument needs
     switches: tuple[str, ...] = ()  # devices the job opens for a while and closes again
+    needs: tuple[Requirement, ...] = ()  # what the technician must hold (workpack.competence)
+    supervisor_needed: bool = False  # another person supervises and countersigns
     notice: str = ("Local codes, the employer's safety rules and licensed practice prevail "
                    "over this package.")
 
