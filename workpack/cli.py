@@ -282,9 +282,19 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     if out.is_dir():  # refuse before the work, not after it; write_all asks again, locked
         with reading(out):
             replaces(out)
+    register = _plan_crew(args, plant.plant.name)
+    crew_hours = args.crew_hours
+    if crew_hours is None:
+        from workpack.plan.crewing import available_hours
+
+        crew_hours = available_hours(register, day) if register is not None else 16.0
     progress = _Progress("planning") if sys.stderr.isatty() else None
     result = plan_day(topology, findings, day, ruleset, _standards(), weights,
-                      args.crew_hours, history=history, progress=progress)
+                      crew_hours, history=history, progress=progress)
+    if register is not None:
+        from workpack.plan.crewing import staff_day
+
+        result = staff_day(result, register)
     files: dict[str, bytes] = {}
     rendering = _Progress("rendering") if sys.stderr.isatty() else None
     for done, package in enumerate(result.packages, start=1):
@@ -298,6 +308,20 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     written = write_all(out, files, replaces=replaces)
     sys.stdout.write(day_plan(result) + f"\n{len(written)} files written to {written[0].parent}\n")
     return 0
+
+
+def _plan_crew(args: argparse.Namespace, plant: str) -> Any:
+    """The crew register of ``plan --crew``, refused when it is another plant's."""
+    if not args.crew:
+        return None
+    from workpack.crew import serves
+    from workpack.crew_shell import load_crew
+
+    register, _ = load_crew(Path(args.crew))
+    if not serves(register, plant):
+        raise UsageError(f"--crew {args.crew}: the register is for "
+                         f"{', '.join(register.crew.plants)}, not {plant}")
+    return register
 
 
 def _history(args: argparse.Namespace, plant: Any) -> Any:
@@ -921,9 +945,11 @@ def build_parser() -> argparse.ArgumentParser:
     plan.add_argument("--date", type=_option("--date", _day),
                       help="the day planned for (YYYY-MM-DD); default: the day after the "
                            "findings' date")
-    plan.add_argument("--crew-hours", type=_option("--crew-hours", _hours), default=16.0,
-                      metavar="H",
-                      help="person-hours available (default 16: two people, a day)")
+    plan.add_argument("--crew-hours", type=_option("--crew-hours", _hours), metavar="H",
+                      help="person-hours available (default: the crew register's hours of "
+                           "the day with --crew, else 16: two people, a day)")
+    plan.add_argument("--crew", metavar="CREW.yaml",
+                      help="crew register: name the people for each job, within their hours")
     plan.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
     plan.add_argument("--rules", default=str(rules_folder()), metavar="DIR",
                       help="rules folder (default: the shipped rules/)")

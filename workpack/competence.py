@@ -36,13 +36,15 @@ class JobNeeds:
     volts: float
 
     def describe(self) -> str:
-        """One line for the package: "authorised_person at 440 V; supervisor at 440 V
-        (another person) countersigns"."""
-        parts = [f"{n.kind.value} at {format_quantity(n.volts, 'V')}" for n in self.needs]
+        """One line for the package: "the technician: authorised person for 440 V; a
+        supervisor for 440 V (another person) checks and countersigns"."""
+        held = " and ".join(n.kind.value.replace("_", " ") for n in self.needs)
+        parts = [f"the technician: {held} for {format_quantity(self.volts, 'V')}"
+                 if held else "the technician: no qualification stated"]
         if self.supervisor_needed:
-            parts.append(f"supervisor at {format_quantity(self.volts, 'V')} (another person) "
-                         "countersigns")
-        return "; ".join(parts) or "none"
+            parts.append(f"a supervisor for {format_quantity(self.volts, 'V')} (another "
+                         "person) checks and countersigns")
+        return "; ".join(parts)
 
 
 def derive_needs(job_kind: str, isolates: bool, tests: bool,

@@ -221,6 +221,8 @@ class WorkPackage(Plain):
     switches: tuple[str, ...] = ()  # devices the job opens for a while and closes again
     needs: tuple[Requirement, ...] = ()  # what the technician must hold (workpack.competence)
     supervisor_needed: bool = False  # another person supervises and countersigns
+    assigned: tuple[str, ...] = ()  # "S. Quayle (LCS-0107)": the lead first (plan --crew)
+    supervisor_assigned: str | None = None  # who supervises and countersigns (plan --crew)
     notice: str = ("Local codes, the employer's safety rules and licensed practice prevail "
                    "over this package.")
 

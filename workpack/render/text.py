@@ -173,6 +173,10 @@ def day_plan(plan: DayPlan) -> str:
             used += need
         lines.append(f"  {package.id}  P{package.priority}  {state:9}  "
                      f"{package.duration_h:g} h × {package.crew}  {package.title}")
+        if package.assigned:
+            supervisor = (f"; supervisor {package.supervisor_assigned}"
+                          if package.supervisor_assigned else "")
+            lines.append(f"      crew: {', '.join(package.assigned)}{supervisor}")
     lines.append(f"\n{len(plan.scheduled)} scheduled ({used:g} person-hours), "
                  f"{len(plan.deferred)} deferred")
     for conflict in plan.conflicts:
