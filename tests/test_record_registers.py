@@ -286,3 +286,57 @@ def test_a_reading_outside_the_instruments_range_is_recorded_as_not_accepted(
         payload = read_payload(store.get(1))
     dry = [r for r in payload.evaluation.readings if r.note.startswith("not accepted")]
     assert [(r.outcome, r.measured_si) for r in dry] == [("not recorded", 50e6)] * 3
+
+
+def test_a_lock_holder_not_in_the_crew_register_is_refused(packages, tmp_path, capsys) -> None:
+    package = windlass(packages)
+    sheet = signed_sheet(package, tmp_path, **{"applied_by: S. Quayle": "applied_by: S. Qualye"})
+    db = tmp_path / "r.sqlite"
+    assert record(package, sheet, db, "--crew", CREW) == 2
+    refused(capsys, sheet, db, "applied_by: 'S. Qualye' is not in the crew register")
+
+
+def test_a_transferred_lock_is_removed_by_its_new_holder(packages, tmp_path, capsys) -> None:
+    """After the shift change M. Rosevear holds L-07 and removes it: no deviation; had
+    S. Quayle removed it, the record would say the holder should have."""
+    package = windlass(packages)
+    sheet = signed_sheet(package, tmp_path)
+    text = sheet.read_text(encoding="utf-8")
+    start = text.index("    lock: L-07")
+    end = text.index("    removed_at:", start)
+    block = text[start:end].replace("removed_by: S. Quayle", "removed_by: M. Rosevear")
+    handover = ('    transfers: [{from_holder: S. Quayle, to_holder: M. Rosevear, '
+                'at: "2026-12-02 12:00"}]\n')
+    sheet.write_text(text[:start] + block + handover + text[end:], encoding="utf-8")
+    db = tmp_path / "r.sqlite"
+    assert record(package, sheet, db, "--crew", CREW) == 0
+    assert "PASSED" in capsys.readouterr().out
+    sheet.write_text(text[:start] + text[start:end] + handover + text[end:], encoding="utf-8")
+    assert record(package, sheet, tmp_path / "r2.sqlite") == 0
+    out = capsys.readouterr().out
+    assert "lock L-07 held by M. Rosevear (transferred from S. Quayle) was removed by " \
+           "S. Quayle: each lock is removed by whoever holds it" in out
+
+
+@pytest.mark.parametrize(("change", "to", "expected"), [
+    ("  - id: MM-11\n", "  - id: IT-03\n",
+     r":23:9: instruments\[1\]\.id: instrument id 'IT-03' is given twice: readings name an "
+     r"instrument by its id \(first given on line 12\)"),
+    ("{measures: voltage, low: 12 V, high: 1000 V}",
+     "{measures: resistance, low: 12 V, high: 1000 V}",
+     r":\d+:\d+: instruments\[2\]\.ranges\[0\]: low: 'V' is not a unit of resistance"),
+], ids=["duplicate-id", "range-in-the-wrong-unit"])
+def test_a_broken_instrument_register_is_one_located_line(packages, tmp_path, capsys, change,
+                                                          to, expected) -> None:
+    register = tmp_path / "instruments.yaml"
+    text = Path(INSTRUMENTS).read_text(encoding="utf-8")
+    assert change in text
+    register.write_text(text.replace(change, to, 1), encoding="utf-8")
+    package = windlass(packages)
+    db = tmp_path / "r.sqlite"
+    assert record(package, signed_sheet(package, tmp_path), db, "--instruments",
+                  str(register)) == 2
+    err = capsys.readouterr().err
+    assert re.match(re.escape(str(register)) + expected, err), err
+    assert len(err.strip().splitlines()) == 1
+    assert not db.exists()

@@ -497,10 +497,11 @@ def _register_problems(args: argparse.Namespace, package: Any,
     if args.crew:
         from workpack.competence import job_needs
         from workpack.crew_shell import load_crew
-        from workpack.recordchecks import signer_mismatches
+        from workpack.recordchecks import lock_holder_mismatches, signer_mismatches
 
         register, _ = load_crew(Path(args.crew))
         problems += signer_mismatches(register, package, results, job_needs(package))
+        problems += lock_holder_mismatches(register, results)
     if args.instruments:
         from workpack.recordchecks import instrument_check
         from workpack.register_files import load_instruments

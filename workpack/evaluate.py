@@ -268,7 +268,14 @@ def _check_isolation(prefix: str, scope: WorkPackage | FinalTest,
                 continue
             out.add("lock", ref, f"{ref}: lock {lock.lock} applied by {lock.applied_by} was "
                     "never recorded as removed", fails=True)
-        elif _person(lock.removed_by) != _person(lock.applied_by):
+        elif lock.transfers and _person(lock.removed_by) != _person(
+                lock.transfers[-1].to_holder):
+            # 29 CFR 1910.147(f)(4): after a recorded transfer the oncoming holder removes it.
+            out.add("lock", ref, f"{ref}: lock {lock.lock} held by "
+                    f"{lock.transfers[-1].to_holder} (transferred from "
+                    f"{lock.transfers[-1].from_holder}) was removed by {lock.removed_by}: each "
+                    "lock is removed by whoever holds it", fails=False)
+        elif not lock.transfers and _person(lock.removed_by) != _person(lock.applied_by):
             out.add("lock", ref, f"{ref}: lock {lock.lock} applied by {lock.applied_by} was "
                     f"removed by {lock.removed_by}: each lock is removed by whoever applied it "
                     "(record the employer's procedure for removal by another in the remarks)",

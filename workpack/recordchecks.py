@@ -4,7 +4,8 @@
   across the plant's jobs (``lockregister``); no lock applied before the package's day.
 - Signers (with a crew register): technician and supervisor are people of the register,
   the technician holds what the job needs, the supervisor may supervise and is somebody
-  else where the job needs both (``crew.signer_problems``).
+  else where the job needs both (``crew.signer_problems``); everyone a lock names is in
+  the register.
 - Instruments (with an instrument register): each reading names an instrument of the
   register, in calibration on the reading's day. A reading outside the instrument's range
   is not refused but *not accepted*: the evaluation records it with the reason.
@@ -28,7 +29,7 @@ from workpack.lockregister import LockUse, check_record_locks, results_locks, sh
 from workpack.model.crew import CrewRegister, Person
 from workpack.model.instruments import InstrumentRegister
 from workpack.model.package import WorkPackage
-from workpack.model.results import Results
+from workpack.model.results import FinalTestResults, LockTransfer, Results
 from workpack.numbers import format_ohms, format_quantity
 from workpack.units import KINDS, UnitProblem
 
@@ -175,3 +176,34 @@ def check_instrument_register(register: InstrumentRegister) -> list[Mismatch]:
         else:
             seen[instrument.id] = index
     return problems
+
+
+def lock_holder_mismatches(register: CrewRegister, results: Results) -> list[Mismatch]:
+    """Each person a lock names (who applied, removed, handed over or took over a lock, on a
+    point or a lock box) is a person of the crew register: a personal lock is one worker's."""
+    named: list[tuple[tuple[str | int, ...], str]] = []
+
+    def collect(where: tuple[str | int, ...], applied_by: str | None, removed_by: str | None,
+                transfers: Iterable[LockTransfer]) -> None:
+        for field_name, who in (("applied_by", applied_by), ("removed_by", removed_by)):
+            if who is not None:
+                named.append(((*where, field_name), who))
+        for index, transfer in enumerate(transfers):
+            named.append(((*where, "transfers", index, "from_holder"), transfer.from_holder))
+            named.append(((*where, "transfers", index, "to_holder"), transfer.to_holder))
+
+    scopes: list[tuple[tuple[str | int, ...], Results | FinalTestResults]] = [((), results)]
+    scopes += [(("final_tests", key), final) for key, final in results.final_tests.items()]
+    for base, scope in scopes:
+        for device, lock in scope.isolation.items():
+            if lock.lock is not None:
+                collect((*base, "isolation", device), lock.applied_by, lock.removed_by,
+                        lock.transfers)
+    for box_id, box in results.lock_boxes.items():
+        for number, personal in box.personal_locks.items():
+            collect(("lock_boxes", box_id, "personal_locks", number), personal.applied_by,
+                    personal.removed_by, personal.transfers)
+    known = [p.name for p in register.people]
+    return [Mismatch(where, f"{who!r} is not in the crew register (give their id or their "
+                            f"name as the register has it){did_you_mean(who, known)}")
+            for where, who in named if find_person(register, who) is None]
