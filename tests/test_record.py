@@ -8,6 +8,7 @@ from pathlib import Path
 
 import pytest
 from conftest import ROOT
+from lockfill import fill_locks
 from pypdf import PdfReader, PdfWriter
 
 from workpack.cli import main
@@ -57,10 +58,7 @@ def filled_sheet(package: Path, tmp_path: Path, *, dry_out_mohm: str = "40 MΩ",
     text = text.replace("completed_on:            # YYYY-MM-DD", "completed_on: 2026-12-02")
     text = text.replace("tester_proven_before: false", "tester_proven_before: true")
     text = text.replace("tester_proven_after: false", "tester_proven_after: true")
-    for field, value in (("lock", "L-07"), ("tag", "T-07"), ("applied_by", "S. Quayle")):
-        text = re.sub(rf"    {field}:\n", f"    {field}: {value}\n", text)
-    if removed:
-        text = re.sub(r"    removed_by:\n", "    removed_by: S. Quayle\n", text)
+    text = fill_locks(text, "S. Quayle", first=7, removed=removed)
     text = re.sub(r'(    "[A-C12]-[A-CE12]":)\n', r"\1 0\n", text)
     text = text.replace("{done: false}", "{done: true}")
     text = re.sub(rf"(  {at['found']}\.R\d:.*\n)    value:\n    temperature:.*\n",
@@ -114,7 +112,7 @@ def test_a_lock_applied_and_never_removed_fails_the_job(packages, tmp_path, caps
                  "--db", str(tmp_path / "r.sqlite"), "--at", AT]) == 0
     out = capsys.readouterr().out
     assert "FAILED" in out
-    assert "CB-WL1: lock L-07 applied by S. Quayle was never recorded as removed" in out
+    assert "CB-WL1: lock L-08 applied by S. Quayle was never recorded as removed" in out
 
 
 def test_filled_pdf_gives_the_same_record_as_the_yaml_sheet(packages, tmp_path) -> None:
@@ -127,12 +125,14 @@ def test_filled_pdf_gives_the_same_record_as_the_yaml_sheet(packages, tmp_path) 
     values: dict[str, str] = {field_name("sign", "technician"): "S. Quayle",
                               field_name("sign", "supervisor"): "R. Tamsin",
                               field_name("sign", "date"): "2026-12-02"}
-    for point in data["isolation"]:
+    for number, point in enumerate(data["isolation"], start=7):
         device = point["device"]
-        values |= {field_name("lock", device, "number"): "L-07",
-                   field_name("tag", device, "number"): "T-07",
+        values |= {field_name("lock", device, "number"): f"L-{number:02d}",
+                   field_name("tag", device, "number"): f"T-{number:02d}",
                    field_name("lock", device, "applied_by"): "S. Quayle",
-                   field_name("lock", device, "removed_by"): "S. Quayle"}
+                   field_name("lock", device, "applied_at"): "2026-12-02 08:15",
+                   field_name("lock", device, "removed_by"): "S. Quayle",
+                   field_name("lock", device, "removed_at"): "2026-12-02 15:30"}
     for index, point in enumerate(data["proving_dead"], start=1):
         values |= {field_name("dead", index, pair): "0" for pair in point["pairs"]}
     at = numbers(package)

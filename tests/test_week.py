@@ -160,12 +160,13 @@ def week(tmp_path_factory: pytest.TempPathFactory) -> Any:
 
     # 12-03: second day of the windlass dry-out, still below its minimum.
     steps["record-windlass-2"] = w.record("2026-12-03", windlass, "2026-12-03",
-                                          megohms="3 MΩ",
+                                          megohms="3 MΩ", locked_on="2026-12-02",
                                           locks_left_on="dry-out goes on overnight")
     steps["day-3"] = w.plan("2026-12-04", empty)
 
     # 12-04: the windlass passes and its locks come off; 12-05: the fire pump passes.
-    steps["record-windlass-3"] = w.record("2026-12-04", windlass, "2026-12-04")
+    steps["record-windlass-3"] = w.record("2026-12-04", windlass, "2026-12-04",
+                                          locked_on="2026-12-02")
     steps["status-3"] = w.status("2026-12-05")
     steps["day-4"] = w.plan("2026-12-05", empty)
     steps["record-dry-out"] = w.record("2026-12-03", dry_out, "2026-12-05")
@@ -238,8 +239,8 @@ def test_the_suspended_job_comes_first_the_next_day_under_its_own_id(week: Any) 
         assert week[day]["order"][0] == windlass
         assert windlass in week[day]["scheduled"]
         locks_on = week[day]["packages"][windlass]["locks_on"]  # printed on the package
-        assert any(line.startswith(f"CB-WL1 is still locked for {windlass}")
-                   for line in locks_on)
+        assert any(lock["device"] == "CB-WL1" and lock["text"].startswith(
+            f"CB-WL1 is still locked for {windlass}") for lock in locks_on)
 
 
 def test_a_dry_out_over_three_days_is_one_job_with_daily_entries(week: Any) -> None:

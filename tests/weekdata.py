@@ -10,10 +10,13 @@ from workpack.store import package_sha256
 
 
 def filled_results(data: Mapping[str, Any], day: str, *, by: str, supervisor: str,
-                   megohms: str = "500 MΩ", locks_left_on: str | None = None) -> dict[str, Any]:
+                   megohms: str = "500 MΩ", locks_left_on: str | None = None,
+                   locked_on: str | None = None) -> dict[str, Any]:
     """Results for the package ``data`` (its JSON twin, parsed): every lock on (and off
     again unless ``locks_left_on``), dead proven, steps done, each insulation reading
-    ``megohms`` at 20 °C and any other reading inside its own limit."""
+    ``megohms`` at 20 °C and any other reading inside its own limit. Each point's lock is
+    numbered after the package and the point, so a job keeps its locks from day to day;
+    ``locked_on`` is the day they went on (default ``day``)."""
     sheet: dict[str, Any] = {
         "package": data["id"], "package_sha256": package_sha256(data),
         "completed_by": by, "supervisor": supervisor, "completed_on": day,
@@ -23,8 +26,9 @@ def filled_results(data: Mapping[str, Any], day: str, *, by: str, supervisor: st
         "steps": {step["number"]: {"done": True} for step in data["steps"]}}
     sheet["isolation"] = {}
     for n, point in enumerate(data["isolation"], start=1):
-        lock = {"lock": f"L-{n:02d}", "tag": f"T-{n:02d}", "applied_by": by,
-                "applied_at": f"{day} 08:{n:02d}"}
+        mark = f"{data['id'].rsplit('-', 2)[-2][4:]}-{data['id'].rsplit('-', 1)[-1]}-{n}"
+        lock = {"lock": f"L{mark}", "tag": f"T{mark}", "applied_by": by,
+                "applied_at": f"{locked_on or day} 08:{n:02d}"}
         if locks_left_on is None:
             lock |= {"removed_by": by, "removed_at": f"{day} 15:{n:02d}"}
         sheet["isolation"][point["device"]] = lock

@@ -16,7 +16,7 @@ from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any, NamedTuple, TypeVar
 
-from workpack.errors import UsageError, WorkpackError, did_you_mean
+from workpack.errors import InputError, UsageError, WorkpackError, did_you_mean
 from workpack.shipped import asset_map, rules_folder
 
 
@@ -283,6 +283,12 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     if out.is_dir():  # refuse before the work, not after it; write_all asks again, locked
         with reading(out):
             replaces(out)
+    register = _plan_crew(args, plant.plant.name)
+    crew_hours = args.crew_hours
+    if crew_hours is None:
+        from workpack.plan.crewing import available_hours
+
+        crew_hours = available_hours(register, day) if register is not None else 16.0
     carry = carry_forward(jobs or {}, day)
     notes: tuple[str, ...] = ()
     if carry.findings:
@@ -290,12 +296,16 @@ def _cmd_plan(args: argparse.Namespace) -> int:
         findings, notes = with_carried(findings, carry.findings, places)
     progress = _Progress("planning") if sys.stderr.isatty() else None
     result = plan_day(topology, findings, day, ruleset, _standards(), weights,
-                      args.crew_hours, history=history, progress=progress,
+                      crew_hours, history=history, progress=progress,
                       carried=carry.carried)
     notes += left_out(carry, result)
     if notes:
         result = dataclasses.replace(result, conflicts=(
             *result.conflicts, *(Conflict((), note) for note in notes)))
+    if register is not None:
+        from workpack.plan.crewing import staff_day
+
+        result = staff_day(result, register)
     files: dict[str, bytes] = {}
     rendering = _Progress("rendering") if sys.stderr.isatty() else None
     for done, package in enumerate(result.packages, start=1):
@@ -323,6 +333,20 @@ def _cmd_plan(args: argparse.Namespace) -> int:
                          "not reserved: plan with a role that may write to issue them\n")
     sys.stdout.write(text)
     return 0
+
+
+def _plan_crew(args: argparse.Namespace, plant: str) -> Any:
+    """The crew register of ``plan --crew``, refused when it is another plant's."""
+    if not args.crew:
+        return None
+    from workpack.crew import serves
+    from workpack.crew_shell import load_crew
+
+    register, _ = load_crew(Path(args.crew))
+    if not serves(register, plant):
+        raise UsageError(f"--crew {args.crew}: the register is for "
+                         f"{', '.join(register.crew.plants)}, not {plant}")
+    return register
 
 
 def _history(args: argparse.Namespace, plant: Any) -> tuple[Any, dict[str, Any] | None]:
@@ -467,18 +491,26 @@ def _store_plant(args: argparse.Namespace) -> str | None:
 def _cmd_record(args: argparse.Namespace) -> int:
     from workpack.evaluate import evaluate
     from workpack.joblog import fold, record_event, refusal
-    from workpack.loading import load_results
+    from workpack.loading import load_results_marked, located
+    from workpack.lockregister import check_record_locks, results_locks, stored_locks
     from workpack.output import write_all
+    from workpack.recordchecks import lock_mismatches
     from workpack.records import record_payload
     from workpack.render.text import evaluation_text
     from workpack.store import NewEvent, open_store
 
     package, digest = _issued_package(Path(args.package))
-    results = load_results(Path(args.results), package, digest)
+    results, marks = load_results_marked(Path(args.results), package, digest)
     if not results.anything_filled_in():
         raise UsageError(f"{args.results}: nothing is filled in; record a job once it has "
                          "been done")
-    evaluation = evaluate(package, results, _standards())
+    # Everything refused is refused before the store is opened or written: nothing half
+    # recorded, and no store created for a record that is not written.
+    problems, not_accepted = _register_problems(args, package, results)
+    problems += lock_mismatches(package, results, ())
+    if problems:
+        raise InputError(located(marks, problems))
+    evaluation = evaluate(package, results, _standards(), not_accepted)
     at = args.at or dt.datetime.now(dt.UTC)
     recorded_by = args.by or results.completed_by or "unknown"
     kind, detail = record_event(package.id, results, evaluation)
@@ -496,6 +528,12 @@ def _cmd_record(args: argparse.Namespace) -> int:
         why = refusal(job, kind, correction=args.supersedes is not None) if job else None
         if why is not None:
             raise UsageError(f"{package.id}: {why}")
+        # The plant's lock register as the store has it, without the record this corrects.
+        earlier = stored_locks(r for r in store.records() if r.sequence != args.supersedes)
+        uses, boxes, _ = results_locks(results, package.plant, package.id)
+        clashes = check_record_locks(uses, boxes, earlier)
+        if clashes:
+            raise InputError(located(marks, clashes))
         record = store.append(package_id=package.id, package_sha256=digest,
                               results=record_payload(results, evaluation),
                               recorded_by=recorded_by, recorded_at=at,
@@ -556,6 +594,50 @@ def _cmd_status(args: argparse.Namespace) -> int:
     day = args.date or _now().date()
     report = status(plant, jobs, day, args.days)
     sys.stdout.write(_to_json(report) if args.json else status_text(report, args.days))
+    return 0
+
+
+def _register_problems(args: argparse.Namespace, package: Any,
+                       results: Any) -> tuple[list[Any], dict[str, str]]:
+    """The record checked against the crew register (its signers) and the instrument
+    register (its readings), where given: the problems that refuse it, and the readings
+    recorded as not accepted (reading id → why)."""
+    problems: list[Any] = []
+    not_accepted: dict[str, str] = {}
+    if args.crew:
+        from workpack.competence import job_needs
+        from workpack.crew_shell import load_crew
+        from workpack.recordchecks import lock_holder_mismatches, signer_mismatches
+
+        register, _ = load_crew(Path(args.crew))
+        problems += signer_mismatches(register, package, results, job_needs(package))
+        problems += lock_holder_mismatches(register, results)
+    if args.instruments:
+        from workpack.recordchecks import instrument_check
+        from workpack.register_files import load_instruments
+
+        check = instrument_check(load_instruments(Path(args.instruments)), package, results)
+        problems += check.problems
+        not_accepted = check.not_accepted
+    return problems, not_accepted
+
+
+def _cmd_locks(args: argparse.Namespace) -> int:
+    from workpack.loading import load_plant
+    from workpack.lockregister import locks_on, stored_locks
+    from workpack.render.text import locks_text
+    from workpack.store import is_server_url, open_store
+
+    plant = load_plant(Path(args.plant))[0].plant.name
+    db = _default_db(args)
+    if not is_server_url(db) and not Path(db).exists():
+        raise UsageError(f"--db {db}: no such records store")
+    with open_store(db, plant=plant, create=False) as store:
+        uses = stored_locks(store.records())
+        where = store.location
+    on = [lock for lock in locks_on(uses) if lock.plant == plant]
+    sys.stdout.write(_to_json({"plant": plant, "store": where, "locks_on": on}) if args.json
+                     else locks_text(plant, where, on))
     return 0
 
 
@@ -974,9 +1056,11 @@ def build_parser() -> argparse.ArgumentParser:
     plan.add_argument("--date", type=_option("--date", _day),
                       help="the day planned for (YYYY-MM-DD); default: the day after the "
                            "findings' date")
-    plan.add_argument("--crew-hours", type=_option("--crew-hours", _hours), default=16.0,
-                      metavar="H",
-                      help="person-hours available (default 16: two people, a day)")
+    plan.add_argument("--crew-hours", type=_option("--crew-hours", _hours), metavar="H",
+                      help="person-hours available (default: the crew register's hours of "
+                           "the day with --crew, else 16: two people, a day)")
+    plan.add_argument("--crew", metavar="CREW.yaml",
+                      help="crew register: name the people for each job, within their hours")
     plan.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
     plan.add_argument("--rules", default=str(rules_folder()), metavar="DIR",
                       help="rules folder (default: the shipped rules/)")
@@ -1036,7 +1120,23 @@ def build_parser() -> argparse.ArgumentParser:
                         help="this corrects record N (records are never changed)")
     record.add_argument("--followups", metavar="FILE",
                         help="write follow-up findings (e.g. insulation below minimum) here")
+    record.add_argument("--crew", metavar="CREW.yaml",
+                        help="crew register: refuse the record unless its technician and "
+                             "supervisor are in it and qualified for the job")
+    record.add_argument("--instruments", metavar="INSTRUMENTS.yaml",
+                        help="instrument register: each reading names its instrument, in "
+                             "calibration on the day; a reading outside its range is not "
+                             "accepted")
     record.set_defaults(run=_cmd_record)
+
+    locks = commands.add_parser(
+        "locks", help="the lock register: every lock on now, where, whose, since when, for "
+                      "which job")
+    locks.add_argument("plant", metavar="PLANT", help="plant inventory (YAML)")
+    locks.add_argument("--db", help="records store: an SQLite file, or a postgresql:// URL "
+                                    "(default: PLANT.records.sqlite beside the plant)")
+    locks.add_argument("--json", action="store_true", help="print JSON")
+    locks.set_defaults(run=_cmd_locks)
 
     verify = commands.add_parser("verify", help="check the records store's hash chain")
     _store_options(verify)

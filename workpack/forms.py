@@ -38,6 +38,9 @@ def _expectation(reading: Reading) -> str:
     return "; ".join(parts) or "record as found"
 
 
+TIME_HINT = "YYYY-MM-DD HH:MM"
+
+
 def _scope_lines(indent: str, isolation: Sequence[IsolationPoint],
                  proving_dead: Sequence[ProvingDead], steps: Sequence[Step],
                  restoration: Sequence[Step]) -> list[str]:
@@ -60,9 +63,9 @@ def _scope_lines(indent: str, isolation: Sequence[IsolationPoint],
             key = _quoted(point.device) if ":" in point.device else point.device
             lines.append(f"{indent}  {key}:   # {point.order}. {point.device_kind}, "
                          f"{point.location or 'location not given'}{state}{removal}")
-            lines += [f"{indent}    {name}:" for name in ("lock", "tag", "applied_by",
-                                                          "applied_at", "removed_by",
-                                                          "removed_at")]
+            lines += [f"{indent}    lock:", f"{indent}    tag:", f"{indent}    applied_by:",
+                      f"{indent}    applied_at:   # {TIME_HINT}", f"{indent}    removed_by:",
+                      f"{indent}    removed_at:   # {TIME_HINT}"]
     if proving_dead:
         lines.append(f"{indent}proving_dead:   # volts measured; expected 0 V")
         for index, dead in enumerate(proving_dead, start=1):
@@ -114,6 +117,7 @@ def results_template(package: WorkPackage, package_sha256: str) -> str:
             lines.append("    value:")
             if reading.needs_temperature:
                 lines.append("    temperature:   # °C")
+            lines.append("    instrument:   # its id in the instrument register")
     if package.job_kind in ("locate_ground", "clear_second_ground"):
         lines.append("ground_found_at:   # element id where the ground was found, if found")
     lines.append("remarks:")

@@ -31,6 +31,7 @@ from typing import Any, Protocol
 
 from pydantic import TypeAdapter
 
+from workpack.lockregister import LockKind, locks_on, results_locks, shown
 from workpack.model.evaluation import Evaluation
 from workpack.model.findings import Finding, Findings
 from workpack.model.plant import Plant
@@ -171,26 +172,17 @@ def refusal(job: JobState | None, kind: str, *, correction: bool = False) -> str
 # --- what a record says happened --------------------------------------------------------
 
 
-def held_locks(package_id: str, results: Results, evaluation: Evaluation) -> tuple[HeldLock,
-                                                                                    ...]:
-    """The locks a record leaves on: those kept on by the restoration's gate and those
-    not recorded as removed, with their lock numbers and who applied them when."""
-    why = results.locks_left_on or ""
-    left: dict[str, str] = {}
-    for entry in (*evaluation.locks_left_on, *evaluation.locks_not_removed):
-        device, _, reason = entry.partition(": ")
-        left.setdefault(device, reason or why)
-    locks = []
-    for device, reason in sorted(left.items()):
-        test, _, own = device.rpartition(":")
-        sheet = (results.final_tests[test].isolation if test in results.final_tests
-                 else results.isolation)
-        record = sheet.get(own if test else device)
-        locks.append(HeldLock(device=device, package_id=package_id,
-                              lock=record.lock if record else None,
-                              applied_by=record.applied_by if record else None,
-                              applied_at=record.applied_at if record else None, why=reason))
-    return tuple(locks)
+def held_locks(package_id: str, results: Results,
+               evaluation: Evaluation) -> tuple[HeldLock, ...]:
+    """The locks a record leaves on, as the lock register reads them
+    (``workpack.lockregister``: applied and not recorded removed, held by whoever took
+    them over at a shift change), with the reason the results give for leaving them."""
+    uses, _, _ = results_locks(results, evaluation.plant, package_id, strict=False)
+    return tuple(HeldLock(
+        device=on.place if on.kind is LockKind.point else f"lock box {on.place}",
+        package_id=package_id, lock=on.lock, applied_by=on.holder,
+        applied_at=shown(on.held_since) if on.held_since else None,
+        why=results.locks_left_on or "") for on in locks_on(uses))
 
 
 def record_event(package_id: str, results: Results,
@@ -198,7 +190,8 @@ def record_event(package_id: str, results: Results,
     """The event a record makes and its detail: ``suspended`` while locks stay on or the
     work is incomplete (the job goes on), else ``completed`` with its verdict."""
     locks = held_locks(package_id, results, evaluation)
-    kind = "suspended" if locks or evaluation.verdict == "incomplete" else "completed"
+    left_on = locks or evaluation.locks_left_on or evaluation.locks_not_removed
+    kind = "suspended" if left_on or evaluation.verdict == "incomplete" else "completed"
     detail: dict[str, Any] = {
         "verdict": evaluation.verdict,
         "locks": [lock.__dict__ for lock in locks],

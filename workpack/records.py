@@ -9,14 +9,16 @@ The payload
     The store keeps, for each record, the canonical JSON of a ``RecordPayload``
     (``Record.results_json``; the store itself neither knows nor checks its shape)::
 
-        {"payload_version": 2,
+        {"payload_version": 3,
          "results":    the results exactly as entered (model.results.Results),
          "evaluation": what they showed (model.evaluation.Evaluation)}
 
     Version 1, written before payloads carried their version, is the same without
     ``payload_version``; it reads unchanged (tests/fixtures/records-v1 holds such
-    payloads). A payload of a later version is refused, saying that a newer workpack
-    wrote it. A new version adds a branch to ``_Versioned._upgrade`` and a fixture.
+    payloads). Version 3 added group lock boxes, lock transfers and the instrument of a
+    reading, all optional: versions 1 and 2 read with them empty. A payload of a later
+    version is refused, saying that a newer workpack wrote it. A new version adds a
+    branch to ``_Versioned._upgrade`` and a fixture.
 
     ``read_payload`` reads a record's whole payload; ``read_for_planning`` only what the
     planner's history needs (``PlanningView``), about a third quicker, since planning
@@ -76,7 +78,7 @@ __all__ = [
     "utc_text",
 ]
 
-PAYLOAD_VERSION = 2
+PAYLOAD_VERSION = 3
 
 
 class PayloadError(ValueError):

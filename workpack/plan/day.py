@@ -12,7 +12,7 @@ from workpack.diagnose import DayDiagnosis, diagnose_day, downstream_loads
 from workpack.electrical.standards import CodeSet
 from workpack.history import History
 from workpack.model.findings import Findings, Severity
-from workpack.model.package import WorkPackage
+from workpack.model.package import LockStillOn, WorkPackage
 from workpack.model.plant import Vitality
 from workpack.model.weights import SearchWeights
 from workpack.plan.carry import Carried, HeldLock, assign_ids, job_key
@@ -82,8 +82,10 @@ def plan_day(topology: Topology, findings: Findings, day: dt.date, ruleset: Rule
     drafts.sort(key=lambda draft: _rank(draft[1], draft[0], carried))
     ids = assign_ids(plant.plant.code, day, [key for key, _ in drafts], carried.issued)
     packages = tuple(p.model_copy(update={
-        "id": n, "locks_on": tuple(held.describe() for held in carried.locks
-                                   if held.package_id == n)})
+        "id": n, "locks_on": tuple(
+            LockStillOn(device=held.device, lock=held.lock, held_by=held.applied_by,
+                        since=held.applied_at, text=held.describe())
+            for held in carried.locks if held.package_id == n)})
         for n, (_, p) in zip(ids, drafts, strict=True))
     scheduled, deferred = _fit(packages, crew_hours)
     chosen = [p for p in packages if p.id in scheduled]

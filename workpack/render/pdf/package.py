@@ -17,6 +17,7 @@ from reportlab.lib import colors
 from reportlab.lib.units import mm
 from reportlab.platypus import Flowable, Paragraph, Spacer, TableStyle
 
+from workpack.competence import job_needs
 from workpack.model.package import (
     Caution,
     FinalTest,
@@ -156,9 +157,16 @@ class PackagePdf(PdfDocument):
             pair("Job kind", p.job_kind.replace("_", " "))
             + pair("Permits", ", ".join(p.permits) or "none listed"),
             pair("Origin", "; ".join(origin)) + ["", ""],
+            pair("Who", job_needs(p).describe()) + ["", ""],
         ]
+        if p.assigned:
+            crew = "; ".join(p.assigned)
+            if p.supervisor_assigned:
+                crew += f"; supervisor {p.supervisor_assigned}"
+            rows.append(pair("Assigned", crew) + ["", ""])
+        spans = [("SPAN", (1, row), (3, row)) for row in range(5, len(rows))]
         table = Table(rows, colWidths=self.cols(24, 67, 24, 67), repeat_when_cut=(0, 2))
-        table.setStyle(TableStyle([*GRID, ("SPAN", (1, 5), (3, 5)),
+        table.setStyle(TableStyle([*GRID, *spans,
                                    ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
         return [self.numbered("The job"), table]
 
@@ -355,7 +363,8 @@ class PackagePdf(PdfDocument):
             return [Paragraph("Locks of this job still on from an earlier day: at each, "
                               "check that the lock and tag are in place and write their "
                               "numbers below; do not take them off before the restoration "
-                              "says so", self.style["bold"]), *self.bullets(p.locks_on), *out]
+                              "says so", self.style["bold"]),
+                    *self.bullets(lock.text for lock in p.locks_on), *out]
         return out
 
     def isolation_table(self, isolation: Sequence[IsolationPoint], gaps: Sequence[str],
