@@ -97,11 +97,16 @@ def build_year(store: SQLiteStore, sample: DayPlan, year: Findings, standards: d
     # Setting up the year is not what is timed: one fsync per transaction is the disk's.
     store._conn.execute("PRAGMA synchronous = OFF")  # noqa: SLF001 (bench set-up only)
     number = 0
+    suspended: list[tuple[str, str]] = []  # (package id, job key) left suspended yesterday
     for day_index in range(365):
         day = DAY - dt.timedelta(days=365 - day_index)
         at = T0 + dt.timedelta(days=day_index)
         chosen = rnd.sample(packages, min(per_day, len(packages)))
-        events = []
+        # yesterday's suspended jobs are finished today (a two-day job)
+        events = [NewEvent(package_id, key, "completed", day, at, "bench",
+                           {"verdict": "passed", "locks": [], "followups": []})
+                  for package_id, key in suspended]
+        suspended = []
         for n, package in enumerate(chosen, start=1):
             number += 1
             package_id = f"WP-GEN-{day:%Y%m%d}-{n:02d}"
@@ -121,6 +126,7 @@ def build_year(store: SQLiteStore, sample: DayPlan, year: Findings, standards: d
             kind, detail = record_event(package_id, results, evaluation)
             if rnd.random() < 0.02:
                 kind = "suspended"
+                suspended.append((package_id, key))
                 detail["locks"] = [{"device": p.device, "package_id": package_id,
                                     "lock": f"L-{number}", "applied_by": "bench",
                                     "applied_at": f"{day} 08:00", "why": "dry-out"}

@@ -11,7 +11,7 @@ import pytest
 
 from workpack.joblog import JobState, carry_forward, fold, refusal
 from workpack.plan.carry import IssuedIds, assign_ids, package_id, routine_of_key
-from workpack.store import JobEvent
+from workpack.store import JobEvent, canonical_json
 
 DAY = dt.date(2026, 12, 3)
 AT = dt.datetime(2026, 12, 2, 16, 0, tzinfo=dt.UTC)
@@ -20,7 +20,7 @@ AT = dt.datetime(2026, 12, 2, 16, 0, tzinfo=dt.UTC)
 def events(*specs: tuple[str, str, str, dt.date, dict[str, Any]]) -> list[JobEvent]:
     """(package id, job key, kind, day, detail) → numbered events."""
     return [JobEvent(n, pid, key, kind, day, AT + dt.timedelta(minutes=n), "A. Lindqvist",
-                     detail)
+                     canonical_json(detail))
             for n, (pid, key, kind, day, detail) in enumerate(specs, start=1)]
 
 
@@ -87,6 +87,8 @@ def test_a_completed_job_may_be_completed_again_only_as_a_correction() -> None:
 
 # --- what the next plan carries ------------------------------------------------------------
 
+SURVEY = "survey|item:SG-1|routine:insulation_resistance@SG-1"
+INSPECTION = "inspection|item:T1|routine:transformer_inspection@T1"
 MEGGER = {"kind": "insulation_resistance", "at": "2026-12-02T09:40:00", "by": "S. Quayle",
           "where": "SG-1", "test_voltage": 500.0, "reading": 1e6, "temperature": 30.0}
 
@@ -94,12 +96,10 @@ MEGGER = {"kind": "insulation_resistance", "at": "2026-12-02T09:40:00", "by": "S
 def test_the_next_plan_takes_open_jobs_and_follow_ups_once() -> None:
     jobs = fold(events(
         (P1, "k1", "planned", YESTERDAY, {"item": "WL-1", "findings": [MEGGER]}),
-        (P2, "k2", "planned", YESTERDAY, {"item": "SG-1", "routine": "insulation_resistance",
-                                          "routine_element": "SG-1"}),
-        (P2, "k2", "completed", YESTERDAY, {"verdict": "failed", "followups": [MEGGER]}),
-        (P3, "k3", "planned", YESTERDAY, {"item": "T1", "routine": "transformer_inspection",
-                                          "routine_element": "T1"}),
-        (P3, "k3", "completed", YESTERDAY, {"verdict": "passed"}),
+        (P2, SURVEY, "planned", YESTERDAY, {"item": "SG-1"}),
+        (P2, SURVEY, "completed", YESTERDAY, {"verdict": "failed", "followups": [MEGGER]}),
+        (P3, INSPECTION, "planned", YESTERDAY, {"item": "T1"}),
+        (P3, INSPECTION, "completed", YESTERDAY, {"verdict": "passed", "followups": []}),
     ))
     carry = carry_forward(jobs, DAY)
     assert carry.carried.issued.open == {"k1": P1}
@@ -117,9 +117,9 @@ def test_the_next_plan_takes_open_jobs_and_follow_ups_once() -> None:
 
 def jobs_events_with_carry(source: str) -> list[JobEvent]:
     return events(
-        (source, "k2", "planned", YESTERDAY, {"item": "SG-1"}),
-        (source, "k2", "completed", YESTERDAY, {"verdict": "failed", "followups": [MEGGER]}),
-        (source, "k2", "carried_over", DAY, {"into": ["WP-SKL-20261203-01"]}),
+        (source, SURVEY, "planned", YESTERDAY, {"item": "SG-1"}),
+        (source, SURVEY, "completed", YESTERDAY, {"verdict": "failed", "followups": [MEGGER]}),
+        (source, SURVEY, "carried_over", DAY, {"into": ["WP-SKL-20261203-01"]}),
     )
 
 

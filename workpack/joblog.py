@@ -26,7 +26,7 @@ from __future__ import annotations
 
 import datetime as dt
 from collections.abc import Iterable, Mapping, Sequence, Set
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 from typing import Any, Protocol
 
 from pydantic import TypeAdapter
@@ -82,12 +82,20 @@ class Event(Protocol):
     @property
     def by(self) -> str: ...
     @property
+    def detail_json(self) -> str: ...
+    @property
     def detail(self) -> Mapping[str, Any]: ...
+
+
+# As canonical JSON (RFC 8785: no spaces, one spelling) writes these, so a detail can be
+# asked without parsing it.
+_NO_ANSWERS, _NO_FOLLOWUPS, _FAILED = '"answers":[]', '"followups":[]', '"verdict":"failed"'
 
 
 @dataclass(frozen=True)
 class JobState:
-    """One job as its events leave it."""
+    """One job as its events leave it. What its last plan and its last record said is
+    read from those events when asked for (``item``, ``findings``, ``verdict``…)."""
 
     package_id: str
     job_key: str
@@ -96,61 +104,92 @@ class JobState:
     by: str  # who wrote it
     first_day: dt.date  # the day it was first planned for
     last_planned: dt.date  # the last day a plan took it
-    item: str = ""
-    rule: str = ""
-    title: str = ""
-    routine: str | None = None  # routine test, for a routine job
-    routine_element: str | None = None
-    findings: tuple[Mapping[str, Any], ...] = ()  # what its last plan was made from
-    verdict: str | None = None  # of the last record: passed, failed, incomplete
-    followups: tuple[Mapping[str, Any], ...] = ()  # of its last record
-    locks: tuple[HeldLock, ...] = ()  # on now (suspended, or resumed with them on)
-    entries: tuple[dt.date, ...] = ()  # days it has a record for (daily entries)
-    finished_on: dt.date | None = None  # the day a completion was for
     carried_to: tuple[dt.date, ...] = ()  # days whose plan took it (or what it left)
-    scheduled: bool = True  # in its last plan: within the crew's hours
+    entries: tuple[dt.date, ...] = ()  # days it has a record for (daily entries)
+    finished_on: dt.date | None = None  # the day a completion or cancellation was for
     answers: tuple[str, ...] = ()  # jobs whose carried findings it was made from
+    planned_event: Event | None = None  # its last "planned" event
+    record_event: Event | None = None  # its last "suspended" or "completed" event
 
     @property
     def open(self) -> bool:
         return self.state not in FINISHED
 
+    def _planned(self, name: str, default: Any = None) -> Any:
+        return self.planned_event.detail.get(name, default) if self.planned_event else default
+
+    @property
+    def item(self) -> str:
+        return str(self._planned("item", ""))
+
+    @property
+    def title(self) -> str:
+        return str(self._planned("title", ""))
+
+    @property
+    def routine(self) -> tuple[str, str] | None:
+        """(element, routine test) of a routine job, from its job key."""
+        test, element = routine_of_key(self.job_key)
+        return (element, test) if test and element else None
+
+    @property
+    def findings(self) -> tuple[Mapping[str, Any], ...]:
+        """What its last plan was made from."""
+        return tuple(self._planned("findings", ()))
+
+    @property
+    def verdict(self) -> str | None:
+        return self.record_event.detail.get("verdict") if self.record_event else None
+
+    @property
+    def followups(self) -> tuple[Mapping[str, Any], ...]:
+        return tuple(self.record_event.detail.get("followups", ())) if self.record_event \
+            else ()
+
+    @property
+    def leaves_findings(self) -> bool:
+        """Whether its last record left follow-ups or failed (read without parsing: a
+        year of passed jobs is looked at every morning)."""
+        found = self.record_event.detail_json if self.record_event else ""
+        return _NO_FOLLOWUPS not in found or _FAILED in found
+
+    @property
+    def locks(self) -> tuple[HeldLock, ...]:
+        """The locks on now: as its last record left them, none once it is finished."""
+        if not self.open or self.record_event is None:
+            return ()
+        return tuple(HeldLock(**lock) for lock in self.record_event.detail.get("locks", ()))
+
 
 def fold(events: Iterable[Event]) -> dict[str, JobState]:
     """Each job's state after its events (in sequence order), by package id."""
-    jobs: dict[str, JobState] = {}
+    jobs: dict[str, dict[str, Any]] = {}
     for event in sorted(events, key=lambda e: e.sequence):
-        detail = event.detail
         job = jobs.get(event.package_id)
         if job is None:
-            job = JobState(event.package_id, event.job_key, event.kind, event.at, event.by,
-                           event.day, event.day)
+            job = jobs[event.package_id] = {
+                "package_id": event.package_id, "job_key": event.job_key,
+                "first_day": event.day, "last_planned": event.day, "carried_to": [],
+                "entries": [], "answers": set()}
         if event.kind == "carried_over":
-            jobs[event.package_id] = replace(job, carried_to=(*job.carried_to, event.day))
+            job["carried_to"].append(event.day)
             continue
-        job = replace(job, state=event.kind, since=event.at, by=event.by)
+        job.update(state=event.kind, since=event.at, by=event.by)
         if event.kind == "planned":
-            job = replace(
-                job, last_planned=max(job.last_planned, event.day),
-                item=str(detail.get("item", job.item)), rule=str(detail.get("rule", job.rule)),
-                title=str(detail.get("title", job.title)), routine=detail.get("routine"),
-                routine_element=detail.get("routine_element"),
-                findings=tuple(detail.get("findings", ())),
-                scheduled=bool(detail.get("scheduled", True)),
-                # every job it was ever made from (a re-plan lists only the day's)
-                answers=tuple(sorted((set(job.answers) | set(detail.get("answers", ())))
-                                     - {job.package_id})))
+            job["last_planned"] = max(job["last_planned"], event.day)
+            job["planned_event"] = event
+            if _NO_ANSWERS not in event.detail_json:
+                job["answers"].update(event.detail.get("answers", ()))
         elif event.kind in ("suspended", "completed"):
-            job = replace(job, verdict=detail.get("verdict"),
-                          followups=tuple(detail.get("followups", ())),
-                          entries=(*job.entries, event.day),
-                          locks=tuple(HeldLock(**lock) for lock in detail.get("locks", ())))
-            if event.kind == "completed":
-                job = replace(job, finished_on=event.day, locks=())
-        elif event.kind == "cancelled":
-            job = replace(job, finished_on=event.day, locks=())
-        jobs[event.package_id] = job
-    return dict(sorted(jobs.items()))
+            job["record_event"] = event
+            job["entries"].append(event.day)
+        if event.kind in FINISHED:
+            job["finished_on"] = event.day
+    return {package_id: JobState(**{
+        **job, "carried_to": tuple(job["carried_to"]), "entries": tuple(job["entries"]),
+        # every job it was ever made from (a re-plan lists only the day's)
+        "answers": tuple(sorted(job["answers"] - {package_id}))})
+        for package_id, job in sorted(jobs.items())}
 
 
 def refusal(job: JobState | None, kind: str, *, correction: bool = False) -> str | None:
@@ -233,7 +272,8 @@ def carry_forward(jobs: Mapping[str, JobState], day: dt.date) -> CarryOver:
                              for f in (*job.findings, *job.followups)]
                 sources.append(job.package_id)
             continue
-        if job.finished_on is None or job.finished_on >= day or job.state != "completed":
+        if job.finished_on is None or job.finished_on >= day or job.state != "completed" \
+                or not job.leaves_findings:
             continue
         if any(to < day for to in job.carried_to):
             continue  # an earlier day's plan took them already
@@ -248,21 +288,20 @@ def carry_forward(jobs: Mapping[str, JobState], day: dt.date) -> CarryOver:
         done[routine] = max(done.get(routine, on), on)
 
     for job in jobs.values():
-        if job.state == "completed" and job.verdict == "passed" and job.finished_on:
-            if routine := _routine(job):
-                passed(routine, job.finished_on)
+        if job.state == "completed" and job.routine and job.finished_on and \
+                job.verdict == "passed":
+            passed(job.routine, job.finished_on)
         # A routine test that failed is answered by the job made from what it found
         # (a dry-out, a repair): not planned again as a plain routine test meanwhile,
         # and done on the day that job passes.
         for source in (jobs[s] for s in job.answers if s in jobs):
-            if (routine := _routine(source)) is None:
+            if (routine := source.routine) is None:
                 continue
             if job.open:
                 answered.add(routine)
             elif job.state == "completed" and job.verdict == "passed" and job.finished_on:
                 passed(routine, job.finished_on)
-    answered |= {r for s in sources
-                 if not jobs[s].open and (r := _routine(jobs[s])) is not None}
+    answered |= {r for s in sources if not jobs[s].open and (r := jobs[s].routine)}
     # An item under a job begun and not finished (locked out, being worked on) gets no
     # routine test of its own: that job's tests answer for it.
     begun_items = {job.item for job in open_jobs.values() if job.state in BEGUN}
@@ -277,10 +316,6 @@ def carry_forward(jobs: Mapping[str, JobState], day: dt.date) -> CarryOver:
                      {job.package_id: job.job_key for job in jobs.values()})
 
 
-def _routine(job: JobState) -> tuple[str, str] | None:
-    return (job.routine_element, job.routine) if job.routine and job.routine_element else None
-
-
 # --- the morning's status ---------------------------------------------------------------
 
 
@@ -293,14 +328,35 @@ class RoutineDue:
 
 
 @dataclass(frozen=True)
+class JobSummary:
+    """An open job as the status shows it."""
+
+    package_id: str
+    state: str
+    since: dt.datetime
+    by: str
+    item: str
+    title: str
+    first_day: dt.date
+    last_planned: dt.date
+    entries: tuple[dt.date, ...]  # days recorded (a job over days: one a day)
+    locks: tuple[HeldLock, ...]
+
+    @classmethod
+    def of(cls, job: JobState) -> JobSummary:
+        return cls(job.package_id, job.state, job.since, job.by, job.item, job.title,
+                   job.first_day, job.last_planned, job.entries, job.locks)
+
+
+@dataclass(frozen=True)
 class Status:
     """What a supervisor reads first thing, and hands over at a change of supervisor."""
 
     plant: str
     day: dt.date
-    open: tuple[JobState, ...]  # planned, issued, started or resumed
-    suspended: tuple[JobState, ...]
-    carried_over: tuple[JobState, ...]  # open since an earlier day
+    open: tuple[JobSummary, ...]  # planned, issued, started or resumed
+    suspended: tuple[JobSummary, ...]
+    carried_over: tuple[JobSummary, ...]  # open since an earlier day
     locks_on: tuple[HeldLock, ...]
     overdue: tuple[RoutineDue, ...]  # due before ``day`` and not recorded as passed
     due_soon: tuple[RoutineDue, ...]  # due from ``day`` to ``day`` + the days asked for
@@ -322,7 +378,8 @@ def routine_dates(plant: Plant, done: Mapping[tuple[str, str], dt.date],
 def status(plant: Plant, jobs: Mapping[str, JobState], day: dt.date,
            days_ahead: int) -> Status:
     carry = carry_forward(jobs, day)
-    open_jobs = sorted(carry.open_jobs.values(), key=lambda j: j.package_id)
+    open_jobs = [JobSummary.of(job) for job in
+                 sorted(carry.open_jobs.values(), key=lambda j: j.package_id)]
     dates = routine_dates(plant, carry.carried.routines_done, day)
     horizon = day + dt.timedelta(days=days_ahead)
     return Status(
@@ -336,7 +393,7 @@ def status(plant: Plant, jobs: Mapping[str, JobState], day: dt.date,
 
 
 def status_text(report: Status, days_ahead: int) -> str:
-    def job_line(job: JobState) -> str:
+    def job_line(job: JobSummary) -> str:
         since = f"since {job.first_day}" if job.first_day < report.day else "today"
         return (f"  {job.package_id}  {job.state.replace('_', ' '):9}  {job.item}: "
                 f"{job.title} ({since}, last by {job.by})")

@@ -16,6 +16,7 @@ sequence, package_id, job_key, kind, day, at, by, detail_json]``. Pure: no datab
 from __future__ import annotations
 
 import datetime as dt
+import functools
 import hashlib
 import json
 from collections.abc import Iterable, Mapping
@@ -59,7 +60,9 @@ EVENT_COLUMNS = ", ".join(f.name for f in fields(StoredEvent))
 
 @dataclass(frozen=True)
 class JobEvent:
-    """One event of a job as readers see it: ``at`` aware, ``detail`` parsed."""
+    """One event of a job as readers see it: ``at`` aware; ``detail`` parsed from its
+    canonical JSON when first asked for (a year of events is read every morning, and
+    most details are never looked at)."""
 
     sequence: int
     package_id: str
@@ -68,13 +71,18 @@ class JobEvent:
     day: dt.date
     at: dt.datetime
     by: str
-    detail: Mapping[str, Any]
+    detail_json: str  # canonical JSON
+
+    @functools.cached_property
+    def detail(self) -> Mapping[str, Any]:
+        parsed: Mapping[str, Any] = json.loads(self.detail_json)
+        return parsed
 
     @classmethod
     def from_row(cls, row: StoredEvent) -> JobEvent:
         return cls(row.sequence, row.package_id, row.job_key, row.kind,
                    dt.date.fromisoformat(row.day), parse_timestamp(row.at), row.by,
-                   json.loads(row.detail_json))
+                   row.detail_json)
 
 
 @dataclass(frozen=True)
