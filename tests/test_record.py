@@ -149,6 +149,9 @@ def test_filled_pdf_gives_the_same_record_as_the_yaml_sheet(packages, tmp_path) 
     for step in data["restoration"]:
         for reading in step["readings"]:
             values[field_name("reading", reading["id"])] = "253"
+    # Each reading names the instrument it was taken with, in its own field.
+    values |= {field_name("instrument", name.split(":", 1)[1].replace("%2E", ".")): "IT-03"
+               for name in list(values) if name.startswith("reading:")}
     writer = PdfWriter(clone_from=PdfReader(package.with_suffix(".pdf")))
     for page in writer.pages:
         writer.update_page_form_field_values(page, values, auto_regenerate=False)
@@ -165,6 +168,9 @@ def test_filled_pdf_gives_the_same_record_as_the_yaml_sheet(packages, tmp_path) 
                                read_payload(b.get(1)).evaluation)
     assert from_pdf.verdict == from_yaml.verdict == "passed"
     assert from_pdf.readings == from_yaml.readings
+    with open_store(pdf_db, create=False) as b:
+        entered = read_payload(b.get(1)).results.readings
+    assert {m.instrument for m in entered.values()} == {"IT-03"}
 
 
 @pytest.mark.parametrize(("change", "expected"), [
