@@ -463,8 +463,9 @@ def _cmd_record(args: argparse.Namespace) -> int:
                              f"to correct it, record again with --supersedes "
                              f"{latest.sequence}")
         # The plant's lock register as the store has it, without the record this corrects.
-        earlier = stored_locks(r for r in store.records() if r.sequence != args.supersedes)
         uses, boxes, _ = results_locks(results, package.plant, package.id)
+        earlier = stored_locks((r for r in store.records() if r.sequence != args.supersedes),
+                               numbered={use.lock for use in uses})
         clashes = check_record_locks(uses, boxes, earlier)
         if clashes:
             raise InputError(located(marks, clashes))
@@ -523,7 +524,7 @@ def _cmd_locks(args: argparse.Namespace) -> int:
     if not is_server_url(db) and not Path(db).exists():
         raise UsageError(f"--db {db}: no such records store")
     with open_store(db, plant=plant, create=False) as store:
-        uses = stored_locks(store.records())
+        uses = stored_locks(store.records(), on_only=True)
         where = store.location
     on = [lock for lock in locks_on(uses) if lock.plant == plant]
     sys.stdout.write(_to_json({"plant": plant, "store": where, "locks_on": on}) if args.json
