@@ -1,9 +1,19 @@
+import os
 import sys
+import tempfile
 from collections.abc import Iterator
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(Path(__file__).resolve().parent))  # plantgen for tests and bench
+
+# Settings the user keeps (workpack.toml in the config folder, WORKPACK_* variables) must
+# not change what the tests see: an empty config folder, no variables, for every process.
+from workpack.settings import SETTINGS  # noqa: E402
+
+for _setting in SETTINGS:
+    os.environ.pop(_setting.environment, None)
+os.environ["XDG_CONFIG_HOME"] = tempfile.mkdtemp(prefix="workpack-test-config-")
 
 import pytest  # noqa: E402
 

@@ -105,7 +105,7 @@ def test_block_lock_is_recorded_and_judged_like_a_breaker_lock(issued, tmp_path,
     text = not_removed(text, "UPS1-OUT")
     sheet.write_text(text, encoding="utf-8")
     assert main(["record", str(package), str(sheet), "--db", str(tmp_path / "b.sqlite"),
-                 "--at", AT]) == 0
+                 "--at", AT]) == 1  # recorded, and found wanting
     out = capsys.readouterr().out
     assert "FAILED" in out
     assert "UPS1-OUT: lock L-02 applied by A. Tester was never recorded as removed" in out
@@ -125,7 +125,7 @@ def test_four_wire_pairs_are_in_the_sheet_the_pdf_and_the_judgement(issued, tmp_
                  "--db", str(tmp_path / "r.sqlite"), "--at", AT]) == 0
     assert "PASSED" in capsys.readouterr().out
     assert main(["record", str(package), str(fill(package, tmp_path, leave_blank="N-E")),
-                 "--db", str(tmp_path / "s.sqlite"), "--at", AT]) == 0
+                 "--db", str(tmp_path / "s.sqlite"), "--at", AT]) == 1  # incomplete
     out = capsys.readouterr().out
     assert "INCOMPLETE" in out and "N-E: absence of voltage not recorded" in out
 

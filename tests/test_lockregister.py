@@ -150,3 +150,28 @@ def test_a_personal_lock_on_a_box_shows_in_the_register() -> None:
     uses = [point("L-07", "CB-AC1", box="B1"), personal("P-1", "B1", "LCS-0212")]
     assert [(o.kind, o.place, o.holder) for o in locks_on(uses)] == [
         (LockKind.point, "CB-AC1", "LCS-0107"), (LockKind.personal, "B1", "LCS-0212")]
+
+
+def test_an_older_records_lock_times_in_words_still_say_on_or_off() -> None:
+    """Records made before lock times were checked hold "08:10" and "15:40": a lock with a
+    removal written down is off, one without is on, and neither clashes by a time."""
+    from workpack.lockregister import results_locks
+    from workpack.model.results import LockRecord, Results
+
+    results = Results(package="WP-OLD", isolation={
+        "CB-1": LockRecord(lock="L-1", applied_by="S. Quayle", applied_at="08:10",
+                           removed_by="S. Quayle", removed_at="15:40"),
+        "CB-2": LockRecord(lock="L-2", applied_by="S. Quayle", applied_at="08:10")})
+    uses, _, problems = results_locks(results, "SKL", "WP-OLD", strict=False)
+    assert problems == []
+    assert [(o.lock, o.applied_at) for o in locks_on(uses)] == [("L-2", None)]
+    strict = results_locks(results, "SKL", "WP-OLD")[2]
+    assert [p.message for p in strict] == [
+        "'08:10' is not a date and time: write it as YYYY-MM-DD HH:MM, e.g. 2026-12-02 08:15",
+        "'15:40' is not a date and time: write it as YYYY-MM-DD HH:MM, e.g. 2026-12-02 08:15",
+        "'08:10' is not a date and time: write it as YYYY-MM-DD HH:MM, e.g. 2026-12-02 08:15"]
+    new = [point("L-1", "CB-9", job="WP-NEW")]
+    assert check_record_locks(new, [], uses) == []
+    [clash] = check_record_locks([point("L-2", "CB-9", job="WP-NEW")], [], uses)
+    assert clash.message.startswith("lock L-2 is on CB-2 for job WP-OLD since a time not "
+                                    "recorded (held by S. Quayle)")

@@ -23,8 +23,8 @@ CORE = [
     "workpack.search_wording", "workpack.rules", "workpack.calculations", "workpack.plan",
     "workpack.forms", "workpack.restoration", "workpack.evaluate", "workpack.records",
     "workpack.history", "workpack.audit", "workpack.store._chain", "workpack.crew",
-    "workpack.signing", "workpack.lockregister", "workpack.competence", "workpack.recordchecks",
-    "workpack.joblog", "workpack.store._events",
+    "workpack.signing", "workpack.quick_diagnose", "workpack.reports", "workpack.lockregister",
+    "workpack.competence", "workpack.recordchecks", "workpack.joblog", "workpack.store._events",
 ]
 # Core modules nearly every other imports, loaded once before the checks to keep them
 # fast. Sound: the checker fails if these (with the libraries) load anything forbidden.

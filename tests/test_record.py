@@ -98,7 +98,7 @@ def test_failing_reading_names_its_limit_and_becomes_tomorrows_finding(
     assert main(["record", str(package),
                  str(filled_sheet(package, tmp_path, dry_out_mohm="6 MΩ")),
                  "--db", str(tmp_path / "r.sqlite"), "--at", AT,
-                 "--followups", str(followups)]) == 0
+                 "--followups", str(followups)]) == 1  # recorded; exit 1: found wanting
     out = capsys.readouterr().out
     # 6 MΩ at 30 °C → 3 MΩ at 40 °C, below the 5 MΩ of IEEE Std 43 (2013) 12.3.
     assert "FAILED" in out and "below the minimum 5 MΩ (IEEE Std 43 (2013), 12.3)" in out
@@ -109,7 +109,7 @@ def test_failing_reading_names_its_limit_and_becomes_tomorrows_finding(
 def test_a_lock_applied_and_never_removed_fails_the_job(packages, tmp_path, capsys) -> None:
     package = windlass(packages)
     assert main(["record", str(package), str(filled_sheet(package, tmp_path, removed=False)),
-                 "--db", str(tmp_path / "r.sqlite"), "--at", AT]) == 0
+                 "--db", str(tmp_path / "r.sqlite"), "--at", AT]) == 1
     out = capsys.readouterr().out
     assert "FAILED" in out
     assert "CB-WL1: lock L-08 applied by S. Quayle was never recorded as removed" in out
@@ -149,6 +149,9 @@ def test_filled_pdf_gives_the_same_record_as_the_yaml_sheet(packages, tmp_path) 
     for step in data["restoration"]:
         for reading in step["readings"]:
             values[field_name("reading", reading["id"])] = "253"
+    # Each reading names the instrument it was taken with, in its own field.
+    values |= {field_name("instrument", name.split(":", 1)[1].replace("%2E", ".")): "IT-03"
+               for name in list(values) if name.startswith("reading:")}
     writer = PdfWriter(clone_from=PdfReader(package.with_suffix(".pdf")))
     for page in writer.pages:
         writer.update_page_form_field_values(page, values, auto_regenerate=False)
@@ -165,6 +168,9 @@ def test_filled_pdf_gives_the_same_record_as_the_yaml_sheet(packages, tmp_path) 
                                read_payload(b.get(1)).evaluation)
     assert from_pdf.verdict == from_yaml.verdict == "passed"
     assert from_pdf.readings == from_yaml.readings
+    with open_store(pdf_db, create=False) as b:
+        entered = read_payload(b.get(1)).results.readings
+    assert {m.instrument for m in entered.values()} == {"IT-03"}
 
 
 @pytest.mark.parametrize(("change", "expected"), [
@@ -196,7 +202,7 @@ def test_a_correction_supersedes_and_never_changes_the_first_record(packages, tm
     package = windlass(packages)
     db = tmp_path / "r.sqlite"
     assert main(["record", str(package), str(filled_sheet(package, tmp_path, removed=False)),
-                 "--db", str(db), "--at", AT]) == 0
+                 "--db", str(db), "--at", AT]) == 1
     assert main(["record", str(package), str(filled_sheet(package, tmp_path)), "--db", str(db),
                  "--at", "2026-12-02T17:00+00:00", "--supersedes", "1"]) == 0
     with open_store(db, create=False) as store:
@@ -210,7 +216,7 @@ def test_audit_and_closeout_commands_show_what_was_entered(packages, tmp_path, c
     package = windlass(packages)
     db = tmp_path / "records.sqlite"
     assert main(["record", str(package), str(filled_sheet(package, tmp_path, dry_out_mohm="6")),
-                 "--db", str(db), "--at", AT]) == 0
+                 "--db", str(db), "--at", AT]) == 1  # 6 MΩ fails: recorded, exit 1
     out = tmp_path / "audit"
     assert main(["audit", "--db", str(db), "--packages", str(packages), "--as-of",
                  "2026-12-03", "--out", str(out)]) == 0

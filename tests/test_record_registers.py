@@ -103,8 +103,9 @@ def test_a_lock_left_on_by_one_job_cannot_go_on_another_point(packages, tmp_path
     until it is recorded removed; then it may."""
     windlass_package = windlass(packages)
     db = tmp_path / "r.sqlite"
+    # Recorded, and found wanting (exit 1): its locks are still on.
     assert record(windlass_package, filled_sheet(windlass_package, tmp_path, removed=False),
-                  db) == 0
+                  db) == 1
     other = other_isolating_package(packages, windlass_package)
     sheet = tmp_path / "other.yaml"
     assert main(["results-template", str(other), "--out", str(sheet)]) == 0
@@ -131,7 +132,8 @@ def test_a_lock_left_on_by_one_job_cannot_go_on_another_point(packages, tmp_path
     later = sheet.read_text(encoding="utf-8").replace("2026-12-02 08:15", "2026-12-02 16:00")
     later = later.replace("2026-12-02 15:30", "2026-12-02 17:00")
     sheet.write_text(later, encoding="utf-8")
-    assert record(other, sheet, db) == 0
+    assert record(other, sheet, db) == 1  # recorded; incomplete (only its locks filled in)
+    assert "recorded as record 3" in capsys.readouterr().out
 
 
 def test_the_lock_register_shows_what_is_on_with_its_transfer(packages, tmp_path,
@@ -147,7 +149,7 @@ def test_the_lock_register_shows_what_is_on_with_its_transfer(packages, tmp_path
     end = text.index("\n", first_lock) + 1
     sheet.write_text(text[:end] + handover + text[end:], encoding="utf-8")
     db = tmp_path / "r.sqlite"
-    assert record(package, sheet, db) == 0
+    assert record(package, sheet, db) == 1  # recorded; failed while its locks are on
     capsys.readouterr()
     assert main(["locks", VESSEL, "--db", str(db)]) == 0
     out = capsys.readouterr().out
@@ -277,7 +279,7 @@ def test_a_reading_outside_the_instruments_range_is_recorded_as_not_accepted(
     assert "instrument: MM-11" in text
     sheet.write_text(text, encoding="utf-8")
     db = tmp_path / "r.sqlite"
-    assert record(package, sheet, db, "--instruments", INSTRUMENTS) == 0
+    assert record(package, sheet, db, "--instruments", INSTRUMENTS) == 1  # found wanting
     out = capsys.readouterr().out
     assert "INCOMPLETE" in out
     assert out.count("not accepted: 50 MΩ is outside the range of MM-11 (100 mΩ to "
@@ -312,7 +314,7 @@ def test_a_transferred_lock_is_removed_by_its_new_holder(packages, tmp_path, cap
     assert record(package, sheet, db, "--crew", CREW) == 0
     assert "PASSED" in capsys.readouterr().out
     sheet.write_text(text[:start] + text[start:end] + handover + text[end:], encoding="utf-8")
-    assert record(package, sheet, tmp_path / "r2.sqlite") == 0
+    assert record(package, sheet, tmp_path / "r2.sqlite") == 1  # incomplete: said why
     out = capsys.readouterr().out
     assert "lock L-07 held by M. Rosevear (transferred from S. Quayle) was removed by " \
            "S. Quayle: each lock is removed by whoever holds it" in out

@@ -53,11 +53,11 @@ class Week:
         self.db = str(root / "week.sqlite")
         self.plans: dict[str, dict[str, Any]] = {}  # day → what its plan printed and wrote
 
-    def run(self, *args: str) -> str:
+    def run(self, *args: str, exits: int = 0) -> str:
         out, err = io.StringIO(), io.StringIO()
         with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
             status = main(list(args))
-        assert status == 0, err.getvalue()
+        assert status == exits, err.getvalue()
         return out.getvalue()
 
     def plan(self, day: str, findings: Path) -> dict[str, Any]:
@@ -79,8 +79,10 @@ class Week:
         sheet.write_text(yaml.safe_dump(filled_results(data, on, by=TECH, supervisor=CHIEF,
                                                        **filled), allow_unicode=True),
                          encoding="utf-8")
+        # record exits 1 on a job found wanting (failed, or left incomplete)
+        exits = 0 if filled.get("megohms", "500 MΩ") == "500 MΩ" else 1
         return self.run("record", str(package), str(sheet), "--db", self.db,
-                        "--at", f"{on}T16:00+00:00")
+                        "--at", f"{on}T16:00+00:00", exits=exits)
 
     def status(self, day: str) -> dict[str, Any]:
         loaded: dict[str, Any] = json.loads(self.run(

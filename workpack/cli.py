@@ -16,7 +16,9 @@ from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any, NamedTuple, TypeVar
 
+from workpack import __version__
 from workpack.errors import InputError, UsageError, WorkpackError, did_you_mean
+from workpack.progress import Progress
 from workpack.shipped import asset_map, rules_folder
 
 
@@ -24,6 +26,8 @@ def _to_json(value: Any) -> str:
     def plain(obj: Any) -> Any:
         if dataclasses.is_dataclass(obj) and not isinstance(obj, type):
             return {f.name: plain(getattr(obj, f.name)) for f in dataclasses.fields(obj)}
+        if hasattr(obj, "model_dump") and not isinstance(obj, type):  # a pydantic model
+            return obj.model_dump(mode="json")
         if isinstance(obj, dict):
             return {str(k): plain(v) for k, v in obj.items()}
         if isinstance(obj, list | tuple | set | frozenset):
@@ -206,8 +210,8 @@ def _cmd_diagnose(args: argparse.Namespace) -> int:
 
 
 def _quick_diagnose(args: argparse.Namespace) -> int:
-    from workpack.diagnose import diagnose_readings
-    from workpack.render.text import quick_diagnosis
+    from workpack.quick_diagnose import diagnose_readings  # not workpack.diagnose: see there
+    from workpack.render.quick_text import quick_diagnosis
 
     if args.volts is None:
         raise UsageError("diagnose: quick mode needs --volts and three --reading options")
@@ -285,19 +289,20 @@ def _cmd_plan(args: argparse.Namespace) -> int:
             replaces(out)
     register = _plan_crew(args, plant.plant.name)
     crew_hours = args.crew_hours
-    if crew_hours is None:
+    if register is not None and getattr(args, "setting_sources", {}).get(
+            "crew_hours") == "the built-in default":
         from workpack.plan.crewing import available_hours
 
-        crew_hours = available_hours(register, day) if register is not None else 16.0
+        crew_hours = available_hours(register, day)  # the register's, not the default's
     carry = carry_forward(jobs or {}, day)
     notes: tuple[str, ...] = ()
     if carry.findings:
         places = set(topology.elements) | {b.detector.id for b in plant.buses if b.detector}
         findings, notes = with_carried(findings, carry.findings, places)
-    progress = _Progress("planning") if sys.stderr.isatty() else None
-    result = plan_day(topology, findings, day, ruleset, _standards(), weights,
-                      crew_hours, history=history, progress=progress,
-                      carried=carry.carried)
+    with Progress("planning") as planning:
+        result = plan_day(topology, findings, day, ruleset, _standards(), weights,
+                          crew_hours, history=history, progress=planning,
+                          carried=carry.carried)
     notes += left_out(carry, result)
     if notes:
         result = dataclasses.replace(result, conflicts=(
@@ -307,18 +312,17 @@ def _cmd_plan(args: argparse.Namespace) -> int:
 
         result = staff_day(result, register)
     files: dict[str, bytes] = {}
-    rendering = _Progress("rendering") if sys.stderr.isatty() else None
-    for done, package in enumerate(result.packages, start=1):
-        files[f"{package.id}.pdf"] = render_package(package, args.page_size)
-        files[f"{package.id}.json"] = (package.model_dump_json(indent=2) + "\n").encode()
-        if rendering:
+    with Progress("rendering", total=len(result.packages)) as rendering:
+        for done, package in enumerate(result.packages, start=1):
+            files[f"{package.id}.pdf"] = render_package(package, args.page_size)
+            files[f"{package.id}.json"] = (package.model_dump_json(indent=2) + "\n").encode()
             rendering(done, len(result.packages))
     files[f"day-{day.isoformat()}.pdf"] = render_day_sheet(
         result.plant, day, result.packages, result.scheduled, result.deferred,
         [c.text for c in result.conflicts], result.crew_hours, args.page_size)
     _refuse_other_days(out, day, result.packages)
     written = write_all(out, files, replaces=replaces)
-    text = day_plan(result) + f"\n{len(written)} files written to {written[0].parent}\n"
+    recorded = ""
     if jobs is not None:
         from workpack.store import ReadOnlyError, open_store
 
@@ -327,11 +331,27 @@ def _cmd_plan(args: argparse.Namespace) -> int:
         with open_store(_default_db(args), plant=plant.plant.name) as store:
             try:
                 store.append_events(events)
-                text += f"{len(events)} job events recorded in {store.location}\n"
+                recorded = f"{len(events)} job events recorded in {store.location}\n"
             except ReadOnlyError as exc:  # an office auditor may plan, not issue
-                text += (f"NOTE: the plan's jobs were not recorded ({exc}); their ids are "
-                         "not reserved: plan with a role that may write to issue them\n")
-    sys.stdout.write(text)
+                recorded = (f"NOTE: the plan's jobs were not recorded ({exc}); their ids "
+                            "are not reserved: plan with a role that may write to issue "
+                            "them\n")
+                if args.json:
+                    sys.stderr.write(recorded)
+    if args.json:
+        from workpack.reports import PlannedPackage, PlanReport
+
+        sys.stdout.write(_to_json(PlanReport(
+            plant=result.plant, date=result.date, crew_hours=result.crew_hours,
+            packages=tuple(PlannedPackage(
+                id=p.id, title=p.title, item=p.item, priority=p.priority,
+                duration_h=p.duration_h, crew=p.crew, scheduled=p.id in result.scheduled,
+                clears_ground=p.clears_ground) for p in result.packages),
+            conflicts=result.conflicts, folder=str(written[0].parent),
+            files=tuple(p.name for p in written))))
+        return 0
+    sys.stdout.write(day_plan(result) + f"\n{len(written)} files written to "
+                     f"{written[0].parent}\n" + recorded)
     return 0
 
 
@@ -359,7 +379,7 @@ def _history(args: argparse.Namespace, plant: Any) -> tuple[Any, dict[str, Any] 
     db = _default_db(args)
     server = is_server_url(db)  # an office store holds many plants: read this one's chain
     if not server and not Path(db).exists():
-        if args.db:
+        if _typed(args, "db"):  # named elsewhere (environment, workpack.toml): none yet
             raise UsageError(f"--db {args.db}: no such records store (create it with: "
                              f"workpack store init {args.db} --plant '{plant.plant.name}')")
         return History(), None
@@ -438,28 +458,24 @@ def _refuse_other_days(out: Path, day: Any, packages: Sequence[Any]) -> None:
                              "its own folder")
 
 
-class _Progress:
-    """A one-line progress count on the terminal (stderr), nothing when piped."""
-
-    def __init__(self, what: str):
-        self.what = what
-
-    def __call__(self, done: int, total: int) -> None:
-        end = "\n" if done == total else ""
-        sys.stderr.write(f"\r{self.what} {done}/{total}{end}")
-        sys.stderr.flush()
-
-
 def _cmd_results_template(args: argparse.Namespace) -> int:
     from workpack.forms import results_template
     from workpack.output import write_all
 
+    if args.json and not args.out:
+        raise UsageError("--json: reports the file written; give --out FILE (without "
+                         "--out the sheet itself is printed)")
     package, digest = _issued_package(Path(args.package))
     text = results_template(package, digest)
     if args.out:
         out = Path(args.out)
         write_all(out.parent, {out.name: text.encode()})
-        sys.stdout.write(f"results sheet written to {out}\n")
+        if args.json:
+            from workpack.reports import FilesReport
+
+            sys.stdout.write(_to_json(FilesReport(files=(str(out),))))
+        else:
+            sys.stdout.write(f"results sheet written to {out}\n")
     else:
         sys.stdout.write(text)
     return 0
@@ -529,8 +545,9 @@ def _cmd_record(args: argparse.Namespace) -> int:
         if why is not None:
             raise UsageError(f"{package.id}: {why}")
         # The plant's lock register as the store has it, without the record this corrects.
-        earlier = stored_locks(r for r in store.records() if r.sequence != args.supersedes)
         uses, boxes, _ = results_locks(results, package.plant, package.id)
+        earlier = stored_locks((r for r in store.records() if r.sequence != args.supersedes),
+                               numbered={use.lock for use in uses})
         clashes = check_record_locks(uses, boxes, earlier)
         if clashes:
             raise InputError(located(marks, clashes))
@@ -543,10 +560,12 @@ def _cmd_record(args: argparse.Namespace) -> int:
             results.completed_on or package.date, at, recorded_by,
             {**detail, "record": record.sequence})])
         where = store.location  # a URL's password left out
-    state = ("suspended: its locks stay on, the job goes on" if kind == "suspended"
-             else f"completed ({evaluation.verdict})")
-    sys.stdout.write(evaluation_text(evaluation) + f"job {package.id} {state}\n"
-                     + f"recorded as record {record.sequence} in {where}\n")
+    if not args.json:  # said at once: the record is stored whatever happens next
+        state = ("suspended: its locks stay on, the job goes on" if kind == "suspended"
+                 else f"completed ({evaluation.verdict})")
+        sys.stdout.write(evaluation_text(evaluation) + f"job {package.id} {state}\n"
+                         + f"recorded as record {record.sequence} in {where}\n")
+    followups = None
     if args.followups and evaluation.followups:
         import yaml
 
@@ -555,8 +574,17 @@ def _cmd_record(args: argparse.Namespace) -> int:
                               sort_keys=False, allow_unicode=True)
         out = Path(args.followups)
         write_all(out.parent, {out.name: text.encode()})
-        sys.stdout.write(f"{len(evaluation.followups)} follow-up finding(s) written to {out}\n")
-    return 0
+        followups = str(out)
+        if not args.json:
+            sys.stdout.write(f"{len(evaluation.followups)} follow-up finding(s) written to "
+                             f"{out}\n")
+    if args.json:
+        from workpack.reports import RecordReport
+
+        sys.stdout.write(_to_json(RecordReport(package=package.id, sequence=record.sequence,
+                                               store=where, verdict=evaluation.verdict,
+                                               evaluation=evaluation, followups=followups)))
+    return 0 if evaluation.verdict == "passed" else 1  # recorded either way; 1: found wanting
 
 
 def _cmd_job(args: argparse.Namespace) -> int:
@@ -574,6 +602,12 @@ def _cmd_job(args: argparse.Namespace) -> int:
         store.append_events([NewEvent(args.package, job.job_key, args.event, at.date(), at,
                                       args.by, {"note": args.note} if args.note else {})])
         where = store.location
+    if args.json:
+        from workpack.reports import JobEventReport
+
+        sys.stdout.write(_to_json(JobEventReport(args.package, args.event, args.by, at,
+                                                 args.note, where)))
+        return 0
     sys.stdout.write(f"{args.package}: {args.event} by {args.by} at "
                      f"{at:%Y-%m-%d %H:%M %Z}, recorded in {where}\n")
     return 0
@@ -633,11 +667,15 @@ def _cmd_locks(args: argparse.Namespace) -> int:
     if not is_server_url(db) and not Path(db).exists():
         raise UsageError(f"--db {db}: no such records store")
     with open_store(db, plant=plant, create=False) as store:
-        uses = stored_locks(store.records())
+        uses = stored_locks(store.records(), on_only=True)
         where = store.location
     on = [lock for lock in locks_on(uses) if lock.plant == plant]
-    sys.stdout.write(_to_json({"plant": plant, "store": where, "locks_on": on}) if args.json
-                     else locks_text(plant, where, on))
+    if args.json:
+        from workpack.reports import LocksReport
+
+        sys.stdout.write(_to_json(LocksReport(plant=plant, store=where, locks_on=tuple(on))))
+    else:
+        sys.stdout.write(locks_text(plant, where, on))
     return 0
 
 
@@ -650,16 +688,36 @@ def _cmd_verify(args: argparse.Namespace) -> int:
         with open_store(db, create=False) as store:
             plants = list(store.plants())
             if not plants:
-                sys.stdout.write(f"{store.location}: OK, empty store (no plant's records "
-                                 "yet)\n")
+                if args.json:
+                    from workpack.reports import VerifyReport
+
+                    sys.stdout.write(_to_json(VerifyReport(ok=True, chains=())))
+                else:
+                    sys.stdout.write(f"{store.location}: OK, empty store (no plant's records "
+                                     "yet)\n")
                 return 0
-    failed = 0
+    chains = []
     for name in plants:
         with open_store(db, plant=name, create=False) as store:
-            result = store.verify()
-        sys.stdout.write(result.message + "\n")
-        failed += not result.ok
-    return 0 if not failed else 1
+            chains.append(_chain_report(name, store.verify()))
+    if args.json:
+        from workpack.reports import VerifyReport
+
+        sys.stdout.write(_to_json(VerifyReport(ok=all(c.ok for c in chains),
+                                               chains=tuple(chains))))
+    else:
+        sys.stdout.write("".join(chain.message + "\n" for chain in chains))
+    return 0 if all(chain.ok for chain in chains) else 1
+
+
+def _chain_report(plant: str | None, verification: Any) -> Any:
+    from workpack.reports import ChainReport
+
+    return ChainReport(plant=plant, store=verification.location, ok=verification.ok,
+                       records=verification.count, head=verification.head,
+                       first_break=verification.first_break,
+                       guards_intact=verification.guards_intact,
+                       message=verification.message)
 
 
 def _issued_package(path: Path) -> tuple[Any, str]:
@@ -695,18 +753,31 @@ def _cmd_audit(args: argparse.Namespace) -> int:
     from workpack.store import open_store
 
     as_of = args.as_of or args.until or dt.date.today()
-    packages = _read_packages(args.packages)
-    with open_store(_default_db(args), plant=_store_plant(args), create=False) as store:
-        records = list(store.records())
-        verification = store.verify()
-    report = build_audit(records, packages, verification, since=args.since, until=args.until,
-                         plant=args.plant_name, as_of=as_of, standards=_standards(),
-                         default_code_set=args.code_set)
-    written = write_all(Path(args.out), {
-        "audit.html": render_audit_html(report).encode(),
-        "audit.pdf": render_audit_pdf(report, args.page_size)})
-    sys.stdout.write(f"{verification.message}\naudit written: "
-                     + ", ".join(str(p) for p in written) + "\n")
+    with Progress("audit", total=5) as progress:
+        progress.stage("reading packages")
+        packages = _read_packages(args.packages)
+        progress.stage("verifying records")
+        with open_store(_default_db(args), plant=_store_plant(args), create=False) as store:
+            records = list(store.records())
+            verification = store.verify()
+        progress.stage("judging")
+        report = build_audit(records, packages, verification, since=args.since,
+                             until=args.until, plant=args.plant_name, as_of=as_of,
+                             standards=_standards(), default_code_set=args.code_set)
+        progress.stage("HTML")
+        html = render_audit_html(report).encode()
+        progress.stage("PDF")
+        pdf = render_audit_pdf(report, args.page_size)
+    written = write_all(Path(args.out), {"audit.html": html, "audit.pdf": pdf})
+    if args.json:
+        from workpack.reports import AuditReport
+
+        sys.stdout.write(_to_json(AuditReport(
+            chain=_chain_report(_store_plant(args), verification), packages=len(packages),
+            records=len(records), files=tuple(str(p) for p in written))))
+    else:
+        sys.stdout.write(f"{verification.message}\naudit written: "
+                         + ", ".join(str(p) for p in written) + "\n")
     return 0 if verification.ok else 1
 
 
@@ -738,6 +809,12 @@ def _cmd_closeout(args: argparse.Namespace) -> int:
                           page_size=args.page_size)
     out = Path(args.out)
     write_all(out.parent, {out.name: pdf})
+    if args.json:
+        from workpack.reports import CloseoutReport
+
+        sys.stdout.write(_to_json(CloseoutReport(package=package.id, sequence=record.sequence,
+                                                 verdict=record.verdict, file=str(out))))
+        return 0
     sys.stdout.write(f"record {record.sequence} of {package.id} ({record.verdict}) "
                      f"written to {out}\n")
     return 0
@@ -774,6 +851,13 @@ def _cmd_draw(args: argparse.Namespace) -> int:
     drawing = draw_plant(plant, topology, paper=args.paper)
     write_all(out.parent, {out.name: renderers[out.suffix.lower()](drawing)})
     enlarged = [str(s.number) for s in drawing.sheets if s.enlarged]
+    if args.json:
+        from workpack.reports import DrawReport
+
+        sys.stdout.write(_to_json(DrawReport(paper=args.paper, sheets=len(drawing.sheets),
+                                             enlarged=tuple(int(n) for n in enlarged),
+                                             file=str(out))))
+        return 0
     sys.stdout.write(f"{len(drawing.sheets)} sheet(s) of {args.paper} written to {out}\n")
     if enlarged:
         sys.stdout.write(f"larger than {args.paper} (nothing left to split at): sheet(s) "
@@ -784,8 +868,17 @@ def _cmd_draw(args: argparse.Namespace) -> int:
 def _cmd_store_init(args: argparse.Namespace) -> int:
     from workpack.store import set_up_store
 
-    for line in set_up_store(args.location, plant=args.plant, crew=args.crew or (),
-                             auditors=args.auditor or ()):
+    done = set_up_store(args.location, plant=args.plant, crew=args.crew or (),
+                        auditors=args.auditor or ())
+    if args.json:
+        from workpack.reports import StoreInitReport
+        from workpack.store import is_server_url
+        from workpack.store._base import redact
+
+        location = redact(args.location) if is_server_url(args.location) else args.location
+        sys.stdout.write(_to_json(StoreInitReport(store=location, done=tuple(done))))
+        return 0
+    for line in done:
         sys.stdout.write(line + "\n")
     return 0
 
@@ -804,8 +897,17 @@ def _cmd_import_assets(args: argparse.Namespace) -> int:
     from workpack.sheets import import_assets
 
     out = Path(args.out)
-    plant, text = import_assets([Path(p) for p in args.inputs], Path(args.map), str(out))
+    with Progress("import", total=3) as progress:
+        plant, text = import_assets([Path(p) for p in args.inputs], Path(args.map), str(out),
+                                    stage=progress.stage)
     write_all(out.parent, {out.name: text.encode()})
+    if args.json:
+        from workpack.reports import ImportReport
+
+        sys.stdout.write(_to_json(ImportReport(
+            plant=plant.plant.name, file=str(out),
+            counts={s: len(getattr(plant, s)) for s in SECTIONS if getattr(plant, s)})))
+        return 0
     counts = ", ".join(f"{len(getattr(plant, s))} {s}" for s in SECTIONS if getattr(plant, s))
     sys.stdout.write(f"{plant.plant.name}: {counts}\ninventory written to {out}\n")
     return 0
@@ -839,6 +941,13 @@ def _cmd_export(args: argparse.Namespace) -> int:
         else FIXED_STAMP
     files = tables_to_files(tables, out, stamp)
     written = write_all(out.parent if out.suffix else out, files)
+    if args.json:
+        from workpack.reports import ExportedTable, ExportReport
+
+        sys.stdout.write(_to_json(ExportReport(
+            tables=tuple(ExportedTable(name=t.name, columns=t.columns, rows=len(t.rows))
+                         for t in tables), files=tuple(str(p) for p in written))))
+        return 0
     sys.stdout.write("".join(f"{t.name}: {len(t.rows)} rows\n" for t in tables)
                      + "written: " + ", ".join(str(p) for p in written) + "\n")
     return 0
@@ -864,6 +973,13 @@ def _export_records(args: argparse.Namespace, needs: set[str], plant: Any) -> li
     chain = (plant.plant.name if plant is not None else _store_plant(args)) if server else None
     with open_store(db, plant=chain, create=False) as store:
         return list(store.records())
+
+
+def _json_option(parser: argparse.ArgumentParser) -> None:
+    """``--json``: the command's report as one JSON object, whose schema ships in
+    workpack/data/output-schemas/ (output_schemas.OUTPUTS names the type it follows)."""
+    parser.add_argument("--json", action="store_true",
+                        help="print the report as JSON (schema: workpack/data/output-schemas/)")
 
 
 def _store_options(parser: argparse.ArgumentParser) -> None:
@@ -892,8 +1008,10 @@ def _cmd_crew_check(args: argparse.Namespace) -> int:
     register, _ = load_crew(Path(args.register))
     at = parse_time("--at", args.at, _now)
     people = summarize_register(register, at)
-    sys.stdout.write(_to_json({"crew": register.crew.model_dump(mode="json"), "at": at,
-                               "people": people}) if args.json
+    from workpack.reports import CrewCheckReport
+
+    sys.stdout.write(_to_json(CrewCheckReport(crew=register.crew, at=at,
+                                              people=tuple(people))) if args.json
                      else crew_summary(register, people, at))
     return 0
 
@@ -940,7 +1058,7 @@ def _add_crew_commands(commands: Any) -> None:
     check.add_argument("register", metavar="CREW.yaml", help="crew register (YAML)")
     check.add_argument("--at", metavar="TIME", help="summarise as of this time, with its "
                                                     "zone (default: now)")
-    check.add_argument("--json", action="store_true", help="print JSON")
+    _json_option(check)
     check.set_defaults(run=_cmd_crew_check)
 
     key = commands.add_parser(
@@ -987,17 +1105,18 @@ def build_parser() -> argparse.ArgumentParser:
                     "three-phase systems. Local codes, the employer's rules and licensed "
                     "practice prevail over anything it prints.",
     )
+    parser.add_argument("--version", action="version", version=f"workpack {__version__}")
     commands = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
 
     check = commands.add_parser("check", help="validate a plant and summarize its systems")
     check.add_argument("plant", metavar="PLANT", help="plant inventory (YAML)")
-    check.add_argument("--json", action="store_true", help="print JSON")
+    _json_option(check)
     check.set_defaults(run=_cmd_check)
 
     isolate = commands.add_parser("isolate", help="what to open and lock to work on an item")
     isolate.add_argument("plant", metavar="PLANT", help="plant inventory (YAML)")
     isolate.add_argument("item", metavar="ITEM", help="element id")
-    isolate.add_argument("--json", action="store_true", help="print JSON")
+    _json_option(isolate)
     isolate.set_defaults(run=_cmd_isolate)
 
     diagnose = commands.add_parser(
@@ -1005,7 +1124,7 @@ def build_parser() -> argparse.ArgumentParser:
     diagnose.add_argument("plant", metavar="PLANT", nargs="?", help="plant inventory (YAML)")
     diagnose.add_argument("findings", metavar="FINDINGS", nargs="?",
                           help="findings (YAML, or CSV from a rounds log)")
-    diagnose.add_argument("--json", action="store_true", help="print JSON")
+    _json_option(diagnose)
     quick = diagnose.add_argument_group(
         "quick mode", "three phase-to-earth readings, no plant file; units may be written "
                       "with the number (2.2uF)")
@@ -1044,7 +1163,7 @@ def build_parser() -> argparse.ArgumentParser:
                              "default: the findings' date, else today")
     locate.add_argument("--one-at-a-time", action="store_true",
                         help="never open feeders in groups")
-    locate.add_argument("--json", action="store_true", help="print JSON")
+    _json_option(locate)
     locate.set_defaults(run=_cmd_locate)
 
     plan = commands.add_parser(
@@ -1057,11 +1176,11 @@ def build_parser() -> argparse.ArgumentParser:
                       help="the day planned for (YYYY-MM-DD); default: the day after the "
                            "findings' date")
     plan.add_argument("--crew-hours", type=_option("--crew-hours", _hours), metavar="H",
-                      help="person-hours available (default: the crew register's hours of "
-                           "the day with --crew, else 16: two people, a day)")
+                      help="person-hours available (default 16: two people, a day; with "
+                           "--crew, the register's hours of the day)")
     plan.add_argument("--crew", metavar="CREW.yaml",
                       help="crew register: name the people for each job, within their hours")
-    plan.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
+    plan.add_argument("--page-size", choices=["A4", "Letter"], help="paper (default A4)")
     plan.add_argument("--rules", default=str(rules_folder()), metavar="DIR",
                       help="rules folder (default: the shipped rules/)")
     plan.add_argument("--db", help="records store: its history informs the plan, its open "
@@ -1072,6 +1191,7 @@ def build_parser() -> argparse.ArgumentParser:
                       help="who plans, recorded with the jobs' events (default: workpack plan)")
     plan.add_argument("--at", type=_option("--at", _moment),
                       help="when, for the jobs' events (ISO date and time; default: now)")
+    _json_option(plan)
     plan.set_defaults(run=_cmd_plan)
 
     status = commands.add_parser(
@@ -1084,7 +1204,7 @@ def build_parser() -> argparse.ArgumentParser:
                         help="as of this day (YYYY-MM-DD; default: today)")
     status.add_argument("--days", type=_option("--days", _days), default=7, metavar="N",
                         help="routine tests due within N days (default 7)")
-    status.add_argument("--json", action="store_true", help="print JSON")
+    _json_option(status)
     status.set_defaults(run=_cmd_status)
 
     job = commands.add_parser(
@@ -1098,12 +1218,14 @@ def build_parser() -> argparse.ArgumentParser:
     job.add_argument("--at", type=_option("--at", _moment),
                      help="when (ISO date and time; default: now; UTC unless a zone is given)")
     job.add_argument("--note", help="why, in words (a cancellation needs one)")
+    _json_option(job)
     job.set_defaults(run=_cmd_job)
 
     template = commands.add_parser(
         "results-template", help="a YAML results sheet for one package, to fill in")
     template.add_argument("package", metavar="PACKAGE_JSON", help="the package's JSON twin")
     template.add_argument("--out", metavar="FILE", help="write it here (default: print)")
+    _json_option(template)
     template.set_defaults(run=_cmd_results_template)
 
     record = commands.add_parser(
@@ -1127,6 +1249,7 @@ def build_parser() -> argparse.ArgumentParser:
                         help="instrument register: each reading names its instrument, in "
                              "calibration on the day; a reading outside its range is not "
                              "accepted")
+    _json_option(record)
     record.set_defaults(run=_cmd_record)
 
     locks = commands.add_parser(
@@ -1135,11 +1258,12 @@ def build_parser() -> argparse.ArgumentParser:
     locks.add_argument("plant", metavar="PLANT", help="plant inventory (YAML)")
     locks.add_argument("--db", help="records store: an SQLite file, or a postgresql:// URL "
                                     "(default: PLANT.records.sqlite beside the plant)")
-    locks.add_argument("--json", action="store_true", help="print JSON")
+    _json_option(locks)
     locks.set_defaults(run=_cmd_locks)
 
     verify = commands.add_parser("verify", help="check the records store's hash chain")
     _store_options(verify)
+    _json_option(verify)
     verify.set_defaults(run=_cmd_verify)
 
     audit = commands.add_parser(
@@ -1156,8 +1280,9 @@ def build_parser() -> argparse.ArgumentParser:
                        help="the day open packages become overdue (default: --to, else today)")
     audit.add_argument("--code-set", default="ieee43-2013",
                        help="tables for insulation trends whose readings name none")
-    audit.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
+    audit.add_argument("--page-size", choices=["A4", "Letter"], help="paper (default A4)")
     audit.add_argument("--out", required=True, metavar="DIR", help="folder for the report")
+    _json_option(audit)
     audit.set_defaults(run=_cmd_audit)
 
     closeout = commands.add_parser(
@@ -1166,8 +1291,9 @@ def build_parser() -> argparse.ArgumentParser:
     _store_options(closeout)
     closeout.add_argument("--record", type=int, metavar="N",
                           help="record number (default: the package's latest)")
-    closeout.add_argument("--page-size", choices=["A4", "Letter"], default="A4")
+    closeout.add_argument("--page-size", choices=["A4", "Letter"], help="paper (default A4)")
     closeout.add_argument("--out", required=True, metavar="FILE", help="PDF to write")
+    _json_option(closeout)
     closeout.set_defaults(run=_cmd_closeout)
 
     draw = commands.add_parser(
@@ -1180,6 +1306,7 @@ def build_parser() -> argparse.ArgumentParser:
     draw.add_argument("--paper", choices=["A3", "A2", "A1", "A0"], default="A3",
                       help="sheet size, landscape (default A3); a plant too big for one "
                            "sheet is split with off-sheet connectors")
+    _json_option(draw)
     draw.set_defaults(run=_cmd_draw)
 
     store = commands.add_parser("store", help="set up a records store (once, by its owner)")
@@ -1196,6 +1323,7 @@ def build_parser() -> argparse.ArgumentParser:
     init.add_argument("--auditor", action="append", metavar="ROLE",
                       help="an existing login role that reads every plant and writes nothing")
     init.add_argument("--plant", help="SQLite only: the plant whose records the file holds")
+    _json_option(init)
     init.set_defaults(run=_cmd_store_init)
 
     import_assets = commands.add_parser(
@@ -1210,6 +1338,7 @@ def build_parser() -> argparse.ArgumentParser:
                                     "repository, which reads `export --what assets`)")
     import_assets.add_argument("--out", required=True, metavar="PLANT.yaml",
                                help="the inventory to write (only once it validates)")
+    _json_option(import_assets)
     import_assets.set_defaults(run=_cmd_import_assets)
 
     from workpack.exports import TABLE_KINDS, describe
@@ -1233,6 +1362,7 @@ def build_parser() -> argparse.ArgumentParser:
     export.add_argument("--out", required=True, metavar="FILE.xlsx|FILE.csv|DIR",
                         help="one workbook (a sheet per table), one CSV file (one table), "
                              "or a folder (a CSV file per table)")
+    _json_option(export)
     export.set_defaults(run=_cmd_export)
 
     from workpack.model.schemas import INPUT_FILES
@@ -1252,13 +1382,51 @@ def build_parser() -> argparse.ArgumentParser:
     schema.set_defaults(run=_cmd_schema)
 
     _add_crew_commands(commands)
+    _explain_conventions(parser)
     return parser
 
 
+EXIT_STATUS = ("exit status: 0 done (and, where something is judged, found sound); "
+               "1 judged and found wanting (a job recorded as failed or incomplete, a records "
+               "chain broken); 2 bad input or options (one line per problem, file:line:col "
+               "where there is a file; nothing written).")
+
+
+def _explain_conventions(parser: argparse.ArgumentParser) -> None:
+    """Every command's --help ends with where settings come from and the exit statuses,
+    commands added later included: this walks the parsers rather than listing them."""
+    from workpack.settings import PRECEDENCE
+
+    parser.epilog = "\n\n".join(p for p in (parser.epilog, PRECEDENCE, EXIT_STATUS) if p)
+    parser.formatter_class = _Formatter
+    for action in parser._actions:
+        if isinstance(action, argparse._SubParsersAction):
+            for sub in dict.fromkeys(action.choices.values()):
+                _explain_conventions(sub)
+
+
+class _Formatter(argparse.HelpFormatter):
+    """Wraps the description and epilog as paragraphs (blank lines kept between them)."""
+
+    def _fill_text(self, text: str, width: int, indent: str) -> str:
+        return "\n\n".join(super(_Formatter, self)._fill_text(part, width, indent)
+                           for part in text.split("\n\n"))
+
+
+def _typed(args: argparse.Namespace, setting: str) -> bool:
+    """Whether ``setting`` was given on the command line (not from elsewhere)."""
+    from workpack.settings import COMMAND_LINE
+
+    return bool(getattr(args, "setting_sources", {}).get(setting) == COMMAND_LINE)
+
+
 def main(argv: Sequence[str] | None = None) -> int:
+    from workpack.settings import resolve
+
     parser = build_parser()
     try:
         args = parser.parse_args(argv)  # a bad option value is a UsageError (see _option)
+        resolve(args)  # --db, --page-size, --crew-hours left out: environment, workpack.toml
         return int(args.run(args))
     except WorkpackError as error:
         sys.stderr.write(error.format_message() + "\n")

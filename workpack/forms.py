@@ -137,6 +137,7 @@ class FormFieldError(ValueError):
 _FIELD_SHAPES: dict[str, tuple[int, tuple[int, ...], tuple[str, ...] | None]] = {
     "reading": (2, (), None),
     "temperature": (2, (), None),
+    "instrument": (2, (), None),
     "step": (3, (1,), ("done",)),
     "restore": (3, (1,), ("done",)),
     "lock": (3, (), ("number", "applied_by", "applied_at", "removed_by", "removed_at")),
@@ -149,8 +150,8 @@ _FIELD_SHAPES: dict[str, tuple[int, tuple[int, ...], tuple[str, ...] | None]] = 
     "ground_found_at": (1, (), None),
 }
 # Fields of a final test of a ground search carry its scope first: final:<id>:<field…>.
-_SCOPED = frozenset({"reading", "temperature", "step", "restore", "lock", "tag", "dead",
-                     "tester", "locks_left_on"})
+_SCOPED = frozenset({"reading", "temperature", "instrument", "step", "restore", "lock", "tag",
+                     "dead", "tester", "locks_left_on"})
 
 
 def field_problem(parts: tuple[str, ...]) -> str | None:
@@ -216,6 +217,8 @@ def results_from_fields(package: WorkPackage, fields: Mapping[str, str | None],
             readings.setdefault(parts[1], {})["value"] = value
         elif kind == "temperature" and value:
             readings.setdefault(parts[1], {})["temperature"] = value
+        elif kind == "instrument" and value:
+            readings.setdefault(parts[1], {})["instrument"] = value
         elif kind in ("step", "restore"):
             target["steps" if kind == "step" else "restoration"][int(parts[1])] = {
                 "done": ticked}

@@ -10,7 +10,7 @@ import io
 from collections.abc import Iterator
 from contextlib import contextmanager
 from pathlib import Path
-from typing import Any, TypeVar
+from typing import TYPE_CHECKING, Any, TypeVar
 
 from pydantic import BaseModel, ValidationError
 
@@ -40,9 +40,11 @@ from workpack.model.plant import (
 from workpack.model.results import Results
 from workpack.model.rules import CautionLibrary, RuleFile
 from workpack.model.weights import SearchWeights
-from workpack.rules import RuleSet, build_ruleset
 from workpack.topology import Topology
 from workpack.yamlsource import Marks, TableMarks, find_unprintable, format_path, parse_yaml
+
+if TYPE_CHECKING:  # the rules (and Jinja2) load only when a rule set is read
+    from workpack.rules import RuleSet
 
 Model = TypeVar("Model", bound=BaseModel)
 
@@ -461,6 +463,7 @@ def load_ruleset(folder: Path) -> RuleSet:
     """Every rules/*.yaml (but the caution library and weights), linted and compiled."""
     from workpack.calculations import CALCULATIONS, parameters
     from workpack.plan import context_schema
+    from workpack.rules import build_ruleset
 
     if not folder.is_dir():
         raise InputError([Problem(str(folder), 0, 0, "", "no such rules folder")])

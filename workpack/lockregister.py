@@ -27,13 +27,32 @@ written; ``check_record_locks`` refuses a record mixing both.
 from __future__ import annotations
 
 import datetime as dt
-from collections.abc import Iterable, Sequence
+import json
+import re
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from enum import StrEnum
+from typing import Protocol
 
 from workpack.checks import Mismatch, Path
-from workpack.model.results import FinalTestResults, LockTransfer, Results
-from workpack.records import StoredRecord, read_back, superseded_by
+from workpack.model.results import LockBoxRecord, LockRecord, LockTransfer, Results
+from workpack.records import StoredRecord, read_for_locks, superseded_by
+
+
+class _FinalLocked(Protocol):
+    @property
+    def isolation(self) -> Mapping[str, LockRecord]: ...
+
+
+class _Locked(Protocol):
+    """What ``results_locks`` reads: full results, or the records' lock view of them."""
+
+    @property
+    def isolation(self) -> Mapping[str, LockRecord]: ...
+    @property
+    def final_tests(self) -> Mapping[str, _FinalLocked]: ...
+    @property
+    def lock_boxes(self) -> Mapping[str, LockBoxRecord]: ...
 
 
 class LockKind(StrEnum):
@@ -71,6 +90,12 @@ class LockUse:
     box: str | None = None  # a point lock's key is in this group lock box
     sequence: int = 0  # the record's place in the store: a later state wins
     where: Path = ()  # the lock's field path in the results file, for messages
+    # An older record's removal written in words ("15:40"): removed, at a time not known.
+    removed_untimed: bool = False
+
+    @property
+    def removed(self) -> bool:
+        return self.removed_at is not None or self.removed_untimed
 
     @property
     def identity(self) -> tuple[str, str, LockKind, str, str]:
@@ -161,7 +186,9 @@ def latest_states(uses: Iterable[LockUse]) -> list[LockUse]:
 def _is_on(use: LockUse, at: dt.datetime | None) -> bool:
     if at is not None and use.applied_at is not None and instant(use.applied_at) > instant(at):
         return False
-    return use.removed_at is None or (at is not None and instant(use.removed_at) > instant(at))
+    if use.removed_at is not None and at is not None:
+        return instant(use.removed_at) > instant(at)
+    return not use.removed
 
 
 def locks_on(uses: Iterable[LockUse], at: dt.datetime | None = None) -> list[LockOn]:
@@ -185,7 +212,10 @@ def _overlap(first: LockUse, second: LockUse) -> bool:
         return instant(use.applied_at) if use.applied_at is not None else dt.datetime.min
 
     def end(use: LockUse) -> dt.datetime:
-        return instant(use.removed_at) if use.removed_at is not None else dt.datetime.max
+        if use.removed_at is not None:
+            return instant(use.removed_at)
+        # Removed at a time not known (an older record): it is taken to clash with nothing.
+        return dt.datetime.min if use.removed_untimed else dt.datetime.max
     return start(first) < end(second) and start(second) < end(first)
 
 
@@ -365,21 +395,22 @@ class _Reader:
         moved = self.transfers(transfers, where)
         if applied_by is None:
             return None
+        untimed = removed is None and (removed_by is not None or removed_at is not None)
         return LockUse(self.plant, self.job, lock, kind, place, applied_by, applied,
-                       removed, removed_by, moved, box, self.sequence, where)
+                       removed, removed_by, moved, box, self.sequence, where, untimed)
 
 
-def results_locks(results: Results, plant: str, job: str, *, sequence: int = 0,
+def results_locks(results: Results | _Locked, plant: str, job: str, *, sequence: int = 0,
                   strict: bool = True) -> tuple[list[LockUse], list[LockBox], list[Mismatch]]:
     """The locks and lock boxes one job's results state, and (``strict``) why some cannot
     be read: a time that is not one, a lock without who or when."""
     reader = _Reader(plant, job, sequence, strict, [])
     uses: list[LockUse] = []
-    scopes: list[tuple[Path, Results | FinalTestResults]] = [((), results)]
-    scopes += [(("final_tests", final_id), final)
+    scopes: list[tuple[Path, Mapping[str, LockRecord]]] = [((), results.isolation)]
+    scopes += [(("final_tests", final_id), final.isolation)
                for final_id, final in results.final_tests.items()]
-    for base, scope in scopes:
-        for device, record in scope.isolation.items():
+    for base, isolation in scopes:
+        for device, record in isolation.items():
             if record.lock is None:
                 continue
             use = reader.use(LockKind.point, record.lock, device, record.applied_by,
@@ -400,20 +431,40 @@ def results_locks(results: Results, plant: str, job: str, *, sequence: int = 0,
     return uses, boxes, reader.problems
 
 
-def stored_locks(records: Iterable[StoredRecord]) -> list[LockUse]:
+# A lock not recorded as removed, as a payload's JSON text writes it (any spacing).
+_NOT_REMOVED = re.compile(r'"removed_at"\s*:\s*null')
+
+
+def stored_locks(records: Iterable[StoredRecord], *, on_only: bool = False,
+                 numbered: Iterable[str] | None = None) -> list[LockUse]:
     """Every lock the effective records state (a superseded record states nothing); a
-    record whose payload cannot be read is left out (``workpack verify`` names it)."""
+    record whose payload cannot be read is left out (``workpack verify`` names it).
+
+    Reading every payload of a year is slow, so two filters skip, on the payload's text
+    alone, records that cannot matter: ``on_only`` those with no lock left unremoved (for
+    ``locks_on`` now), ``numbered`` those that name none of these lock numbers (for
+    ``check_record_locks``, which compares only locks of one number). Both keep every
+    record that could matter: they only spare the parsing of the others.
+    """
     chain = list(records)
     superseded = superseded_by(chain)
+    # One pass over each payload for every number (a regular expression alternation).
+    wanted = None if numbered is None else re.compile(
+        "|".join(sorted({re.escape(json.dumps(n, ensure_ascii=ascii)[1:-1])
+                         for n in numbered for ascii in (True, False)})) or "(?!)")
     uses: list[LockUse] = []
     for record in chain:
         if record.sequence in superseded:
             continue
-        back = read_back(record)
-        if back.payload is None:
+        text = record.results_json
+        if on_only and not _NOT_REMOVED.search(text):
             continue
-        found, _, _ = results_locks(back.payload.results, back.payload.evaluation.plant,
-                                    record.package_id, sequence=record.sequence,
-                                    strict=False)
+        if wanted is not None and not wanted.search(text):
+            continue
+        view = read_for_locks(record)
+        if view is None:
+            continue
+        found, _, _ = results_locks(view.results, view.evaluation.plant, record.package_id,
+                                    sequence=record.sequence, strict=False)
         uses += found
     return uses

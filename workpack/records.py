@@ -56,13 +56,14 @@ from pydantic import (
 )
 
 from workpack.model.evaluation import Evaluation, Outcome
-from workpack.model.results import Results
+from workpack.model.results import LockBoxRecord, LockRecord, Results
 
 __all__ = [
     "OUTCOME_WORDS",
     "PAYLOAD_VERSION",
     "Chained",
     "PayloadError",
+    "LocksView",
     "PlanningView",
     "ReadBack",
     "RecordPayload",
@@ -71,6 +72,7 @@ __all__ = [
     "is_bare_number",
     "latest_effective",
     "read_back",
+    "read_for_locks",
     "read_for_planning",
     "read_payload",
     "record_payload",
@@ -138,6 +140,37 @@ class PlanningView(_Versioned):
     evaluation: Evaluation
 
 
+class _FinalLocks(BaseModel):
+    model_config = ConfigDict(extra="ignore", frozen=True)
+
+    isolation: dict[str, LockRecord] = {}
+
+
+class _ResultsLocks(BaseModel):
+    model_config = ConfigDict(extra="ignore", frozen=True)
+
+    isolation: dict[str, LockRecord] = {}
+    final_tests: dict[str, _FinalLocks] = {}
+    lock_boxes: dict[str, LockBoxRecord] = {}
+
+
+class _EvaluationPlant(BaseModel):
+    model_config = ConfigDict(extra="ignore", frozen=True)
+
+    plant: str
+
+
+class LocksView(_Versioned):
+    """The part of a payload the lock register reads (``read_for_locks``): the locks and
+    lock boxes of the results, and the plant. The register reads every record of the
+    plant whenever a record is made or the locks are listed."""
+
+    model_config = ConfigDict(extra="ignore", frozen=True)
+
+    results: _ResultsLocks
+    evaluation: _EvaluationPlant
+
+
 _STORED = "stored payload"  # the validation context of a payload read from the store
 
 
@@ -183,6 +216,14 @@ def read_for_planning(record: StoredRecord) -> PlanningView | None:
     records table say why)."""
     try:
         return _read(record, PlanningView)
+    except PayloadError:
+        return None
+
+
+def read_for_locks(record: StoredRecord) -> LocksView | None:
+    """What the lock register reads of ``record``; None when it cannot be read."""
+    try:
+        return _read(record, LocksView)
     except PayloadError:
         return None
 

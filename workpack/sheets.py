@@ -13,7 +13,7 @@ import csv
 import datetime as dt
 import io
 import zipfile
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -273,17 +273,22 @@ def read_asset_map(path: Path) -> tuple[AssetMap, Marks]:
     return validate(AssetMap, data, marks, "asset map"), marks
 
 
-def import_assets(inputs: Sequence[Path], map_path: Path, out_name: str) -> tuple[Plant, str]:
+def import_assets(inputs: Sequence[Path], map_path: Path, out_name: str,
+                  stage: Callable[[str], None] = lambda name: None) -> tuple[Plant, str]:
     """The inventory an asset list describes, and its YAML text, read back by the loader.
 
     InputError naming the sheet, row and column (or the map line) of every problem.
+    ``stage`` hears of each of the three stages as it starts (for a progress bar).
     """
+    stage("reading")
     asset_map, map_marks = read_asset_map(map_path)
     sheets = read_sheets(inputs)
+    stage("mapping")
     input_name = ", ".join(str(p) for p in inputs)
     data, places = inventory_from_sheets(
         sheets, asset_map, lambda path, message: map_marks.problem(path, message), input_name)
     marks = SheetMarks(input_name, places=places)
+    stage("checking")
     try:
         plant = validate(Plant, data, marks, "plant inventory")
     except InputError as error:

@@ -10,7 +10,7 @@ fields) or its text (truncation, binary garbage, a byte-order mark, CRLF, broken
 syntax, control characters), and runs the command that reads it, in a worker process
 (``workpack.cli.main`` in-process, output captured) with a time limit. Each run is:
 
-    ok         exit 0
+    ok         exit 0, or 1 (judged and found wanting: a record that fails, a broken chain)
     located    exit 2, every stderr line names its place (a file of the case, or an option)
     unlocated  exit 2, some line does not (or a message runs over two lines)
     wrote      refused, but left an output file or a records store behind
@@ -530,9 +530,9 @@ def _run_case(case: Case, base: Path) -> tuple[str, int | None, str, float]:
                     time.perf_counter() - started)
         seconds = time.perf_counter() - started
         text = err.getvalue()
-        if "Traceback" in text or (status not in (0, 2)):
+        if "Traceback" in text or (status not in (0, 1, 2)):
             return "traceback", status, text, seconds
-        if status == 0:
+        if status in (0, 1):  # 1: a record judged wanting, a chain found broken
             return "ok", status, text, seconds
         for written in case.writes:
             target = folder / written

@@ -13,7 +13,7 @@ from enum import StrEnum
 
 from workpack.electrical.standards import ApproachBoundary, CodeSet
 from workpack.electrical.threephase import line_to_neutral
-from workpack.model.package import SignalWord
+from workpack.model.signal_word import SignalWord
 
 # A healthy phase leading a resistive ground can reach (1+√7)/2 · V_LN at 3ωC0·Rf ≈ 0.373.
 # Derived from the single-fault locus (KCL at the earth node); no published statement found.

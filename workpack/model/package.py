@@ -10,28 +10,19 @@ the source it came from. Quantities are SI (volts, ohms, amperes, metres,
 from __future__ import annotations
 
 import datetime as dt
-from enum import StrEnum
 from typing import Literal
 
 from pydantic import BaseModel, ConfigDict, Field
 
 from workpack.model.crew import Requirement
+
+# Defined alone (the quick diagnose uses it without pydantic); re-exported here.
+from workpack.model.signal_word import SignalWord as SignalWord
 from workpack.numbers import format_quantity
 
 
 class Plain(BaseModel):
     model_config = ConfigDict(extra="forbid", frozen=True)
-
-
-class SignalWord(StrEnum):
-    """Signal words as the open safety-sign standards use them: DANGER (will kill or
-    seriously injure), WARNING (could kill or seriously injure), CAUTION (minor injury or
-    damage), NOTICE (practice, no injury)."""
-
-    danger = "DANGER"
-    warning = "WARNING"
-    caution = "CAUTION"
-    notice = "NOTICE"
 
 
 class Caution(Plain):

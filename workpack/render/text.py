@@ -2,17 +2,24 @@
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from typing import TYPE_CHECKING
 
-from workpack.diagnose import DayDiagnosis, ReadingSummary
-from workpack.evaluate import Evaluation
-from workpack.isolation import IsolationPlan
-from workpack.lockregister import LockKind, LockOn, shown
-from workpack.numbers import format_ohms, format_quantity, format_volts
-from workpack.plan import DayPlan
-from workpack.search import FaultSearch
-from workpack.search_wording import BoardNumbering, final_test_line, step_words
-from workpack.summary import PlantSummary
+from workpack.numbers import format_quantity, format_volts
+
+# Apart so the quick diagnose loads no planner; still importable from here.
+from workpack.render.quick_text import quick_diagnosis as quick_diagnosis
+
+# Types only: `check` prints a summary without loading the planner, rules or search.
+if TYPE_CHECKING:
+    from collections.abc import Sequence
+
+    from workpack.diagnose import DayDiagnosis
+    from workpack.evaluate import Evaluation
+    from workpack.isolation import IsolationPlan
+    from workpack.lockregister import LockOn
+    from workpack.plan import DayPlan
+    from workpack.search import FaultSearch
+    from workpack.summary import PlantSummary
 
 
 def isolation_plan(plan: IsolationPlan, item_label: str) -> str:
@@ -77,32 +84,6 @@ def plant_summary(summary: PlantSummary) -> str:
     return "\n".join(lines) + "\n"
 
 
-def quick_diagnosis(summary: ReadingSummary) -> str:
-    result = summary.best_fit
-    readings = ", ".join(f"{phase} {value:g} V" for phase, value in result.readings_v.items())
-    lines = [f"Readings: {readings} on a {result.line_voltage_v:g} V system "
-             f"(sequence {''.join(result.sequence.order)})",
-             f"Result: {result.status.value}",
-             f"Grounded phase: {result.grounded_phase or 'none identified'}"]
-    if result.candidate_phases and not result.grounded_phase:
-        lines.append("Phases that fit: " + ", ".join(result.candidate_phases))
-    if summary.fault_resistance_ohm is not None:
-        interval = summary.fault_resistance_interval_ohm
-        span = f" ({format_ohms(interval[0])} to {format_ohms(interval[1])})" if interval else ""
-        lines.append(f"Fault resistance: {format_ohms(summary.fault_resistance_ohm)}{span}")
-    lines.append(f"Neutral shift: {summary.neutral_shift_v:.0f} V")
-    if summary.fault_current_a is not None:
-        lines.append(f"Ground current: {format_quantity(summary.fault_current_a, 'A')}")
-    lines.append(f"Consistent with a single ground: {'yes' if result.consistent else 'NO'}")
-    lines.extend(f"{note.signal_word.value}: {note.text}" for note in summary.cautions)
-    lines.extend(f"  - {note}" for note in result.notes)
-    if result.next_steps:
-        lines.append("Next:")
-        lines.extend(f"  - {step}" for step in result.next_steps)
-    lines.append("Local codes, the employer's safety rules and licensed practice prevail.")
-    return "\n".join(lines) + "\n"
-
-
 def day_diagnosis(day: DayDiagnosis) -> str:
     lines = [f"{day.plant}: findings of {day.date or 'the day'}", ""]
     if day.conclusions:
@@ -130,6 +111,8 @@ def day_diagnosis(day: DayDiagnosis) -> str:
 
 
 def fault_search(search: FaultSearch) -> str:
+    from workpack.search_wording import BoardNumbering, final_test_line, step_words
+
     lines = [f"Finding the ground on the {search.island} system "
              f"({search.system_voltage_v:g} V), starting at {search.board}",
              f"Watch: {', '.join(search.detectors) or 'the phase-to-earth voltmeters'}. "
@@ -202,6 +185,8 @@ def evaluation_text(evaluation: Evaluation) -> str:
 
 def locks_text(plant: str, store: str, locks: Sequence[LockOn]) -> str:
     """The lock register: every lock on, one line each, as ``lockregister.locks_on`` gives."""
+    from workpack.lockregister import LockKind, shown
+
     lines = [f"Locks on now, {plant} (records store {store}): {len(locks)}"]
     if not locks:
         return "\n".join(lines) + "\n"

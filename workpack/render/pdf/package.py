@@ -468,6 +468,7 @@ class PackagePdf(PdfDocument):
         heads = ["Reading", "Expected", "Limit and its source", "Measured"]
         if with_temperature:
             heads.append("Temp.")
+        heads.append("Instrument")
         rows: list[list[Any]] = [[Paragraph(t, self.style["head"]) for t in heads]]
         for r in readings:
             expected: list[Flowable] = [Paragraph(words(expected_text(r)), cell)]
@@ -495,9 +496,12 @@ class PackagePdf(PdfDocument):
                 self.blank(Blank(("reading", r.id), f"{r.id}: {r.what}, {r.unit}",
                                  suffix=r.unit)),
             ]
-            rows.append([*row, temperature] if with_temperature else row)
-        widths = (self.cols(42, 32, 50, 33, 25) if with_temperature
-                  else self.cols(46, 38, 64, 34))
+            instrument = self.blank(Blank(("instrument", r.id),
+                                          f"{r.id}: instrument (its register id)"))
+            rows.append([*row, temperature, instrument] if with_temperature
+                        else [*row, instrument])
+        widths = (self.cols(38, 28, 44, 30, 22, 20) if with_temperature
+                  else self.cols(42, 34, 54, 32, 20))
         table = Table(rows, colWidths=widths, repeatRows=1)
         table.setStyle(TableStyle([*GRID, *HEAD_ROW]))
         return table
