@@ -62,12 +62,12 @@ def planned_packages(generated: int) -> tuple[list[Any], list[str]]:
     assert findings.date is not None
     import datetime as dt
 
-    demo = plan_day(plant, topology, findings, findings.date + dt.timedelta(days=1), rules,
+    demo = plan_day(topology, findings, findings.date + dt.timedelta(days=1), rules,
                     standards, weights, 40.0).packages
     data = scale_plant_data(1000)
     plant, topology = load_plant_text(plant_yaml(data), "generated.yaml")
     findings = load_findings_text(findings_yaml(data, 60), "findings.yaml", topology)
-    day = plan_day(plant, topology, findings, DAY, rules, standards, weights, 40.0).packages
+    day = plan_day(topology, findings, DAY, rules, standards, weights, 40.0).packages
     chosen: list[Any] = []
     failed: list[str] = []
     for package in day:

@@ -150,8 +150,7 @@ def one_size(size: int, runs: int) -> dict[str, Any]:
 
         def plan() -> tuple[Any, Any]:
             findings = load_findings_text(findings_text, "findings.yaml", topology)
-            return plan_day(plant, topology, findings, DAY, ruleset, standards, weights,
-                            40.0), findings
+            return plan_day(topology, findings, DAY, ruleset, standards, weights, 40.0), findings
 
         timed["plan"] = cpu_timed(plan)
         packages = [p for p in timed["plan"][1][0].packages if p.job_kind != "locate_ground"]

@@ -45,6 +45,7 @@ REGULAR, BOLD = "FloorSans", "FloorSans-Bold"
 MARGIN, HEADER, FOOTER = 14 * mm, 13 * mm, 15 * mm
 WIDTH = A4[0] - 2 * MARGIN
 BOX_H = 8.5 * mm
+FRAME_H = A4[1] - 2 * MARGIN - HEADER - FOOTER
 
 _registered = False
 
@@ -148,6 +149,13 @@ def _figure(nodes: list[str], edges: list[tuple[int, int]], width: float) -> Dra
     for level in sorted(set(depth)):
         members = [n for n in range(len(nodes)) if depth[n] == level]
         rows += [members[i:i + per_row] for i in range(0, len(members), per_row)]
+    # Like workpack's sketch, a figure taller than the room a page gives it keeps its
+    # type size and leaves rows out (the first and the last kept).
+    room = int((FRAME_H * 0.6 - 9 * mm) // (18 * mm))
+    if len(rows) > room:
+        rows = rows[:room // 2] + rows[len(rows) - (room - room // 2):]
+    kept = {n for row in rows for n in row}
+    edges = [(a, b) for a, b in edges if a in kept and b in kept]
     drawing = Drawing(width, len(rows) * 18 * mm + 9 * mm)
     drawing.add(Rect(0, 0, width, drawing.height, fillColor=None))
     places: dict[int, tuple[float, float]] = {}
@@ -247,68 +255,87 @@ def story(package: Any) -> list[Flowable]:
                               "bus.", s["small"]),
                     Paragraph("Cross and LOCK: an isolation point of this package.",
                               s["small"])]
-    out.append(section("Isolation: open, lock and tag in this order"))
-    if p.isolation:
-        out.append(_table([[Paragraph(t, s["head"]) for t in (
-            "#", "Device, kind, place", "What it cuts or stops", "Voltage", "Lock no.",
-            "Tag no.")]], [10, 50, 52, 20, 25, 25]))
-    for point in p.isolation:
-        device = f"<b>{point.device}</b><br/>{point.device_kind}"
-        if point.location:
-            device += f"<br/>{point.location}"
-        cuts = (f"<b>Set and lock:</b> {point.how}<br/>" if point.how else "") + point.cuts
-        blanks = Table([[Paragraph("Locked by", s["head"]), Box(), Paragraph("time", s["head"]),
-                         Box(), Paragraph("Removed by", s["head"]), Box(),
-                         Paragraph("time", s["head"]), Box()]])
-        out.append(_table([[Paragraph(str(point.order), s["number"]),
-                            Paragraph(device, s["cell"]), Paragraph(cuts, s["cell"]),
-                            Paragraph(f"{point.voltage_v or 0:g} V", s["bold"]), Box(), Box()],
-                           ["", blanks, "", "", "", ""]], [10, 50, 52, 20, 25, 25],
-                          TableStyle([*GRID.getCommands(), ("SPAN", (1, 1), (5, 1)),
-                                      ("SPAN", (0, 0), (0, 1))])))
-    if p.isolation_gaps:
-        out += [Paragraph("Supplies no lock can cut", s["sub"]), *[
-            _table([[Paragraph("DANGER", s["head"]), Paragraph(g, s["cell"])]], [30, 152])
-            for g in p.isolation_gaps]]
-    if p.stored_energy:
-        out += [Paragraph("Stored energy", s["sub"]),
-                *[Paragraph(e, s["bullet"], bulletText="•") for e in p.stored_energy]]
-    out.append(section("Prove dead at the point of work"))
+    def isolation(points: Any, gaps: Any, stored: Any, heading: Flowable) -> list[Flowable]:
+        parts: list[Flowable] = [heading]
+        if points:
+            parts.append(_table([[Paragraph(t, s["head"]) for t in (
+                "#", "Device, kind, place", "What it cuts or stops", "Voltage", "Lock no.",
+                "Tag no.")]], [10, 50, 52, 20, 25, 25]))
+        for point in points:
+            device = f"<b>{point.device}</b><br/>{point.device_kind}"
+            if point.location:
+                device += f"<br/>{point.location}"
+            cuts = (f"<b>Set and lock:</b> {point.how}<br/>" if point.how else "") + point.cuts
+            blanks = Table([[Paragraph("Locked by", s["head"]), Box(),
+                             Paragraph("time", s["head"]), Box(),
+                             Paragraph("Removed by", s["head"]), Box(),
+                             Paragraph("time", s["head"]), Box()]])
+            parts.append(_table([[Paragraph(str(point.order), s["number"]),
+                                  Paragraph(device, s["cell"]), Paragraph(cuts, s["cell"]),
+                                  Paragraph(f"{point.voltage_v or 0:g} V", s["bold"]), Box(),
+                                  Box()],
+                                 ["", blanks, "", "", "", ""]], [10, 50, 52, 20, 25, 25],
+                                TableStyle([*GRID.getCommands(), ("SPAN", (1, 1), (5, 1)),
+                                            ("SPAN", (0, 0), (0, 1))])))
+        if gaps:
+            parts += [Paragraph("Supplies no lock can cut", s["sub"]), *[
+                _table([[Paragraph("DANGER", s["head"]), Paragraph(g, s["cell"])]], [30, 152])
+                for g in gaps]]
+        if stored:
+            parts += [Paragraph("Stored energy", s["sub"]),
+                      *[Paragraph(e, s["bullet"], bulletText="•") for e in stored]]
+        return parts
 
     def tester(when: str) -> Table:
         return _table([[Box(6.5 * mm, 6.5 * mm), Paragraph(
             f"Tester proven on a known live source <b>{when}</b> the test", s["body"])]],
             [10, 172], TableStyle([("VALIGN", (0, 0), (-1, -1), "MIDDLE")]))
 
-    if p.proving_dead:
-        out.append(tester("before"))
-    for index, point in enumerate(p.proving_dead, start=1):
-        out.append(Paragraph(f"<b>Point {index}: {point.where}</b>, voltage class "
-                             f"{point.voltage_v or 0:g} V. Expect 0 V on every pair.",
-                             s["body"]))
-        for start in range(0, len(point.pairs), 6):
-            chunk = list(point.pairs[start:start + 6])
-            pad = [""] * (6 - len(chunk))
-            out.append(_table([
-                [Paragraph("Pair", s["head"]), *[Paragraph(c, s["bold"]) for c in chunk], *pad],
-                [Paragraph("Expected", s["cell"]), *[Paragraph("0 V", s["cell"]) for _ in chunk],
-                 *pad],
-                [Paragraph("Measured", s["cell"]), *[Box() for _ in chunk], *pad]], [26] * 7))
+    def proving_dead(points: Any, heading: Flowable) -> list[Flowable]:
+        parts: list[Flowable] = [heading]
+        if points:
+            parts.append(tester("before"))
+        for index, point in enumerate(points, start=1):
+            parts.append(Paragraph(f"<b>Point {index}: {point.where}</b>, voltage class "
+                                   f"{point.voltage_v or 0:g} V. Expect 0 V on every pair.",
+                                   s["body"]))
+            for start in range(0, len(point.pairs), 6):
+                chunk = list(point.pairs[start:start + 6])
+                pad = [""] * (6 - len(chunk))
+                parts.append(_table([
+                    [Paragraph("Pair", s["head"]), *[Paragraph(c, s["bold"]) for c in chunk],
+                     *pad],
+                    [Paragraph("Expected", s["cell"]),
+                     *[Paragraph("0 V", s["cell"]) for _ in chunk], *pad],
+                    [Paragraph("Measured", s["cell"]), *[Box() for _ in chunk], *pad]],
+                    [26] * 7))
+        if points:
+            parts.append(tester("after"))
+        return parts
 
-    if p.proving_dead:
-        out.append(tester("after"))
+    def labelled_box(label: str) -> Table:
+        return _table([[Paragraph(label, s["head"]), Box()]], [42, 118])
 
-    def steps(items: Any, title: str) -> list[Flowable]:
-        if not items:
+    def steps(items: Any, heading: Flowable | None) -> list[Flowable]:
+        if not items or heading is None:
             return []
-        parts: list[Flowable] = [section(title), Paragraph(
+        parts: list[Flowable] = [heading, Paragraph(
             "Tick each box when the step is done; write each reading in its box, in the "
             "unit shown.", s["small"])]
         for step in items:
+            text = step.text.replace("\n", "<br/>")
+            if step.search_outcome is not None:
+                text = f"<b>Only if the ground was {step.search_outcome}:</b> {text}"
             line = _table([[Box(6.5 * mm, 6.5 * mm), Paragraph(str(step.number), s["number"]),
-                            Paragraph(step.text.replace("\n", "<br/>"), s["body"])]],
+                            Paragraph(text, s["body"])]],
                           [10, 12, 160], TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP")]))
-            group: list[Flowable] = [Spacer(1, 1.5 * mm), line, *cautions(step.cautions)]
+            group: list[Flowable] = [Spacer(1, 1.5 * mm), line]
+            if step.kind == "remove_lock" and step.devices:
+                group.append(_table([[Paragraph("Removed by", s["head"]), Box(),
+                                      Paragraph("time", s["head"]), Box()]], [22, 40, 10, 28]))
+            if step.kind == "gate":
+                group.append(labelled_box("Locks left on because"))
+            group += cautions(step.cautions)
             if step.readings:
                 temperature = any(r.needs_temperature for r in step.readings)
                 rows: list[list[Any]] = [[Paragraph(t, s["head"]) for t in (
@@ -330,11 +357,33 @@ def story(package: Any) -> list[Flowable]:
             parts.append(KeepTogether(group))
         return parts
 
-    out += steps(p.steps, "Work steps")
+    def sub(title: str) -> Paragraph:
+        return Paragraph(title, s["sub"])
+
+    out += steps([t for t in p.steps if t.before_isolation],
+                 section("Before the isolation")
+                 if any(t.before_isolation for t in p.steps) else None)
+    out += isolation(p.isolation, p.isolation_gaps, p.stored_energy,
+                     section("Isolation: open, lock and tag in this order"))
+    out += proving_dead(p.proving_dead, section("Prove dead at the point of work"))
+    work = [t for t in p.steps if not t.before_isolation]
+    out += steps(work, section("Work steps") if work else None)
+    for final in p.final_tests:  # a ground search's ends: each a whole isolation
+        out += [section(final.title), Paragraph(f"<b>{final.condition}</b>", s["body"]),
+                *cautions(final.cautions)]
+        before = [t for t in final.steps if t.before_isolation]
+        out += steps(before, sub(f"{final.id} before the isolation") if before else None)
+        out += isolation(final.isolation, final.isolation_gaps, final.stored_energy,
+                         sub(f"{final.id} isolation: open, lock and tag in this order"))
+        out += proving_dead(final.proving_dead,
+                            sub(f"{final.id} prove dead at the point of work"))
+        rest = [t for t in final.steps if not t.before_isolation]
+        out += steps(rest, sub(f"{final.id} tests"))
+        out += steps(final.restoration, sub(f"{final.id} restoration"))
     if p.acceptance:
         out += [section("Acceptance criteria"),
                 *[Paragraph(a, s["bullet"], bulletText="•") for a in p.acceptance]]
-    out += steps(p.restoration, "Restoration")
+    out += steps(p.restoration, section("Restoration") if p.restoration else None)
     out.append(KeepTogether([section("Sign-off"), _table([
         [Paragraph("Technician (name, signature)", s["bold"]), Box()],
         [Paragraph("Supervisor (name, signature)", s["bold"]), Box()],
@@ -364,7 +413,7 @@ def render(package: Any) -> bytes:
         canv.drawString(MARGIN, bottom - 9.5 * mm, package.id)
         canv.restoreState()
 
-    frame = Frame(MARGIN, MARGIN + FOOTER, WIDTH, A4[1] - 2 * MARGIN - HEADER - FOOTER,
+    frame = Frame(MARGIN, MARGIN + FOOTER, WIDTH, FRAME_H,
                   leftPadding=0, rightPadding=0, topPadding=0, bottomPadding=0)
     buffer = io.BytesIO()
     doc = BaseDocTemplate(buffer, pagesize=A4, invariant=1,

@@ -315,7 +315,9 @@ def test_the_trend_keeps_history_before_the_range(db: Path, standards: dict) -> 
 
 def test_the_chart_draws_the_minimum_dashed_and_labelled(html: str, pdf: bytes) -> None:
     assert "<svg" in html and 'stroke-dasharray="7 4"' in html
-    assert "minimum 5 MΩ: IEEE Std 43 (2013), 12.3: 5 MΩ" in html
+    # the dashed line labelled with its value; its source stands in the legend under it
+    assert ">minimum 5 MΩ<" in html
+    assert "Dashed line: minimum 5 MΩ (IEEE Std 43 (2013), 12.3: 5 MΩ)" in html
     assert "IR at 40 °C (MΩ, log scale)" in html and "date of test" in html
     text = pdf_text(pdf)
     assert "minimum 5 MΩ" in text and "IR at 40 °C (MΩ, log scale)" in text

@@ -29,6 +29,12 @@ def planned(tmp_path: Path, shape: str, size: int) -> Path:
     else:
         plant = shaped_plant_data(shape, size)
         findings = findings_data(plant)
+    return plan_files(tmp_path, plant, findings)
+
+
+def plan_files(tmp_path: Path, plant: dict[str, Any], findings: dict[str, Any]) -> Path:
+    """Writes the plant and findings as YAML into ``tmp_path``, plans them through the
+    command line, and returns the output folder."""
     (tmp_path / "plant.yaml").write_text(yaml.safe_dump(plant, sort_keys=False))
     (tmp_path / "findings.yaml").write_text(yaml.safe_dump(findings, sort_keys=False,
                                                            allow_unicode=True))
@@ -66,5 +72,5 @@ def test_every_package_of_a_generated_plant_renders(tmp_path: Path, capsys: Any,
         assert any("boards in a row that only pass the supply on" in n for n in notes)
     if (shape, size) == ("parallel", 30):  # thirty generators: as one box, or some drawn
         assert any("30 supplies side by side" in n for n in notes)
-        assert any(n.startswith("Drawn: ") and "of the 30 isolation points" in n
+        assert any(n.startswith("Drawn: ") and "of the 30 ways in through" in n
                    for n in notes)

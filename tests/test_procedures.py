@@ -28,7 +28,7 @@ from scenariogen import scenario
 
 from workpack.calculations import unit_windings
 from workpack.checks import run_checks
-from workpack.forms import results_template
+from workpack.forms import CHOSEN, chosen_final_fields, results_template
 from workpack.loading import load_ruleset, load_weights
 from workpack.model.findings import Findings
 from workpack.model.package import FinalTest, IsolationPoint, ProvingDead, Step, WorkPackage
@@ -238,6 +238,15 @@ def test_every_lock_has_its_pdf_form_fields(days) -> None:
         first.setdefault((work.origin.rule, ground), work)
     for work in first.values():
         fields = set(PdfReader(_pdf(work)).get_fields() or {})
+        # The final tests are printed once, for whichever circuit the search ends at: each
+        # final test's own field is then one that a printed blank of that procedure stands
+        # for (``forms.chosen_final_fields``), with the circuit's id in ``final_at``.
+        for final in work.final_tests:
+            assert field_name("final_at") in fields
+            fields |= {field_name("final", final.id, *target)
+                       for generic, targets in chosen_final_fields(final).items()
+                       if field_name("final", CHOSEN, *generic) in fields
+                       for target in targets}
         for name, isolation, proving, _, restoration in scopes(work):
             scope = ("final", name.split()[-1]) if " F" in name else ()
             for point in isolation:
@@ -583,6 +592,43 @@ def test_final_test_fields_of_the_pdf_read_back_into_the_same_results(days) -> N
     assert record.isolation[device].lock == "L-1" and record.tester_proven_before
     assert record.restoration[2].done and "F99" not in results.final_tests
     assert results.ground_found_at == final.feeder
+
+
+def test_the_one_printed_final_procedure_reads_back_as_the_circuit_written_in_it(
+        days) -> None:
+    """The final tests are printed once: blanks of scope final:chosen: filled for the
+    circuit whose id is written in final_at read back as that final test's own record; a
+    filled procedure with no id, or a lock row the circuit does not have, is refused."""
+    from workpack.forms import FormFieldError, results_from_fields
+    from workpack.model.results import Results
+    from workpack.render.pdf import split_field_name
+
+    work, final = _search_with_final(days)
+    points = sorted(final.isolation, key=lambda p: p.order)
+    readings = [r for s in (*final.steps, *final.restoration) for r in s.readings]
+    pair = final.proving_dead[0].pairs[0]
+    fields = {field_name("final_at"): final.id,
+              field_name("final", CHOSEN, "lock", 1, "number"): "L-1",
+              field_name("final", CHOSEN, "lock", 1, "applied_by"): "S. Quayle",
+              field_name("final", CHOSEN, "dead", 1, pair): "0",
+              field_name("final", CHOSEN, "tester", "before"): "/Yes",
+              field_name("final", CHOSEN, "restore", 4, "done"): "/Yes",
+              field_name("final", CHOSEN, "reading", "T1"): "0.2",
+              field_name("final", CHOSEN, "step", 2, "done"): "/Off"}
+    results = Results.model_validate(results_from_fields(work, fields, split_field_name))
+    record = results.final_tests[final.id]
+    assert record.isolation[points[0].device].lock == "L-1"
+    assert str(record.proving_dead[1][pair]) == "0" and record.tester_proven_before
+    removals = [s.number for s in final.restoration if s.kind == "remove_lock"]
+    assert removals and all(record.restoration[n].done for n in removals)
+    assert str(results.readings[readings[0].id].value) == "0.2"
+    assert list(results.final_tests) == [final.id]
+    with pytest.raises(FormFieldError, match="final_at"):
+        results_from_fields(work, {k: v for k, v in fields.items() if k != "final_at"},
+                            split_field_name)
+    extra = field_name("final", CHOSEN, "lock", len(points) + 1, "number")
+    with pytest.raises(FormFieldError, match="no such blank"):
+        results_from_fields(work, {**fields, extra: "L-9"}, split_field_name)
 
 
 def _pdf_bytes(data: bytes):

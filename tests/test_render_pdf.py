@@ -452,3 +452,44 @@ def test_day_sheet_letter(day_packages: list[WorkPackage]) -> None:
     """The day sheet also prints on US Letter."""
     page = reader(day_sheet(day_packages, "Letter")).pages[0]
     assert float(page.mediabox.width) == pytest.approx(612.0)
+
+
+# --- speed: what the renderer must not do again and again ------------------------------
+
+def test_reportlabs_c_accelerator_is_in_use() -> None:
+    """rl_accel (a runtime dependency) replaces reportlab's pure-Python number formatting
+    and string widths; without it every page costs a fifth more."""
+    from reportlab.lib import rl_accel
+
+    assert type(rl_accel.fp_str).__name__ == "builtin_function_or_method"
+    assert type(rl_accel.instanceStringWidthTTF).__name__ == "builtin_function_or_method"
+
+
+def test_field_appearances_are_built_once_per_look(monkeypatch: pytest.MonkeyPatch) -> None:
+    """A long package has well over a hundred check boxes of one size: their six
+    appearance streams are built once, not six times per box, and the bytes are the
+    same as when every box builds its own."""
+    from reportlab.pdfbase.acroform import AcroForm
+
+    built = {"checkboxAP": 0, "txAP": 0}
+    for method in built:
+        original = getattr(AcroForm, method)
+
+        def counting(self: AcroForm, *args: object, _original: object = original,
+                     _method: str = method, **kwargs: object) -> object:
+            built[_method] += 1
+            return _original(self, *args, **kwargs)  # type: ignore[operator]
+
+        monkeypatch.setattr(AcroForm, method, counting)
+    package = sample_package(steps=60)
+    pdf = render_package(package)
+    fields = reader(pdf).get_fields() or {}
+    boxes = sum(1 for field in fields.values() if field.get("/FT") == "/Btn")
+    texts = sum(1 for field in fields.values() if field.get("/FT") == "/Tx")
+    assert boxes > 60
+    sizes = 2  # the step and tester boxes' side (6.5 mm), and room for one more
+    assert built["checkboxAP"] <= 6 * sizes
+    assert built["txAP"] <= texts
+
+    monkeypatch.setattr("workpack.render.pdf.fields._reuse_appearances", lambda form: None)
+    assert render_package(package) == pdf

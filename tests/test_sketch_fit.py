@@ -98,9 +98,9 @@ def test_many_isolation_points_side_by_side_are_drawn_as_far_as_they_fit() -> No
     assert 1 <= drawn < count
     assert fitted.drawing.height <= HEIGHT and fitted.drawing.width <= WIDTH[1]
     assert_inside(fitted.drawing)
-    assert fitted.notes == (f"Drawn: {drawn} of the {count} isolation points, each with one "
-                            "path up to a supply and one down to the item; the isolation "
-                            "table lists every one.",)
+    assert fitted.notes == (f"Drawn: {drawn} of the {count} ways in through an isolation "
+                            f"point ({count - drawn} more not shown); the isolation table "
+                            "lists every lock.",)
 
 
 def test_many_supplies_in_parallel_are_one_box() -> None:
@@ -122,7 +122,7 @@ def test_an_isolation_point_behind_an_endless_chain_leaves_the_item_alone() -> N
     fitted = fit_sketch(sketch, WIDTH, 0.0, FONT, FONT_BOLD)  # no room asked for at all
     assert fitted.drawing.height == MIN_SKETCH_HEIGHT
     assert labels(fitted.drawing) == ["M1"]
-    assert fitted.notes[-1].startswith("Drawn: 0 of the 1 isolation points")
+    assert fitted.notes[-1].startswith("Drawn: 0 of the 1 ways in through an isolation point")
 
 
 def test_long_names_are_shortened_and_said_to_be() -> None:

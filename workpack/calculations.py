@@ -16,6 +16,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from workpack.diagnose import (
+    InsulationTest,
     connected_load_va,
     downstream_loads,
     insulation_code_set,
@@ -64,6 +65,13 @@ def _system_voltage(ctx: CalcContext, element_id: str) -> float:
     if island.voltage is None:
         raise CalcError(f"the system of {element_id} has no known voltage")
     return island.voltage
+
+
+def _voltage_source(test: InsulationTest) -> str:
+    """The test voltage's source after the reading's name, unless the limit's source
+    (printed beside it) is the same table: then once is enough."""
+    citation = str(test.test_voltage.citation)
+    return "" if test.basis.startswith(citation) else f" ({citation})"
 
 
 def _labels(ctx: CalcContext) -> tuple[str, str, str]:
@@ -145,7 +153,7 @@ def insulation_resistance(ctx: CalcContext, element: str) -> tuple[Reading, ...]
                           else f"correct as for phase {_labels(ctx)[0]} above")
             readings.append(Reading(
                 id=f"{ctx.prefix}.R{len(readings) + 1}",
-                what=f"{what}, {test.dc_text} DC for 1 min ({test.test_voltage.citation})",
+                what=f"{what}, {test.dc_text} DC for 1 min{_voltage_source(test)}",
                 unit=unit, limit=limit, needs_temperature=minimum.reference_c is not None,
                 basis=correction, element=element, test_voltage_v=test.test_voltage.max_v))
     return tuple(readings)
@@ -307,8 +315,7 @@ def circuit_insulation(ctx: CalcContext, feeder: str) -> tuple[Reading, ...]:
             phase_to_phase = y != "E"
             readings.append(Reading(
                 id=f"{ctx.prefix}.R{len(readings) + 1}",
-                what=f"{label} {x}-{y}, {test.dc_text} DC for 1 min "
-                     f"({test.test_voltage.citation})",
+                what=f"{label} {x}-{y}, {test.dc_text} DC for 1 min{_voltage_source(test)}",
                 unit="MΩ" if minimum.minimum_ohm >= 1e6 else "kΩ",
                 limit=Limit(low=minimum.minimum_ohm,
                             basis=test.basis + ("; between phases the same minimum as to "

@@ -187,10 +187,17 @@ def evaluate(package: WorkPackage, results: Results, standards: Mapping[str, Cod
             taken.append(final)
         else:
             optional |= ids  # the search did not end there
+    # A final test's reading below its minimum where the search names the ground found
+    # is the search's result, not a failure of the job (the reading keeps its own
+    # verdict, and becomes tomorrow's finding).
+    the_find = {r.id for final in taken for s in (*final.steps, *final.restoration)
+                for r in s.readings} if found else set()
     deviations: list[Deviation] = []
     for judged in verdicts:
         if judged.id not in deciding:
             continue  # recorded against its limit, but the job is not judged by it
+        if judged.outcome == "fail" and judged.id in the_find:
+            continue
         if judged.outcome == "fail":
             deviations.append(Deviation(kind="reading", ref=judged.id, text=f"{judged.id} "
                                         f"{judged.what}: {judged.note}", fails=True))
@@ -385,11 +392,13 @@ def _followups(package: WorkPackage, results: Results,
                                    dt.time(0, 0)).isoformat(timespec="minutes"),
             by=results.completed_by or "unknown",
             where=reading.element,
-            test_voltage=f"{reading.test_voltage_v:g} V" if reading.test_voltage_v
-            else "500 V",
+            test_voltage=f"{reading.test_voltage_v:g} V" if reading.test_voltage_v else None,
             reading=f"{verdict.measured_si:g} ohm",
             temperature=f"{verdict.temperature_c:g} degC"
-            if verdict.temperature_c is not None else "20 degC",
-            note=f"from {package.id} ({verdict.id}): {verdict.note}",
+            if verdict.temperature_c is not None else None,
+            note=f"from {package.id} ({verdict.id}): {verdict.note}"
+            + ("" if verdict.temperature_c is not None else
+               "; no temperature was entered with this reading: write the one the test "
+               "was made at under temperature before planning with this finding"),
         ))
     return found

@@ -14,6 +14,7 @@ from collections.abc import Mapping, Sequence
 from typing import Any
 
 from workpack.model.package import (
+    FinalTest,
     IsolationPoint,
     ProvingDead,
     Reading,
@@ -148,6 +149,7 @@ _FIELD_SHAPES: dict[str, tuple[int, tuple[int, ...], tuple[str, ...] | None]] = 
     "remarks": (1, (), None),
     "locks_left_on": (1, (), None),
     "ground_found_at": (1, (), None),
+    "final_at": (1, (), None),
 }
 # Fields of a final test of a ground search carry its scope first: final:<id>:<field…>.
 _SCOPED = frozenset({"reading", "temperature", "instrument", "step", "restore", "lock", "tag",
@@ -181,6 +183,90 @@ def field_problem(parts: tuple[str, ...]) -> str | None:
     return None
 
 
+# --- the one printed final-test procedure ------------------------------------------------
+# A package prints its search's final tests once, for whichever circuit the search ends
+# at: the technician writes that circuit's id (F4) in ``final_at`` and fills the blanks
+# of scope ``final:chosen:``, whose lock, proving-dead and test rows are numbered as the
+# circuit's row of the table lists them. ``chosen_final_fields`` says which of that final
+# test's own fields each such blank stands for; a tick stands for every step of its kind.
+CHOSEN = "chosen"
+FINAL_PROCEDURE: tuple[tuple[str, int, str], ...] = (
+    ("step", 1, "take_out_of_service"), ("step", 2, "disconnect"), ("step", 3, "test"),
+    ("restore", 1, "gate"), ("restore", 2, "reconnect"), ("restore", 3, "close_up"),
+    ("restore", 4, "remove_lock"), ("restore", 5, "energise"), ("restore", 6, "check"),
+    ("restore", 7, "return_to_service"))
+LOCK_FIELDS = ("number", "applied_by", "applied_at", "removed_by", "removed_at")
+
+
+def final_step_kind(step: Step) -> str:
+    """Which step of the printed final-test procedure a final test's own step is."""
+    if step.kind == "work":
+        return "test" if step.readings else "disconnect"
+    return step.kind
+
+
+def chosen_final_fields(final: FinalTest) -> dict[tuple[str, ...], tuple[tuple[str, ...], ...]]:
+    """Each blank of the printed procedure (parts after ``final:chosen:``) → the parts of
+    the final test's own fields it stands for (after ``final:<id>:``; readings unscoped)."""
+    out: dict[tuple[str, ...], tuple[tuple[str, ...], ...]] = {}
+    for kind, number, procedure_kind in FINAL_PROCEDURE:
+        own = final.steps if kind == "step" else final.restoration
+        out[(kind, str(number), "done")] = tuple(
+            (kind, str(s.number), "done") for s in own if final_step_kind(s) == procedure_kind)
+    for index, point in enumerate(sorted(final.isolation, key=lambda p: p.order), start=1):
+        for what in LOCK_FIELDS:
+            out[("lock", str(index), what)] = (("lock", point.device, what),)
+        out[("tag", str(index), "number")] = (("tag", point.device, "number"),)
+    for index, place in enumerate(final.proving_dead, start=1):
+        for pair in place.pairs:
+            out[("dead", str(index), pair)] = (("dead", str(index), pair),)
+    for when in ("before", "after"):
+        out[("tester", when)] = (("tester", when),)
+    out[("locks_left_on",)] = (("locks_left_on",),)
+    readings = [r for s in (*final.steps, *final.restoration) for r in s.readings]
+    for index, reading in enumerate(readings, start=1):
+        out[("reading", f"T{index}")] = (("reading", reading.id),)
+        out[("temperature", f"T{index}")] = (("temperature", reading.id),)
+    return out
+
+
+def _unchosen(package: WorkPackage, fields: Mapping[str, str | None],
+              split: Any) -> list[tuple[tuple[str, ...], str | None]]:
+    """The printed procedure's blanks renamed to the final test written in ``final_at``;
+    FormFieldError where one cannot be (no id written, an unknown id, a row the circuit
+    does not have)."""
+    chosen = {name: value for name, value in fields.items()
+              if tuple(split(name))[:2] == ("final", CHOSEN)}
+    out = [(tuple(split(name)), value) for name, value in sorted(fields.items())
+           if name not in chosen and name != "final_at"]
+    at = fields.get("final_at")
+    at = at.strip() if isinstance(at, str) else at
+    filled = {name: value for name, value in chosen.items()
+              if value not in (None, "", "/Off", "Off")}
+    if not filled:
+        return out
+    final = package.final_test(at) if at else None
+    if final is None:
+        why = ("the final tests' blanks are filled but 'final tests done on' names none"
+               if not at else f"{package.id} has no final test {at!r}")
+        raise FormFieldError([("final_at", why)])
+    mapping = chosen_final_fields(final)
+    problems: list[tuple[str, str]] = []
+    for name, value in filled.items():
+        parts = tuple(split(name))[2:]
+        targets = mapping.get(parts)
+        if targets is None:
+            problems.append((name, f"final tests {final.id} have no such blank (its row of "
+                                   "the table lists fewer)"))
+            continue
+        for target in targets:
+            out.append((target if target[0] in ("reading", "temperature")
+                        else ("final", final.id, *target), value))
+    if problems:
+        raise FormFieldError(problems)
+    return out
+
+
 def results_from_fields(package: WorkPackage, fields: Mapping[str, str | None],
                         split: Any) -> dict[str, Any]:
     """Filled AcroForm values (field name → text) as results data for the ``Results`` model.
@@ -204,9 +290,8 @@ def results_from_fields(package: WorkPackage, fields: Mapping[str, str | None],
 
     readings: dict[str, dict[str, Any]] = {}
     scope(None)
-    for name, raw in sorted(fields.items()):
+    for parts, raw in _unchosen(package, fields, split):
         value = raw.strip() if isinstance(raw, str) else raw
-        parts = split(name)
         final_id = None
         if parts[0] == "final" and len(parts) > 2:
             final_id, parts = parts[1], parts[2:]

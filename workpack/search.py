@@ -19,9 +19,10 @@ from __future__ import annotations
 import datetime as dt
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, replace
+from functools import cached_property
 from typing import NamedTuple
 
-from workpack.diagnose import downstream_loads, insulation_tests
+from workpack.diagnose import insulation_tests
 from workpack.electrical import dc_test_voltage, line_to_neutral, minimum_insulation_resistance
 from workpack.electrical.standards import CodeSet
 from workpack.isolation import STAGES, IsolationPlan, IsolationPoint, plan_isolation
@@ -134,6 +135,11 @@ class FaultSearch:
     final_tests: tuple[FinalTests, ...]
     notes: tuple[str, ...]
     weights_used: tuple[str, ...]  # every factor and cost with its basis, for the plan
+
+    @cached_property
+    def searched_boards(self) -> frozenset[str]:
+        """The boards with steps of their own: asked once for every step worded."""
+        return frozenset(step.level for step in self.steps)
 
 
 def plan_fault_search(
@@ -252,6 +258,16 @@ class VitalLoads(NamedTuple):
     without: list[Load]
 
 
+class _Below(NamedTuple):
+    """What opening one device takes out, walked once per search: every element below
+    it (``Topology.below``'s order), those of this system, and the loads by id."""
+
+    elements: list[str]
+    members: list[str]
+    loads: list[Load]
+    elements_set: frozenset[str]
+
+
 class _Auxiliary(NamedTuple):
     """A heater or control circuit inside ``load``: its place in the load's list."""
 
@@ -277,6 +293,10 @@ class _TreeBuilder:
         self.notes: list[str] = []
         self.children_of: dict[str, list[str]] = {}
         self._weight_cache: dict[str, Likelihood] = {}
+        # each device's subtree and vital split, once: a device is asked about as a
+        # feeder of its board, as a candidate and as a search's end
+        self._below: dict[str, _Below] = {}
+        self._vital: dict[str, VitalLoads] = {}
         # feeding device → (load, index of its auxiliary) for heaters and control supplies
         self.auxiliaries_fed: dict[str, list[_Auxiliary]] = {}
         for load in topology.plant.loads:
@@ -338,9 +358,22 @@ class _TreeBuilder:
 
     # --- tree -------------------------------------------------------------------------------
 
+    def below(self, element_id: str) -> _Below:
+        """Everything below ``element_id`` in the normal state, walked once per search."""
+        known = self._below.get(element_id)
+        if known is None:
+            elements = self.topology.below(element_id)
+            loads = [e for e in map(self.topology.elements.__getitem__, elements)
+                     if isinstance(e, Load)]
+            known = self._below[element_id] = _Below(
+                elements=elements, members=[e for e in elements if e in self.members],
+                loads=sorted(loads, key=lambda load: load.id),
+                elements_set=frozenset(elements))
+        return known
+
     def downstream(self, element_id: str) -> list[str]:
         """Elements of this system below ``element_id`` in the normal state."""
-        return [e for e in self.topology.below(element_id) if e in self.members]
+        return list(self.below(element_id).members)
 
     def first_feeders(self, element_id: str) -> list[str]:
         """The nearest openable devices below ``element_id`` (one level of the search)."""
@@ -367,20 +400,25 @@ class _TreeBuilder:
         return len(self._vital_split(device_id).without) >= 2
 
     def _vital_split(self, device_id: str) -> VitalLoads:
-        """Dead loads, vital ones with an alternate, vital ones without."""
-        dead = downstream_loads(self.topology, device_id)
-        below = set(self.topology.below(device_id))
+        """Dead loads, vital ones with an alternate, vital ones without (once per device:
+        the lists are shared, never changed)."""
+        known = self._vital.get(device_id)
+        if known is not None:
+            return known
+        subtree = self.below(device_id)
+        dead = subtree.loads
         with_alternate, without = [], []
         for load in dead:
             if load.vitality is not Vitality.vital:
                 continue
-            if self._alternate_outside(load, below):
+            if self._alternate_outside(load, subtree.elements_set):
                 with_alternate.append(load)
             else:
                 without.append(load)
-        return VitalLoads(dead, with_alternate, without)
+        known = self._vital[device_id] = VitalLoads(dead, with_alternate, without)
+        return known
 
-    def _alternate_outside(self, load: Load, below: set[str]) -> str | None:
+    def _alternate_outside(self, load: Load, below: frozenset[str]) -> str | None:
         """A transfer switch feeding ``load`` whose alternate is not under the opened device."""
         for path in self.topology.normal_supply_paths(load.id):
             for node in path:
@@ -394,8 +432,9 @@ class _TreeBuilder:
     def candidate(self, device_id: str) -> Candidate:
         cost = self.weights.cost
         dead, with_alternate, without = self._vital_split(device_id)
+        moved = {load.id for load in with_alternate}
         interrupt = sum(getattr(cost.interrupt, load.vitality.value).minutes
-                        for load in dead if load not in with_alternate)
+                        for load in dead if load.id not in moved)
         below = self.downstream(device_id)
         weight = self.weight(device_id).weight + sum(self.weight(e).weight for e in below)
         reasons = tuple(r for e in [device_id, *below] for r in self.weight(e).reasons)
@@ -495,7 +534,8 @@ def _final_tests(topology: Topology, builder: _TreeBuilder, leaf: str,
             element=load.id, label=f"{kind} circuit inside {load.label}",
             code_set=installations.name, test_voltage_v=(test_v.min_v, test_v.max_v),
             minimum_ohm=minimum.minimum_ohm, reference_c=minimum.reference_c,
-            basis=f"{test_v.citation}; {minimum.citation}", circuit=auxiliary.kind.value))
+            basis="; ".join(dict.fromkeys((str(test_v.citation), str(minimum.citation)))),
+            circuit=auxiliary.kind.value))
     places = tuple(sorted({s.element for s in sections})) or (leaf,)
     return FinalTests(feeder=leaf, sections=tuple(sections), places=places)
 

@@ -56,7 +56,7 @@ from __future__ import annotations
 import heapq
 import math
 from collections import deque
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from typing import Literal, TypeAlias
 
@@ -264,11 +264,12 @@ def _number_problem(owner: str, name: str, value: object, upper: float | None) -
     return None
 
 
-def check_tree(root: Candidate) -> None:
-    """Raise ``SearchInputError`` listing every problem of the tree; return if none."""
+def check_tree(root: Candidate, nodes: Sequence[Candidate] | None = None) -> None:
+    """Raise ``SearchInputError`` listing every problem of the tree; return if none.
+    ``nodes``: the tree's ``_walk``, when the caller has it already."""
     problems: list[str] = []
     seen: dict[str, int] = {}
-    nodes = _walk(root)
+    nodes = _walk(root) if nodes is None else nodes
     for node in nodes:
         if not isinstance(node.id, str) or not node.id:
             problems.append(f"candidate id must be a non-empty string (got {node.id!r})")
@@ -773,12 +774,21 @@ def _lower_bound(lv: _Level, max_group: int) -> float:
 # --------------------------------------------------------------------------- the plan
 
 
-def _downstream(node: Candidate) -> tuple[str, ...]:
-    return tuple(c.id for c in _walk(node))
+def _subtrees(nodes: Sequence[Candidate]) -> dict[str, tuple[str, ...]]:
+    """Each candidate's id and every id below it in ``_walk`` order, built bottom-up
+    once per plan (``nodes`` as ``_walk`` gives them: a node before its children)."""
+    below: dict[str, tuple[str, ...]] = {}
+    for node in reversed(nodes):
+        ids = [node.id]
+        for child in sorted(node.children, key=lambda c: c.id):
+            ids.extend(below[child.id])
+        below[node.id] = tuple(ids)
+    return below
 
 
 def _level_plan(
-    lv: _Level, tree: _Tree, method: Literal["blackwell", "exact", "heuristic"], bound: float
+    lv: _Level, tree: _Tree, method: Literal["blackwell", "exact", "heuristic"], bound: float,
+    subtrees: Mapping[str, tuple[str, ...]],
 ) -> LevelPlan:
     numbered: list[tuple[_Test, float]] = []
     number: dict[int, int] = {}  # id() of a node: its step number
@@ -807,7 +817,7 @@ def _level_plan(
         dead: list[str] = []
         for m in members:
             if m.preparation != "transfer":  # a transferred load stays supplied
-                dead.extend(_downstream(m))
+                dead.extend(subtrees[m.id])
         steps.append(
             Step(
                 number=number[id(node)],
@@ -885,9 +895,11 @@ def plan_search(
         )
     if problems:
         raise SearchInputError(problems)
-    check_tree(root)
+    nodes = _walk(root)
+    check_tree(root, nodes)
+    subtrees = _subtrees(nodes)
 
-    levels = [_make_level(node, root.prior) for node in _walk(root) if node.children]
+    levels = [_make_level(node, root.prior) for node in nodes if node.children]
     singles = max_group_size == 1
     cap = max_group_size or max((lv.n for lv in levels), default=1)
     exact: set[int] = set()
@@ -905,13 +917,13 @@ def plan_search(
     plans = []
     for j, lv in enumerate(levels):
         if singles:
-            plans.append(_level_plan(lv, _solve_singles(lv), "blackwell", 0.0))
+            plans.append(_level_plan(lv, _solve_singles(lv), "blackwell", 0.0, subtrees))
         elif j in exact:
             _, tree = _solve_exact(lv, range(lv.n), lv.closed, cap)
-            plans.append(_level_plan(lv, tree, "exact", 0.0))
+            plans.append(_level_plan(lv, tree, "exact", 0.0, subtrees))
         else:
             tree = _solve_heuristic(lv, cap)
-            plans.append(_level_plan(lv, tree, "heuristic", _lower_bound(lv, cap)))
+            plans.append(_level_plan(lv, tree, "heuristic", _lower_bound(lv, cap), subtrees))
     return SearchPlan(
         levels=tuple(plans),
         expected_cost=math.fsum(p.reach_probability * p.expected_cost for p in plans),

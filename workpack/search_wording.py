@@ -22,6 +22,7 @@ from workpack.search_core import Branch
 from workpack.topology import Island
 
 if TYPE_CHECKING:
+    from workpack.model.package import SearchGoto
     from workpack.search import FaultSearch, FinalTests, SearchStep, SectionTest
 
 NOT_FOUND = ("not found at this level: the ground is on this board's own busbars or "
@@ -133,7 +134,7 @@ class StepWords:
 def step_words(search: FaultSearch, step: SearchStep, numbering: Numbering) -> StepWords:
     """The sentences of ``step`` of ``search``, its outcomes sent where ``numbering``
     says."""
-    searched = {s.level for s in search.steps}  # boards with steps of their own
+    searched = search.searched_boards
     opened = ", ".join(f"{d} ({w})" if w else d
                        for d, w in zip(step.open_devices, step.where, strict=True))
     moves = "".join(f" (if the ground is in {load} itself it moves with the transfer, since "
@@ -154,7 +155,8 @@ def step_words(search: FaultSearch, step: SearchStep, numbering: Numbering) -> S
     )
 
 
-def _outcome(level: str, branch: Branch, searched: set[str], numbering: Numbering) -> str:
+def _outcome(level: str, branch: Branch, searched: frozenset[str],
+             numbering: Numbering) -> str:
     if branch.kind == "step":
         return f"close what was opened; go to {numbering.step(level, branch.step)}"
     if branch.kind == "found" and branch.candidate_id in searched:
@@ -165,6 +167,29 @@ def _outcome(level: str, branch: Branch, searched: set[str], numbering: Numberin
                 f"then do {numbering.final_tests(branch.candidate_id)}: they isolate, prove "
                 "dead and test that circuit")
     return NOT_FOUND
+
+
+def search_table_note(cleared: str, unchanged: str) -> str:
+    """What the decision table's two outcome columns mean, said once above it."""
+    return (f"Open what the row says and watch the detector for about a minute. Clears: "
+            f"{cleared}. Stays: the detector shows the ground still there {unchanged}. "
+            "Either way, close what the step opened before you go on. Tick each step when "
+            "done.")
+
+
+def goto_cell(goto: SearchGoto) -> str:
+    """One outcome of a search step, short enough for a table cell (the note above the
+    table says to close what the step opened)."""
+    moves = ""
+    if " (if the ground is in" in goto.text:
+        moves = goto.text[goto.text.index(" (if the ground is in"):]
+    if goto.kind == "step" and goto.below:
+        return f"Below {goto.below}: go to step {goto.step} (its circuits).{moves}"
+    if goto.kind == "step":
+        return f"Go to step {goto.step}.{moves}"
+    if goto.kind == "final":
+        return f"Below {goto.below}: final tests {goto.final}.{moves}"
+    return "Not found at this level (see under the table)."
 
 
 def board_heading(level: str, steps: int) -> str:
@@ -276,3 +301,70 @@ def weights_used(weights: SearchWeights) -> tuple[str, ...]:
                  f"({cost.transfer.basis})")
     lines.append(f"permission: {cost.permission.minutes:g} min ({cost.permission.basis})")
     return tuple(lines)
+
+
+# --- the one printed procedure for whichever circuit the search ends at -------------------
+
+FINAL_TESTS_TITLE = "Final tests: the circuit the search ends at"
+
+
+def final_tests_once(first: str, last: str) -> str:
+    return (f"Only when a search step sends you to final tests {first} to {last}: do this "
+            "procedure once, for that circuit only, with its row of the table below. Write "
+            "its id here; each row numbered 1, 2, … below is that row's item of the same "
+            "number (lock 1 is its first device to lock, test T1 its first test).")
+
+
+FINAL_TESTS_ACCEPTANCE = (
+    "Final tests: each test of the circuit the search ends at reads at least the minimum "
+    "its row of the final tests' table gives (after the temperature correction where the "
+    "row says so), from the source numbered there.")
+
+
+# The procedure's steps, keyed as ``forms.FINAL_PROCEDURE`` keys them.
+FINAL_PROCEDURE_TEXT: dict[str, str] = {
+    "take_out_of_service": (
+        "Tell the bridge or control room (the watch) and the users of the circuit that it "
+        "goes out of service now. Where its row names vital loads, they go dead with it: "
+        "start the standby or change over to the alternate supply first, or get "
+        "permission; note who agreed."),
+    "disconnect": (
+        "Only where the row says 'disconnect': disconnect the electronics it names at "
+        "their terminals, leads marked, so the test voltage cannot reach them: they are not "
+        "insulation-tested."),
+    "test": (
+        "Make each test of the row, T1 first, at the DC test voltage it gives; write each "
+        "reading and, where asked, the temperature below. Discharge after each test as the "
+        "cautions above say."),
+    "gate": (
+        "If a test read below its minimum, the ground is in this circuit: it stays isolated "
+        "for its repair. Then do not restore: leave every lock and tag of these final tests "
+        "on, hang a tag at the device the search ends at saying 'ground found: do not "
+        "close', write the section under 'ground found at' (sign-off) and why under 'locks "
+        "left on', and skip the rest of this restoration. Otherwise restore as follows."),
+    "reconnect": (
+        "Only where the row said 'disconnect': reconnect the electronics as marked when they "
+        "were disconnected; tighten and check each lead."),
+    "close_up": (
+        "Work on the circuit finished: take out test leads, temporary earths, shorting "
+        "links and discharge sticks; count tools and materials out; close and secure every "
+        "cover, door and terminal box that was opened; tell everyone at the work and at "
+        "each isolation point that it is about to be energised, and see them clear."),
+    "remove_lock": (
+        "Remove each lock and tag, the last one applied first (the highest number in the "
+        "isolation table above first): only the person who applied it removes it, and "
+        "writes name and time in its row. A device the row marks 'already open' stays "
+        "open: that is its normal position."),
+    "energise": (
+        "Every lock and tag is now off: only now energise the circuit as its row's last "
+        "column says, in that order."),
+    "check": (
+        "Watch the detector for about a minute: if the indication comes back, the ground "
+        "is in the circuit after all, in a part these tests do not reach: open the device "
+        "the search ends at again, tag it and report; the search's restoration keeps it "
+        "open."),
+    "return_to_service": (
+        "Return the circuit to service: tell the bridge or control room (the watch) and its "
+        "users that it is back, and note the time. Vital loads of its row: change back from "
+        "the standby or alternate supply as the bridge or control room directs."),
+}

@@ -127,6 +127,7 @@ class Topology:
         self._closable: dict[frozenset[str], nx.Graph] = {}
         self._normal: dict[frozenset[str], nx.Graph] = {}
         self._supply_paths: dict[str, tuple[tuple[str, ...], ...]] = {}  # asked again and again
+        self._below: dict[str, tuple[str, ...]] = {}  # so is every lock's subtree
         self._build()
 
     # --- construction ---------------------------------------------------------------------
@@ -366,7 +367,14 @@ class Topology:
 
     def below(self, element_id: str) -> list[str]:
         """Every element that loses supply when ``element_id`` opens (normal state,
-        across transformer banks), nearest first in walk order."""
+        across transformer banks), nearest first in walk order. Walked once per element:
+        a ground search's final tests lock the same upstream devices again and again."""
+        known = self._below.get(element_id)
+        if known is None:
+            known = self._below[element_id] = tuple(self._walk_below(element_id))
+        return list(known)
+
+    def _walk_below(self, element_id: str) -> list[str]:
         found: list[str] = []
         stack = [element_id]
         seen = {element_id}

@@ -125,7 +125,9 @@ class TrendPoint:
     reading_id: str
     what: str
     record_sequence: int
-    lowest_of_test: bool  # the weakest reading of its record: the one the trend follows
+    lowest_of_test: bool  # the weakest reading of its test: the one the trend follows
+    as_found: bool = False  # before the work (recorded, not judged): a test of its own,
+    # apart from the test after the work on the same day
 
 
 @dataclass(frozen=True)

@@ -63,8 +63,18 @@ def insulation_trends(packages: Mapping[str, WorkPackage],
                     and read.results.completed_on is not None
                     else read.record.recorded_at.date())
         points = []
+        # a search's final tests at circuits it did not end at were never made
+        written = {i for i, m in read.results.readings.items() if m.value is not None
+                   } if read.results is not None else set()
+        not_made: set[str] = set()
+        for final in package.final_tests:
+            ids = {r.id for s in (*final.steps, *final.restoration) for r in s.readings}
+            if not (ids & written or (read.results is not None
+                                      and final.id in read.results.final_tests)):
+                not_made |= ids
         for reading in package.readings():
-            if reading.element is None or reading.unit not in RESISTANCE_UNITS:
+            if (reading.element is None or reading.unit not in RESISTANCE_UNITS
+                    or reading.id in not_made):
                 continue
             if pid in listed:
                 shown.add(reading.element)
@@ -77,11 +87,13 @@ def insulation_trends(packages: Mapping[str, WorkPackage],
             points.append(_Taken(TrendPoint(
                 taken_on, verdict.compared_si, verdict.measured_si, verdict.temperature_c,
                 verdict.corrected, verdict.outcome, pid, reading.id, reading.what,
-                read.record.sequence, lowest_of_test=False), reading))
-        by_element: dict[str, list[_Taken]] = defaultdict(list)
+                read.record.sequence, lowest_of_test=False,
+                as_found=not reading.acceptance), reading))
+        # one test per element and stage: as found, and after the work
+        by_element: dict[tuple[str, bool], list[_Taken]] = defaultdict(list)
         for t in points:
-            by_element[t.reading.element or ""].append(t)
-        for element, group in by_element.items():
+            by_element[(t.reading.element or "", t.point.as_found)].append(t)
+        for (element, _), group in by_element.items():
             weakest = min(group, key=lambda t: t.point.compared_si)
             taken[element] += [t if t is not weakest else
                                _Taken(dataclasses.replace(t.point, lowest_of_test=True),
@@ -95,8 +107,8 @@ def insulation_trends(packages: Mapping[str, WorkPackage],
 
 def _trend(element: str, taken: Sequence[_Taken], left_out: tuple[str, ...],
            history: History, standards: Mapping[str, CodeSet]) -> IrTrend:
-    ordered = sorted(taken, key=lambda t: (t.point.taken_on, t.point.record_sequence,
-                                           t.point.reading_id))
+    ordered = sorted(taken, key=lambda t: (t.point.taken_on, not t.point.as_found,
+                                           t.point.record_sequence, t.point.reading_id))
     points = tuple(t.point for t in ordered)
     notes = list(left_out)
     series = history.insulation.get(element)

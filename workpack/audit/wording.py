@@ -84,6 +84,7 @@ NONE_SAID = {
     "isolations": "every lock recorded as applied is recorded as removed.",
     "trends": "No insulation-resistance readings of an item in this range.",
 }
+AS_FOUND = "(as found, before the work: a test of its own)"
 LOWEST_OF_TEST = "(lowest of the test)"  # beside the reading a trend's line runs through
 
 STATUS_RULES = ("COMPLETED: the latest record passed. FAILED: it failed. OPEN: no record "
@@ -100,7 +101,8 @@ TRENDS_INTRO = ("Every reading of an item in a resistance unit, from the latest 
                 "test (the weakest phase governs); the trend is judged as planning judges it, "
                 "on the lowest reading of each day.")
 CHART_LEGEND = ("Filled mark: the lowest reading of a test (on the line); open mark: the other "
-                "readings of that test. Circle: within the limit; square: a failing reading. "
+                "readings of that test. Circle: at or above the minimum; square: below it (a "
+                "failing reading, or one recorded as found and not judged). "
                 "Dashed line: {minimum}.")
 UNMATCHED_INTRO = ("The store holds records of these packages, but their issued package (JSON "
                    "twin) was not given: their readings cannot be set against the package.")
@@ -134,7 +136,7 @@ def texts(report: AuditReport) -> dict[str, str]:
             "isolations_intro": ISOLATIONS_INTRO.format(
                 plant=f" of {f.plant}" if f.plant else ""),
             "trends_intro": TRENDS_INTRO, "unmatched_intro": UNMATCHED_INTRO,
-            "notice": NOTICE, "lowest_of_test": LOWEST_OF_TEST,
+            "notice": NOTICE, "lowest_of_test": LOWEST_OF_TEST, "as_found": AS_FOUND,
             **{f"section_{key}": text for key, text in SECTIONS.items()},
             **{f"none_{key}": text for key, text in NONE_SAID.items()}}
 

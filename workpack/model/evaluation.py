@@ -77,9 +77,10 @@ class FollowUp(Plain):
     at: str  # ISO date and time
     by: str
     where: str  # the element measured
-    test_voltage: str  # "500 V"
+    test_voltage: str | None  # "500 V"; None: the package gave none
     reading: str  # "3000000 ohm"
-    temperature: str  # "30 degC"
+    temperature: str | None  # "30 degC"; None: none was entered, and none is made up
+    # (the findings file then asks for it: a finding needs its temperature)
     note: str
 
 

@@ -85,6 +85,31 @@ StepKind = Literal["work", "search", "take_out_of_service", "gate", "reconnect",
 SearchOutcome = Literal["found", "not_found"]
 
 
+class SearchGoto(Plain):
+    """Where one outcome of a search step leads: another step of the package, the final
+    tests of the circuit it ends at, or the end of the search at this level."""
+
+    kind: Literal["step", "final", "not_found"]
+    step: int | None = None  # kind "step": the package step to go to
+    final: str | None = None  # kind "final": the final tests' id ("F4")
+    below: str | None = None  # the device the ground is below, where the outcome says so
+    text: str  # the outcome in words, as the step's text says it
+
+
+class SearchDecision(Plain):
+    """A search step's parts, for a decision table and a drawn search tree. The step's
+    ``text`` says the same in sentences."""
+
+    board: str
+    opens: tuple[str, ...]  # "CB-MCC2 (MSB panel 6)"
+    devices: tuple[str, ...]  # the device ids opened
+    first: tuple[str, ...] = ()  # what to do before opening: transfer, permission
+    cleared: str  # what the detectors show when the ground was below what was opened
+    unchanged: str  # and while it is still connected
+    on_clear: SearchGoto
+    on_stay: SearchGoto
+
+
 class Step(Plain):
     number: int
     text: str
@@ -100,6 +125,7 @@ class Step(Plain):
     undoes: int | None = None  # reconnect: the number of the work step it undoes
     search_outcome: SearchOutcome | None = None  # done only when the search ended so:
     # "found" when a ground was found (results name ``ground_found_at``), else "not_found"
+    decision: SearchDecision | None = None  # a search step's parts (kind "search")
 
 
 class IsolationPoint(Plain):
@@ -138,6 +164,8 @@ class FinalTest(Plain):
     steps: tuple[Step, ...] = ()
     restoration: tuple[Step, ...] = ()
     elements: tuple[str, ...] = ()  # what the tests are made on (sections)
+    vital_loads: tuple[str, ...] = ()  # vital loads that go dead with the circuit
+    disconnect: tuple[str, ...] = ()  # electronics taken off before the tests
 
 
 class ApproachBoundaries(Plain):
@@ -153,6 +181,24 @@ class SketchNode(Plain):
     label: str
     kind: str  # source, bus, device, transformer, cable, load, item
     isolate: bool = False  # an isolation point of this package
+    normally_open: bool = False  # a tie or alternate input, open in the normal state
+    detail: str = ""  # a second line: a transformer's vector group and voltages
+    search_step: int | None = None  # the package step that first opens it in a search
+
+
+SketchRouteKind = Literal["lock", "supply", "tie", "secondary", "feeder"]
+
+
+class SketchRoute(Plain):
+    """One way drawn in the sketch, as the ids of its nodes from its far end.
+
+    ``lock``: a source, through an isolation point, to the item; ``supply``: a normal
+    supply path; ``tie``: an alternate supply through a normally open point;
+    ``secondary``: a transformer item on to its secondary bus; ``feeder``: the searched
+    board down to a feeder the search opens."""
+
+    kind: SketchRouteKind
+    nodes: tuple[str, ...]
 
 
 class Sketch(Plain):
@@ -160,6 +206,9 @@ class Sketch(Plain):
 
     nodes: tuple[SketchNode, ...]
     edges: tuple[tuple[str, str], ...]  # (supply side, load side)
+    # Every way drawn, most important first: a sketch too big for its page draws the
+    # first routes that fit and says how many of each kind it leaves out.
+    routes: tuple[SketchRoute, ...] = ()
 
 
 class Phasor(Plain):

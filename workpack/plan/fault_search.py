@@ -4,11 +4,12 @@ isolation of its own. ``search`` decides, ``search_wording`` words. Pure."""
 
 from __future__ import annotations
 
+from collections import Counter
 from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any, NamedTuple
 
-from workpack.model.package import FinalTest, Limit, Reading, Step
+from workpack.model.package import FinalTest, Limit, Reading, SearchDecision, SearchGoto, Step
 from workpack.model.plant import LoadKind, Transformer
 from workpack.plan.cautions import (
     CautionWriter,
@@ -30,7 +31,15 @@ from workpack.restoration import (
     return_to_service,
     take_out_of_service,
 )
-from workpack.search import FinalTests, SectionTest, final_test_isolation, plan_fault_search
+from workpack.search import (
+    FaultSearch,
+    FinalTests,
+    SearchStep,
+    SectionTest,
+    final_test_isolation,
+    plan_fault_search,
+)
+from workpack.search_core import Branch
 from workpack.search_wording import (
     PackageNumbering,
     board_heading,
@@ -54,6 +63,8 @@ class SearchSection:
     steps: tuple[Step, ...]  # numbered on from the package's work steps
     final_tests: tuple[FinalTest, ...]
     switches: tuple[str, ...]  # devices the search may open and reclose
+    board: str  # where the search starts
+    board_order: tuple[tuple[int, tuple[str, ...]], ...]  # the board's steps: number, opens
 
 
 def search_section(inputs: DayInputs, job: Job, cautions: CautionWriter,
@@ -66,20 +77,51 @@ def search_section(inputs: DayInputs, job: Job, cautions: CautionWriter,
                                as_found_v=phasor.readings_v if phasor else None,
                                exclude=inputs.tripped)
     numbering = PackageNumbering(search, first)
-    levels = [s.level for s in search.steps]
+    on_board = Counter(s.level for s in search.steps)  # steps per board, counted once
     steps: list[Step] = []
     for step in search.steps:
         words = step_words(search, step, numbering)
-        lines = [board_heading(step.level, levels.count(step.level)),
+        lines = [board_heading(step.level, on_board[step.level]),
                  *(text for text in (words.transfer, words.permission) if text),
                  words.open, words.if_clears, words.if_stays]
         steps.append(Step(number=first + len(steps), text="\n".join(lines), check_only=True,
-                          optional=True, kind="search"))
+                          optional=True, kind="search",
+                          decision=_decision(search, step, numbering)))
     finals = tuple(_final_test(inputs, cautions, job.context, final,
                                numbering.final_ids[final.feeder])
                    for final in search.final_tests)
     switches = tuple(sorted({d for s in search.steps for d in s.open_devices}))
-    return SearchSection(tuple(steps), finals, switches)
+    board_order = tuple((first + index, step.open_devices)
+                        for index, step in enumerate(search.steps) if step.level == search.board)
+    return SearchSection(tuple(steps), finals, switches, search.board, board_order)
+
+
+def _goto(search: FaultSearch, level: str, branch: Branch, numbering: PackageNumbering,
+          text: str) -> SearchGoto:
+    """Where one outcome of a step leads, as package step numbers and final-test ids."""
+    if branch.kind == "step":
+        return SearchGoto(kind="step", step=numbering.number[(level, branch.step)], text=text)
+    if branch.kind == "found" and branch.candidate_id in numbering.starts:
+        return SearchGoto(kind="step", step=numbering.starts[branch.candidate_id],
+                          below=branch.candidate_id, text=text)
+    if branch.kind == "found":
+        return SearchGoto(kind="final", final=numbering.final_ids[branch.candidate_id],
+                          below=branch.candidate_id, text=text)
+    return SearchGoto(kind="not_found", text=text)
+
+
+def _decision(search: FaultSearch, step: SearchStep,
+              numbering: PackageNumbering) -> SearchDecision:
+    words = step_words(search, step, numbering)
+    return SearchDecision(
+        board=step.level,
+        opens=tuple(f"{d} ({w})" if w else d
+                    for d, w in zip(step.open_devices, step.where, strict=True)),
+        devices=step.open_devices,
+        first=tuple(text for text in (words.transfer, words.permission) if text),
+        cleared=words.cleared, unchanged=words.unchanged,
+        on_clear=_goto(search, step.level, step.on_clear, numbering, words.on_clear),
+        on_stay=_goto(search, step.level, step.on_stay, numbering, words.on_stay))
 
 
 class _OnElement(NamedTuple):
@@ -153,4 +195,5 @@ def _final_test(inputs: DayInputs, cautions: CautionWriter, context: Mapping[str
         isolation=points, isolation_gaps=isolation_gaps(plan),
         stored_energy=plan.stored_energy, cautions=merge_cautions((), found),
         proving_dead=proving, steps=steps, restoration=restoration,
-        elements=tuple(dict.fromkeys(s.element for s in final.sections)))
+        elements=tuple(dict.fromkeys(s.element for s in final.sections)),
+        vital_loads=tuple(vital), disconnect=tuple(skipped))

@@ -49,6 +49,7 @@ from workpack.restoration import (
     take_out_of_service,
 )
 from workpack.rules import CompiledRule, CompiledStep, RuleError
+from workpack.search_wording import FINAL_TESTS_ACCEPTANCE
 
 
 def build_package(inputs: DayInputs, job: Job) -> WorkPackage:
@@ -77,6 +78,7 @@ def build_package(inputs: DayInputs, job: Job) -> WorkPackage:
     steps = number_steps(work_steps, "S")
     final_tests: tuple[FinalTest, ...] = ()
     switches: tuple[str, ...] = ()
+    search = None
     if rule.search_plan:
         search = search_section(inputs, job, cautions, len(steps) + 1)
         steps += search.steps
@@ -125,7 +127,9 @@ def build_package(inputs: DayInputs, job: Job) -> WorkPackage:
         acceptance=_acceptance(rule, context, steps, restoration, final_tests),
         restoration=restoration,
         phasor=system.state.phasor if job.findings and system.state.grounded else None,
-        sketch=package_sketch(topology, job.item, isolation),
+        sketch=package_sketch(topology, job.item, isolation,
+                              search.board if search else None,
+                              search.board_order if search else ()),
         instrument_supply=supply or None, switches=switches,
         needs=who.needs, supervisor_needed=who.supervisor_needed,
     )
@@ -202,8 +206,10 @@ def _acceptance(rule: CompiledRule, context: Mapping[str, Any], steps: Sequence[
                 final_tests: Sequence[FinalTest] = ()) -> tuple[str, ...]:
     """The rule's criteria, then every judged reading against its limit and source."""
     lines = [evaluate_text(rule, text, context) for text in rule.acceptance]
-    final = [step for test in final_tests for step in (*test.steps, *test.restoration)]
-    for step in (*steps, *final, *restoration):
+    if any(r.limit is not None and r.acceptance for test in final_tests
+           for step in (*test.steps, *test.restoration) for r in step.readings):
+        lines.append(FINAL_TESTS_ACCEPTANCE)
+    for step in (*steps, *restoration):
         for reading in step.readings:
             if reading.limit is not None and reading.acceptance:
                 lines.append(f"{reading.id} {reading.what}: "

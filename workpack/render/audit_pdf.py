@@ -9,7 +9,9 @@ Trend charts are reportlab drawings.
 
 from __future__ import annotations
 
+import re
 from collections.abc import Sequence
+from html import unescape
 from typing import Any, TypeAlias
 
 from reportlab.graphics.shapes import Circle, Drawing, Group, Line, PolyLine, Rect, String
@@ -142,11 +144,23 @@ class AuditPdf(PdfDocument):
 
     def grid(self, head: Sequence[str], rows: Sequence[Sequence[Cell]],
              widths_mm: Sequence[float], flagged: Sequence[int] = ()) -> Table:
-        """A ruled table, text cells wrapped; rows in ``flagged`` (0 = first body row)
-        get heavy rules above and below, so they stand out in black and white."""
-        body = [[self.para(c) if isinstance(c, str) else c for c in row] for row in rows]
-        table = Table([[self.para(h, "head") for h in head], *body],
-                      colWidths=self.cols(*widths_mm), repeatRows=1, repeat_when_cut=(0,))
+        """A ruled table, text cells wrapped at spaces only; rows in ``flagged`` (0 =
+        first body row) get heavy rules above and below, so they stand out in black and
+        white. Each column is at least as wide as its longest word (an id, a timestamp):
+        the others give way; where even that is too wide, the table's text goes down to
+        the smallest print size."""
+        for text_style in ("cell", "small"):
+            body = [[self.para(c, text_style) if isinstance(c, str) else c for c in row]
+                    for row in rows]
+            header = [self.para(h, "head") for h in head]
+            needs = [max(_longest_word(cell) for cell in column) + 2 * 1.6 * mm + 1
+                     for column in zip(header, *body, strict=True)]
+            widths = _give_way(self.cols(*widths_mm), needs, self.width)
+            if widths is not None:
+                break
+        else:
+            widths = self.cols(*widths_mm)  # nothing fits: words may break
+        table = Table([header, *body], colWidths=widths, repeatRows=1, repeat_when_cut=(0,))
         style: list[tuple[Any, ...]] = [*GRID, *HEAD_ROW]
         for i in flagged:
             style += [("LINEABOVE", (0, i + 1), (-1, i + 1), 2.2, colors.black),
@@ -307,8 +321,9 @@ class AuditPdf(PdfDocument):
                     p.taken_on.isoformat(),
                     [self.para(p.package_id), self.para(f"record #{p.record_sequence}",
                                                         "small")],
-                    f"{p.reading_id} {p.what}" + (f" {self.texts['lowest_of_test']}"
-                                                  if p.lowest_of_test else ""),
+                    f"{p.reading_id} {p.what}"
+                    + (f" {self.texts['as_found']}" if p.as_found else "")
+                    + (f" {self.texts['lowest_of_test']}" if p.lowest_of_test else ""),
                     format_quantity(p.measured_si, trend.unit),
                     format_quantity(p.temperature_c, "°C") if p.temperature_c is not None
                     else "—", compared, self.mark(p.outcome, OUTCOME_WORDS[p.outcome])])
@@ -351,6 +366,42 @@ class AuditPdf(PdfDocument):
                 self.integrity_box(), *self.status_block(), *self.failing_block(),
                 *self.readings_block(), *self.deviations_block(), *self.isolations_block(),
                 *self.trends_block(), *self.records_block()]
+
+
+def _longest_word(cell: Any) -> float:
+    """The widest word of a cell (points): it must fit on a line of its own."""
+    if isinstance(cell, list | tuple):
+        return max((_longest_word(c) for c in cell), default=0.0)
+    if isinstance(cell, Mark):
+        return max(cell.icon, stringWidth(cell.word, FONT_BOLD, cell.size_pt))
+    if isinstance(cell, Paragraph):
+        style = cell.style
+        face = style.fontName
+        text = re.sub(r"<[^>]+>", "", cell.text)
+        if "<b>" in cell.text:
+            face = FONT_BOLD
+        return max((stringWidth(unescape(w), face, style.fontSize) for w in text.split()),
+                   default=0.0)
+    if isinstance(cell, Table):
+        return 0.0  # lays itself out
+    if isinstance(cell, Flowable):
+        return float(cell.wrap(10_000, 10_000)[0])
+    return 0.0
+
+
+def _give_way(asked: Sequence[float], needs: Sequence[float],
+              width: float) -> list[float] | None:
+    """Column widths near ``asked`` where each is at least its ``needs``, summing to
+    ``width``; None when the needs alone are wider."""
+    if sum(needs) > width:
+        return None
+    widths = [max(a, n) for a, n in zip(asked, needs, strict=True)]
+    excess = sum(widths) - width
+    slack = [w - n for w, n in zip(widths, needs, strict=True)]
+    if excess > 0:  # take it from the columns with room, in proportion to their room
+        room = sum(slack)
+        widths = [w - excess * s / room for w, s in zip(widths, slack, strict=True)]
+    return widths
 
 
 def render_audit_pdf(report: AuditReport, page_size: PageSize = "A4") -> bytes:

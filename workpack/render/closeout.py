@@ -31,8 +31,9 @@ from reportlab.platypus import (
     TableStyle,
 )
 
+from workpack.forms import CHOSEN, chosen_final_fields
 from workpack.model.evaluation import Evaluation, ReadingVerdict
-from workpack.model.package import Reading, WorkPackage
+from workpack.model.package import FinalTest, Reading, WorkPackage
 from workpack.model.results import Results
 from workpack.numbers import format_quantity
 from workpack.records import OUTCOME_WORDS, entered_text, is_bare_number, read_payload, utc_text
@@ -74,25 +75,44 @@ class Mark(Flowable):
         self.icon = size_pt * 1.25
         self.gap = size_pt * 0.45
         self.lines = [word]
+        self.below = False  # the word under the shape, not beside it (see wrap)
         self.width = self.icon + self.gap + stringWidth(word, FONT_BOLD, size_pt)
         self.height = self.icon
 
     def wrap(self, availWidth: float, availHeight: float) -> tuple[float, float]:
-        # a word wider than the cell (a long device id) goes on over several lines
-        room = max(availWidth - self.icon - self.gap, self.size_pt)
+        # wrapped at spaces beside the shape; where a word is too wide to stand beside it,
+        # the words go under the shape, whole; only a word wider than the cell itself (a
+        # long device id) is cut over several lines
+        def width(text: str) -> float:
+            return stringWidth(text, FONT_BOLD, self.size_pt)
+
+        beside = max(availWidth - self.icon - self.gap, self.size_pt)
+        widest = max((width(w) for w in self.word.split()), default=0.0)
+        self.below = widest > beside and widest <= availWidth
+        room = availWidth if self.below else beside
         self.lines = []
-        rest = self.word
+        if widest <= room:
+            for part in self.word.split():
+                if self.lines and width(f"{self.lines[-1]} {part}") <= room:
+                    self.lines[-1] += f" {part}"
+                else:
+                    self.lines.append(part)
+        rest = "" if self.lines else self.word
         while rest:
             fits = 1
-            while (fits < len(rest)
-                   and stringWidth(rest[:fits + 1], FONT_BOLD, self.size_pt) <= room):
+            while fits < len(rest) and width(rest[:fits + 1]) <= room:
                 fits += 1
             self.lines.append(rest[:fits])
             rest = rest[fits:]
         self.lines = self.lines or [""]
-        self.width = self.icon + self.gap + max(
-            stringWidth(line, FONT_BOLD, self.size_pt) for line in self.lines)
-        self.height = max(self.icon, len(self.lines) * self.size_pt * 1.2)
+        text_width = max(width(line) for line in self.lines)
+        leading = self.size_pt * 1.2
+        if self.below:
+            self.width = max(self.icon, text_width)
+            self.height = self.icon + 0.15 * self.size_pt + len(self.lines) * leading
+        else:
+            self.width = self.icon + self.gap + text_width
+            self.height = max(self.icon, len(self.lines) * leading)
         return self.width, self.height
 
     def draw(self) -> None:
@@ -135,6 +155,11 @@ class Mark(Flowable):
             canv.setFont(FONT_BOLD, self.size_pt * 0.9)
             canv.drawCentredString(c, s * 0.16, "!")
         canv.setFont(FONT_BOLD, self.size_pt)
+        if self.below:  # the words on lines of their own under the shape
+            for number, line in enumerate(self.lines):
+                canv.drawString(0, -self.size_pt * (1.05 + 1.2 * number), line)
+            canv.restoreState()
+            return
         first = (s - self.size_pt * 0.72) / 2
         for number, line in enumerate(self.lines):
             canv.drawString(self.icon + self.gap, first - number * self.size_pt * 1.2, line)
@@ -249,6 +274,7 @@ class CloseoutPdf(PackagePdf):
         self.record = record
         self.results = results
         self.verdicts = {v.id: v for v in evaluation.readings}
+        self.chosen = self._chosen_final()
         self.document_title = f"Close-out: {package.title}"
         self.created = (record.recorded_at.astimezone(dt.UTC).date() if record is not None
                         else results.completed_on if results is not None
@@ -351,6 +377,17 @@ class CloseoutPdf(PackagePdf):
         """The blank as it was filled in: a ticked or empty square, the entry in its box,
         or a reading with its outcome."""
         parts = tuple(str(part) for part in blank.parts)
+        if parts == ("final_at",):
+            return self._filled_box(blank, self.chosen.id if self.chosen else None,
+                                    strong=True)
+        if parts[:2] == ("final", CHOSEN):  # the one procedure: the circuit's own blanks
+            targets = self._chosen_targets(parts[2:])
+            if blank.tick:
+                return TickedBox(bool(targets) and all(self._ticked(t) for t in targets),
+                                 self.blank_height(blank))
+            if not targets:
+                return self._filled_box(blank, None)
+            parts = targets[0]
         if blank.tick:
             return TickedBox(self._ticked(parts), self.blank_height(blank))
         if parts[0] == "reading":
@@ -363,6 +400,27 @@ class CloseoutPdf(PackagePdf):
         notes = [v for v in (self.verdicts.get(r.id) for r in readings) if v and v.note]
         return [Paragraph(f"<b>{words(v.id)}</b>: {words(v.note)}", self.style["small"])
                 for v in notes]
+
+    def _chosen_final(self) -> FinalTest | None:
+        """The final tests this record filled in: the first with anything written."""
+        r = self.results
+        if r is None:
+            return None
+        recorded = {i for i, m in r.readings.items() if m.value is not None}
+        for final in self.package.final_tests:
+            record = r.final_tests.get(final.id)
+            ids = {x.id for s in (*final.steps, *final.restoration) for x in s.readings}
+            if (record is not None and record.anything_filled_in()) or ids & recorded:
+                return final
+        return None
+
+    def _chosen_targets(self, parts: tuple[str, ...]) -> list[tuple[str, ...]]:
+        """The chosen final test's own blanks that one blank of the procedure stands for."""
+        if self.chosen is None:
+            return []
+        targets = chosen_final_fields(self.chosen).get(parts, ())
+        return [t if t[0] in ("reading", "temperature") else ("final", self.chosen.id, *t)
+                for t in targets]
 
     def _ticked(self, parts: tuple[str, ...]) -> bool:
         r: Any = self.results

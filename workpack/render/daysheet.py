@@ -167,12 +167,18 @@ class DaySheetPdf(PdfDocument):
             out += self.bullets(self.conflicts)
         else:
             out.append(Paragraph("None found.", self.style["body"]))
-        dangers = [(p.id, c.text) for p in self.scheduled for c in p.cautions
-                   if c.signal_word is SignalWord.danger]
+        # each DANGER once (one per system, as the packages word it), with the packages
+        # that carry it
+        dangers: dict[str, list[str]] = {}
+        for p in self.scheduled:
+            for c in p.cautions:
+                if c.signal_word is SignalWord.danger and p.id not in dangers.get(c.text, []):
+                    dangers.setdefault(c.text, []).append(p.id)
         if dangers:
             out.append(self.section("DANGER notes in the scheduled packages"))
-            out += [Paragraph(f"<b>{words(pid)}</b>: {words(text)}", self.style["bullet"],
-                              bulletText="•") for pid, text in dangers]
+            out += [Paragraph(f"<b>{words(', '.join(ids))}</b>: {words(text)}",
+                              self.style["bullet"], bulletText="•")
+                    for text, ids in dangers.items()]
         out += [Spacer(1, 4 * mm), KeepTogether([self.notice_box(NOTICE)])]
         return out
 

@@ -15,6 +15,7 @@ the type, but by drawing less and saying so under it, so a plant of any size pla
 from __future__ import annotations
 
 import cmath
+import functools
 import math
 import re
 from collections.abc import Callable, Sequence
@@ -25,7 +26,19 @@ from reportlab.lib.units import mm
 from reportlab.pdfbase.pdfmetrics import stringWidth
 
 from workpack.electrical import PhaseSequence, source_phasors
-from workpack.model.package import Phasor, Sketch, SketchNode
+from workpack.model.package import Phasor, Sketch, SketchNode, SketchRoute
+from workpack.render.sketch_layout import (
+    ITEM_FRAME,
+    LINE,
+    MARGIN,
+    PAD,
+    PADLOCK_AT,
+    SYMBOL_W,
+    PlacedNode,
+    SketchLayout,
+    layout_sketch,
+    width_needed,
+)
 
 FIGURE_TEXT_PT = 9.0
 Formatter = Callable[[float], str]
@@ -133,135 +146,41 @@ def phasor_drawing(phasor: Phasor, width: float, font: str, bold: str,
 
 
 # --- one-line sketch ------------------------------------------------------------------
-
-_NODE_H = 9 * mm
-_ROW_GAP = 9 * mm
-_NODE_GAP = 3 * mm
-_LOCK_W = 14 * mm  # room beside an isolation point for the cross, padlock and "LOCK"
-
-
-def _layers(sketch: Sketch) -> dict[str, int]:
-    """Layer of each node: 0 for nodes nothing feeds, else one below its deepest supply;
-    items go to the bottom, and every other node as low as its loads allow. Sorted
-    everywhere so the picture never depends on hash order, and a loop in the data cannot
-    hang it."""
-    ids = sorted(node.id for node in sketch.nodes)
-    supplies: dict[str, list[str]] = {node_id: [] for node_id in ids}
-    for supply, load in sorted(sketch.edges):
-        if supply in supplies and load in supplies:
-            supplies[load].append(supply)
-    layer = dict.fromkeys(ids, 0)
-    for _ in range(len(ids)):  # longest path by relaxation; bounded for loops
-        changed = False
-        for node_id in ids:
-            deepest = max((layer[s] + 1 for s in supplies[node_id]), default=0)
-            deepest = min(deepest, len(ids))
-            if deepest > layer[node_id]:
-                layer[node_id] = deepest
-                changed = True
-        if not changed:
-            break
-    bottom = max(layer.values(), default=0)
-    for node in sketch.nodes:
-        if node.kind == "item":
-            layer[node.id] = max(bottom, layer[node.id])
-    # then pull each node down to just above its nearest load, so a line spans one row
-    # where it can (a heater breaker sits beside the motor breaker, not above the bus)
-    loads: dict[str, list[str]] = {node_id: [] for node_id in ids}
-    for supply, load in sorted(sketch.edges):
-        if supply in loads and load in loads:
-            loads[supply].append(load)
-    for _ in range(len(ids)):
-        changed = False
-        for node_id in sorted(ids, key=lambda i: -layer[i]):
-            if not loads[node_id]:
-                continue
-            lowest = min(layer[load] for load in loads[node_id]) - 1
-            if lowest > layer[node_id]:
-                layer[node_id] = lowest
-                changed = True
-        if not changed:
-            break
-    return layer
-
-
-def _face(node: SketchNode, font: str, bold: str) -> str:
-    return bold if node.kind in ("item", "bus") else font
-
-
-def _node_width(node: SketchNode, font: str, bold: str) -> float:
-    return stringWidth(node.label, _face(node, font, bold), FIGURE_TEXT_PT) + 4 * mm + (
-        _LOCK_W if node.isolate else 0.0)
-
-
-def sketch_width_needed(sketch: Sketch, font: str, bold: str) -> float:
-    """Points the widest layer needs on one row (more than this and rows wrap)."""
-    layer = _layers(sketch)
-    needed: dict[int, float] = {}
-    for node in sketch.nodes:
-        needed[layer[node.id]] = (needed.get(layer[node.id], 0.0)
-                                  + _node_width(node, font, bold) + _NODE_GAP)
-    return max(needed.values(), default=0.0) + 4 * mm
-
-
-def _rows(sketch: Sketch, width: float, font: str, bold: str) -> list[list[SketchNode]]:
-    """Nodes in rows: one row per layer, wrapped when a layer is wider than ``width``;
-    within a layer, ordered by where their supplies sit, then by id."""
-    return [row for _, row in _layout(sketch, width, font, bold)]
-
-
-def _layout(sketch: Sketch, width: float, font: str,
-            bold: str) -> list[tuple[int, list[SketchNode]]]:
-    """The rows of ``_rows``, each with its layer."""
-    layer = _layers(sketch)
-    by_id = {node.id: node for node in sketch.nodes}
-    supplies = _neighbours(sketch)[0]
-    position: dict[str, float] = {}
-    rows: list[tuple[int, list[SketchNode]]] = []
-    by_layer: dict[int, list[SketchNode]] = {}
-    for node_id in sorted(layer):
-        by_layer.setdefault(layer[node_id], []).append(by_id[node_id])
-    for depth in sorted(by_layer):
-        def place(node: SketchNode) -> tuple[float, str]:
-            fed_from = [position[s] for s in supplies[node.id] if s in position]
-            return (sum(fed_from) / len(fed_from) if fed_from else 0.0, node.id)
-
-        members = sorted(by_layer[depth], key=place)
-        row: list[SketchNode] = []
-        used = 0.0
-        for node in members:
-            need = _node_width(node, font, bold) + _NODE_GAP
-            if row and used + need > width + 0.01:  # the sum's rounding is no reason to wrap
-                rows.append((depth, row))
-                row, used = [], 0.0
-            row.append(node)
-            used += need
-        rows.append((depth, row))
-        for index, node in enumerate(row):
-            position[node.id] = float(index)
-    return rows
-
-
-def _height(rows: Sequence[Sequence[SketchNode]]) -> float:
-    return len(rows) * (_NODE_H + _ROW_GAP) + _ROW_GAP
-
-
-# --- fitting a sketch to the page -------------------------------------------------------
 #
-# The sketch is a picture of what the isolation table says, never its only record: when
-# the whole picture does not fit the space given, it is drawn smaller in content (never in
-# type size), step by step, and a note under it says what was left out.
+# Laid out by ``sketch_layout`` (pure geometry, checked by ``geometry.problems``); drawn
+# here. The sketch is a picture of what the isolation table and the search steps say,
+# never their only record: when the whole picture does not fit the space given, it is
+# drawn smaller in content (never in type size), step by step, and a note under it says
+# what was left out.
 
-MIN_SKETCH_HEIGHT = _NODE_H + 2 * _ROW_GAP  # one row: the item alone
-MAX_ROWS_PER_LAYER = 1  # wrapped, a layer's lines would pass behind its own boxes
+
+@functools.lru_cache(maxsize=8)
+def _measure(font: str, bold: str) -> Callable[[str, bool], float]:
+    @functools.lru_cache(maxsize=4096)
+    def measure(text: str, heavy: bool) -> float:
+        return float(stringWidth(text, bold if heavy else font, FIGURE_TEXT_PT))
+    return measure
+
+
+LOCK_ROOM = 20.0  # a padlock, in points
+MIN_SKETCH_HEIGHT = 2 * MARGIN + 2 * PAD + LINE + 2 * ITEM_FRAME  # the item alone
 
 
 class FittedSketch:
     """A sketch drawing that fits its space, and the notes that say what it leaves out."""
 
-    def __init__(self, drawing: Drawing, notes: Sequence[str]) -> None:
+    def __init__(self, drawing: Drawing, notes: Sequence[str],
+                 layout: SketchLayout | None = None,
+                 stands_for: dict[str, str] | None = None) -> None:
         self.drawing = drawing
         self.notes = tuple(notes)
+        self.layout = layout  # its geometry, for the checks
+        self.stands_for = stands_for or {}  # node id -> the dashed box drawn for it
+
+
+def sketch_width_needed(sketch: Sketch, font: str, bold: str) -> float:
+    """Points the sketch needs with every layer on one row."""
+    return width_needed(sketch, _measure(font, bold))
 
 
 def _neighbours(sketch: Sketch) -> tuple[dict[str, list[str]], dict[str, list[str]]]:
@@ -293,18 +212,23 @@ def shortened(text: str, face: str, room: float, size: float = FIGURE_TEXT_PT) -
 
 
 def _shorten_labels(sketch: Sketch, room: float, font: str, bold: str) -> Sketch:
-    """Labels cut so that every box fits one row of ``room`` points."""
+    """Labels and details cut so that every box fits one row of ``room`` points."""
     nodes = []
     for node in sketch.nodes:
-        space = room - 4 * mm - _NODE_GAP - (_LOCK_W if node.isolate else 0.0)
-        label = shortened(node.label, _face(node, font, bold), max(space, 6 * mm))
-        nodes.append(node.model_copy(update={"label": label}) if label != node.label else node)
-    return Sketch(nodes=tuple(nodes), edges=sketch.edges)
+        space = room - 2 * MARGIN - 2 * PAD - SYMBOL_W - (LOCK_ROOM if node.isolate else 0.0)
+        face = bold if node.kind in ("item", "bus") else font
+        label = shortened(node.label, face, max(space, 30.0))
+        detail = shortened(node.detail, font, max(space - 40.0, 30.0))
+        if (label, detail) != (node.label, node.detail):
+            node = node.model_copy(update={"label": label, "detail": detail})
+        nodes.append(node)
+    return sketch.model_copy(update={"nodes": tuple(nodes)})
 
 
-def _elide_runs(sketch: Sketch) -> tuple[Sketch, int]:
+def _elide_runs(sketch: Sketch, stands_for: dict[str, str]) -> tuple[Sketch, int]:
     """Runs of two or more boards that only pass the supply on (one supply, one load,
-    nothing locked) drawn as one dashed box; returns the sketch and the boards elided."""
+    nothing locked) drawn as one dashed box; returns the sketch and the boards elided,
+    and notes in ``stands_for`` which box stands for each."""
     supplies, loads = _neighbours(sketch)
     through = {node.id for node in sketch.nodes
                if node.kind == "bus" and not node.isolate
@@ -327,6 +251,7 @@ def _elide_runs(sketch: Sketch) -> tuple[Sketch, int]:
         return sketch, 0
     nodes = [stand_in[node.id] if node.id in stand_in else node for node in sketch.nodes
              if node.id not in member_of or node.id in stand_in]
+    stands_for.update({member: stand_in[first].id for member, first in member_of.items()})
 
     def renamed(node_id: str) -> str:
         return stand_in[member_of[node_id]].id if node_id in member_of else node_id
@@ -337,13 +262,16 @@ def _elide_runs(sketch: Sketch) -> tuple[Sketch, int]:
     return Sketch(nodes=tuple(nodes), edges=edges), len(member_of)
 
 
-def _merge_parallel_supplies(sketch: Sketch) -> tuple[Sketch, int]:
+def _merge_parallel_supplies(sketch: Sketch,
+                             stands_for: dict[str, str]) -> tuple[Sketch, int]:
     """Three or more supplies side by side (nothing feeds them, none is locked, they feed
-    the same points) drawn as one dashed box; returns the sketch and the supplies merged."""
+    the same points) drawn as one dashed box; returns the sketch and the supplies merged,
+    and notes in ``stands_for`` which box stands for each."""
     supplies, loads = _neighbours(sketch)
     groups: dict[tuple[str, ...], list[str]] = {}
     for node in sketch.nodes:
-        if node.kind != "item" and not node.isolate and not supplies[node.id]:
+        if node.kind != "item" and not node.isolate and not supplies[node.id] \
+                and node.search_step is None:
             groups.setdefault(tuple(loads[node.id]), []).append(node.id)
     stand_in: dict[str, SketchNode] = {}
     for members in groups.values():
@@ -355,6 +283,7 @@ def _merge_parallel_supplies(sketch: Sketch) -> tuple[Sketch, int]:
     if not stand_in:
         return sketch, 0
     nodes = list(dict.fromkeys(stand_in.get(node.id, node) for node in sketch.nodes))
+    stands_for.update({member: box.id for member, box in stand_in.items()})
     edges = tuple(dict.fromkeys((stand_in[a].id if a in stand_in else a, b)
                                 for a, b in sketch.edges))
     return Sketch(nodes=tuple(nodes), edges=edges), len(stand_in)
@@ -366,79 +295,97 @@ def _natural(text: str) -> tuple[tuple[int, int | str], ...]:
                  for part in re.split(r"(\d+)", text) if part)
 
 
-def _with_paths(sketch: Sketch, units: Sequence[str]) -> Sketch:
-    """The item and, for each unit (an isolation point or a supply), one path up from it
-    to a supply and one down from it to the item. Paths keep clear of other isolation
-    points where they can, so each unit brings only itself; ties go by id."""
+def _routes(sketch: Sketch) -> tuple[SketchRoute, ...]:
+    """The sketch's routes; for a sketch built without them, every way from a node that
+    nothing feeds down to an item (a lock route when it passes an isolation point)."""
+    if sketch.routes:
+        return sketch.routes
     supplies, loads = _neighbours(sketch)
     by_id = {node.id: node for node in sketch.nodes}
-    items = {node.id for node in sketch.nodes if node.kind == "item"}
+    found: list[SketchRoute] = []
+    roots = [node.id for node in sketch.nodes if not supplies[node.id]]
+    for root in roots:
+        stack: list[tuple[str, ...]] = [(root,)]
+        while stack and len(found) < 2000:
+            path = stack.pop()
+            following = [n for n in loads[path[-1]] if n not in path]
+            if not following:
+                kind = "lock" if any(by_id[n].isolate for n in path) else "supply"
+                found.append(SketchRoute(kind=kind, nodes=path))  # type: ignore[arg-type]
+            stack.extend((*path, n) for n in reversed(following))
+    return tuple(found)
 
-    def preferred(node_id: str) -> tuple[bool, tuple[tuple[int, int | str], ...]]:
-        return (by_id[node_id].isolate, _natural(node_id))
 
-    keep = set(items)
-    for unit in units:
-        keep.add(unit)
-        node_id = unit
-        while supplies[node_id]:  # up: the first supply each time
-            node_id = min(supplies[node_id], key=preferred)
-            if node_id in keep:
-                break  # joins what is drawn already (or came round a loop)
-            keep.add(node_id)
-        came_from: dict[str, str] = {unit: unit}  # down: the shortest path to an item
-        frontier = [unit]
-        while frontier and not items & came_from.keys():
-            following = []
-            for node_id in frontier:
-                for load in sorted(loads[node_id], key=preferred):
-                    if load not in came_from:
-                        came_from[load] = node_id
-                        following.append(load)
-            frontier = following
-        reached = sorted(items & came_from.keys())
-        if reached:
-            node_id = reached[0]
-            while node_id != unit:
-                keep.add(node_id)
-                node_id = came_from[node_id]
+def _first_routes(sketch: Sketch, routes: Sequence[SketchRoute], count: int) -> Sketch:
+    """The item(s) and the first ``count`` routes."""
+    keep = {node.id for node in sketch.nodes if node.kind == "item"}
+    edges: dict[tuple[str, str], None] = {}
+    for route in routes[:count]:
+        keep.update(route.nodes)
+        edges.update(dict.fromkeys(zip(route.nodes, route.nodes[1:], strict=False)))
     return Sketch(nodes=tuple(node for node in sketch.nodes if node.id in keep),
-                  edges=tuple(edge for edge in sketch.edges
-                              if edge[0] in keep and edge[1] in keep))
+                  edges=tuple(edge for edge in sketch.edges if edge in edges),
+                  routes=tuple(routes[:count]))
+
+
+# what each kind of route is called in a note, and where the package lists them all
+_ROUTE_WORDS = {
+    "lock": ("ways in through an isolation point", "the isolation table lists every lock"),
+    "supply": ("normal supply paths", ""),
+    "tie": ("alternate supplies through a normally open point", ""),
+    "secondary": ("ways on to a secondary bus", ""),
+    "feeder": ("feeders the search opens", "the search steps list every one"),
+}
+
+
+def _left_out_note(routes: Sequence[SketchRoute], drawn: int) -> str:
+    totals: dict[str, int] = {}
+    shown: dict[str, int] = {}
+    for index, route in enumerate(routes):
+        totals[route.kind] = totals.get(route.kind, 0) + 1
+        shown[route.kind] = shown.get(route.kind, 0) + (1 if index < drawn else 0)
+    parts, where = [], []
+    for kind, (words, lists) in _ROUTE_WORDS.items():
+        if kind in totals and shown[kind] < totals[kind]:
+            parts.append(f"{shown[kind]} of the {totals[kind]} {words} "
+                         f"({totals[kind] - shown[kind]} more not shown)")
+            if lists:
+                where.append(lists)
+    note = "Drawn: " + "; ".join(parts)
+    return note + ("; " + "; ".join(where) + "." if where else ".")
 
 
 def fit_sketch(sketch: Sketch, width: tuple[float, float], max_height: float, font: str,
                bold: str) -> FittedSketch:
-    """The sketch drawn between ``width[0]`` and ``width[1]`` points wide (as wide as its
-    widest layer needs), at most ``max_height`` tall (never less than
-    ``MIN_SKETCH_HEIGHT``) and with no layer wrapped onto more than ``MAX_ROWS_PER_LAYER``
-    rows. When the whole does not fit, in this order: long names end in "…"; runs of
-    boards that only pass the supply on, and supplies side by side, become dashed boxes;
-    then only the first isolation points (or supplies) that fit are drawn, each with one
-    path up to a supply and one down to the item. Notes under it say what was done."""
+    """The sketch drawn between ``width[0]`` and ``width[1]`` points wide (as wide as it
+    needs), at most ``max_height`` tall (never less than ``MIN_SKETCH_HEIGHT``), every
+    layer on one row. When the whole does not fit, in this order: long names end in
+    "…"; runs of boards that only pass the supply on, and supplies side by side, become
+    dashed boxes; then only the first routes that fit are drawn (isolation points
+    first, then supplies, ties, feeders). Notes under it say what was done."""
     max_height = max(max_height, MIN_SKETCH_HEIGHT)
     narrowest, widest = width
-    room = widest - 4 * mm
+    measure = _measure(font, bold)
 
-    def width_for(candidate: Sketch) -> float:
-        return min(widest, max(narrowest, sketch_width_needed(candidate, font, bold)))
+    def attempt(candidate: Sketch) -> SketchLayout | None:
+        needed = width_needed(candidate, measure, widest)
+        if needed > widest + 0.01:
+            return None
+        layout = layout_sketch(candidate, max(narrowest, needed), measure)
+        return layout if layout is not None and layout.height <= max_height else None
 
-    def fits(candidate: Sketch) -> bool:
-        layout = _layout(candidate, width_for(candidate) - 4 * mm, font, bold)
-        per_layer: dict[int, int] = {}
-        for depth, _ in layout:
-            per_layer[depth] = per_layer.get(depth, 0) + 1
-        return (_height([row for _, row in layout]) <= max_height
-                and max(per_layer.values(), default=0) <= MAX_ROWS_PER_LAYER)
+    stands_for: dict[str, str] = {}
 
     def summarised(candidate: Sketch) -> tuple[Sketch, int, int]:
-        merged, boards = _elide_runs(candidate)
-        merged, parallel = _merge_parallel_supplies(merged)
-        return _shorten_labels(merged, room, font, bold), boards, parallel
+        stands_for.clear()
+        merged, boards = _elide_runs(candidate, stands_for)
+        merged, parallel = _merge_parallel_supplies(merged, stands_for)
+        return _shorten_labels(merged, widest, font, bold), boards, parallel
 
-    def finished(candidate: Sketch, boards: int, parallel: int,
+    def finished(candidate: Sketch, layout: SketchLayout, boards: int, parallel: int,
                  notes: list[str]) -> FittedSketch:
-        if any(node.label.endswith("…") for node in candidate.nodes):
+        if any(node.label.endswith("…") or node.detail.endswith("…")
+               for node in candidate.nodes):
             notes.insert(0, "Names too long for the sketch end in “…”; the isolation table "
                             "gives them in full.")
         kinds = [f"{boards} boards in a row that only pass the supply on"] if boards else []
@@ -446,38 +393,34 @@ def fit_sketch(sketch: Sketch, width: tuple[float, float], max_height: float, fo
         if kinds:
             notes.insert(0, f"A dashed box, named by its first and last, stands for "
                             f"{' and '.join(kinds)}.")
-        drawing = sketch_drawing(candidate, width_for(candidate), font, bold)
-        return FittedSketch(drawing, notes)
+        return FittedSketch(draw_layout(layout, font, bold), notes, layout,
+                            dict(stands_for) if boards or parallel else {})
 
-    whole = _shorten_labels(sketch, room, font, bold)
-    if fits(whole):
-        return finished(whole, 0, 0, [])
+    whole = _shorten_labels(sketch, widest, font, bold)
+    if (layout := attempt(whole)) is not None:
+        return finished(whole, layout, 0, 0, [])
     shown, boards, parallel = summarised(sketch)
-    if fits(shown):
-        return finished(shown, boards, parallel, [])
-    units = [node.id for node in sketch.nodes if node.isolate]
-    what = "isolation points"
-    if not units:
-        supplies = _neighbours(sketch)[0]
-        units = [node.id for node in sketch.nodes
-                 if not supplies[node.id] and node.kind != "item"]
-        what = "supplies"
-    low, high = 0, len(units)  # the most units whose sketch fits (binary search)
+    if (layout := attempt(shown)) is not None:
+        return finished(shown, layout, boards, parallel, [])
+    routes = _routes(sketch)
+    low, high = 0, len(routes)  # the most routes whose sketch fits (binary search)
     while low < high:
         middle = (low + high + 1) // 2
-        if fits(summarised(_with_paths(sketch, units[:middle]))[0]):
+        if attempt(summarised(_first_routes(sketch, routes, middle))[0]) is not None:
             low = middle
         else:
             high = middle - 1
-    shown, boards, parallel = summarised(_with_paths(sketch, units[:low]))
-    note = (f"Drawn: {low} of the {len(units)} {what}, each with one path up to a supply "
-            "and one down to the item")
-    note += "; the isolation table lists every one." if what == "isolation points" else "."
-    return finished(shown, boards, parallel, [note])
+    shown, boards, parallel = summarised(_first_routes(sketch, routes, low))
+    layout = attempt(shown)
+    if layout is None:  # not even the item fits the room asked for: draw it alone
+        shown = _shorten_labels(_first_routes(sketch, routes, 0), widest, font, bold)
+        layout = layout_sketch(shown, None, measure)
+        assert layout is not None
+    return finished(shown, layout, boards, parallel, [_left_out_note(routes, low)])
 
 
 def _padlock(x: float, y: float) -> Group:
-    """A padlock: body and shackle, about 4 × 6 mm, lower-left corner at (x, y)."""
+    """A padlock, 4.2 mm wide: body and shackle, lower-left corner at (x, y)."""
     group = Group()
     group.add(Rect(x, y, 4.2 * mm, 3.2 * mm, fillColor=colors.black, strokeColor=colors.black))
     radius = 1.4 * mm
@@ -492,64 +435,73 @@ def _padlock(x: float, y: float) -> Group:
 
 
 def sketch_drawing(sketch: Sketch, width: float, font: str, bold: str) -> Drawing:
-    """Sources at the top, the item at the bottom, lines from supply to load. An isolation
-    point gets a heavy cross on its box, a padlock and the word LOCK. ``width`` in points."""
-    rows = _rows(sketch, width - 4 * mm, font, bold)
-    height = len(rows) * (_NODE_H + _ROW_GAP) + _ROW_GAP
-    drawing = Drawing(width, height)
-    drawing.add(Rect(0, 0, width, height, fillColor=None, strokeColor=colors.black,
+    """The whole sketch ``width`` points wide (wider where a layer needs it)."""
+    measure = _measure(font, bold)
+    layout = (layout_sketch(sketch, width, measure)
+              or layout_sketch(sketch, None, measure))
+    assert layout is not None
+    return draw_layout(layout, font, bold)
+
+
+def draw_layout(layout: SketchLayout, font: str, bold: str) -> Drawing:
+    """Sources at the top, lines from supply to load, the item in a double frame. An
+    isolation point's contact is drawn open with a padlock beside it and the word LOCK,
+    all inside its own box."""
+    height = layout.height
+    drawing = Drawing(layout.width, height)
+    drawing.add(Rect(0, 0, layout.width, height, fillColor=None, strokeColor=colors.black,
                      strokeWidth=0.5))
-    boxes: dict[str, tuple[float, float, float]] = {}  # id -> (left, bottom, box width)
-    for row_index, row in enumerate(rows):
-        bottom = height - (row_index + 1) * (_NODE_H + _ROW_GAP)
-        widths = [_node_width(node, font, bold) for node in row]
-        slot = width / len(row)
-        for index, (node, node_width) in enumerate(zip(row, widths, strict=True)):
-            box_width = node_width - (_LOCK_W if node.isolate else 0.0)
-            centre = slot * (index + 0.5)
-            left = centre - node_width / 2
-            boxes[node.id] = (left, bottom, box_width)
-    for supply, load in sorted(sketch.edges):
-        if supply not in boxes or load not in boxes:
-            continue
-        sl, sb, sw = boxes[supply]
-        ll, lb, lw = boxes[load]
-        drawing.add(Line(sl + sw / 2, sb, ll + lw / 2, lb + _NODE_H, strokeColor=colors.black,
-                         strokeWidth=1.0))
-    by_id = {node.id: node for node in sketch.nodes}
-    for node_id in sorted(boxes):
-        node = by_id[node_id]
-        left, bottom, box_width = boxes[node_id]
-        _draw_node(drawing, node, left, bottom, box_width, font, bold)
+    for wire in layout.wires:
+        points = [c for x, y in wire.points for c in (x, height - y)]
+        drawing.add(PolyLine(points, strokeColor=colors.black, strokeWidth=1.0))
+    for placed in layout.nodes:
+        _draw_node(drawing, placed, height, font, bold)
     return drawing
 
 
-def _draw_node(drawing: Drawing, node: SketchNode, left: float, bottom: float,
-               box_width: float, font: str, bold: str) -> None:
+def _draw_node(drawing: Drawing, placed: PlacedNode, height: float, font: str,
+               bold: str) -> None:
+    node, r = placed.node, placed.rect
+    bottom, top = height - r.y1, height - r.y0
     stroke = {"bus": 2.4, "item": 1.0, "source": 1.0}.get(node.kind, 0.8)
-    drawing.add(Rect(left, bottom, box_width, _NODE_H, fillColor=colors.white,
+    round_corner = 3 * mm if node.kind == "source" else 0
+    drawing.add(Rect(r.x0, bottom, r.width, r.height, fillColor=colors.white,
                      strokeColor=colors.black, strokeWidth=stroke,
                      strokeDashArray=[3, 2] if node.kind == "elided" else None,
-                     rx=3 * mm if node.kind == "source" else 0,
-                     ry=3 * mm if node.kind == "source" else 0))
+                     rx=round_corner, ry=round_corner))
     if node.kind == "item":  # double frame: the thing being worked on
-        drawing.add(Rect(left + 1.5, bottom + 1.5, box_width - 3, _NODE_H - 3, fillColor=None,
+        drawing.add(Rect(r.x0 + 1.5, bottom + 1.5, r.width - 3, r.height - 3, fillColor=None,
                          strokeColor=colors.black, strokeWidth=1.0))
-    face = _face(node, font, bold)
-    drawing.add(_label(left + box_width / 2, bottom + _NODE_H / 2 - FIGURE_TEXT_PT / 3,
-                       node.label, face))
-    if node.isolate:
-        # heavy cross over the box edge, then the padlock and the word beside it
-        x0, x1 = left + box_width + 0.8 * mm, left + box_width + 4.4 * mm
-        for a, b in (((x0, bottom + 1.5 * mm), (x1, bottom + _NODE_H - 1.5 * mm)),
-                     ((x0, bottom + _NODE_H - 1.5 * mm), (x1, bottom + 1.5 * mm))):
-            drawing.add(Line(*a, *b, strokeColor=colors.black, strokeWidth=2.6))
-        drawing.add(_padlock(x1 + 1 * mm, bottom + 1 * mm))
-        drawing.add(_label(x1 + 1 * mm, bottom + _NODE_H - FIGURE_TEXT_PT + 1, "LOCK", bold,
-                           anchor="start"))
+    for text in placed.texts:
+        drawing.add(_label(text.x, height - text.baseline, text.text,
+                           bold if text.bold else font, anchor="start"))
+    x = placed.conductor_x
+    if x is None or node.kind not in ("device", "transformer"):
+        return
+    middle = (top + bottom) / 2
+    line = {"strokeColor": colors.black, "strokeWidth": 1.0}
+    if node.kind == "transformer":  # two windings on the conductor
+        drawing.add(Line(x, top, x, middle + 7, **line))
+        drawing.add(Line(x, middle - 7, x, bottom, **line))
+        drawing.add(Circle(x, middle + 2.5, 4.5, fillColor=None, **line))
+        drawing.add(Circle(x, middle - 2.5, 4.5, fillColor=None, **line))
+        return
+    is_open = node.isolate or node.normally_open
+    drawing.add(Line(x, top, x, middle + 4, **line))
+    drawing.add(Line(x, middle - 4, x, bottom, **line))
+    if is_open:  # the contact drawn open, its blade swung to the right
+        drawing.add(Line(x, middle - 4, x + 5, middle + 4, **line))
+    else:
+        drawing.add(Rect(x - 3, middle - 3, 6, 6, fillColor=colors.white, **line))
+    if node.isolate and placed.lock_x is not None:
+        drawing.add(Line(x + 3, middle, placed.lock_x + PADLOCK_AT, middle,
+                         strokeColor=colors.black, strokeWidth=0.8))  # the lock holds it
+        drawing.add(_padlock(placed.lock_x + PADLOCK_AT, middle - 3.4 * mm / 2 - 1))
 
 
 def sketch_legend() -> Sequence[str]:
     """Words that explain the sketch's marks, for a caption under it."""
-    return ("Supplies at the top, the item (double frame) at the bottom; heavy frame: bus.",
-            "Heavy cross, padlock and LOCK: an isolation point of this package.")
+    return ("Supply above, load below: every way energy could reach the item (double "
+            "frame); heavy frame: bus; a line up the right edge feeds back to a board above.",
+            "Open contact with a padlock, and LOCK: an isolation point of this package; "
+            "N.O.: normally open; step n: the search step that first opens it.")

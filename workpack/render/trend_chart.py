@@ -11,7 +11,7 @@ import math
 from dataclasses import dataclass
 from typing import Literal, NamedTuple
 
-from workpack.audit.report import IrTrend
+from workpack.audit.report import IrTrend, TrendPoint
 from workpack.audit.wording import minimum_shown
 from workpack.numbers import format_quantity
 
@@ -30,7 +30,8 @@ Shape = Literal["circle", "square"]
 class ChartMark:
     x: float
     y: float
-    shape: Shape  # circle: within the limit; square: a failing reading
+    shape: Shape  # circle: at or above the minimum; square: below it (failing, or as
+    # found and not judged)
     filled: bool  # the lowest reading of its test, on the line
     label: str  # what a reader sees in the table below: date, reading, value
 
@@ -71,7 +72,6 @@ def trend_chart(trend: IrTrend, width: float = 640.0, height: float = 300.0,
     """The chart of one element's IR: every reading marked, the lowest of each test joined
     by a line, the minimum dashed. Only numbers of the trend are placed."""
     size = text_size
-    left, right, top, bottom = 6.0 * size, width - 1.5 * size, size, height - 3.6 * size
     values = [p.compared_si for p in trend.points]
     if trend.minimum_si is not None:
         values.append(trend.minimum_si)
@@ -79,6 +79,10 @@ def trend_chart(trend: IrTrend, width: float = 640.0, height: float = 300.0,
     high = math.ceil(math.log10(max(values)))
     if high == low:
         high += 1
+    # room for the longest tick label at the left (a digit is about 0.64 em wide)
+    longest = max(len(format_quantity(10.0 ** k, trend.unit)) for k in range(low, high + 1))
+    left = max(6.0, 0.66 * longest + 2.2) * size
+    right, top, bottom = width - 1.5 * size, size, height - 3.6 * size
 
     def y_of(ohm: float) -> float:
         return bottom - (math.log10(ohm) - low) / (high - low) * (bottom - top)
@@ -104,18 +108,29 @@ def trend_chart(trend: IrTrend, width: float = 640.0, height: float = 300.0,
                 continue
             x_ticks.pop()  # the last test is always labelled
         x_ticks.append(Tick(x, day.isoformat()))
-    line = tuple((x_of(p.taken_on), y_of(p.compared_si), p) for p in trend.line)
+    # a day with a test as found and one after the work: the two side by side
+    both = {p.taken_on for p in trend.points if p.as_found} & {
+        p.taken_on for p in trend.points if not p.as_found}
+
+    def x_at(p: TrendPoint) -> float:
+        shift = (-1.0 if p.as_found else 1.0) * size if p.taken_on in both else 0.0
+        return x_of(p.taken_on) + shift
+
+    line = tuple((x_at(p), y_of(p.compared_si), p) for p in trend.line)
     labels = []
     for i, (x, y, p) in enumerate(line):
         # beside the point, on the side away from the line that reaches it
         near = line[i - 1] if i > 0 else line[i + 1] if len(line) > 1 else None
         label_y = y + 1.5 * size if near is not None and near[1] < y else y - 0.7 * size
         value = format_quantity(p.compared_si, trend.unit)
-        labels.append(ChartText(x - 0.7 * size, label_y, value, "end")
-                      if x > right - 6 * size else
+        on_left = x > right - 6 * size or (p.as_found and p.taken_on in both)
+        labels.append(ChartText(x - 0.7 * size, label_y, value, "end") if on_left else
                       ChartText(x + 0.7 * size, label_y, value, "start"))
-    marks = tuple(ChartMark(x_of(p.taken_on), y_of(p.compared_si),
-                            "square" if p.outcome == "fail" else "circle", p.lowest_of_test,
+    marks = tuple(ChartMark(x_at(p), y_of(p.compared_si),
+                            "square" if p.outcome == "fail" or (
+                                trend.minimum_si is not None
+                                and p.compared_si < trend.minimum_si) else "circle",
+                            p.lowest_of_test,
                             f"{p.taken_on.isoformat()} {p.package_id} {p.reading_id}: "
                             f"{format_quantity(p.compared_si, trend.unit)}")
                   for p in trend.points)
@@ -128,7 +143,7 @@ def trend_chart(trend: IrTrend, width: float = 640.0, height: float = 300.0,
         below = my + 1.3 * size
         minimum_label = ChartText(left + 0.5 * size,
                                   below if below < bottom - 0.3 * size else my - 0.5 * size,
-                                  f"{minimum_text}: {trend.minimum_basis}", "start")
+                                  minimum_text, "start")  # its source: the legend
     reference = (f" at {format_quantity(trend.corrected_to_c, '°C')}"
                  if trend.corrected_to_c is not None else "")
     return TrendChart(

@@ -32,6 +32,13 @@ name                                  kind    what goes in it
 ``final:<id>:<any name above>``       …       the same blanks inside final test ``<id>``
                                               (``final:F2:lock:CB-7:number``); readings keep
                                               their own ids (``reading:F2%2ES2%2ER1``)
+``final:chosen:<any name above>``     …       the one printed final-test procedure, filled
+                                              for the circuit named in ``final_at``: lock,
+                                              tag and dead rows numbered as the circuit's
+                                              row lists them, ``reading:T<k>`` its k-th test;
+                                              ``forms.chosen_final_fields`` maps each to the
+                                              final test's own field
+``final_at``                          text    id of the final tests done (``F4``)
 ``sign:technician``                   text    technician
 ``sign:supervisor``                   text    supervisor
 ``sign:date``                         text    date of sign-off
@@ -148,10 +155,38 @@ class PagedCanvas(Canvas):
             self.__dict__.update(state)
             self.__dict__["_annotationCount"] = annotations
             self._finish_page(self, number, total)
+            if self._pending_fields:  # a document without fields gets no form at all
+                _reuse_appearances(self.acroForm)
             for kind, kwargs in self._pending_fields:
                 getattr(self.acroForm, kind)(**kwargs)
             Canvas.showPage(self)
         Canvas.save(self)
+
+
+def _reuse_appearances(form: Any) -> None:
+    """Build each distinct field appearance once per document.
+
+    reportlab draws six appearance streams for every check box and one for every text
+    field, then writes only the distinct ones (it compares their text); a package has
+    hundreds of fields but a handful of distinct appearances. Handing back the stream
+    already built for the same arguments makes the same objects, so the same bytes."""
+    for method in ("checkboxAP", "txAP"):
+        build = getattr(form, method)
+        if getattr(build, "reused", False):
+            continue
+        built: dict[str, Any] = {}
+
+        def reused(*args: Any, _build: Any = build, _built: dict[str, Any] = built,
+                   **kwargs: Any) -> Any:
+            key = repr((args, sorted(kwargs.items())))
+            if " at 0x" in key:  # an argument known by its address only: never reuse
+                return _build(*args, **kwargs)
+            if key not in _built:
+                _built[key] = _build(*args, **kwargs)
+            return _built[key]
+
+        reused.reused = True  # type: ignore[attr-defined]
+        setattr(form, method, reused)
 
 
 def _queue_field(canv: Canvas, kind: str, **kwargs: Any) -> None:

@@ -10,14 +10,17 @@ record overrides to show what was written in it.
 
 from __future__ import annotations
 
+from collections import Counter
 from collections.abc import Sequence
 from typing import Any, ClassVar, Literal, TypeAlias
 
 from reportlab.lib import colors
+from reportlab.lib.styles import ParagraphStyle
 from reportlab.lib.units import mm
 from reportlab.platypus import Flowable, Paragraph, Spacer, TableStyle
 
 from workpack.competence import job_needs
+from workpack.forms import CHOSEN, FINAL_PROCEDURE
 from workpack.model.package import (
     Caution,
     FinalTest,
@@ -26,6 +29,7 @@ from workpack.model.package import (
     Reading,
     SignalWord,
     Step,
+    StepKind,
     WorkPackage,
 )
 from workpack.numbers import format_number, format_quantity, format_volts
@@ -40,9 +44,24 @@ from workpack.render.pdf.fields import Blank, CheckBox, FieldBox
 from workpack.render.pdf.flowables import KeepTogether, Table, listed, words
 from workpack.render.pdf.fonts import FONT, FONT_BOLD
 from workpack.render.pdf.readings import expected_text, limit_text
+from workpack.render.search_tree import search_tree, tree_legend
+from workpack.search_wording import (
+    FINAL_PROCEDURE_TEXT,
+    FINAL_TESTS_TITLE,
+    final_tests_once,
+    goto_cell,
+    search_table_note,
+)
 
 # What a table cell holds: a flowable, or several one under the other.
 Cell: TypeAlias = "Flowable | list[Flowable]"
+
+
+# the dense tables (search, final tests): less padding, the smallest print size
+TIGHT = [("TOPPADDING", (0, 0), (-1, -1), 0.8 * mm),
+         ("BOTTOMPADDING", (0, 0), (-1, -1), 0.8 * mm),
+         ("LEFTPADDING", (0, 0), (-1, -1), 1 * mm),
+         ("RIGHTPADDING", (0, 0), (-1, -1), 1 * mm)]
 
 
 # --- the package ------------------------------------------------------------------------
@@ -64,6 +83,12 @@ class PackagePdf(PdfDocument):
         self.document_title = package.title
         self.created = package.date
         self._section_no = 0
+
+    def stylesheet(self) -> dict[str, ParagraphStyle]:
+        style = super().stylesheet()
+        style["small_bold"] = ParagraphStyle("small_bold", parent=style["small"],
+                                             fontName=FONT_BOLD)
+        return style
 
     def header_right(self) -> str:
         return f"{self.package.plant} · {self.package.date.isoformat()}"
@@ -100,14 +125,271 @@ class PackagePdf(PdfDocument):
         parts += self.steps_block(before, "Before the isolation", "step")
         parts += self.isolation_block()
         parts += self.proving_dead_block()
-        parts += self.steps_block([s for s in self.package.steps if not s.before_isolation],
-                                  "Work steps", "step")
-        for final in self.package.final_tests:
-            parts += self.final_test_block(final)
+        parts += self.work_steps_block([s for s in self.package.steps
+                                        if not s.before_isolation])
+        parts += self.final_tests_block(self.package.final_tests)
         parts += self.acceptance_block()
         parts += self.steps_block(self.package.restoration, "Restoration", "restore")
         parts += self.sign_off_block()
         return parts
+
+    # -- work steps, a search among them as a decision table and a tree
+    def work_steps_block(self, steps: Sequence[Step]) -> list[Flowable]:
+        if not any(s.decision is not None for s in steps):
+            return self.steps_block(steps, "Work steps", "step")
+        out: list[Flowable] = []
+        heading: Flowable | None = self.numbered("Work steps")
+        run: list[Step] = []
+        for step in [*steps, None]:
+            if step is not None and step.decision is not None:
+                run.append(step)
+                continue
+            if run:
+                out += self.search_table(run, heading)
+                heading, run = None, []
+            if step is not None:
+                if heading is not None:
+                    out += self.step_group([step], heading, "step", ())
+                    heading = None
+                else:
+                    out.append(KeepTogether(self.step_parts(step, "step")))
+        return out
+
+    def search_table(self, steps: Sequence[Step], heading: Flowable | None) -> list[Flowable]:
+        """The search as a decision table: one row per step, where each outcome leads;
+        then the same search drawn as a tree."""
+        first = steps[0].decision
+        assert first is not None
+        cell, bold = self.style["small"], self.style["small_bold"]
+        lead: list[Flowable] = [] if heading is None else [heading]
+        lead += [self.sub(f"Search: steps {steps[0].number} to {steps[-1].number}"),
+                 Paragraph(words(search_table_note(first.cleared, first.unchanged)),
+                           self.style["small"])]
+        rows: list[list[Any]] = [[
+            "", Paragraph("Step", self.style["head"]),
+            Paragraph("Open", self.style["head"]),
+            Paragraph("Clears: the ground is below what you opened", self.style["head"]),
+            Paragraph("Stays", self.style["head"])]]
+        not_found, board = "", ""
+        for step in steps:
+            d = step.decision
+            assert d is not None
+            opened: list[Flowable] = [Paragraph(f"<b>{words(', '.join(d.opens))}</b>", cell)]
+            opened += [Paragraph(words(text), cell) for text in d.first]
+            if d.board != board:  # the board, where it changes
+                opened.insert(0, Paragraph(f"on {words(d.board)}:", self.style["small"]))
+                board = d.board
+            outcomes = []
+            for goto in (d.on_clear, d.on_stay):
+                outcomes.append(Paragraph(words(goto_cell(goto)), bold if goto.kind != "step"
+                                          or goto.below else cell))
+                if goto.kind == "not_found":
+                    not_found = goto.text
+            rows.append([self.blank(Blank(("step", step.number, "done"),
+                                          f"step {step.number} done", tick=True)),
+                         Paragraph(str(step.number), self.style["step_no"]),
+                         opened, *outcomes])
+        table = Table(rows, colWidths=self.cols(9, 13, 82, 48, 30), repeatRows=1,
+                      repeat_when_cut=(1,))
+        table.setStyle(TableStyle([*GRID, *HEAD_ROW, *TIGHT]))
+        out: list[Flowable] = [KeepTogether([*lead, Spacer(1, 1 * mm)])]
+        out.append(table)
+        if not_found:
+            out.append(Paragraph(f"<b>Not found at this level:</b> "
+                                 f"{words(not_found[len('not found at this level: '):])}.",
+                                 self.style["small"]))
+        tree = search_tree(steps, self.width, FONT, FONT_BOLD)
+        if tree is not None:
+            legend = [Paragraph(words(n), self.style["small"]) for n in tree_legend()]
+            out += [KeepTogether([self.sub("The search as a tree"), *legend]),
+                    Spacer(1, 1.5 * mm), tree]
+        return out
+
+    # -- final tests of a search: one procedure, a table row for each circuit
+    def final_tests_block(self, finals: Sequence[FinalTest]) -> list[Flowable]:
+        """The final tests of every circuit the search can end at as one procedure with
+        one set of cautions, and a table of what differs from circuit to circuit; its
+        blanks are filled for the one circuit the search ends at (``forms.CHOSEN``)."""
+        if not finals:
+            return []
+        scope = ("final", CHOSEN)
+        seen: dict[tuple[str, str], Caution] = {}
+        for final in finals:
+            for caution in (*final.cautions, *(c for s in final.steps for c in s.cautions)):
+                seen.setdefault((caution.signal_word.value, caution.text), caution)
+        at = Table([[Paragraph("Final tests done on (id, e.g. F1)", self.style["head"]),
+                     self.blank(Blank(("final_at",), "final tests done on (id)",
+                                      width=30 * mm))]],
+                   colWidths=self.cols(60, 40), hAlign="LEFT")
+        at.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
+                                ("LEFTPADDING", (0, 0), (-1, -1), 0)]))
+        lead: list[Flowable] = [
+            self.numbered(FINAL_TESTS_TITLE),
+            Paragraph(f"<b>{words(final_tests_once(finals[0].id, finals[-1].id))}</b>",
+                      self.style["body"]), Spacer(1, 1.5 * mm), at, Spacer(1, 2 * mm)]
+        cautions = list(seen.values())
+        out: list[Flowable] = [KeepTogether([*lead, *self.cautions(cautions[:1])])]
+        out += self.cautions(cautions[1:])
+        out += self.final_tests_table(finals)
+        steps = {(kind, number): Step(number=number, text=FINAL_PROCEDURE_TEXT[name],
+                                      kind=_procedure_kind(name), check_only=True)
+                 for kind, number, name in FINAL_PROCEDURE}
+        out += self.step_group([steps[("step", 1)]], self.sub("Before the isolation"),
+                               "step", scope)
+        out += self.chosen_locks(max(len(f.isolation) for f in finals), scope)
+        out += self.chosen_proving_dead(finals, scope)
+        out += self.step_group([steps[("step", 2)], steps[("step", 3)]],
+                               self.sub("Tests"), "step", scope)
+        out.append(self.chosen_readings(finals, scope))
+        out += self.step_group([steps[("restore", n)] for n in range(1, 8)],
+                               self.sub("Restoration of the circuit"), "restore", scope)
+        return out
+
+    def final_tests_table(self, finals: Sequence[FinalTest]) -> list[Flowable]:
+        """One row per circuit: what to lock, where to prove dead, what to test against
+        which minimum (sources numbered under the table), how to energise it again."""
+        # the densest table of the package: the smallest print size, tight padding
+        cell = small = self.style["small"]
+        bold = self.style["small_bold"]
+        sources: dict[str, int] = {}
+        spans: list[tuple[Any, ...]] = []
+        rows: list[list[Any]] = [[Paragraph(t, self.style["head"]) for t in (
+            "Id: search ends at", "Lock and tag, in this order", "Prove dead at",
+            "Tests, each to earth: minimum", "Energise")]]
+        counted = Counter([*(p.voltage_v for f in finals for p in f.isolation),
+                           *(d.voltage_v for f in finals for d in f.proving_dead)])
+        usual = counted.most_common(1)[0][0] if counted else None
+
+        def volts(value: float | None) -> str:  # only where it differs from the usual
+            return "" if value == usual else f", {format_volts(value)}"
+
+        for final in finals:
+            ends: list[Flowable] = [Paragraph(f"<b>{words(final.id)}</b>: "
+                                              f"<b>{words(final.feeder)}</b>", cell)]
+            if final.vital_loads:
+                ends.append(Paragraph("vital: " + words(", ".join(final.vital_loads)), bold))
+            if final.disconnect:
+                ends.append(Paragraph("disconnect: " + words(", ".join(final.disconnect)),
+                                      bold))
+            locks = [Paragraph(f"{p.order} <b>{words(p.device)}</b>"
+                               + (f" ({words(p.location)})" if p.location else "")
+                               + words(volts(p.voltage_v))
+                               + (", already open" if p.already_open else ""), cell)
+                     for p in sorted(final.isolation, key=lambda p: p.order)]
+            dead = [Paragraph(f"{n} {words(p.where)}{words(volts(p.voltage_v))}", cell)
+                    for n, p in enumerate(final.proving_dead, start=1)]
+            tests = []
+            readings = [r for s in (*final.steps, *final.restoration) for r in s.readings]
+            for k, r in enumerate(readings, start=1):
+                limit = r.limit
+                text = f"T{k} {words(r.what.replace(' to earth at ', ' at '))}"
+                if limit is not None:
+                    ref = sources.setdefault(limit.basis, len(sources) + 1)
+                    at = (f" at {format_quantity(limit.temperature_corrected_to_c, '°C')}"
+                          if limit.temperature_corrected_to_c is not None else "")
+                    text += f": <b>{words(limit_text(limit, r.unit))}</b>{at} [{ref}]"
+                tests.append(Paragraph(text, cell))
+            energise = [_energise_words(s.text) for s in final.restoration
+                        if s.kind == "energise"]
+            rows.append([ends, locks, dead, tests,
+                         Paragraph(words(energise[0]) if energise else "", cell)])
+            # what only some circuits have goes on a line of its own across the row
+            notes = [f"<b>DANGER, no lock can cut:</b> {words(gap)}"
+                     for gap in final.isolation_gaps]
+            notes += [f"<b>Stored energy:</b> {words(item)}" for item in final.stored_energy]
+            notes += [f"<b>After energising:</b> {words(text)}" for text in energise[1:]]
+            if notes:
+                rows.append([Paragraph(f"{words(final.id)} also:", cell),
+                             Paragraph("<br/>".join(notes), cell), "", "", ""])
+                spans.append(("SPAN", (1, len(rows) - 1), (-1, len(rows) - 1)))
+        table = Table(rows, colWidths=self.cols(26, 40, 40, 54, 22), repeatRows=1,
+                      repeat_when_cut=(0,))
+        table.setStyle(TableStyle([*GRID, *HEAD_ROW, *TIGHT, *spans]))
+        notes = [Paragraph(f"[{n}] {words(basis)}", small)
+                 for basis, n in sorted(sources.items(), key=lambda kv: kv[1])]
+        lead = (f"Voltages are {format_volts(usual)} unless a row says otherwise. "
+                if usual is not None else "")
+        return [self.sub("The circuits"),
+                Paragraph(lead + "Numbers in square brackets: the source of that minimum, "
+                          "listed under the table.", small), Spacer(1, 1 * mm),
+                table, Spacer(1, 1 * mm),
+                Paragraph("Sources of the minimums", self.style["head"]), *notes]
+
+    def chosen_locks(self, count: int, scope: tuple[str, ...]) -> list[Flowable]:
+        """Lock rows for the circuit's devices, numbered as its row lists them."""
+        head = self.style["head"]
+
+        def box(*parts: str | int) -> Cell:
+            return self.blank(Blank((*scope, *parts), " ".join(str(p) for p in parts)))
+
+        rows: list[list[Any]] = [[Paragraph(t, head) for t in (
+            "#", "Lock no.", "Tag no.", "Locked by", "time", "Removed by", "time")]]
+        for n in range(1, count + 1):
+            rows.append([Paragraph(str(n), self.style["step_no"]),
+                         box("lock", n, "number"), box("tag", n, "number"),
+                         box("lock", n, "applied_by"), box("lock", n, "applied_at"),
+                         box("lock", n, "removed_by"), box("lock", n, "removed_at")])
+        table = Table(rows, colWidths=self.cols(8, 24, 24, 38, 20, 38, 20), repeatRows=1)
+        table.setStyle(TableStyle([*GRID, *HEAD_ROW, ("VALIGN", (0, 0), (-1, -1), "MIDDLE")]))
+        return [KeepTogether([
+            self.sub("Isolation: open, lock and tag the row's devices in its order"),
+            Paragraph("Row n here is the device numbered n in the circuit's row; leave the "
+                      "rows it does not have empty.", self.style["small"]), table])]
+
+    def chosen_proving_dead(self, finals: Sequence[FinalTest],
+                            scope: tuple[str, ...]) -> list[Flowable]:
+        """Proving dead at the circuit's places, numbered as its row lists them: one line
+        of boxes per place (more where it has more pairs), each box under its pair."""
+        per_row = 6
+        rows: list[list[Any]] = []
+        spans: list[tuple[Any, ...]] = []
+        for index in range(1, max(len(f.proving_dead) for f in finals) + 1):
+            pairs = list(dict.fromkeys(
+                pair for f in finals if len(f.proving_dead) >= index
+                for pair in f.proving_dead[index - 1].pairs))
+            first_row = len(rows)
+            for start in range(0, len(pairs), per_row):
+                chunk = pairs[start:start + per_row]
+                cells: list[Any] = [
+                    [Paragraph(words(pair), self.style["small_bold"]),
+                     self.blank(Blank((*scope, "dead", index, pair),
+                                      f"place {index}, {pair}: volts", suffix="V"))]
+                    for pair in chunk]
+                rows.append([Paragraph(str(index), self.style["step_no"]) if start == 0
+                             else "", *cells, *[""] * (per_row - len(chunk))])
+            if len(rows) - first_row > 1:
+                spans.append(("SPAN", (0, first_row), (0, len(rows) - 1)))
+        table = Table(rows, colWidths=self.cols(10, *[28.6] * per_row), repeat_when_cut=(0,))
+        table.setStyle(TableStyle([*GRID, *spans, ("TOPPADDING", (0, 0), (-1, -1), 0.8 * mm),
+                                   ("BOTTOMPADDING", (0, 0), (-1, -1), 1.2 * mm)]))
+        return [KeepTogether([
+            self.sub("Prove dead at the row's places"),
+            Paragraph("Place n is the place numbered n in the circuit's row, at the voltage "
+                      "it gives. Expect 0 V on every pair; leave the pairs and places the "
+                      "circuit does not have empty.", self.style["small"]),
+            self.tester_check("before", scope), Spacer(1, 1 * mm), table, Spacer(1, 1 * mm),
+            self.tester_check("after", scope)])]
+
+    def chosen_readings(self, finals: Sequence[FinalTest], scope: tuple[str, ...]) -> Table:
+        per_final = [[r for s in (*f.steps, *f.restoration) for r in s.readings]
+                     for f in finals]
+        head = self.style["head"]
+        rows: list[list[Any]] = [[Paragraph(t, head) for t in (
+            "Test of the row", "Measured", "Temperature (where the row's minimum is "
+            "corrected)")]]
+        for k in range(1, max(len(r) for r in per_final) + 1):
+            units = sorted({r[k - 1].unit for r in per_final if len(r) >= k})
+            unit = units[0] if len(units) == 1 else ""
+            rows.append([
+                Paragraph(f"<b>T{k}</b>" + ("" if unit else
+                                            f" (write the unit: {', '.join(units)})"),
+                          self.style["cell"]),
+                self.blank(Blank((*scope, "reading", f"T{k}"), f"test T{k}", suffix=unit)),
+                self.blank(Blank((*scope, "temperature", f"T{k}"), f"test T{k}: temperature",
+                                 suffix="°C"))])
+        table = Table(rows, colWidths=self.cols(60, 61, 61), repeatRows=1)
+        table.setStyle(TableStyle([*GRID, *HEAD_ROW, ("VALIGN", (0, 0), (-1, -1), "MIDDLE")]))
+        return table
 
     # -- final tests of a search: each a complete isolation of its own
     def final_test_block(self, final: FinalTest) -> list[Flowable]:
@@ -470,10 +752,16 @@ class PackagePdf(PdfDocument):
             heads.append("Temp.")
         heads.append("Instrument")
         rows: list[list[Any]] = [[Paragraph(t, self.style["head"]) for t in heads]]
+        above: dict[str, str] = {}  # a source printed in the row above: not again
+
+        def source(column: str, text: str) -> str:
+            said, above[column] = above.get(column), text
+            return "source as above" if said == text else text
+
         for r in readings:
             expected: list[Flowable] = [Paragraph(words(expected_text(r)), cell)]
             if r.basis:
-                expected.append(Paragraph(words(r.basis), small))
+                expected.append(Paragraph(words(source("expected", r.basis)), small))
             limit: list[Flowable] = []
             if r.limit is not None:
                 limit.append(Paragraph(f"<b>{words(limit_text(r.limit, r.unit))}</b>", cell))
@@ -481,7 +769,7 @@ class PackagePdf(PdfDocument):
                     limit.append(Paragraph(
                         "temperature corrected to "
                         f"{format_quantity(r.limit.temperature_corrected_to_c, '°C')}", cell))
-                limit.append(Paragraph(words(r.limit.basis), small))
+                limit.append(Paragraph(words(source("limit", r.limit.basis)), small))
                 if not r.acceptance:
                     limit.append(Paragraph("<b>As found: recorded, not judged.</b>", cell))
             else:
@@ -608,6 +896,18 @@ class PackagePdf(PdfDocument):
         table.setStyle(TableStyle([*GRID, ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
                                    ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
         return [KeepTogether([self.numbered("Sign-off"), table])]
+
+
+def _procedure_kind(name: str) -> StepKind:
+    """The step kind a printed procedure step is drawn as (a gate gets its box)."""
+    return "gate" if name == "gate" else "work"
+
+
+def _energise_words(text: str) -> str:
+    """An energise step's action, without the lead every row shares (the procedure
+    says it once)."""
+    marker = "from its normal supply: "
+    return text[text.index(marker) + len(marker):] if marker in text else text
 
 
 def render_package(package: WorkPackage, page_size: PageSize = "A4") -> bytes:
