@@ -64,9 +64,9 @@ def __getattr__(name: str) -> Any:
     raise AttributeError(f"module 'workpack.store' has no attribute {name!r}")
 
 __all__ = [
-    "EVENT_KINDS",
     "ChainBreak",
     "ChainHead",
+    "EVENT_KINDS",
     "GENESIS",
     "JobEvent",
     "NewEvent",
