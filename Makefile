@@ -45,7 +45,8 @@ coverage: $(STAMP)
 # Every bench with a target runs, even after one misses, then the run fails if any did.
 # bench_scale.py here stops at 10,000 items; bench-scale adds 50,000 (the issue's slope).
 BENCHES := bench/bench_startup.py bench/bench_plan.py bench/bench_render.py bench/bench_scale.py \
-	bench/bench_locate.py bench/bench_search.py bench/bench_diagnose.py bench/bench_store.py
+	bench/bench_locate.py bench/bench_search.py bench/bench_diagnose.py bench/bench_store.py \
+	bench/bench_week.py
 
 bench: $(STAMP)
 	@failed=""; for script in $(BENCHES); do echo "== $$script"; \

@@ -63,7 +63,7 @@ def plant_with_feeders(feeders: int, seed: int = 500) -> Plant:
                     ["important", "non_essential"]),
                 "environment": rng.sample(environments, rng.randint(0, 2))})
     return Plant.model_validate({
-        "plant": {"name": "500 feeders", "kind": "other", "frequency": 60},
+        "plant": {"code": "GEN", "name": "500 feeders", "kind": "other", "frequency": 60},
         "sources": [{"id": "G1", "kind": "generator", "voltage": 440}],
         "buses": buses, "devices": devices, "cables": cables, "loads": loads})
 

@@ -43,7 +43,7 @@ def scale_plant_data(size: int, seed: int = 2026) -> dict[str, Any]:
     """
     units = max(1, -(-int(size * 0.7) // UNIT_ITEMS))
     data: dict[str, Any] = {
-        "plant": {"name": f"generated {size}", "kind": "other", "frequency": 60},
+        "plant": {"code": "GEN", "name": f"generated {size}", "kind": "other", "frequency": 60},
         "sources": [{"id": "GRID", "kind": "utility", "voltage": 440}],
         "buses": [{"id": "SITE", "kind": "switchboard", "voltage": 440,
                    "earthing": "insulated", "from": "CB-GRID"}],

@@ -167,7 +167,7 @@ def random_plant_data(seed: int, size: int = 40) -> dict[str, Any]:
             loads.append({"id": new_id("H"), "kind": "heater", "from": feed,
                           "rated_voltage": 115})
     return {
-        "plant": {"name": f"generated {seed}", "kind": "other", "frequency": 60},
+        "plant": {"code": "GEN", "name": f"generated {seed}", "kind": "other", "frequency": 60},
         "sources": sources, "buses": buses, "devices": devices,
         "transformers": transformers, "cables": cables, "loads": loads,
     }
@@ -294,7 +294,8 @@ def shaped_plant_data(shape: str, size: int) -> dict[str, Any]:
                 entry["auxiliaries"] = [{"kind": "anti_condensation_heater",
                                          "from": breaker(f"CB-H{number}", "LP1")}]
     return {
-        "plant": {"name": f"generated {shape} {size}", "kind": "other", "frequency": 60},
+        "plant": {"code": "GEN", "name": f"generated {shape} {size}", "kind": "other",
+                  "frequency": 60},
         "sources": sources, "buses": buses, "devices": devices,
         "transformers": transformers, "cables": cables, "loads": loads,
     }

@@ -119,7 +119,7 @@ def scenario(seed: int, ground: bool) -> tuple[dict[str, Any], dict[str, Any]]:
     if with_cable:
         rng.choice(with_cable)["routine"] = routine_ir
     plant = {
-        "plant": {"name": f"scenario {seed}", "kind": "other", "frequency": 60},
+        "plant": {"code": "GEN", "name": f"scenario {seed}", "kind": "other", "frequency": 60},
         "sources": sources, "buses": buses, "devices": devices,
         "transformers": transformers, "cables": cables, "loads": loads,
     }

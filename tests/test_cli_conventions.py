@@ -331,7 +331,7 @@ def test_a_store_named_by_a_setting_need_not_exist_yet_but_one_typed_must(
     missing = str(tmp_path / "none.sqlite")
     args = parsed(plan_args(places), {"WORKPACK_DB": missing,
                                       "XDG_CONFIG_HOME": str(places["config"])})
-    assert args.db == missing and _history(args, plant) == History()
+    assert args.db == missing and _history(args, plant) == (History(), None)
     args = parsed(plan_args(places, "--db", missing), {})
     with pytest.raises(UsageError, match="no such records store"):
         _history(args, plant)

@@ -9,7 +9,7 @@ from workpack.loading import load_plant_text
 
 
 def test_collector_is_back_on_after_a_plant_loads_or_fails() -> None:
-    text = ("plant: {name: test, kind: vessel, frequency: 60 Hz}\n"
+    text = ("plant: {code: FX, name: test, kind: vessel, frequency: 60 Hz}\n"
             "sources:\n  - {id: G1, kind: generator, voltage: 440 V}\n"
             "buses:\n  - {id: MSB, kind: switchboard, voltage: 440 V, earthing: insulated,"
             " from: G1}\n")

@@ -422,7 +422,7 @@ def test_megger_reading_far_from_40_c_asks_for_a_retest(demo_vessel, standards) 
 
 
 SMALL_PLANT = """\
-plant: {name: test plant, kind: vessel, frequency: 60 Hz}
+plant: {code: FX, name: test plant, kind: vessel, frequency: 60 Hz}
 sources:
   - {id: G1, kind: generator, voltage: 440 V}
 devices:

@@ -57,7 +57,8 @@ def drawn(name: str, paper: str) -> tuple[Plant, Topology, OneLineDrawing]:
 
 
 def _plant(**sections: object) -> dict[str, object]:
-    return {"plant": {"name": "hand-made", "kind": "other", "frequency": 50}, **sections}
+    return {"plant": {"code": "HM", "name": "hand-made", "kind": "other", "frequency": 50},
+            **sections}
 
 
 HAND_MADE = {

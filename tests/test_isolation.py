@@ -228,7 +228,7 @@ def test_same_plant_gives_the_same_plan() -> None:
 
 
 PLANT_HEAD = """
-plant: {name: test, kind: vessel, frequency: 60 Hz}
+plant: {code: FX, name: test, kind: vessel, frequency: 60 Hz}
 """
 
 

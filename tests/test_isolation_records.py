@@ -13,6 +13,7 @@ from pathlib import Path
 
 import pytest
 from conftest import ROOT
+from lockfill import fill_locks, not_removed
 from pypdf import PdfReader
 
 from workpack.cli import main
@@ -60,9 +61,7 @@ def fill(package: Path, tmp_path: Path, *, leave_blank: str | None = None) -> Pa
     text = text.replace("completed_on:            # YYYY-MM-DD", "completed_on: 2026-12-02")
     text = text.replace("tester_proven_before: false", "tester_proven_before: true")
     text = text.replace("tester_proven_after: false", "tester_proven_after: true")
-    for field, value in (("lock", "L-1"), ("tag", "T-1"), ("applied_by", "A. Tester"),
-                         ("removed_by", "A. Tester")):
-        text = re.sub(rf"    {field}:\n", f"    {field}: {value}\n", text)
+    text = fill_locks(text, "A. Tester")
     text = re.sub(r'(    "[^"]+":)\n', r"\1 0\n", text)  # every proving-dead pair: 0 V
     if leave_blank:
         text = text.replace(f'    "{leave_blank}": 0\n', f'    "{leave_blank}":\n')
@@ -103,15 +102,13 @@ def test_block_lock_is_recorded_and_judged_like_a_breaker_lock(issued, tmp_path,
     assert "PASSED" in capsys.readouterr().out
     sheet = fill(package, tmp_path)
     text = sheet.read_text(encoding="utf-8")
-    block = text.index("  UPS1-OUT:")
-    text = text[:block] + text[block:].replace("    removed_by: A. Tester\n",
-                                               "    removed_by:\n", 1)
+    text = not_removed(text, "UPS1-OUT")
     sheet.write_text(text, encoding="utf-8")
     assert main(["record", str(package), str(sheet), "--db", str(tmp_path / "b.sqlite"),
                  "--at", AT]) == 1  # recorded, and found wanting
     out = capsys.readouterr().out
     assert "FAILED" in out
-    assert "UPS1-OUT: lock L-1 applied by A. Tester was never recorded as removed" in out
+    assert "UPS1-OUT: lock L-02 applied by A. Tester was never recorded as removed" in out
 
 
 def test_four_wire_pairs_are_in_the_sheet_the_pdf_and_the_judgement(issued, tmp_path,

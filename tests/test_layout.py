@@ -162,8 +162,8 @@ def test_the_check_sees_a_broken_id_and_an_overflow(vocabulary: tuple[set[str], 
 
     class Narrow(PdfDocument):
         def story(self) -> list[Any]:
-            table = Table([[Paragraph("WP-20261202-03", self.style["cell"]), "x"],
-                           ["WP-20261202-03 WP-20261202-03", "y"]],  # a bare string
+            table = Table([[Paragraph("WP-SKL-20261202-03", self.style["cell"]), "x"],
+                           ["WP-SKL-20261202-03 WP-SKL-20261202-03", "y"]],  # a bare string
                           # never wraps: it runs on past its cell
                           colWidths=[16 * mm, 20 * mm])
             table.setStyle(TableStyle(GRID))

@@ -8,7 +8,7 @@ from workpack.errors import InputError
 from workpack.loading import load_findings_text, load_plant_text
 
 PLANT = """\
-plant: {name: Fixture works, kind: industrial_site, frequency: 50 Hz}
+plant: {code: FX, name: Fixture works, kind: industrial_site, frequency: 50 Hz}
 sources:
   - {id: UT1, kind: utility, voltage: 440 V}
 buses:

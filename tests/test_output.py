@@ -45,7 +45,7 @@ def two_days(tmp_path_factory, demo_plan: Path) -> Path:
 def test_a_second_days_plan_keeps_the_first_days_packages(two_days) -> None:
     """Issue 10.1: the second plan deleted all 23 files of the first day."""
     for day in ("20261202", "20261203"):
-        names = [p.name for p in two_days.glob(f"WP-{day}-*")]
+        names = [p.name for p in two_days.glob(f"WP-SKL-{day}-*")]
         assert len(names) >= 2 and len(names) % 2 == 0, names  # PDF and JSON twin each
     assert (two_days / "day-2026-12-02.pdf").exists()
     assert (two_days / "day-2026-12-03.pdf").exists()

@@ -17,6 +17,7 @@ from workpack.loading import (
 )
 from workpack.model.package import SignalWord, WorkPackage
 from workpack.plan import DayPlan, plan_day
+from workpack.plan.carry import Carried, IssuedIds
 from workpack.topology import Topology
 
 DAY = dt.date(2026, 12, 2)
@@ -314,3 +315,28 @@ def test_every_finding_of_a_merged_job_reaches_its_package(demo_vessel, ruleset,
     # priority 1 by the rule ("1 if diagnosis.severity == 'urgent'"), whichever came first.
     search = package(plan, "locate-ground")
     assert search.origin.findings == ("F1", "F2") and search.priority == 1
+
+
+def test_a_job_carried_from_an_earlier_day_returns_above_new_routine_work(
+        demo_vessel, ruleset, standards, weights, demo: DayPlan) -> None:
+    """Issue 12.3: within a priority, a routine job planned before and not done comes
+    before new routine work, and a job begun (locks on) comes before everything."""
+    findings = load_findings(ROOT / "plants" / "demo-vessel-findings.yaml", demo_vessel)
+    inspection, survey = package(demo, "bank-inspection"), package(
+        demo, "periodic-insulation-survey", "SG-1")
+    assert (inspection.priority, survey.priority) == (4, 4)
+    order = [p.id for p in demo.packages]
+    assert order.index(inspection.id) < order.index(survey.id)  # shorter first
+    keys = demo.keys
+    windlass = package(demo, "low-insulation", "WL-1")
+    carried = Carried(issued=IssuedIds(open={keys[survey.id]: "WP-SKL-20261201-05",
+                                             keys[windlass.id]: "WP-SKL-20261201-02"}),
+                      returning=frozenset({keys[survey.id], keys[windlass.id]}),
+                      held=frozenset({keys[windlass.id]}))
+    again = plan_day(demo_vessel, findings, DAY, ruleset, standards, weights, 200.0,
+                     carried=carried)
+    ids = [p.id for p in again.packages]
+    assert ids[0] == "WP-SKL-20261201-02"  # begun: first, under its own id
+    by_rule = {(p.origin.rule, p.item): p.id for p in again.packages}
+    assert ids.index("WP-SKL-20261201-05") < ids.index(by_rule["bank-inspection", "T1"])
+    assert len(set(ids)) == len(ids) and "WP-SKL-20261202-01" in ids

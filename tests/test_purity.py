@@ -24,7 +24,8 @@ CORE = [
     "workpack.forms", "workpack.restoration", "workpack.evaluate", "workpack.records",
     "workpack.history", "workpack.audit", "workpack.store._chain", "workpack.crew",
     "workpack.signing", "workpack.quick_diagnose", "workpack.reports", "workpack.anchors",
-    "workpack.rejudge", "workpack.record_signatures", "workpack.sync",
+    "workpack.rejudge", "workpack.record_signatures", "workpack.sync", "workpack.lockregister",
+    "workpack.competence", "workpack.recordchecks", "workpack.joblog", "workpack.store._events",
 ]
 # Core modules nearly every other imports, loaded once before the checks to keep them
 # fast. Sound: the checker fails if these (with the libraries) load anything forbidden.

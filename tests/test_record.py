@@ -8,6 +8,7 @@ from pathlib import Path
 
 import pytest
 from conftest import ROOT
+from lockfill import fill_locks
 from pypdf import PdfReader, PdfWriter
 
 from workpack.cli import main
@@ -57,10 +58,7 @@ def filled_sheet(package: Path, tmp_path: Path, *, dry_out_mohm: str = "40 MΩ",
     text = text.replace("completed_on:            # YYYY-MM-DD", "completed_on: 2026-12-02")
     text = text.replace("tester_proven_before: false", "tester_proven_before: true")
     text = text.replace("tester_proven_after: false", "tester_proven_after: true")
-    for field, value in (("lock", "L-07"), ("tag", "T-07"), ("applied_by", "S. Quayle")):
-        text = re.sub(rf"    {field}:\n", f"    {field}: {value}\n", text)
-    if removed:
-        text = re.sub(r"    removed_by:\n", "    removed_by: S. Quayle\n", text)
+    text = fill_locks(text, "S. Quayle", first=7, removed=removed)
     text = re.sub(r'(    "[A-C12]-[A-CE12]":)\n', r"\1 0\n", text)
     text = text.replace("{done: false}", "{done: true}")
     text = re.sub(rf"(  {at['found']}\.R\d:.*\n)    value:\n    temperature:.*\n",
@@ -114,7 +112,7 @@ def test_a_lock_applied_and_never_removed_fails_the_job(packages, tmp_path, caps
                  "--db", str(tmp_path / "r.sqlite"), "--at", AT]) == 1
     out = capsys.readouterr().out
     assert "FAILED" in out
-    assert "CB-WL1: lock L-07 applied by S. Quayle was never recorded as removed" in out
+    assert "CB-WL1: lock L-08 applied by S. Quayle was never recorded as removed" in out
 
 
 def test_filled_pdf_gives_the_same_record_as_the_yaml_sheet(packages, tmp_path) -> None:
@@ -127,12 +125,14 @@ def test_filled_pdf_gives_the_same_record_as_the_yaml_sheet(packages, tmp_path) 
     values: dict[str, str] = {field_name("sign", "technician"): "S. Quayle",
                               field_name("sign", "supervisor"): "R. Tamsin",
                               field_name("sign", "date"): "2026-12-02"}
-    for point in data["isolation"]:
+    for number, point in enumerate(data["isolation"], start=7):
         device = point["device"]
-        values |= {field_name("lock", device, "number"): "L-07",
-                   field_name("tag", device, "number"): "T-07",
+        values |= {field_name("lock", device, "number"): f"L-{number:02d}",
+                   field_name("tag", device, "number"): f"T-{number:02d}",
                    field_name("lock", device, "applied_by"): "S. Quayle",
-                   field_name("lock", device, "removed_by"): "S. Quayle"}
+                   field_name("lock", device, "applied_at"): "2026-12-02 08:15",
+                   field_name("lock", device, "removed_by"): "S. Quayle",
+                   field_name("lock", device, "removed_at"): "2026-12-02 15:30"}
     for index, point in enumerate(data["proving_dead"], start=1):
         values |= {field_name("dead", index, pair): "0" for pair in point["pairs"]}
     at = numbers(package)
@@ -149,6 +149,9 @@ def test_filled_pdf_gives_the_same_record_as_the_yaml_sheet(packages, tmp_path) 
     for step in data["restoration"]:
         for reading in step["readings"]:
             values[field_name("reading", reading["id"])] = "253"
+    # Each reading names the instrument it was taken with, in its own field.
+    values |= {field_name("instrument", name.split(":", 1)[1].replace("%2E", ".")): "IT-03"
+               for name in list(values) if name.startswith("reading:")}
     writer = PdfWriter(clone_from=PdfReader(package.with_suffix(".pdf")))
     for page in writer.pages:
         writer.update_page_form_field_values(page, values, auto_regenerate=False)
@@ -165,13 +168,17 @@ def test_filled_pdf_gives_the_same_record_as_the_yaml_sheet(packages, tmp_path) 
                                read_payload(b.get(1)).evaluation)
     assert from_pdf.verdict == from_yaml.verdict == "passed"
     assert from_pdf.readings == from_yaml.readings
+    with open_store(pdf_db, create=False) as b:
+        entered = read_payload(b.get(1)).results.readings
+    assert {m.instrument for m in entered.values()} == {"IT-03"}
 
 
 @pytest.mark.parametrize(("change", "expected"), [
     (("package: WP-", "package: XX-"), r":5:10: package: these results answer 'XX-"),
     (("    value: 253\n", "    value: 253 kΩ\n"),
      r"readings\.X\d+\.R1\.value: 'kΩ' is not a unit of voltage"),
-    (("S3.R1:", "S3.R9:"), r"readings\.S3\.R9: no reading 'S3\.R9' in WP-\d+-\d+ \(did you mean"),
+    (("S3.R1:", "S3.R9:"),
+     r"readings\.S3\.R9: no reading 'S3\.R9' in WP-SKL-\d+-\d+ \(did you mean"),
     (("completed_on: 2026-12-02", "completed_on: 2026-13-02"),
      r":9:15: YAML: '2026-13-02' is not a real date"),
     (("  CB-WL1:", "  CB-WL9:"), r"isolation\.CB-WL9: 'CB-WL9' is not an isolation point"),

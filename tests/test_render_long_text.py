@@ -167,9 +167,9 @@ def record(issued: Path, tmp_path: Path, package_id: str, *, remarks: str | None
 
 def test_long_remarks_in_a_closeout(issued: Path, tmp_path: Path, capsys: Any) -> None:
     remarks = numbered("rmk", 700)
-    db = record(issued, tmp_path, "WP-20261202-01", remarks=remarks)
+    db = record(issued, tmp_path, "WP-SKL-20261202-01", remarks=remarks)
     out = tmp_path / "closeout.pdf"
-    assert main(["closeout", str(issued / "WP-20261202-01.json"), "--db", str(db),
+    assert main(["closeout", str(issued / "WP-SKL-20261202-01.json"), "--db", str(db),
                  "--out", str(out)]) == 0
     assert set(remarks.split()) <= pdf_words(out)
     assert not text_past_the_edge(out)
@@ -177,7 +177,7 @@ def test_long_remarks_in_a_closeout(issued: Path, tmp_path: Path, capsys: Any) -
 
 def test_a_record_with_a_very_long_name(issued: Path, tmp_path: Path, capsys: Any) -> None:
     name = "Quayle" * 300  # one unbroken word of 1,800 characters
-    db = record(issued, tmp_path, "WP-20261202-02", by=name)
+    db = record(issued, tmp_path, "WP-SKL-20261202-02", by=name)
     audit = tmp_path / "audit"
     assert main(["audit", "--packages", str(issued), "--db", str(db), "--out", str(audit),
                  "--as-of", "2026-12-03"]) == 0
@@ -189,7 +189,7 @@ def test_a_record_with_a_very_long_name(issued: Path, tmp_path: Path, capsys: An
     assert "".join(pdf_text(pdf).split()).count("Quayle") >= 300 - 2 * pages
     assert not text_past_the_edge(pdf)
     closeout = tmp_path / "closeout.pdf"
-    assert main(["closeout", str(issued / "WP-20261202-02.json"), "--db", str(db),
+    assert main(["closeout", str(issued / "WP-SKL-20261202-02.json"), "--db", str(db),
                  "--out", str(closeout)]) == 0
     first_page = "".join(PdfReader(closeout).pages[0].extract_text().split())
     assert name in first_page  # in full among the record's facts

@@ -70,7 +70,7 @@ def expected_field_names(package: WorkPackage) -> set[str]:
              "sign:date", "remarks"}
     for reading in package.readings():
         rid = reading.id.replace(".", "%2E")
-        names.add(f"reading:{rid}")
+        names |= {f"reading:{rid}", f"instrument:{rid}"}
         if reading.needs_temperature:
             names.add(f"temperature:{rid}")
     names |= {f"step:{step.number}:done" for step in package.steps}

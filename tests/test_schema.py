@@ -79,9 +79,10 @@ def test_the_schemas_are_package_data() -> None:
 
 @pytest.mark.parametrize(("argv", "message"), [
     (["schema"], "schema: name one file (plant, findings, results, rules, cautions, "
-                 "search-weights, asset-map, crew) or give --all\n"),
+                 "search-weights, asset-map, crew, instruments) or give --all\n"),
     (["schema", "plant", "--all", "--out", "x"], "schema: name one file (plant, findings, "
-     "results, rules, cautions, search-weights, asset-map, crew) or give --all\n"),
+     "results, rules, cautions, search-weights, asset-map, crew, instruments) or give "
+     "--all\n"),
     (["schema", "--all"], "schema --all writes one file per schema: give --out DIR\n"),
 ])
 def test_schema_usage_mistakes_are_one_line(argv: list[str], message: str, capsys) -> None:
@@ -312,6 +313,8 @@ def schema_name_of(path: Path) -> str:
         return "findings"
     if path.name.endswith("-crew.yaml"):
         return "crew"
+    if path.name.endswith("-instruments.yaml"):
+        return "instruments"
     return "asset-map" if path.name == "asset-map.yaml" else "plant"
 
 

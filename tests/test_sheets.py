@@ -49,7 +49,7 @@ TESTS = [["Tag", "Test", "Interval", "Last done"],
          ["SWB", "detector_test", "1 month", dt.datetime(2026, 11, 2)]]
 
 MAP = """\
-plant: {name: Demo Tug Harrow (invented), kind: vessel, frequency: 60 Hz}
+plant: {code: FX, name: Demo Tug Harrow (invented), kind: vessel, frequency: 60 Hz}
 sheets:
   - sheet: Supply
     section: sources
@@ -283,7 +283,7 @@ def test_a_map_with_a_misspelled_key_is_located(tmp_path, capsys) -> None:
 # --- one sheet of mixed assets, and CSV -----------------------------------------------------
 
 MIXED_MAP = """\
-plant: {name: Demo Pump House (invented), kind: industrial_site, frequency: 50 Hz}
+plant: {code: FX, name: Demo Pump House (invented), kind: industrial_site, frequency: 50 Hz}
 sheets:
   - sections_by:
       column: Type

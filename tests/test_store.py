@@ -9,6 +9,7 @@ names and times are invented.
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as dt
 import itertools
 import shutil
@@ -23,6 +24,7 @@ from samplepackage import sample_package
 from workpack.errors import WorkpackError
 from workpack.store import (
     ChainHead,
+    NewEvent,
     NoSuchRecordError,
     NotAStoreError,
     RecordRefusedError,
@@ -439,3 +441,82 @@ def test_a_store_locked_too_long_is_a_user_error(tmp_path: Path) -> None:
             holder.execute("ROLLBACK")
             holder.close()
         assert add(store).sequence == 2
+
+
+# --- job events --------------------------------------------------------------------------
+
+
+def event(package_id: str = "WP-TST-20261202-01", kind: str = "planned", *,
+          minutes: int = 0, detail: dict[str, Any] | None = None) -> NewEvent:
+    return NewEvent(package_id, f"rule|item:{package_id}", kind, T0.date(),
+                    T0 + dt.timedelta(minutes=minutes), "A. Lindqvist",
+                    {"item": "WL-1"} if detail is None else detail)
+
+
+def test_job_events_are_numbered_chained_and_read_back(store: RecordStore) -> None:
+    """Events run 1, 2, 3… in one batch or many; each comes back as written."""
+    written = store.append_events([event(), event("WP-TST-20261202-02")])
+    written += store.append_events([event(kind="suspended", minutes=5,
+                                          detail={"locks": [{"device": "CB-WL1"}]})])
+    assert [e.sequence for e in written] == [1, 2, 3]
+    back = list(store.events())
+    assert back == written
+    assert back[2].detail == {"locks": [{"device": "CB-WL1"}]}
+    assert back[2].at == T0 + dt.timedelta(minutes=5) and back[2].day == T0.date()
+    assert [e.sequence for e in store.events(package_id="WP-TST-20261202-01")] == [1, 3]
+    assert store.verify_events() == []
+
+
+def test_job_events_of_one_plant_are_not_another_plants(opener: Opener) -> None:
+    with opener() as store:
+        store.append_events([event()])
+    with opener() as again:
+        assert [e.kind for e in again.events()] == ["planned"]
+
+
+def test_a_store_without_events_reads_none_and_keeps_its_records(store: RecordStore) -> None:
+    add(store)
+    assert list(store.events()) == [] and store.verify_events() == []
+    store.append_events([event()])
+    assert store.verify().ok and store.verify().count == 1
+
+
+@pytest.mark.parametrize(("bad", "words"), [
+    ({"kind": "finished"}, "kind 'finished' is not one of"),
+    ({"by": " "}, "by is empty"),
+    ({"detail": {"x": float("nan")}}, "detail"),
+])
+def test_a_bad_event_is_refused_and_nothing_of_its_batch_is_written(
+        store: RecordStore, bad: dict[str, Any], words: str) -> None:
+    good = event()
+    wrong = dataclasses.replace(good, **bad)
+    with pytest.raises(RecordRefusedError, match=words):
+        store.append_events([good, wrong])
+    assert list(store.events()) == []
+
+
+def test_sqlite_job_events_are_append_only_in_the_file(tmp_path: Path) -> None:
+    """The database itself refuses UPDATE, DELETE and an out-of-order INSERT of events,
+    and verify_events names an event changed with the guards off."""
+    path = tmp_path / "records.sqlite"
+    with SQLiteStore(path) as store:
+        store.append_events([event(), event(kind="started", minutes=1)])
+    raw = sqlite3.connect(path)
+    try:
+        with pytest.raises(sqlite3.IntegrityError, match="append-only: UPDATE refused"):
+            raw.execute("UPDATE job_events SET kind = 'cancelled' WHERE sequence = 1")
+        with pytest.raises(sqlite3.IntegrityError, match="append-only: DELETE refused"):
+            raw.execute("DELETE FROM job_events WHERE sequence = 2")
+        row = list(raw.execute("SELECT * FROM job_events WHERE sequence = 2").fetchone())
+        row[0] = 9
+        with pytest.raises(sqlite3.IntegrityError, match="only the next event"):
+            raw.execute(f"INSERT INTO job_events VALUES ({', '.join('?' * len(row))})", row)
+        raw.execute("DROP TRIGGER job_events_no_update")
+        raw.execute("UPDATE job_events SET by = 'someone else' WHERE sequence = 1")
+        raw.commit()
+    finally:
+        raw.close()
+    with SQLiteStore(path) as store:
+        problems = store.verify_events()
+    assert "job event 1 (WP-TST-20261202-01, planned) was changed" in problems[0]
+    assert "guards are missing or changed" in problems[-1]

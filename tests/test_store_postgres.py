@@ -23,6 +23,7 @@ from test_store_chain import reference_chain_hash
 from workpack.cli import main
 from workpack.store import (
     GENESIS,
+    NewEvent,
     NotAStoreError,
     RecordStore,
     StoreError,
@@ -465,3 +466,24 @@ def test_the_commands_work_with_an_office_store(pg_server: PgServer, pg_fresh_ur
     assert main(["store", "init", pg_fresh_url, "--crew", "ghost=MV Skerry Lantern"]) == 2
     err = capsys.readouterr().err
     assert "there is no database role 'ghost'" in err and err.count("\n") == 1
+
+
+@pytest.mark.parametrize(("statement", "words"), [
+    ("UPDATE workpack.job_events SET kind = 'cancelled'",
+     "append-only: UPDATE on job_events refused"),
+    ("DELETE FROM workpack.job_events", "append-only: DELETE on job_events refused"),
+    ("TRUNCATE workpack.job_events", "append-only: TRUNCATE on job_events refused"),
+    ("INSERT INTO workpack.job_events SELECT plant, sequence + 5, package_id, job_key, kind, "
+     "day, at, by, detail_json, prev_sha256, chain_sha256 FROM workpack.job_events",
+     "only the next event of the chain"),
+])
+def test_job_events_are_append_only_even_to_the_owner(pg_fresh_url: str, statement: str,
+                                                      words: str) -> None:
+    with open_store(pg_fresh_url, plant="MV Aster") as store:
+        store.append_events([NewEvent("WP-AST-20261202-01", "k", "planned",
+                                      dt.date(2026, 12, 2),
+                                      dt.datetime(2026, 12, 2, 8, tzinfo=dt.UTC), "A", {})])
+    with pytest.raises(psycopg.errors.RaiseException, match=words):
+        sql(pg_fresh_url, statement)
+    with open_store(pg_fresh_url, plant="MV Aster") as store:
+        assert store.verify_events() == [] and len(list(store.events())) == 1

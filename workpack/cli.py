@@ -17,7 +17,7 @@ from pathlib import Path
 from typing import Any, NamedTuple, TypeVar
 
 from workpack import __version__
-from workpack.errors import UsageError, WorkpackError, did_you_mean
+from workpack.errors import InputError, UsageError, WorkpackError, did_you_mean
 from workpack.progress import Progress
 from workpack.shipped import asset_map, rules_folder
 
@@ -265,9 +265,10 @@ def _cmd_locate(args: argparse.Namespace) -> int:
 
 
 def _cmd_plan(args: argparse.Namespace) -> int:
+    from workpack.joblog import carry_forward, left_out, plan_events, with_carried
     from workpack.loading import load_findings, load_plant, load_ruleset, load_weights
     from workpack.output import reading, write_all
-    from workpack.plan import plan_day
+    from workpack.plan import Conflict, plan_day
     from workpack.render.daysheet import render_day_sheet
     from workpack.render.pdf import render_package
     from workpack.render.text import day_plan
@@ -280,15 +281,36 @@ def _cmd_plan(args: argparse.Namespace) -> int:
     rules = Path(args.rules)
     ruleset = load_ruleset(rules)
     weights = load_weights(rules / "search-weights.yaml")
-    history = _history(args, plant)
+    history, jobs = _history(args, plant)
     out = Path(args.out)
     replaces = _earlier_plan(day, plant.plant.name, _default_db(args))
     if out.is_dir():  # refuse before the work, not after it; write_all asks again, locked
         with reading(out):
             replaces(out)
+    register = _plan_crew(args, plant.plant.name)
+    crew_hours = args.crew_hours
+    if register is not None and getattr(args, "setting_sources", {}).get(
+            "crew_hours") == "the built-in default":
+        from workpack.plan.crewing import available_hours
+
+        crew_hours = available_hours(register, day)  # the register's, not the default's
+    carry = carry_forward(jobs or {}, day)
+    notes: tuple[str, ...] = ()
+    if carry.findings:
+        places = set(topology.elements) | {b.detector.id for b in plant.buses if b.detector}
+        findings, notes = with_carried(findings, carry.findings, places)
     with Progress("planning") as planning:
         result = plan_day(topology, findings, day, ruleset, _standards(), weights,
-                          args.crew_hours, history=history, progress=planning)
+                          crew_hours, history=history, progress=planning,
+                          carried=carry.carried)
+    notes += left_out(carry, result)
+    if notes:
+        result = dataclasses.replace(result, conflicts=(
+            *result.conflicts, *(Conflict((), note) for note in notes)))
+    if register is not None:
+        from workpack.plan.crewing import staff_day
+
+        result = staff_day(result, register)
     files: dict[str, bytes] = {}
     with Progress("rendering", total=len(result.packages)) as rendering:
         for done, package in enumerate(result.packages, start=1):
@@ -299,7 +321,24 @@ def _cmd_plan(args: argparse.Namespace) -> int:
         result.plant, day, result.packages, result.scheduled, result.deferred,
         [c.text for c in result.conflicts], result.crew_hours, args.page_size,
         chain_head=_chain_head(args, plant))
+    _refuse_other_days(out, day, result.packages)
     written = write_all(out, files, replaces=replaces)
+    recorded = ""
+    if jobs is not None:
+        from workpack.store import ReadOnlyError, open_store
+
+        events = plan_events(result, carry, findings, args.at or dt.datetime.now(dt.UTC),
+                             args.by)
+        with open_store(_default_db(args), plant=plant.plant.name) as store:
+            try:
+                store.append_events(events)
+                recorded = f"{len(events)} job events recorded in {store.location}\n"
+            except ReadOnlyError as exc:  # an office auditor may plan, not issue
+                recorded = (f"NOTE: the plan's jobs were not recorded ({exc}); their ids "
+                            "are not reserved: plan with a role that may write to issue "
+                            "them\n")
+                if args.json:
+                    sys.stderr.write(recorded)
     if args.json:
         from workpack.reports import PlannedPackage, PlanReport
 
@@ -312,23 +351,43 @@ def _cmd_plan(args: argparse.Namespace) -> int:
             conflicts=result.conflicts, folder=str(written[0].parent),
             files=tuple(p.name for p in written))))
         return 0
-    sys.stdout.write(day_plan(result) + f"\n{len(written)} files written to {written[0].parent}\n")
+    sys.stdout.write(day_plan(result) + f"\n{len(written)} files written to "
+                     f"{written[0].parent}\n" + recorded)
     return 0
 
 
-def _history(args: argparse.Namespace, plant: Any) -> Any:
-    """What the records store says, if there is one (``--db``, or beside the plant)."""
+def _plan_crew(args: argparse.Namespace, plant: str) -> Any:
+    """The crew register of ``plan --crew``, refused when it is another plant's."""
+    if not args.crew:
+        return None
+    from workpack.crew import serves
+    from workpack.crew_shell import load_crew
+
+    register, _ = load_crew(Path(args.crew))
+    if not serves(register, plant):
+        raise UsageError(f"--crew {args.crew}: the register is for "
+                         f"{', '.join(register.crew.plants)}, not {plant}")
+    return register
+
+
+def _history(args: argparse.Namespace, plant: Any) -> tuple[Any, dict[str, Any] | None]:
+    """What the records store says, if there is one (``--db``, or beside the plant): the
+    history for planning, and each job's state from its events (None: no store)."""
     from workpack.history import History, history_from_records
+    from workpack.joblog import fold
     from workpack.store import is_server_url, open_store
 
     db = _default_db(args)
     server = is_server_url(db)  # an office store holds many plants: read this one's chain
     if not server and not Path(db).exists():
         if _typed(args, "db"):  # named elsewhere (environment, workpack.toml): none yet
-            raise UsageError(f"--db {args.db}: no such records store")
-        return History()
+            raise UsageError(f"--db {args.db}: no such records store (create it with: "
+                             f"workpack store init {args.db} --plant '{plant.plant.name}')")
+        return History(), None
     with open_store(db, plant=plant.plant.name if server else None, create=False) as store:
-        return history_from_records(store.records(), plant.plant.code_set.rotating_machines)
+        history = history_from_records(store.records(),
+                                       plant.plant.code_set.rotating_machines)
+        return history, fold(store.events())
 
 
 def _chain_head(args: argparse.Namespace, plant: Any) -> Any:
@@ -352,7 +411,10 @@ def _earlier_plan(day: Any, plant: str, db: str) -> Any:
 
     from workpack.store import is_server_url, open_store, package_sha256
 
-    pattern = re.compile(rf"WP-{day:%Y%m%d}-\d{{2,}}\.(pdf|json)|day-{day.isoformat()}\.pdf")
+    # Any plant's: the day sheet's name is the day's alone, so one folder holds one plant's
+    # day. A job carried from an earlier day keeps the id it was first issued with.
+    pattern = re.compile(rf"WP-[A-Z0-9]{{2,8}}-\d{{8}}-\d{{2,}}\.(pdf|json)|"
+                         rf"day-{day.isoformat()}\.pdf")
 
     def earlier(folder: Path) -> list[str]:
         names = sorted(p.name for p in folder.iterdir() if p.is_file()
@@ -367,10 +429,16 @@ def _earlier_plan(day: Any, plant: str, db: str) -> Any:
             if twins[name] is None:
                 raise UsageError(f"{folder / name}: not a package this plan can replace "
                                  "(unreadable); move it away or plan into another folder")
-            if twins[name]["plant"] != plant:
+        # Another day's packages stay: only this day's set is replaced.
+        twins = {name: data for name, data in twins.items()
+                 if data.get("date") == day.isoformat()}
+        for name, data in twins.items():
+            if data["plant"] != plant:
                 raise UsageError(f"{folder}: holds the {day} packages of "
-                                 f"{twins[name]['plant']!r} ({name}); plan {plant!r} into "
+                                 f"{data['plant']!r} ({name}); plan {plant!r} into "
                                  "another folder")
+        names = [n for n in names if n.startswith("day-")
+                 or n.rsplit(".", 1)[0] + ".json" in twins]
         if twins and (is_server_url(db) or Path(db).exists()):
             with open_store(db, plant=plant, create=False) as store:
                 recorded = {(r.package_id, r.package_sha256): r.sequence
@@ -385,6 +453,23 @@ def _earlier_plan(day: Any, plant: str, db: str) -> Any:
         return names
 
     return earlier
+
+
+def _refuse_other_days(out: Path, day: Any, packages: Sequence[Any]) -> None:
+    """A job carried over keeps its id: its package of an earlier day, in the same folder,
+    has the same file name. Refuse rather than overwrite what was issued that day."""
+    for package in packages:
+        twin = out / f"{package.id}.json"
+        if not twin.is_file():
+            continue
+        try:
+            issued = json.loads(twin.read_text(encoding="utf-8")).get("date")
+        except (OSError, ValueError, AttributeError):
+            issued = None
+        if issued != day.isoformat():
+            raise UsageError(f"{twin}: package {package.id} as issued for {issued}; it is "
+                             f"carried into {day} under the same id. Plan each day into "
+                             "its own folder")
 
 
 def _cmd_results_template(args: argparse.Namespace) -> int:
@@ -435,18 +520,27 @@ def _store_plant(args: argparse.Namespace) -> str | None:
 
 def _cmd_record(args: argparse.Namespace) -> int:
     from workpack.evaluate import evaluate
-    from workpack.loading import load_results
+    from workpack.joblog import fold, record_event, refusal
+    from workpack.loading import load_results_marked, located
+    from workpack.lockregister import check_record_locks, results_locks, stored_locks
     from workpack.output import write_all
+    from workpack.recordchecks import lock_mismatches
     from workpack.records import record_payload
     from workpack.render.text import evaluation_text
-    from workpack.store import open_store
+    from workpack.store import NewEvent, open_store
 
     package, digest = _issued_package(Path(args.package))
-    results = load_results(Path(args.results), package, digest)
+    results, marks = load_results_marked(Path(args.results), package, digest)
     if not results.anything_filled_in():
         raise UsageError(f"{args.results}: nothing is filled in; record a job once it has "
                          "been done")
-    evaluation = evaluate(package, results, _standards())
+    # Everything refused is refused before the store is opened or written: nothing half
+    # recorded, and no store created for a record that is not written.
+    problems, not_accepted = _register_problems(args, package, results)
+    problems += lock_mismatches(package, results, ())
+    if problems:
+        raise InputError(located(marks, problems))
+    evaluation = evaluate(package, results, _standards(), not_accepted)
     at = args.at or dt.datetime.now(dt.UTC)
     recorded_by = args.by or results.completed_by or "unknown"
     payload = _signed(args, record_payload(results, evaluation), package_id=package.id,
@@ -454,18 +548,40 @@ def _cmd_record(args: argparse.Namespace) -> int:
                       supersedes=args.supersedes, verdict=evaluation.verdict,
                       named={"technician": results.completed_by,
                              "supervisor": results.supervisor})
+    kind, detail = record_event(package.id, results, evaluation)
     with open_store(_default_db(args), plant=package.plant) as store:
+        job = fold(store.events(package_id=package.id)).get(package.id)
         latest = store.latest(package.id)
-        if latest is not None and args.supersedes is None:
+        # A job carried into another day is issued again (another package hash): each
+        # day's record of it is a daily entry, not a correction.
+        daily_entry = (latest is not None and job is not None and job.open
+                       and latest.package_sha256 != digest)
+        if latest is not None and args.supersedes is None and not daily_entry:
             raise UsageError(f"{package.id} is already recorded (record {latest.sequence}); "
                              f"to correct it, record again with --supersedes "
                              f"{latest.sequence}")
+        why = refusal(job, kind, correction=args.supersedes is not None) if job else None
+        if why is not None:
+            raise UsageError(f"{package.id}: {why}")
+        # The plant's lock register as the store has it, without the record this corrects.
+        uses, boxes, _ = results_locks(results, package.plant, package.id)
+        earlier = stored_locks((r for r in store.records() if r.sequence != args.supersedes),
+                               numbered={use.lock for use in uses})
+        clashes = check_record_locks(uses, boxes, earlier)
+        if clashes:
+            raise InputError(located(marks, clashes))
         record = store.append(package_id=package.id, package_sha256=digest,
                               results=payload, recorded_by=recorded_by, recorded_at=at,
                               verdict=evaluation.verdict, supersedes=args.supersedes)
+        store.append_events([NewEvent(
+            package.id, job.job_key if job else f"package:{package.id}", kind,
+            results.completed_on or package.date, at, recorded_by,
+            {**detail, "record": record.sequence})])
         where = store.location  # a URL's password left out
     if not args.json:  # said at once: the record is stored whatever happens next
-        sys.stdout.write(evaluation_text(evaluation)
+        state = ("suspended: its locks stay on, the job goes on" if kind == "suspended"
+                 else f"completed ({evaluation.verdict})")
+        sys.stdout.write(evaluation_text(evaluation) + f"job {package.id} {state}\n"
                          + f"recorded as record {record.sequence} in {where}\n")
     followups = None
     if args.followups and evaluation.followups:
@@ -518,6 +634,98 @@ def _add_signing_options(record: argparse.ArgumentParser) -> None:
                              "key file (repeat for both); its passphrase from "
                              "WORKPACK_KEY_PASSPHRASE_TECHNICIAN (or _SUPERVISOR), else "
                              "WORKPACK_KEY_PASSPHRASE, else asked on the terminal")
+
+
+def _cmd_job(args: argparse.Namespace) -> int:
+    from workpack.joblog import fold, refusal
+    from workpack.store import NewEvent, open_store
+
+    if args.event == "cancelled" and not (args.note and args.note.strip()):
+        raise UsageError("--note: say why the job is cancelled")
+    at = args.at or dt.datetime.now(dt.UTC)
+    with open_store(_default_db(args), plant=_store_plant(args), create=False) as store:
+        job = fold(store.events(package_id=args.package)).get(args.package)
+        why = refusal(job, args.event)
+        if why is not None or job is None:
+            raise UsageError(f"{args.package}: {why}")
+        store.append_events([NewEvent(args.package, job.job_key, args.event, at.date(), at,
+                                      args.by, {"note": args.note} if args.note else {})])
+        where = store.location
+    if args.json:
+        from workpack.reports import JobEventReport
+
+        sys.stdout.write(_to_json(JobEventReport(args.package, args.event, args.by, at,
+                                                 args.note, where)))
+        return 0
+    sys.stdout.write(f"{args.package}: {args.event} by {args.by} at "
+                     f"{at:%Y-%m-%d %H:%M %Z}, recorded in {where}\n")
+    return 0
+
+
+def _cmd_status(args: argparse.Namespace) -> int:
+    from workpack.joblog import fold, status, status_text
+    from workpack.loading import load_plant
+    from workpack.store import is_server_url, open_store
+
+    plant, _ = load_plant(Path(args.plant))
+    db = _default_db(args)
+    server = is_server_url(db)
+    if not server and not Path(db).exists():
+        raise UsageError(f"{db}: no such records store; plan with --db first")
+    with open_store(db, plant=plant.plant.name if server else None, create=False) as store:
+        jobs = fold(store.events())
+    day = args.date or _now().date()
+    report = status(plant, jobs, day, args.days)
+    sys.stdout.write(_to_json(report) if args.json else status_text(report, args.days))
+    return 0
+
+
+def _register_problems(args: argparse.Namespace, package: Any,
+                       results: Any) -> tuple[list[Any], dict[str, str]]:
+    """The record checked against the crew register (its signers) and the instrument
+    register (its readings), where given: the problems that refuse it, and the readings
+    recorded as not accepted (reading id → why)."""
+    problems: list[Any] = []
+    not_accepted: dict[str, str] = {}
+    if args.crew:
+        from workpack.competence import job_needs
+        from workpack.crew_shell import load_crew
+        from workpack.recordchecks import lock_holder_mismatches, signer_mismatches
+
+        register, _ = load_crew(Path(args.crew))
+        problems += signer_mismatches(register, package, results, job_needs(package))
+        problems += lock_holder_mismatches(register, results)
+    if args.instruments:
+        from workpack.recordchecks import instrument_check
+        from workpack.register_files import load_instruments
+
+        check = instrument_check(load_instruments(Path(args.instruments)), package, results)
+        problems += check.problems
+        not_accepted = check.not_accepted
+    return problems, not_accepted
+
+
+def _cmd_locks(args: argparse.Namespace) -> int:
+    from workpack.loading import load_plant
+    from workpack.lockregister import locks_on, stored_locks
+    from workpack.render.text import locks_text
+    from workpack.store import is_server_url, open_store
+
+    plant = load_plant(Path(args.plant))[0].plant.name
+    db = _default_db(args)
+    if not is_server_url(db) and not Path(db).exists():
+        raise UsageError(f"--db {db}: no such records store")
+    with open_store(db, plant=plant, create=False) as store:
+        uses = stored_locks(store.records(), on_only=True)
+        where = store.location
+    on = [lock for lock in locks_on(uses) if lock.plant == plant]
+    if args.json:
+        from workpack.reports import LocksReport
+
+        sys.stdout.write(_to_json(LocksReport(plant=plant, store=where, locks_on=tuple(on))))
+    else:
+        sys.stdout.write(locks_text(plant, where, on))
+    return 0
 
 
 def _cmd_verify(args: argparse.Namespace) -> int:
@@ -1311,14 +1519,50 @@ def build_parser() -> argparse.ArgumentParser:
                       help="the day planned for (YYYY-MM-DD); default: the day after the "
                            "findings' date")
     plan.add_argument("--crew-hours", type=_option("--crew-hours", _hours), metavar="H",
-                      help="person-hours available (default 16: two people, a day)")
+                      help="person-hours available (default 16: two people, a day; with "
+                           "--crew, the register's hours of the day)")
+    plan.add_argument("--crew", metavar="CREW.yaml",
+                      help="crew register: name the people for each job, within their hours")
     plan.add_argument("--page-size", choices=["A4", "Letter"], help="paper (default A4)")
     plan.add_argument("--rules", default=str(rules_folder()), metavar="DIR",
                       help="rules folder (default: the shipped rules/)")
-    plan.add_argument("--db", help="records store whose history informs the plan (default: "
-                                   "PLANT.records.sqlite beside the plant, if it exists)")
+    plan.add_argument("--db", help="records store: its history informs the plan, its open "
+                                   "jobs and locks come first, and the plan's jobs are "
+                                   "recorded in it (default: PLANT.records.sqlite beside the "
+                                   "plant, if it exists)")
+    plan.add_argument("--by", default="workpack plan",
+                      help="who plans, recorded with the jobs' events (default: workpack plan)")
+    plan.add_argument("--at", type=_option("--at", _moment),
+                      help="when, for the jobs' events (ISO date and time; default: now)")
     _json_option(plan)
     plan.set_defaults(run=_cmd_plan)
+
+    status = commands.add_parser(
+        "status", help="the morning's view: open, suspended and carried-over jobs, locks on, "
+                       "routine tests overdue and due soon")
+    status.add_argument("plant", metavar="PLANT", help="plant inventory (YAML)")
+    status.add_argument("--db", help="records store (default: PLANT.records.sqlite beside "
+                                     "the plant)")
+    status.add_argument("--date", type=_option("--date", _day),
+                        help="as of this day (YYYY-MM-DD; default: today)")
+    status.add_argument("--days", type=_option("--days", _days), default=7, metavar="N",
+                        help="routine tests due within N days (default 7)")
+    _json_option(status)
+    status.set_defaults(run=_cmd_status)
+
+    job = commands.add_parser(
+        "job", help="write what happened to a job: issued, started, resumed or cancelled "
+                    "(record writes completed and suspended)")
+    job.add_argument("event", choices=["issued", "started", "resumed", "cancelled"],
+                     help="what happened")
+    job.add_argument("package", metavar="PACKAGE_ID", help="the package id")
+    _store_options(job)
+    job.add_argument("--by", required=True, help="who")
+    job.add_argument("--at", type=_option("--at", _moment),
+                     help="when (ISO date and time; default: now; UTC unless a zone is given)")
+    job.add_argument("--note", help="why, in words (a cancellation needs one)")
+    _json_option(job)
+    job.set_defaults(run=_cmd_job)
 
     template = commands.add_parser(
         "results-template", help="a YAML results sheet for one package, to fill in")
@@ -1341,9 +1585,26 @@ def build_parser() -> argparse.ArgumentParser:
                         help="this corrects record N (records are never changed)")
     record.add_argument("--followups", metavar="FILE",
                         help="write follow-up findings (e.g. insulation below minimum) here")
+    record.add_argument("--crew", metavar="CREW.yaml",
+                        help="crew register: refuse the record unless its technician and "
+                             "supervisor are in it and qualified for the job; with --sign, "
+                             "their public keys")
+    record.add_argument("--instruments", metavar="INSTRUMENTS.yaml",
+                        help="instrument register: each reading names its instrument, in "
+                             "calibration on the day; a reading outside its range is not "
+                             "accepted")
     _add_signing_options(record)
     _json_option(record)
     record.set_defaults(run=_cmd_record)
+
+    locks = commands.add_parser(
+        "locks", help="the lock register: every lock on now, where, whose, since when, for "
+                      "which job")
+    locks.add_argument("plant", metavar="PLANT", help="plant inventory (YAML)")
+    locks.add_argument("--db", help="records store: an SQLite file, or a postgresql:// URL "
+                                    "(default: PLANT.records.sqlite beside the plant)")
+    _json_option(locks)
+    locks.set_defaults(run=_cmd_locks)
 
     verify = commands.add_parser(
         "verify", help="check the records store's hash chain (and, given them, an anchor "

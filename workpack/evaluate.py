@@ -163,10 +163,14 @@ def _measured_si(reading: Reading, value: float | str) -> float:
 # --- judging ---------------------------------------------------------------------------------
 
 
-def evaluate(package: WorkPackage, results: Results,
-             standards: Mapping[str, CodeSet]) -> Evaluation:
-    """Judge checked results (``check_results`` found nothing) against their package."""
-    verdicts = tuple(_judge(reading, results, standards) for reading in package.readings())
+def evaluate(package: WorkPackage, results: Results, standards: Mapping[str, CodeSet],
+             not_accepted: Mapping[str, str] | None = None) -> Evaluation:
+    """Judge checked results (``check_results`` found nothing) against their package.
+    ``not_accepted``: reading id → why its value cannot be accepted (an instrument's range,
+    ``recordchecks.instrument_check``); such a reading counts as not recorded, with why."""
+    refused = not_accepted or {}
+    verdicts = tuple(_judge(reading, results, standards, refused.get(reading.id))
+                     for reading in package.readings())
     deciding = {reading.id for reading in package.readings() if reading.acceptance}
     found = results.ground_found_at is not None
     # A branch of a search is done only if the search led there: unrecorded, it is no gap.
@@ -271,7 +275,14 @@ def _check_isolation(prefix: str, scope: WorkPackage | FinalTest,
                 continue
             out.add("lock", ref, f"{ref}: lock {lock.lock} applied by {lock.applied_by} was "
                     "never recorded as removed", fails=True)
-        elif _person(lock.removed_by) != _person(lock.applied_by):
+        elif lock.transfers and _person(lock.removed_by) != _person(
+                lock.transfers[-1].to_holder):
+            # 29 CFR 1910.147(f)(4): after a recorded transfer the oncoming holder removes it.
+            out.add("lock", ref, f"{ref}: lock {lock.lock} held by "
+                    f"{lock.transfers[-1].to_holder} (transferred from "
+                    f"{lock.transfers[-1].from_holder}) was removed by {lock.removed_by}: each "
+                    "lock is removed by whoever holds it", fails=False)
+        elif not lock.transfers and _person(lock.removed_by) != _person(lock.applied_by):
             out.add("lock", ref, f"{ref}: lock {lock.lock} applied by {lock.applied_by} was "
                     f"removed by {lock.removed_by}: each lock is removed by whoever applied it "
                     "(record the employer's procedure for removal by another in the remarks)",
@@ -298,8 +309,8 @@ def _person(name: str) -> str:
     return " ".join(name.split()).casefold()
 
 
-def _judge(reading: Reading, results: Results,
-           standards: Mapping[str, CodeSet]) -> ReadingVerdict:
+def _judge(reading: Reading, results: Results, standards: Mapping[str, CodeSet],
+           refused: str | None = None) -> ReadingVerdict:
     measured = results.readings.get(reading.id)
     limit = reading.limit
     low = limit.low if limit else None
@@ -316,6 +327,10 @@ def _judge(reading: Reading, results: Results,
     value = measured_value(reading, measured.value)
     temperature = (to_si(measured.temperature, "temperature")
                    if measured.temperature is not None else None)
+    if refused is not None:
+        return ReadingVerdict(**base, measured_si=value, temperature_c=temperature,
+                              compared_si=None, outcome="not recorded",
+                              note=f"not accepted: {refused}")
     compared = value
     note = ""
     if corrected_to is not None and limit is not None and limit.code_set:

@@ -39,6 +39,9 @@ def _expectation(reading: Reading) -> str:
     return "; ".join(parts) or "record as found"
 
 
+TIME_HINT = "YYYY-MM-DD HH:MM"
+
+
 def _scope_lines(indent: str, isolation: Sequence[IsolationPoint],
                  proving_dead: Sequence[ProvingDead], steps: Sequence[Step],
                  restoration: Sequence[Step]) -> list[str]:
@@ -61,9 +64,9 @@ def _scope_lines(indent: str, isolation: Sequence[IsolationPoint],
             key = _quoted(point.device) if ":" in point.device else point.device
             lines.append(f"{indent}  {key}:   # {point.order}. {point.device_kind}, "
                          f"{point.location or 'location not given'}{state}{removal}")
-            lines += [f"{indent}    {name}:" for name in ("lock", "tag", "applied_by",
-                                                          "applied_at", "removed_by",
-                                                          "removed_at")]
+            lines += [f"{indent}    lock:", f"{indent}    tag:", f"{indent}    applied_by:",
+                      f"{indent}    applied_at:   # {TIME_HINT}", f"{indent}    removed_by:",
+                      f"{indent}    removed_at:   # {TIME_HINT}"]
     if proving_dead:
         lines.append(f"{indent}proving_dead:   # volts measured; expected 0 V")
         for index, dead in enumerate(proving_dead, start=1):
@@ -115,6 +118,7 @@ def results_template(package: WorkPackage, package_sha256: str) -> str:
             lines.append("    value:")
             if reading.needs_temperature:
                 lines.append("    temperature:   # °C")
+            lines.append("    instrument:   # its id in the instrument register")
     if package.job_kind in ("locate_ground", "clear_second_ground"):
         lines.append("ground_found_at:   # element id where the ground was found, if found")
     lines.append("remarks:")
@@ -134,6 +138,7 @@ class FormFieldError(ValueError):
 _FIELD_SHAPES: dict[str, tuple[int, tuple[int, ...], tuple[str, ...] | None]] = {
     "reading": (2, (), None),
     "temperature": (2, (), None),
+    "instrument": (2, (), None),
     "step": (3, (1,), ("done",)),
     "restore": (3, (1,), ("done",)),
     "lock": (3, (), ("number", "applied_by", "applied_at", "removed_by", "removed_at")),
@@ -147,8 +152,8 @@ _FIELD_SHAPES: dict[str, tuple[int, tuple[int, ...], tuple[str, ...] | None]] = 
     "final_at": (1, (), None),
 }
 # Fields of a final test of a ground search carry its scope first: final:<id>:<field…>.
-_SCOPED = frozenset({"reading", "temperature", "step", "restore", "lock", "tag", "dead",
-                     "tester", "locks_left_on"})
+_SCOPED = frozenset({"reading", "temperature", "instrument", "step", "restore", "lock", "tag",
+                     "dead", "tester", "locks_left_on"})
 
 
 def field_problem(parts: tuple[str, ...]) -> str | None:
@@ -297,6 +302,8 @@ def results_from_fields(package: WorkPackage, fields: Mapping[str, str | None],
             readings.setdefault(parts[1], {})["value"] = value
         elif kind == "temperature" and value:
             readings.setdefault(parts[1], {})["temperature"] = value
+        elif kind == "instrument" and value:
+            readings.setdefault(parts[1], {})["instrument"] = value
         elif kind in ("step", "restore"):
             target["steps" if kind == "step" else "restoration"][int(parts[1])] = {
                 "done": ticked}

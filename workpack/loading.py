@@ -552,6 +552,13 @@ def load_package(path: Path) -> tuple[WorkPackage, str]:
 
 def load_results(path: Path, package: WorkPackage, package_hash: str) -> Results:
     """Results from a filled YAML sheet or a filled package PDF, checked against the package."""
+    return load_results_marked(path, package, package_hash)[0]
+
+
+def load_results_marked(path: Path, package: WorkPackage,
+                        package_hash: str) -> tuple[Results, Marks]:
+    """``load_results``, with the places of the fields: for the record's later checks
+    (locks against the store, signers against the crew register)."""
     from workpack.evaluate import check_results
 
     if path.suffix.lower() == ".pdf":
@@ -562,7 +569,7 @@ def load_results(path: Path, package: WorkPackage, package_hash: str) -> Results
     mismatches = list(check_results(package, results, package_hash))
     if mismatches:
         raise InputError(located(marks, mismatches))
-    return results
+    return results, marks
 
 
 # Far above a filled package (a few hundred kB); PdfReader reads the whole file.

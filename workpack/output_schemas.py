@@ -46,6 +46,9 @@ OUTPUTS: dict[str, str] = {
     "crew check": "workpack.reports:CrewCheckReport",
     "sync export": "workpack.reports:SyncExportReport",
     "sync import": "workpack.reports:SyncImportReport",
+    "locks": "workpack.reports:LocksReport",
+    "status": "workpack.joblog:Status",
+    "job": "workpack.reports:JobEventReport",
 }
 DIALECT = "https://json-schema.org/draft/2020-12/schema"
 

@@ -17,8 +17,9 @@ The payload
 
     Version 1, written before payloads carried their version, is the same without
     ``payload_version``; it reads unchanged (tests/fixtures/records-v1 holds such
-    payloads). A payload of a later version is refused, saying that a newer workpack
-    wrote it. Version 2 is version 3 without signatures (it reads unchanged). A new
+    payloads). Version 3 added the signatures, group lock boxes, lock transfers and the
+    instrument of a reading, all optional: versions 1 and 2 read with them empty. A
+    payload of a later version is refused, saying that a newer workpack wrote it. A new
     version adds a branch to ``_Versioned._upgrade`` and a fixture. What the signatures
     cover is ``workpack.record_signatures``.
 
@@ -58,7 +59,7 @@ from pydantic import (
 )
 
 from workpack.model.evaluation import Evaluation, Outcome
-from workpack.model.results import Results
+from workpack.model.results import LockBoxRecord, LockRecord, Results
 from workpack.model.signature import Signature
 
 __all__ = [
@@ -66,6 +67,7 @@ __all__ = [
     "PAYLOAD_VERSION",
     "Chained",
     "PayloadError",
+    "LocksView",
     "PlanningView",
     "ReadBack",
     "RecordPayload",
@@ -74,6 +76,7 @@ __all__ = [
     "is_bare_number",
     "latest_effective",
     "read_back",
+    "read_for_locks",
     "read_for_planning",
     "read_payload",
     "record_payload",
@@ -142,6 +145,37 @@ class PlanningView(_Versioned):
     evaluation: Evaluation
 
 
+class _FinalLocks(BaseModel):
+    model_config = ConfigDict(extra="ignore", frozen=True)
+
+    isolation: dict[str, LockRecord] = {}
+
+
+class _ResultsLocks(BaseModel):
+    model_config = ConfigDict(extra="ignore", frozen=True)
+
+    isolation: dict[str, LockRecord] = {}
+    final_tests: dict[str, _FinalLocks] = {}
+    lock_boxes: dict[str, LockBoxRecord] = {}
+
+
+class _EvaluationPlant(BaseModel):
+    model_config = ConfigDict(extra="ignore", frozen=True)
+
+    plant: str
+
+
+class LocksView(_Versioned):
+    """The part of a payload the lock register reads (``read_for_locks``): the locks and
+    lock boxes of the results, and the plant. The register reads every record of the
+    plant whenever a record is made or the locks are listed."""
+
+    model_config = ConfigDict(extra="ignore", frozen=True)
+
+    results: _ResultsLocks
+    evaluation: _EvaluationPlant
+
+
 _STORED = "stored payload"  # the validation context of a payload read from the store
 
 
@@ -191,6 +225,14 @@ def read_for_planning(record: StoredRecord) -> PlanningView | None:
     records table say why)."""
     try:
         return _read(record, PlanningView)
+    except PayloadError:
+        return None
+
+
+def read_for_locks(record: StoredRecord) -> LocksView | None:
+    """What the lock register reads of ``record``; None when it cannot be read."""
+    try:
+        return _read(record, LocksView)
     except PayloadError:
         return None
 

@@ -13,6 +13,7 @@ from typing import TYPE_CHECKING, Literal
 
 if TYPE_CHECKING:
     from workpack.crew import PersonSummary
+    from workpack.lockregister import LockOn
     from workpack.model.crew import CrewHeader
     from workpack.model.evaluation import Evaluation
     from workpack.plan.day import Conflict
@@ -194,3 +195,24 @@ class CrewCheckReport:
     crew: CrewHeader
     at: dt.datetime
     people: tuple[PersonSummary, ...]
+
+
+@dataclass(frozen=True)
+class LocksReport:
+    """``locks``: every lock on now in one plant's records (lockregister.locks_on)."""
+
+    plant: str
+    store: str  # a URL's password left out
+    locks_on: tuple[LockOn, ...]  # point locks first, then personal locks on lock boxes
+
+
+@dataclass(frozen=True)
+class JobEventReport:
+    """``job``: the event written for a job (issued, started, resumed or cancelled)."""
+
+    package_id: str
+    event: str
+    by: str
+    at: dt.datetime
+    note: str | None
+    store: str  # a URL's password left out

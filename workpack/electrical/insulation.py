@@ -551,7 +551,9 @@ def insulation_trend(
         mean_y = sum(ys) / len(ys)
         sxx = sum((x - mean_x) ** 2 for x in xs)
         slope = sum((x - mean_x) * (y - mean_y) for x, y in zip(xs, ys, strict=True)) / sxx
-        rate = math.expm1(slope * 365.25)
+        # A dry-out can multiply the resistance in days: a yearly rate of that rise is
+        # past any float (and means nothing); it is left unstated.
+        rate = math.expm1(slope * 365.25) if slope * 365.25 < 700 else None
         if slope < 0:
             fitted_latest = math.exp(mean_y + slope * (xs[-1] - mean_x))
             if fitted_latest > minimum_ohm:

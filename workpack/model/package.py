@@ -14,6 +14,8 @@ from typing import Literal
 
 from pydantic import BaseModel, ConfigDict, Field
 
+from workpack.model.crew import Requirement
+
 # Defined alone (the quick diagnose uses it without pydantic); re-exported here.
 from workpack.model.signal_word import SignalWord as SignalWord
 from workpack.numbers import format_quantity
@@ -225,6 +227,16 @@ class Origin(Plain):
     routine: str | None = None  # routine test that fell due, if any
 
 
+class LockStillOn(Plain):
+    """A lock of this job put on an earlier day and not taken off: the job goes on."""
+
+    device: str
+    lock: str | None = None
+    held_by: str | None = None
+    since: str | None = None  # as written on the sheet
+    text: str  # the whole of it, in words, as printed
+
+
 class WorkPackage(Plain):
     id: str
     plant: str
@@ -247,6 +259,8 @@ class WorkPackage(Plain):
     ppe: tuple[str, ...] = ()
     isolation: tuple[IsolationPoint, ...] = ()
     isolation_gaps: tuple[str, ...] = ()  # paths no lock can cut: DANGER, shown as such
+    locks_on: tuple[LockStillOn, ...] = ()  # this job's locks still on from an earlier day
+    # (a job carried over while suspended)
     stored_energy: tuple[str, ...] = ()
     proving_dead: tuple[ProvingDead, ...] = ()
     steps: tuple[Step, ...] = ()
@@ -257,6 +271,10 @@ class WorkPackage(Plain):
     sketch: Sketch | None = None
     instrument_supply: str | None = None  # element whose supply a test instrument needs
     switches: tuple[str, ...] = ()  # devices the job opens for a while and closes again
+    needs: tuple[Requirement, ...] = ()  # what the technician must hold (workpack.competence)
+    supervisor_needed: bool = False  # another person supervises and countersigns
+    assigned: tuple[str, ...] = ()  # "S. Quayle (LCS-0107)": the lead first (plan --crew)
+    supervisor_assigned: str | None = None  # who supervises and countersigns (plan --crew)
     notice: str = ("Local codes, the employer's safety rules and licensed practice prevail "
                    "over this package.")
 

@@ -101,6 +101,11 @@ class CodeSet(Strict):
 class PlantInfo(Strict):
     """The installation as a whole: its name, kind, frequency and phase names."""
 
+    code: str = Field(pattern=r"^[A-Z0-9]{2,8}$",
+                      description="the plant's short code: 2 to 8 capital letters or digits, "
+                      "unique in the fleet or company. Every work package id carries it "
+                      "(WP-SKL-20261202-03), so ids never repeat across plants",
+                      examples=["SKL"])
     name: str = Field(min_length=1, description="name of the vessel, unit or site, printed on "
                       "every package", examples=["MV Skerry Lantern"])
     kind: PlantKind = Field(description="what kind of installation", examples=["vessel"])
@@ -846,8 +851,8 @@ class Plant(Strict):
     what feeds them with 'from'. Quantities may carry units ("440 V", "2.2 uF")."""
 
     plant: PlantInfo = Field(description="the installation as a whole",
-                             examples=[{"name": "MV Skerry Lantern", "kind": "vessel",
-                                        "frequency": "60 Hz"}])
+                             examples=[{"code": "SKL", "name": "MV Skerry Lantern",
+                                        "kind": "vessel", "frequency": "60 Hz"}])
     cable_types: tuple[CableType, ...] = Field(
         default=(), description="kinds of cable and their capacitance to earth, named by "
                                 "cables' cable_type",

@@ -20,22 +20,95 @@ def _blank_is_none(value: Any) -> Any:
     return None if isinstance(value, str) and not value.strip() else value
 
 
+def _time_as_written(value: Any) -> Any:
+    """A lock time is kept as the sheet gives it; YAML reads some as dates or date-times,
+    which are turned back into their ISO text (checked at record time, by
+    ``workpack.lockregister.parse_lock_time``)."""
+    value = _blank_is_none(value)
+    if isinstance(value, dt.datetime):
+        return value.isoformat(sep=" ", timespec="minutes" if not value.second else "seconds")
+    if isinstance(value, dt.date):
+        return value.isoformat()
+    return value
+
+
+LOCK_TIME = ("date and time, YYYY-MM-DD HH:MM, the plant's clock time as written on the tag "
+             "(or with its zone: 2026-12-02T08:15+01:00)")
+
+
+class LockTransfer(Strict):
+    """A lock handed over at a shift or personnel change (OSHA 29 CFR 1910.147(f)(4)): the
+    off-going holder to the oncoming one, at a time."""
+
+    from_holder: str = Field(min_length=1, description="who held the lock until the transfer",
+                             examples=["LCS-0107"])
+    to_holder: str = Field(min_length=1, description="who holds it from the transfer",
+                           examples=["LCS-0131"])
+    at: str = Field(description=f"when: {LOCK_TIME}", examples=["2026-12-02 20:00"])
+
+    _time = field_validator("at", mode="before")(_time_as_written)
+
+
 class LockRecord(Strict):
     """One isolation point's lock and tag: who put them on and took them off, and when."""
 
-    lock: str | None = Field(default=None, description="the lock's number or mark",
-                             examples=["L-07"])
+    lock: str | None = Field(default=None, description="the lock's number or mark; on one "
+                             "isolation point at a time across the plant", examples=["L-07"])
     tag: str | None = Field(default=None, description="the tag's number", examples=["T-112"])
     applied_by: str | None = Field(default=None, description="who applied lock and tag",
                                    examples=["S. Quayle"])
-    applied_at: str | None = Field(default=None, description="when, as written on the sheet "
-                                   "(date and time)", examples=["2026-12-02 08:15"])
+    applied_at: str | None = Field(default=None, description=f"when: {LOCK_TIME}",
+                                   examples=["2026-12-02 08:15"])
     removed_by: str | None = Field(default=None, description="who removed them (the one who "
-                                   "applied them)", examples=["S. Quayle"])
-    removed_at: str | None = Field(default=None, description="when, as written on the sheet "
-                                   "(date and time)", examples=["2026-12-02 11:40"])
+                                   "holds them)", examples=["S. Quayle"])
+    removed_at: str | None = Field(default=None, description=f"when: {LOCK_TIME}",
+                                   examples=["2026-12-02 11:40"])
+    box: str | None = Field(default=None, description="group lockout: the lock box (its "
+                            "number in lock_boxes) the lock's key was put in",
+                            examples=["B-1"])
+    transfers: tuple[LockTransfer, ...] = Field(
+        default=(), description="handovers of the lock at shift or personnel changes, in order",
+        examples=[[{"from_holder": "S. Quayle", "to_holder": "M. Rosevear",
+                    "at": "2026-12-02 20:00"}]])
 
-    _blanks = field_validator("*", mode="before")(_blank_is_none)
+    _blanks = field_validator("lock", "tag", "applied_by", "removed_by", "box",
+                              mode="before")(_blank_is_none)
+    _times = field_validator("applied_at", "removed_at", mode="before")(_time_as_written)
+
+    def filled(self) -> bool:
+        return any(v is not None and v != () for v in self.__dict__.values())
+
+
+class PersonalLock(Strict):
+    """A worker's own lock on a group lock box (OSHA 29 CFR 1910.147(f)(3)(ii)(D)): their
+    protection while the group's locks are on."""
+
+    applied_by: str = Field(min_length=1, description="whose lock it is",
+                            examples=["M. Rosevear"])
+    applied_at: str = Field(description=f"when put on the box: {LOCK_TIME}",
+                            examples=["2026-12-02 08:30"])
+    removed_by: str | None = Field(default=None, description="who took it off (its holder)",
+                                   examples=["M. Rosevear"])
+    removed_at: str | None = Field(default=None, description=f"when: {LOCK_TIME}",
+                                   examples=["2026-12-02 11:30"])
+    transfers: tuple[LockTransfer, ...] = Field(
+        default=(), description="handovers at shift or personnel changes, in order",
+        examples=[[{"from_holder": "M. Rosevear", "to_holder": "T. Marrow",
+                    "at": "2026-12-02 20:00"}]])
+
+    _blanks = field_validator("removed_by", mode="before")(_blank_is_none)
+    _times = field_validator("applied_at", "removed_at", mode="before")(_time_as_written)
+
+
+class LockBoxRecord(Strict):
+    """A group lock box (OSHA 29 CFR 1910.147(f)(3)): the keys of the isolation points' locks
+    go in; each worker of the group puts their own lock on it."""
+
+    keys: int = Field(ge=1, description="how many lock keys were put in the box (one per "
+                      "isolation lock that names the box)", examples=[2])
+    personal_locks: dict[str, PersonalLock] = Field(
+        default_factory=dict, description="personal lock number → whose, and when on and off",
+        examples=[{"P-31": {"applied_by": "M. Rosevear", "applied_at": "2026-12-02 08:30"}}])
 
 
 class MeasuredValue(Strict):
@@ -49,6 +122,9 @@ class MeasuredValue(Strict):
         default=None, description="temperature of the equipment when read, in °C (a bare "
                                   "number) or with its unit, for readings corrected to a "
                                   "reference temperature", examples=[28, "28 °C"])
+    instrument: str | None = Field(
+        default=None, description="the test instrument it was read with: its id in the "
+                                  "instrument register", examples=["IT-03"])
 
     _blanks = field_validator("*", mode="before")(_blank_is_none)
 
@@ -99,8 +175,7 @@ class FinalTestResults(Strict):
     def anything_filled_in(self) -> bool:
         return bool(
             self.tester_proven_before or self.tester_proven_after or self.locks_left_on
-            or any(any(v is not None for v in lock.model_dump().values())
-                   for lock in self.isolation.values())
+            or any(lock.filled() for lock in self.isolation.values())
             or any(v is not None and str(v).strip() for pairs in self.proving_dead.values()
                    for v in pairs.values())
             or any(s.done for s in (*self.steps.values(), *self.restoration.values())))
@@ -147,6 +222,11 @@ class Results(Strict):
         default=None, description="why the locks stay on (the acceptance was not met: the "
                                   "item stays out of service)",
         examples=["still below its minimum after the dry-out: to be rewound"])
+    lock_boxes: dict[str, LockBoxRecord] = Field(
+        default_factory=dict, description="group lockout: lock box number → its keys and the "
+                                          "workers' personal locks on it",
+        examples=[{"B-1": {"keys": 2, "personal_locks": {
+            "P-31": {"applied_by": "M. Rosevear", "applied_at": "2026-12-02 08:30"}}}}])
     final_tests: dict[str, FinalTestResults] = Field(
         default_factory=dict, description="final test id (F1, …) → what was done in it; only "
                                           "those the search ended at",
@@ -163,10 +243,9 @@ class Results(Strict):
         return bool(
             self.completed_by or self.supervisor or self.remarks
             or any(m.value is not None for m in self.readings.values())
-            or any(any(v is not None for v in lock.model_dump().values())
-                   for lock in self.isolation.values())
+            or any(lock.filled() for lock in self.isolation.values())
             or any(v is not None and str(v).strip() for pairs in self.proving_dead.values()
                    for v in pairs.values())
             or any(s.done for s in (*self.steps.values(), *self.restoration.values()))
-            or bool(self.locks_left_on)
+            or bool(self.locks_left_on) or bool(self.lock_boxes)
             or any(f.anything_filled_in() for f in self.final_tests.values()))

@@ -30,6 +30,9 @@ INPUT_FILES: dict[str, tuple[str, str]] = {
                   "asset map (how an asset list becomes a plant inventory)"),
     "crew": ("workpack.model.crew:CrewRegister",
              "crew register (plants/*-crew.yaml): people, qualifications, signing keys"),
+    "instruments": ("workpack.model.instruments:InstrumentRegister",
+                    "instrument register (plants/*-instruments.yaml): test instruments, "
+                    "their ranges and calibration"),
 }
 
 # Draft 7: the YAML language server editors use validates draft 7 and below (its README:

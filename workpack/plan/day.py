@@ -5,16 +5,17 @@ from __future__ import annotations
 
 import datetime as dt
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any
 
 from workpack.diagnose import DayDiagnosis, diagnose_day, downstream_loads
 from workpack.electrical.standards import CodeSet
 from workpack.history import History
 from workpack.model.findings import Findings, Severity
-from workpack.model.package import WorkPackage
+from workpack.model.package import LockStillOn, WorkPackage
 from workpack.model.plant import Vitality
 from workpack.model.weights import SearchWeights
+from workpack.plan.carry import Carried, HeldLock, assign_ids, job_key
 from workpack.plan.inputs import DayInputs
 from workpack.plan.jobs import Deferral, Job, due_routines, match_jobs
 from workpack.plan.lockout import Isolations
@@ -43,22 +44,30 @@ class DayPlan:
     deferred: tuple[str, ...]
     conflicts: tuple[Conflict, ...]
     diagnosis: DayDiagnosis
+    keys: Mapping[str, str] = field(default_factory=dict)  # package id → its job key
 
 
 def plan_day(topology: Topology, findings: Findings, day: dt.date, ruleset: RuleSet,
              standards: Mapping[str, CodeSet], weights: SearchWeights, crew_hours: float,
              history: History | None = None,
-             progress: Callable[[int, int], None] | None = None) -> DayPlan:
+             progress: Callable[[int, int], None] | None = None,
+             carried: Carried | None = None) -> DayPlan:
     """Every package for ``day``, ranked and fitted into ``crew_hours`` (person-hours).
 
     ``history`` (from the records) raises the likelihood of circuits that grounded before
-    and brings forward insulation tests of items whose readings fall fast."""
+    and brings forward insulation tests of items whose readings fall fast. ``carried``
+    (from the store's job events) gives open jobs their ids and their place at the head
+    of the day, moves recorded routine tests' due dates and names the locks still on."""
     plant = topology.plant
     history = history or History()
+    carried = carried or Carried()
     diagnosis = diagnose_day(plant, topology, findings, standards)
     states = system_states(topology, diagnosis)
     matched = match_jobs(topology, findings, diagnosis, states, day, ruleset,
-                         due_routines(plant, day, history, standards))
+                         [due for due in due_routines(plant, day, history, standards,
+                                                      carried.routines_done)
+                          if due.element.id not in carried.busy_items
+                          and (due.element.id, due.routine.test.value) not in carried.answered])
     inputs = DayInputs(
         topology=topology, ruleset=ruleset, standards=standards, weights=weights, day=day,
         states=states, past_grounds=history.past_grounds,
@@ -67,27 +76,55 @@ def plan_day(topology: Topology, findings: Findings, day: dt.date, ruleset: Rule
         isolations=Isolations())
     drafts = []
     for done, job in enumerate(matched.jobs, start=1):
-        drafts.append(build_package(inputs, job))
+        drafts.append((job_key(job), build_package(inputs, job)))
         if progress:
             progress(done, len(matched.jobs))
-    packages = tuple(p.model_copy(update={"id": f"WP-{day:%Y%m%d}-{n:02d}"})
-                     for n, p in enumerate(sorted(drafts, key=_rank), start=1))
+    drafts.sort(key=lambda draft: _rank(draft[1], draft[0], carried))
+    ids = assign_ids(plant.plant.code, day, [key for key, _ in drafts], carried.issued)
+    packages = tuple(p.model_copy(update={
+        "id": n, "locks_on": tuple(
+            LockStillOn(device=held.device, lock=held.lock, held_by=held.applied_by,
+                        since=held.applied_at, text=held.describe())
+            for held in carried.locks if held.package_id == n)})
+        for n, (_, p) in zip(ids, drafts, strict=True))
     scheduled, deferred = _fit(packages, crew_hours)
     chosen = [p for p in packages if p.id in scheduled]
     conflicts = [*_not_fitted(packages, deferred, crew_hours),
                  *_unanswered(diagnosis, matched.jobs),
                  *(_deferral(d) for d in matched.deferrals),
-                 *find_conflicts(topology, chosen)]
+                 *find_conflicts(topology, chosen),
+                 *locks_still_on(carried.locks, chosen)]
     return DayPlan(plant=plant.plant.name, date=day, crew_hours=crew_hours,
                    packages=packages, scheduled=scheduled, deferred=deferred,
-                   conflicts=tuple(conflicts), diagnosis=diagnosis)
+                   conflicts=tuple(conflicts), diagnosis=diagnosis,
+                   keys={n: key for n, (key, _) in zip(ids, drafts, strict=True)})
 
 
-def _rank(package: WorkPackage) -> tuple[Any, ...]:
-    """Priority; then jobs that remove a ground (the second-ground risk); findings before
-    routine; shorter first; then by item and rule, so the order never depends on input order."""
-    return (package.priority, not package.clears_ground, package.origin.routine is not None,
-            package.duration_h, package.item, package.origin.rule)
+def _rank(package: WorkPackage, key: str, carried: Carried) -> tuple[Any, ...]:
+    """Jobs begun and not finished first (their locks are on); then priority; jobs that
+    remove a ground (the second-ground risk); findings, then routine jobs carried from an
+    earlier day, then new routine work; shorter first; then by item and rule, so the
+    order never depends on input order."""
+    routine = package.origin.routine is not None
+    return (key not in carried.held, package.priority, not package.clears_ground,
+            routine, routine and key not in carried.returning, package.duration_h,
+            package.item, package.origin.rule)
+
+
+def locks_still_on(locks: Sequence[HeldLock],
+                   scheduled: Sequence[WorkPackage]) -> list[Conflict]:
+    """Each lock still on from an earlier day, and the day's packages that would isolate
+    or switch its device: the lock's own job takes it off, no one else."""
+    conflicts = []
+    for held in locks:
+        others = [p.id for p in scheduled if p.id != held.package_id and (
+            held.device in p.switches or any(pt.device == held.device for pt in p.isolation))]
+        text = f"locks still on: {held.describe()}"
+        if others:
+            text += (f"; {', '.join(others)} also isolate or switch {held.device}: they add "
+                     f"their own locks and never remove this one")
+        conflicts.append(Conflict((held.package_id, *others), text))
+    return conflicts
 
 
 def _fit(packages: Sequence[WorkPackage],

@@ -45,14 +45,19 @@ class DueRoutine(NamedTuple):
 
 
 def due_routines(plant: Plant, day: dt.date, history: History | None = None,
-                 standards: Mapping[str, CodeSet] | None = None) -> list[DueRoutine]:
+                 standards: Mapping[str, CodeSet] | None = None,
+                 done: Mapping[tuple[str, str], dt.date] | None = None) -> list[DueRoutine]:
     """Routine tests whose interval has run out by ``day`` (or that were never done), and
-    insulation tests brought forward because the item's recorded trend falls fast."""
+    insulation tests brought forward because the item's recorded trend falls fast.
+
+    ``done``: (element, test) → the last day the test passed as the records say; the
+    later of it and the plant file's ``last_done`` starts the interval."""
     due = []
+    done = done or {}
     for element in plant.elements():
         for routine in element.routine:
-            due_on = (routine.last_done + dt.timedelta(days=routine.interval_days)
-                      if routine.last_done else day)
+            last = last_done(routine, done.get((element.id, routine.test.value)))
+            due_on = last + dt.timedelta(days=routine.interval_days) if last else day
             if due_on > day and routine.test is RoutineTest.insulation_resistance and (
                 history is not None and standards is not None
             ):
@@ -62,6 +67,12 @@ def due_routines(plant: Plant, day: dt.date, history: History | None = None,
             if due_on <= day:
                 due.append(DueRoutine(element, routine, due_on))
     return due
+
+
+def last_done(routine: Routine, recorded: dt.date | None) -> dt.date | None:
+    """The later of the plant file's ``last_done`` and the last recorded pass."""
+    known = [d for d in (routine.last_done, recorded) if d is not None]
+    return max(known) if known else None
 
 
 @dataclass(frozen=True)

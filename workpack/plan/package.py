@@ -14,6 +14,7 @@ from dataclasses import replace
 from typing import Any
 
 from workpack.calculations import CALCULATIONS, CalcContext, CalcError
+from workpack.competence import derive_needs
 from workpack.model.package import (
     FinalTest,
     IsolationPoint,
@@ -106,6 +107,9 @@ def build_package(inputs: DayInputs, job: Job) -> WorkPackage:
         c for c in f.cautions if c.text not in listed)}) for f in final_tests)
     supply = (evaluate_text(rule, rule.instrument_supply, context)
               if rule.instrument_supply is not None else None)
+    who = derive_needs(rule.job_kind, bool(points) or any(f.isolation for f in final_tests),
+                       any(s.readings for s in (*steps, *restoration)) or bool(proving),
+                       system.voltage)
     return WorkPackage(
         id=f"{rule.id}:{job.key}", plant=topology.plant.plant.name, date=inputs.day,
         title=evaluate_text(rule, rule.title, context),
@@ -127,6 +131,7 @@ def build_package(inputs: DayInputs, job: Job) -> WorkPackage:
                               search.board if search else None,
                               search.board_order if search else ()),
         instrument_supply=supply or None, switches=switches,
+        needs=who.needs, supervisor_needed=who.supervisor_needed,
     )
 
 

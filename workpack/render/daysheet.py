@@ -44,8 +44,8 @@ class DaySheetPdf(PdfDocument):
     """The day's jobs for one plant, ranked, with what fits and what waits."""
 
     cell_pad_mm: ClassVar[float] = 1.3
-    widest_column: ClassVar[float] = 0.25  # of the text width, for each fitted column
-    text_columns: ClassVar[float] = 0.35  # of the text width at least, for title and item
+    widest_column: ClassVar[float] = 0.3  # of the text width, for each fitted column
+    text_columns: ClassVar[float] = 0.3  # of the text width at least, for title and item
 
     def __init__(self, plant: str, date: dt.date, packages: Sequence[WorkPackage],
                  scheduled: Sequence[str], deferred: Sequence[str],

@@ -11,9 +11,12 @@ from workpack.render.quick_text import quick_diagnosis as quick_diagnosis
 
 # Types only: `check` prints a summary without loading the planner, rules or search.
 if TYPE_CHECKING:
+    from collections.abc import Sequence
+
     from workpack.diagnose import DayDiagnosis
     from workpack.evaluate import Evaluation
     from workpack.isolation import IsolationPlan
+    from workpack.lockregister import LockOn
     from workpack.plan import DayPlan
     from workpack.search import FaultSearch
     from workpack.summary import PlantSummary
@@ -153,6 +156,10 @@ def day_plan(plan: DayPlan) -> str:
             used += need
         lines.append(f"  {package.id}  P{package.priority}  {state:9}  "
                      f"{package.duration_h:g} h × {package.crew}  {package.title}")
+        if package.assigned:
+            supervisor = (f"; supervisor {package.supervisor_assigned}"
+                          if package.supervisor_assigned else "")
+            lines.append(f"      crew: {', '.join(package.assigned)}{supervisor}")
     lines.append(f"\n{len(plan.scheduled)} scheduled ({used:g} person-hours), "
                  f"{len(plan.deferred)} deferred")
     for conflict in plan.conflicts:
@@ -173,4 +180,26 @@ def evaluation_text(evaluation: Evaluation) -> str:
     for deviation in evaluation.deviations:
         if deviation.kind != "reading":
             lines.append(f"  {'FAIL' if deviation.fails else 'open'} {deviation.text}")
+    return "\n".join(lines) + "\n"
+
+
+def locks_text(plant: str, store: str, locks: Sequence[LockOn]) -> str:
+    """The lock register: every lock on, one line each, as ``lockregister.locks_on`` gives."""
+    from workpack.lockregister import LockKind, shown
+
+    lines = [f"Locks on now, {plant} (records store {store}): {len(locks)}"]
+    if not locks:
+        return "\n".join(lines) + "\n"
+    rows = [("lock", "on", "held by", "since", "job")]
+    for lock in locks:
+        place = f"lock box {lock.place}" if lock.kind is LockKind.personal else lock.place
+        if lock.box:
+            place += f" (key in lock box {lock.box})"
+        holder = lock.holder
+        if lock.holder != lock.applied_by:
+            holder += f" (from {shown(lock.held_since)}; applied by {lock.applied_by})"
+        rows.append((lock.lock, place, holder, shown(lock.applied_at), lock.job))
+    widths = [max(len(row[i]) for row in rows) for i in range(4)]
+    lines += ["  " + "  ".join(cell.ljust(width) for cell, width in zip(row, widths, strict=False))
+              + "  " + row[4] for row in rows]
     return "\n".join(lines) + "\n"

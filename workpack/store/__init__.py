@@ -13,6 +13,7 @@ The error tree (all ``WorkpackError``, exit status 2)::
     StoreError               the store cannot do what was asked; names the file or URL
      ├── NotAStoreError      the file is not a workpack records store (or a newer one)
      ├── StoreURLError       a URL this workpack cannot open (or no PostgreSQL driver)
+     ├── ReadOnlyError       this database role may read the store but not write it
      ├── RecordRefusedError  a new record refused before anything was written
      └── NoSuchRecordError   a record number not in the store
 
@@ -26,6 +27,7 @@ from typing import TYPE_CHECKING, Any
 from workpack.store._base import (
     NoSuchRecordError,
     NotAStoreError,
+    ReadOnlyError,
     Record,
     RecordRefusedError,
     RecordStore,
@@ -42,6 +44,7 @@ from workpack.store._chain import (
     package_sha256,
     plant_genesis,
 )
+from workpack.store._events import EVENT_KINDS, JobEvent, NewEvent
 
 if TYPE_CHECKING:
     from workpack.store._open import is_server_url, open_store, set_up_store
@@ -63,9 +66,13 @@ def __getattr__(name: str) -> Any:
 __all__ = [
     "ChainBreak",
     "ChainHead",
+    "EVENT_KINDS",
     "GENESIS",
+    "JobEvent",
+    "NewEvent",
     "NoSuchRecordError",
     "NotAStoreError",
+    "ReadOnlyError",
     "Record",
     "RecordRefusedError",
     "RecordStore",

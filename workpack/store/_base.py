@@ -26,6 +26,7 @@ from workpack.store._chain import (
     is_sha256_hex,
     parse_timestamp,
 )
+from workpack.store._events import JobEvent, NewEvent
 
 # --- errors ----------------------------------------------------------------------------
 
@@ -40,6 +41,10 @@ class NotAStoreError(StoreError):
 
 class StoreURLError(StoreError):
     """The store's location names a kind of store this workpack cannot open."""
+
+
+class ReadOnlyError(StoreError):
+    """The store may be read but not written by this database role."""
 
 
 class RecordRefusedError(StoreError):
@@ -183,6 +188,21 @@ class RecordStore(Protocol):
 
     def head(self) -> ChainHead | None:
         """The last record's number and chain hash (an anchor to write down); None if empty."""
+        ...
+
+    def append_events(self, events: Sequence[NewEvent]) -> list[JobEvent]:
+        """Store job events (``_events``) in one transaction, numbered and chained after
+        the plant's last event, and return them. RecordRefusedError for an event that
+        cannot be stored (empty names, an unknown kind, detail JSON cannot hold); nothing
+        of the batch is written then."""
+        ...
+
+    def events(self, *, package_id: str | None = None) -> Iterator[JobEvent]:
+        """The plant's job events in sequence order (only ``package_id``'s when given)."""
+        ...
+
+    def verify_events(self) -> list[str]:
+        """Recompute the chain of job events; what is wrong, first problem first."""
         ...
 
     def verify(self, *, anchor: ChainHead | None = None) -> Verification:

@@ -50,7 +50,9 @@ from workpack.store._base import (
     Imported,
     NoSuchRecordError,
     NotAStoreError,
+    ReadOnlyError,
     Record,
+    RecordRefusedError,
     StoreError,
     check_supersedes,
     in_batches,
@@ -68,6 +70,17 @@ from workpack.store._chain import (
     next_row,
     plant_genesis,
     verify_rows,
+)
+from workpack.store._events import (
+    EVENT_COLUMNS,
+    EventRefusedError,
+    JobEvent,
+    NewEvent,
+    StoredEvent,
+    as_tuple,
+    encode,
+    next_events,
+    verify_events,
 )
 
 SCHEMA_VERSION = 1  # workpack.store_info 'schema_version'
@@ -133,6 +146,29 @@ BEGIN
     RETURN NEW;
 END"""
 
+# Job events (see _events): chained like the records; the guard checks the number and
+# the link, the hashes are checked by verify_events.
+_EVENTS_IN_ORDER = f"""
+DECLARE
+    last_sequence bigint;
+    last_chain text;
+BEGIN
+    PERFORM pg_advisory_xact_lock({LOCK_CLASS}, hashtext('events ' || NEW.plant));
+    SELECT e.sequence, e.chain_sha256 INTO last_sequence, last_chain
+        FROM workpack.job_events AS e WHERE e.plant = NEW.plant
+        ORDER BY e.sequence DESC LIMIT 1;
+    IF NOT FOUND THEN
+        last_sequence := 0;
+        SELECT p.genesis INTO last_chain FROM workpack.plants AS p WHERE p.plant = NEW.plant;
+    END IF;
+    IF NEW.sequence IS DISTINCT FROM last_sequence + 1
+            OR NEW.prev_sha256 IS DISTINCT FROM last_chain THEN
+        RAISE EXCEPTION 'workpack job events: only the next event of the chain of plant % '
+            'may be inserted (event %)', NEW.plant, last_sequence + 1;
+    END IF;
+    RETURN NEW;
+END"""
+
 # (name, arguments, returns, language and attributes, body)
 _FUNCTIONS = (
     ("chain_text", "t text", "bytea", "sql IMMUTABLE STRICT PARALLEL SAFE", _CHAIN_TEXT),
@@ -144,6 +180,8 @@ _FUNCTIONS = (
     ("refuse_change", "", "trigger", "plpgsql", _REFUSE_CHANGE),
     ("append_in_order", "", "trigger",
      "plpgsql SECURITY DEFINER SET search_path = pg_catalog, pg_temp", _APPEND_IN_ORDER),
+    ("events_in_order", "", "trigger",
+     "plpgsql SECURITY DEFINER SET search_path = pg_catalog, pg_temp", _EVENTS_IN_ORDER),
 )
 
 # (table, trigger, timing and events, level, function); verify expects exactly these.
@@ -153,6 +191,9 @@ _TRIGGERS = (
     ("records", "records_no_truncate", "BEFORE TRUNCATE", "STATEMENT", "refuse_change"),
     ("plants", "plants_no_change", "BEFORE UPDATE OR DELETE", "ROW", "refuse_change"),
     ("plants", "plants_no_truncate", "BEFORE TRUNCATE", "STATEMENT", "refuse_change"),
+    ("job_events", "job_events_in_order", "BEFORE INSERT", "ROW", "events_in_order"),
+    ("job_events", "job_events_no_change", "BEFORE UPDATE OR DELETE", "ROW", "refuse_change"),
+    ("job_events", "job_events_no_truncate", "BEFORE TRUNCATE", "STATEMENT", "refuse_change"),
 )
 
 _TABLES = (
@@ -185,6 +226,21 @@ _TABLES = (
     # One correction per record: corrections form a line, never a fork.
     "CREATE UNIQUE INDEX IF NOT EXISTS records_by_supersedes "
     "ON workpack.records (plant, supersedes) WHERE supersedes IS NOT NULL",
+    """CREATE TABLE IF NOT EXISTS workpack.job_events (
+        plant         text NOT NULL REFERENCES workpack.plants (plant),
+        sequence      bigint NOT NULL CHECK (sequence >= 1),
+        package_id    text NOT NULL,
+        job_key       text NOT NULL,
+        kind          text NOT NULL,
+        day           text NOT NULL,
+        at            text NOT NULL,
+        by            text NOT NULL,
+        detail_json   text NOT NULL,
+        prev_sha256   text NOT NULL CHECK (length(prev_sha256) = 64),
+        chain_sha256  text NOT NULL CHECK (length(chain_sha256) = 64),
+        PRIMARY KEY (plant, sequence))""",
+    "CREATE INDEX IF NOT EXISTS job_events_by_package "
+    "ON workpack.job_events (plant, package_id, sequence)",
     """CREATE TABLE IF NOT EXISTS workpack.crew_plants (
         member  name NOT NULL,
         plant   text NOT NULL CHECK (plant <> ''),
@@ -202,6 +258,9 @@ _POLICIES = (
     ("plants", "auditor_reads", "SELECT", AUDITOR_ROLE, "true", None),
     ("plants", "crew_reads_own", "SELECT", CREW_ROLE, _OWN_PLANT, None),
     ("plants", "crew_appends_own", "INSERT", CREW_ROLE, None, _OWN_PLANT),
+    ("job_events", "auditor_reads", "SELECT", AUDITOR_ROLE, "true", None),
+    ("job_events", "crew_reads_own", "SELECT", CREW_ROLE, _OWN_PLANT, None),
+    ("job_events", "crew_appends_own", "INSERT", CREW_ROLE, None, _OWN_PLANT),
     ("crew_plants", "auditor_reads", "SELECT", AUDITOR_ROLE, "true", None),
     ("crew_plants", "crew_reads_own", "SELECT", CREW_ROLE, "member = current_user", None),
 )
@@ -210,14 +269,18 @@ _GRANTS = (
     "REVOKE ALL ON SCHEMA workpack FROM PUBLIC",
     f"GRANT USAGE ON SCHEMA workpack TO {AUDITOR_ROLE}, {CREW_ROLE}",
     "REVOKE ALL ON workpack.store_info, workpack.plants, workpack.records, "
-    "workpack.crew_plants FROM PUBLIC",
+    "workpack.job_events, workpack.crew_plants FROM PUBLIC",
     # Never granted, and taken back should anyone have granted them by hand.
     "REVOKE UPDATE, DELETE, TRUNCATE ON workpack.store_info, workpack.plants, "
-    f"workpack.records, workpack.crew_plants FROM {AUDITOR_ROLE}, {CREW_ROLE}",
+    f"workpack.records, workpack.job_events, workpack.crew_plants FROM {AUDITOR_ROLE}, "
+    f"{CREW_ROLE}",
     "GRANT SELECT ON workpack.store_info, workpack.plants, workpack.records, "
-    f"workpack.crew_plants TO {AUDITOR_ROLE}, {CREW_ROLE}",
-    f"GRANT INSERT ON workpack.plants, workpack.records TO {CREW_ROLE}",
+    f"workpack.job_events, workpack.crew_plants TO {AUDITOR_ROLE}, {CREW_ROLE}",
+    f"GRANT INSERT ON workpack.plants, workpack.records, workpack.job_events TO {CREW_ROLE}",
 )
+
+
+_RLS_TABLES = ("plants", "records", "job_events", "crew_plants")
 
 
 def _schema_statements() -> list[str]:
@@ -236,7 +299,7 @@ def _schema_statements() -> list[str]:
     for table, trigger, when, level, function in _TRIGGERS:
         statements.append(f"CREATE OR REPLACE TRIGGER {trigger} {when} ON workpack.{table} "
                           f"FOR EACH {level} EXECUTE FUNCTION workpack.{function}()")
-    for table in ("plants", "records", "crew_plants"):
+    for table in _RLS_TABLES:
         statements.append(f"ALTER TABLE workpack.{table} ENABLE ROW LEVEL SECURITY")
     for table, policy, command, role, using, check in _POLICIES:
         statements.append(f"DROP POLICY IF EXISTS {policy} ON workpack.{table}")
@@ -335,10 +398,10 @@ class PostgresStore(ClosedOnExit):
         where, message = self._where(), _first_line(exc)
         if isinstance(exc, errors.InsufficientPrivilege):
             if "row-level security" in message:
-                return StoreError(f"{where}: this database role may not write the records of "
+                return ReadOnlyError(f"{where}: this database role may not write the records of "
                                   f"plant {self._plant!r}: a crew role writes only the plants "
                                   "it was set up for")
-            return StoreError(f"{where}: this database role may not do that while {doing} "
+            return ReadOnlyError(f"{where}: this database role may not do that while {doing} "
                               f"(PostgreSQL: {message}); an auditor role only reads")
         if isinstance(exc, errors.LockNotAvailable):
             return StoreError(f"{where}: the plant's chain stayed locked by another writer for "
@@ -533,6 +596,63 @@ class PostgresStore(ClosedOnExit):
             last = self._last_row(plant)
         return ChainHead(last.sequence, last.chain_sha256) if last is not None else None
 
+    # --- job events --------------------------------------------------------------------
+
+    def append_events(self, events: Sequence[NewEvent]) -> list[JobEvent]:
+        plant = self.plant
+        try:
+            encoded = [encode(event) for event in events]
+        except EventRefusedError as exc:
+            raise RecordRefusedError(f"{self.location}: {exc}") from None
+        if not encoded:
+            return []
+        c = self._conn
+        with self._translate("appending job events"), c.transaction():
+            c.execute("SELECT pg_advisory_xact_lock(%s::integer, hashtext(%s))",
+                      (LOCK_CLASS, "events " + plant))
+            genesis = self._genesis(plant)
+            if genesis is None:
+                genesis = plant_genesis(plant)
+                c.execute("INSERT INTO workpack.plants (plant, genesis) VALUES (%s, %s)",
+                          (plant, genesis))
+            last = c.execute("SELECT sequence, chain_sha256 FROM workpack.job_events "
+                             "WHERE plant = %s ORDER BY sequence DESC LIMIT 1",
+                             (plant,)).fetchone()
+            rows = next_events(tuple(last) if last else None, genesis, encoded)
+            with c.cursor() as cursor:
+                cursor.executemany(
+                    f"INSERT INTO workpack.job_events (plant, {EVENT_COLUMNS}) VALUES "
+                    "(%s, %s, %s, %s, %s, %s, %s, %s, %s, %s, %s)",
+                    [(plant, *as_tuple(row)) for row in rows])
+        return [JobEvent.from_row(row) for row in rows]
+
+    def events(self, *, package_id: str | None = None) -> Iterator[JobEvent]:
+        plant = self.plant
+        where, params = ("AND package_id = %s", (plant, package_id)) if package_id else (
+            "", (plant,))
+        with self._translate("reading job events"):
+            rows = self._conn.execute(f"SELECT {EVENT_COLUMNS} FROM workpack.job_events "
+                                      f"WHERE plant = %s {where} ORDER BY sequence",
+                                      params).fetchall()
+        for found in rows:
+            yield JobEvent.from_row(StoredEvent(*found))
+
+    def verify_events(self) -> list[str]:
+        plant = self.plant
+        c = self._conn
+        with self._translate("verifying job events"), c.transaction():
+            c.execute("SET TRANSACTION ISOLATION LEVEL REPEATABLE READ, READ ONLY")
+            stored = self._genesis(plant)
+            genesis = stored if stored == GENESIS else plant_genesis(plant)
+            rows = [StoredEvent(*found) for found in c.execute(
+                f"SELECT {EVENT_COLUMNS} FROM workpack.job_events WHERE plant = %s "
+                "ORDER BY sequence", (plant,))]
+            problems = verify_events(self.location, rows, genesis)
+            if not self._guards_intact():
+                problems.append(f"{self.location}: the store's append-only guards are "
+                                "missing, changed or disabled")
+        return problems
+
     # --- verifying ---------------------------------------------------------------------
 
     def verify(self, *, anchor: ChainHead | None = None) -> Verification:
@@ -585,7 +705,7 @@ def _expected_guards() -> set[tuple[str, ...]]:
     found: set[tuple[str, ...]] = {("function", name, body) for name, body in bodies.items()}
     found |= {(table, trigger, "enabled", bodies[function])
               for table, trigger, _, _, function in _TRIGGERS}
-    found |= {("row level security", table) for table in ("plants", "records", "crew_plants")}
+    found |= {("row level security", table) for table in _RLS_TABLES}
     return found
 
 

@@ -36,6 +36,7 @@ from workpack.store._base import (
     NoSuchRecordError,
     NotAStoreError,
     Record,
+    RecordRefusedError,
     StoreError,
     check_supersedes,
     in_batches,
@@ -52,6 +53,17 @@ from workpack.store._chain import (
     next_row,
     plant_genesis,
     verify_rows,
+)
+from workpack.store._events import (
+    EVENT_COLUMNS,
+    EventRefusedError,
+    JobEvent,
+    NewEvent,
+    StoredEvent,
+    as_tuple,
+    encode,
+    next_events,
+    verify_events,
 )
 
 APPLICATION_ID = 0x77706B72  # "wpkr" in the SQLite header: marks a workpack records store
@@ -126,6 +138,42 @@ _GUARDS_V2 = {
         "DELETE refused'); END"),
 }
 _GUARDS = {1: _GUARDS_V1, 2: _GUARDS_V2}
+
+# Job events (see _events): a table of their own, made by the first event written, so a
+# store from before job events reads and verifies as it did. Guarded like the records;
+# the chain starts from the store's genesis (GENESIS in a schema-1 file).
+_EVENTS_TABLE = """CREATE TABLE IF NOT EXISTS job_events (
+    sequence     INTEGER PRIMARY KEY CHECK (sequence >= 1),
+    package_id   TEXT NOT NULL,
+    job_key      TEXT NOT NULL,
+    kind         TEXT NOT NULL,
+    day          TEXT NOT NULL,
+    at           TEXT NOT NULL,
+    by           TEXT NOT NULL,
+    detail_json  TEXT NOT NULL,
+    prev_sha256  TEXT NOT NULL CHECK (length(prev_sha256) = 64),
+    chain_sha256 TEXT NOT NULL CHECK (length(chain_sha256) = 64)
+) STRICT"""
+_EVENTS_INDEX = "CREATE INDEX IF NOT EXISTS job_events_by_package ON job_events (package_id)"
+
+
+def _event_guards(version: int) -> dict[str, str]:
+    genesis = "(SELECT genesis FROM store_plant)" if version >= 2 else f"'{GENESIS}'"
+    return {
+        "job_events_no_update": (
+            "CREATE TRIGGER job_events_no_update BEFORE UPDATE ON job_events BEGIN "
+            "SELECT RAISE(ABORT, 'workpack job events are append-only: UPDATE refused'); END"),
+        "job_events_no_delete": (
+            "CREATE TRIGGER job_events_no_delete BEFORE DELETE ON job_events BEGIN "
+            "SELECT RAISE(ABORT, 'workpack job events are append-only: DELETE refused'); END"),
+        "job_events_in_order": (
+            "CREATE TRIGGER job_events_in_order BEFORE INSERT ON job_events WHEN "
+            "NEW.sequence IS NOT (SELECT coalesce(max(sequence), 0) + 1 FROM job_events) OR "
+            "NEW.prev_sha256 IS NOT coalesce((SELECT chain_sha256 FROM job_events "
+            f"ORDER BY sequence DESC LIMIT 1), {genesis}) BEGIN "
+            "SELECT RAISE(ABORT, 'workpack job events: only the next event of the chain may "
+            "be inserted'); END"),
+    }
 
 
 class SQLiteStore(ClosedOnExit):
@@ -410,6 +458,68 @@ class SQLiteStore(ClosedOnExit):
             found = self._conn.execute("SELECT sequence, chain_sha256 FROM records "
                                        "ORDER BY sequence DESC LIMIT 1").fetchone()
         return ChainHead(*found) if found is not None else None
+
+    # --- job events --------------------------------------------------------------------
+
+    def _has_events(self) -> bool:
+        return self._conn.execute("SELECT 1 FROM sqlite_master WHERE type = 'table' AND "
+                                  "name = 'job_events'").fetchone() is not None
+
+    def append_events(self, events: Sequence[NewEvent]) -> list[JobEvent]:
+        try:
+            encoded = [encode(event) for event in events]
+        except EventRefusedError as exc:
+            raise RecordRefusedError(f"{self._location}: {exc}") from None
+        if not encoded:
+            return []
+        c = self._conn
+        with self._translate("appending job events"):
+            c.execute("BEGIN IMMEDIATE")
+            try:
+                if not self._has_events():
+                    for statement in (_EVENTS_TABLE, _EVENTS_INDEX,
+                                      *_event_guards(self._version).values()):
+                        c.execute(statement)
+                last = c.execute("SELECT sequence, chain_sha256 FROM job_events "
+                                 "ORDER BY sequence DESC LIMIT 1").fetchone()
+                rows = next_events(tuple(last) if last else None, self._genesis, encoded)
+                c.executemany(f"INSERT INTO job_events ({EVENT_COLUMNS}) VALUES "
+                              "(?, ?, ?, ?, ?, ?, ?, ?, ?, ?)", [as_tuple(r) for r in rows])
+                c.execute("COMMIT")
+            except BaseException:
+                self._rollback()
+                raise
+        return [JobEvent.from_row(row) for row in rows]
+
+    def events(self, *, package_id: str | None = None) -> Iterator[JobEvent]:
+        with self._translate("reading job events"):
+            if not self._has_events():
+                return
+            where, params = ("WHERE package_id = ?", (package_id,)) if package_id else ("", ())
+            rows = self._conn.execute(f"SELECT {EVENT_COLUMNS} FROM job_events {where} "
+                                      "ORDER BY sequence", params).fetchall()
+        for found in rows:
+            yield JobEvent.from_row(StoredEvent(*found))
+
+    def verify_events(self) -> list[str]:
+        c = self._conn
+        with self._translate("verifying job events"):
+            c.execute("BEGIN")
+            try:
+                if not self._has_events():
+                    return []
+                triggers = dict(c.execute("SELECT name, sql FROM sqlite_master "
+                                          "WHERE type = 'trigger'").fetchall())
+                rows = (StoredEvent(*found) for found in c.execute(
+                    f"SELECT {EVENT_COLUMNS} FROM job_events ORDER BY sequence"))
+                problems = verify_events(self._location, rows, self._genesis)
+                if any(triggers.get(name) != sql
+                       for name, sql in _event_guards(self._version).items()):
+                    problems.append(f"{self._location}: the job events' append-only guards "
+                                    "are missing or changed")
+            finally:
+                self._rollback()
+        return problems
 
     # --- verifying ---------------------------------------------------------------------
 

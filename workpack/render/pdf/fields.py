@@ -13,6 +13,7 @@ name                                  kind    what goes in it
 ====================================  ======  =============================================
 ``reading:<reading id>``              text    measured value, in the reading's unit
 ``temperature:<reading id>``          text    temperature in °C (only where it is needed)
+``instrument:<reading id>``           text    the instrument read with (its register id)
 ``step:<n>:done``                     check   work step n done
 ``restore:<n>:done``                  check   restoration step n done
 ``lock:<device>:number``              text    number of the lock put on the device

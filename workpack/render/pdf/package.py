@@ -19,6 +19,7 @@ from reportlab.lib.styles import ParagraphStyle
 from reportlab.lib.units import mm
 from reportlab.platypus import Flowable, Paragraph, Spacer, TableStyle
 
+from workpack.competence import job_needs
 from workpack.forms import CHOSEN, FINAL_PROCEDURE
 from workpack.model.package import (
     Caution,
@@ -440,9 +441,16 @@ class PackagePdf(PdfDocument):
             pair("Job kind", p.job_kind.replace("_", " "))
             + pair("Permits", ", ".join(p.permits) or "none listed"),
             pair("Origin", "; ".join(origin)) + ["", ""],
+            pair("Who", job_needs(p).describe()) + ["", ""],
         ]
+        if p.assigned:
+            crew = "; ".join(p.assigned)
+            if p.supervisor_assigned:
+                crew += f"; supervisor {p.supervisor_assigned}"
+            rows.append(pair("Assigned", crew) + ["", ""])
+        spans = [("SPAN", (1, row), (3, row)) for row in range(5, len(rows))]
         table = Table(rows, colWidths=self.cols(24, 67, 24, 67), repeat_when_cut=(0, 2))
-        table.setStyle(TableStyle([*GRID, ("SPAN", (1, 5), (3, 5)),
+        table.setStyle(TableStyle([*GRID, *spans,
                                    ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
         return [self.numbered("The job"), table]
 
@@ -632,9 +640,16 @@ class PackagePdf(PdfDocument):
 
     def isolation_block(self) -> list[Flowable]:
         p = self.package
-        return self.isolation_table(p.isolation, p.isolation_gaps, p.stored_energy, (),
-                                    self.numbered("Isolation: open, lock and tag in this "
-                                                  "order"), p.restoration)
+        out = self.isolation_table(p.isolation, p.isolation_gaps, p.stored_energy, (),
+                                   self.numbered("Isolation: open, lock and tag in this "
+                                                 "order"), p.restoration)
+        if p.locks_on:  # a job carried over with its locks on
+            return [Paragraph("Locks of this job still on from an earlier day: at each, "
+                              "check that the lock and tag are in place and write their "
+                              "numbers below; do not take them off before the restoration "
+                              "says so", self.style["bold"]),
+                    *self.bullets(lock.text for lock in p.locks_on), *out]
+        return out
 
     def isolation_table(self, isolation: Sequence[IsolationPoint], gaps: Sequence[str],
                         stored_energy: Sequence[str], scope: tuple[str, ...],
@@ -737,6 +752,7 @@ class PackagePdf(PdfDocument):
         heads = ["Reading", "Expected", "Limit and its source", "Measured"]
         if with_temperature:
             heads.append("Temp.")
+        heads.append("Instrument")
         rows: list[list[Any]] = [[Paragraph(t, self.style["head"]) for t in heads]]
         above: dict[str, str] = {}  # a source printed in the row above: not again
 
@@ -770,9 +786,12 @@ class PackagePdf(PdfDocument):
                 self.blank(Blank(("reading", r.id), f"{r.id}: {r.what}, {r.unit}",
                                  suffix=r.unit)),
             ]
-            rows.append([*row, temperature] if with_temperature else row)
-        widths = (self.cols(42, 32, 50, 33, 25) if with_temperature
-                  else self.cols(46, 38, 64, 34))
+            instrument = self.blank(Blank(("instrument", r.id),
+                                          f"{r.id}: instrument (its register id)"))
+            rows.append([*row, temperature, instrument] if with_temperature
+                        else [*row, instrument])
+        widths = (self.cols(38, 28, 44, 30, 22, 20) if with_temperature
+                  else self.cols(42, 34, 54, 32, 20))
         table = Table(rows, colWidths=widths, repeatRows=1)
         table.setStyle(TableStyle([*GRID, *HEAD_ROW]))
         return table
