@@ -55,6 +55,18 @@ def test_a_routine_jobs_key_names_its_test_and_element() -> None:
 # --- state -------------------------------------------------------------------------------
 
 
+def test_a_job_gathers_the_answers_of_every_plan_that_named_some() -> None:
+    # fold reads a plan's detail only when it names answers: these must all be kept
+    jobs = fold(events(
+        (P1, "k1", "planned", YESTERDAY, {"item": "WL-1", "answers": [P2]}),
+        (P1, "k1", "planned", DAY, {"item": "WL-1", "answers": []}),
+        (P1, "k1", "planned", DAY, {"item": "WL-1", "answers": [P3, P1]}),
+        (P2, "k2", "planned", DAY, {"item": "WL-2", "title": "answers"}),
+    ))
+    assert jobs[P1].answers == (P2, P3)
+    assert jobs[P2].answers == ()
+
+
 def test_a_jobs_state_is_its_last_event_but_a_carry_over() -> None:
     jobs = fold(events(
         (P1, "k1", "planned", YESTERDAY, {"item": "WL-1"}),

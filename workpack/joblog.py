@@ -90,6 +90,8 @@ class Event(Protocol):
 # As canonical JSON (RFC 8785: no spaces, one spelling) writes these, so a detail can be
 # asked without parsing it.
 _NO_ANSWERS, _NO_FOLLOWUPS, _FAILED = '"answers":[]', '"followups":[]', '"verdict":"failed"'
+# A detail without this text names no answers at all (most plans' events: not parsed).
+_ANSWERS_KEY = '"answers"'
 
 
 @dataclass(frozen=True)
@@ -178,7 +180,8 @@ def fold(events: Iterable[Event]) -> dict[str, JobState]:
         if event.kind == "planned":
             job["last_planned"] = max(job["last_planned"], event.day)
             job["planned_event"] = event
-            if _NO_ANSWERS not in event.detail_json:
+            text = event.detail_json
+            if _ANSWERS_KEY in text and _NO_ANSWERS not in text:
                 job["answers"].update(event.detail.get("answers", ()))
         elif event.kind in ("suspended", "completed"):
             job["record_event"] = event
