@@ -752,7 +752,7 @@ class PackagePdf(PdfDocument):
         heads = ["Reading", "Expected", "Limit and its source", "Measured"]
         if with_temperature:
             heads.append("Temp.")
-        heads.append("Instrument")
+        heads.append("Instr. id")  # "Instrument" breaks inside the word at 20 mm
         rows: list[list[Any]] = [[Paragraph(t, self.style["head"]) for t in heads]]
         above: dict[str, str] = {}  # a source printed in the row above: not again
 
