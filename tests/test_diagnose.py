@@ -358,8 +358,8 @@ def test_lamps_read_with_the_button_released_cannot_show_a_ground(demo_vessel, s
 def test_dry_type_bank_windings_take_table_100_5_and_the_solid_column(demo_vessel,
                                                                      standards) -> None:
     """T1 is a dry-type 440/115 V bank: each winding ≤600 V takes 1000 V DC and 500 MΩ at
-    20 °C (ANSI/NETA Table 100.5 as transcribed in SOURCES.md, checked against a public
-    transcription), not Table 100.1's 100 MΩ; its reading is corrected with the solid
+    20 °C (ANSI/NETA Table 100.5 as given in SOURCES.md, checked against a publicly available
+    copy of the table), not Table 100.1's 100 MΩ; its reading is corrected with the solid
     column of Table 100.14."""
     tests = insulation_tests(demo_vessel, demo_vessel.elements["T1"], standards)
     assert [t.part for t in tests] == ["primary winding (440 V)", "secondary winding (115 V)"]
@@ -379,7 +379,7 @@ def test_dry_type_bank_windings_take_table_100_5_and_the_solid_column(demo_vesse
 def test_liquid_filled_transformer_takes_the_oil_column(demo_site, standards) -> None:
     """Site T2, liquid-filled 690/400 V: the 690 V winding is in the 601–5000 V row (2500 V
     DC, 1000 MΩ) and the 400 V one in the ≤600 V row (1000 V DC, 100 MΩ), Table 100.5;
-    corrected with the oil column of Table 100.14 (both as transcribed in SOURCES.md)."""
+    corrected with the oil column of Table 100.14 (both as given in SOURCES.md)."""
     tests = insulation_tests(demo_site, demo_site.elements["T2"], standards)
     assert [(t.test_voltage.max_v, t.minimum.minimum_ohm) for t in tests] == [
         (2500, 1000e6), (1000, 100e6)]

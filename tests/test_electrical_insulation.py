@@ -138,7 +138,7 @@ def test_the_printed_correction_states_the_range_and_the_retest() -> None:
 
 def test_neta_correction_worked_example() -> None:
     """1200 MΩ at 35 °C × 2.80 = 3360 MΩ at 20 °C (SOURCES.md worked example, oil column
-    of ANSI/NETA MTS-2019 Table 100.14, checked against a public transcription)."""
+    of ANSI/NETA MTS-2019 Table 100.14, checked against a publicly available copy of the table)."""
     c = correct_to_reference(OIL, 1200 * MEG, 35.0)
     assert c.corrected_ohm == pytest.approx(3360 * MEG, rel=1e-12)
     assert c.reference_c == 20
@@ -157,14 +157,14 @@ SOLID_FACTORS = [(0, 0.40), (5, 0.50), (10, 0.63), (15, 0.81), (20, 1.00), (25, 
 @pytest.mark.parametrize(("temp", "factor"), OIL_FACTORS)
 def test_neta_oil_factors_at_table_points(temp: float, factor: float) -> None:
     """ANSI/NETA MTS-2019 Table 100.14, oil-immersed column, at every point (SOURCES.md,
-    checked against a public transcription); 15 °C is 0.75, not 0.74."""
+    checked against a publicly available copy of the table); 15 °C is 0.75, not 0.74."""
     assert correct_to_reference(OIL, 1 * MEG, temp).factor == pytest.approx(factor, rel=1e-12)
 
 
 @pytest.mark.parametrize(("temp", "factor"), SOLID_FACTORS)
 def test_neta_solid_factors_at_table_points(temp: float, factor: float) -> None:
     """ANSI/NETA MTS-2019 Table 100.14, solid-insulation column, at every point
-    (SOURCES.md, checked against a public transcription)."""
+    (SOURCES.md, checked against a publicly available copy of the table)."""
     assert correct_to_reference(SOLID, 1 * MEG, temp).factor == pytest.approx(factor,
                                                                               rel=1e-12)
 
@@ -172,8 +172,8 @@ def test_neta_solid_factors_at_table_points(temp: float, factor: float) -> None:
 def test_30_megohm_at_40_c_passes_the_oil_column_and_fails_the_solid_one() -> None:
     """The issue's case: 30 MΩ at 40 °C against a 100 MΩ minimum (ANSI/NETA MTS-2019
     Table 100.1, 600 V row). Oil column: 30 × 3.95 = 118.5 MΩ at 20 °C, passes; solid
-    column: 30 × 2.50 = 75 MΩ, fails (Table 100.14, checked against a public
-    transcription). Switchgear is solid insulation."""
+    column: 30 × 2.50 = 75 MΩ, fails (Table 100.14, checked against a publicly available
+    copy of the table). Switchgear is solid insulation."""
     oil = judge_insulation(OIL, 30 * MEG, 40.0, 440.0)
     solid = judge_insulation(SOLID, 30 * MEG, 40.0, 440.0)
     assert oil.minimum.minimum_ohm == solid.minimum.minimum_ohm == 100 * MEG
@@ -198,7 +198,7 @@ def test_the_bare_neta_name_names_no_column_and_corrects_nothing() -> None:
 )
 def test_neta_transformer_winding_table(winding_v: float, kind: str, test_v: float,
                                         min_mohm: float) -> None:
-    """ANSI/NETA Table 100.5 (SOURCES.md, checked against a public transcription of the ATS
+    """ANSI/NETA Table 100.5 (SOURCES.md, checked against a publicly available copy of the ATS
     edition's table): ≤600 V 1000 V DC, 100 MΩ liquid-filled / 500 MΩ dry-type; 601–5000 V
     2500 V DC, 1000 / 5000 MΩ; above 5000 V 5000 V DC, 5000 / 25 000 MΩ; at 20 °C."""
     for code_set in (OIL, SOLID):

@@ -45,7 +45,7 @@ def _judged(package: WorkPackage, standards: dict, value_mohm: float, temperatur
 def test_switchgear_30_megohm_at_40_c_fails_on_the_solid_column(demo_vessel, standards) -> None:
     """The issue's case on a package: MSB (switchgear, 440 V) prints at least 100 MΩ at
     20 °C (ANSI/NETA MTS-2019 Table 100.1); 30 MΩ read at 40 °C is 30 × 2.50 = 75 MΩ on
-    the solid column of Table 100.14 (checked against a public transcription): fail. The
+    the solid column of Table 100.14 (checked against a publicly available copy of the table): fail. The
     oil column (× 3.95 = 118.5 MΩ) would have passed it."""
     package = _package_with("MSB", demo_vessel, standards)
     verdicts, evaluation = _judged(package, standards, 30.0, 40.0)
@@ -57,7 +57,7 @@ def test_switchgear_30_megohm_at_40_c_fails_on_the_solid_column(demo_vessel, sta
 
 def test_dry_type_bank_is_judged_by_table_100_5(demo_vessel, standards) -> None:
     """T1, a dry-type bank with ≤600 V windings: at least 500 MΩ at 20 °C (ANSI/NETA Table
-    100.5 as transcribed in SOURCES.md). 300 MΩ at 20 °C passes Table 100.1's 100 MΩ but
+    100.5 as given in SOURCES.md). 300 MΩ at 20 °C passes Table 100.1's 100 MΩ but
     fails here."""
     package = _package_with("T1", demo_vessel, standards)
     verdicts, _ = _judged(package, standards, 300.0, 20.0)
