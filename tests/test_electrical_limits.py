@@ -45,8 +45,8 @@ def _judged(package: WorkPackage, standards: dict, value_mohm: float, temperatur
 def test_switchgear_30_megohm_at_40_c_fails_on_the_solid_column(demo_vessel, standards) -> None:
     """The issue's case on a package: MSB (switchgear, 440 V) prints at least 100 MΩ at
     20 °C (ANSI/NETA MTS-2019 Table 100.1); 30 MΩ read at 40 °C is 30 × 2.50 = 75 MΩ on
-    the solid column of Table 100.14 (checked against a publicly available copy of the table): fail. The
-    oil column (× 3.95 = 118.5 MΩ) would have passed it."""
+    the solid column of Table 100.14 (checked against a publicly available copy of the
+    table): fail. The oil column (× 3.95 = 118.5 MΩ) would have passed it."""
     package = _package_with("MSB", demo_vessel, standards)
     verdicts, evaluation = _judged(package, standards, 30.0, 40.0)
     assert {v.code_set for v in verdicts} == {"neta-mts-2019/solid"}
