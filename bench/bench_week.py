@@ -44,7 +44,7 @@ from weekdata import filled_results  # noqa: E402
 
 from workpack.electrical import available_code_sets, load_code_set  # noqa: E402
 from workpack.evaluate import evaluate  # noqa: E402
-from workpack.history import history_from_records  # noqa: E402
+from workpack.history import history_from_planning  # noqa: E402
 from workpack.joblog import (  # noqa: E402
     carry_forward,
     fold,
@@ -141,8 +141,8 @@ def from_store(path: Path, topology: Topology, findings_text: str):  # type: ign
     """What the plan reads from the store and carries forward: the part this issue adds."""
     plant = topology.plant
     with SQLiteStore(path, create=False) as store:
-        history = history_from_records(store.records(),
-                                       plant.plant.code_set.rotating_machines)
+        history = history_from_planning(store.planning_records(),
+                                        plant.plant.code_set.rotating_machines)
         jobs = fold(store.events())
     findings = load_findings_text(findings_text, "findings.yaml", topology)
     carry = carry_forward(jobs, DAY)
@@ -154,8 +154,8 @@ def history_only(path: Path, topology: Topology) -> object:
     """The planning history alone (every record's payload read): what planning paid
     before job events, for the breakdown."""
     with SQLiteStore(path, create=False) as store:
-        return history_from_records(store.records(),
-                                    topology.plant.plant.code_set.rotating_machines)
+        return history_from_planning(store.planning_records(),
+                                     topology.plant.plant.code_set.rotating_machines)
 
 
 def plan_next_day(path: Path, topology: Topology, findings_text: str, standards: dict):  # type: ignore[no-untyped-def]

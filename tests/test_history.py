@@ -4,16 +4,18 @@ falling insulation trend brings the routine test forward."""
 from __future__ import annotations
 
 import datetime as dt
+import sqlite3
 
+import pytest
 from conftest import ROOT
 
-from workpack.history import history_from_records
+from workpack.history import history_from_planning, history_from_records
 from workpack.loading import load_findings, load_ruleset, load_weights
 from workpack.model.evaluation import Evaluation, ReadingVerdict
 from workpack.model.results import Results
 from workpack.plan import due_routines, plan_day
-from workpack.records import record_payload
-from workpack.store import open_store
+from workpack.records import read_back, record_payload
+from workpack.store import StoreError, open_store
 
 DAY = dt.date(2026, 12, 2)
 HASH = "0" * 64
@@ -102,3 +104,71 @@ def test_plan_with_a_named_store_that_does_not_exist_is_an_error(tmp_path, capsy
                  str(ROOT / "plants" / "demo-vessel-findings.yaml"), "--out",
                  str(tmp_path / "out"), "--db", str(tmp_path / "none.sqlite")]) == 2
     assert "no such records store" in capsys.readouterr().err
+
+
+@pytest.mark.parametrize("backend", ["sqlite", "postgresql"])
+def test_planning_summaries_give_the_history_the_payloads_give(tmp_path, request,
+                                                                backend) -> None:
+    """The planner reads the summary each record's transaction kept beside it, not the
+    payload; what it gets is what reading every payload gives, and a payload planning
+    cannot read (not a record's shape, or from a newer workpack) is still left out and
+    still reported, exactly as before."""
+    location = (str(tmp_path / "r.sqlite") if backend == "sqlite"
+                else request.getfixturevalue("pg_store_url"))
+    malformed = {"note": "entered by an older tool"}
+    newer = {**ir_payload("SWP-1", 1e6, "2026-03-03"), "payload_version": 99}
+    bad_reading = ir_payload("SWP-1", 2e6, "2026-03-04")
+    bad_reading["evaluation"]["readings"][0]["measured_si"] = "lots"
+    payloads = [("WP-1", ir_payload("SWP-1", 9e6, "2026-01-01", found="SWP-1"), None),
+                ("WP-2", ir_payload("SWP-1", 8e6, "2026-02-01", found="BP-1"), None),
+                ("WP-2", ir_payload("SWP-1", 7e6, "2026-02-01", found="SWP-1"), 2),
+                ("WP-3", malformed, None), ("WP-4", newer, None), ("WP-5", bad_reading, None),
+                ("WP-6", ir_payload("BP-1", 6.5e6, "2026-03-05"), None)]
+    with open_store(location, plant=f"MV Summary {backend}") as store:
+        for n, (package, payload, supersedes) in enumerate(payloads, start=1):
+            store.append(package_id=package, package_sha256=HASH, results=payload,
+                         recorded_by="x", recorded_at=dt.datetime(2026, 1, n, tzinfo=dt.UTC),
+                         verdict="passed", supersedes=supersedes)
+        rows = list(store.planning_records())
+        # every record of today's workpack has its summary: no payload is read
+        assert [r.summary is not None and r.results_json is None for r in rows] == [True] * 7
+        from_summaries = history_from_planning(rows, "ieee43-2013")
+        from_payloads = history_from_records(store.records(), "ieee43-2013")
+        read = {r.package_id: read_back(r).problem for r in store.records()}
+    assert from_summaries == from_payloads
+    assert from_summaries.past_grounds == {"SWP-1": 2}
+    assert [r.resistance_ohm for r in from_summaries.insulation["SWP-1"].readings] == \
+        [9e6, 7e6]
+    assert list(from_summaries.insulation) == ["BP-1", "SWP-1"]
+    assert [r.facts.readable for r in rows] == [True, True, True, False, False, False, True]
+    # the same three payloads are refused, for the same reasons, by the whole reading
+    assert {p: why for p, why in read.items() if why} == {
+        "WP-3": "the record holds no evaluation",
+        "WP-4": "the record's payload was written by a newer workpack (payload version 99; "
+                "this one reads up to 3); upgrade workpack",
+        "WP-5": "the record's evaluation.readings.0.measured_si does not read back: Input "
+                "should be a valid number, unable to parse string as a number"}
+
+
+def test_records_without_a_summary_are_read_whole(tmp_path) -> None:
+    """A store written before summaries were kept (or by an older workpack) has records
+    with none: the planner reads their payloads, with the same result, and a payload
+    that is not JSON at all is refused as it always was."""
+    store = store_with(tmp_path, [
+        ("WP-1", ir_payload("SWP-1", 9e6, "2026-01-01", found="SWP-1"), None),
+        ("WP-2", ir_payload("SWP-1", 8e6, "2026-02-01"), None)])
+    store.close()
+    with sqlite3.connect(tmp_path / "r.sqlite") as raw:
+        raw.execute("DELETE FROM record_planning WHERE sequence = 2")
+    with open_store(tmp_path / "r.sqlite") as store:
+        rows = list(store.planning_records())
+        assert [(r.summary is None, r.results_json is None) for r in rows] == \
+            [(False, True), (True, False)]
+        assert history_from_planning(rows, "ieee43-2013") == \
+            history_from_records(store.records(), "ieee43-2013")
+    with sqlite3.connect(tmp_path / "r.sqlite") as raw:
+        raw.execute("DROP TRIGGER records_no_update")
+        raw.execute("UPDATE records SET results_json = '{not json' WHERE sequence = 2")
+    with open_store(tmp_path / "r.sqlite") as store, \
+            pytest.raises(StoreError, match="record 2 is damaged"):
+        list(store.planning_records())

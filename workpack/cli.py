@@ -373,7 +373,7 @@ def _plan_crew(args: argparse.Namespace, plant: str) -> Any:
 def _history(args: argparse.Namespace, plant: Any) -> tuple[Any, dict[str, Any] | None]:
     """What the records store says, if there is one (``--db``, or beside the plant): the
     history for planning, and each job's state from its events (None: no store)."""
-    from workpack.history import History, history_from_records
+    from workpack.history import History, history_from_planning
     from workpack.joblog import fold
     from workpack.store import is_server_url, open_store
 
@@ -385,8 +385,8 @@ def _history(args: argparse.Namespace, plant: Any) -> tuple[Any, dict[str, Any] 
                              f"workpack store init {args.db} --plant '{plant.plant.name}')")
         return History(), None
     with open_store(db, plant=plant.plant.name if server else None, create=False) as store:
-        history = history_from_records(store.records(),
-                                       plant.plant.code_set.rotating_machines)
+        history = history_from_planning(store.planning_records(),
+                                        plant.plant.code_set.rotating_machines)
         return history, fold(store.events())
 
 

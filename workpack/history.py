@@ -14,11 +14,17 @@ from __future__ import annotations
 import datetime as dt
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
+from typing import Protocol
 
 from workpack.electrical import DatedReading, TrendJudgement, insulation_trend
 from workpack.electrical.standards import CodeSet
-from workpack.model.evaluation import RESISTANCE_UNITS
-from workpack.records import StoredRecord, latest_effective, read_for_planning
+from workpack.records import (
+    Chained,
+    PlanningFacts,
+    StoredRecord,
+    latest_effective,
+    planning_facts,
+)
 
 
 @dataclass(frozen=True)
@@ -51,25 +57,69 @@ class _Gathered:
     by_day: dict[dt.date, DatedReading] = field(default_factory=dict)
 
 
+class PlanningRecord(Chained, Protocol):
+    """A record as planning reads it (``store.PlanningRow``): its place in the chain, its
+    time, and its ``PlanningFacts``."""
+
+    @property
+    def recorded_at(self) -> dt.datetime: ...
+
+    @property
+    def facts(self) -> PlanningFacts: ...
+
+
+@dataclass(frozen=True)
+class _Read:
+    """A full record with its payload read for planning (what ``history_from_records``
+    gives ``history_from_planning``)."""
+
+    record: StoredRecord
+
+    @property
+    def sequence(self) -> int:
+        return self.record.sequence
+
+    @property
+    def package_id(self) -> str:
+        return self.record.package_id
+
+    @property
+    def supersedes(self) -> int | None:
+        return self.record.supersedes
+
+    @property
+    def recorded_at(self) -> dt.datetime:
+        return self.record.recorded_at
+
+    @property
+    def facts(self) -> PlanningFacts:
+        return planning_facts(self.record.results_json)
+
+
 def history_from_records(records: Iterable[StoredRecord], default_code_set: str) -> History:
-    """Grounds found and insulation series from store records (latest effective ones).
+    """Grounds found and insulation series from store records (latest effective ones),
+    each payload read here. ``history_from_planning`` is the same from the summaries a
+    store keeps (``RecordStore.planning_records``)."""
+    return history_from_planning((_Read(record) for record in records), default_code_set)
+
+
+def history_from_planning(records: Iterable[PlanningRecord], default_code_set: str) -> History:
+    """Grounds found and insulation series from the planning facts of the latest
+    effective records.
 
     A series whose readings named no correction tables is judged with
     ``default_code_set`` (the plant's tables for rotating machines)."""
     grounds: dict[str, int] = {}
     gathered: dict[str, _Gathered] = {}
     for record in sorted(latest_effective(records).values(), key=lambda r: r.sequence):
-        payload = read_for_planning(record)
-        if payload is None:
+        facts = record.facts
+        if not facts.readable:
             continue
-        found = payload.results.ground_found_at
+        found = facts.ground_found_at
         if found:
             grounds[found] = grounds.get(found, 0) + 1
-        day = payload.results.completed_on or record.recorded_at.date()
-        for reading in payload.evaluation.readings:
-            if (not reading.element or reading.unit not in RESISTANCE_UNITS
-                    or reading.measured_si is None or reading.low is None):
-                continue
+        day = facts.completed_on or record.recorded_at.date()
+        for reading in facts.readings:
             series = gathered.setdefault(reading.element, _Gathered(reading.low))
             series.code_set = series.code_set or reading.code_set
             # One value a day per element: the lowest phase is what matters.

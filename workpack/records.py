@@ -45,6 +45,7 @@ What a record holds, as a reader sees it
 from __future__ import annotations
 
 import datetime as dt
+import json
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any, Generic, Protocol, TypeVar
@@ -58,7 +59,7 @@ from pydantic import (
     model_validator,
 )
 
-from workpack.model.evaluation import Evaluation, Outcome
+from workpack.model.evaluation import RESISTANCE_UNITS, Evaluation, Outcome
 from workpack.model.results import LockBoxRecord, LockRecord, Results
 from workpack.model.signature import Signature
 
@@ -68,6 +69,9 @@ __all__ = [
     "Chained",
     "PayloadError",
     "LocksView",
+    "PLANNING_SUMMARY_VERSION",
+    "PlannedReading",
+    "PlanningFacts",
     "PlanningView",
     "ReadBack",
     "RecordPayload",
@@ -78,8 +82,11 @@ __all__ = [
     "read_back",
     "read_for_locks",
     "read_for_planning",
+    "planning_facts",
+    "planning_summary",
     "read_payload",
     "record_payload",
+    "facts_from_summary",
     "superseded_by",
     "utc_text",
 ]
@@ -291,6 +298,84 @@ def read_back(record: R) -> ReadBack[R]:
         return ReadBack(record, read_payload(record), None)
     except PayloadError as problem:
         return ReadBack(record, None, str(problem))
+
+
+# --- what planning keeps of a record ------------------------------------------------------
+
+# The version of ``planning_summary``'s text and of the reading behind it: a store keeps
+# each record's summary with this number, and a summary of another number is not used
+# (the payload is read again), so a change here never leaves planning on stale summaries.
+PLANNING_SUMMARY_VERSION = 1
+
+
+@dataclass(frozen=True)
+class PlannedReading:
+    """One insulation reading as the planner's history takes it."""
+
+    element: str
+    measured_si: float
+    low: float
+    temperature_c: float | None
+    code_set: str | None
+
+
+@dataclass(frozen=True)
+class PlanningFacts:
+    """All the planner's history takes from one record's payload: whether it reads back
+    (``read_for_planning``), the day it names, the ground found, and its insulation
+    readings (element named, a resistance unit, a value and a minimum), in order."""
+
+    readable: bool
+    completed_on: dt.date | None = None
+    ground_found_at: str | None = None
+    readings: tuple[PlannedReading, ...] = ()
+
+
+def planning_facts(results_json: str) -> PlanningFacts:
+    """What planning takes from a payload, read exactly as ``read_for_planning`` reads it:
+    a payload it cannot read gives ``readable=False`` and adds nothing."""
+    try:
+        view = PlanningView.model_validate_json(results_json, context={_STORED: True})
+    except ValidationError:
+        return PlanningFacts(readable=False)
+    return PlanningFacts(
+        readable=True, completed_on=view.results.completed_on,
+        ground_found_at=view.results.ground_found_at,
+        readings=tuple(PlannedReading(r.element, r.measured_si, r.low, r.temperature_c,
+                                      r.code_set)
+                       for r in view.evaluation.readings
+                       if r.element and r.unit in RESISTANCE_UNITS
+                       and r.measured_si is not None and r.low is not None))
+
+
+def planning_summary(results_json: str) -> str:
+    """``planning_facts`` of a payload as the short JSON text a store keeps beside the
+    record (written in the record's transaction), so planning need not read every
+    payload of the plant each day. ``facts_from_summary`` reads it back unchanged."""
+    facts = planning_facts(results_json)
+    if not facts.readable:
+        return json.dumps({"readable": False})
+    return json.dumps({
+        "readable": True,
+        "completed_on": facts.completed_on.isoformat() if facts.completed_on else None,
+        "ground_found_at": facts.ground_found_at,
+        "readings": [[r.element, r.measured_si, r.low, r.temperature_c, r.code_set]
+                     for r in facts.readings]}, ensure_ascii=False, separators=(",", ":"))
+
+
+def facts_from_summary(text: str) -> PlanningFacts:
+    """The facts a ``planning_summary`` text holds; ValueError if it is not one."""
+    data = json.loads(text)
+    if not data["readable"]:
+        return PlanningFacts(readable=False)
+    day = data["completed_on"]
+    return PlanningFacts(
+        readable=True, completed_on=dt.date.fromisoformat(day) if day else None,
+        ground_found_at=data["ground_found_at"],
+        readings=tuple(PlannedReading(element, float(measured), float(low),
+                                      None if temperature is None else float(temperature),
+                                      code_set)
+                       for element, measured, low, temperature, code_set in data["readings"]))
 
 
 # --- which record is in effect ------------------------------------------------------------

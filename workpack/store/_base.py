@@ -119,6 +119,47 @@ class Record:
                    row.chain_sha256, plant)
 
 
+@dataclass(frozen=True)
+class PlanningRow:
+    """One record as the planner reads it (``RecordStore.planning_records``): its place in
+    the chain, its time, and either the planning summary the store kept beside it
+    (``workpack.records.planning_summary``, of today's version) or, where there is none,
+    its payload to be read."""
+
+    sequence: int
+    package_id: str
+    supersedes: int | None
+    recorded_at: dt.datetime
+    summary: str | None
+    results_json: str | None  # only where ``summary`` is None
+
+    @property
+    def facts(self) -> Any:
+        """The record's ``workpack.records.PlanningFacts``."""
+        from workpack.records import facts_from_summary, planning_facts
+
+        if self.summary is not None:
+            return facts_from_summary(self.summary)
+        assert self.results_json is not None
+        return planning_facts(self.results_json)
+
+    @classmethod
+    def from_row(cls, row: Sequence[Any], location: str) -> PlanningRow:
+        """From (sequence, package_id, supersedes, recorded_at, summary, results_json);
+        StoreError for a row ``Record.from_row`` would refuse (a payload read here must be
+        JSON, the time a time)."""
+        sequence, package_id, supersedes, recorded_at, summary, results_json = row
+        try:
+            when = parse_timestamp(recorded_at)
+            if summary is None:
+                json.loads(results_json)
+        except (TypeError, ValueError):
+            raise StoreError(f"{location}: record {sequence} is damaged and cannot be "
+                             "read back; run verify to find the first damaged record"
+                             ) from None
+        return cls(sequence, package_id, supersedes, when, summary, results_json)
+
+
 # --- the interface ---------------------------------------------------------------------
 
 
@@ -184,6 +225,12 @@ class RecordStore(Protocol):
 
     def latest_per_package(self) -> dict[str, Record]:
         """``latest`` for every package in the store, keyed by package id in sorted order."""
+        ...
+
+    def planning_records(self) -> Iterator[PlanningRow]:
+        """Every record in sequence order as the planner reads it: with the summary kept
+        beside it where there is one of today's version for its payload, else with the
+        payload itself (records written before summaries were kept)."""
         ...
 
     def head(self) -> ChainHead | None:
@@ -393,6 +440,33 @@ def in_batches(fetch: Callable[[int], Sequence[Sequence[Any]]]) -> Iterator[Stor
         if len(batch) < BATCH:
             return
         after = batch[-1][0]
+
+
+def planning_batches(fetch: Callable[[int], Sequence[Sequence[Any]]],
+                     location: str) -> Iterator[PlanningRow]:
+    """``in_batches`` for ``planning_records``: rows of ``PlanningRow.from_row``'s shape."""
+    after = 0
+    while True:
+        batch = fetch(after)
+        yield from (PlanningRow.from_row(found, location) for found in batch)
+        if len(batch) < BATCH:
+            return
+        after = batch[-1][0]
+
+
+def planning_summaries(rows: Sequence[tuple[int, str, str]]) -> list[tuple[int, str, int, str]]:
+    """(sequence, results_sha256, version, summary) for each (sequence, results_sha256,
+    results_json) of records being written: what the store keeps beside them."""
+    from workpack.records import PLANNING_SUMMARY_VERSION, planning_summary
+
+    return [(sequence, digest, PLANNING_SUMMARY_VERSION, planning_summary(text))
+            for sequence, digest, text in rows]
+
+
+def planning_version() -> int:
+    from workpack.records import PLANNING_SUMMARY_VERSION
+
+    return PLANNING_SUMMARY_VERSION
 
 
 class ClosedOnExit:

@@ -50,6 +50,7 @@ from workpack.store._base import (
     Imported,
     NoSuchRecordError,
     NotAStoreError,
+    PlanningRow,
     ReadOnlyError,
     Record,
     RecordRefusedError,
@@ -57,6 +58,9 @@ from workpack.store._base import (
     check_supersedes,
     in_batches,
     last_correction,
+    planning_batches,
+    planning_summaries,
+    planning_version,
     prepare,
     record_filters,
     redact,
@@ -241,6 +245,18 @@ _TABLES = (
         PRIMARY KEY (plant, sequence))""",
     "CREATE INDEX IF NOT EXISTS job_events_by_package "
     "ON workpack.job_events (plant, package_id, sequence)",
+    # What planning reads of each record (workpack.records.planning_summary), written in
+    # the record's transaction; a derived copy outside the chain, used only while its
+    # version and payload hash match the record. A store set up before it existed has
+    # none until set-up is run again; its records are then read whole, as before.
+    """CREATE TABLE IF NOT EXISTS workpack.record_planning (
+        plant           text NOT NULL,
+        sequence        bigint NOT NULL,
+        version         integer NOT NULL,
+        results_sha256  text NOT NULL,
+        summary_json    text NOT NULL,
+        PRIMARY KEY (plant, sequence, version),
+        FOREIGN KEY (plant, sequence) REFERENCES workpack.records (plant, sequence))""",
     """CREATE TABLE IF NOT EXISTS workpack.crew_plants (
         member  name NOT NULL,
         plant   text NOT NULL CHECK (plant <> ''),
@@ -261,6 +277,9 @@ _POLICIES = (
     ("job_events", "auditor_reads", "SELECT", AUDITOR_ROLE, "true", None),
     ("job_events", "crew_reads_own", "SELECT", CREW_ROLE, _OWN_PLANT, None),
     ("job_events", "crew_appends_own", "INSERT", CREW_ROLE, None, _OWN_PLANT),
+    ("record_planning", "auditor_reads", "SELECT", AUDITOR_ROLE, "true", None),
+    ("record_planning", "crew_reads_own", "SELECT", CREW_ROLE, _OWN_PLANT, None),
+    ("record_planning", "crew_appends_own", "INSERT", CREW_ROLE, None, _OWN_PLANT),
     ("crew_plants", "auditor_reads", "SELECT", AUDITOR_ROLE, "true", None),
     ("crew_plants", "crew_reads_own", "SELECT", CREW_ROLE, "member = current_user", None),
 )
@@ -269,18 +288,20 @@ _GRANTS = (
     "REVOKE ALL ON SCHEMA workpack FROM PUBLIC",
     f"GRANT USAGE ON SCHEMA workpack TO {AUDITOR_ROLE}, {CREW_ROLE}",
     "REVOKE ALL ON workpack.store_info, workpack.plants, workpack.records, "
-    "workpack.job_events, workpack.crew_plants FROM PUBLIC",
+    "workpack.job_events, workpack.record_planning, workpack.crew_plants FROM PUBLIC",
     # Never granted, and taken back should anyone have granted them by hand.
     "REVOKE UPDATE, DELETE, TRUNCATE ON workpack.store_info, workpack.plants, "
-    f"workpack.records, workpack.job_events, workpack.crew_plants FROM {AUDITOR_ROLE}, "
-    f"{CREW_ROLE}",
+    "workpack.records, workpack.job_events, workpack.record_planning, workpack.crew_plants "
+    f"FROM {AUDITOR_ROLE}, {CREW_ROLE}",
     "GRANT SELECT ON workpack.store_info, workpack.plants, workpack.records, "
-    f"workpack.job_events, workpack.crew_plants TO {AUDITOR_ROLE}, {CREW_ROLE}",
-    f"GRANT INSERT ON workpack.plants, workpack.records, workpack.job_events TO {CREW_ROLE}",
+    "workpack.job_events, workpack.record_planning, workpack.crew_plants "
+    f"TO {AUDITOR_ROLE}, {CREW_ROLE}",
+    "GRANT INSERT ON workpack.plants, workpack.records, workpack.job_events, "
+    f"workpack.record_planning TO {CREW_ROLE}",
 )
 
 
-_RLS_TABLES = ("plants", "records", "job_events", "crew_plants")
+_RLS_TABLES = ("plants", "records", "job_events", "record_planning", "crew_plants")
 
 
 def _schema_statements() -> list[str]:
@@ -350,6 +371,7 @@ class PostgresStore(ClosedOnExit):
         self._shown = redact(url)
         self._busy_timeout_s = busy_timeout_s
         self._plant: str | None = None
+        self._planning_table: bool | None = None
         if plant is not None and not (isinstance(plant, str) and plant.strip()):
             raise StoreError(f"{self._shown}: the plant's name is empty; name the plant "
                              "whose records to read or write")
@@ -488,6 +510,7 @@ class PostgresStore(ClosedOnExit):
             c.execute(f"INSERT INTO workpack.records (plant, {_COLUMNS}) VALUES "
                       "(%s, %s, %s, %s, %s, %s, %s, %s, %s, %s, %s, %s)",
                       (plant, *row.as_tuple()))
+            self._keep_planning(plant, [row])
         return Record.from_row(row, self.location, plant)
 
     def import_rows(self, rows: Sequence[StoredRow], *, after: ChainHead | None,
@@ -515,9 +538,29 @@ class PostgresStore(ClosedOnExit):
                 cursor.executemany(f"INSERT INTO workpack.records (plant, {_COLUMNS}) VALUES "
                                    "(%s, %s, %s, %s, %s, %s, %s, %s, %s, %s, %s, %s)",
                                    [(plant, *row.as_tuple()) for row in new])
+            self._keep_planning(plant, new)
             head = new[-1] if new else prev
         return Imported(plant, len(new), len(rows) - len(new),
                         ChainHead(head.sequence, head.chain_sha256) if head else None)
+
+    def _has_planning(self) -> bool:
+        """Whether the set-up made the planning summaries' table (an older one did not)."""
+        if self._planning_table is None:
+            found = self._conn.execute(
+                "SELECT to_regclass('workpack.record_planning')").fetchone()
+            self._planning_table = found is not None and found[0] is not None
+        return self._planning_table
+
+    def _keep_planning(self, plant: str, rows: Sequence[StoredRow]) -> None:
+        """The planning summaries of ``rows``, inside the transaction writing them."""
+        if not rows or not self._has_planning():
+            return
+        with self._conn.cursor() as cursor:
+            cursor.executemany(
+                "INSERT INTO workpack.record_planning (plant, sequence, results_sha256, "
+                "version, summary_json) VALUES (%s, %s, %s, %s, %s)",
+                [(plant, *summary) for summary in planning_summaries(
+                    [(r.sequence, r.results_sha256, r.results_json) for r in rows])])
 
     def _genesis(self, plant: str) -> str | None:
         found = self._conn.execute("SELECT genesis FROM workpack.plants WHERE plant = %s",
@@ -589,6 +632,29 @@ class PostgresStore(ClosedOnExit):
         latest = {found[1]: Record.from_row(StoredRow(*found), self.location, plant)
                   for found in rows}
         return dict(sorted(latest.items()))  # Python's order, whatever the collation
+
+    def planning_records(self) -> Iterator[PlanningRow]:
+        plant = self.plant
+        with self._translate("reading"):
+            summaries = self._has_planning()
+        if summaries:
+            query = ("SELECT r.sequence, r.package_id, r.supersedes, r.recorded_at, "
+                     "p.summary_json, CASE WHEN p.summary_json IS NULL THEN r.results_json "
+                     "END FROM workpack.records AS r LEFT JOIN workpack.record_planning AS p "
+                     "ON p.plant = r.plant AND p.sequence = r.sequence AND p.version = %s "
+                     "AND p.results_sha256 = r.results_sha256 WHERE r.plant = %s AND "
+                     f"r.sequence > %s ORDER BY r.sequence LIMIT {BATCH}")
+            version: tuple[int, ...] = (planning_version(),)
+        else:
+            query = ("SELECT sequence, package_id, supersedes, recorded_at, NULL, "
+                     "results_json FROM workpack.records WHERE plant = %s AND sequence > %s "
+                     f"ORDER BY sequence LIMIT {BATCH}")
+            version = ()
+
+        def fetch(after: int) -> list[Any]:
+            with self._translate("reading"):
+                return self._conn.execute(query, (*version, plant, after)).fetchall()
+        yield from planning_batches(fetch, self.location)
 
     def head(self) -> ChainHead | None:
         plant = self.plant

@@ -35,12 +35,16 @@ from workpack.store._base import (
     Imported,
     NoSuchRecordError,
     NotAStoreError,
+    PlanningRow,
     Record,
     RecordRefusedError,
     StoreError,
     check_supersedes,
     in_batches,
     last_correction,
+    planning_batches,
+    planning_summaries,
+    planning_version,
     prepare,
     record_filters,
     rows_to_add,
@@ -155,6 +159,19 @@ _EVENTS_TABLE = """CREATE TABLE IF NOT EXISTS job_events (
     chain_sha256 TEXT NOT NULL CHECK (length(chain_sha256) = 64)
 ) STRICT"""
 _EVENTS_INDEX = "CREATE INDEX IF NOT EXISTS job_events_by_package ON job_events (package_id)"
+
+# What planning reads of each record (``workpack.records.planning_summary``), written in
+# the record's transaction: a derived copy, never part of the chain, used only while its
+# version and payload hash match the record (else the payload is read). Made by the first
+# record written after it existed; older records, or records another workpack wrote,
+# simply have none.
+_PLANNING_TABLE = """CREATE TABLE IF NOT EXISTS record_planning (
+    sequence        INTEGER NOT NULL REFERENCES records (sequence),
+    version         INTEGER NOT NULL,
+    results_sha256  TEXT NOT NULL,
+    summary_json    TEXT NOT NULL,
+    PRIMARY KEY (sequence, version)
+) STRICT"""
 
 
 def _event_guards(version: int) -> dict[str, str]:
@@ -371,6 +388,7 @@ class SQLiteStore(ClosedOnExit):
                                verdict=new.verdict, genesis=self._genesis)
                 c.execute(f"INSERT INTO records ({_COLUMNS}) VALUES "
                           "(?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)", row.as_tuple())
+                self._keep_planning([row])
                 c.execute("COMMIT")
             except BaseException:
                 self._rollback()
@@ -395,11 +413,27 @@ class SQLiteStore(ClosedOnExit):
                 c.executemany(f"INSERT INTO records ({_COLUMNS}) VALUES "
                               "(?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
                               [row.as_tuple() for row in new])
+                self._keep_planning(new)
                 c.execute("COMMIT")
             except BaseException:
                 self._rollback()
                 raise
         return Imported(self._plant, len(new), len(rows) - len(new), self.head())
+
+    def _keep_planning(self, rows: Sequence[StoredRow]) -> None:
+        """The planning summaries of ``rows``, inside the transaction writing them."""
+        c = self._conn
+        if not rows:
+            return
+        if not self._has_table("record_planning"):
+            c.execute(_PLANNING_TABLE)
+        c.executemany("INSERT INTO record_planning (sequence, results_sha256, version, "
+                      "summary_json) VALUES (?, ?, ?, ?)", planning_summaries(
+                          [(r.sequence, r.results_sha256, r.results_json) for r in rows]))
+
+    def _has_table(self, name: str) -> bool:
+        return self._conn.execute("SELECT 1 FROM sqlite_master WHERE type = 'table' AND "
+                                  "name = ?", (name,)).fetchone() is not None
 
     def _row(self, sequence: int) -> StoredRow | None:
         found = self._conn.execute(f"SELECT {_COLUMNS} FROM records WHERE sequence = ?",
@@ -452,6 +486,27 @@ class SQLiteStore(ClosedOnExit):
                 "WHERE newest = 1 ORDER BY package_id").fetchall()
         return {found[1]: Record.from_row(StoredRow(*found), self._location, self._plant)
                 for found in rows}
+
+    def planning_records(self) -> Iterator[PlanningRow]:
+        with self._translate("reading"):
+            summaries = self._has_table("record_planning")
+        if summaries:
+            query = ("SELECT r.sequence, r.package_id, r.supersedes, r.recorded_at, "
+                     "p.summary_json, CASE WHEN p.summary_json IS NULL THEN r.results_json "
+                     "END FROM records AS r LEFT JOIN record_planning AS p ON p.sequence = "
+                     "r.sequence AND p.version = ? AND p.results_sha256 = r.results_sha256 "
+                     f"WHERE r.sequence > ? ORDER BY r.sequence LIMIT {BATCH}")
+            version: tuple[int, ...] = (planning_version(),)
+        else:
+            query = ("SELECT sequence, package_id, supersedes, recorded_at, NULL, "
+                     f"results_json FROM records WHERE sequence > ? ORDER BY sequence "
+                     f"LIMIT {BATCH}")
+            version = ()
+
+        def fetch(after: int) -> list[Any]:
+            with self._translate("reading"):
+                return self._conn.execute(query, (*version, after)).fetchall()
+        yield from planning_batches(fetch, self._location)
 
     def head(self) -> ChainHead | None:
         with self._translate("reading"):
