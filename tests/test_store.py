@@ -520,3 +520,54 @@ def test_sqlite_job_events_are_append_only_in_the_file(tmp_path: Path) -> None:
         problems = store.verify_events()
     assert "job event 1 (WP-TST-20261202-01, planned) was changed" in problems[0]
     assert "guards are missing or changed" in problems[-1]
+
+
+# --- a record and its job event in one transaction ------------------------------------------
+
+
+def _done(package_id: str = "WP-2026-12-02-01", by: str = "A. Lindqvist") -> NewEvent:
+    return NewEvent(package_id, "insulation|item:WL-1", "completed", T0.date(), T0, by,
+                    {"verdict": "passed", "locks": [], "followups": []})
+
+
+def test_a_record_and_its_event_are_written_together(store: RecordStore) -> None:
+    record = store.append(package_id="WP-2026-12-02-01", package_sha256=PKG, results=RESULTS,
+                          recorded_by="A. Lindqvist", recorded_at=T0, verdict="passed",
+                          events=[_done()])
+    (event,) = store.events()
+    assert (event.kind, event.package_id, dict(event.detail)) == (
+        "completed", "WP-2026-12-02-01",
+        {"verdict": "passed", "locks": [], "followups": [], "record": record.sequence})
+
+
+def test_an_event_that_cannot_be_stored_leaves_no_record(store: RecordStore) -> None:
+    with pytest.raises(RecordRefusedError, match="by is empty"):
+        store.append(package_id="WP-2026-12-02-01", package_sha256=PKG, results=RESULTS,
+                     recorded_by="A. Lindqvist", recorded_at=T0, verdict="passed",
+                     events=[_done(by=" ")])
+    assert store.head() is None and list(store.records()) == [] and list(store.events()) == []
+
+
+def test_a_failure_between_the_record_and_its_event_leaves_neither(
+        store: RecordStore, monkeypatch: pytest.MonkeyPatch) -> None:
+    """A process killed after the record's row went in and before its event did: the
+    transaction is rolled back whole, so no record shows a job still open."""
+    add(store, "WP-2026-12-02-07")  # a record before, to see the chain left as it was
+    head = store.head()
+
+    def killed(*args: Any) -> None:
+        raise KeyboardInterrupt("killed between the record and its event")
+    monkeypatch.setattr(store, "_insert_events", killed)
+    with pytest.raises(KeyboardInterrupt):
+        store.append(package_id="WP-2026-12-02-01", package_sha256=PKG, results=RESULTS,
+                     recorded_by="A. Lindqvist", recorded_at=T0, verdict="passed",
+                     events=[_done()])
+    monkeypatch.undo()
+    assert store.head() == head and [r.package_id for r in store.records()] == \
+        ["WP-2026-12-02-07"]
+    assert list(store.events()) == []
+    again = store.append(package_id="WP-2026-12-02-01", package_sha256=PKG, results=RESULTS,
+                         recorded_by="A. Lindqvist", recorded_at=T0, verdict="passed",
+                         events=[_done()])
+    assert again.sequence == 2 and [e.detail["record"] for e in store.events()] == [2]
+    assert store.verify().ok and store.verify_events() == []

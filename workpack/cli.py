@@ -570,13 +570,14 @@ def _cmd_record(args: argparse.Namespace) -> int:
         clashes = check_record_locks(uses, boxes, earlier)
         if clashes:
             raise InputError(located(marks, clashes))
+        # One transaction: a record is never stored without its job's event.
         record = store.append(package_id=package.id, package_sha256=digest,
                               results=payload, recorded_by=recorded_by, recorded_at=at,
-                              verdict=evaluation.verdict, supersedes=args.supersedes)
-        store.append_events([NewEvent(
-            package.id, job.job_key if job else f"package:{package.id}", kind,
-            results.completed_on or package.date, at, recorded_by,
-            {**detail, "record": record.sequence})])
+                              verdict=evaluation.verdict, supersedes=args.supersedes,
+                              events=[NewEvent(
+                                  package.id, job.job_key if job else f"package:{package.id}",
+                                  kind, results.completed_on or package.date, at, recorded_by,
+                                  detail)])
         where = store.location  # a URL's password left out
     if not args.json:  # said at once: the record is stored whatever happens next
         state = ("suspended: its locks stay on, the job goes on" if kind == "suspended"

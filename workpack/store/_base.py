@@ -197,12 +197,16 @@ class RecordStore(Protocol):
 
     def append(self, *, package_id: str, package_sha256: str, results: Mapping[str, Any],
                recorded_by: str, recorded_at: dt.datetime, verdict: str,
-               supersedes: int | None = None) -> Record:
+               supersedes: int | None = None, events: Sequence[NewEvent] = ()) -> Record:
         """Store one record in one transaction and return it, numbered and chained.
 
         ``recorded_at`` is the caller's timestamp (aware); the store never reads the clock.
+        ``events``: the job events the record makes (completed, suspended), written in the
+        same transaction, each detail naming the record (``"record"``: its number), so a
+        record is never stored without its event, nor an event without its record.
         RecordRefusedError if ``supersedes`` names no record, a record of another package
-        or one already superseded, or if the results are not JSON that can round-trip.
+        or one already superseded, if the results are not JSON that can round-trip, or an
+        event cannot be stored; nothing is written then.
         """
         ...
 

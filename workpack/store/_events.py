@@ -101,6 +101,13 @@ class NewEvent:
 Encoded = tuple[str, str, str, str, str, str, str]
 
 
+def with_record(event: NewEvent, sequence: int) -> NewEvent:
+    """``event`` naming the record it goes with (``detail["record"]``): an event written
+    in a record's transaction (``RecordStore.append(events=...)``)."""
+    return NewEvent(event.package_id, event.job_key, event.kind, event.day, event.at,
+                    event.by, {**event.detail, "record": sequence})
+
+
 def encode(event: NewEvent) -> Encoded:
     """The event's stored text (package id, key, kind, day, at, by, detail JSON);
     EventRefusedError for what a caller's data gets wrong."""

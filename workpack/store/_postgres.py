@@ -77,6 +77,7 @@ from workpack.store._chain import (
 )
 from workpack.store._events import (
     EVENT_COLUMNS,
+    Encoded,
     EventRefusedError,
     JobEvent,
     NewEvent,
@@ -85,6 +86,7 @@ from workpack.store._events import (
     encode,
     next_events,
     verify_events,
+    with_record,
 )
 
 SCHEMA_VERSION = 1  # workpack.store_info 'schema_version'
@@ -483,7 +485,7 @@ class PostgresStore(ClosedOnExit):
 
     def append(self, *, package_id: str, package_sha256: str, results: Mapping[str, Any],
                recorded_by: str, recorded_at: dt.datetime, verdict: str,
-               supersedes: int | None = None) -> Record:
+               supersedes: int | None = None, events: Sequence[NewEvent] = ()) -> Record:
         plant = self.plant
         new = prepare(self.location, package_id=package_id, package_sha256=package_sha256,
                       results=results, recorded_by=recorded_by, recorded_at=recorded_at,
@@ -511,6 +513,9 @@ class PostgresStore(ClosedOnExit):
                       "(%s, %s, %s, %s, %s, %s, %s, %s, %s, %s, %s, %s)",
                       (plant, *row.as_tuple()))
             self._keep_planning(plant, [row])
+            if events:
+                self._insert_events(plant, genesis, self._encoded(
+                    [with_record(event, row.sequence) for event in events]))
         return Record.from_row(row, self.location, plant)
 
     def import_rows(self, rows: Sequence[StoredRow], *, after: ChainHead | None,
@@ -664,12 +669,15 @@ class PostgresStore(ClosedOnExit):
 
     # --- job events --------------------------------------------------------------------
 
-    def append_events(self, events: Sequence[NewEvent]) -> list[JobEvent]:
-        plant = self.plant
+    def _encoded(self, events: Sequence[NewEvent]) -> list[Encoded]:
         try:
-            encoded = [encode(event) for event in events]
+            return [encode(event) for event in events]
         except EventRefusedError as exc:
             raise RecordRefusedError(f"{self.location}: {exc}") from None
+
+    def append_events(self, events: Sequence[NewEvent]) -> list[JobEvent]:
+        plant = self.plant
+        encoded = self._encoded(events)
         if not encoded:
             return []
         c = self._conn
@@ -681,16 +689,27 @@ class PostgresStore(ClosedOnExit):
                 genesis = plant_genesis(plant)
                 c.execute("INSERT INTO workpack.plants (plant, genesis) VALUES (%s, %s)",
                           (plant, genesis))
-            last = c.execute("SELECT sequence, chain_sha256 FROM workpack.job_events "
-                             "WHERE plant = %s ORDER BY sequence DESC LIMIT 1",
-                             (plant,)).fetchone()
-            rows = next_events(tuple(last) if last else None, genesis, encoded)
-            with c.cursor() as cursor:
-                cursor.executemany(
-                    f"INSERT INTO workpack.job_events (plant, {EVENT_COLUMNS}) VALUES "
-                    "(%s, %s, %s, %s, %s, %s, %s, %s, %s, %s, %s)",
-                    [(plant, *as_tuple(row)) for row in rows])
+            rows = self._insert_events(plant, genesis, encoded)
         return [JobEvent.from_row(row) for row in rows]
+
+    def _insert_events(self, plant: str, genesis: str,
+                       encoded: Sequence[Encoded]) -> list[StoredEvent]:
+        """Chain and insert events, inside the caller's transaction (the plant's row
+        already there), under the plant's events lock (taken again here: a lock a
+        transaction holds is granted to it again at once)."""
+        c = self._conn
+        c.execute("SELECT pg_advisory_xact_lock(%s::integer, hashtext(%s))",
+                  (LOCK_CLASS, "events " + plant))
+        last = c.execute("SELECT sequence, chain_sha256 FROM workpack.job_events "
+                         "WHERE plant = %s ORDER BY sequence DESC LIMIT 1",
+                         (plant,)).fetchone()
+        rows = next_events(tuple(last) if last else None, genesis, encoded)
+        with c.cursor() as cursor:
+            cursor.executemany(
+                f"INSERT INTO workpack.job_events (plant, {EVENT_COLUMNS}) VALUES "
+                "(%s, %s, %s, %s, %s, %s, %s, %s, %s, %s, %s)",
+                [(plant, *as_tuple(row)) for row in rows])
+        return rows
 
     def events(self, *, package_id: str | None = None) -> Iterator[JobEvent]:
         plant = self.plant

@@ -60,6 +60,7 @@ from workpack.store._chain import (
 )
 from workpack.store._events import (
     EVENT_COLUMNS,
+    Encoded,
     EventRefusedError,
     JobEvent,
     NewEvent,
@@ -68,6 +69,7 @@ from workpack.store._events import (
     encode,
     next_events,
     verify_events,
+    with_record,
 )
 
 APPLICATION_ID = 0x77706B72  # "wpkr" in the SQLite header: marks a workpack records store
@@ -366,7 +368,7 @@ class SQLiteStore(ClosedOnExit):
 
     def append(self, *, package_id: str, package_sha256: str, results: Mapping[str, Any],
                recorded_by: str, recorded_at: dt.datetime, verdict: str,
-               supersedes: int | None = None) -> Record:
+               supersedes: int | None = None, events: Sequence[NewEvent] = ()) -> Record:
         new = prepare(self._location, package_id=package_id, package_sha256=package_sha256,
                       results=results, recorded_by=recorded_by, recorded_at=recorded_at,
                       verdict=verdict, supersedes=supersedes)
@@ -389,6 +391,9 @@ class SQLiteStore(ClosedOnExit):
                 c.execute(f"INSERT INTO records ({_COLUMNS}) VALUES "
                           "(?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)", row.as_tuple())
                 self._keep_planning([row])
+                if events:
+                    self._insert_events(self._encoded(
+                        [with_record(event, row.sequence) for event in events]))
                 c.execute("COMMIT")
             except BaseException:
                 self._rollback()
@@ -520,31 +525,40 @@ class SQLiteStore(ClosedOnExit):
         return self._conn.execute("SELECT 1 FROM sqlite_master WHERE type = 'table' AND "
                                   "name = 'job_events'").fetchone() is not None
 
-    def append_events(self, events: Sequence[NewEvent]) -> list[JobEvent]:
+    def _encoded(self, events: Sequence[NewEvent]) -> list[Encoded]:
         try:
-            encoded = [encode(event) for event in events]
+            return [encode(event) for event in events]
         except EventRefusedError as exc:
             raise RecordRefusedError(f"{self._location}: {exc}") from None
+
+    def append_events(self, events: Sequence[NewEvent]) -> list[JobEvent]:
+        encoded = self._encoded(events)
         if not encoded:
             return []
         c = self._conn
         with self._translate("appending job events"):
             c.execute("BEGIN IMMEDIATE")
             try:
-                if not self._has_events():
-                    for statement in (_EVENTS_TABLE, _EVENTS_INDEX,
-                                      *_event_guards(self._version).values()):
-                        c.execute(statement)
-                last = c.execute("SELECT sequence, chain_sha256 FROM job_events "
-                                 "ORDER BY sequence DESC LIMIT 1").fetchone()
-                rows = next_events(tuple(last) if last else None, self._genesis, encoded)
-                c.executemany(f"INSERT INTO job_events ({EVENT_COLUMNS}) VALUES "
-                              "(?, ?, ?, ?, ?, ?, ?, ?, ?, ?)", [as_tuple(r) for r in rows])
+                rows = self._insert_events(encoded)
                 c.execute("COMMIT")
             except BaseException:
                 self._rollback()
                 raise
         return [JobEvent.from_row(row) for row in rows]
+
+    def _insert_events(self, encoded: Sequence[Encoded]) -> list[StoredEvent]:
+        """Chain and insert events, inside the caller's write transaction."""
+        c = self._conn
+        if not self._has_events():
+            for statement in (_EVENTS_TABLE, _EVENTS_INDEX,
+                              *_event_guards(self._version).values()):
+                c.execute(statement)
+        last = c.execute("SELECT sequence, chain_sha256 FROM job_events "
+                         "ORDER BY sequence DESC LIMIT 1").fetchone()
+        rows = next_events(tuple(last) if last else None, self._genesis, encoded)
+        c.executemany(f"INSERT INTO job_events ({EVENT_COLUMNS}) VALUES "
+                      "(?, ?, ?, ?, ?, ?, ?, ?, ?, ?)", [as_tuple(r) for r in rows])
+        return rows
 
     def events(self, *, package_id: str | None = None) -> Iterator[JobEvent]:
         with self._translate("reading job events"):
