@@ -125,3 +125,32 @@ def test_another_plants_crew_register_is_refused(tmp_path, capsys) -> None:
     assert err.startswith(f"--crew {site_crew}: the register is for ")
     assert err.rstrip().endswith("not MV Skerry Lantern")
     assert not (tmp_path / "a").exists()
+
+
+def test_the_day_sheet_and_the_json_name_who_does_each_job(tmp_path, capsys) -> None:
+    """The supervisor hands out the day from the day sheet: each staffed job's line names
+    its crew (lead first) and supervisor, as its package does; --json says the same."""
+    out = tmp_path / "out"
+    assert main(["plan", VESSEL, FINDINGS, "--out", str(out), "--crew", str(CREW),
+                 "--json"]) == 0
+    report = json.loads(capsys.readouterr().out)
+    staffed = {p.id: p for p in packages(out) if p.assigned}
+    assert staffed
+    listed = {p["id"]: (tuple(p["assigned"]), p["supervisor_assigned"])
+              for p in report["packages"]}
+    sheet = " ".join(" ".join(page.extract_text().split())
+                     for page in PdfReader(out / f"day-{DAY}.pdf").pages)
+    for package in staffed.values():
+        assert listed[package.id] == (package.assigned, package.supervisor_assigned)
+        names = "; ".join(package.assigned) + (
+            f"; supervisor {package.supervisor_assigned}" if package.supervisor_assigned
+            else "")
+        assert f"Crew: {names}" in sheet, package.id
+    assert all(listed[i] == ((), None) for i in listed if i not in staffed)
+    plain = tmp_path / "plain"
+    assert main(["plan", VESSEL, FINDINGS, "--out", str(plain), "--json"]) == 0
+    unstaffed = json.loads(capsys.readouterr().out)
+    assert all(p["assigned"] == [] and p["supervisor_assigned"] is None
+               for p in unstaffed["packages"])
+    sheet = " ".join(PdfReader(plain / f"day-{DAY}.pdf").pages[0].extract_text().split())
+    assert "Crew:" not in sheet

@@ -347,7 +347,8 @@ def _cmd_plan(args: argparse.Namespace) -> int:
             packages=tuple(PlannedPackage(
                 id=p.id, title=p.title, item=p.item, priority=p.priority,
                 duration_h=p.duration_h, crew=p.crew, scheduled=p.id in result.scheduled,
-                clears_ground=p.clears_ground) for p in result.packages),
+                clears_ground=p.clears_ground, assigned=p.assigned,
+                supervisor_assigned=p.supervisor_assigned) for p in result.packages),
             conflicts=result.conflicts, folder=str(written[0].parent),
             files=tuple(p.name for p in written))))
         return 0

@@ -30,6 +30,8 @@ class PlannedPackage:
     crew: int
     scheduled: bool  # False: deferred (does not fit the crew hours, or put off)
     clears_ground: bool
+    assigned: tuple[str, ...] = ()  # "S. Quayle (LCS-0107)", the lead first (plan --crew)
+    supervisor_assigned: str | None = None  # who supervises and countersigns (plan --crew)
 
 
 @dataclass(frozen=True)

@@ -3,7 +3,8 @@
 One line per job in the order the planner ranked them, the crew-hours each takes and
 the running total against the crew-hours available, the jobs put off, the conflicts the
 planner found, and the safety notice. The planner decides what fits; this only lays it
-out. Crew-hours of a job are its duration times its crew (h).
+out. Crew-hours of a job are its duration times its crew (h). Where ``plan --crew`` named
+the people, each job's line names them (the lead first, then the supervisor).
 """
 
 from __future__ import annotations
@@ -38,6 +39,14 @@ NOTICE = ("Local codes, the employer's safety rules and licensed practice prevai
 
 def hours(value: float) -> str:
     return f"{format_number(value)} h"
+
+
+def crew_names(package: WorkPackage) -> str:
+    """Who ``plan --crew`` named for the job, the lead first, as its package prints them."""
+    names = "; ".join(package.assigned)
+    if package.supervisor_assigned:
+        names += f"; supervisor {package.supervisor_assigned}"
+    return names
 
 
 class DaySheetPdf(PdfDocument):
@@ -92,9 +101,13 @@ class DaySheetPdf(PdfDocument):
                           hours(p.duration_h), str(p.crew), hours(crew_h)]
                          + ([hours(total)] if running else []))
         bold_columns = {0, 1, 2, 8}
-        for text in texts:
-            rows.append([Paragraph(words(value), bold if column in bold_columns else cell)
-                         for column, value in enumerate(text)])
+        for p, text in zip(packages, texts, strict=True):
+            row = [Paragraph(words(value), bold if column in bold_columns else cell)
+                   for column, value in enumerate(text)]
+            if p.assigned:  # plan --crew named them: who does it is on the sheet
+                row[3] = Paragraph(f"{words(p.title)}<br/><b>Crew:</b> "
+                                   f"{words(crew_names(p))}", cell)
+            rows.append(row)
         # every column but title and item as wide as its widest word; the title takes
         # what is left, so ids and numbers never break
         pad = 2 * self.cell_pad_mm * mm + 1
