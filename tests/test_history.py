@@ -130,6 +130,7 @@ def test_planning_summaries_give_the_history_the_payloads_give(tmp_path, request
                          recorded_by="x", recorded_at=dt.datetime(2026, 1, n, tzinfo=dt.UTC),
                          verdict="passed", supersedes=supersedes)
         rows = list(store.planning_records())
+        assert store.fill_planning_summaries() == 0  # nothing missing
         # every record of today's workpack has its summary: no payload is read
         assert [r.summary is not None and r.results_json is None for r in rows] == [True] * 7
         from_summaries = history_from_planning(rows, "ieee43-2013")
@@ -152,8 +153,9 @@ def test_planning_summaries_give_the_history_the_payloads_give(tmp_path, request
 
 def test_records_without_a_summary_are_read_whole(tmp_path) -> None:
     """A store written before summaries were kept (or by an older workpack) has records
-    with none: the planner reads their payloads, with the same result, and a payload
-    that is not JSON at all is refused as it always was."""
+    with none: the planner reads their payloads, with the same result, until a plan that
+    may write keeps their summaries; a payload that is not JSON at all is refused as it
+    always was."""
     store = store_with(tmp_path, [
         ("WP-1", ir_payload("SWP-1", 9e6, "2026-01-01", found="SWP-1"), None),
         ("WP-2", ir_payload("SWP-1", 8e6, "2026-02-01"), None)])
@@ -166,9 +168,13 @@ def test_records_without_a_summary_are_read_whole(tmp_path) -> None:
             [(False, True), (True, False)]
         assert history_from_planning(rows, "ieee43-2013") == \
             history_from_records(store.records(), "ieee43-2013")
+        # the next plan that may write keeps the missing summary, once
+        assert (store.fill_planning_summaries(), store.fill_planning_summaries()) == (1, 0)
+        assert [r.results_json for r in store.planning_records()] == [None, None]
     with sqlite3.connect(tmp_path / "r.sqlite") as raw:
         raw.execute("DROP TRIGGER records_no_update")
         raw.execute("UPDATE records SET results_json = '{not json' WHERE sequence = 2")
+        raw.execute("DELETE FROM record_planning WHERE sequence = 2")
     with open_store(tmp_path / "r.sqlite") as store, \
             pytest.raises(StoreError, match="record 2 is damaged"):
         list(store.planning_records())

@@ -333,6 +333,8 @@ def _cmd_plan(args: argparse.Namespace) -> int:
             try:
                 store.append_events(events)
                 recorded = f"{len(events)} job events recorded in {store.location}\n"
+                # once per older store: the next plan reads summaries, not every payload
+                store.fill_planning_summaries()
             except ReadOnlyError as exc:  # an office auditor may plan, not issue
                 recorded = (f"NOTE: the plan's jobs were not recorded ({exc}); their ids "
                             "are not reserved: plan with a role that may write to issue "

@@ -237,6 +237,13 @@ class RecordStore(Protocol):
         payload itself (records written before summaries were kept)."""
         ...
 
+    def fill_planning_summaries(self) -> int:
+        """Keep the planning summary of each record that has none of today's version
+        (written before summaries were kept, or by an older workpack), in transactions of
+        ``BATCH`` records; how many were added. Nothing of a record changes: the summary is
+        a derived copy beside it. ReadOnlyError where this role may not write."""
+        ...
+
     def head(self) -> ChainHead | None:
         """The last record's number and chain hash (an anchor to write down); None if empty."""
         ...

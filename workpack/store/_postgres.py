@@ -567,6 +567,24 @@ class PostgresStore(ClosedOnExit):
                 [(plant, *summary) for summary in planning_summaries(
                     [(r.sequence, r.results_sha256, r.results_json) for r in rows])])
 
+    def fill_planning_summaries(self) -> int:
+        plant = self.plant
+        c = self._conn
+        added = 0
+        if not self._has_planning():
+            return 0
+        while True:
+            with self._translate("keeping planning summaries"), c.transaction():
+                rows = [StoredRow(*found) for found in c.execute(
+                    f"SELECT {_COLUMNS} FROM workpack.records AS r WHERE r.plant = %s AND "
+                    "NOT EXISTS (SELECT 1 FROM workpack.record_planning AS p WHERE "
+                    "p.plant = r.plant AND p.sequence = r.sequence AND p.version = %s) "
+                    f"ORDER BY sequence LIMIT {BATCH}", (plant, planning_version())).fetchall()]
+                self._keep_planning(plant, rows)
+            added += len(rows)
+            if len(rows) < BATCH:
+                return added
+
     def _genesis(self, plant: str) -> str | None:
         found = self._conn.execute("SELECT genesis FROM workpack.plants WHERE plant = %s",
                                    (plant,)).fetchone()

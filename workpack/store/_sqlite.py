@@ -436,6 +436,29 @@ class SQLiteStore(ClosedOnExit):
                       "summary_json) VALUES (?, ?, ?, ?)", planning_summaries(
                           [(r.sequence, r.results_sha256, r.results_json) for r in rows]))
 
+    def fill_planning_summaries(self) -> int:
+        c = self._conn
+        added = 0
+        with self._translate("keeping planning summaries"):
+            while True:
+                c.execute("BEGIN IMMEDIATE")
+                try:
+                    if not self._has_table("record_planning"):
+                        c.execute(_PLANNING_TABLE)
+                    rows = [StoredRow(*found) for found in c.execute(
+                        f"SELECT {_COLUMNS} FROM records AS r WHERE NOT EXISTS (SELECT 1 "
+                        "FROM record_planning AS p WHERE p.sequence = r.sequence AND "
+                        f"p.version = ?) ORDER BY sequence LIMIT {BATCH}",
+                        (planning_version(),)).fetchall()]
+                    self._keep_planning(rows)
+                    c.execute("COMMIT")
+                except BaseException:
+                    self._rollback()
+                    raise
+                added += len(rows)
+                if len(rows) < BATCH:
+                    return added
+
     def _has_table(self, name: str) -> bool:
         return self._conn.execute("SELECT 1 FROM sqlite_master WHERE type = 'table' AND "
                                   "name = ?", (name,)).fetchone() is not None
