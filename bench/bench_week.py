@@ -8,9 +8,10 @@ invented for timing.
 
 Measured, in CPU seconds of this process, after the plant is read (as bench_plan.py):
 
-- plan: open the store, read every record into the planning history and every job
-  event into the jobs' states, carry them forward, plan the next day's findings (a
-  typical day: 60) and build the plan's events; target < 2 s;
+- plan: open the store, read every record's planning summary (kept beside it by
+  ``append``) into the planning history and every job event into the jobs' states,
+  carry them forward, plan the next day's findings (a typical day: 60) and build the
+  plan's events; target < 2 s;
 - status: open the store, fold every job event, the routine tests' due dates; target
   < 1 s.
 
@@ -151,8 +152,7 @@ def from_store(path: Path, topology: Topology, findings_text: str):  # type: ign
 
 
 def history_only(path: Path, topology: Topology) -> object:
-    """The planning history alone (every record's payload read): what planning paid
-    before job events, for the breakdown."""
+    """The planning history alone (every record's summary read): for the breakdown."""
     with SQLiteStore(path, create=False) as store:
         return history_from_planning(store.planning_records(),
                                      topology.plant.plant.code_set.rotating_machines)

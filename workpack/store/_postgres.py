@@ -250,15 +250,15 @@ _TABLES = (
     # What planning reads of each record (workpack.records.planning_summary), written in
     # the record's transaction; a derived copy outside the chain, used only while its
     # version and payload hash match the record. A store set up before it existed has
-    # none until set-up is run again; its records are then read whole, as before.
+    # none until set-up is run again; its records are then read whole, as before. No
+    # foreign key: the records' guards, not this copy, decide what happens to a record.
     """CREATE TABLE IF NOT EXISTS workpack.record_planning (
         plant           text NOT NULL,
         sequence        bigint NOT NULL,
         version         integer NOT NULL,
         results_sha256  text NOT NULL,
         summary_json    text NOT NULL,
-        PRIMARY KEY (plant, sequence, version),
-        FOREIGN KEY (plant, sequence) REFERENCES workpack.records (plant, sequence))""",
+        PRIMARY KEY (plant, sequence, version))""",
     """CREATE TABLE IF NOT EXISTS workpack.crew_plants (
         member  name NOT NULL,
         plant   text NOT NULL CHECK (plant <> ''),

@@ -168,7 +168,7 @@ _EVENTS_INDEX = "CREATE INDEX IF NOT EXISTS job_events_by_package ON job_events 
 # record written after it existed; older records, or records another workpack wrote,
 # simply have none.
 _PLANNING_TABLE = """CREATE TABLE IF NOT EXISTS record_planning (
-    sequence        INTEGER NOT NULL REFERENCES records (sequence),
+    sequence        INTEGER NOT NULL,
     version         INTEGER NOT NULL,
     results_sha256  TEXT NOT NULL,
     summary_json    TEXT NOT NULL,
