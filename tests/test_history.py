@@ -9,6 +9,7 @@ import sqlite3
 import pytest
 from conftest import ROOT
 
+from workpack.cli import main
 from workpack.history import history_from_planning, history_from_records
 from workpack.loading import load_findings, load_ruleset, load_weights
 from workpack.model.evaluation import Evaluation, ReadingVerdict
@@ -16,6 +17,7 @@ from workpack.model.results import Results
 from workpack.plan import due_routines, plan_day
 from workpack.records import read_back, record_payload
 from workpack.store import StoreError, open_store
+from workpack.trust_shell import check_planning_summaries
 
 DAY = dt.date(2026, 12, 2)
 HASH = "0" * 64
@@ -131,6 +133,7 @@ def test_planning_summaries_give_the_history_the_payloads_give(tmp_path, request
                          verdict="passed", supersedes=supersedes)
         rows = list(store.planning_records())
         assert store.fill_planning_summaries() == 0  # nothing missing
+        assert check_planning_summaries(store) == []  # and each agrees with its record
         # every record of today's workpack has its summary: no payload is read
         assert [r.summary is not None and r.results_json is None for r in rows] == [True] * 7
         from_summaries = history_from_planning(rows, "ieee43-2013")
@@ -178,3 +181,20 @@ def test_records_without_a_summary_are_read_whole(tmp_path) -> None:
     with open_store(tmp_path / "r.sqlite") as store, \
             pytest.raises(StoreError, match="record 2 is damaged"):
         list(store.planning_records())
+
+
+def test_verify_names_a_planning_summary_changed_outside_workpack(tmp_path, capsys) -> None:
+    """The summaries are outside the hash chain: a changed one would hide a falling trend
+    from the planner while every record still verifies, so verify recomputes them."""
+    store_with(tmp_path, [("WP-1", ir_payload("SWP-1", 9e6, "2026-01-01"), None),
+                          ("WP-2", ir_payload("SWP-1", 1e6, "2026-02-01"), None)]).close()
+    db = str(tmp_path / "r.sqlite")
+    assert main(["verify", "--db", db]) == 0
+    assert "planning summary" not in capsys.readouterr().out
+    with sqlite3.connect(db) as raw:
+        raw.execute("UPDATE record_planning SET summary_json = replace(summary_json, "
+                    "'1000000.0', '9000000.0') WHERE sequence = 2")
+    assert main(["verify", "--db", db]) == 1
+    out = capsys.readouterr().out
+    assert f"{db}: record 2's planning summary does not match the record" in out
+    assert "record 1's" not in out

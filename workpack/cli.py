@@ -737,6 +737,7 @@ def _cmd_verify(args: argparse.Namespace) -> int:
     from workpack.trust_shell import (
         anchor_plant,
         check_anchor,
+        check_planning_summaries,
         check_signatures,
         check_verdicts,
         read_anchor,
@@ -769,6 +770,7 @@ def _cmd_verify(args: argparse.Namespace) -> int:
     for name in plants:
         with open_store(db, plant=name, create=False) as store:
             chains.append(_chain_report(name, store.verify()))
+            checks += check_planning_summaries(store)
             if anchor is not None:
                 checks += check_anchor(store, anchor, f"--anchor {args.anchor}", register)
             if packages is not None:

@@ -98,6 +98,19 @@ def check_verdicts(store: RecordStore, packages: Mapping[str, WorkPackage],
             *[Finding(False, f"{store.location}: {d.message}") for d in judged.disagreements]]
 
 
+def check_planning_summaries(store: RecordStore) -> list[Finding]:
+    """Each planning summary kept beside a record recomputed from the record's payload:
+    one line per summary that differs (changed outside workpack; the planner would read
+    it instead of the record), none when all agree."""
+    from workpack.records import planning_summary
+
+    return [Finding(False, f"{store.location}: record {sequence}'s planning summary does "
+                           "not match the record (changed outside workpack); planning reads "
+                           "it instead of the record: restore the store from a copy")
+            for sequence, payload, summary in store.kept_summaries()
+            if planning_summary(payload) != summary]
+
+
 # --- records signed by the technician and the supervisor ---------------------------------------
 
 ROLE_PASSPHRASE = "WORKPACK_KEY_PASSPHRASE_{role}"  # per role, before WORKPACK_KEY_PASSPHRASE

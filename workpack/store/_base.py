@@ -237,6 +237,13 @@ class RecordStore(Protocol):
         payload itself (records written before summaries were kept)."""
         ...
 
+    def kept_summaries(self) -> Iterator[tuple[int, str, str]]:
+        """(sequence, payload, summary) of each record with a planning summary of today's
+        version kept for its payload, in sequence order: for ``verify`` to recompute,
+        since the summaries are outside the chain and a changed one would mislead the
+        planner while every record still verifies."""
+        ...
+
     def fill_planning_summaries(self) -> int:
         """Keep the planning summary of each record that has none of today's version
         (written before summaries were kept, or by an older workpack), in transactions of

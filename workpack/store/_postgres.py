@@ -567,6 +567,25 @@ class PostgresStore(ClosedOnExit):
                 [(plant, *summary) for summary in planning_summaries(
                     [(r.sequence, r.results_sha256, r.results_json) for r in rows])])
 
+    def kept_summaries(self) -> Iterator[tuple[int, str, str]]:
+        plant = self.plant
+        with self._translate("reading"):
+            if not self._has_planning():
+                return
+        query = ("SELECT r.sequence, r.results_json, p.summary_json FROM workpack.records AS r "
+                 "JOIN workpack.record_planning AS p ON p.plant = r.plant AND p.sequence = "
+                 "r.sequence AND p.version = %s AND p.results_sha256 = r.results_sha256 "
+                 f"WHERE r.plant = %s AND r.sequence > %s ORDER BY r.sequence LIMIT {BATCH}")
+        after = 0
+        while True:
+            with self._translate("reading"):
+                batch = self._conn.execute(query, (planning_version(), plant, after)
+                                           ).fetchall()
+            yield from ((n, payload, summary) for n, payload, summary in batch)
+            if len(batch) < BATCH:
+                return
+            after = batch[-1][0]
+
     def fill_planning_summaries(self) -> int:
         plant = self.plant
         c = self._conn

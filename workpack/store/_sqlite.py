@@ -436,6 +436,23 @@ class SQLiteStore(ClosedOnExit):
                       "summary_json) VALUES (?, ?, ?, ?)", planning_summaries(
                           [(r.sequence, r.results_sha256, r.results_json) for r in rows]))
 
+    def kept_summaries(self) -> Iterator[tuple[int, str, str]]:
+        with self._translate("reading"):
+            if not self._has_table("record_planning"):
+                return
+        query = ("SELECT r.sequence, r.results_json, p.summary_json FROM records AS r JOIN "
+                 "record_planning AS p ON p.sequence = r.sequence AND p.version = ? AND "
+                 f"p.results_sha256 = r.results_sha256 WHERE r.sequence > ? "
+                 f"ORDER BY r.sequence LIMIT {BATCH}")
+        after = 0
+        while True:
+            with self._translate("reading"):
+                batch = self._conn.execute(query, (planning_version(), after)).fetchall()
+            yield from ((n, payload, summary) for n, payload, summary in batch)
+            if len(batch) < BATCH:
+                return
+            after = batch[-1][0]
+
     def fill_planning_summaries(self) -> int:
         c = self._conn
         added = 0
