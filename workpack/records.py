@@ -24,9 +24,17 @@ The payload
     cover is ``workpack.record_signatures``.
 
     ``read_payload`` reads a record's whole payload; ``read_for_planning`` only what the
-    planner's history needs (``PlanningView``), about a third quicker, since planning
-    reads every record of the plant every day; ``read_back`` never raises and says why a
+    planner's history needs (``PlanningView``); ``read_back`` never raises and says why a
     payload could not be read.
+
+Planning summaries
+    Planning reads every record of the plant every day, so a store keeps beside each
+    record, in the record's transaction, the short ``planning_summary`` of its payload:
+    ``planning_facts`` read through ``PlanningView`` (the same payloads left out), with
+    ``PLANNING_SUMMARY_VERSION``. The planner reads the summaries
+    (``RecordStore.planning_records``) and reads a payload whole only where its record has
+    no summary of this version (an older store, until a plan fills them in). They are
+    outside the hash chain: ``verify`` recomputes each one against its record.
 
 The latest effective record
     A correction is a new record whose ``supersedes`` names the record it corrects;
