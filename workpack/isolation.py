@@ -21,6 +21,7 @@ else could still close onto the dead side. Pure: no file access.
 
 from __future__ import annotations
 
+import weakref
 from collections import deque
 from dataclasses import dataclass, replace
 from enum import StrEnum
@@ -149,13 +150,18 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
             walked[candidate] = _FarSide(sources=far.sources, path=nearest.path)
     chosen = sorted(d for d, far in walked.items() if far.sources)
 
+    paths: dict[State, tuple[str, ...]] = {}  # the sort key asks again and again
+
     def path_to(state: State) -> tuple[str, ...]:
-        chain: list[str] = []
-        step = parent[state]
-        while step is not None:
-            chain.append(element_of(step[0]))
-            step = parent[step]
-        return tuple(dict.fromkeys(reversed(chain)))
+        known = paths.get(state)
+        if known is None:
+            chain: list[str] = []
+            step = parent[state]
+            while step is not None:
+                chain.append(element_of(step[0]))
+                step = parent[step]
+            known = paths[state] = tuple(dict.fromkeys(reversed(chain)))
+        return known
 
     blocked = region | set(chosen)
     normal_sources: dict[str, set[str]] = {}
@@ -378,7 +384,56 @@ def _far_side(topology: Topology, start: State, blocked: set[str],
     With ``stop_at_boards`` the walk does not pass a bus or a normally open
     device: it finds only the sources right behind the device. With
     ``first_only`` it stops at the first source.
+
+    The final tests of a ground search walk from the same devices again and again
+    with blocked sets that differ only near each place of work, mostly where the
+    walk never looks: a walk is kept with the nodes it looked at, and reused
+    when the blocked nodes among those are the same (``_FarSideMemo``).
     """
+    memo = _FAR_SIDE_MEMOS.get(topology)
+    if memo is None:
+        memo = _FAR_SIDE_MEMOS[topology] = _FarSideMemo()
+    key = (start, stop_at_boards, first_only)
+    known = memo.find(key, blocked)
+    if known is not None:
+        return known
+    far, looked_at = _walk_far_side(topology, start, blocked, stop_at_boards, first_only)
+    memo.keep(key, blocked, looked_at, far)
+    return far
+
+
+class _FarSideMemo:
+    """Walks of ``_far_side`` of one topology, each reusable for other blocked sets.
+
+    A walk reads ``blocked`` only to ask whether a neighbour of a node it steps from
+    is blocked. Another blocked set gives every such answer the same, and so the same
+    walk, when it holds the same nodes among those neighbours.
+    """
+
+    def __init__(self) -> None:
+        self.walks: dict[tuple[State, bool, bool],
+                         list[tuple[frozenset[str], frozenset[str], _FarSide]]] = {}
+
+    def find(self, key: tuple[State, bool, bool], blocked: set[str]) -> _FarSide | None:
+        for looked_at, asked, far in self.walks.get(key, ()):
+            if looked_at.intersection(blocked) == asked:
+                return far
+        return None
+
+    def keep(self, key: tuple[State, bool, bool], blocked: set[str],
+             looked_at: frozenset[str], far: _FarSide) -> None:
+        self.walks.setdefault(key, []).append((looked_at, looked_at.intersection(blocked),
+                                               far))
+
+
+_FAR_SIDE_MEMOS: weakref.WeakKeyDictionary[Topology, _FarSideMemo] = (
+    weakref.WeakKeyDictionary())
+
+
+def _walk_far_side(topology: Topology, start: State, blocked: set[str],
+                   stop_at_boards: bool, first_only: bool,
+                   ) -> tuple[_FarSide, frozenset[str]]:
+    """``_far_side``'s walk, and the nodes it looked at (asked whether blocked)."""
     adjacency = topology.closable_adjacency
     switches = topology.one_input_at_a_time
     sources = topology.source_nodes
@@ -387,6 +442,7 @@ def _far_side(topology: Topology, start: State, blocked: set[str],
     queue = deque([start])
     found: list[str] = []
     nearest: State | None = None
+    looked_at: set[str] = set()
     while queue:
         state = queue.popleft()
         node = state[0]
@@ -404,6 +460,7 @@ def _far_side(topology: Topology, start: State, blocked: set[str],
         # The step of Topology.onward, written out: every chosen device walks here for
         # its nearest source; the property tests in tests/test_isolation.py hold this
         # walk, the one search (_far_sides) and the planner to an independent model.
+        looked_at.update(adjacency[node])
         passed = state[1]
         blocked_inputs = switches.get(node) if passed == node else None
         for neighbour in adjacency[node]:
@@ -424,7 +481,7 @@ def _far_side(topology: Topology, start: State, blocked: set[str],
             chain.append(step[0])
             step = parent[step]
         path = tuple(reversed(chain))
-    return _FarSide(sources=tuple(sorted(set(found))), path=path)
+    return _FarSide(sources=tuple(sorted(set(found))), path=path), frozenset(looked_at)
 
 
 def _far_sides(topology: Topology, starts: dict[str, State],
