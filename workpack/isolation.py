@@ -23,7 +23,7 @@ from __future__ import annotations
 
 import weakref
 from collections import deque
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from enum import StrEnum
 from functools import cached_property
 
@@ -390,9 +390,7 @@ def _far_side(topology: Topology, start: State, blocked: set[str],
     walk never looks: a walk is kept with the nodes it looked at, and reused
     when the blocked nodes among those are the same (``_FarSideMemo``).
     """
-    memo = _FAR_SIDE_MEMOS.get(topology)
-    if memo is None:
-        memo = _FAR_SIDE_MEMOS[topology] = _FarSideMemo()
+    memo = _memo(topology).far_sides
     key = (start, stop_at_boards, first_only)
     known = memo.find(key, blocked)
     if known is not None:
@@ -426,8 +424,37 @@ class _FarSideMemo:
                                                far))
 
 
-_FAR_SIDE_MEMOS: weakref.WeakKeyDictionary[Topology, _FarSideMemo] = (
-    weakref.WeakKeyDictionary())
+@dataclass
+class _Piece:
+    """A finished walk of ``_Pieces._cut``: a whole piece, and what tells it is the same
+    piece for another blocked set (the blocked nodes among those it looked at)."""
+
+    looked_at: frozenset[str]
+    asked: frozenset[str]
+    members: tuple[str, ...]
+    sources: int  # the sources next to it that are not blocked, as bits
+    steps: tuple[tuple[str, str], ...]  # (member, open-transition changeover next to it)
+    beside: tuple[str, ...]  # the blocked nodes next to its members, in walk order
+    next_to: dict[str, int]  # source → members next to it
+
+
+@dataclass
+class _Memo:
+    """What the isolations of one topology keep for each other: they are planned many
+    times a day (every final test of a ground search), around the same devices."""
+
+    far_sides: _FarSideMemo = field(default_factory=_FarSideMemo)
+    pieces: dict[str, list[_Piece]] = field(default_factory=dict)  # by a node next to a cut
+
+
+_MEMOS: weakref.WeakKeyDictionary[Topology, _Memo] = weakref.WeakKeyDictionary()
+
+
+def _memo(topology: Topology) -> _Memo:
+    memo = _MEMOS.get(topology)
+    if memo is None:
+        memo = _MEMOS[topology] = _Memo()
+    return memo
 
 
 def _walk_far_side(topology: Topology, start: State, blocked: set[str],
@@ -597,6 +624,7 @@ class _Pieces:
                  starts: dict[str, State]) -> None:
         self.parts = topology.closable_parts
         self.adjacency = topology.closable_adjacency
+        self.known = _memo(topology).pieces
         self.source_nodes = topology.source_nodes
         self.blocked = blocked
         self.bit = bit
@@ -644,10 +672,19 @@ class _Pieces:
                 walk = merged[walk]
             return walk
 
+        known: list[_Piece] = []
+        begun: list[str] = []
         for node in inside:
             for neighbour in adjacency[node]:
                 if neighbour in part_of and neighbour not in blocked and (
                         neighbour not in owner):
+                    piece = self._known(neighbour)
+                    if piece is not None:  # a piece walked for another isolation
+                        known.append(piece)
+                        for member in piece.members:
+                            owner[member] = -1
+                        continue
+                    begun.append(neighbour)
                     walk = len(queues)
                     owner[neighbour] = walk
                     queues[walk] = deque([neighbour])
@@ -679,44 +716,76 @@ class _Pieces:
                         members[walk].extend(members.pop(other))
                 still.append(walk)
             active = [walk for walk in still if walk not in merged]
+        for piece in known:
+            self._take(self.next_piece, piece)
+            self.next_piece += 1
+        walked: list[_Piece] = []
         for walk in finished:
-            self._found(self.next_piece, members[walk])
+            walked.append(self._found(self.next_piece, members[walk]))
+            self._keep(walked[-1], begun)
             self.next_piece += 1
         if active:
-            self._rest(part, inside, [members[w] for w in finished])
+            self._rest(part, inside, [*known, *walked])
 
-    def _touching(self, node: str, sources: int, steps: list[tuple[str, str]],
-                  touching: list[str]) -> int:
-        """Note what lies next to a member of a piece; its source bits."""
-        for neighbour in self.adjacency[node]:
-            if neighbour in self.source_nodes:
-                if neighbour not in self.blocked:
-                    sources |= self.bit[neighbour]
-            elif neighbour not in self.parts.part_of:  # a changeover, blocked or not
-                steps.append((node, neighbour))
-            elif neighbour in self.blocked and neighbour in self.starts:
-                touching.append(neighbour)
-        return sources
+    def _known(self, node: str) -> _Piece | None:
+        """The whole piece of ``node`` if another isolation walked it with the same
+        blocked nodes around it."""
+        for piece in self.known.get(node, ()):
+            if piece.looked_at.intersection(self.blocked) == piece.asked:
+                return piece
+        return None
 
-    def _found(self, piece: int, nodes: list[str]) -> None:
+    def _keep(self, piece: _Piece, begun: list[str]) -> None:
+        """Keep a walked piece under each node a walk began at."""
+        inside = set(piece.members)
+        for node in begun:
+            if node in inside:
+                self.known.setdefault(node, []).append(piece)
+
+    def _take(self, number: int, piece: _Piece) -> None:
+        for node in piece.members:
+            self.walked[node] = number
+        self.found[number] = (piece.sources, list(piece.steps),
+                              [node for node in piece.beside if node in self.starts])
+
+    def _found(self, piece: int, nodes: list[str]) -> _Piece:
+        """Number a walked piece and note what lies next to its members."""
+        adjacency, source_nodes, part_of = self.adjacency, self.source_nodes, self.parts.part_of
+        blocked, bit = self.blocked, self.bit
         sources = 0
         steps: list[tuple[str, str]] = []
-        touching: list[str] = []
+        beside: list[str] = []  # the blocked nodes next to it
+        looked_at: set[str] = set(nodes)
+        next_to: dict[str, int] = {}
         for node in nodes:
             self.walked[node] = piece
-            sources = self._touching(node, sources, steps, touching)
-        self.found[piece] = (sources, steps, touching)
+            around = adjacency[node]
+            looked_at.update(around)
+            for neighbour in around:
+                if neighbour in source_nodes:
+                    next_to[neighbour] = next_to.get(neighbour, 0) + 1
+                    if neighbour not in blocked:
+                        sources |= bit[neighbour]
+                elif neighbour not in part_of:  # a changeover, blocked or not
+                    steps.append((node, neighbour))
+                elif neighbour in blocked:
+                    beside.append(neighbour)
+        self.found[piece] = (sources, steps, [n for n in beside if n in self.starts])
+        return _Piece(frozenset(looked_at), frozenset(looked_at & blocked), tuple(nodes),
+                      sources, tuple(steps), tuple(beside), next_to)
 
-    def _rest(self, part: int, inside: list[str], walked: list[list[str]]) -> None:
+    def _rest(self, part: int, inside: list[str], walked: list[_Piece]) -> None:
         """The unfinished walk's piece: the part less the blocked and walked nodes."""
         less: dict[str, int] = {}  # source → members next to it that are not in the rest
         gone = set(inside)
-        for nodes in walked:
-            gone.update(nodes)
         for node in gone:
             for neighbour in self.adjacency[node]:
                 if neighbour in self.source_nodes:
                     less[neighbour] = less.get(neighbour, 0) + 1
+        for piece in walked:  # pieces do not overlap each other or the blocked nodes
+            gone.update(piece.members)
+            for neighbour, count in piece.next_to.items():
+                less[neighbour] = less.get(neighbour, 0) + count
         counts = self.parts.sources[part]
         sources = self.parts.source_bits[part]
         for node, count in less.items():
