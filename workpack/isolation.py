@@ -431,7 +431,7 @@ class _Piece:
 
     looked_at: frozenset[str]
     asked: frozenset[str]
-    members: tuple[str, ...]
+    members: frozenset[str]
     sources: int  # the sources next to it that are not blocked, as bits
     steps: tuple[tuple[str, str], ...]  # (member, open-transition changeover next to it)
     beside: tuple[str, ...]  # the blocked nodes next to its members, in walk order
@@ -634,6 +634,7 @@ class _Pieces:
             self.blocked_sources |= bit[node]
         count = len(self.parts.sources)
         self.walked: dict[str, int] = {}  # node in a walked piece → piece (count and up)
+        self.taken: list[tuple[int, _Piece]] = []  # pieces walked before, numbered here
         self.found: dict[int, tuple[int, list[tuple[str, str]], list[str]]] = {}
         self.rests: dict[int, tuple[int, list[tuple[str, str]], list[str]]] = {}
         cut: dict[int, list[str]] = {}
@@ -648,6 +649,9 @@ class _Pieces:
     def of(self, node: str) -> int:
         """The piece of a node that is neither blocked, a source nor a changeover."""
         piece = self.walked.get(node)
+        if piece is None:
+            piece = next((number for number, taken in self.taken if node in taken.members),
+                         None)
         return self.parts.part_of[node] if piece is None else piece
 
     def contents(self, piece: int) -> tuple[int, list[tuple[str, str]], list[str]]:
@@ -678,11 +682,11 @@ class _Pieces:
             for neighbour in adjacency[node]:
                 if neighbour in part_of and neighbour not in blocked and (
                         neighbour not in owner):
+                    if any(neighbour in piece.members for piece in known):
+                        continue
                     piece = self._known(neighbour)
                     if piece is not None:  # a piece walked for another isolation
                         known.append(piece)
-                        for member in piece.members:
-                            owner[member] = -1
                         continue
                     begun.append(neighbour)
                     walk = len(queues)
@@ -737,14 +741,12 @@ class _Pieces:
 
     def _keep(self, piece: _Piece, begun: list[str]) -> None:
         """Keep a walked piece under each node a walk began at."""
-        inside = set(piece.members)
         for node in begun:
-            if node in inside:
+            if node in piece.members:
                 self.known.setdefault(node, []).append(piece)
 
     def _take(self, number: int, piece: _Piece) -> None:
-        for node in piece.members:
-            self.walked[node] = number
+        self.taken.append((number, piece))
         self.found[number] = (piece.sources, list(piece.steps),
                               [node for node in piece.beside if node in self.starts])
 
@@ -771,30 +773,33 @@ class _Pieces:
                 elif neighbour in blocked:
                     beside.append(neighbour)
         self.found[piece] = (sources, steps, [n for n in beside if n in self.starts])
-        return _Piece(frozenset(looked_at), frozenset(looked_at & blocked), tuple(nodes),
+        return _Piece(frozenset(looked_at), frozenset(looked_at & blocked), frozenset(nodes),
                       sources, tuple(steps), tuple(beside), next_to)
 
     def _rest(self, part: int, inside: list[str], walked: list[_Piece]) -> None:
         """The unfinished walk's piece: the part less the blocked and walked nodes."""
         less: dict[str, int] = {}  # source → members next to it that are not in the rest
-        gone = set(inside)
-        for node in gone:
+        blocked = set(inside)
+        for node in blocked:
             for neighbour in self.adjacency[node]:
                 if neighbour in self.source_nodes:
                     less[neighbour] = less.get(neighbour, 0) + 1
         for piece in walked:  # pieces do not overlap each other or the blocked nodes
-            gone.update(piece.members)
             for neighbour, count in piece.next_to.items():
                 less[neighbour] = less.get(neighbour, 0) + count
+
+        def gone(node: str) -> bool:
+            return node in blocked or any(node in piece.members for piece in walked)
+
         counts = self.parts.sources[part]
         sources = self.parts.source_bits[part]
         for node, count in less.items():
             if count >= counts[node]:  # every member next to it is blocked or walked
                 sources &= ~self.bit[node]
         steps = [(member, switch) for member, switch in self.parts.changeovers[part]
-                 if member not in gone]
+                 if not gone(member)]
         touching = sorted({node for node in inside if node in self.starts and any(
-            neighbour in self.parts.part_of and neighbour not in gone
+            neighbour in self.parts.part_of and not gone(neighbour)
             for neighbour in self.adjacency[node])})
         self.rests[part] = (sources & ~self.blocked_sources, steps, touching)
 
