@@ -493,3 +493,20 @@ def test_field_appearances_are_built_once_per_look(monkeypatch: pytest.MonkeyPat
 
     monkeypatch.setattr("workpack.render.pdf.fields._reuse_appearances", lambda form: None)
     assert render_package(package) == pdf
+
+
+def test_faster_object_writing_writes_reportlabs_own_bytes(
+        sample_pdf: bytes, monkeypatch: pytest.MonkeyPatch) -> None:
+    """``render.pdf.objects`` writes the PDF objects faster; written by reportlab alone,
+    the same package gives the same bytes (a form field's dictionaries, numbers, names)."""
+    import contextlib
+
+    from reportlab.pdfbase import pdfdoc
+
+    import workpack.render.pdf.document as document
+
+    bare = pdfdoc.format, pdfdoc.PDFDictionary.format
+    monkeypatch.setattr(document, "faster_objects", contextlib.nullcontext)
+    assert render_package(sample_package()) == sample_pdf
+    monkeypatch.undo()
+    assert (pdfdoc.format, pdfdoc.PDFDictionary.format) == bare  # put back after each use

@@ -21,8 +21,9 @@ else could still close onto the dead side. Pure: no file access.
 
 from __future__ import annotations
 
+import weakref
 from collections import deque
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from enum import StrEnum
 from functools import cached_property
 
@@ -149,13 +150,18 @@ def plan_isolation(topology: Topology, item_id: str) -> IsolationPlan:
             walked[candidate] = _FarSide(sources=far.sources, path=nearest.path)
     chosen = sorted(d for d, far in walked.items() if far.sources)
 
+    paths: dict[State, tuple[str, ...]] = {}  # the sort key asks again and again
+
     def path_to(state: State) -> tuple[str, ...]:
-        chain: list[str] = []
-        step = parent[state]
-        while step is not None:
-            chain.append(element_of(step[0]))
-            step = parent[step]
-        return tuple(dict.fromkeys(reversed(chain)))
+        known = paths.get(state)
+        if known is None:
+            chain: list[str] = []
+            step = parent[state]
+            while step is not None:
+                chain.append(element_of(step[0]))
+                step = parent[step]
+            known = paths[state] = tuple(dict.fromkeys(reversed(chain)))
+        return known
 
     blocked = region | set(chosen)
     normal_sources: dict[str, set[str]] = {}
@@ -378,7 +384,83 @@ def _far_side(topology: Topology, start: State, blocked: set[str],
     With ``stop_at_boards`` the walk does not pass a bus or a normally open
     device: it finds only the sources right behind the device. With
     ``first_only`` it stops at the first source.
+
+    The final tests of a ground search walk from the same devices again and again
+    with blocked sets that differ only near each place of work, mostly where the
+    walk never looks: a walk is kept with the nodes it looked at, and reused
+    when the blocked nodes among those are the same (``_FarSideMemo``).
     """
+    memo = _memo(topology).far_sides
+    key = (start, stop_at_boards, first_only)
+    known = memo.find(key, blocked)
+    if known is not None:
+        return known
+    far, looked_at = _walk_far_side(topology, start, blocked, stop_at_boards, first_only)
+    memo.keep(key, blocked, looked_at, far)
+    return far
+
+
+class _FarSideMemo:
+    """Walks of ``_far_side`` of one topology, each reusable for other blocked sets.
+
+    A walk reads ``blocked`` only to ask whether a neighbour of a node it steps from
+    is blocked. Another blocked set gives every such answer the same, and so the same
+    walk, when it holds the same nodes among those neighbours.
+    """
+
+    def __init__(self) -> None:
+        self.walks: dict[tuple[State, bool, bool],
+                         list[tuple[frozenset[str], frozenset[str], _FarSide]]] = {}
+
+    def find(self, key: tuple[State, bool, bool], blocked: set[str]) -> _FarSide | None:
+        for looked_at, asked, far in self.walks.get(key, ()):
+            if looked_at.intersection(blocked) == asked:
+                return far
+        return None
+
+    def keep(self, key: tuple[State, bool, bool], blocked: set[str],
+             looked_at: frozenset[str], far: _FarSide) -> None:
+        self.walks.setdefault(key, []).append((looked_at, looked_at.intersection(blocked),
+                                               far))
+
+
+@dataclass
+class _Piece:
+    """A finished walk of ``_Pieces._cut``: a whole piece, and what tells it is the same
+    piece for another blocked set (the blocked nodes among those it looked at)."""
+
+    looked_at: frozenset[str]
+    asked: frozenset[str]
+    members: frozenset[str]
+    sources: int  # the sources next to it that are not blocked, as bits
+    steps: tuple[tuple[str, str], ...]  # (member, open-transition changeover next to it)
+    beside: tuple[str, ...]  # the blocked nodes next to its members, in walk order
+    next_to: dict[str, int]  # source → members next to it
+
+
+@dataclass
+class _Memo:
+    """What the isolations of one topology keep for each other: they are planned many
+    times a day (every final test of a ground search), around the same devices."""
+
+    far_sides: _FarSideMemo = field(default_factory=_FarSideMemo)
+    pieces: dict[str, list[_Piece]] = field(default_factory=dict)  # by a node next to a cut
+
+
+_MEMOS: weakref.WeakKeyDictionary[Topology, _Memo] = weakref.WeakKeyDictionary()
+
+
+def _memo(topology: Topology) -> _Memo:
+    memo = _MEMOS.get(topology)
+    if memo is None:
+        memo = _MEMOS[topology] = _Memo()
+    return memo
+
+
+def _walk_far_side(topology: Topology, start: State, blocked: set[str],
+                   stop_at_boards: bool, first_only: bool,
+                   ) -> tuple[_FarSide, frozenset[str]]:
+    """``_far_side``'s walk, and the nodes it looked at (asked whether blocked)."""
     adjacency = topology.closable_adjacency
     switches = topology.one_input_at_a_time
     sources = topology.source_nodes
@@ -387,6 +469,7 @@ def _far_side(topology: Topology, start: State, blocked: set[str],
     queue = deque([start])
     found: list[str] = []
     nearest: State | None = None
+    looked_at: set[str] = set()
     while queue:
         state = queue.popleft()
         node = state[0]
@@ -404,6 +487,7 @@ def _far_side(topology: Topology, start: State, blocked: set[str],
         # The step of Topology.onward, written out: every chosen device walks here for
         # its nearest source; the property tests in tests/test_isolation.py hold this
         # walk, the one search (_far_sides) and the planner to an independent model.
+        looked_at.update(adjacency[node])
         passed = state[1]
         blocked_inputs = switches.get(node) if passed == node else None
         for neighbour in adjacency[node]:
@@ -424,7 +508,7 @@ def _far_side(topology: Topology, start: State, blocked: set[str],
             chain.append(step[0])
             step = parent[step]
         path = tuple(reversed(chain))
-    return _FarSide(sources=tuple(sorted(set(found))), path=path)
+    return _FarSide(sources=tuple(sorted(set(found))), path=path), frozenset(looked_at)
 
 
 def _far_sides(topology: Topology, starts: dict[str, State],
@@ -540,6 +624,7 @@ class _Pieces:
                  starts: dict[str, State]) -> None:
         self.parts = topology.closable_parts
         self.adjacency = topology.closable_adjacency
+        self.known = _memo(topology).pieces
         self.source_nodes = topology.source_nodes
         self.blocked = blocked
         self.bit = bit
@@ -549,6 +634,7 @@ class _Pieces:
             self.blocked_sources |= bit[node]
         count = len(self.parts.sources)
         self.walked: dict[str, int] = {}  # node in a walked piece → piece (count and up)
+        self.taken: list[tuple[int, _Piece]] = []  # pieces walked before, numbered here
         self.found: dict[int, tuple[int, list[tuple[str, str]], list[str]]] = {}
         self.rests: dict[int, tuple[int, list[tuple[str, str]], list[str]]] = {}
         cut: dict[int, list[str]] = {}
@@ -563,6 +649,9 @@ class _Pieces:
     def of(self, node: str) -> int:
         """The piece of a node that is neither blocked, a source nor a changeover."""
         piece = self.walked.get(node)
+        if piece is None:
+            piece = next((number for number, taken in self.taken if node in taken.members),
+                         None)
         return self.parts.part_of[node] if piece is None else piece
 
     def contents(self, piece: int) -> tuple[int, list[tuple[str, str]], list[str]]:
@@ -587,10 +676,19 @@ class _Pieces:
                 walk = merged[walk]
             return walk
 
+        known: list[_Piece] = []
+        begun: list[str] = []
         for node in inside:
             for neighbour in adjacency[node]:
                 if neighbour in part_of and neighbour not in blocked and (
                         neighbour not in owner):
+                    if any(neighbour in piece.members for piece in known):
+                        continue
+                    piece = self._known(neighbour)
+                    if piece is not None:  # a piece walked for another isolation
+                        known.append(piece)
+                        continue
+                    begun.append(neighbour)
                     walk = len(queues)
                     owner[neighbour] = walk
                     queues[walk] = deque([neighbour])
@@ -622,53 +720,86 @@ class _Pieces:
                         members[walk].extend(members.pop(other))
                 still.append(walk)
             active = [walk for walk in still if walk not in merged]
+        for piece in known:
+            self._take(self.next_piece, piece)
+            self.next_piece += 1
+        walked: list[_Piece] = []
         for walk in finished:
-            self._found(self.next_piece, members[walk])
+            walked.append(self._found(self.next_piece, members[walk]))
+            self._keep(walked[-1], begun)
             self.next_piece += 1
         if active:
-            self._rest(part, inside, [members[w] for w in finished])
+            self._rest(part, inside, [*known, *walked])
 
-    def _touching(self, node: str, sources: int, steps: list[tuple[str, str]],
-                  touching: list[str]) -> int:
-        """Note what lies next to a member of a piece; its source bits."""
-        for neighbour in self.adjacency[node]:
-            if neighbour in self.source_nodes:
-                if neighbour not in self.blocked:
-                    sources |= self.bit[neighbour]
-            elif neighbour not in self.parts.part_of:  # a changeover, blocked or not
-                steps.append((node, neighbour))
-            elif neighbour in self.blocked and neighbour in self.starts:
-                touching.append(neighbour)
-        return sources
+    def _known(self, node: str) -> _Piece | None:
+        """The whole piece of ``node`` if another isolation walked it with the same
+        blocked nodes around it."""
+        for piece in self.known.get(node, ()):
+            if piece.looked_at.intersection(self.blocked) == piece.asked:
+                return piece
+        return None
 
-    def _found(self, piece: int, nodes: list[str]) -> None:
+    def _keep(self, piece: _Piece, begun: list[str]) -> None:
+        """Keep a walked piece under each node a walk began at."""
+        for node in begun:
+            if node in piece.members:
+                self.known.setdefault(node, []).append(piece)
+
+    def _take(self, number: int, piece: _Piece) -> None:
+        self.taken.append((number, piece))
+        self.found[number] = (piece.sources, list(piece.steps),
+                              [node for node in piece.beside if node in self.starts])
+
+    def _found(self, piece: int, nodes: list[str]) -> _Piece:
+        """Number a walked piece and note what lies next to its members."""
+        adjacency, source_nodes, part_of = self.adjacency, self.source_nodes, self.parts.part_of
+        blocked, bit = self.blocked, self.bit
         sources = 0
         steps: list[tuple[str, str]] = []
-        touching: list[str] = []
+        beside: list[str] = []  # the blocked nodes next to it
+        looked_at: set[str] = set(nodes)
+        next_to: dict[str, int] = {}
         for node in nodes:
             self.walked[node] = piece
-            sources = self._touching(node, sources, steps, touching)
-        self.found[piece] = (sources, steps, touching)
+            around = adjacency[node]
+            looked_at.update(around)
+            for neighbour in around:
+                if neighbour in source_nodes:
+                    next_to[neighbour] = next_to.get(neighbour, 0) + 1
+                    if neighbour not in blocked:
+                        sources |= bit[neighbour]
+                elif neighbour not in part_of:  # a changeover, blocked or not
+                    steps.append((node, neighbour))
+                elif neighbour in blocked:
+                    beside.append(neighbour)
+        self.found[piece] = (sources, steps, [n for n in beside if n in self.starts])
+        return _Piece(frozenset(looked_at), frozenset(looked_at & blocked), frozenset(nodes),
+                      sources, tuple(steps), tuple(beside), next_to)
 
-    def _rest(self, part: int, inside: list[str], walked: list[list[str]]) -> None:
+    def _rest(self, part: int, inside: list[str], walked: list[_Piece]) -> None:
         """The unfinished walk's piece: the part less the blocked and walked nodes."""
         less: dict[str, int] = {}  # source → members next to it that are not in the rest
-        gone = set(inside)
-        for nodes in walked:
-            gone.update(nodes)
-        for node in gone:
+        blocked = set(inside)
+        for node in blocked:
             for neighbour in self.adjacency[node]:
                 if neighbour in self.source_nodes:
                     less[neighbour] = less.get(neighbour, 0) + 1
+        for piece in walked:  # pieces do not overlap each other or the blocked nodes
+            for neighbour, count in piece.next_to.items():
+                less[neighbour] = less.get(neighbour, 0) + count
+
+        def gone(node: str) -> bool:
+            return node in blocked or any(node in piece.members for piece in walked)
+
         counts = self.parts.sources[part]
         sources = self.parts.source_bits[part]
         for node, count in less.items():
             if count >= counts[node]:  # every member next to it is blocked or walked
                 sources &= ~self.bit[node]
         steps = [(member, switch) for member, switch in self.parts.changeovers[part]
-                 if member not in gone]
+                 if not gone(member)]
         touching = sorted({node for node in inside if node in self.starts and any(
-            neighbour in self.parts.part_of and neighbour not in gone
+            neighbour in self.parts.part_of and not gone(neighbour)
             for neighbour in self.adjacency[node])})
         self.rests[part] = (sources & ~self.blocked_sources, steps, touching)
 

@@ -128,6 +128,7 @@ class Topology:
         self._normal: dict[frozenset[str], nx.Graph] = {}
         self._supply_paths: dict[str, tuple[tuple[str, ...], ...]] = {}  # asked again and again
         self._below: dict[str, tuple[str, ...]] = {}  # so is every lock's subtree
+        self._auxiliary_feeds: dict[str, tuple[str, ...]] = {}
         self._build()
 
     # --- construction ---------------------------------------------------------------------
@@ -544,10 +545,13 @@ class Topology:
 
     def auxiliary_feeds(self, element_id: str) -> list[str]:
         """Devices feeding the element's heater or control power from elsewhere."""
-        return sorted(
-            neighbour for neighbour in self.graph.neighbors(element_id)
-            if self.graph.edges[element_id, neighbour]["kind"] == AUXILIARY
-        ) if element_id in self.graph else []
+        known = self._auxiliary_feeds.get(element_id)
+        if known is None:  # asked for every device of every isolation
+            known = self._auxiliary_feeds[element_id] = tuple(sorted(
+                neighbour for neighbour in self.graph.neighbors(element_id)
+                if self.graph.edges[element_id, neighbour]["kind"] == AUXILIARY
+            ) if element_id in self.graph else ())
+        return list(known)
 
     def energy_neighbours(self, item_id: str) -> Callable[[str], list[str]]:
         """Neighbours over which energy could reach ``item_id``, all closable closed.

@@ -118,21 +118,29 @@ class _Routes:
         topology = self.topology
         avoided = set(avoid)
         adjacency = topology.closable_adjacency
+        switches = topology.one_input_at_a_time
+        sources = topology.source_nodes
         first: tuple[str, str | None] = (topology.node_out(start), None)
         parent: dict[tuple[str, str | None], tuple[str, str | None] | None] = {first: None}
         queue: deque[tuple[str, str | None]] = deque([first])
         while queue:
             state = queue.popleft()
             node, passed = state
-            if node in topology.source_nodes:
+            if node in sources:
                 chain = []
                 step: tuple[str, str | None] | None = state
                 while step is not None:
                     chain.append(element_of(step[0]))
                     step = parent[step]
                 return list(dict.fromkeys(chain))  # source first
-            nearby = [n for n in adjacency.get(node, ()) if element_of(n) not in avoided]
-            for reached in topology.onward(node, passed, nearby):
+            # Topology.onward, written out (a lock's route is walked for every package)
+            blocked_inputs = switches.get(node) if passed == node else None
+            for neighbour in adjacency.get(node, ()):
+                if neighbour == passed or element_of(neighbour) in avoided or (
+                        blocked_inputs and neighbour in blocked_inputs):
+                    continue
+                inputs = switches.get(neighbour)
+                reached = (neighbour, neighbour if inputs and node in inputs else passed)
                 if reached not in parent:
                     parent[reached] = state
                     queue.append(reached)

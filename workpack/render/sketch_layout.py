@@ -232,8 +232,7 @@ def width_needed(sketch: Sketch, measure: Measure, room: float | None = None,
     """The width ``layout_sketch`` lays the sketch out in: stacks on the bottom layer
     where that needs at most ``room`` points, else the least width it can do."""
     builder = _Builder(sketch, measure)
-    widths = [layout.width for sink in (True, False)
-              if (layout := _Layout(builder, None, sink, per_column).run()) is not None]
+    widths = [_Layout(builder, None, sink, per_column).needed() for sink in (True, False)]
     if room is not None and widths[0] <= room + 0.01:
         return widths[0]
     return min(widths)
@@ -254,8 +253,9 @@ class _Layout:
         self.sink_stacks = sink_stacks
         self.per_column = per_column
 
-    def run(self) -> SketchLayout | None:
-        b = self.b
+    def needed(self) -> float:
+        """The width the layout needs: what ``run`` lays it out in when given no width,
+        without placing anything (the fitting asks it before every layout)."""
         self.make_units()
         self.layering()
         self.make_chains()
@@ -263,7 +263,11 @@ class _Layout:
         lanes = sum(1 for c in self.chains if c.back)
         self.lane_room = lanes * LANE + (MARGIN if lanes else 0.0)
         needed = max((self.row_width(row) for row in self.rows), default=0.0)
-        needed += 2 * MARGIN + self.lane_room
+        return needed + 2 * MARGIN + self.lane_room
+
+    def run(self) -> SketchLayout | None:
+        b = self.b
+        needed = self.needed()
         if self.width is None:
             self.width = needed
         elif needed > self.width + 0.01:

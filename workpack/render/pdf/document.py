@@ -29,6 +29,7 @@ from workpack.render.figures import shortened
 from workpack.render.pdf.fields import PagedCanvas
 from workpack.render.pdf.flowables import KeepTogether, Table, words
 from workpack.render.pdf.fonts import FONT, FONT_BOLD, MIN_TEXT_PT, register_fonts
+from workpack.render.pdf.objects import faster_objects
 
 PageSize = Literal["A4", "Letter"]
 PAGE_SIZES: dict[str, tuple[float, float]] = {"A4": A4, "Letter": letter}
@@ -179,7 +180,8 @@ class PdfDocument:
                                                           onPage=self._on_page)])
         canvasmaker = functools.partial(PagedCanvas, finish_page=self.draw_page_count,
                                         created=self.created)
-        doc.build(self.story(), canvasmaker=canvasmaker)
+        with faster_objects():
+            doc.build(self.story(), canvasmaker=canvasmaker)
         return buffer.getvalue()
 
     # small builders the documents share
