@@ -4,11 +4,13 @@ safe for reportlab's paragraph markup."""
 from __future__ import annotations
 
 import copy
-from collections.abc import Sequence
+import math
+from collections.abc import Iterator, Sequence
 from typing import Any
 from xml.sax.saxutils import escape
 
-from reportlab.platypus import Flowable
+from reportlab.lib.units import mm
+from reportlab.platypus import Flowable, Paragraph
 from reportlab.platypus import KeepTogether as PlatypusKeepTogether
 from reportlab.platypus import Table as PlatypusTable
 
@@ -133,3 +135,109 @@ def _has_content(cell: Any) -> bool:
         return any(_has_content(part) for part in cell)
     return cell is not None
 
+
+
+# --- column widths sized to what the columns hold --------------------------------------
+
+# A cell as measured once: its widest word, and what each of its parts needs — a
+# paragraph (its line height, its width on one line) or a fixed part (0, its height).
+Measured = tuple[float, list[tuple[float, float]]]
+
+
+def _measure(cell: Any) -> Measured:
+    """A cell's widest word and its parts (a bare string is not measured: it never
+    wraps; a blank or a drawing counts with its own width and height)."""
+    parts = cell if isinstance(cell, list | tuple) else [cell]
+    word, needs = 0.0, []
+    for part in parts:
+        if isinstance(part, Paragraph):
+            part.wrap(1e6, 1e6)
+            word = max(word, part.minWidth())
+            needs.append((float(part.style.leading),
+                          max(part.getActualLineWidths0(), default=0.0)))
+        elif isinstance(part, Flowable):
+            width, height = part.wrap(0, 1e6)
+            word = max(word, float(width or 0))
+            needs.append((0.0, float(height or 0)))
+    return word, needs
+
+
+def _height(needs: list[tuple[float, float]], room: float) -> float:
+    """A cell's height at ``room`` points of text width, lines counted as if a line
+    could be cut anywhere (the least it can take; enough to compare widths by)."""
+    return sum(size if leading == 0 else leading * max(1, math.ceil(size / room - 1e-9))
+               for leading, size in needs)
+
+
+def content_widths(rows: Sequence[Sequence[Any]], total: float, padding: float,
+                   floors: Sequence[float] = ()) -> list[float]:
+    """Widths that share ``total`` points among the columns by what they hold, so the
+    table is as short as it can be: each column gets at least its widest word (no word
+    is broken) or its ``floors`` entry; when every cell fits on one line what is left
+    is shared evenly, otherwise room moves between columns while that makes the rows
+    (counted in lines) shorter. ``padding``: a cell's left plus right padding. Leave
+    out rows with spanned cells; the same rows give the same widths."""
+    count = max(len(row) for row in rows)
+    cells = [[_measure(cell) for cell in row] + [(0.0, [])] * (count - len(row))
+             for row in rows]
+    least = [max(row[c][0] for row in cells) + padding for c in range(count)]
+    most = [max([size for _, needs in (row[c] for row in cells)
+                 for leading, size in needs if leading], default=0.0) + padding
+            for c in range(count)]
+    for column, floor in enumerate(floors):
+        least[column] = max(least[column], floor)
+    most = [max(low, high) for low, high in zip(least, most, strict=True)]
+    room = total - sum(least)
+    if room <= 0:  # even the widest words do not fit: share by them
+        return [total * w / sum(least) for w in least]
+    wants = sum(most) - sum(least)
+    if wants <= room:  # every cell fits on one line
+        return [w + (room - wants) / count for w in most]
+    widths = [low + (high - low) * room / wants for low, high in zip(least, most, strict=True)]
+
+    known: dict[tuple[int, float], list[float]] = {}
+
+    def heights(column: int, width: float) -> list[float]:
+        key = (column, round(width, 1))
+        if key not in known:
+            known[key] = [_height(row[column][1], width - padding) for row in cells]
+        return known[key]
+
+    def tallness(trial: list[float]) -> float:
+        table = [heights(c, trial[c]) for c in range(count)]
+        return sum(max(row) for row in zip(*table, strict=True))
+
+    # what a column may grow to: the width at which one more of its cells fits a line
+    lines = [sorted({round(size + padding, 1) for row in cells
+                     for leading, size in row[c][1] if leading and size + padding <= most[c]})
+             for c in range(count)]
+
+    def trials(widths: list[float]) -> Iterator[list[float]]:
+        for take in range(count):  # grow one column to a line's width, the others give
+            spare = [0.0 if c == take else widths[c] - least[c] for c in range(count)]
+            for target in lines[take]:
+                need = target - widths[take]
+                if need <= 0.05 or need > sum(spare):
+                    continue
+                share = need / sum(spare)
+                yield [target if c == take else widths[c] - spare[c] * share
+                       for c in range(count)]
+        for step in (4 * mm, 1 * mm):  # room moved from one column to another
+            for give in range(count):
+                for take in range(count):
+                    if give != take and widths[give] - step >= least[give] \
+                            and widths[take] < most[take]:
+                        trial = list(widths)
+                        trial[give] -= step
+                        trial[take] += step
+                        yield trial
+
+    best = tallness(widths)
+    improved = True
+    while improved:  # take the first trial that makes the table shorter, until none does
+        improved = False
+        for trial in trials(widths):
+            if (tried := tallness(trial)) < best - 1e-6:
+                widths, best, improved = trial, tried, True
+                break
+    return widths

@@ -10,6 +10,7 @@ record overrides to show what was written in it.
 
 from __future__ import annotations
 
+import re
 from collections import Counter
 from collections.abc import Sequence
 from typing import Any, ClassVar, Literal, TypeAlias
@@ -17,7 +18,7 @@ from typing import Any, ClassVar, Literal, TypeAlias
 from reportlab.lib import colors
 from reportlab.lib.styles import ParagraphStyle
 from reportlab.lib.units import mm
-from reportlab.platypus import Flowable, Paragraph, Spacer, TableStyle
+from reportlab.platypus import CondPageBreak, Flowable, Paragraph, Spacer, TableStyle
 
 from workpack.competence import job_needs
 from workpack.forms import CHOSEN, FINAL_PROCEDURE
@@ -41,9 +42,16 @@ from workpack.render.figures import (
 )
 from workpack.render.pdf.document import GRID, HEAD_ROW, PageSize, PdfDocument
 from workpack.render.pdf.fields import Blank, CheckBox, FieldBox
-from workpack.render.pdf.flowables import KeepTogether, Table, listed, words
+from workpack.render.pdf.flowables import (
+    KeepTogether,
+    Table,
+    content_widths,
+    listed,
+    words,
+)
 from workpack.render.pdf.fonts import FONT, FONT_BOLD
 from workpack.render.pdf.readings import expected_text, limit_text
+from workpack.render.search_tree import ROW_PT as TREE_ROW_PT
 from workpack.render.search_tree import search_tree, tree_legend
 from workpack.search_wording import (
     FINAL_PROCEDURE_TEXT,
@@ -72,8 +80,10 @@ class PackagePdf(PdfDocument):
 
     field_height_mm: ClassVar[float] = 8.5
     tick_mm: ClassVar[float] = 6.5
+    row_tick_mm: ClassVar[float] = 5.0  # a tick box in a row of a dense table
     figure_gap_mm: ClassVar[float] = 4.0
     sketch_reserve_mm: ClassVar[float] = 55.0  # headings and notes around the sketch
+    phasor_alone_mm: ClassVar[float] = 70.0  # its notes beside it, the sketch below
     listed_at_most: ClassVar[int] = 30  # ids in one cell; the rest are counted
 
     def __init__(self, package: WorkPackage, page_size: PageSize = "A4") -> None:
@@ -186,11 +196,12 @@ class PackagePdf(PdfDocument):
                 if goto.kind == "not_found":
                     not_found = goto.text
             rows.append([self.blank(Blank(("step", step.number, "done"),
-                                          f"step {step.number} done", tick=True)),
+                                          f"step {step.number} done", tick=True,
+                                          height=self.row_tick_mm * mm)),
                          Paragraph(str(step.number), self.style["cell_bold"]),
                          opened, *outcomes])
-        table = Table(rows, colWidths=self.cols(8, 12, 78, 56, 28), repeatRows=1,
-                      repeat_when_cut=(1,))
+        table = Table(rows, colWidths=content_widths(rows, self.width, 2 * mm),
+                      repeatRows=1, repeat_when_cut=(1,))
         table.setStyle(TableStyle([*GRID, *HEAD_ROW, *TIGHT]))
         out: list[Flowable] = [KeepTogether([*lead, Spacer(1, 1 * mm)])]
         out.append(table)
@@ -201,8 +212,11 @@ class PackagePdf(PdfDocument):
         tree = search_tree(steps, self.width, FONT, FONT_BOLD)
         if tree is not None:
             legend = [Paragraph(words(n), self.style["small"]) for n in tree_legend()]
-            out += [KeepTogether([self.sub("The search as a tree"), *legend]),
-                    Spacer(1, 1.5 * mm), tree]
+            # the heading and legend never end a page without the tree's first rows
+            # (the tree splits between its rows)
+            lead = [self.sub("The search as a tree"), *legend, Spacer(1, 1.5 * mm)]
+            room = sum(f.wrap(self.width, self.height)[1] for f in lead) + 5 * mm
+            out += [CondPageBreak(room + 4 * TREE_ROW_PT), KeepTogether(lead), tree]
         return out
 
     # -- final tests of a search: one procedure, a table row for each circuit
@@ -264,6 +278,19 @@ class PackagePdf(PdfDocument):
         def volts(value: float | None) -> str:  # only where it differs from the usual
             return "" if value == usual else f", {format_volts(value)}"
 
+        # the DC test voltage, said once above the table and in a row only where it differs
+        every_reading = [r for f in finals for s in (*f.steps, *f.restoration)
+                         for r in s.readings]
+        test_volts = Counter(m.group(1) for r in every_reading
+                             if (m := _TEST_AT.search(r.what)) is not None)
+        usual_test = test_volts.most_common(1)[0][0] if test_volts else None
+
+        def test_what(what: str) -> str:
+            found = _TEST_AT.search(what)
+            if found is not None and found.group(1) == usual_test:
+                return what[:found.start()] + what[found.end():]
+            return what.replace(" to earth at ", " at ")
+
         for final in finals:
             ends: list[Flowable] = [Paragraph(f"<b>{words(final.id)}</b>: "
                                               f"<b>{words(final.feeder)}</b>", cell)]
@@ -283,7 +310,7 @@ class PackagePdf(PdfDocument):
             readings = [r for s in (*final.steps, *final.restoration) for r in s.readings]
             for k, r in enumerate(readings, start=1):
                 limit = r.limit
-                text = f"T{k} {words(r.what.replace(' to earth at ', ' at '))}"
+                text = f"T{k} {words(test_what(r.what))}"
                 if limit is not None:
                     ref = sources.setdefault(limit.basis, len(sources) + 1)
                     at = (f" at {format_quantity(limit.temperature_corrected_to_c, '°C')}"
@@ -303,13 +330,17 @@ class PackagePdf(PdfDocument):
                 rows.append([Paragraph(f"{words(final.id)} also:", cell),
                              Paragraph("<br/>".join(notes), cell), "", "", ""])
                 spans.append(("SPAN", (1, len(rows) - 1), (-1, len(rows) - 1)))
-        table = Table(rows, colWidths=self.cols(26, 40, 40, 54, 22), repeatRows=1,
-                      repeat_when_cut=(0,))
+        spanned = {cell[1][1] for cell in spans}
+        widths = content_widths([row for n, row in enumerate(rows) if n not in spanned],
+                                self.width, 2 * mm)
+        table = Table(rows, colWidths=widths, repeatRows=1, repeat_when_cut=(0,))
         table.setStyle(TableStyle([*GRID, *HEAD_ROW, *TIGHT, *spans]))
         notes = [Paragraph(f"[{n}] {words(basis)}", small)
                  for basis, n in sorted(sources.items(), key=lambda kv: kv[1])]
         lead = (f"Voltages are {format_volts(usual)} unless a row says otherwise. "
                 if usual is not None else "")
+        if usual_test is not None:
+            lead += f"Each test is at {usual_test} DC unless its row says otherwise. "
         return [self.sub("The circuits"),
                 Paragraph(lead + "Numbers in square brackets: the source of that minimum, "
                           "listed under the table.", small), Spacer(1, 1 * mm),
@@ -432,14 +463,14 @@ class PackagePdf(PdfDocument):
                                                f"the package's file {p.id}.json"))
         if p.origin.routine:
             origin.append(f"routine {p.origin.routine}")
+        # the short facts two to a row; the long ones (the priority's reason) across it
         rows = [
             pair("Package", p.id) + pair("Date", p.date.isoformat()),
-            pair("Plant", p.plant) + pair("Priority",
-                                          f"{p.priority} (1 = most urgent): {p.priority_reason}"),
-            pair("Item", p.item_label) + pair("System", p.system or "not given"),
-            pair("Duration", f"{format_number(p.duration_h)} h") + pair("Crew", str(p.crew)),
-            pair("Job kind", p.job_kind.replace("_", " "))
-            + pair("Permits", ", ".join(p.permits) or "none listed"),
+            pair("Plant", p.plant) + pair("System", p.system or "not given"),
+            pair("Item", p.item_label) + pair("Duration", f"{format_number(p.duration_h)} h"),
+            pair("Job kind", p.job_kind.replace("_", " ")) + pair("Crew", str(p.crew)),
+            pair("Permits", ", ".join(p.permits) or "none listed") + ["", ""],
+            pair("Priority", f"{p.priority} (1 = most urgent): {p.priority_reason}") + ["", ""],
             pair("Origin", "; ".join(origin)) + ["", ""],
             pair("Who", job_needs(p).describe()) + ["", ""],
         ]
@@ -448,7 +479,7 @@ class PackagePdf(PdfDocument):
             if p.supervisor_assigned:
                 crew += f"; supervisor {p.supervisor_assigned}"
             rows.append(pair("Assigned", crew) + ["", ""])
-        spans = [("SPAN", (1, row), (3, row)) for row in range(5, len(rows))]
+        spans = [("SPAN", (1, row), (3, row)) for row in range(4, len(rows))]
         table = Table(rows, colWidths=self.cols(24, 67, 24, 67), repeat_when_cut=(0, 2))
         table.setStyle(TableStyle([*GRID, *spans,
                                    ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
@@ -551,7 +582,7 @@ class PackagePdf(PdfDocument):
         sketch_needs = (sketch_width_needed(p.sketch, FONT, FONT_BOLD)
                         if p.sketch is not None else 0.0)
         side_by_side = p.phasor is not None and p.sketch is not None and sketch_needs <= half
-        phasor_width = half if side_by_side else min(half, 90 * mm)
+        phasor_width = half if side_by_side else min(half, self.phasor_alone_mm * mm)
         heading = self.numbered("Figures")
         phasor: list[Flowable] = []
         if p.phasor is not None:
@@ -790,8 +821,9 @@ class PackagePdf(PdfDocument):
                                           f"{r.id}: instrument (its register id)"))
             rows.append([*row, temperature, instrument] if with_temperature
                         else [*row, instrument])
-        widths = (self.cols(38, 28, 44, 30, 22, 20) if with_temperature
-                  else self.cols(42, 34, 54, 32, 20))
+        # the blanks' columns keep their room; the text columns share the rest by content
+        blanks = [30 * mm, *([22 * mm] if with_temperature else []), 20 * mm]
+        widths = content_widths(rows, self.width, 3.2 * mm, [0, 0, 0, *blanks])
         table = Table(rows, colWidths=widths, repeatRows=1)
         table.setStyle(TableStyle([*GRID, *HEAD_ROW]))
         return table
@@ -899,6 +931,10 @@ class PackagePdf(PdfDocument):
         table.setStyle(TableStyle([*GRID, ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
                                    ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
         return [KeepTogether([self.numbered("Sign-off"), table])]
+
+
+# a final test's reading: "<what> to earth at <DC test voltage> DC"
+_TEST_AT = re.compile(r" to earth at (\S+ V) DC")
 
 
 def _procedure_kind(name: str) -> StepKind:
