@@ -232,7 +232,28 @@ def content_widths(rows: Sequence[Sequence[Any]], total: float, padding: float,
                         trial[take] += step
                         yield trial
 
+    # starts that set as many rows as they can on one line: rows taken in turn, the
+    # one that widens the table least first, each column as wide as its taken cells
+    def spread(floor: list[float]) -> list[float]:
+        left = total - sum(floor)
+        wanting = sum(max(0.0, most[c] - floor[c]) for c in range(count))
+        return [floor[c] + (left * max(0.0, most[c] - floor[c]) / wanting if wanting
+                            else left / count) for c in range(count)]
+
+    needs = [[max(least[c], max([size for leading, size in row[c][1] if leading],
+                                default=0.0) + padding) for c in range(count)]
+             for row in cells]
     best = tallness(widths)
+    floor, waiting = list(least), list(range(len(cells)))
+    while waiting:
+        cost, chosen = min((sum(max(f, n) for f, n in zip(floor, needs[r], strict=True)), r)
+                           for r in waiting)
+        if cost > total:
+            break
+        waiting.remove(chosen)
+        floor = [max(f, n) for f, n in zip(floor, needs[chosen], strict=True)]
+        if (tried := tallness(trial := spread(floor))) < best - 1e-6:
+            widths, best = trial, tried
     improved = True
     while improved:  # take the first trial that makes the table shorter, until none does
         improved = False

@@ -51,6 +51,7 @@ from workpack.render.pdf.flowables import (
 )
 from workpack.render.pdf.fonts import FONT, FONT_BOLD
 from workpack.render.pdf.readings import expected_text, limit_text
+from workpack.render.search_tree import LEAST_ROWS as TREE_LEAST_ROWS
 from workpack.render.search_tree import ROW_PT as TREE_ROW_PT
 from workpack.render.search_tree import search_tree, tree_legend
 from workpack.search_wording import (
@@ -66,10 +67,11 @@ Cell: TypeAlias = "Flowable | list[Flowable]"
 
 
 # the dense tables (search, final tests): less padding, the smallest print size
+TIGHT_SIDE_MM = 0.75  # between a cell's text and its rule, left and right
 TIGHT = [("TOPPADDING", (0, 0), (-1, -1), 0.8 * mm),
          ("BOTTOMPADDING", (0, 0), (-1, -1), 0.8 * mm),
-         ("LEFTPADDING", (0, 0), (-1, -1), 1 * mm),
-         ("RIGHTPADDING", (0, 0), (-1, -1), 1 * mm)]
+         ("LEFTPADDING", (0, 0), (-1, -1), TIGHT_SIDE_MM * mm),
+         ("RIGHTPADDING", (0, 0), (-1, -1), TIGHT_SIDE_MM * mm)]
 
 
 # --- the package ------------------------------------------------------------------------
@@ -200,8 +202,8 @@ class PackagePdf(PdfDocument):
                                           height=self.row_tick_mm * mm)),
                          Paragraph(str(step.number), self.style["cell_bold"]),
                          opened, *outcomes])
-        table = Table(rows, colWidths=content_widths(rows, self.width, 2 * mm),
-                      repeatRows=1, repeat_when_cut=(1,))
+        widths = content_widths(rows, self.width, 2 * TIGHT_SIDE_MM * mm)
+        table = Table(rows, colWidths=widths, repeatRows=1, repeat_when_cut=(1,))
         table.setStyle(TableStyle([*GRID, *HEAD_ROW, *TIGHT]))
         out: list[Flowable] = [KeepTogether([*lead, Spacer(1, 1 * mm)])]
         out.append(table)
@@ -212,11 +214,14 @@ class PackagePdf(PdfDocument):
         tree = search_tree(steps, self.width, FONT, FONT_BOLD)
         if tree is not None:
             legend = [Paragraph(words(n), self.style["small"]) for n in tree_legend()]
-            # the heading and legend never end a page without the tree's first rows
-            # (the tree splits between its rows)
-            lead = [self.sub("The search as a tree"), *legend, Spacer(1, 1.5 * mm)]
-            room = sum(f.wrap(self.width, self.height)[1] for f in lead) + 5 * mm
-            out += [CondPageBreak(room + 4 * TREE_ROW_PT), KeepTogether(lead), tree]
+            # the heading never ends a page without the tree's first rows (the tree
+            # splits between its rows); the legend goes under it, as under the sketch
+            heading = Paragraph("The search as a tree", ParagraphStyle(
+                "sub_before_split", parent=self.style["sub"], keepWithNext=0))
+            room = (heading.wrap(self.width, self.height)[1] + heading.getSpaceBefore()
+                    + heading.getSpaceAfter() + TREE_LEAST_ROWS * TREE_ROW_PT)
+            out += [CondPageBreak(room), heading, tree, Spacer(1, 1 * mm),
+                    KeepTogether(legend)]
         return out
 
     # -- final tests of a search: one procedure, a table row for each circuit
@@ -268,9 +273,14 @@ class PackagePdf(PdfDocument):
         bold = self.style["small_bold"]
         sources: dict[str, int] = {}
         spans: list[tuple[Any, ...]] = []
+        # where every circuit is energised by closing a device, the heading says "close"
+        all_close = all(
+            any(s.kind == "energise" and _energise_words(s.text).startswith(_CLOSE)
+                for s in final.restoration) for final in finals)
         rows: list[list[Any]] = [[Paragraph(t, self.style["head"]) for t in (
             "Id: search ends at", "Lock and tag, in this order", "Prove dead at",
-            "Tests, each to earth: minimum", "Energise")]]
+            "Tests, each to earth: minimum",
+            "Energise: close" if all_close else "Energise")]]
         counted = Counter([*(p.voltage_v for f in finals for p in f.isolation),
                            *(d.voltage_v for f in finals for d in f.proving_dead)])
         usual = counted.most_common(1)[0][0] if counted else None
@@ -313,14 +323,21 @@ class PackagePdf(PdfDocument):
                 text = f"T{k} {words(test_what(r.what))}"
                 if limit is not None:
                     ref = sources.setdefault(limit.basis, len(sources) + 1)
-                    at = (f" at {format_quantity(limit.temperature_corrected_to_c, '°C')}"
+                    at = (" at " + format_quantity(limit.temperature_corrected_to_c,
+                                                   "°C").replace(" ", "\u00a0")
                           if limit.temperature_corrected_to_c is not None else "")
-                    text += f": <b>{words(limit_text(limit, r.unit))}</b>{at} [{ref}]"
+                    # the column's heading says "minimum": a lower bound is the number alone
+                    bound = (format_quantity(limit.low, r.unit).replace(" ", "\u00a0")
+                             if limit.low is not None and limit.high is None
+                             else limit_text(limit, r.unit))
+                    text += f": <b>{words(bound)}</b>{at} [{ref}]"
                 tests.append(Paragraph(text, cell))
             energise = [_energise_words(s.text) for s in final.restoration
                         if s.kind == "energise"]
-            rows.append([ends, locks, dead, tests,
-                         Paragraph(words(energise[0]) if energise else "", cell)])
+            first = energise[0] if energise else ""
+            if all_close:  # the heading says "close"
+                first = first.removeprefix(_CLOSE).removesuffix(".")
+            rows.append([ends, locks, dead, tests, Paragraph(words(first), cell)])
             # what only some circuits have goes on a line of its own across the row
             notes = [f"<b>DANGER, no lock can cut:</b> {words(gap)}"
                      for gap in final.isolation_gaps]
@@ -332,7 +349,7 @@ class PackagePdf(PdfDocument):
                 spans.append(("SPAN", (1, len(rows) - 1), (-1, len(rows) - 1)))
         spanned = {cell[1][1] for cell in spans}
         widths = content_widths([row for n, row in enumerate(rows) if n not in spanned],
-                                self.width, 2 * mm)
+                                self.width, 2 * TIGHT_SIDE_MM * mm)
         table = Table(rows, colWidths=widths, repeatRows=1, repeat_when_cut=(0,))
         table.setStyle(TableStyle([*GRID, *HEAD_ROW, *TIGHT, *spans]))
         notes = [Paragraph(f"[{n}] {words(basis)}", small)
@@ -932,6 +949,8 @@ class PackagePdf(PdfDocument):
                                    ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
         return [KeepTogether([self.numbered("Sign-off"), table])]
 
+
+_CLOSE = "close "  # how an energise step's action starts when it closes a device
 
 # a final test's reading: "<what> to earth at <DC test voltage> DC"
 _TEST_AT = re.compile(r" to earth at (\S+ V) DC")
