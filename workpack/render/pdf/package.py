@@ -87,6 +87,7 @@ class PackagePdf(PdfDocument):
     sketch_reserve_mm: ClassVar[float] = 55.0  # headings and notes around the sketch
     phasor_alone_mm: ClassVar[float] = 70.0  # its notes beside it, the sketch below
     listed_at_most: ClassVar[int] = 30  # ids in one cell; the rest are counted
+    remarks_mm: ClassVar[float] = 18.0  # three handwritten lines
 
     def __init__(self, package: WorkPackage, page_size: PageSize = "A4") -> None:
         super().__init__(page_size)
@@ -95,11 +96,16 @@ class PackagePdf(PdfDocument):
         self.document_title = package.title
         self.created = package.date
         self._section_no = 0
+        self._hint_said = False
 
     def stylesheet(self) -> dict[str, ParagraphStyle]:
         style = super().stylesheet()
         style["small_bold"] = ParagraphStyle("small_bold", parent=style["small"],
                                              fontName=FONT_BOLD)
+        # a step's text: the body's size, lines a little closer (the rule above each
+        # step sets the steps apart)
+        style["step"] = ParagraphStyle("step", parent=style["body"],
+                                       leading=self.body_pt * 1.2)
         return style
 
     def header_right(self) -> str:
@@ -129,6 +135,7 @@ class PackagePdf(PdfDocument):
 
     def story(self) -> list[Flowable]:
         self._section_no = 0
+        self._hint_said = False
         parts: list[Flowable] = [Paragraph(words(self.package.title), self.style["title"])]
         parts += self.job_block()
         parts += self.hazard_block()
@@ -192,9 +199,12 @@ class PackagePdf(PdfDocument):
                 opened.insert(0, Paragraph(f"on {words(d.board)}:", self.style["small"]))
                 board = d.board
             outcomes = []
-            for goto in (d.on_clear, d.on_stay):
-                outcomes.append(Paragraph(words(goto_cell(goto)), bold if goto.kind != "step"
-                                          or goto.below else cell))
+            # "Clears" of a step that opens one device: its heading says "below what you
+            # opened", so the cell does not name the device again
+            alone = d.devices[0] if len(d.devices) == 1 else None
+            for goto, said in ((d.on_clear, alone), (d.on_stay, None)):
+                outcomes.append(Paragraph(words(goto_cell(goto, said)),
+                                          bold if goto.kind != "step" or goto.below else cell))
                 if goto.kind == "not_found":
                     not_found = goto.text
             rows.append([self.blank(Blank(("step", step.number, "done"),
@@ -390,13 +400,15 @@ class PackagePdf(PdfDocument):
                             scope: tuple[str, ...]) -> list[Flowable]:
         """Proving dead at the circuit's places, numbered as its row lists them: one line
         of boxes per place (more where it has more pairs), each box under its pair."""
-        per_row = 8  # a place's pairs on one line where they fit
+        places = [list(dict.fromkeys(
+            pair for f in finals if len(f.proving_dead) >= index
+            for pair in f.proving_dead[index - 1].pairs))
+            for index in range(1, max(len(f.proving_dead) for f in finals) + 1)]
+        # a place's pairs on one line: up to ten (three phases, neutral and earth)
+        per_row = min(10, max(8, *(len(pairs) for pairs in places)))
         rows: list[list[Any]] = []
         spans: list[tuple[Any, ...]] = []
-        for index in range(1, max(len(f.proving_dead) for f in finals) + 1):
-            pairs = list(dict.fromkeys(
-                pair for f in finals if len(f.proving_dead) >= index
-                for pair in f.proving_dead[index - 1].pairs))
+        for index, pairs in enumerate(places, start=1):
             first_row = len(rows)
             for start in range(0, len(pairs), per_row):
                 chunk = pairs[start:start + per_row]
@@ -409,7 +421,8 @@ class PackagePdf(PdfDocument):
                              else "", *cells, *[""] * (per_row - len(chunk))])
             if len(rows) - first_row > 1:
                 spans.append(("SPAN", (0, first_row), (0, len(rows) - 1)))
-        table = Table(rows, colWidths=self.cols(10, *[21.5] * per_row), repeat_when_cut=(0,))
+        table = Table(rows, colWidths=self.cols(10, *[172 / per_row] * per_row),
+                      repeat_when_cut=(0,))
         table.setStyle(TableStyle([*GRID, *spans, ("TOPPADDING", (0, 0), (-1, -1), 0.8 * mm),
                                    ("BOTTOMPADDING", (0, 0), (-1, -1), 1.2 * mm)]))
         return [KeepTogether([
@@ -842,7 +855,9 @@ class PackagePdf(PdfDocument):
         blanks = [30 * mm, *([22 * mm] if with_temperature else []), 20 * mm]
         widths = content_widths(rows, self.width, 3.2 * mm, [0, 0, 0, *blanks])
         table = Table(rows, colWidths=widths, repeatRows=1)
-        table.setStyle(TableStyle([*GRID, *HEAD_ROW]))
+        table.setStyle(TableStyle([*GRID, *HEAD_ROW,
+                                   ("TOPPADDING", (0, 0), (-1, -1), 1.2 * mm),
+                                   ("BOTTOMPADDING", (0, 0), (-1, -1), 1.2 * mm)]))
         return table
 
     def step_parts(self, step: Step, kind: str,
@@ -855,13 +870,14 @@ class PackagePdf(PdfDocument):
             outcome = "not found" if step.search_outcome == "not_found" else "found"
             text = f"<b>Only if the ground was {outcome}:</b> {text}"
         line = Table([[box, Paragraph(str(step.number), self.style["step_no"]),
-                       Paragraph(text, self.style["body"])]],
+                       Paragraph(text, self.style["step"])]],
                      colWidths=self.cols(10, 12, 160))
         line.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"),
                                   ("LEFTPADDING", (0, 0), (-1, -1), 0),
                                   ("TOPPADDING", (0, 0), (-1, -1), 0.5 * mm),
+                                  ("BOTTOMPADDING", (0, 0), (-1, -1), 0.5 * mm),
                                   ("LINEABOVE", (0, 0), (-1, 0), 0.7, colors.black)]))
-        parts: list[Flowable] = [Spacer(1, 1.5 * mm), line]
+        parts: list[Flowable] = [Spacer(1, 1 * mm), line]
         if step.kind == "remove_lock" and step.devices:
             parts += [Spacer(1, 1.5 * mm), self.removal_blanks(step.devices[0], scope)]
         if step.kind == "gate":
@@ -874,7 +890,7 @@ class PackagePdf(PdfDocument):
         if step.readings:
             parts += [Spacer(1, 1.5 * mm), self.reading_rows(step.readings),
                       *self.reading_notes(step.readings)]
-        parts.append(Spacer(1, 2 * mm))
+        parts.append(Spacer(1, 1.2 * mm))
         return parts
 
     def reading_notes(self, readings: Sequence[Reading]) -> list[Flowable]:
@@ -892,7 +908,8 @@ class PackagePdf(PdfDocument):
             return []
         first, *rest = steps
         lead = [heading]
-        if hint:  # how to fill in, said once per section
+        if hint and not self._hint_said:  # how to fill in, said once: at the first steps
+            self._hint_said = True
             lead.append(Paragraph("Tick each box when the step is done; write each reading "
                                   "in its box, in the unit shown.", self.style["small"]))
         out: list[Flowable] = [KeepTogether([*lead, *self.step_parts(first, kind, scope)])]
@@ -929,23 +946,28 @@ class PackagePdf(PdfDocument):
 
     # -- sign-off
     def sign_off_block(self) -> list[Flowable]:
-        label = self.style["cell_bold"]
+        """Who did the job and who checked it, two to a row; remarks across."""
+        label = self.style["head"]
         rows = [
             [Paragraph("Technician (name, signature)", label),
-             self.blank(Blank(("sign", "technician"), "technician"))],
-            [Paragraph("Supervisor (name, signature)", label),
+             self.blank(Blank(("sign", "technician"), "technician")),
+             Paragraph("Supervisor (name, signature)", label),
              self.blank(Blank(("sign", "supervisor"), "supervisor"))],
             [Paragraph("Date", label),
-             self.blank(Blank(("sign", "date"), "date", width=50 * mm))],
-            *([[Paragraph("Ground found at (element id)", label),
-                self.blank(Blank(("ground_found_at",), "ground found at"))]]
-              if self.package.job_kind in ("locate_ground", "clear_second_ground") else []),
+             self.blank(Blank(("sign", "date"), "date", width=40 * mm)),
+             *([Paragraph("Ground found at (element id)", label),
+                self.blank(Blank(("ground_found_at",), "ground found at"))]
+               if self.package.job_kind in ("locate_ground", "clear_second_ground")
+               else ["", ""])],
             [Paragraph("Remarks", label),
-             self.blank(Blank(("remarks",), "remarks", height=30 * mm, multiline=True,
-                              max_length=2000))],
+             self.blank(Blank(("remarks",), "remarks", height=self.remarks_mm * mm,
+                              multiline=True, max_length=2000)), "", ""],
         ]
-        table = Table(rows, colWidths=self.cols(50, 132), repeat_when_cut=(0,))
+        table = Table(rows, colWidths=self.cols(34, 57, 34, 57), repeat_when_cut=(0,))
         table.setStyle(TableStyle([*GRID, ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
+                                   ("TOPPADDING", (0, 0), (-1, -1), 1 * mm),
+                                   ("BOTTOMPADDING", (0, 0), (-1, -1), 1 * mm),
+                                   ("SPAN", (1, 2), (3, 2)),
                                    ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
         return [KeepTogether([self.numbered("Sign-off"), table])]
 
