@@ -180,7 +180,8 @@ def content_widths(rows: Sequence[Sequence[Any]], total: float, padding: float,
     count = max(len(row) for row in rows)
     cells = [[_measure(cell) for cell in row] + [(0.0, [])] * (count - len(row))
              for row in rows]
-    least = [max(row[c][0] for row in cells) + padding for c in range(count)]
+    # a word exactly as wide as its room is still broken by reportlab: a point to spare
+    least = [max(row[c][0] for row in cells) + padding + 1 for c in range(count)]
     most = [max([size for _, needs in (row[c] for row in cells)
                  for leading, size in needs if leading], default=0.0) + padding
             for c in range(count)]
