@@ -245,15 +245,15 @@ def content_widths(rows: Sequence[Sequence[Any]], total: float, padding: float,
                                 default=0.0) + padding) for c in range(count)]
              for row in cells]
     best = tallness(widths)
-    floor, waiting = list(least), list(range(len(cells)))
+    taken, waiting = list(least), list(range(len(cells)))
     while waiting:
-        cost, chosen = min((sum(max(f, n) for f, n in zip(floor, needs[r], strict=True)), r)
+        cost, chosen = min((sum(max(f, n) for f, n in zip(taken, needs[r], strict=True)), r)
                            for r in waiting)
         if cost > total:
             break
         waiting.remove(chosen)
-        floor = [max(f, n) for f, n in zip(floor, needs[chosen], strict=True)]
-        if (tried := tallness(trial := spread(floor))) < best - 1e-6:
+        taken = [max(f, n) for f, n in zip(taken, needs[chosen], strict=True)]
+        if (tried := tallness(trial := spread(taken))) < best - 1e-6:
             widths, best = trial, tried
     improved = True
     while improved:  # take the first trial that makes the table shorter, until none does
