@@ -10,6 +10,7 @@ from typing import Any
 from xml.sax.saxutils import escape
 
 from reportlab.lib.units import mm
+from reportlab.pdfbase.pdfmetrics import stringWidth
 from reportlab.platypus import Flowable, Paragraph
 from reportlab.platypus import KeepTogether as PlatypusKeepTogether
 from reportlab.platypus import Table as PlatypusTable
@@ -151,15 +152,36 @@ def _measure(cell: Any) -> Measured:
     word, needs = 0.0, []
     for part in parts:
         if isinstance(part, Paragraph):
-            part.wrap(1e6, 1e6)
-            word = max(word, part.minWidth())
-            needs.append((float(part.style.leading),
-                          max(part.getActualLineWidths0(), default=0.0)))
+            widest_word, widest_line = _paragraph_widths(part)
+            word = max(word, widest_word)
+            needs.append((float(part.style.leading), widest_line))
         elif isinstance(part, Flowable):
             width, height = part.wrap(0, 1e6)
             word = max(word, float(width or 0))
             needs.append((0.0, float(height or 0)))
     return word, needs
+
+
+def _paragraph_widths(paragraph: Paragraph) -> tuple[float, float]:
+    """A paragraph's widest word and widest line unwrapped (lines end at its <br/>s),
+    measured from its fragments without laying it out (the table does that once); a
+    paragraph already laid out (its fragments regrouped) is measured by laying it out."""
+    if not all(hasattr(frag, "fontName") for frag in paragraph.frags):
+        paragraph.wrap(1e6, 1e6)
+        return paragraph.minWidth(), max(paragraph.getActualLineWidths0(), default=0.0)
+    lines, word, widest_word = [0.0], 0.0, 0.0
+    for frag in paragraph.frags:
+        if getattr(frag, "lineBreak", False):
+            lines.append(0.0)
+            word = 0.0
+            continue
+        text = getattr(frag, "text", "")
+        lines[-1] += stringWidth(text, frag.fontName, frag.fontSize)
+        for index, piece in enumerate(text.split(" ")):
+            width = stringWidth(piece, frag.fontName, frag.fontSize)
+            word = word + width if index == 0 else width  # a word may span fragments
+            widest_word = max(widest_word, word)
+    return widest_word, max(lines)
 
 
 def _height(needs: list[tuple[float, float]], room: float) -> float:
