@@ -141,8 +141,10 @@ def _has_content(cell: Any) -> bool:
 # --- column widths sized to what the columns hold --------------------------------------
 
 # A cell as measured once: its widest word, and what each of its parts needs — a
-# paragraph (its line height, its width on one line) or a fixed part (0, its height).
-Measured = tuple[float, list[tuple[float, float]]]
+# paragraph (its line height, its width on one line, its words' widths with -1 where a
+# line break is, the width of a space) or a fixed part (0, its height, (), 0).
+Need = tuple[float, float, tuple[float, ...], float]
+Measured = tuple[float, list[Need]]
 
 
 def _measure(cell: Any) -> Measured:
@@ -152,43 +154,76 @@ def _measure(cell: Any) -> Measured:
     word, needs = 0.0, []
     for part in parts:
         if isinstance(part, Paragraph):
-            widest_word, widest_line = _paragraph_widths(part)
+            widest_word, widest_line, words = _paragraph_widths(part)
             word = max(word, widest_word)
-            needs.append((float(part.style.leading), widest_line))
+            space = stringWidth(" ", part.style.fontName, part.style.fontSize)
+            needs.append((float(part.style.leading), widest_line, words, space))
         elif isinstance(part, Flowable):
             width, height = part.wrap(0, 1e6)
             word = max(word, float(width or 0))
-            needs.append((0.0, float(height or 0)))
+            needs.append((0.0, float(height or 0), (), 0.0))
     return word, needs
 
 
-def _paragraph_widths(paragraph: Paragraph) -> tuple[float, float]:
-    """A paragraph's widest word and widest line unwrapped (lines end at its <br/>s),
-    measured from its fragments without laying it out (the table does that once); a
-    paragraph already laid out (its fragments regrouped) is measured by laying it out."""
+def _paragraph_widths(paragraph: Paragraph) -> tuple[float, float, tuple[float, ...]]:
+    """A paragraph's widest word, its widest line unwrapped (lines end at its <br/>s)
+    and its words' widths (-1 for a line break), from its fragments without laying it
+    out (the table does that once); one already laid out (its fragments regrouped) is
+    laid out again and gives no words."""
     if not all(hasattr(frag, "fontName") for frag in paragraph.frags):
         paragraph.wrap(1e6, 1e6)
-        return paragraph.minWidth(), max(paragraph.getActualLineWidths0(), default=0.0)
-    lines, word, widest_word = [0.0], 0.0, 0.0
+        return (paragraph.minWidth(), max(paragraph.getActualLineWidths0(), default=0.0),
+                ())
+    lines, words, current, open_word = [0.0], [], 0.0, False
     for frag in paragraph.frags:
         if getattr(frag, "lineBreak", False):
+            words += [current, -1.0] if open_word else [-1.0]
             lines.append(0.0)
-            word = 0.0
+            current, open_word = 0.0, False
             continue
         text = getattr(frag, "text", "")
         lines[-1] += stringWidth(text, frag.fontName, frag.fontSize)
         for index, piece in enumerate(text.split(" ")):
-            width = stringWidth(piece, frag.fontName, frag.fontSize)
-            word = word + width if index == 0 else width  # a word may span fragments
-            widest_word = max(widest_word, word)
-    return widest_word, max(lines)
+            if index > 0 and open_word:  # a space ends the word (which may span fragments)
+                words.append(current)
+                current, open_word = 0.0, False
+            if piece:
+                current += stringWidth(piece, frag.fontName, frag.fontSize)
+                open_word = True
+    if open_word:
+        words.append(current)
+    return max(words, default=0.0), max(lines), tuple(words)
 
 
-def _height(needs: list[tuple[float, float]], room: float) -> float:
-    """A cell's height at ``room`` points of text width, lines counted as if a line
-    could be cut anywhere (the least it can take; enough to compare widths by)."""
-    return sum(size if leading == 0 else leading * max(1, math.ceil(size / room - 1e-9))
-               for leading, size in needs)
+def _lines(words: tuple[float, ...], space: float, room: float) -> int:
+    """Lines a paragraph takes at ``room`` points, broken as reportlab breaks it: at
+    spaces, each line as full as it goes; a word wider than the line is cut."""
+    lines, at = 1, 0.0
+    for width in words:
+        if width < 0:
+            lines, at = lines + 1, 0.0
+            continue
+        if at > 0 and at + space + width <= room + 1e-6:
+            at += space + width
+            continue
+        if at > 0:
+            lines += 1
+        cuts = max(0, math.ceil(width / room - 1e-9) - 1)
+        lines, at = lines + cuts, width - cuts * room
+    return lines
+
+
+def _height(needs: list[Need], room: float) -> float:
+    """A cell's height at ``room`` points of text width."""
+    total = 0.0
+    for leading, size, words, space in needs:
+        if leading == 0:
+            total += size
+        elif words:
+            total += leading * _lines(words, space, room)
+        else:  # measured by layout: lines counted as if cut anywhere
+            total += leading * max(1, math.ceil(size / room - 1e-9))
+    return total
 
 
 def content_widths(rows: Sequence[Sequence[Any]], total: float, padding: float,
@@ -205,7 +240,7 @@ def content_widths(rows: Sequence[Sequence[Any]], total: float, padding: float,
     # a word exactly as wide as its room is still broken by reportlab: a point to spare
     least = [max(row[c][0] for row in cells) + padding + 1 for c in range(count)]
     most = [max([size for _, needs in (row[c] for row in cells)
-                 for leading, size in needs if leading], default=0.0) + padding
+                 for leading, size, _, _ in needs if leading], default=0.0) + padding
             for c in range(count)]
     for column, floor in enumerate(floors):
         least[column] = max(least[column], floor)
@@ -232,7 +267,7 @@ def content_widths(rows: Sequence[Sequence[Any]], total: float, padding: float,
 
     # what a column may grow to: the width at which one more of its cells fits a line
     lines = [sorted({round(size + padding, 1) for row in cells
-                     for leading, size in row[c][1] if leading and size + padding <= most[c]})
+                     for leading, size, _, _ in row[c][1] if leading and size + padding <= most[c]})
              for c in range(count)]
 
     def trials(widths: list[float]) -> Iterator[list[float]]:
@@ -263,7 +298,7 @@ def content_widths(rows: Sequence[Sequence[Any]], total: float, padding: float,
         return [floor[c] + (left * max(0.0, most[c] - floor[c]) / wanting if wanting
                             else left / count) for c in range(count)]
 
-    needs = [[max(least[c], max([size for leading, size in row[c][1] if leading],
+    needs = [[max(least[c], max([size for leading, size, _, _ in row[c][1] if leading],
                                 default=0.0) + padding) for c in range(count)]
              for row in cells]
     best = tallness(widths)
