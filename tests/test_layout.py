@@ -7,11 +7,15 @@ package's close-out after invented results were recorded, and the audit of that 
 How a break is seen: reportlab breaks a word only when it does not fit its column, with
 no hyphen. So two words on consecutive lines of one cell (or of the page) that together
 make a word the documents use elsewhere, or the start of an id or a timestamp, are one
-word broken in two.
+word broken in two. A table's heading cells (the grey row) say their words nowhere else
+("Instrument" broke in a 20 mm column and was seen only by eye), so there two lines that
+join into any word of workpack's own source are a broken word too, and a heading's word
+past its cell's edge is reported as such.
 """
 
 from __future__ import annotations
 
+import functools
 import io
 import json
 import re
@@ -22,6 +26,8 @@ from typing import Any
 import pdfplumber
 import pytest
 from demodocs import demo_documents
+
+import workpack
 
 MARGIN_PT = 14 * 72 / 25.4  # PdfDocument.margin_mm
 SLACK_PT = 0.6  # rounding of glyph boxes
@@ -59,6 +65,49 @@ def vocabulary(demo_plan: Path, documents: dict[str, bytes]) -> tuple[set[str], 
     ids = [w for w in words if re.search(r"\d", w) and re.search(r"[-:.]", w) and len(w) > 5]
     starts = {w[:n] for w in ids for n in range(3, len(w))}
     return words, starts
+
+
+HEAD_GREY = (0.85, 0.85, 0.85)  # document.HEAD_ROW's fill
+
+
+@functools.cache
+def _source_words() -> frozenset[str]:
+    """Every word of four letters or more in workpack's source, lower case: where the
+    headings' words come from."""
+    root = Path(workpack.__file__).parent
+    return frozenset(w.lower() for path in sorted(root.rglob("*.py"))
+                     for w in re.findall(r"[A-Za-z]{4,}", path.read_text(encoding="utf-8")))
+
+
+def _heading_cells(page: Any, cells: list[Box]) -> set[Box]:
+    """The cells under a heading row's grey fill."""
+    fills = [(r["x0"], r["top"], r["x1"], r["bottom"]) for r in page.rects
+             if r.get("fill") and tuple(r.get("non_stroking_color") or ()) == HEAD_GREY]
+    return {c for c in cells if any(f[0] <= (c[0] + c[2]) / 2 <= f[2]
+                                    and f[1] <= (c[1] + c[3]) / 2 <= f[3] for f in fills)}
+
+
+def _heading_problems(where: str, cell: Box, lines: list[list[dict[str, Any]]],
+                      known: frozenset[str]) -> list[str]:
+    problems = [f"{where}: heading {w['text']!r} overflows its cell"
+                for line in lines for w in line
+                if w["x0"] < cell[0] - SLACK_PT or w["x1"] > cell[2] + SLACK_PT]
+    for start, above in enumerate(lines[:-1]):
+        # a word may be broken over several lines: its middle parts fill a line each
+        parts = [max(above, key=lambda w: w["x1"])["text"].strip(EDGE)]
+        for line in lines[start + 1:]:
+            b = min(line, key=lambda w: w["x0"])["text"].strip(EDGE)
+            if not (parts[-1] and b and parts[-1][-1].isalpha() and b[0].isalpha()
+                    and b[0].islower()):
+                break
+            parts.append(b)
+            if "".join(parts).lower() in known:
+                problems.append(f"{where}: heading word {''.join(parts)!r} broken over "
+                                f"{len(parts)} lines ({' / '.join(parts)})")
+                break
+            if len(line) > 1:
+                break
+    return problems
 
 
 def _words(page: Any) -> list[dict[str, Any]]:
@@ -104,11 +153,13 @@ def _home(word: dict[str, Any], cells: list[Box]) -> Box | None:
 def layout_problems(name: str, data: bytes, vocabulary: tuple[set[str], set[str]]
                     ) -> list[str]:
     words_known, id_starts = vocabulary
+    heading_words = _source_words() | {w.lower() for w in words_known}
     problems: list[str] = []
     with pdfplumber.open(io.BytesIO(data)) as pdf:
         for number, page in enumerate(pdf.pages, start=1):
             where = f"{name} page {number}"
             every, cells = _cells(page)
+            headings = _heading_cells(page, every)
             groups: dict[Any, list[dict[str, Any]]] = {}
             for word in _words(page):
                 text = word["text"]
@@ -122,13 +173,15 @@ def layout_problems(name: str, data: bytes, vocabulary: tuple[set[str], set[str]
                                          or word["x1"] > home[2] + SLACK_PT):
                     problems.append(f"{where}: {text!r} overflows its cell")
                 groups.setdefault(_home(word, every), []).append(word)
-            for words in groups.values():
+            for home, words in groups.items():
                 lines: list[list[dict[str, Any]]] = []
                 for word in sorted(words, key=lambda w: (round(w["top"]), w["x0"])):
                     if lines and abs(lines[-1][0]["top"] - word["top"]) < 2:
                         lines[-1].append(word)
                     else:
                         lines.append([word])
+                if home in headings:
+                    problems += _heading_problems(where, home, lines, heading_words)
                 for above, below in zip(lines, lines[1:], strict=False):
                     a = max(above, key=lambda w: w["x1"])["text"].strip(EDGE)
                     b = min(below, key=lambda w: w["x0"])["text"].strip(EDGE)
@@ -172,3 +225,31 @@ def test_the_check_sees_a_broken_id_and_an_overflow(vocabulary: tuple[set[str], 
     found = layout_problems("narrow", Narrow().render(), vocabulary)
     assert any("broken over two lines" in p for p in found), found
     assert any("overflows its cell" in p for p in found), found
+
+
+def test_the_check_sees_a_heading_broken_inside_a_word_or_past_its_cell(
+        vocabulary: tuple[set[str], set[str]]) -> None:
+    """The heading check itself: "Instrument" in a 12 mm heading cell breaks inside the
+    word (as it did in the readings table), and a heading that cannot wrap runs past its
+    cell; both are reported, and the same headings with room are not."""
+    from reportlab.lib.units import mm
+    from reportlab.platypus import Paragraph, TableStyle
+
+    from workpack.render.pdf import GRID, HEAD_ROW, PdfDocument, Table
+
+    class Headed(PdfDocument):
+        def __init__(self, width_mm: float) -> None:
+            super().__init__()
+            self.width_mm = width_mm
+
+        def story(self) -> list[Any]:
+            table = Table([[Paragraph("Instrument", self.style["head"]), "Temperature"],
+                           ["x", "y"]],  # a bare string never wraps: past its cell
+                          colWidths=[self.width_mm * mm, self.width_mm * mm])
+            table.setStyle(TableStyle([*GRID, *HEAD_ROW]))
+            return [table]
+
+    found = layout_problems("narrow", Headed(12).render(), vocabulary)
+    assert any("heading word 'Instrument' broken" in p for p in found), found
+    assert any("heading 'Temperature' overflows its cell" in p for p in found), found
+    assert layout_problems("wide", Headed(40).render(), vocabulary) == []

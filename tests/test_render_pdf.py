@@ -510,3 +510,39 @@ def test_faster_object_writing_writes_reportlabs_own_bytes(
     assert render_package(sample_package()) == sample_pdf
     monkeypatch.undo()
     assert (pdfdoc.format, pdfdoc.PDFDictionary.format) == bare  # put back after each use
+
+
+# --- column widths from content ---------------------------------------------------------
+
+def test_content_widths_fill_the_table_and_never_break_a_word() -> None:
+    """``content_widths``: the widths add up to the table; every column is at least its
+    widest word wide (so reportlab breaks no word); where every cell fits one line the
+    columns are at least their longest line; and a column of long text gets more than
+    a column of short ids."""
+    from reportlab.lib.styles import ParagraphStyle
+    from reportlab.lib.units import mm
+    from reportlab.platypus import Paragraph
+
+    from workpack.render.pdf.flowables import content_widths
+    from workpack.render.pdf.fonts import FONT, register_fonts
+
+    register_fonts()
+    style = ParagraphStyle("t", fontName=FONT, fontSize=9, leading=11)
+
+    def cell(text: str) -> Paragraph:
+        return Paragraph(text, style)
+
+    rows = [[cell("F1"), cell("Insulation resistance of the whole circuit, each conductor "
+                              "to earth, at the usual test voltage"), cell("CB-AC1")],
+            [cell("F2"), cell("short"), cell("Electrochemistry")]]
+    total, padding = 120 * mm, 2 * mm
+    widths = content_widths(rows, total, padding)
+    assert math.isclose(sum(widths), total)
+    for column in range(3):
+        widest = max(p.minWidth() for p in (row[column] for row in rows))
+        assert widths[column] >= widest + padding
+    assert widths[1] > widths[0] and widths[1] > widths[2]
+    roomy = content_widths([[cell("F1"), cell("CB-AC1")]], 120 * mm, padding)
+    assert math.isclose(sum(roomy), 120 * mm)
+    assert all(w >= cell(t).minWidth() + padding for w, t in zip(roomy, ("F1", "CB-AC1"),
+                                                                    strict=True))

@@ -177,18 +177,20 @@ def search_table_note(cleared: str, unchanged: str) -> str:
             "done.")
 
 
-def goto_cell(goto: SearchGoto) -> str:
+def goto_cell(goto: SearchGoto, opened_alone: str | None = None) -> str:
     """One outcome of a search step, short enough for a table cell (the note above the
-    table says to close what the step opened)."""
+    table says to close what the step opened). ``opened_alone``: the one device the
+    step opens, where the column's heading already says the ground is below it."""
     moves = ""
     if " (if the ground is in" in goto.text:
         moves = goto.text[goto.text.index(" (if the ground is in"):]
+    below = "" if goto.below == opened_alone else f"Below {goto.below}: "
     if goto.kind == "step" and goto.below:
-        return f"Below {goto.below}: go to step {goto.step} (its circuits).{moves}"
+        return f"{below}{'go' if below else 'Go'} to step {goto.step} (its circuits).{moves}"
     if goto.kind == "step":
         return f"Go to step {goto.step}.{moves}"
     if goto.kind == "final":
-        return f"Below {goto.below}: final tests {goto.final}.{moves}"
+        return f"{below}{'final' if below else 'Final'} tests {goto.final}.{moves}"
     return "Not found at this level (see under the table)."
 
 

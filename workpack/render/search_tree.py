@@ -25,6 +25,7 @@ ROW_PT = 15.0  # one row of the grid
 BOX_PT = 12.0  # a box's height
 GAP_PT = 16.0  # room between columns for the arrow
 TEXT_PT = 9.0  # the smallest print size (fonts.MIN_TEXT_PT)
+LEAST_ROWS = 4  # the fewest rows of the tree on a page
 
 
 @dataclass(frozen=True)
@@ -126,8 +127,9 @@ class SearchTree(Flowable):
         return self.width, self.rows * ROW_PT
 
     def split(self, available_width: float, available_height: float) -> list[Flowable]:
-        fits = min(int(available_height // ROW_PT), self.rows - 4)  # no sliver left over
-        if fits < 4:  # nor one here: move on whole
+        # no sliver left over, nor one here: move on whole
+        fits = min(int(available_height // ROW_PT), self.rows - LEAST_ROWS)
+        if fits < LEAST_ROWS:
             return []
         return [SearchTree(self.layout, self.width, self.font, self.bold, self.first, fits),
                 SearchTree(self.layout, self.width, self.font, self.bold, self.first + fits,

@@ -10,6 +10,7 @@ record overrides to show what was written in it.
 
 from __future__ import annotations
 
+import re
 from collections import Counter
 from collections.abc import Sequence
 from typing import Any, ClassVar, Literal, TypeAlias
@@ -17,7 +18,7 @@ from typing import Any, ClassVar, Literal, TypeAlias
 from reportlab.lib import colors
 from reportlab.lib.styles import ParagraphStyle
 from reportlab.lib.units import mm
-from reportlab.platypus import Flowable, Paragraph, Spacer, TableStyle
+from reportlab.platypus import CondPageBreak, Flowable, Paragraph, Spacer, TableStyle
 
 from workpack.competence import job_needs
 from workpack.forms import CHOSEN, FINAL_PROCEDURE
@@ -41,9 +42,17 @@ from workpack.render.figures import (
 )
 from workpack.render.pdf.document import GRID, HEAD_ROW, PageSize, PdfDocument
 from workpack.render.pdf.fields import Blank, CheckBox, FieldBox
-from workpack.render.pdf.flowables import KeepTogether, Table, listed, words
+from workpack.render.pdf.flowables import (
+    KeepTogether,
+    Table,
+    content_widths,
+    listed,
+    words,
+)
 from workpack.render.pdf.fonts import FONT, FONT_BOLD
 from workpack.render.pdf.readings import expected_text, limit_text
+from workpack.render.search_tree import LEAST_ROWS as TREE_LEAST_ROWS
+from workpack.render.search_tree import ROW_PT as TREE_ROW_PT
 from workpack.render.search_tree import search_tree, tree_legend
 from workpack.search_wording import (
     FINAL_PROCEDURE_TEXT,
@@ -58,10 +67,11 @@ Cell: TypeAlias = "Flowable | list[Flowable]"
 
 
 # the dense tables (search, final tests): less padding, the smallest print size
+TIGHT_SIDE_MM = 0.75  # between a cell's text and its rule, left and right
 TIGHT = [("TOPPADDING", (0, 0), (-1, -1), 0.8 * mm),
          ("BOTTOMPADDING", (0, 0), (-1, -1), 0.8 * mm),
-         ("LEFTPADDING", (0, 0), (-1, -1), 1 * mm),
-         ("RIGHTPADDING", (0, 0), (-1, -1), 1 * mm)]
+         ("LEFTPADDING", (0, 0), (-1, -1), TIGHT_SIDE_MM * mm),
+         ("RIGHTPADDING", (0, 0), (-1, -1), TIGHT_SIDE_MM * mm)]
 
 
 # --- the package ------------------------------------------------------------------------
@@ -72,9 +82,12 @@ class PackagePdf(PdfDocument):
 
     field_height_mm: ClassVar[float] = 8.5
     tick_mm: ClassVar[float] = 6.5
+    row_tick_mm: ClassVar[float] = 5.0  # a tick box in a row of a dense table
     figure_gap_mm: ClassVar[float] = 4.0
     sketch_reserve_mm: ClassVar[float] = 55.0  # headings and notes around the sketch
+    phasor_alone_mm: ClassVar[float] = 70.0  # its notes beside it, the sketch below
     listed_at_most: ClassVar[int] = 30  # ids in one cell; the rest are counted
+    remarks_mm: ClassVar[float] = 18.0  # three handwritten lines
 
     def __init__(self, package: WorkPackage, page_size: PageSize = "A4") -> None:
         super().__init__(page_size)
@@ -83,11 +96,16 @@ class PackagePdf(PdfDocument):
         self.document_title = package.title
         self.created = package.date
         self._section_no = 0
+        self._hint_said = False
 
     def stylesheet(self) -> dict[str, ParagraphStyle]:
         style = super().stylesheet()
         style["small_bold"] = ParagraphStyle("small_bold", parent=style["small"],
                                              fontName=FONT_BOLD)
+        # a step's text: the body's size, lines a little closer (the rule above each
+        # step sets the steps apart)
+        style["step"] = ParagraphStyle("step", parent=style["body"],
+                                       leading=self.body_pt * 1.2)
         return style
 
     def header_right(self) -> str:
@@ -117,6 +135,7 @@ class PackagePdf(PdfDocument):
 
     def story(self) -> list[Flowable]:
         self._section_no = 0
+        self._hint_said = False
         parts: list[Flowable] = [Paragraph(words(self.package.title), self.style["title"])]
         parts += self.job_block()
         parts += self.hazard_block()
@@ -180,17 +199,21 @@ class PackagePdf(PdfDocument):
                 opened.insert(0, Paragraph(f"on {words(d.board)}:", self.style["small"]))
                 board = d.board
             outcomes = []
-            for goto in (d.on_clear, d.on_stay):
-                outcomes.append(Paragraph(words(goto_cell(goto)), bold if goto.kind != "step"
-                                          or goto.below else cell))
+            # "Clears" of a step that opens one device: its heading says "below what you
+            # opened", so the cell does not name the device again
+            alone = d.devices[0] if len(d.devices) == 1 else None
+            for goto, said in ((d.on_clear, alone), (d.on_stay, None)):
+                outcomes.append(Paragraph(words(goto_cell(goto, said)),
+                                          bold if goto.kind != "step" or goto.below else cell))
                 if goto.kind == "not_found":
                     not_found = goto.text
             rows.append([self.blank(Blank(("step", step.number, "done"),
-                                          f"step {step.number} done", tick=True)),
+                                          f"step {step.number} done", tick=True,
+                                          height=self.row_tick_mm * mm)),
                          Paragraph(str(step.number), self.style["cell_bold"]),
                          opened, *outcomes])
-        table = Table(rows, colWidths=self.cols(8, 12, 78, 56, 28), repeatRows=1,
-                      repeat_when_cut=(1,))
+        widths = content_widths(rows, self.width, 2 * TIGHT_SIDE_MM * mm)
+        table = Table(rows, colWidths=widths, repeatRows=1, repeat_when_cut=(1,))
         table.setStyle(TableStyle([*GRID, *HEAD_ROW, *TIGHT]))
         out: list[Flowable] = [KeepTogether([*lead, Spacer(1, 1 * mm)])]
         out.append(table)
@@ -201,8 +224,14 @@ class PackagePdf(PdfDocument):
         tree = search_tree(steps, self.width, FONT, FONT_BOLD)
         if tree is not None:
             legend = [Paragraph(words(n), self.style["small"]) for n in tree_legend()]
-            out += [KeepTogether([self.sub("The search as a tree"), *legend]),
-                    Spacer(1, 1.5 * mm), tree]
+            # the heading never ends a page without the tree's first rows (the tree
+            # splits between its rows); the legend goes under it, as under the sketch
+            heading = Paragraph("The search as a tree", ParagraphStyle(
+                "sub_before_split", parent=self.style["sub"], keepWithNext=0))
+            room = (heading.wrap(self.width, self.height)[1] + heading.getSpaceBefore()
+                    + heading.getSpaceAfter() + TREE_LEAST_ROWS * TREE_ROW_PT)
+            out += [CondPageBreak(room), heading, tree, Spacer(1, 1 * mm),
+                    KeepTogether(legend)]
         return out
 
     # -- final tests of a search: one procedure, a table row for each circuit
@@ -254,15 +283,33 @@ class PackagePdf(PdfDocument):
         bold = self.style["small_bold"]
         sources: dict[str, int] = {}
         spans: list[tuple[Any, ...]] = []
+        # where every circuit is energised by closing a device, the heading says "close"
+        all_close = all(
+            any(s.kind == "energise" and _energise_words(s.text).startswith(_CLOSE)
+                for s in final.restoration) for final in finals)
         rows: list[list[Any]] = [[Paragraph(t, self.style["head"]) for t in (
             "Id: search ends at", "Lock and tag, in this order", "Prove dead at",
-            "Tests, each to earth: minimum", "Energise")]]
+            "Tests, each to earth: minimum",
+            "Energise: close" if all_close else "Energise")]]
         counted = Counter([*(p.voltage_v for f in finals for p in f.isolation),
                            *(d.voltage_v for f in finals for d in f.proving_dead)])
         usual = counted.most_common(1)[0][0] if counted else None
 
         def volts(value: float | None) -> str:  # only where it differs from the usual
             return "" if value == usual else f", {format_volts(value)}"
+
+        # the DC test voltage, said once above the table and in a row only where it differs
+        every_reading = [r for f in finals for s in (*f.steps, *f.restoration)
+                         for r in s.readings]
+        test_volts = Counter(m.group(1) for r in every_reading
+                             if (m := _TEST_AT.search(r.what)) is not None)
+        usual_test = test_volts.most_common(1)[0][0] if test_volts else None
+
+        def test_what(what: str) -> str:
+            found = _TEST_AT.search(what)
+            if found is not None and found.group(1) == usual_test:
+                return what[:found.start()] + what[found.end():]
+            return what.replace(" to earth at ", " at ")
 
         for final in finals:
             ends: list[Flowable] = [Paragraph(f"<b>{words(final.id)}</b>: "
@@ -283,17 +330,24 @@ class PackagePdf(PdfDocument):
             readings = [r for s in (*final.steps, *final.restoration) for r in s.readings]
             for k, r in enumerate(readings, start=1):
                 limit = r.limit
-                text = f"T{k} {words(r.what.replace(' to earth at ', ' at '))}"
+                text = f"T{k} {words(test_what(r.what))}"
                 if limit is not None:
                     ref = sources.setdefault(limit.basis, len(sources) + 1)
-                    at = (f" at {format_quantity(limit.temperature_corrected_to_c, '°C')}"
+                    at = (" at " + format_quantity(limit.temperature_corrected_to_c,
+                                                   "°C").replace(" ", "\u00a0")
                           if limit.temperature_corrected_to_c is not None else "")
-                    text += f": <b>{words(limit_text(limit, r.unit))}</b>{at} [{ref}]"
+                    # the column's heading says "minimum": a lower bound is the number alone
+                    bound = (format_quantity(limit.low, r.unit).replace(" ", "\u00a0")
+                             if limit.low is not None and limit.high is None
+                             else limit_text(limit, r.unit))
+                    text += f": <b>{words(bound)}</b>{at} [{ref}]"
                 tests.append(Paragraph(text, cell))
             energise = [_energise_words(s.text) for s in final.restoration
                         if s.kind == "energise"]
-            rows.append([ends, locks, dead, tests,
-                         Paragraph(words(energise[0]) if energise else "", cell)])
+            first = energise[0] if energise else ""
+            if all_close:  # the heading says "close"
+                first = first.removeprefix(_CLOSE).removesuffix(".")
+            rows.append([ends, locks, dead, tests, Paragraph(words(first), cell)])
             # what only some circuits have goes on a line of its own across the row
             notes = [f"<b>DANGER, no lock can cut:</b> {words(gap)}"
                      for gap in final.isolation_gaps]
@@ -303,13 +357,17 @@ class PackagePdf(PdfDocument):
                 rows.append([Paragraph(f"{words(final.id)} also:", cell),
                              Paragraph("<br/>".join(notes), cell), "", "", ""])
                 spans.append(("SPAN", (1, len(rows) - 1), (-1, len(rows) - 1)))
-        table = Table(rows, colWidths=self.cols(26, 40, 40, 54, 22), repeatRows=1,
-                      repeat_when_cut=(0,))
+        spanned = {cell[1][1] for cell in spans}
+        widths = content_widths([row for n, row in enumerate(rows) if n not in spanned],
+                                self.width, 2 * TIGHT_SIDE_MM * mm)
+        table = Table(rows, colWidths=widths, repeatRows=1, repeat_when_cut=(0,))
         table.setStyle(TableStyle([*GRID, *HEAD_ROW, *TIGHT, *spans]))
         notes = [Paragraph(f"[{n}] {words(basis)}", small)
                  for basis, n in sorted(sources.items(), key=lambda kv: kv[1])]
         lead = (f"Voltages are {format_volts(usual)} unless a row says otherwise. "
                 if usual is not None else "")
+        if usual_test is not None:
+            lead += f"Each test is at {usual_test} DC unless its row says otherwise. "
         return [self.sub("The circuits"),
                 Paragraph(lead + "Numbers in square brackets: the source of that minimum, "
                           "listed under the table.", small), Spacer(1, 1 * mm),
@@ -342,13 +400,15 @@ class PackagePdf(PdfDocument):
                             scope: tuple[str, ...]) -> list[Flowable]:
         """Proving dead at the circuit's places, numbered as its row lists them: one line
         of boxes per place (more where it has more pairs), each box under its pair."""
-        per_row = 8  # a place's pairs on one line where they fit
+        places = [list(dict.fromkeys(
+            pair for f in finals if len(f.proving_dead) >= index
+            for pair in f.proving_dead[index - 1].pairs))
+            for index in range(1, max(len(f.proving_dead) for f in finals) + 1)]
+        # a place's pairs on one line: up to ten (three phases, neutral and earth)
+        per_row = min(10, max(8, *(len(pairs) for pairs in places)))
         rows: list[list[Any]] = []
         spans: list[tuple[Any, ...]] = []
-        for index in range(1, max(len(f.proving_dead) for f in finals) + 1):
-            pairs = list(dict.fromkeys(
-                pair for f in finals if len(f.proving_dead) >= index
-                for pair in f.proving_dead[index - 1].pairs))
+        for index, pairs in enumerate(places, start=1):
             first_row = len(rows)
             for start in range(0, len(pairs), per_row):
                 chunk = pairs[start:start + per_row]
@@ -361,7 +421,8 @@ class PackagePdf(PdfDocument):
                              else "", *cells, *[""] * (per_row - len(chunk))])
             if len(rows) - first_row > 1:
                 spans.append(("SPAN", (0, first_row), (0, len(rows) - 1)))
-        table = Table(rows, colWidths=self.cols(10, *[21.5] * per_row), repeat_when_cut=(0,))
+        table = Table(rows, colWidths=self.cols(10, *[172 / per_row] * per_row),
+                      repeat_when_cut=(0,))
         table.setStyle(TableStyle([*GRID, *spans, ("TOPPADDING", (0, 0), (-1, -1), 0.8 * mm),
                                    ("BOTTOMPADDING", (0, 0), (-1, -1), 1.2 * mm)]))
         return [KeepTogether([
@@ -432,14 +493,14 @@ class PackagePdf(PdfDocument):
                                                f"the package's file {p.id}.json"))
         if p.origin.routine:
             origin.append(f"routine {p.origin.routine}")
+        # the short facts two to a row; the long ones (the priority's reason) across it
         rows = [
             pair("Package", p.id) + pair("Date", p.date.isoformat()),
-            pair("Plant", p.plant) + pair("Priority",
-                                          f"{p.priority} (1 = most urgent): {p.priority_reason}"),
-            pair("Item", p.item_label) + pair("System", p.system or "not given"),
-            pair("Duration", f"{format_number(p.duration_h)} h") + pair("Crew", str(p.crew)),
-            pair("Job kind", p.job_kind.replace("_", " "))
-            + pair("Permits", ", ".join(p.permits) or "none listed"),
+            pair("Plant", p.plant) + pair("System", p.system or "not given"),
+            pair("Item", p.item_label) + pair("Duration", f"{format_number(p.duration_h)} h"),
+            pair("Job kind", p.job_kind.replace("_", " ")) + pair("Crew", str(p.crew)),
+            pair("Permits", ", ".join(p.permits) or "none listed") + ["", ""],
+            pair("Priority", f"{p.priority} (1 = most urgent): {p.priority_reason}") + ["", ""],
             pair("Origin", "; ".join(origin)) + ["", ""],
             pair("Who", job_needs(p).describe()) + ["", ""],
         ]
@@ -448,7 +509,7 @@ class PackagePdf(PdfDocument):
             if p.supervisor_assigned:
                 crew += f"; supervisor {p.supervisor_assigned}"
             rows.append(pair("Assigned", crew) + ["", ""])
-        spans = [("SPAN", (1, row), (3, row)) for row in range(5, len(rows))]
+        spans = [("SPAN", (1, row), (3, row)) for row in range(4, len(rows))]
         table = Table(rows, colWidths=self.cols(24, 67, 24, 67), repeat_when_cut=(0, 2))
         table.setStyle(TableStyle([*GRID, *spans,
                                    ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
@@ -551,7 +612,7 @@ class PackagePdf(PdfDocument):
         sketch_needs = (sketch_width_needed(p.sketch, FONT, FONT_BOLD)
                         if p.sketch is not None else 0.0)
         side_by_side = p.phasor is not None and p.sketch is not None and sketch_needs <= half
-        phasor_width = half if side_by_side else min(half, 90 * mm)
+        phasor_width = half if side_by_side else min(half, self.phasor_alone_mm * mm)
         heading = self.numbered("Figures")
         phasor: list[Flowable] = []
         if p.phasor is not None:
@@ -790,10 +851,13 @@ class PackagePdf(PdfDocument):
                                           f"{r.id}: instrument (its register id)"))
             rows.append([*row, temperature, instrument] if with_temperature
                         else [*row, instrument])
-        widths = (self.cols(38, 28, 44, 30, 22, 20) if with_temperature
-                  else self.cols(42, 34, 54, 32, 20))
+        # the blanks' columns keep their room; the text columns share the rest by content
+        blanks = [30 * mm, *([22 * mm] if with_temperature else []), 20 * mm]
+        widths = content_widths(rows, self.width, 3.2 * mm, [0, 0, 0, *blanks])
         table = Table(rows, colWidths=widths, repeatRows=1)
-        table.setStyle(TableStyle([*GRID, *HEAD_ROW]))
+        table.setStyle(TableStyle([*GRID, *HEAD_ROW,
+                                   ("TOPPADDING", (0, 0), (-1, -1), 1.2 * mm),
+                                   ("BOTTOMPADDING", (0, 0), (-1, -1), 1.2 * mm)]))
         return table
 
     def step_parts(self, step: Step, kind: str,
@@ -806,13 +870,14 @@ class PackagePdf(PdfDocument):
             outcome = "not found" if step.search_outcome == "not_found" else "found"
             text = f"<b>Only if the ground was {outcome}:</b> {text}"
         line = Table([[box, Paragraph(str(step.number), self.style["step_no"]),
-                       Paragraph(text, self.style["body"])]],
+                       Paragraph(text, self.style["step"])]],
                      colWidths=self.cols(10, 12, 160))
         line.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"),
                                   ("LEFTPADDING", (0, 0), (-1, -1), 0),
                                   ("TOPPADDING", (0, 0), (-1, -1), 0.5 * mm),
+                                  ("BOTTOMPADDING", (0, 0), (-1, -1), 0.5 * mm),
                                   ("LINEABOVE", (0, 0), (-1, 0), 0.7, colors.black)]))
-        parts: list[Flowable] = [Spacer(1, 1.5 * mm), line]
+        parts: list[Flowable] = [Spacer(1, 1 * mm), line]
         if step.kind == "remove_lock" and step.devices:
             parts += [Spacer(1, 1.5 * mm), self.removal_blanks(step.devices[0], scope)]
         if step.kind == "gate":
@@ -825,7 +890,7 @@ class PackagePdf(PdfDocument):
         if step.readings:
             parts += [Spacer(1, 1.5 * mm), self.reading_rows(step.readings),
                       *self.reading_notes(step.readings)]
-        parts.append(Spacer(1, 2 * mm))
+        parts.append(Spacer(1, 1.2 * mm))
         return parts
 
     def reading_notes(self, readings: Sequence[Reading]) -> list[Flowable]:
@@ -843,7 +908,8 @@ class PackagePdf(PdfDocument):
             return []
         first, *rest = steps
         lead = [heading]
-        if hint:  # how to fill in, said once per section
+        if hint and not self._hint_said:  # how to fill in, said once: at the first steps
+            self._hint_said = True
             lead.append(Paragraph("Tick each box when the step is done; write each reading "
                                   "in its box, in the unit shown.", self.style["small"]))
         out: list[Flowable] = [KeepTogether([*lead, *self.step_parts(first, kind, scope)])]
@@ -880,25 +946,36 @@ class PackagePdf(PdfDocument):
 
     # -- sign-off
     def sign_off_block(self) -> list[Flowable]:
-        label = self.style["cell_bold"]
+        """Who did the job and who checked it, two to a row; remarks across."""
+        label = self.style["head"]
         rows = [
             [Paragraph("Technician (name, signature)", label),
-             self.blank(Blank(("sign", "technician"), "technician"))],
-            [Paragraph("Supervisor (name, signature)", label),
+             self.blank(Blank(("sign", "technician"), "technician")),
+             Paragraph("Supervisor (name, signature)", label),
              self.blank(Blank(("sign", "supervisor"), "supervisor"))],
             [Paragraph("Date", label),
-             self.blank(Blank(("sign", "date"), "date", width=50 * mm))],
-            *([[Paragraph("Ground found at (element id)", label),
-                self.blank(Blank(("ground_found_at",), "ground found at"))]]
-              if self.package.job_kind in ("locate_ground", "clear_second_ground") else []),
+             self.blank(Blank(("sign", "date"), "date", width=40 * mm)),
+             *([Paragraph("Ground found at (element id)", label),
+                self.blank(Blank(("ground_found_at",), "ground found at"))]
+               if self.package.job_kind in ("locate_ground", "clear_second_ground")
+               else ["", ""])],
             [Paragraph("Remarks", label),
-             self.blank(Blank(("remarks",), "remarks", height=30 * mm, multiline=True,
-                              max_length=2000))],
+             self.blank(Blank(("remarks",), "remarks", height=self.remarks_mm * mm,
+                              multiline=True, max_length=2000)), "", ""],
         ]
-        table = Table(rows, colWidths=self.cols(50, 132), repeat_when_cut=(0,))
+        table = Table(rows, colWidths=self.cols(34, 57, 34, 57), repeat_when_cut=(0,))
         table.setStyle(TableStyle([*GRID, ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
+                                   ("TOPPADDING", (0, 0), (-1, -1), 1 * mm),
+                                   ("BOTTOMPADDING", (0, 0), (-1, -1), 1 * mm),
+                                   ("SPAN", (1, 2), (3, 2)),
                                    ("BOX", (0, 0), (-1, -1), 1.4, colors.black)]))
         return [KeepTogether([self.numbered("Sign-off"), table])]
+
+
+_CLOSE = "close "  # how an energise step's action starts when it closes a device
+
+# a final test's reading: "<what> to earth at <DC test voltage> DC"
+_TEST_AT = re.compile(r" to earth at (\S+ V) DC")
 
 
 def _procedure_kind(name: str) -> StepKind:
