@@ -303,7 +303,7 @@ def _cmd_plan(args: argparse.Namespace) -> int:
         result = plan_day(topology, findings, day, ruleset, _standards(), weights,
                           crew_hours, history=history, progress=planning,
                           carried=carry.carried)
-    notes += left_out(carry, result)
+    notes += carry.notes + left_out(carry, result)
     if notes:
         result = dataclasses.replace(result, conflicts=(
             *result.conflicts, *(Conflict((), note) for note in notes)))
@@ -551,7 +551,7 @@ def _cmd_record(args: argparse.Namespace) -> int:
                       supersedes=args.supersedes, verdict=evaluation.verdict,
                       named={"technician": results.completed_by,
                              "supervisor": results.supervisor})
-    kind, detail = record_event(package.id, results, evaluation)
+    kind, detail = record_event(package.id, results, evaluation, package)
     with open_store(_default_db(args), plant=package.plant) as store:
         job = fold(store.events(package_id=package.id)).get(package.id)
         latest = store.latest(package.id)

@@ -34,6 +34,7 @@ from pydantic import TypeAdapter
 from workpack.lockregister import LockKind, locks_on, results_locks, shown
 from workpack.model.evaluation import Evaluation
 from workpack.model.findings import Finding, Findings
+from workpack.model.package import WorkPackage
 from workpack.model.plant import Plant
 from workpack.model.results import Results
 from workpack.plan.carry import (
@@ -41,7 +42,10 @@ from workpack.plan.carry import (
     HeldLock,
     IssuedIds,
     finding_identity,
+    judged_work_readings,
     routine_of_key,
+    shortfall,
+    reading_test,
 )
 from workpack.plan.day import DayPlan
 from workpack.plan.jobs import last_done
@@ -92,6 +96,7 @@ class Event(Protocol):
 _NO_ANSWERS, _NO_FOLLOWUPS, _FAILED = '"answers":[]', '"followups":[]', '"verdict":"failed"'
 # A detail without this text names no answers at all (most plans' events: not parsed).
 _ANSWERS_KEY = '"answers"'
+_COUNTED_KEY = '"counted_on"'
 
 
 @dataclass(frozen=True)
@@ -112,6 +117,7 @@ class JobState:
     answers: tuple[str, ...] = ()  # jobs whose carried findings it was made from
     planned_event: Event | None = None  # its last "planned" event
     record_event: Event | None = None  # its last "suspended" or "completed" event
+    cancel_event: Event | None = None  # its "cancelled" event
 
     @property
     def open(self) -> bool:
@@ -142,6 +148,15 @@ class JobState:
     @property
     def verdict(self) -> str | None:
         return self.record_event.detail.get("verdict") if self.record_event else None
+
+    @property
+    def counted_on(self) -> dt.date | None:
+        """A routine job cancelled because another job's passed tests stood for it: the
+        day those passed (read without parsing other cancellations)."""
+        event = self.cancel_event
+        if event is None or _COUNTED_KEY not in event.detail_json:
+            return None
+        return dt.date.fromisoformat(event.detail[_COUNTED_KEY.strip('"')])
 
     @property
     def followups(self) -> tuple[Mapping[str, Any], ...]:
@@ -186,6 +201,8 @@ def fold(events: Iterable[Event]) -> dict[str, JobState]:
         elif event.kind in ("suspended", "completed"):
             job["record_event"] = event
             job["entries"].append(event.day)
+        elif event.kind == "cancelled":
+            job["cancel_event"] = event
         if event.kind in FINISHED:
             job["finished_on"] = event.day
     return {package_id: JobState(**{
@@ -227,10 +244,13 @@ def held_locks(package_id: str, results: Results,
         why=results.locks_left_on or "") for on in locks_on(uses))
 
 
-def record_event(package_id: str, results: Results,
-                 evaluation: Evaluation) -> tuple[str, dict[str, Any]]:
+def record_event(package_id: str, results: Results, evaluation: Evaluation,
+                 package: WorkPackage | None = None) -> tuple[str, dict[str, Any]]:
     """The event a record makes and its detail: ``suspended`` while locks stay on or the
-    work is incomplete (the job goes on), else ``completed`` with its verdict."""
+    work is incomplete (the job goes on), else ``completed`` with its verdict. Given the
+    package, a completed job names the judged tests of its work that passed
+    (``passed_tests``), which may stand for a routine test of the item
+    (``workpack.plan.carry.shortfall``)."""
     locks = held_locks(package_id, results, evaluation)
     left_on = locks or evaluation.locks_left_on or evaluation.locks_not_removed
     kind = "suspended" if left_on or evaluation.verdict == "incomplete" else "completed"
@@ -239,6 +259,10 @@ def record_event(package_id: str, results: Results,
         "locks": [lock.__dict__ for lock in locks],
         "followups": [f.model_dump(mode="json") for f in evaluation.followups],
     }
+    if package is not None and kind == "completed":
+        passed = {r.id for r in evaluation.readings if r.judged and r.outcome == "pass"}
+        detail["passed_tests"] = [reading_test(reading) for reading in
+                                  judged_work_readings(package) if reading.id in passed]
     return kind, detail
 
 
@@ -261,6 +285,9 @@ class CarryOver:
     sources: tuple[str, ...] = ()  # jobs whose findings or follow-ups the plan takes
     open_jobs: Mapping[str, JobState] = field(default_factory=dict)  # by job key
     keys: Mapping[str, str] = field(default_factory=dict)  # every job's key by package id
+    counted: Mapping[str, tuple[dt.date, str]] = field(default_factory=dict)
+    # routine job key → the day another job's passed tests stood for it, and a line saying so
+    notes: tuple[str, ...] = ()  # routine jobs another job did or did not stand for
 
 
 def carry_forward(jobs: Mapping[str, JobState], day: dt.date) -> CarryOver:
@@ -294,6 +321,8 @@ def carry_forward(jobs: Mapping[str, JobState], day: dt.date) -> CarryOver:
         if job.state == "completed" and job.routine and job.finished_on and \
                 job.verdict == "passed":
             passed(job.routine, job.finished_on)
+        elif job.state == "cancelled" and job.routine and (on := job.counted_on):
+            passed(job.routine, on)
         # A routine test that failed is answered by the job made from what it found
         # (a dry-out, a repair): not planned again as a plain routine test meanwhile,
         # and done on the day that job passes.
@@ -305,6 +334,10 @@ def carry_forward(jobs: Mapping[str, JobState], day: dt.date) -> CarryOver:
             elif job.state == "completed" and job.verdict == "passed" and job.finished_on:
                 passed(routine, job.finished_on)
     answered |= {r for s in sources if not jobs[s].open and (r := jobs[s].routine)}
+    counted, notes = _standing_for_routines(jobs, open_jobs, day)
+    for key, (on, _) in counted.items():
+        if (routine := open_jobs[key].routine) is not None:
+            passed(routine, on)
     # An item under a job begun and not finished (locked out, being worked on) gets no
     # routine test of its own: that job's tests answer for it.
     begun_items = {job.item for job in open_jobs.values() if job.state in BEGUN}
@@ -316,7 +349,53 @@ def carry_forward(jobs: Mapping[str, JobState], day: dt.date) -> CarryOver:
         locks=tuple(lock for job in open_jobs.values() for lock in job.locks),
         routines_done=done, answered=frozenset(answered), busy_items=frozenset(begun_items))
     return CarryOver(carried, tuple(findings), tuple(sources), open_jobs,
-                     {job.package_id: job.job_key for job in jobs.values()})
+                     {job.package_id: job.job_key for job in jobs.values()},
+                     counted, notes)
+
+
+def _standing_for_routines(jobs: Mapping[str, JobState], open_jobs: Mapping[str, JobState],
+                           day: dt.date) -> tuple[dict[str, tuple[dt.date, str]],
+                                                  tuple[str, ...]]:
+    """Open routine jobs that another job of their item, completed since they were first
+    planned, stands for (by job key: the day it passed and a line saying so), and a line
+    for each it does not stand for, saying why (``workpack.plan.carry.shortfall``)."""
+    waiting = {key: job for key, job in open_jobs.items() if job.routine
+               and job.planned_event is not None and "requires" in job.planned_event.detail}
+    if not waiting:
+        return {}, ()
+    since = min(job.first_day for job in waiting.values())
+    by_item: dict[str, list[JobState]] = {}
+    for job in jobs.values():  # by package id
+        if job.state == "completed" and job.routine is None and job.finished_on \
+                and since <= job.finished_on < day:
+            by_item.setdefault(job.item, []).append(job)
+    counted: dict[str, tuple[dt.date, str]] = {}
+    notes: list[str] = []
+    for key, routine_job in sorted(waiting.items()):
+        element, test = routine_job.routine or ("", "")
+        why_not = []
+        for job in by_item.get(element, ()):
+            if job.finished_on is None or job.finished_on < routine_job.first_day:
+                continue
+            if job.verdict != "passed":
+                why_not.append(f"{job.package_id} was recorded as {job.verdict}")
+                continue
+            passed_tests = job.record_event.detail.get("passed_tests") \
+                if job.record_event else None
+            why = ("its record names no passed tests" if passed_tests is None else
+                   shortfall(routine_job.planned_event.detail["requires"]
+                             if routine_job.planned_event else (), passed_tests))
+            if why is None:
+                counted[key] = (job.finished_on, (
+                    f"{element} {test} ({routine_job.package_id}) counted as done on "
+                    f"{job.finished_on} by {job.package_id}: every reading it asks for was "
+                    "passed there by a test at least as demanding"))
+                break
+            why_not.append(f"{job.package_id} does not count as it: {why}")
+        if key not in counted and why_not:
+            notes.append(f"{element} {test} ({routine_job.package_id}) is still planned: "
+                         + "; ".join(why_not))
+    return counted, (*(note for _, note in sorted(counted.values())), *notes)
 
 
 # --- the morning's status ---------------------------------------------------------------
@@ -474,6 +553,8 @@ def plan_events(plan: DayPlan, carry: CarryOver, findings: Findings, at: dt.date
             "item": package.item, "rule": package.origin.rule, "title": package.title,
             "priority": package.priority, "routine": test, "routine_element": element,
             "scheduled": package.id in plan.scheduled,
+            **({"requires": [reading_test(r) for r in judged_work_readings(package)]}
+               if test else {}),
             "answers": sorted(s for s, ids in taken.items() if package.id in ids),
             "findings": [by_id[f].model_dump(mode="json", exclude_none=True)
                          for f in package.origin.findings if f in by_id]}))
@@ -485,8 +566,12 @@ def plan_events(plan: DayPlan, carry: CarryOver, findings: Findings, at: dt.date
                                    by, {"into": sorted(set(taken.get(source, [])))}))
     for key, job in sorted(carry.open_jobs.items()):
         if key not in made and job.state in ("planned", "issued"):
-            events.append(NewEvent(job.package_id, key, "cancelled", day, at, by, {
-                "reason": f"the plan of {day} no longer calls for it"}))
+            if key in carry.counted:
+                on, note = carry.counted[key]
+                detail = {"reason": note, "counted_on": on.isoformat()}
+            else:
+                detail = {"reason": f"the plan of {day} no longer calls for it"}
+            events.append(NewEvent(job.package_id, key, "cancelled", day, at, by, detail))
     return events
 
 

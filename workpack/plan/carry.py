@@ -21,8 +21,10 @@ import datetime as dt
 import re
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
+from typing import Any
 
 from workpack.model.findings import Finding
+from workpack.model.package import Reading, WorkPackage
 from workpack.plan.jobs import Job
 
 PACKAGE_ID = re.compile(r"^WP-(?P<code>[A-Z0-9]{2,8})-(?P<day>\d{8})-(?P<number>\d{2,})$")
@@ -97,7 +99,6 @@ def _number(taken: str, code: str, day: dt.date) -> int | None:
     return int(found["number"])
 
 
-
 @dataclass(frozen=True)
 class HeldLock:
     """A lock still on from an earlier day: where, whose, since when, for which job."""
@@ -138,3 +139,73 @@ class Carried:
     answered: frozenset[tuple[str, str]] = frozenset()  # (element, test) not planned today:
     # a job made from what the test found last time is open or being planned
     busy_items: frozenset[str] = frozenset()  # items under a begun job: no routine test
+
+
+# --- a passed test standing for a routine test --------------------------------------------
+#
+# A job that passed (a dry-out's acceptance test) is counted as an item's routine test
+# when, for every reading the routine's package judges in its work, the job passed a
+# reading of the same test (same element, phase or winding and kind: the reading's
+# ``what`` before its first comma) at least as demanding: a DC test voltage at least
+# the routine's, a duration at least the routine's, the same temperature correction
+# (code set and reference temperature) and a limit at least as strict. Common practice:
+# an acceptance test that meets everything the periodic test asks for is that test.
+
+_DURATION = re.compile(r"\bfor (?P<minutes>\d+(?:\.\d+)?) min\b")
+
+
+def reading_test(reading: Reading) -> dict[str, Any]:
+    """A judged reading as a test another job's reading may stand for (JSON-ready)."""
+    limit = reading.limit
+    test, _, rest = reading.what.partition(", ")
+    duration = _DURATION.search(rest)
+    return {"test": test, "unit": reading.unit, "test_voltage_v": reading.test_voltage_v,
+            "minutes": float(duration["minutes"]) if duration else None,
+            "low": limit.low if limit else None, "high": limit.high if limit else None,
+            "corrected_to_c": limit.temperature_corrected_to_c if limit else None,
+            "code_set": limit.code_set if limit else None}
+
+
+def judged_work_readings(package: WorkPackage) -> list[Reading]:
+    """The readings a package's work steps are judged by (not the as-found readings,
+    not the checks after energising)."""
+    return [reading for step in package.steps if step.kind == "work"
+            for reading in step.readings if reading.acceptance and reading.limit]
+
+
+def _at_least(passed: float | None, needed: float | None) -> bool:
+    return needed is None or (passed is not None and passed >= needed)
+
+
+def _short_of(passed: Mapping[str, Any], needed: Mapping[str, Any]) -> str | None:
+    """How one passed test falls short of a needed one, in words; None if it does not."""
+    if not _at_least(passed.get("test_voltage_v"), needed.get("test_voltage_v")):
+        return "a lower test voltage"
+    if not _at_least(passed.get("minutes"), needed.get("minutes")):
+        return "a shorter duration"
+    if (passed.get("corrected_to_c"), passed.get("code_set")) != (
+            needed.get("corrected_to_c"), needed.get("code_set")):
+        return "a different temperature correction"
+    if not _at_least(passed.get("low"), needed.get("low")):
+        return "a lower minimum"
+    high, needed_high = passed.get("high"), needed.get("high")
+    if needed_high is not None and (high is None or high > needed_high):
+        return "a higher maximum"
+    return None
+
+
+def shortfall(needed: Sequence[Mapping[str, Any]],
+              passed: Sequence[Mapping[str, Any]]) -> str | None:
+    """Why ``passed`` tests do not stand for the ``needed`` ones, in words; None when
+    every needed test was passed by one at least as demanding. Nothing needed: nothing
+    to compare, so it never stands (the routine stays planned)."""
+    if not needed:
+        return "the routine's package names no judged reading to compare"
+    for need in needed:
+        same = [test for test in passed if test.get("test") == need.get("test")]
+        if not same:
+            return f"it passed no test of {need.get('test')}"
+        reasons = [_short_of(test, need) for test in same]
+        if all(reasons):
+            return f"its test of {need.get('test')} had {reasons[0]} than the routine's"
+    return None
