@@ -21,7 +21,7 @@ from weekdata import filled_results
 
 from workpack.cli import main
 from workpack.model.package import WorkPackage
-from workpack.plan.carry import judged_work_readings, shortfall, reading_test
+from workpack.plan.carry import judged_work_readings, reading_test, shortfall
 from workpack.store import open_store
 
 ROOT = Path(__file__).resolve().parent.parent

@@ -43,9 +43,9 @@ from workpack.plan.carry import (
     IssuedIds,
     finding_identity,
     judged_work_readings,
+    reading_test,
     routine_of_key,
     shortfall,
-    reading_test,
 )
 from workpack.plan.day import DayPlan
 from workpack.plan.jobs import last_done
