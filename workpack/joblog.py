@@ -18,7 +18,11 @@ What the next plan takes from the events (``carry_forward``):
 - a job completed as failed brings its findings along again, and any job's follow-up
   findings (low insulation readings) become findings, once: the plan of the next day
   marks them carried over;
-- a routine test recorded as passed moves its next due date (``routines_done``);
+- a routine test recorded as passed moves its next due date (``routines_done``); so
+  does another job of the item completed as passed since the routine job was planned
+  (a dry-out's acceptance test), when every reading the routine's work judges was
+  passed there by a test at least as demanding (``plan.carry.shortfall``): the routine
+  job is then cancelled with the day it counts from, and the plan says so, or why not;
 - the locks still on are named, with whose, since when and for which job.
 """
 
