@@ -3,6 +3,7 @@ lock can cut, and what goes dead while the locks are on. Pure."""
 
 from __future__ import annotations
 
+import weakref
 from collections.abc import Iterable
 
 from workpack.diagnose import downstream_loads
@@ -61,10 +62,28 @@ def vital_loads(topology: Topology, points: Iterable[IsolationPoint],
                 places: Iterable[str]) -> tuple[str, ...]:
     """Vital loads an isolation takes out: below any device it opens (a heater's circuit
     test can lock a fire pump's main supply), and the places of work."""
-    loads = [load for point in points if not point.already_open
-             for load in downstream_loads(topology, point.device)]
-    loads += [e for e in (topology.elements[p] for p in places) if isinstance(e, Load)]
-    return tuple(sorted({load.id for load in loads if load.vitality is Vitality.vital}))
+    vital = {load for point in points if not point.already_open
+             for load in _vital_below(topology, point.device)}
+    vital.update(e.id for e in (topology.elements[p] for p in places)
+                 if isinstance(e, Load) and e.vitality is Vitality.vital)
+    return tuple(sorted(vital))
+
+
+# device → the vital loads below it, per topology: a ground search's final tests lock the
+# same devices again and again (hundreds of circuits a search)
+_VITAL_BELOW: weakref.WeakKeyDictionary[Topology, dict[str, frozenset[str]]] = (
+    weakref.WeakKeyDictionary())
+
+
+def _vital_below(topology: Topology, device: str) -> frozenset[str]:
+    known = _VITAL_BELOW.get(topology)
+    if known is None:
+        known = _VITAL_BELOW[topology] = {}
+    ids = known.get(device)
+    if ids is None:
+        ids = known[device] = frozenset(load.id for load in downstream_loads(topology, device)
+                                        if load.vitality is Vitality.vital)
+    return ids
 
 
 def normal_devices(topology: Topology, places: Iterable[str]) -> frozenset[str]:
