@@ -29,6 +29,7 @@ What the next plan takes from the events (``carry_forward``):
 from __future__ import annotations
 
 import datetime as dt
+import json
 from collections.abc import Iterable, Mapping, Sequence, Set
 from dataclasses import dataclass, field
 from typing import Any, Protocol
@@ -368,10 +369,15 @@ def _standing_for_routines(jobs: Mapping[str, JobState], open_jobs: Mapping[str,
     if not waiting:
         return {}, ()
     since = min(job.first_day for job in waiting.values())
+    elements = {routine[0] for job in waiting.values() if (routine := job.routine)}
+    # The item as canonical JSON writes it: a year of jobs is looked at without parsing.
+    items = [json.dumps({"item": element}, ensure_ascii=False, separators=(",", ":"))[1:-1]
+             for element in sorted(elements)]
     by_item: dict[str, list[JobState]] = {}
     for job in jobs.values():  # by package id
         if job.state == "completed" and job.routine is None and job.finished_on \
-                and since <= job.finished_on < day:
+                and since <= job.finished_on < day and job.planned_event is not None \
+                and any(item in job.planned_event.detail_json for item in items):
             by_item.setdefault(job.item, []).append(job)
     counted: dict[str, tuple[dt.date, str]] = {}
     notes: list[str] = []
