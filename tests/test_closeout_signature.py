@@ -8,6 +8,7 @@ from __future__ import annotations
 import datetime as dt
 import hashlib
 import io
+import re
 from pathlib import Path
 from typing import Any
 
@@ -91,6 +92,14 @@ def test_the_same_inputs_give_the_same_bytes(pdf: bytes, signed: bytes) -> None:
     again = sign_pdf(pdf, SIGNER, certificate(), signed_at=SIGNED_AT,
                      reason="close-out of record 2 of WP-TEST: failed", location="MV Test")
     assert again == signed
+
+
+def test_the_modification_date_is_the_signing_time_not_the_clock(signed: bytes) -> None:
+    """pyHanko sets the document's /ModDate to the clock when it writes; two signings a
+    second apart then differed in that date (seen as a flaky byte comparison). The date
+    written is the given signing time."""
+    dates = re.findall(rb"/ModDate \(([^)]*)\)", signed)
+    assert dates[-1] == rb"D\07220261203093000Z"  # \072 is the ':' escaped
 
 
 def test_an_incremental_edit_with_another_pdf_tool_fails_validation(signed: bytes) -> None:

@@ -43,6 +43,7 @@ from cryptography.hazmat.primitives.serialization import Encoding, NoEncryption,
 from cryptography.x509.oid import NameOID
 from pyhanko.pdf_utils import generic
 from pyhanko.pdf_utils.incremental_writer import IncrementalPdfFileWriter
+from pyhanko.pdf_utils.metadata.model import DocumentMetadata
 from pyhanko.sign import fields, signers
 from pyhanko.sign.signers.pdf_signer import PdfSigningSession
 from pyhanko_certvalidator.registry import SimpleCertificateStore
@@ -86,8 +87,23 @@ def certificate_pem(certificate: x509.Certificate) -> bytes:
     return certificate.public_bytes(Encoding.PEM)
 
 
+class _PinnedMetadata(DocumentMetadata):
+    """Document metadata whose modification date stays the signing time: pyHanko sets it
+    to "now" (the clock) just before writing, which made two signings differ."""
+
+    def __setattr__(self, name: str, value: Any) -> None:
+        if name == "last_modified" and value == "now":
+            value = self.__dict__.get("last_modified", value)
+        super().__setattr__(name, value)
+
+
 class _FixedIdWriter(IncrementalPdfFileWriter):
-    """The second half of the file identifier derived from the first, not random."""
+    """The second half of the file identifier derived from the first, not random; the
+    document's modification date is the signing time, not the clock's."""
+
+    def __init__(self, stream: BytesIO, *, modified_at: dt.datetime):
+        super().__init__(stream)
+        self._meta = _PinnedMetadata(last_modified=modified_at)
 
     @classmethod
     def _handle_id(cls, prev: Any) -> generic.ArrayObject:
@@ -127,6 +143,6 @@ def sign_pdf(pdf: bytes, private_key: Ed25519PrivateKey, certificate: x509.Certi
         reason=reason, location=location, name=str(certificate.subject.get_attributes_for_oid(
             NameOID.COMMON_NAME)[0].value),
         md_algorithm="sha512")  # RFC 8419: Ed25519 in CMS digests with SHA-512
-    writer = _FixedIdWriter(BytesIO(pdf))
+    writer = _FixedIdWriter(BytesIO(pdf), modified_at=signed_at.astimezone(dt.UTC))
     out = _SignerAt(meta, signer, signed_at=signed_at.astimezone(dt.UTC)).sign_pdf(writer)
     return bytes(out.getvalue())
