@@ -667,7 +667,8 @@ def _cmd_job(args: argparse.Namespace) -> int:
 
 
 def _cmd_status(args: argparse.Namespace) -> int:
-    from workpack.joblog import fold, status, status_text
+    from workpack.joblog import status, status_text
+    from workpack.jobstates import jobs_for_status
     from workpack.loading import load_plant
     from workpack.store import is_server_url, open_store
 
@@ -676,9 +677,9 @@ def _cmd_status(args: argparse.Namespace) -> int:
     server = is_server_url(db)
     if not server and not Path(db).exists():
         raise UsageError(f"{db}: no such records store; plan with --db first")
-    with open_store(db, plant=plant.plant.name if server else None, create=False) as store:
-        jobs = fold(store.events())
     day = args.date or _now().date()
+    with open_store(db, plant=plant.plant.name if server else None, create=False) as store:
+        jobs = jobs_for_status(store, day)
     report = status(plant, jobs, day, args.days)
     sys.stdout.write(_to_json(report) if args.json else status_text(report, args.days))
     return 0

@@ -54,6 +54,7 @@ from workpack.plan.carry import (
 )
 from workpack.plan.day import DayPlan
 from workpack.plan.jobs import last_done
+from workpack.store._chain import format_timestamp, parse_timestamp
 from workpack.store._events import NewEvent
 
 _FINDING: TypeAdapter[Finding] = TypeAdapter(Finding)
@@ -182,6 +183,31 @@ class JobState:
             return ()
         return tuple(HeldLock(**lock) for lock in self.record_event.detail.get("locks", ()))
 
+    @property
+    def requires(self) -> Sequence[Mapping[str, Any]] | None:
+        """The tests a routine job's work judges, as its last plan named them (None: its
+        plan named none, as plans before ``requires`` existed)."""
+        if self.planned_event is None or '"requires"' not in self.planned_event.detail_json:
+            return None
+        detail = self.planned_event.detail
+        if "requires" not in detail:
+            return None
+        return tuple(detail["requires"] or ())
+
+    @property
+    def passed_tests(self) -> Sequence[Mapping[str, Any]] | None:
+        """The judged tests its last record passed (None: the record names none)."""
+        found: Sequence[Mapping[str, Any]] | None = \
+            self.record_event.detail.get("passed_tests") if self.record_event else None
+        return found
+
+    def names_item(self, elements: Set[str], fragments: Sequence[str]) -> bool:
+        """Whether its last plan may be for one of ``elements`` (each also given as
+        canonical JSON writes it, ``"item":"…"``): told from the plan's text, so a year
+        of jobs is looked at without parsing; ``item`` says for sure."""
+        found = self.planned_event.detail_json if self.planned_event else ""
+        return any(fragment in found for fragment in fragments)
+
 
 def fold(events: Iterable[Event]) -> dict[str, JobState]:
     """Each job's state after its events (in sequence order), by package id."""
@@ -215,6 +241,204 @@ def fold(events: Iterable[Event]) -> dict[str, JobState]:
         # every job it was ever made from (a re-plan lists only the day's)
         "answers": tuple(sorted(job["answers"] - {package_id}))})
         for package_id, job in sorted(jobs.items())}
+
+
+class Job(Protocol):
+    """What the status and the routine tests' dates read of a job: a ``JobState`` (folded
+    from the events) or a ``KeptJob`` (the summary a store keeps beside them)."""
+
+    @property
+    def package_id(self) -> str: ...
+    @property
+    def job_key(self) -> str: ...
+    @property
+    def state(self) -> str: ...
+    @property
+    def since(self) -> dt.datetime: ...
+    @property
+    def by(self) -> str: ...
+    @property
+    def first_day(self) -> dt.date: ...
+    @property
+    def last_planned(self) -> dt.date: ...
+    @property
+    def entries(self) -> tuple[dt.date, ...]: ...
+    @property
+    def finished_on(self) -> dt.date | None: ...
+    @property
+    def answers(self) -> tuple[str, ...]: ...
+    @property
+    def open(self) -> bool: ...
+    @property
+    def item(self) -> str: ...
+    @property
+    def title(self) -> str: ...
+    @property
+    def routine(self) -> tuple[str, str] | None: ...
+    @property
+    def verdict(self) -> str | None: ...
+    @property
+    def counted_on(self) -> dt.date | None: ...
+    @property
+    def locks(self) -> tuple[HeldLock, ...]: ...
+    @property
+    def requires(self) -> Sequence[Mapping[str, Any]] | None: ...
+    @property
+    def passed_tests(self) -> Sequence[Mapping[str, Any]] | None: ...
+    def names_item(self, elements: Set[str], fragments: Sequence[str]) -> bool: ...
+
+
+# --- the job states a store keeps beside the events --------------------------------------
+
+# The version of ``kept_job``'s text and columns: a store keeps each job's summary with
+# it and reads the summaries only while every one is of this version and they were
+# brought up to the last event; else it folds the events, as before summaries were kept.
+JOB_STATE_VERSION = 1
+
+
+@dataclass(frozen=True)
+class KeptJob:
+    """A job's state as a store keeps it beside its events (``kept_job``): everything
+    the status and the routine tests' dates read of the job, without its events."""
+
+    package_id: str
+    job_key: str
+    state: str
+    since: dt.datetime
+    by: str
+    first_day: dt.date
+    last_planned: dt.date
+    entries: tuple[dt.date, ...]
+    finished_on: dt.date | None
+    answers: tuple[str, ...]
+    item: str
+    title: str
+    verdict: str | None
+    counted_on: dt.date | None
+    locks: tuple[HeldLock, ...]
+    requires: Sequence[Mapping[str, Any]] | None
+    passed_tests: Sequence[Mapping[str, Any]] | None
+
+    @property
+    def open(self) -> bool:
+        return self.state not in FINISHED
+
+    @property
+    def routine(self) -> tuple[str, str] | None:
+        test, element = routine_of_key(self.job_key)
+        return (element, test) if test and element else None
+
+    def names_item(self, elements: Set[str], fragments: Sequence[str]) -> bool:
+        return bool(self.item) and self.item in elements
+
+
+@dataclass(frozen=True)
+class KeptColumns:
+    """A kept job as a store's row: the columns a store selects on (which jobs are open,
+    which routine test a job passed and when, which jobs are made from a routine test's
+    findings, done jobs by item and day) and the summary's text."""
+
+    package_id: str
+    version: int
+    open: bool
+    state: str
+    item: str
+    routine_test: str | None
+    routine_element: str | None
+    finished_on: str | None  # ISO date
+    own_pass_on: str | None  # ISO date: ``own_pass``
+    answers_passed: bool  # completed as passed and made from other jobs' findings
+    summary_json: str
+
+    def as_tuple(self) -> tuple[Any, ...]:
+        return tuple(getattr(self, f) for f in KEPT_COLUMNS)
+
+
+KEPT_COLUMNS = ("package_id", "version", "open", "state", "item", "routine_test",
+                "routine_element", "finished_on", "own_pass_on", "answers_passed",
+                "summary_json")
+
+
+def _day(value: dt.date | None) -> str | None:
+    return value.isoformat() if value is not None else None
+
+
+def kept_job(job: Job) -> KeptColumns:
+    """The row a store keeps for ``job`` (a ``JobState`` folded from its events): the
+    same text and columns for the same events, whoever writes them."""
+    test, element = routine_of_key(job.job_key)
+    summary = {
+        "package_id": job.package_id, "job_key": job.job_key, "state": job.state,
+        "since": format_timestamp(job.since), "by": job.by,
+        "first_day": job.first_day.isoformat(), "last_planned": job.last_planned.isoformat(),
+        "entries": [day.isoformat() for day in job.entries],
+        "finished_on": _day(job.finished_on), "answers": list(job.answers),
+        "item": job.item, "title": job.title, "verdict": job.verdict,
+        "counted_on": _day(job.counted_on),
+        "locks": [dict(lock.__dict__) for lock in job.locks],
+        "requires": None if job.requires is None else list(job.requires),
+        "passed_tests": job.passed_tests}
+    passed = job.state == "completed" and job.verdict == "passed" and job.finished_on
+    return KeptColumns(
+        package_id=job.package_id, version=JOB_STATE_VERSION, open=job.open,
+        state=job.state, item=job.item, routine_test=test, routine_element=element,
+        finished_on=_day(job.finished_on), own_pass_on=_day(own_pass(job)),
+        answers_passed=bool(passed and job.answers),
+        summary_json=json.dumps(summary, ensure_ascii=False, sort_keys=True,
+                                separators=(",", ":")))
+
+
+def kept_jobs(events: Iterable[Event]) -> list[KeptColumns]:
+    """The rows a store keeps for the jobs of ``events`` (every event of each job)."""
+    return [kept_job(job) for job in fold(events).values()]
+
+
+def job_from_kept(text: str) -> KeptJob:
+    """The job a kept summary's text holds; ValueError or KeyError if it is not one."""
+    data = json.loads(text)
+
+    def day(value: str | None) -> dt.date | None:
+        return dt.date.fromisoformat(value) if value is not None else None
+
+    return KeptJob(
+        package_id=data["package_id"], job_key=data["job_key"], state=data["state"],
+        since=parse_timestamp(data["since"]), by=data["by"],
+        first_day=dt.date.fromisoformat(data["first_day"]),
+        last_planned=dt.date.fromisoformat(data["last_planned"]),
+        entries=tuple(dt.date.fromisoformat(d) for d in data["entries"]),
+        finished_on=day(data["finished_on"]), answers=tuple(data["answers"]),
+        item=data["item"], title=data["title"], verdict=data["verdict"],
+        counted_on=day(data["counted_on"]),
+        locks=tuple(HeldLock(**lock) for lock in data["locks"]),
+        requires=None if data["requires"] is None else tuple(data["requires"]),
+        passed_tests=data["passed_tests"])
+
+
+@dataclass(frozen=True)
+class StatusWants:
+    """Which kept jobs the status reads, beyond the open ones and the routine tests'
+    last passes (``status_wants``): jobs named by id, and jobs completed for these items
+    from ``since`` to before ``before``."""
+
+    package_ids: tuple[str, ...] = ()
+    items: tuple[str, ...] = ()
+    since: dt.date | None = None
+    before: dt.date | None = None
+
+
+def status_wants(jobs: Mapping[str, Job], day: dt.date) -> StatusWants:
+    """What else the status needs, given the kept jobs a store gave for it (every open
+    job, each routine test's last own pass, every job completed as passed that was made
+    from other jobs' findings): those jobs, and the jobs done for items whose open
+    routine job another job may stand for."""
+    named = sorted({s for job in jobs.values() if job.answers for s in job.answers}
+                   - set(jobs))
+    waiting = [job for job in jobs.values() if job.open and job.routine
+               and job.requires is not None]
+    if not waiting:
+        return StatusWants(tuple(named))
+    return StatusWants(tuple(named), tuple(sorted({r[0] for j in waiting if (r := j.routine)})),
+                       min(job.first_day for job in waiting), day)
 
 
 def refusal(job: JobState | None, kind: str, *, correction: bool = False) -> str | None:
@@ -316,33 +540,8 @@ def carry_forward(jobs: Mapping[str, JobState], day: dt.date) -> CarryOver:
         if taken:
             findings += [CarriedFinding(job.package_id, f) for f in taken]
             sources.append(job.package_id)
-    done: dict[tuple[str, str], dt.date] = {}
-    answered: set[tuple[str, str]] = set()
-
-    def passed(routine: tuple[str, str], on: dt.date) -> None:
-        done[routine] = max(done.get(routine, on), on)
-
-    for job in jobs.values():
-        if job.state == "completed" and job.routine and job.finished_on and \
-                job.verdict == "passed":
-            passed(job.routine, job.finished_on)
-        elif job.state == "cancelled" and job.routine and (on := job.counted_on):
-            passed(job.routine, on)
-        # A routine test that failed is answered by the job made from what it found
-        # (a dry-out, a repair): not planned again as a plain routine test meanwhile,
-        # and done on the day that job passes.
-        for source in (jobs[s] for s in job.answers if s in jobs):
-            if (routine := source.routine) is None:
-                continue
-            if job.open:
-                answered.add(routine)
-            elif job.state == "completed" and job.verdict == "passed" and job.finished_on:
-                passed(routine, job.finished_on)
+    done, answered, counted, notes = _routines(jobs, open_jobs, day)
     answered |= {r for s in sources if not jobs[s].open and (r := jobs[s].routine)}
-    counted, notes = _standing_for_routines(jobs, open_jobs, day)
-    for key, (on, _) in counted.items():
-        if (routine := open_jobs[key].routine) is not None:
-            passed(routine, on)
     # An item under a job begun and not finished (locked out, being worked on) gets no
     # routine test of its own: that job's tests answer for it.
     begun_items = {job.item for job in open_jobs.values() if job.state in BEGUN}
@@ -358,14 +557,58 @@ def carry_forward(jobs: Mapping[str, JobState], day: dt.date) -> CarryOver:
                      counted, notes)
 
 
-def _standing_for_routines(jobs: Mapping[str, JobState], open_jobs: Mapping[str, JobState],
+def _routines(jobs: Mapping[str, Job], open_jobs: Mapping[str, Job], day: dt.date
+              ) -> tuple[dict[tuple[str, str], dt.date], set[tuple[str, str]],
+                         dict[str, tuple[dt.date, str]], tuple[str, ...]]:
+    """The routine tests done (element, test → the last day passed), those answered by
+    an open job made from what they found, the open routine jobs another job stands for
+    and the lines saying so or why not (``_standing_for_routines``)."""
+    done: dict[tuple[str, str], dt.date] = {}
+    answered: set[tuple[str, str]] = set()
+
+    def passed(routine: tuple[str, str], on: dt.date) -> None:
+        done[routine] = max(done.get(routine, on), on)
+
+    for job in jobs.values():
+        if (on := own_pass(job)) is not None and job.routine:
+            passed(job.routine, on)
+        # A routine test that failed is answered by the job made from what it found
+        # (a dry-out, a repair): not planned again as a plain routine test meanwhile,
+        # and done on the day that job passes.
+        for source in (jobs[s] for s in job.answers if s in jobs):
+            if (routine := source.routine) is None:
+                continue
+            if job.open:
+                answered.add(routine)
+            elif job.state == "completed" and job.verdict == "passed" and job.finished_on:
+                passed(routine, job.finished_on)
+    counted, notes = _standing_for_routines(jobs, open_jobs, day)
+    for key, (on, _) in counted.items():
+        if (routine := open_jobs[key].routine) is not None:
+            passed(routine, on)
+    return done, answered, counted, notes
+
+
+def own_pass(job: Job) -> dt.date | None:
+    """The day a routine job counts as its routine test passed: its completion as
+    passed, or the day another job's passed tests stood for it; None for any other job."""
+    if not job.routine:
+        return None
+    if job.state == "completed" and job.finished_on and job.verdict == "passed":
+        return job.finished_on
+    if job.state == "cancelled":
+        return job.counted_on
+    return None
+
+
+def _standing_for_routines(jobs: Mapping[str, Job], open_jobs: Mapping[str, Job],
                            day: dt.date) -> tuple[dict[str, tuple[dt.date, str]],
                                                   tuple[str, ...]]:
     """Open routine jobs that another job of their item, completed since they were first
     planned, stands for (by job key: the day it passed and a line saying so), and a line
     for each it does not stand for, saying why (``workpack.plan.carry.shortfall``)."""
-    waiting = {key: job for key, job in open_jobs.items() if job.routine
-               and job.planned_event is not None and "requires" in job.planned_event.detail}
+    waiting = {key: job for key, job in open_jobs.items()
+               if job.routine and job.requires is not None}
     if not waiting:
         return {}, ()
     since = min(job.first_day for job in waiting.values())
@@ -373,11 +616,10 @@ def _standing_for_routines(jobs: Mapping[str, JobState], open_jobs: Mapping[str,
     # The item as canonical JSON writes it: a year of jobs is looked at without parsing.
     items = [json.dumps({"item": element}, ensure_ascii=False, separators=(",", ":"))[1:-1]
              for element in sorted(elements)]
-    by_item: dict[str, list[JobState]] = {}
+    by_item: dict[str, list[Job]] = {}
     for job in jobs.values():  # by package id
         if job.state == "completed" and job.routine is None and job.finished_on \
-                and since <= job.finished_on < day and job.planned_event is not None \
-                and any(item in job.planned_event.detail_json for item in items):
+                and since <= job.finished_on < day and job.names_item(elements, items):
             by_item.setdefault(job.item, []).append(job)
     counted: dict[str, tuple[dt.date, str]] = {}
     notes: list[str] = []
@@ -390,11 +632,9 @@ def _standing_for_routines(jobs: Mapping[str, JobState], open_jobs: Mapping[str,
             if job.verdict != "passed":
                 why_not.append(f"{job.package_id} was recorded as {job.verdict}")
                 continue
-            passed_tests = job.record_event.detail.get("passed_tests") \
-                if job.record_event else None
+            passed_tests = job.passed_tests
             why = ("its record names no passed tests" if passed_tests is None else
-                   shortfall(routine_job.planned_event.detail["requires"]
-                             if routine_job.planned_event else (), passed_tests))
+                   shortfall(routine_job.requires or (), passed_tests))
             if why is None:
                 counted[key] = (job.finished_on, (
                     f"{element} {test} ({routine_job.package_id}) counted as done on "
@@ -435,7 +675,7 @@ class JobSummary:
     locks: tuple[HeldLock, ...]
 
     @classmethod
-    def of(cls, job: JobState) -> JobSummary:
+    def of(cls, job: Job) -> JobSummary:
         return cls(job.package_id, job.state, job.since, job.by, job.item, job.title,
                    job.first_day, job.last_planned, job.entries, job.locks)
 
@@ -467,19 +707,26 @@ def routine_dates(plant: Plant, done: Mapping[tuple[str, str], dt.date],
     return sorted(due, key=lambda d: (d.due_on, d.element, d.test))
 
 
-def status(plant: Plant, jobs: Mapping[str, JobState], day: dt.date,
+def status(plant: Plant, jobs: Mapping[str, Job], day: dt.date,
            days_ahead: int) -> Status:
-    carry = carry_forward(jobs, day)
+    """The status on ``day``, from every job by package id (``fold``), or from the kept
+    jobs a store gives for the status (``status_wants`` says which): each routine test's
+    last pass and the jobs that may stand for one are among those, so both give the
+    same status (tests/test_jobstates.py holds them to it)."""
+    jobs = dict(sorted(jobs.items()))
+    # by job key, as carry_forward takes them: the order the locks are listed in
+    by_key = {job.job_key: job for job in jobs.values() if job.open}
+    done, _, _, _ = _routines(jobs, by_key, day)
     open_jobs = [JobSummary.of(job) for job in
-                 sorted(carry.open_jobs.values(), key=lambda j: j.package_id)]
-    dates = routine_dates(plant, carry.carried.routines_done, day)
+                 sorted(by_key.values(), key=lambda j: j.package_id)]
+    dates = routine_dates(plant, done, day)
     horizon = day + dt.timedelta(days=days_ahead)
     return Status(
         plant=plant.plant.name, day=day,
         open=tuple(j for j in open_jobs if j.state != "suspended"),
         suspended=tuple(j for j in open_jobs if j.state == "suspended"),
         carried_over=tuple(j for j in open_jobs if j.first_day < day),
-        locks_on=carry.carried.locks,
+        locks_on=tuple(lock for job in by_key.values() for lock in job.locks),
         overdue=tuple(d for d in dates if d.due_on < day),
         due_soon=tuple(d for d in dates if day <= d.due_on <= horizon))
 

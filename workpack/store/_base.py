@@ -9,7 +9,7 @@ from __future__ import annotations
 import datetime as dt
 import json
 import re
-from collections.abc import Callable, Iterator, Mapping, Sequence
+from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, fields
 from types import TracebackType
 from typing import Any, Protocol, Self, runtime_checkable
@@ -270,6 +270,27 @@ class RecordStore(Protocol):
         """Recompute the chain of job events; what is wrong, first problem first."""
         ...
 
+    def job_states(self, query: JobStateQuery) -> list[str] | None:
+        """The kept job states ``query`` asks for (``workpack.joblog.kept_job``'s summary
+        texts), by package id; None when the store keeps none brought up to its last job
+        event in today's version (an older store, or events an older workpack wrote):
+        fold the events then. Every write of events keeps the states of the jobs it
+        touches in its own transaction (and first those of any job written since the
+        states were last kept), outside the chain of events."""
+        ...
+
+    def kept_job_states(self) -> list[tuple[Any, ...]] | None:
+        """Every kept job state as its row (``KEPT_COLUMNS``' order), by package id, for
+        ``verify`` to compare with the states folded from the events; None where the
+        status would not read them (``job_states``)."""
+        ...
+
+    def fill_job_states(self) -> int:
+        """Keep the state of every job written since the states were last kept (all of
+        them in a store that keeps none, or none of today's version), in one
+        transaction; how many. ReadOnlyError where this role may not write."""
+        ...
+
     def verify(self, *, anchor: ChainHead | None = None) -> Verification:
         """Recompute the whole chain; the first altered, removed or reordered record."""
         ...
@@ -485,6 +506,62 @@ def planning_version() -> int:
     from workpack.records import PLANNING_SUMMARY_VERSION
 
     return PLANNING_SUMMARY_VERSION
+
+
+def kept_job_rows(events: Iterable[JobEvent]) -> list[tuple[Any, ...]]:
+    """The job-state rows a store keeps for the jobs of ``events`` (every event of each),
+    in ``KEPT_COLUMNS``' order (``workpack.joblog.kept_job``)."""
+    from workpack.joblog import kept_jobs
+
+    return [row.as_tuple() for row in kept_jobs(events)]
+
+
+def job_state_version() -> int:
+    from workpack.joblog import JOB_STATE_VERSION
+
+    return JOB_STATE_VERSION
+
+
+def kept_columns() -> tuple[str, ...]:
+    from workpack.joblog import KEPT_COLUMNS
+
+    return KEPT_COLUMNS
+
+
+@dataclass(frozen=True)
+class JobStateQuery:
+    """Which kept job states to read (``RecordStore.job_states``), any of: those the
+    status reads first (open jobs, each routine test's latest own pass, jobs completed
+    as passed that were made from other jobs' findings); jobs by package id; jobs
+    completed, not routine, for one of ``items``, finished from ``since`` to before
+    ``before``."""
+
+    for_status: bool = False
+    package_ids: tuple[str, ...] = ()
+    items: tuple[str, ...] = ()
+    since: dt.date | None = None
+    before: dt.date | None = None
+
+    def where(self, mark: str, table: str) -> tuple[str, list[Any]]:
+        """The condition on ``table`` (its alias ``a``) and its values, with ``mark`` as
+        the backend's placeholder and ``table`` naming the table and any plant filter of
+        the inner query (``workpack.job_states AS b WHERE b.plant = a.plant AND``)."""
+        parts: list[str] = []
+        params: list[Any] = []
+        if self.for_status:
+            parts.append(
+                "a.open OR a.answers_passed OR (a.own_pass_on IS NOT NULL AND NOT EXISTS "
+                f"(SELECT 1 FROM {table} b.routine_test = a.routine_test AND "
+                "b.routine_element = a.routine_element AND b.own_pass_on > a.own_pass_on))")
+        if self.package_ids:
+            parts.append(f"a.package_id IN ({', '.join([mark] * len(self.package_ids))})")
+            params += self.package_ids
+        if self.items and self.since is not None and self.before is not None:
+            parts.append(f"(a.state = 'completed' AND a.routine_test IS NULL AND a.item IN "
+                         f"({', '.join([mark] * len(self.items))}) AND a.finished_on >= "
+                         f"{mark} AND a.finished_on < {mark})")
+            params += [*self.items, self.since.isoformat(), self.before.isoformat()]
+        return " OR ".join(parts) or "false", params
 
 
 class ClosedOnExit:

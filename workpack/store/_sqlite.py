@@ -33,6 +33,7 @@ from workpack.store._base import (
     STORED_COLUMNS,
     ClosedOnExit,
     Imported,
+    JobStateQuery,
     NoSuchRecordError,
     NotAStoreError,
     PlanningRow,
@@ -41,6 +42,9 @@ from workpack.store._base import (
     StoreError,
     check_supersedes,
     in_batches,
+    job_state_version,
+    kept_columns,
+    kept_job_rows,
     last_correction,
     planning_batches,
     planning_summaries,
@@ -174,6 +178,40 @@ _PLANNING_TABLE = """CREATE TABLE IF NOT EXISTS record_planning (
     summary_json    TEXT NOT NULL,
     PRIMARY KEY (sequence, version)
 ) STRICT"""
+
+
+# Each job's state as its events leave it (``workpack.joblog.kept_job``), kept in the
+# transaction of every write of events, so the status reads the open jobs and each
+# routine test's last pass instead of folding a year of events. A derived copy outside
+# the chain of events, replaced as the job moves on (the events stay the truth and are
+# never changed); read only while ``job_states_through`` says the states were kept up to
+# the last event, in today's version, else the events are folded. ``verify`` folds the
+# events and compares every state.
+_JOB_STATES = (
+    """CREATE TABLE IF NOT EXISTS job_states (
+    package_id       TEXT PRIMARY KEY,
+    version          INTEGER NOT NULL,
+    open             INTEGER NOT NULL,
+    state            TEXT NOT NULL,
+    item             TEXT NOT NULL,
+    routine_test     TEXT,
+    routine_element  TEXT,
+    finished_on      TEXT,
+    own_pass_on      TEXT,
+    answers_passed   INTEGER NOT NULL,
+    summary_json     TEXT NOT NULL
+) STRICT""",
+    "CREATE INDEX IF NOT EXISTS job_states_open ON job_states (open)",
+    "CREATE INDEX IF NOT EXISTS job_states_by_routine ON job_states "
+    "(routine_test, routine_element, own_pass_on)",
+    "CREATE INDEX IF NOT EXISTS job_states_by_item ON job_states (item, finished_on)",
+    """CREATE TABLE IF NOT EXISTS job_states_through (
+    one           INTEGER PRIMARY KEY CHECK (one = 1),
+    version       INTEGER NOT NULL,
+    sequence      INTEGER NOT NULL,
+    chain_sha256  TEXT NOT NULL
+) STRICT""",
+)
 
 
 def _event_guards(version: int) -> dict[str, str]:
@@ -598,7 +636,90 @@ class SQLiteStore(ClosedOnExit):
         rows = next_events(tuple(last) if last else None, self._genesis, encoded)
         c.executemany(f"INSERT INTO job_events ({EVENT_COLUMNS}) VALUES "
                       "(?, ?, ?, ?, ?, ?, ?, ?, ?, ?)", [as_tuple(r) for r in rows])
+        self._keep_job_states()
         return rows
+
+    def _keep_job_states(self) -> int:
+        """The states of the jobs with events after the last kept (every job where none
+        are kept in today's version), inside the caller's write transaction; how many."""
+        c = self._conn
+        if not self._has_events():
+            return 0
+        if not self._has_table("job_states_through"):
+            for statement in _JOB_STATES:
+                c.execute(statement)
+        mark = c.execute("SELECT version, sequence FROM job_states_through").fetchone()
+        after = mark[1] if mark is not None and mark[0] == job_state_version() else 0
+        last = c.execute("SELECT sequence, chain_sha256 FROM job_events "
+                         "ORDER BY sequence DESC LIMIT 1").fetchone()
+        if last is None or last[0] == after:
+            return 0
+        events = (JobEvent.from_row(StoredEvent(*found)) for found in c.execute(
+            f"SELECT {EVENT_COLUMNS} FROM job_events WHERE package_id IN (SELECT package_id "
+            "FROM job_events WHERE sequence > ?) ORDER BY sequence", (after,)).fetchall())
+        rows = kept_job_rows(events)
+        columns = kept_columns()
+        c.executemany(
+            f"INSERT INTO job_states ({', '.join(columns)}) VALUES "
+            f"({', '.join('?' * len(columns))}) ON CONFLICT (package_id) DO UPDATE SET "
+            + ", ".join(f"{name} = excluded.{name}" for name in columns[1:]), rows)
+        c.execute("INSERT INTO job_states_through (one, version, sequence, chain_sha256) "
+                  "VALUES (1, ?, ?, ?) ON CONFLICT (one) DO UPDATE SET version = "
+                  "excluded.version, sequence = excluded.sequence, chain_sha256 = "
+                  "excluded.chain_sha256", (job_state_version(), *last))
+        return len(rows)
+
+    def _job_states_current(self) -> bool:
+        """Whether the kept job states were brought up to the last event, in today's
+        version (inside the caller's read transaction)."""
+        if not self._has_table("job_states_through"):
+            return False
+        c = self._conn
+        mark = c.execute("SELECT version, sequence, chain_sha256 FROM job_states_through"
+                         ).fetchone()
+        last = c.execute("SELECT sequence, chain_sha256 FROM job_events "
+                         "ORDER BY sequence DESC LIMIT 1").fetchone()
+        return mark is not None and last is not None and \
+            tuple(mark) == (job_state_version(), *last)
+
+    def job_states(self, query: JobStateQuery) -> list[str] | None:
+        c = self._conn
+        where, params = query.where("?", "job_states AS b WHERE")
+        with self._translate("reading job states"):
+            c.execute("BEGIN")  # one snapshot: the mark and the states it vouches for
+            try:
+                if not self._job_states_current():
+                    return None
+                return [found[0] for found in c.execute(
+                    f"SELECT a.summary_json FROM job_states AS a WHERE {where} "
+                    "ORDER BY a.package_id", params)]
+            finally:
+                self._rollback()
+
+    def kept_job_states(self) -> list[tuple[Any, ...]] | None:
+        c = self._conn
+        with self._translate("reading job states"):
+            c.execute("BEGIN")
+            try:
+                if not self._job_states_current():
+                    return None
+                return [tuple(found) for found in c.execute(
+                    f"SELECT {', '.join(kept_columns())} FROM job_states "
+                    "ORDER BY package_id")]
+            finally:
+                self._rollback()
+
+    def fill_job_states(self) -> int:
+        c = self._conn
+        with self._translate("keeping job states"):
+            c.execute("BEGIN IMMEDIATE")
+            try:
+                added = self._keep_job_states()
+                c.execute("COMMIT")
+            except BaseException:
+                self._rollback()
+                raise
+        return added
 
     def events(self, *, package_id: str | None = None) -> Iterator[JobEvent]:
         with self._translate("reading job events"):
