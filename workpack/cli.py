@@ -738,6 +738,7 @@ def _cmd_verify(args: argparse.Namespace) -> int:
     from workpack.trust_shell import (
         anchor_plant,
         check_anchor,
+        check_job_states,
         check_planning_summaries,
         check_signatures,
         check_verdicts,
@@ -772,6 +773,7 @@ def _cmd_verify(args: argparse.Namespace) -> int:
         with open_store(db, plant=name, create=False) as store:
             chains.append(_chain_report(name, store.verify()))
             checks += check_planning_summaries(store)
+            checks += check_job_states(store)
             if anchor is not None:
                 checks += check_anchor(store, anchor, f"--anchor {args.anchor}", register)
             if packages is not None:

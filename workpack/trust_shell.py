@@ -111,6 +111,26 @@ def check_planning_summaries(store: RecordStore) -> list[Finding]:
             if planning_summary(payload) != summary]
 
 
+def check_job_states(store: RecordStore) -> list[Finding]:
+    """Each job state kept beside the job events compared with the state folded from
+    the events: one line per job whose kept state differs, is missing or names no job
+    (changed outside workpack; the status would read it instead of the events), none
+    when all agree or when the status does not read them (not brought up to the last
+    event: it folds the events then)."""
+    from workpack.store._base import kept_job_rows
+
+    kept = store.kept_job_states()
+    if kept is None:
+        return []
+    found = {row[0]: tuple(row) for row in kept}
+    expected = {row[0]: row for row in kept_job_rows(store.events())}
+    return [Finding(False, f"{store.location}: job {package_id}'s kept state does not match "
+                           "its job events (changed outside workpack); the status reads it "
+                           "instead of the events: restore the store from a copy")
+            for package_id in sorted(found.keys() | expected.keys())
+            if found.get(package_id) != expected.get(package_id)]
+
+
 # --- records signed by the technician and the supervisor ---------------------------------------
 
 ROLE_PASSPHRASE = "WORKPACK_KEY_PASSPHRASE_{role}"  # per role, before WORKPACK_KEY_PASSPHRASE

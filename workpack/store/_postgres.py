@@ -48,6 +48,7 @@ from workpack.store._base import (
     STORED_COLUMNS,
     ClosedOnExit,
     Imported,
+    JobStateQuery,
     NoSuchRecordError,
     NotAStoreError,
     PlanningRow,
@@ -57,6 +58,9 @@ from workpack.store._base import (
     StoreError,
     check_supersedes,
     in_batches,
+    job_state_version,
+    kept_columns,
+    kept_job_rows,
     last_correction,
     planning_batches,
     planning_summaries,
@@ -259,6 +263,35 @@ _TABLES = (
         results_sha256  text NOT NULL,
         summary_json    text NOT NULL,
         PRIMARY KEY (plant, sequence, version))""",
+    # Each job's state as its events leave it (workpack.joblog.kept_job), kept in the
+    # transaction of every write of events; a derived copy outside the chain of events,
+    # replaced as the job moves on, read only while job_states_through says it was kept
+    # up to the plant's last event in today's version (else the events are folded). A
+    # store set up before it existed folds the events until set-up is run again.
+    """CREATE TABLE IF NOT EXISTS workpack.job_states (
+        plant            text NOT NULL,
+        package_id       text NOT NULL,
+        version          integer NOT NULL,
+        open             boolean NOT NULL,
+        state            text NOT NULL,
+        item             text NOT NULL,
+        routine_test     text,
+        routine_element  text,
+        finished_on      text,
+        own_pass_on      text,
+        answers_passed   boolean NOT NULL,
+        summary_json     text NOT NULL,
+        PRIMARY KEY (plant, package_id))""",
+    "CREATE INDEX IF NOT EXISTS job_states_open ON workpack.job_states (plant) WHERE open",
+    "CREATE INDEX IF NOT EXISTS job_states_by_routine ON workpack.job_states "
+    "(plant, routine_test, routine_element, own_pass_on)",
+    "CREATE INDEX IF NOT EXISTS job_states_by_item ON workpack.job_states "
+    "(plant, item, finished_on)",
+    """CREATE TABLE IF NOT EXISTS workpack.job_states_through (
+        plant         text PRIMARY KEY,
+        version       integer NOT NULL,
+        sequence      bigint NOT NULL,
+        chain_sha256  text NOT NULL)""",
     """CREATE TABLE IF NOT EXISTS workpack.crew_plants (
         member  name NOT NULL,
         plant   text NOT NULL CHECK (plant <> ''),
@@ -282,6 +315,14 @@ _POLICIES = (
     ("record_planning", "auditor_reads", "SELECT", AUDITOR_ROLE, "true", None),
     ("record_planning", "crew_reads_own", "SELECT", CREW_ROLE, _OWN_PLANT, None),
     ("record_planning", "crew_appends_own", "INSERT", CREW_ROLE, None, _OWN_PLANT),
+    ("job_states", "auditor_reads", "SELECT", AUDITOR_ROLE, "true", None),
+    ("job_states", "crew_reads_own", "SELECT", CREW_ROLE, _OWN_PLANT, None),
+    ("job_states", "crew_appends_own", "INSERT", CREW_ROLE, None, _OWN_PLANT),
+    ("job_states", "crew_keeps_own", "UPDATE", CREW_ROLE, _OWN_PLANT, _OWN_PLANT),
+    ("job_states_through", "auditor_reads", "SELECT", AUDITOR_ROLE, "true", None),
+    ("job_states_through", "crew_reads_own", "SELECT", CREW_ROLE, _OWN_PLANT, None),
+    ("job_states_through", "crew_appends_own", "INSERT", CREW_ROLE, None, _OWN_PLANT),
+    ("job_states_through", "crew_keeps_own", "UPDATE", CREW_ROLE, _OWN_PLANT, _OWN_PLANT),
     ("crew_plants", "auditor_reads", "SELECT", AUDITOR_ROLE, "true", None),
     ("crew_plants", "crew_reads_own", "SELECT", CREW_ROLE, "member = current_user", None),
 )
@@ -300,10 +341,19 @@ _GRANTS = (
     f"TO {AUDITOR_ROLE}, {CREW_ROLE}",
     "GRANT INSERT ON workpack.plants, workpack.records, workpack.job_events, "
     f"workpack.record_planning TO {CREW_ROLE}",
+    # The kept job states are replaced as jobs move on (the events stay append-only).
+    "REVOKE ALL ON workpack.job_states, workpack.job_states_through FROM PUBLIC",
+    "REVOKE DELETE, TRUNCATE ON workpack.job_states, workpack.job_states_through "
+    f"FROM {AUDITOR_ROLE}, {CREW_ROLE}",
+    "GRANT SELECT ON workpack.job_states, workpack.job_states_through "
+    f"TO {AUDITOR_ROLE}, {CREW_ROLE}",
+    "GRANT INSERT, UPDATE ON workpack.job_states, workpack.job_states_through "
+    f"TO {CREW_ROLE}",
 )
 
 
-_RLS_TABLES = ("plants", "records", "job_events", "record_planning", "crew_plants")
+_RLS_TABLES = ("plants", "records", "job_events", "record_planning", "job_states",
+               "job_states_through", "crew_plants")
 
 
 def _schema_statements() -> list[str]:
@@ -374,6 +424,7 @@ class PostgresStore(ClosedOnExit):
         self._busy_timeout_s = busy_timeout_s
         self._plant: str | None = None
         self._planning_table: bool | None = None
+        self._job_states_table: bool | None = None
         if plant is not None and not (isinstance(plant, str) and plant.strip()):
             raise StoreError(f"{self._shown}: the plant's name is empty; name the plant "
                              "whose records to read or write")
@@ -746,7 +797,97 @@ class PostgresStore(ClosedOnExit):
                 f"INSERT INTO workpack.job_events (plant, {EVENT_COLUMNS}) VALUES "
                 "(%s, %s, %s, %s, %s, %s, %s, %s, %s, %s, %s)",
                 [(plant, *as_tuple(row)) for row in rows])
+        self._keep_job_states(plant)
         return rows
+
+    def _has_job_states(self) -> bool:
+        """Whether the set-up made the kept job states' tables (an older one did not)."""
+        if self._job_states_table is None:
+            found = self._conn.execute(
+                "SELECT to_regclass('workpack.job_states_through')").fetchone()
+            self._job_states_table = found is not None and found[0] is not None
+        return self._job_states_table
+
+    def _keep_job_states(self, plant: str) -> int:
+        """The states of the plant's jobs with events after the last kept (every job
+        where none are kept in today's version), inside the caller's transaction, under
+        the plant's events lock; how many."""
+        c = self._conn
+        if not self._has_job_states():
+            return 0
+        mark = c.execute("SELECT version, sequence FROM workpack.job_states_through "
+                         "WHERE plant = %s", (plant,)).fetchone()
+        after = mark[1] if mark is not None and mark[0] == job_state_version() else 0
+        last = c.execute("SELECT sequence, chain_sha256 FROM workpack.job_events "
+                         "WHERE plant = %s ORDER BY sequence DESC LIMIT 1",
+                         (plant,)).fetchone()
+        if last is None or last[0] == after:
+            return 0
+        events = [JobEvent.from_row(StoredEvent(*found)) for found in c.execute(
+            f"SELECT {EVENT_COLUMNS} FROM workpack.job_events WHERE plant = %s AND "
+            "package_id IN (SELECT package_id FROM workpack.job_events WHERE plant = %s "
+            "AND sequence > %s) ORDER BY sequence", (plant, plant, after)).fetchall()]
+        rows = kept_job_rows(events)
+        columns = kept_columns()
+        with c.cursor() as cursor:
+            cursor.executemany(
+                f"INSERT INTO workpack.job_states (plant, {', '.join(columns)}) VALUES "
+                f"({', '.join(['%s'] * (len(columns) + 1))}) ON CONFLICT (plant, package_id) "
+                "DO UPDATE SET " + ", ".join(f"{name} = excluded.{name}"
+                                             for name in columns[1:]),
+                [(plant, *row) for row in rows])
+        c.execute("INSERT INTO workpack.job_states_through (plant, version, sequence, "
+                  "chain_sha256) VALUES (%s, %s, %s, %s) ON CONFLICT (plant) DO UPDATE SET "
+                  "version = excluded.version, sequence = excluded.sequence, chain_sha256 = "
+                  "excluded.chain_sha256", (plant, job_state_version(), *last))
+        return len(rows)
+
+    def _job_states_current(self, plant: str) -> bool:
+        """Whether the plant's kept job states were brought up to its last event, in
+        today's version (inside the caller's read transaction)."""
+        if not self._has_job_states():
+            return False
+        c = self._conn
+        mark = c.execute("SELECT version, sequence, chain_sha256 FROM "
+                         "workpack.job_states_through WHERE plant = %s", (plant,)).fetchone()
+        last = c.execute("SELECT sequence, chain_sha256 FROM workpack.job_events "
+                         "WHERE plant = %s ORDER BY sequence DESC LIMIT 1",
+                         (plant,)).fetchone()
+        return mark is not None and last is not None and \
+            tuple(mark) == (job_state_version(), *last)
+
+    def job_states(self, query: JobStateQuery) -> list[str] | None:
+        plant = self.plant
+        c = self._conn
+        where, params = query.where(
+            "%s", "workpack.job_states AS b WHERE b.plant = a.plant AND")
+        with self._translate("reading job states"), c.transaction():
+            c.execute("SET TRANSACTION ISOLATION LEVEL REPEATABLE READ, READ ONLY")
+            if not self._job_states_current(plant):
+                return None
+            rows = c.execute(f"SELECT a.package_id, a.summary_json FROM workpack.job_states "
+                             f"AS a WHERE a.plant = %s AND ({where})",
+                             (plant, *params)).fetchall()
+        return [text for _, text in sorted(rows)]  # Python's order, whatever the collation
+
+    def kept_job_states(self) -> list[tuple[Any, ...]] | None:
+        plant = self.plant
+        c = self._conn
+        with self._translate("reading job states"), c.transaction():
+            c.execute("SET TRANSACTION ISOLATION LEVEL REPEATABLE READ, READ ONLY")
+            if not self._job_states_current(plant):
+                return None
+            rows = c.execute(f"SELECT {', '.join(kept_columns())} FROM workpack.job_states "
+                             "WHERE plant = %s", (plant,)).fetchall()
+        return sorted(tuple(row) for row in rows)
+
+    def fill_job_states(self) -> int:
+        plant = self.plant
+        c = self._conn
+        with self._translate("keeping job states"), c.transaction():
+            c.execute("SELECT pg_advisory_xact_lock(%s::integer, hashtext(%s))",
+                      (LOCK_CLASS, "events " + plant))
+            return self._keep_job_states(plant)
 
     def events(self, *, package_id: str | None = None) -> Iterator[JobEvent]:
         plant = self.plant
