@@ -18,6 +18,7 @@ import pytest
 from workpack.cli import main
 from workpack.joblog import (
     FINISHED,
+    UNREADABLE,
     JobState,
     _standing_for_routines,
     fold,
@@ -295,3 +296,22 @@ def test_a_record_keeps_its_jobs_state_in_its_own_transaction(location: str) -> 
 
 def jobs_of(store: RecordStore) -> Iterator[JobState]:
     yield from fold(store.events()).values()
+
+
+def test_events_not_of_a_jobs_shape_are_stored_and_the_status_folds_them(
+        location: str, demo_vessel: Any) -> None:
+    """The store takes any detail; a job whose events do not read as a job's is kept
+    as unreadable, the write goes through, and the status folds the events, giving
+    what it gave before states were kept."""
+    with opened(location) as store:
+        day = dt.date(2026, 12, 2)
+        at = dt.datetime(2026, 12, 2, 8, tzinfo=dt.UTC)
+        store.append_events([
+            NewEvent("WP-SKL-20261202-01", "repair|item:WL-1", "planned", day, at, BY,
+                     {"item": "WL-1", "title": "repair"}),
+            NewEvent("WP-SKL-20261202-02", "repair|item:SG-1", "suspended", day, at, BY,
+                     {"locks": ["not a lock"]})])
+        kept = store.job_states(JobStateQuery(for_status=True)) or []
+        assert UNREADABLE in kept and check_job_states(store) == []
+        with pytest.raises(TypeError):  # what the folded status always did with it
+            status(demo_vessel.plant, jobs_for_status(store, day), day, 14)

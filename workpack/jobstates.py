@@ -11,7 +11,7 @@ from __future__ import annotations
 import datetime as dt
 from collections.abc import Mapping
 
-from workpack.joblog import Job, fold, job_from_kept, status_wants
+from workpack.joblog import UNREADABLE, Job, fold, job_from_kept, status_wants
 from workpack.store import RecordStore
 from workpack.store._base import JobStateQuery
 
@@ -19,7 +19,7 @@ from workpack.store._base import JobStateQuery
 def jobs_for_status(store: RecordStore, day: dt.date) -> Mapping[str, Job]:
     """The jobs ``joblog.status`` needs for ``day``, by package id."""
     kept = store.job_states(JobStateQuery(for_status=True))
-    if kept is None:
+    if kept is None or UNREADABLE in kept:
         return fold(store.events())
     jobs: dict[str, Job] = {job.package_id: job for job in map(job_from_kept, kept)}
     wants = status_wants(jobs, day)
@@ -27,7 +27,7 @@ def jobs_for_status(store: RecordStore, day: dt.date) -> Mapping[str, Job]:
         more = store.job_states(JobStateQuery(package_ids=wants.package_ids,
                                               items=wants.items, since=wants.since,
                                               before=wants.before))
-        if more is None:  # events written meanwhile by an older workpack
-            return fold(store.events())
+        if more is None or UNREADABLE in more:  # events written meanwhile by an older
+            return fold(store.events())        # workpack, or not of a job's shape
         jobs.update((job.package_id, job) for job in map(job_from_kept, more))
     return jobs
