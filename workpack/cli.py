@@ -721,7 +721,7 @@ def _cmd_locks(args: argparse.Namespace) -> int:
     if not is_server_url(db) and not Path(db).exists():
         raise UsageError(f"--db {db}: no such records store")
     with open_store(db, plant=plant, create=False) as store:
-        uses = stored_locks(store.records(), on_only=True)
+        uses = stored_locks(store.lock_records(), on_only=True)
         where = store.location
     on = [lock for lock in locks_on(uses) if lock.plant == plant]
     if args.json:

@@ -36,7 +36,7 @@ from typing import Protocol
 
 from workpack.checks import Mismatch, Path
 from workpack.model.results import LockBoxRecord, LockRecord, LockTransfer, Results
-from workpack.records import StoredRecord, read_for_locks, superseded_by
+from workpack.records import StoredRecord, may_leave_locks, read_for_locks, superseded_by
 
 
 class _FinalLocked(Protocol):
@@ -431,8 +431,6 @@ def results_locks(results: Results | _Locked, plant: str, job: str, *, sequence:
     return uses, boxes, reader.problems
 
 
-# A lock not recorded as removed, as a payload's JSON text writes it (any spacing).
-_NOT_REMOVED = re.compile(r'"removed_at"\s*:\s*null')
 
 
 def stored_locks(records: Iterable[StoredRecord], *, on_only: bool = False,
@@ -457,7 +455,7 @@ def stored_locks(records: Iterable[StoredRecord], *, on_only: bool = False,
         if record.sequence in superseded:
             continue
         text = record.results_json
-        if on_only and not _NOT_REMOVED.search(text):
+        if on_only and not may_leave_locks(text):
             continue
         if wanted is not None and not wanted.search(text):
             continue

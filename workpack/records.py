@@ -30,7 +30,8 @@ The payload
 Planning summaries
     Planning reads every record of the plant every day, so a store keeps beside each
     record, in the record's transaction, the short ``planning_summary`` of its payload:
-    ``planning_facts`` read through ``PlanningView`` (the same payloads left out), with
+    ``planning_facts`` read through ``PlanningView`` (the same payloads left out), and
+    whether it may leave a lock on (``may_leave_locks``, for the lock register), with
     ``PLANNING_SUMMARY_VERSION``. The planner reads the summaries
     (``RecordStore.planning_records``) and reads a payload whole only where its record has
     no summary of this version (an older store, until a plan fills them in). They are
@@ -54,6 +55,7 @@ from __future__ import annotations
 
 import datetime as dt
 import json
+import re
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any, Generic, Protocol, TypeVar
@@ -87,6 +89,7 @@ __all__ = [
     "entered_text",
     "is_bare_number",
     "latest_effective",
+    "may_leave_locks",
     "read_back",
     "read_for_locks",
     "read_for_planning",
@@ -313,7 +316,19 @@ def read_back(record: R) -> ReadBack[R]:
 # The version of ``planning_summary``'s text and of the reading behind it: a store keeps
 # each record's summary with this number, and a summary of another number is not used
 # (the payload is read again), so a change here never leaves planning on stale summaries.
-PLANNING_SUMMARY_VERSION = 1
+# 2: the summary also says whether the payload may leave a lock on (``may_leave_locks``),
+# so the lock register reads only those payloads (``RecordStore.lock_records``).
+PLANNING_SUMMARY_VERSION = 2
+
+# A lock not recorded as removed, as a payload's JSON text writes it (any spacing).
+_NOT_REMOVED = re.compile(r'"removed_at"\s*:\s*null')
+
+
+def may_leave_locks(results_json: str) -> bool:
+    """Whether a payload's text names a lock not recorded as removed: told without
+    parsing it; every payload that leaves a lock on does (``lockregister.stored_locks``
+    reads only those for the locks on now)."""
+    return _NOT_REMOVED.search(results_json) is not None
 
 
 @dataclass(frozen=True)
@@ -361,10 +376,11 @@ def planning_summary(results_json: str) -> str:
     record (written in the record's transaction), so planning need not read every
     payload of the plant each day. ``facts_from_summary`` reads it back unchanged."""
     facts = planning_facts(results_json)
+    locks = may_leave_locks(results_json)
     if not facts.readable:
-        return json.dumps({"readable": False})
+        return json.dumps({"locks_on": locks, "readable": False}, separators=(",", ":"))
     return json.dumps({
-        "readable": True,
+        "locks_on": locks, "readable": True,
         "completed_on": facts.completed_on.isoformat() if facts.completed_on else None,
         "ground_found_at": facts.ground_found_at,
         "readings": [[r.element, r.measured_si, r.low, r.temperature_c, r.code_set]

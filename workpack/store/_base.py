@@ -237,6 +237,14 @@ class RecordStore(Protocol):
         payload itself (records written before summaries were kept)."""
         ...
 
+    def lock_records(self) -> Iterator[Record]:
+        """The effective records (none superseded) that may leave a lock on, in sequence
+        order: those whose kept summary says so (``workpack.records.may_leave_locks``)
+        and those with no summary of today's version; the others' payloads are not
+        read. ``lockregister.stored_locks(..., on_only=True)`` gives from them what it
+        gives from every record."""
+        ...
+
     def kept_summaries(self) -> Iterator[tuple[int, str, str]]:
         """(sequence, payload, summary) of each record with a planning summary of today's
         version kept for its payload, in sequence order: for ``verify`` to recompute,

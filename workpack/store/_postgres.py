@@ -749,6 +749,32 @@ class PostgresStore(ClosedOnExit):
                 return self._conn.execute(query, (*version, plant, after)).fetchall()
         yield from planning_batches(fetch, self.location)
 
+    def lock_records(self) -> Iterator[Record]:
+        plant = self.plant
+        with self._translate("reading"):
+            summaries = self._has_planning()
+        effective = ("NOT EXISTS (SELECT 1 FROM workpack.records AS c WHERE c.plant = "
+                     "r.plant AND c.supersedes = r.sequence)")
+        if summaries:
+            query = (f"SELECT {', '.join('r.' + c for c in _COLUMNS.split(', '))} FROM "
+                     "workpack.records AS r LEFT JOIN workpack.record_planning AS p ON "
+                     "p.plant = r.plant AND p.sequence = r.sequence AND p.version = %s AND "
+                     "p.results_sha256 = r.results_sha256 WHERE r.plant = %s AND "
+                     f"r.sequence > %s AND {effective} AND (p.summary_json IS NULL OR "
+                     "strpos(p.summary_json, '\"locks_on\":true') > 0) "
+                     f"ORDER BY r.sequence LIMIT {BATCH}")
+            version: tuple[int, ...] = (planning_version(),)
+        else:
+            query = (f"SELECT {_COLUMNS} FROM workpack.records AS r WHERE r.plant = %s AND "
+                     f"r.sequence > %s AND {effective} ORDER BY r.sequence LIMIT {BATCH}")
+            version = ()
+
+        def fetch(after: int) -> list[Any]:
+            with self._translate("reading"):
+                return self._conn.execute(query, (*version, plant, after)).fetchall()
+        for row in in_batches(fetch):
+            yield Record.from_row(row, self.location, plant)
+
     def head(self) -> ChainHead | None:
         plant = self.plant
         with self._translate("reading"):

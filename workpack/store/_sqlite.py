@@ -591,6 +591,30 @@ class SQLiteStore(ClosedOnExit):
                 return self._conn.execute(query, (*version, after)).fetchall()
         yield from planning_batches(fetch, self._location)
 
+    def lock_records(self) -> Iterator[Record]:
+        with self._translate("reading"):
+            summaries = self._has_table("record_planning")
+        effective = ("NOT EXISTS (SELECT 1 FROM records AS c WHERE c.supersedes = "
+                     "r.sequence)")
+        if summaries:
+            query = (f"SELECT {', '.join('r.' + c for c in _COLUMNS.split(', '))} FROM "
+                     "records AS r LEFT JOIN record_planning AS p ON p.sequence = "
+                     "r.sequence AND p.version = ? AND p.results_sha256 = r.results_sha256 "
+                     f"WHERE r.sequence > ? AND {effective} AND (p.summary_json IS NULL OR "
+                     "instr(p.summary_json, '\"locks_on\":true') > 0) "
+                     f"ORDER BY r.sequence LIMIT {BATCH}")
+            version: tuple[int, ...] = (planning_version(),)
+        else:
+            query = (f"SELECT {_COLUMNS} FROM records AS r WHERE r.sequence > ? AND "
+                     f"{effective} ORDER BY r.sequence LIMIT {BATCH}")
+            version = ()
+
+        def fetch(after: int) -> list[Any]:
+            with self._translate("reading"):
+                return self._conn.execute(query, (*version, after)).fetchall()
+        for row in in_batches(fetch):
+            yield Record.from_row(row, self._location, self._plant)
+
     def head(self) -> ChainHead | None:
         with self._translate("reading"):
             found = self._conn.execute("SELECT sequence, chain_sha256 FROM records "
