@@ -499,6 +499,14 @@ def _walk_far_side(topology: Topology, start: State, blocked: set[str],
             reached = (neighbour, neighbour if inputs and node in inputs else passed)
             if reached not in parent:
                 parent[reached] = state
+                if first_only and neighbour in sources:
+                    # The queue is first in, first out: the first source put in is the
+                    # first taken out, so stopping here finds the same one by the same
+                    # path, and asks about fewer nodes (more walks are reused).
+                    found.append(neighbour)
+                    nearest = reached
+                    queue.clear()
+                    break
                 queue.append(reached)
     path: tuple[str, ...] | None = None
     if nearest is not None:
