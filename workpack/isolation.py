@@ -796,8 +796,9 @@ class _Pieces:
             for neighbour, count in piece.next_to.items():
                 less[neighbour] = less.get(neighbour, 0) + count
 
-        def gone(node: str) -> bool:
-            return node in blocked or any(node in piece.members for piece in walked)
+        gone = set(blocked)  # asked for every changeover of the part: one set, not a scan
+        for piece in walked:
+            gone |= piece.members
 
         counts = self.parts.sources[part]
         sources = self.parts.source_bits[part]
@@ -805,9 +806,9 @@ class _Pieces:
             if count >= counts[node]:  # every member next to it is blocked or walked
                 sources &= ~self.bit[node]
         steps = [(member, switch) for member, switch in self.parts.changeovers[part]
-                 if not gone(member)]
+                 if member not in gone]
         touching = sorted({node for node in inside if node in self.starts and any(
-            neighbour in self.parts.part_of and not gone(neighbour)
+            neighbour in self.parts.part_of and neighbour not in gone
             for neighbour in self.adjacency[node])})
         self.rests[part] = (sources & ~self.blocked_sources, steps, touching)
 
