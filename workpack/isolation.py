@@ -340,6 +340,8 @@ def _far_sides_of(topology: Topology, item_id: str, near: _ItemSide) -> dict[str
         if candidate in normal_path and (clear := normal_supply_clear(candidate)) is not None:
             walked[candidate] = clear
     searched = {d: state for d, state in frontier.items() if d not in walked}
+    if not searched:  # every device is on a clear normal supply (most final tests)
+        return walked
     for candidate, sources in _far_sides(topology, searched, blocked).items():
         if sources is None:  # the one search cannot stand in for this device's own walk
             walked[candidate] = _far_side(topology, searched[candidate],
