@@ -315,3 +315,31 @@ def test_events_not_of_a_jobs_shape_are_stored_and_the_status_folds_them(
         assert UNREADABLE in kept and check_job_states(store) == []
         with pytest.raises(TypeError):  # what the folded status always did with it
             status(demo_vessel.plant, jobs_for_status(store, day), day, 14)
+
+
+def test_a_crew_role_keeps_its_plants_job_states_and_an_auditor_reads_them(
+        pg_server: Any, pg_fresh_url: str, demo_vessel: Any) -> None:
+    """In the office store the crew role that writes a plant's events keeps its job
+    states (insert, then update as the jobs move on), under row-level security; the
+    auditor reads the status from them and cannot write them."""
+    from workpack.store import ReadOnlyError, set_up_store
+
+    for role in ("crew_jobstates", "audit_jobstates"):
+        pg_server.create_login_role(role)
+    set_up_store(pg_fresh_url, crew=[("crew_jobstates", "MV Aster")],
+                 auditors=["audit_jobstates"])
+    crew = pg_fresh_url.replace("workpack_admin@", "crew_jobstates@", 1)
+    auditor = pg_fresh_url.replace("workpack_admin@", "audit_jobstates@", 1)
+    plant = demo_vessel.plant
+    batches = random_history(random.Random(8), plant, 12)
+    with open_store(crew, plant="MV Aster") as store:
+        for batch in batches:
+            store.append_events(batch)
+        assert check_job_states(store) == []
+    day = max(e.day for batch in batches for e in batch) + dt.timedelta(days=1)
+    with open_store(auditor, plant="MV Aster", create=False) as store:
+        assert store.job_states(JobStateQuery(for_status=True)) is not None
+        folded, kept = both_ways(store, plant, day)
+        assert kept == folded
+        with pytest.raises(ReadOnlyError):
+            store.append_events(batches[0])
