@@ -78,7 +78,9 @@ TIGHT = [("TOPPADDING", (0, 0), (-1, -1), 0.8 * mm),
 
 class PackagePdf(PdfDocument):
     """One work package, in the order the job is done: what and why, hazards, figures,
-    isolation, proving dead, steps, acceptance, restoration, sign-off."""
+    isolation, proving dead, steps, acceptance, restoration, sign-off (where a package
+    isolates nothing, its isolation and proving dead sections say so before the
+    figures)."""
 
     field_height_mm: ClassVar[float] = 8.5
     tick_mm: ClassVar[float] = 6.5
@@ -139,11 +141,19 @@ class PackagePdf(PdfDocument):
         parts: list[Flowable] = [Paragraph(words(self.package.title), self.style["title"])]
         parts += self.job_block()
         parts += self.hazard_block()
-        parts += self.figures()
         before = [s for s in self.package.steps if s.before_isolation]
-        parts += self.steps_block(before, "Before the isolation", "step")
-        parts += self.isolation_block()
-        parts += self.proving_dead_block()
+        if before or not self.isolates_nothing():
+            parts += self.figures()  # the lock points are on the sketch: before the locks
+            parts += self.steps_block(before, "Before the isolation", "step")
+            parts += self.isolation_block()
+            parts += self.proving_dead_block()
+        else:
+            # the isolation and proving dead only say there are none (a search works on
+            # live feeders; its final tests lock their own circuit): said first, the
+            # figures then stand right before the steps that use them
+            parts += self.isolation_block()
+            parts += self.proving_dead_block()
+            parts += self.figures()
         parts += self.work_steps_block([s for s in self.package.steps
                                         if not s.before_isolation])
         parts += self.final_tests_block(self.package.final_tests)
@@ -151,6 +161,14 @@ class PackagePdf(PdfDocument):
         parts += self.steps_block(self.package.restoration, "Restoration", "restore")
         parts += self.sign_off_block()
         return parts
+
+    def isolates_nothing(self) -> bool:
+        """The package's isolation and proving dead sections say only that there are
+        none: no lock, no lock still on, no supply or stored energy to warn of, no place
+        to prove dead."""
+        p = self.package
+        return not (p.isolation or p.locks_on or p.isolation_gaps or p.stored_energy
+                    or p.proving_dead)
 
     # -- work steps, a search among them as a decision table and a tree
     def work_steps_block(self, steps: Sequence[Step]) -> list[Flowable]:
