@@ -1,5 +1,6 @@
 """Galvanic islands, detectors and supply paths of the demo vessel."""
 
+from workpack.model.plant import Plant
 from workpack.topology import Topology
 
 
@@ -141,3 +142,71 @@ def test_closable_parts_are_the_components_between_sources_and_changeovers() -> 
                                                   for s in parts.sources[part])
         cut_at_changeovers += any(parts.changeovers)
     assert cut_at_changeovers >= 5
+
+
+def _mesh_plant(levels: int, ring: bool) -> Plant:
+    """Two generators over ``levels`` pairs of boards, each board fed from both boards
+    above it: the normal supply paths double at every level (invented). With ``ring``
+    the first board is fed from the last as well, a ring of normal supplies."""
+    devices = [{"id": "DG1", "kind": "circuit_breaker", "from": "G1"},
+               {"id": "DG2", "kind": "circuit_breaker", "from": "G2"}]
+    buses: list[dict[str, object]] = []
+    above = ["DG1", "DG2"]
+    for level in range(levels):
+        for side in "ab":
+            buses.append({"id": f"B{level}{side}", "kind": "switchboard", "voltage": 440,
+                          "earthing": "insulated", "from": list(above)})
+            devices.append({"id": f"D{level}{side}", "kind": "circuit_breaker",
+                            "from": f"B{level}{side}"})
+        above = [f"D{level}a", f"D{level}b"]
+    if ring:
+        devices.append({"id": "DR", "kind": "circuit_breaker", "from": f"B{levels - 1}a"})
+        buses[0]["from"] = ["DG1", "DG2", "DR"]
+    return Plant.model_validate({
+        "plant": {"code": "MSH", "name": "mesh", "kind": "other", "frequency": 60},
+        "sources": [{"id": "G1", "kind": "generator", "voltage": 440},
+                    {"id": "G2", "kind": "generator", "voltage": 440}],
+        "buses": buses, "devices": devices, "cables": [], "loads": []})
+
+
+def test_normal_supply_paths_built_node_by_node_are_every_simple_path() -> None:
+    """``normal_supply_paths`` builds each node's paths from the nodes above it. Below
+    PATH_LIMIT they are every simple path up the normal supplies, as networkx's
+    ``all_simple_paths`` finds them over the same steps; at the limit, and round a ring
+    of normal supplies, they are what the plain walk keeps (its first PATH_LIMIT)."""
+    import networkx as nx
+    from plantgen import random_plant
+
+    from workpack.topology import PATH_LIMIT, element_of
+
+    def steps_up(topology: Topology) -> nx.DiGraph:
+        graph = nx.DiGraph()
+        for node in topology.graph:
+            graph.add_node(node)
+            if node not in topology.source_nodes:
+                graph.add_edges_from((node, up) for up in topology._upward(node)
+                                     if element_of(up) not in topology.normally_open)
+        return graph
+
+    checked = 0
+    for topology in [Topology(random_plant(seed, size=150)) for seed in range(15)] + [
+            Topology(_mesh_plant(4, ring=False))]:
+        graph = steps_up(topology)
+        for element_id in sorted(topology.elements):
+            start = topology.node_in(element_id)
+            expected = sorted(tuple(reversed(path)) for path in nx.all_simple_paths(
+                graph, start, set(topology.source_nodes) - {start}))
+            if start in topology.source_nodes:
+                expected = [(start,)]
+            assert topology.normal_supply_paths(element_id) == expected, element_id
+            checked += 1
+    assert checked > 1500
+    for ring in (False, True):  # 2 ** 9 paths to the last boards; a ring
+        topology = Topology(_mesh_plant(8, ring))
+        for element_id in ("B0a", "B3b", "B7a"):
+            start = topology.node_in(element_id)
+            paths = topology.normal_supply_paths(element_id)
+            assert paths == topology._walked_supply_paths(start)
+            assert len(paths) <= PATH_LIMIT
+        assert len(topology.normal_supply_paths("B7a")) == PATH_LIMIT
+        assert topology._paths_to.get("B7a") is None  # the plain walk answered

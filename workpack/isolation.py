@@ -340,6 +340,8 @@ def _far_sides_of(topology: Topology, item_id: str, near: _ItemSide) -> dict[str
         if candidate in normal_path and (clear := normal_supply_clear(candidate)) is not None:
             walked[candidate] = clear
     searched = {d: state for d, state in frontier.items() if d not in walked}
+    if not searched:  # every device is on a clear normal supply (most final tests)
+        return walked
     for candidate, sources in _far_sides(topology, searched, blocked).items():
         if sources is None:  # the one search cannot stand in for this device's own walk
             walked[candidate] = _far_side(topology, searched[candidate],
@@ -499,6 +501,14 @@ def _walk_far_side(topology: Topology, start: State, blocked: set[str],
             reached = (neighbour, neighbour if inputs and node in inputs else passed)
             if reached not in parent:
                 parent[reached] = state
+                if first_only and neighbour in sources:
+                    # The queue is first in, first out: the first source put in is the
+                    # first taken out, so stopping here finds the same one by the same
+                    # path, and asks about fewer nodes (more walks are reused).
+                    found.append(neighbour)
+                    nearest = reached
+                    queue.clear()
+                    break
                 queue.append(reached)
     path: tuple[str, ...] | None = None
     if nearest is not None:
@@ -788,8 +798,9 @@ class _Pieces:
             for neighbour, count in piece.next_to.items():
                 less[neighbour] = less.get(neighbour, 0) + count
 
-        def gone(node: str) -> bool:
-            return node in blocked or any(node in piece.members for piece in walked)
+        gone = set(blocked)  # asked for every changeover of the part: one set, not a scan
+        for piece in walked:
+            gone |= piece.members
 
         counts = self.parts.sources[part]
         sources = self.parts.source_bits[part]
@@ -797,9 +808,9 @@ class _Pieces:
             if count >= counts[node]:  # every member next to it is blocked or walked
                 sources &= ~self.bit[node]
         steps = [(member, switch) for member, switch in self.parts.changeovers[part]
-                 if not gone(member)]
+                 if member not in gone]
         touching = sorted({node for node in inside if node in self.starts and any(
-            neighbour in self.parts.part_of and not gone(neighbour)
+            neighbour in self.parts.part_of and neighbour not in gone
             for neighbour in self.adjacency[node])})
         self.rests[part] = (sources & ~self.blocked_sources, steps, touching)
 

@@ -127,6 +127,8 @@ class Topology:
         self._closable: dict[frozenset[str], nx.Graph] = {}
         self._normal: dict[frozenset[str], nx.Graph] = {}
         self._supply_paths: dict[str, tuple[tuple[str, ...], ...]] = {}  # asked again and again
+        # node → its normal supply paths, or None where there are PATH_LIMIT or more
+        self._paths_to: dict[str, tuple[tuple[str, ...], ...] | None] = {}
         self._below: dict[str, tuple[str, ...]] = {}  # so is every lock's subtree
         self._auxiliary_feeds: dict[str, tuple[str, ...]] = {}
         self._build()
@@ -490,6 +492,73 @@ class Topology:
 
     def _normal_supply_paths(self, element_id: str) -> list[tuple[str, ...]]:
         start = self.node_in(element_id)
+        known = self._built_paths_to(start)
+        if known is not None:
+            return sorted(known)
+        return self._walked_supply_paths(start)
+
+    def _upward(self, node: str) -> list[str]:
+        """The nodes one step up a normal supply path from ``node``."""
+        element = self.elements[element_of(node)]
+        if node.endswith(":secondary"):
+            return [primary(element.id)]
+        if isinstance(element, FedElement):
+            supplies = element.from_[:1] if (
+                isinstance(element, Device) and element.kind is DeviceKind.transfer_switch
+            ) else element.from_
+            return [self.node_out(s) for s in supplies if s in self.elements]
+        return []
+
+    def _built_paths_to(self, start: str) -> tuple[tuple[str, ...], ...] | None:
+        """Every normal supply path to ``start``, each node's built once from those of the
+        nodes above it and kept for the next element: a deep board costs its depth, not
+        its depth squared, and every element below it reuses it. None when a ring of
+        normal supplies is met or PATH_LIMIT paths are reached on the way: then only
+        ``_walked_supply_paths`` gives the same answer (it skips what a ring repeats and
+        keeps the first PATH_LIMIT paths it meets)."""
+        memo = self._paths_to
+        if start in memo:
+            return memo[start]
+        sources = self.source_nodes
+        open_elements = self.normally_open
+        ups: dict[str, list[str]] = {}
+        on_way: set[str] = set()  # entered and not yet finished: a node met again is a ring
+        stack: list[tuple[str, bool]] = [(start, False)]
+        while stack:
+            node, entered = stack.pop()
+            if not entered:
+                if node in memo:
+                    continue
+                if node in on_way:
+                    return None
+                if node in sources:
+                    memo[node] = ((node,),)
+                    continue
+                above = [up for up in self._upward(node)
+                         if element_of(up) not in open_elements]
+                if node in above or any(up in on_way for up in above):
+                    return None
+                ups[node] = above
+                on_way.add(node)
+                stack.append((node, True))
+                stack.extend((up, False) for up in above if up not in memo)
+                continue
+            on_way.discard(node)
+            paths: list[tuple[str, ...]] = []
+            for up in ups[node]:
+                known = memo[up]
+                if known is None:
+                    paths = []
+                    break
+                paths += [(*path, node) for path in known]
+            else:
+                if len(paths) < PATH_LIMIT:
+                    memo[node] = tuple(paths)
+                    continue
+            memo[node] = None
+        return memo[start]
+
+    def _walked_supply_paths(self, start: str) -> list[tuple[str, ...]]:
         paths: list[tuple[str, ...]] = []
         stack: list[tuple[str, tuple[str, ...]]] = [(start, (start,))]
         while stack and len(paths) < PATH_LIMIT:
@@ -498,15 +567,7 @@ class Topology:
             if isinstance(element, Source):
                 paths.append(tuple(reversed(path)))
                 continue
-            if node.endswith(":secondary"):
-                upward = [primary(element.id)]
-            elif isinstance(element, FedElement):
-                supplies = element.from_[:1] if (
-                    isinstance(element, Device) and element.kind is DeviceKind.transfer_switch
-                ) else element.from_
-                upward = [self.node_out(s) for s in supplies if s in self.elements]
-            else:
-                upward = []
+            upward = self._upward(node)
             for up in sorted(upward, reverse=True):
                 if up in path or element_of(up) in self.normally_open:
                     continue

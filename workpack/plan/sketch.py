@@ -123,16 +123,20 @@ class _Routes:
         first: tuple[str, str | None] = (topology.node_out(start), None)
         parent: dict[tuple[str, str | None], tuple[str, str | None] | None] = {first: None}
         queue: deque[tuple[str, str | None]] = deque([first])
+
+        def chain_to(state: tuple[str, str | None]) -> list[str]:
+            chain = []
+            step: tuple[str, str | None] | None = state
+            while step is not None:
+                chain.append(element_of(step[0]))
+                step = parent[step]
+            return list(dict.fromkeys(chain))  # source first
+
+        if first[0] in sources:
+            return chain_to(first)
         while queue:
             state = queue.popleft()
             node, passed = state
-            if node in sources:
-                chain = []
-                step: tuple[str, str | None] | None = state
-                while step is not None:
-                    chain.append(element_of(step[0]))
-                    step = parent[step]
-                return list(dict.fromkeys(chain))  # source first
             # Topology.onward, written out (a lock's route is walked for every package)
             blocked_inputs = switches.get(node) if passed == node else None
             for neighbour in adjacency.get(node, ()):
@@ -143,6 +147,9 @@ class _Routes:
                 reached = (neighbour, neighbour if inputs and node in inputs else passed)
                 if reached not in parent:
                     parent[reached] = state
+                    if neighbour in sources:
+                        # first in, first out: the first source put in is the nearest
+                        return chain_to(reached)
                     queue.append(reached)
         return []
 
