@@ -210,9 +210,50 @@ def _acceptance(rule: CompiledRule, context: Mapping[str, Any], steps: Sequence[
            for step in (*test.steps, *test.restoration) for r in step.readings):
         lines.append(FINAL_TESTS_ACCEPTANCE)
     for step in (*steps, *restoration):
-        for reading in step.readings:
-            if reading.limit is not None and reading.acceptance:
-                lines.append(f"{reading.id} {reading.what}: "
-                             f"{reading.limit.describe(reading.unit)} ({reading.limit.basis})")
+        judged = [r for r in step.readings if r.limit is not None and r.acceptance]
+        # one line for a step's readings under the same limit from the same source (the
+        # three phases of one board): every id, what and limit as on separate lines
+        groups: dict[tuple[str, str], list[Reading]] = {}
+        for reading in judged:
+            assert reading.limit is not None
+            key = (reading.limit.describe(reading.unit), reading.limit.basis)
+            groups.setdefault(key, []).append(reading)
+        for (limit, basis), same in groups.items():
+            each = "each " if len(same) > 1 else ""
+            lines.append(f"{_readings_named(same)}: {each}{limit} ({basis})")
     return tuple(lines)
 
+
+def _readings_named(readings: Sequence[Reading]) -> str:
+    """'X3.R1 phase A to earth at MSB' for one reading; for several whose wording ends
+    alike, the end said once: 'X3.R1 phase A, X3.R2 phase B and X3.R3 phase C to earth
+    at MSB'. The shared end starts at a word and never inside brackets; otherwise each
+    reading is named in full."""
+    named = [(r.id, r.what.split(" ")) for r in readings]
+    if len(named) == 1:
+        return f"{named[0][0]} {' '.join(named[0][1])}"
+    shortest = min(len(words) for _, words in named)
+    common = 0  # words every wording ends with, leaving each at least one of its own
+    while common < shortest - 1 and len({tuple(w[len(w) - common - 1:]) for _, w in named}) == 1:
+        common += 1
+    for shared in range(common, -1, -1):
+        heads = [" ".join(words[:len(words) - shared]) for _, words in named]
+        tail = " ".join(named[0][1][len(named[0][1]) - shared:])
+        if all(_balanced(text) for text in (*heads, tail)):
+            break
+    comma = shared > 0 and all(head.endswith(",") for head in heads)
+    heads = [f"{rid} {head.removesuffix(',') if comma else head}"
+             for (rid, _), head in zip(named, heads, strict=True)]
+    listed = ", ".join(heads[:-1]) + " and " + heads[-1]
+    if not shared:
+        return listed
+    return f"{listed}{',' if comma else ''} {tail}"
+
+
+def _balanced(text: str) -> bool:
+    depth = 0
+    for char in text:
+        depth += {"(": 1, ")": -1}.get(char, 0)
+        if depth < 0:
+            return False
+    return depth == 0

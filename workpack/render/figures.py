@@ -369,20 +369,23 @@ def fit_sketch(sketch: Sketch, width: tuple[float, float], max_height: float, fo
     measure = _measure(font, bold)
 
     def attempt(candidate: Sketch) -> SketchLayout | None:
-        """The candidate's layout within the room, its stacks set in as few columns as
-        that takes; None when it does not fit."""
+        """The candidate's layout within the room, its stacks set in as many columns as
+        the width allows (the shortest picture: it leaves the most of the page to the
+        procedure); None when it does not fit."""
         longest = longest_stack(candidate, measure)
+        shortest: SketchLayout | None = None
         for columns in range(1, max(1, min(longest, 12)) + 1):
             per_column = -(-longest // columns) if longest else None
             if columns > 1 and per_column == -(-longest // (columns - 1)):
                 continue  # the same stacks as one column fewer
             needed = width_needed(candidate, measure, widest, per_column)
             if needed > widest + 0.01:
-                return None  # more columns are only wider
+                break  # more columns are only wider
             layout = layout_sketch(candidate, max(narrowest, needed), measure, per_column)
-            if layout is not None and layout.height <= max_height:
-                return layout
-        return None
+            if layout is not None and layout.height <= max_height and (
+                    shortest is None or layout.height < shortest.height - 0.01):
+                shortest = layout
+        return shortest
 
     stands_for: dict[str, str] = {}
 
@@ -514,4 +517,5 @@ def sketch_legend() -> Sequence[str]:
     return ("Supply above, load below: every way energy could reach the item (double "
             "frame); heavy frame: bus; a line up the right edge feeds back to a board above.",
             "Open contact with a padlock, and LOCK: an isolation point of this package; "
-            "N.O.: normally open; step n: the search step that first opens it.")
+            "N.O.: normally open; step n, or (n) after a name: the search step that first "
+            "opens it.")

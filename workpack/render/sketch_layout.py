@@ -95,13 +95,20 @@ class SketchLayout:
 def node_lines(node: SketchNode, stacked: bool = False) -> list[tuple[str, bool]]:
     """The text lines of a box: its label, then what else it is (bold for a board and
     the item)."""
+    step = node.search_step
+    bold = node.kind in ("item", "bus")
+    if stacked:
+        # one line beside the trunk: the search step in brackets after the name, so the
+        # stacks of a big board fit side by side (sketch_legend says what it means)
+        detail = ", ".join(part for part in (
+            node.detail, "N.O." if node.normally_open else "", "LOCK" if node.isolate else "")
+            if part)
+        text = node.label + (f"  {detail}" if detail else "")
+        return [(text + (f" ({step})" if step is not None else ""), bold)]
     detail = ", ".join(part for part in (
         node.detail, "N.O." if node.normally_open else "",
-        f"step {node.search_step}" if node.search_step is not None else "",
+        f"step {step}" if step is not None else "",
         "LOCK" if node.isolate else "") if part)
-    bold = node.kind in ("item", "bus")
-    if stacked and detail:
-        return [(f"{node.label}  {detail}", bold)]
     # an isolation point's second line is bold: LOCK must stand out in black and white
     return [(node.label, bold)] + ([(detail, node.isolate)] if detail else [])
 

@@ -78,7 +78,9 @@ TIGHT = [("TOPPADDING", (0, 0), (-1, -1), 0.8 * mm),
 
 class PackagePdf(PdfDocument):
     """One work package, in the order the job is done: what and why, hazards, figures,
-    isolation, proving dead, steps, acceptance, restoration, sign-off."""
+    isolation, proving dead, steps, acceptance, restoration, sign-off (where a package
+    isolates nothing, its isolation and proving dead sections say so before the
+    figures)."""
 
     field_height_mm: ClassVar[float] = 8.5
     tick_mm: ClassVar[float] = 6.5
@@ -139,21 +141,53 @@ class PackagePdf(PdfDocument):
         parts: list[Flowable] = [Paragraph(words(self.package.title), self.style["title"])]
         parts += self.job_block()
         parts += self.hazard_block()
-        parts += self.figures()
         before = [s for s in self.package.steps if s.before_isolation]
-        parts += self.steps_block(before, "Before the isolation", "step")
-        parts += self.isolation_block()
-        parts += self.proving_dead_block()
-        parts += self.work_steps_block([s for s in self.package.steps
-                                        if not s.before_isolation])
+        work = [s for s in self.package.steps if not s.before_isolation]
+        if before or not self.isolates_nothing():
+            parts += self.figures()  # the lock points are on the sketch: before the locks
+            parts += self.steps_block(before, "Before the isolation", "step")
+            parts += self.isolation_block()
+            parts += self.proving_dead_block()
+            parts += self.work_steps_block(work)
+        elif any(s.decision is not None for s in work):
+            # a search works on live feeders and its final tests lock their own circuit:
+            # that said first, the figures stand right before the search that uses them
+            parts += self.nothing_isolated_block()
+            parts += self.work_steps_block(work, self.figures(numbered=False))
+        else:
+            parts += self.nothing_isolated_block()
+            parts += self.figures()
+            parts += self.work_steps_block(work)
         parts += self.final_tests_block(self.package.final_tests)
         parts += self.acceptance_block()
         parts += self.steps_block(self.package.restoration, "Restoration", "restore")
         parts += self.sign_off_block()
         return parts
 
+    def isolates_nothing(self) -> bool:
+        """The package's isolation and proving dead sections say only that there are
+        none: no lock, no lock still on, no supply or stored energy to warn of, no place
+        to prove dead."""
+        p = self.package
+        return not (p.isolation or p.locks_on or p.isolation_gaps or p.stored_energy
+                    or p.proving_dead)
+
+    def nothing_isolated_block(self) -> list[Flowable]:
+        """The isolation and the proving dead of a package that has neither, as one
+        statement."""
+        text = ("No isolation points are listed in this package, and no absence-of-voltage "
+                "test.")
+        if self.package.final_tests:
+            text += (" The final tests below lock and prove dead the one circuit the search "
+                     "ends at.")
+        return [self.numbered("Isolation and proving dead"),
+                Paragraph(words(text), self.style["bold"])]
+
     # -- work steps, a search among them as a decision table and a tree
-    def work_steps_block(self, steps: Sequence[Step]) -> list[Flowable]:
+    def work_steps_block(self, steps: Sequence[Step],
+                         figures: Sequence[Flowable] = ()) -> list[Flowable]:
+        """The steps; a search among them as a decision table and a tree, with
+        ``figures`` right before the first search."""
         if not any(s.decision is not None for s in steps):
             return self.steps_block(steps, "Work steps", "step")
         out: list[Flowable] = []
@@ -164,6 +198,12 @@ class PackagePdf(PdfDocument):
                 run.append(step)
                 continue
             if run:
+                if figures:
+                    if heading is not None:
+                        out.append(heading)
+                        heading = None
+                    out += figures
+                    figures = ()
                 out += self.search_table(run, heading)
                 heading, run = None, []
             if step is not None:
@@ -601,9 +641,10 @@ class PackagePdf(PdfDocument):
                          "N: the source neutral.")
         return [Paragraph(words(n), self.style["small"]) for n in notes]
 
-    def figures(self) -> list[Flowable]:
+    def figures(self, numbered: bool = True) -> list[Flowable]:
         """Phasor diagram and sketch side by side when the sketch fits half the width;
-        otherwise the phasor diagram with its notes beside it, the sketch below."""
+        otherwise the phasor diagram with its notes beside it, the sketch below. A
+        section of their own, or (``numbered`` False) a part of the one they stand in."""
         p = self.package
         if p.phasor is None and p.sketch is None:
             return []
@@ -613,7 +654,7 @@ class PackagePdf(PdfDocument):
                         if p.sketch is not None else 0.0)
         side_by_side = p.phasor is not None and p.sketch is not None and sketch_needs <= half
         phasor_width = half if side_by_side else min(half, self.phasor_alone_mm * mm)
-        heading = self.numbered("Figures")
+        heading: list[Flowable] = [self.numbered("Figures")] if numbered else []
         phasor: list[Flowable] = []
         if p.phasor is not None:
             phasor = [Paragraph("Phasor diagram", self.style["sub"]),
@@ -636,12 +677,12 @@ class PackagePdf(PdfDocument):
                           colWidths=[phasor_width + gap, self.width - phasor_width - gap],
                           hAlign="LEFT")
         else:
-            return [KeepTogether([heading, *sketch])]
+            return [KeepTogether([*heading, *sketch])]
         table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"),
                                    ("LEFTPADDING", (0, 0), (-1, -1), 0),
                                    ("RIGHTPADDING", (0, 0), (-1, -1), 0),
                                    ("RIGHTPADDING", (0, 0), (0, 0), gap)]))
-        out: list[Flowable] = [KeepTogether([heading, table])]
+        out: list[Flowable] = [KeepTogether([*heading, table])]
         if sketch and not side_by_side:
             out.append(KeepTogether(sketch))
         return out
