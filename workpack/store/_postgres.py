@@ -423,8 +423,7 @@ class PostgresStore(ClosedOnExit):
         self._shown = redact(url)
         self._busy_timeout_s = busy_timeout_s
         self._plant: str | None = None
-        self._planning_table: bool | None = None
-        self._job_states_table: bool | None = None
+        self._tables: dict[str, bool] = {}  # optional tables an older set-up lacks
         if plant is not None and not (isinstance(plant, str) and plant.strip()):
             raise StoreError(f"{self._shown}: the plant's name is empty; name the plant "
                              "whose records to read or write")
@@ -601,11 +600,14 @@ class PostgresStore(ClosedOnExit):
 
     def _has_planning(self) -> bool:
         """Whether the set-up made the planning summaries' table (an older one did not)."""
-        if self._planning_table is None:
-            found = self._conn.execute(
-                "SELECT to_regclass('workpack.record_planning')").fetchone()
-            self._planning_table = found is not None and found[0] is not None
-        return self._planning_table
+        return self._has_table("workpack.record_planning")
+
+    def _has_table(self, name: str) -> bool:
+        """Whether the set-up made the table ``name``; asked once per connection."""
+        if name not in self._tables:
+            found = self._conn.execute("SELECT to_regclass(%s)", (name,)).fetchone()
+            self._tables[name] = found is not None and found[0] is not None
+        return self._tables[name]
 
     def _keep_planning(self, plant: str, rows: Sequence[StoredRow]) -> None:
         """The planning summaries of ``rows``, inside the transaction writing them."""
@@ -828,11 +830,7 @@ class PostgresStore(ClosedOnExit):
 
     def _has_job_states(self) -> bool:
         """Whether the set-up made the kept job states' tables (an older one did not)."""
-        if self._job_states_table is None:
-            found = self._conn.execute(
-                "SELECT to_regclass('workpack.job_states_through')").fetchone()
-            self._job_states_table = found is not None and found[0] is not None
-        return self._job_states_table
+        return self._has_table("workpack.job_states_through")
 
     def _keep_job_states(self, plant: str) -> int:
         """The states of the plant's jobs with events after the last kept (every job
